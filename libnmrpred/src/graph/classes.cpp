@@ -1,0 +1,617 @@
+// Equivalence classes: orbits of the automorphism group of the coloured graph
+// (topological) and of its stereo-respecting subgroup (chemical).
+//
+// Orbits are found by an individualisation-refinement search for automorphisms
+// mapping a class representative onto each candidate; every automorphism found
+// merges all of its cycles at once, so most candidates need no search.
+//
+// Stereo model (docs/equivalence.md): every tetrahedral atom (4 neighbours, or 3
+// plus a lone pair on S, Se, P, As) and every double bond outside small rings has
+// a configuration, the input's when given, otherwise a canonical one. A symmetry
+// either keeps every configuration (proper) or inverts every tetrahedral one
+// (improper, a mirror image); double-bond geometry is kept by both. Atoms
+// exchanged by such a symmetry are homotopic or enantiotopic and share a class;
+// atoms only exchanged by other automorphisms are diastereotopic.
+
+#include <nmrpred/classes.hpp>
+#include <nmrpred/error.hpp>
+
+#include <algorithm>
+#include <map>
+#include <numeric>
+#include <unordered_map>
+
+#include <fmt/format.h>
+
+#include "graph/partition.hpp"
+
+namespace nmrpred {
+
+namespace {
+
+using detail::DoubleConfig;
+using detail::Graph;
+using detail::kUnset;
+using detail::Partition;
+using detail::RefineScratch;
+using detail::TetraConfig;
+
+constexpr long kNodesPerSearch = 20000;
+constexpr long kNodesPerMolecule = 400000;
+
+struct UnionFind {
+  std::vector<std::uint32_t> parent;
+  explicit UnionFind(std::uint32_t n) : parent(n) { std::iota(parent.begin(), parent.end(), 0u); }
+  std::uint32_t find(std::uint32_t a) {
+    while (parent[a] != a) a = parent[a] = parent[parent[a]];
+    return a;
+  }
+  void unite(std::uint32_t a, std::uint32_t b) {
+    a = find(a);
+    b = find(b);
+    if (a != b) parent[std::max(a, b)] = std::min(a, b);
+  }
+};
+
+std::uint8_t order_code(BondOrder o) { return static_cast<std::uint8_t>(o); }
+
+std::uint64_t atom_colour(const Atom &a, std::uint32_t degree) {
+  std::uint64_t c = a.atomic_number;
+  c = (c << 16) | a.isotope;
+  c = (c << 8) | static_cast<std::uint8_t>(a.formal_charge + 128);
+  c = (c << 4) | (a.radical_electrons & 0xF);
+  c = (c << 1) | (a.aromatic ? 1 : 0);
+  c = (c << 8) | std::min<std::uint32_t>(degree, 255);
+  return c;
+}
+
+// Elements whose three-coordinate neutral or cationic form keeps its
+// configuration (sulfoxides, sulfonium ions, phosphines): common practice.
+bool lone_pair_centre(const Atom &a, std::size_t degree) {
+  if (degree != 3) return false;
+  switch (a.atomic_number) {
+    case 16:
+    case 34: return a.formal_charge >= 0;
+    case 15:
+    case 33: return a.formal_charge == 0;
+    default: return false;
+  }
+}
+
+// Size of the smallest ring through bond u-v (0 if none within `limit`).
+int smallest_ring(const Molecule &m, std::uint32_t u, std::uint32_t v, int limit) {
+  std::vector<std::uint32_t> frontier{u}, next;
+  std::unordered_map<std::uint32_t, int> dist{{u, 0}};
+  for (int d = 1; d < limit && !frontier.empty(); ++d) {
+    next.clear();
+    for (auto a : frontier)
+      for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it) {
+        const auto b = *it;
+        if (a == u && b == v) continue;
+        if (b == v) return d + 1;
+        if (dist.emplace(b, d).second) next.push_back(b);
+      }
+    frontier.swap(next);
+  }
+  return 0;
+}
+
+// Parity of the permutation taking `from` to `to` (both hold the same values).
+bool even_permutation(std::array<std::int32_t, 4> from, const std::array<std::int32_t, 4> &to) {
+  int swaps = 0;
+  for (int i = 0; i < 4; ++i) {
+    if (from[i] == to[i]) continue;
+    for (int j = i + 1; j < 4; ++j)
+      if (from[j] == to[i]) {
+        std::swap(from[i], from[j]);
+        ++swaps;
+        break;
+      }
+  }
+  return swaps % 2 == 0;
+}
+
+// Whole-molecule stereo model in molecule indices.
+struct StereoModel {
+  std::vector<TetraConfig> tetra;
+  std::vector<DoubleConfig> dbl;
+  std::vector<std::string> notes;
+};
+
+StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &rank,
+                         const std::vector<std::uint32_t> &topo) {
+  StereoModel sm;
+  const std::size_t n = m.atom_count();
+  std::vector<std::int32_t> given(n, -1);
+  for (std::size_t i = 0; i < m.tetrahedral_stereo().size(); ++i) given[m.tetrahedral_stereo()[i].centre] = static_cast<std::int32_t>(i);
+  auto by_rank = [&](std::int32_t a, std::int32_t b) {
+    // Lone pair last; then invariant rank; atom index only breaks ties between
+    // atoms of equal rank, where the choice cannot change the classes.
+    if (a < 0 || b < 0) return b < 0 && a >= 0;
+    if (rank[a] != rank[b]) return rank[a] < rank[b];
+    return a < b;
+  };
+  for (std::uint32_t c = 0; c < n; ++c) {
+    const auto deg = m.degree(c);
+    const bool lp = lone_pair_centre(m.atom(c), deg);
+    if (deg != 4 && !lp) continue;
+    if (m.is_hydrogen(c)) continue;
+    TetraConfig t;
+    t.centre = c;
+    if (given[c] >= 0) {
+      t.lig = m.tetrahedral_stereo()[given[c]].ligands;
+    } else {
+      std::array<std::int32_t, 4> l{{-1, -1, -1, -1}};
+      int k = 0;
+      for (auto it = m.neighbours_begin(c); it != m.neighbours_end(c); ++it) l[k++] = static_cast<std::int32_t>(*it);
+      std::sort(l.begin(), l.end(), by_rank);
+      t.lig = l;
+      // Report only real stereocentres: four ligands of distinct topological class.
+      std::vector<std::int64_t> cls;
+      for (auto x : l) cls.push_back(x < 0 ? -1 : static_cast<std::int64_t>(topo[x]));
+      std::sort(cls.begin(), cls.end());
+      if (std::adjacent_find(cls.begin(), cls.end()) == cls.end())
+        sm.notes.push_back(fmt::format(
+            "atom {}: stereocentre without a given configuration; classes are those of one canonical configuration", c));
+    }
+    sm.tetra.push_back(t);
+  }
+  std::map<std::pair<std::uint32_t, std::uint32_t>, const DoubleBondStereo *> given_db;
+  for (const auto &d : m.double_bond_stereo()) given_db[{std::min(d.begin, d.end), std::max(d.begin, d.end)}] = &d;
+  for (const auto &b : m.bonds()) {
+    if (b.order != BondOrder::Double) continue;
+    const auto u = b.begin, v = b.end;
+    auto others = [&](std::uint32_t a, std::uint32_t partner) {
+      std::vector<std::int32_t> r;
+      for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it)
+        if (*it != partner) r.push_back(static_cast<std::int32_t>(*it));
+      return r;
+    };
+    auto ou = others(u, v), ov = others(v, u);
+    if (ou.empty() || ov.empty() || ou.size() > 2 || ov.size() > 2) continue;
+    // Cumulated double bonds (allenes) are not modelled.
+    bool cumulated = false;
+    for (auto x : ou) cumulated |= m.bond(m.bond_between(u, x)).order == BondOrder::Double;
+    for (auto x : ov) cumulated |= m.bond(m.bond_between(v, x)).order == BondOrder::Double;
+    if (cumulated) continue;
+    // In rings of fewer than 8 atoms the ring fixes the geometry and every
+    // automorphism keeps it, so no constraint is needed.
+    const int ring = smallest_ring(m, u, v, 8);
+    if (ring > 0 && ring < 8) continue;
+    DoubleConfig d;
+    d.u = u;
+    d.v = v;
+    auto g = given_db.find({u, v});
+    if (g != given_db.end()) {
+      const auto *s = g->second;
+      const bool forward = s->begin == u;
+      d.ru = static_cast<std::int32_t>(forward ? s->ref_begin : s->ref_end);
+      d.rv = static_cast<std::int32_t>(forward ? s->ref_end : s->ref_begin);
+      d.cis = s->cis;
+    } else {
+      std::sort(ou.begin(), ou.end(), by_rank);
+      std::sort(ov.begin(), ov.end(), by_rank);
+      d.ru = ou.back();
+      d.rv = ov.back();
+      d.cis = false;  // canonical choice: highest-ranked substituents trans
+      auto distinct = [&](const std::vector<std::int32_t> &o) {
+        return o.size() == 1 || topo[o[0]] != topo[o[1]];
+      };
+      if (distinct(ou) && distinct(ov))
+        sm.notes.push_back(fmt::format(
+            "bond {}={}: double-bond geometry not given; classes are those of one canonical geometry", u, v));
+    }
+    sm.dbl.push_back(d);
+  }
+  return sm;
+}
+
+Graph build_graph(const Molecule &m, const std::vector<std::uint32_t> &atoms, const StereoModel &sm,
+                  std::vector<std::uint32_t> &local_of) {
+  Graph g;
+  g.n = static_cast<std::uint32_t>(atoms.size());
+  g.global = atoms;
+  for (std::uint32_t i = 0; i < g.n; ++i) local_of[atoms[i]] = i;
+  g.off.assign(g.n + 1, 0);
+  g.colour.resize(g.n);
+  g.leaf.assign(g.n, 0);
+  for (std::uint32_t i = 0; i < g.n; ++i) {
+    const auto a = atoms[i];
+    const auto deg = static_cast<std::uint32_t>(m.degree(a));
+    g.colour[i] = atom_colour(m.atom(a), deg);
+    g.leaf[i] = deg == 1;
+    g.off[i + 1] = g.off[i] + deg;
+    const auto *bid = m.bond_ids_begin(a);
+    std::vector<std::pair<std::uint32_t, std::uint8_t>> tmp;
+    for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid)
+      tmp.emplace_back(local_of[*it], order_code(m.bond(*bid).order));
+    std::sort(tmp.begin(), tmp.end());
+    for (auto &t : tmp) {
+      g.nbr.push_back(t.first);
+      g.order.push_back(t.second);
+    }
+  }
+  auto loc = [&](std::int32_t x) { return x < 0 ? -1 : static_cast<std::int32_t>(local_of[x]); };
+  g.tetra_of.assign(g.n, -1);
+  g.dbl_of.assign(g.n, {});
+  for (const auto &t : sm.tetra) {
+    if (local_of[t.centre] >= g.n || g.global[local_of[t.centre]] != t.centre) continue;
+    TetraConfig lt;
+    lt.centre = local_of[t.centre];
+    for (int k = 0; k < 4; ++k) lt.lig[k] = loc(t.lig[k]);
+    g.tetra_of[lt.centre] = static_cast<std::int32_t>(g.tetra.size());
+    g.tetra.push_back(lt);
+  }
+  for (const auto &d : sm.dbl) {
+    if (local_of[d.u] >= g.n || g.global[local_of[d.u]] != d.u) continue;
+    DoubleConfig ld{local_of[d.u], local_of[d.v], loc(d.ru), loc(d.rv), d.cis};
+    const auto idx = static_cast<std::int32_t>(g.dbl.size());
+    g.dbl_of[ld.u].push_back(idx);
+    g.dbl_of[ld.v].push_back(idx);
+    g.dbl.push_back(ld);
+  }
+  return g;
+}
+
+// Searches for an automorphism mapping r to x. sign 0: graph only; +1: proper
+// symmetry (all configurations kept); -1: improper (tetrahedral ones inverted).
+class AutomorphismSearch {
+ public:
+  AutomorphismSearch(const Graph &g, const Partition &base, int sign, long &budget)
+      : g_(g), base_(base), sign_(sign), budget_(budget) {
+    scratch_.reset(g.n);
+  }
+
+  bool find(std::uint32_t r, std::uint32_t x, std::vector<std::uint32_t> &sigma) {
+    Partition p1 = base_, p2 = base_;
+    const auto t1 = detail::individualize(g_, p1, r, scratch_);
+    const auto t2 = detail::individualize(g_, p2, x, scratch_);
+    if (t1 != t2) return false;
+    local_budget_ = kNodesPerSearch;
+    sigma.assign(g_.n, kUnset);
+    return search(p1, p2, sigma);
+  }
+  bool exhausted() const { return exhausted_; }
+
+ private:
+  bool same_structure(const Partition &p1, const Partition &p2) const {
+    for (std::uint32_t s = 0; s < g_.n; s = p1.end[s])
+      if (p2.end[s] != p1.end[s] || p2.cell[p2.elems[s]] != s) return false;
+    return true;
+  }
+
+  // Image of local atom a under the partial map defined by singleton cells.
+  static std::int32_t image_of(const Partition &p1, const Partition &p2, std::int32_t a) {
+    if (a < 0) return -1;
+    if (p1.size_of(static_cast<std::uint32_t>(a)) != 1) return -2;
+    return static_cast<std::int32_t>(p2.elems[p1.pos[static_cast<std::uint32_t>(a)]]);
+  }
+
+  // -2 in an image means "not yet known"; a check with unknowns passes.
+  template <class Map>
+  bool tetra_ok(const TetraConfig &t, Map &&map) const {
+    const auto c = map(static_cast<std::int32_t>(t.centre));
+    if (c == -2) return true;
+    const auto ti = g_.tetra_of[static_cast<std::uint32_t>(c)];
+    if (ti < 0) return false;
+    std::array<std::int32_t, 4> img;
+    for (int k = 0; k < 4; ++k) {
+      img[k] = map(t.lig[k]);
+      if (img[k] == -2) return true;
+    }
+    const bool even = even_permutation(img, g_.tetra[ti].lig);
+    return even == (sign_ > 0);
+  }
+
+  template <class Map>
+  bool double_ok(const DoubleConfig &d, Map &&map) const {
+    const auto u = map(static_cast<std::int32_t>(d.u)), v = map(static_cast<std::int32_t>(d.v));
+    const auto ru = map(d.ru), rv = map(d.rv);
+    if (u == -2 || v == -2 || ru == -2 || rv == -2) return true;
+    for (auto di : g_.dbl_of[static_cast<std::uint32_t>(u)]) {
+      const auto &e = g_.dbl[di];
+      const bool fwd = e.u == static_cast<std::uint32_t>(u) && e.v == static_cast<std::uint32_t>(v);
+      const bool rev = e.v == static_cast<std::uint32_t>(u) && e.u == static_cast<std::uint32_t>(v);
+      if (!fwd && !rev) continue;
+      const std::int32_t bu = fwd ? e.ru : e.rv, bv = fwd ? e.rv : e.ru;
+      const bool cis = e.cis ^ (ru != bu) ^ (rv != bv);
+      return cis == d.cis;
+    }
+    return false;
+  }
+
+  bool stereo_ok_partial(const Partition &p1, const Partition &p2) const {
+    if (sign_ == 0) return true;
+    auto map = [&](std::int32_t a) { return image_of(p1, p2, a); };
+    for (const auto &t : g_.tetra)
+      if (!tetra_ok(t, map)) return false;
+    for (const auto &d : g_.dbl)
+      if (!double_ok(d, map)) return false;
+    return true;
+  }
+
+  bool search(const Partition &p1, const Partition &p2, std::vector<std::uint32_t> &sigma) {
+    if (--local_budget_ < 0 || --budget_ < 0) {
+      exhausted_ = true;
+      return false;
+    }
+    if (!same_structure(p1, p2) || !stereo_ok_partial(p1, p2)) return false;
+    std::uint32_t target = kUnset;
+    for (std::uint32_t s = 0; s < g_.n && target == kUnset; s = p1.end[s]) {
+      if (p1.end[s] - s < 2) continue;
+      for (std::uint32_t k = s; k < p1.end[s]; ++k)
+        if (!g_.leaf[p1.elems[k]]) {
+          target = s;
+          break;
+        }
+    }
+    if (target == kUnset) return finish(p1, p2, sigma);
+    Partition q1 = p1;
+    const std::uint32_t v = q1.elems[target];
+    const auto t1 = detail::individualize(g_, q1, v, scratch_);
+    for (std::uint32_t k = target; k < p2.end[target]; ++k) {
+      Partition q2 = p2;
+      const auto t2 = detail::individualize(g_, q2, p2.elems[k], scratch_);
+      if (t1 != t2) continue;
+      if (search(q1, q2, sigma)) return true;
+      if (exhausted_) return false;
+    }
+    return false;
+  }
+
+  // All non-leaf atoms are mapped; the remaining cells are sets of equal
+  // leaves on one parent. Pick for each set a bijection that suits the local
+  // stereo, then verify the whole map.
+  bool finish(const Partition &p1, const Partition &p2, std::vector<std::uint32_t> &sigma) {
+    std::fill(sigma.begin(), sigma.end(), kUnset);
+    for (std::uint32_t s = 0; s < g_.n; s = p1.end[s])
+      if (p1.end[s] - s == 1) sigma[p1.elems[s]] = p2.elems[s];
+    auto map = [&](std::int32_t a) -> std::int32_t {
+      if (a < 0) return -1;
+      const auto y = sigma[static_cast<std::uint32_t>(a)];
+      return y == kUnset ? -2 : static_cast<std::int32_t>(y);
+    };
+    for (std::uint32_t s = 0; s < g_.n; s = p1.end[s]) {
+      const std::uint32_t e = p1.end[s];
+      if (e - s == 1) continue;
+      const std::uint32_t parent = g_.nbr[g_.off[p1.elems[s]]];
+      std::vector<std::uint32_t> images(p2.elems.begin() + s, p2.elems.begin() + e);
+      std::sort(images.begin(), images.end());
+      const bool enumerate = sign_ != 0 && images.size() <= 6;
+      bool placed = false;
+      do {
+        for (std::uint32_t k = s; k < e; ++k) sigma[p1.elems[k]] = images[k - s];
+        if (!enumerate) {
+          placed = true;
+          break;
+        }
+        bool ok = true;
+        if (g_.tetra_of[parent] >= 0) ok = tetra_ok(g_.tetra[g_.tetra_of[parent]], map);
+        for (auto di : g_.dbl_of[parent]) ok = ok && double_ok(g_.dbl[di], map);
+        if (ok) {
+          placed = true;
+          break;
+        }
+      } while (std::next_permutation(images.begin(), images.end()));
+      if (!placed) return false;
+    }
+    for (std::uint32_t a = 0; a < g_.n; ++a) {
+      if (sigma[a] == kUnset || g_.colour[a] != g_.colour[sigma[a]]) return false;
+      for (std::uint32_t k = g_.off[a]; k < g_.off[a + 1]; ++k)
+        if (g_.bond(sigma[a], sigma[g_.nbr[k]]) != g_.order[k]) return false;
+    }
+    if (sign_ != 0) {
+      for (const auto &t : g_.tetra)
+        if (!tetra_ok(t, map)) return false;
+      for (const auto &d : g_.dbl)
+        if (!double_ok(d, map)) return false;
+    }
+    return true;
+  }
+
+  const Graph &g_;
+  const Partition &base_;
+  int sign_;
+  long &budget_;
+  long local_budget_ = 0;
+  bool exhausted_ = false;
+  RefineScratch scratch_;
+};
+
+void unite_cycles(UnionFind &uf, const std::vector<std::uint32_t> &sigma) {
+  for (std::uint32_t a = 0; a < sigma.size(); ++a) uf.unite(a, sigma[a]);
+}
+
+// Orbits of one graph. `cells` are candidate groups (each orbit lies inside
+// one); signs are the kinds of automorphism allowed.
+void orbits(const Graph &g, const Partition &base, const std::vector<std::vector<std::uint32_t>> &cells,
+            std::initializer_list<int> signs, UnionFind &uf, long &budget, bool &exhausted) {
+  std::vector<std::uint32_t> sigma;
+  std::vector<AutomorphismSearch> searches;
+  for (int s : signs) searches.emplace_back(g, base, s, budget);
+  for (const auto &cell : cells) {
+    if (cell.size() < 2) continue;
+    std::vector<std::uint32_t> reps{cell[0]};
+    for (std::size_t i = 1; i < cell.size(); ++i) {
+      const auto x = cell[i];
+      bool merged = false;
+      for (auto r : reps) {
+        if (uf.find(r) == uf.find(x)) {
+          merged = true;
+          break;
+        }
+        for (auto &search : searches) {
+          if (search.find(r, x, sigma)) {
+            unite_cycles(uf, sigma);
+            merged = true;
+            break;
+          }
+          exhausted |= search.exhausted();
+        }
+        if (merged) break;
+      }
+      if (!merged) reps.push_back(x);
+    }
+  }
+}
+
+// Twin leaves: equal leaves on one parent. Sets of three or more are always
+// equivalent (a rotation about the parent bond exchanges them without touching
+// any configuration); pairs are topologically equivalent.
+void unite_twins(const Graph &g, UnionFind &uf, std::size_t min_size) {
+  for (std::uint32_t p = 0; p < g.n; ++p) {
+    std::map<std::pair<std::uint64_t, std::uint8_t>, std::vector<std::uint32_t>> sets;
+    for (std::uint32_t k = g.off[p]; k < g.off[p + 1]; ++k)
+      if (g.leaf[g.nbr[k]]) sets[{g.colour[g.nbr[k]], g.order[k]}].push_back(g.nbr[k]);
+    for (auto &kv : sets)
+      if (kv.second.size() >= min_size)
+        for (auto a : kv.second) uf.unite(kv.second[0], a);
+  }
+}
+
+std::vector<std::vector<std::uint32_t>> groups_of(UnionFind &uf, std::uint32_t n, const std::vector<std::uint32_t> &within) {
+  // Groups of atoms sharing `within` value, in order of first atom.
+  std::map<std::uint32_t, std::vector<std::uint32_t>> by;
+  for (std::uint32_t a = 0; a < n; ++a) by[within[a]].push_back(a);
+  std::vector<std::vector<std::uint32_t>> out;
+  for (auto &kv : by) out.push_back(std::move(kv.second));
+  (void)uf;
+  return out;
+}
+
+std::vector<std::uint32_t> dense_ids(UnionFind &uf, std::uint32_t n, std::uint32_t &count) {
+  std::vector<std::uint32_t> id(n, kUnset), root_id(n, kUnset);
+  count = 0;
+  for (std::uint32_t a = 0; a < n; ++a) {
+    const auto r = uf.find(a);
+    if (root_id[r] == kUnset) root_id[r] = count++;
+    id[a] = root_id[r];
+  }
+  return id;
+}
+
+// Order-independent fingerprint of a fragment: its refined cell structure.
+std::vector<std::uint64_t> fragment_signature(const Graph &g, const Partition &p) {
+  std::vector<std::uint64_t> sig{g.n};
+  for (std::uint32_t s = 0; s < g.n; s = p.end[s]) {
+    const auto a = p.elems[s];
+    sig.push_back(g.colour[a]);
+    sig.push_back(p.end[s] - s);
+    std::vector<std::uint64_t> nb;
+    for (std::uint32_t k = g.off[a]; k < g.off[a + 1]; ++k) nb.push_back((std::uint64_t(p.cell[g.nbr[k]]) << 3) | g.order[k]);
+    std::sort(nb.begin(), nb.end());
+    sig.insert(sig.end(), nb.begin(), nb.end());
+  }
+  return sig;
+}
+
+}  // namespace
+
+AtomClasses compute_classes(const Molecule &m) {
+  AtomClasses out;
+  const auto n = static_cast<std::uint32_t>(m.atom_count());
+  if (n == 0) return out;
+  long budget = kNodesPerMolecule;
+  bool exhausted = false;
+
+  std::vector<std::uint32_t> all(n);
+  std::iota(all.begin(), all.end(), 0u);
+  std::vector<std::uint32_t> local_of(n, kUnset);
+  StereoModel none;
+
+  // Invariant ranks over the whole molecule (order independent by construction).
+  Graph whole = build_graph(m, all, none, local_of);
+  Partition pw;
+  RefineScratch scratch;
+  detail::initial_partition(whole, pw, scratch);
+  out.invariant_rank.resize(n);
+  for (std::uint32_t a = 0; a < n; ++a) out.invariant_rank[a] = pw.cell[a];
+
+  // Fragments are separate molecules in solution: solve each on its own, then
+  // merge fragments that are copies (or mirror images) of each other.
+  std::vector<std::vector<std::uint32_t>> frag_atoms(m.fragment_count());
+  for (std::uint32_t a = 0; a < n; ++a) frag_atoms[m.fragments()[a]].push_back(a);
+
+  UnionFind topo_uf(n), chem_uf(n);
+  std::vector<Graph> frag_graph;
+  std::vector<Partition> frag_part;
+  frag_graph.reserve(frag_atoms.size());
+  frag_part.reserve(frag_atoms.size());
+  // Topological orbits first: the stereo model reports only real stereo
+  // elements, which needs them.
+  for (const auto &atoms : frag_atoms) {
+    frag_graph.push_back(build_graph(m, atoms, none, local_of));
+    const Graph &g = frag_graph.back();
+    frag_part.emplace_back();
+    detail::initial_partition(g, frag_part.back(), scratch);
+    UnionFind uf(g.n);
+    unite_twins(g, uf, 2);
+    std::vector<std::uint32_t> cellid(g.n);
+    for (std::uint32_t a = 0; a < g.n; ++a) cellid[a] = frag_part.back().cell[a];
+    orbits(g, frag_part.back(), groups_of(uf, g.n, cellid), {0}, uf, budget, exhausted);
+    for (std::uint32_t a = 0; a < g.n; ++a) topo_uf.unite(g.global[a], g.global[uf.find(a)]);
+  }
+
+  // Copies of one fragment: same signature; confirm with a search on the pair.
+  std::map<std::vector<std::uint64_t>, std::vector<std::size_t>> by_sig;
+  for (std::size_t f = 0; f < frag_graph.size(); ++f) by_sig[fragment_signature(frag_graph[f], frag_part[f])].push_back(f);
+
+  std::uint32_t tcount = 0;
+  auto topo_pre = dense_ids(topo_uf, n, tcount);
+  const StereoModel sm = build_stereo(m, out.invariant_rank, topo_pre);
+
+  std::vector<Graph> stereo_graph;
+  stereo_graph.reserve(frag_atoms.size());
+  for (std::size_t f = 0; f < frag_atoms.size(); ++f) {
+    stereo_graph.push_back(build_graph(m, frag_atoms[f], sm, local_of));
+    const Graph &g = stereo_graph.back();
+    UnionFind uf(g.n);
+    unite_twins(g, uf, 3);
+    std::vector<std::uint32_t> within(g.n);
+    for (std::uint32_t a = 0; a < g.n; ++a) within[a] = topo_uf.find(g.global[a]);
+    orbits(g, frag_part[f], groups_of(uf, g.n, within), {+1, -1}, uf, budget, exhausted);
+    for (std::uint32_t a = 0; a < g.n; ++a) chem_uf.unite(g.global[a], g.global[uf.find(a)]);
+  }
+
+  for (auto &kv : by_sig) {
+    const auto &fs = kv.second;
+    for (std::size_t i = 1; i < fs.size(); ++i) {
+      // Search on the union of the first copy and this one.
+      std::vector<std::uint32_t> atoms = frag_atoms[fs[0]];
+      atoms.insert(atoms.end(), frag_atoms[fs[i]].begin(), frag_atoms[fs[i]].end());
+      for (int pass = 0; pass < 2; ++pass) {
+        const Graph g = build_graph(m, atoms, pass == 0 ? none : sm, local_of);
+        Partition p;
+        detail::initial_partition(g, p, scratch);
+        UnionFind &target = pass == 0 ? topo_uf : chem_uf;
+        std::vector<std::uint32_t> sigma;
+        const std::uint32_t r = 0;
+        const auto first_b = static_cast<std::uint32_t>(frag_atoms[fs[0]].size());
+        bool found = false;
+        for (int sign : pass == 0 ? std::vector<int>{0} : std::vector<int>{+1, -1}) {
+          AutomorphismSearch search(g, p, sign, budget);
+          for (std::uint32_t x = first_b; x < g.n && !found; ++x) {
+            if (p.cell[x] != p.cell[r]) continue;
+            if (search.find(r, x, sigma)) {
+              for (std::uint32_t a = 0; a < g.n; ++a) target.unite(g.global[a], g.global[sigma[a]]);
+              found = true;
+            }
+            exhausted |= search.exhausted();
+          }
+          if (found) break;
+        }
+      }
+    }
+  }
+
+  out.topological = dense_ids(topo_uf, n, out.topological_count);
+  // Chemical classes refine topological ones: a stereo-respecting symmetry is
+  // an automorphism too. Merge to be safe against a truncated search.
+  out.chemical = dense_ids(chem_uf, n, out.chemical_count);
+  out.notes = sm.notes;
+  if (exhausted)
+    out.notes.push_back("symmetry search budget exhausted: some equivalent atoms may be reported as distinct");
+  return out;
+}
+
+}  // namespace nmrpred

@@ -1,0 +1,165 @@
+#include "graph/partition.hpp"
+
+#include <algorithm>
+#include <numeric>
+
+namespace nmrpred::detail {
+
+namespace {
+
+// A neighbour count per bond kind packed into one key; 16 bits per kind is
+// far above any real coordination number.
+constexpr std::uint64_t kOrderWeight[5] = {0, 1ull, 1ull << 16, 1ull << 32, 1ull << 48};
+
+inline std::uint64_t mix(std::uint64_t h, std::uint64_t v) {
+  h ^= v + 0x9E3779B97F4A7C15ull + (h << 6) + (h >> 2);
+  return h * 0x100000001B3ull;
+}
+
+void push(RefineScratch &s, std::uint32_t start) {
+  if (!s.in_stack[start]) {
+    s.in_stack[start] = 1;
+    s.stack.push_back(start);
+  }
+}
+
+// Coarsest equitable refinement (Hopcroft-style: after a cell has served as a
+// splitter, only the smaller pieces of its later splits need to serve again).
+std::uint64_t refine(const Graph &g, Partition &p, RefineScratch &s) {
+  std::uint64_t trace = 0xCBF29CE484222325ull;
+  while (!s.stack.empty()) {
+    // Lowest start first keeps the sequence a function of the partition alone.
+    auto it = std::min_element(s.stack.begin(), s.stack.end());
+    const std::uint32_t w = *it;
+    *it = s.stack.back();
+    s.stack.pop_back();
+    s.in_stack[w] = 0;
+    const std::uint32_t wend = p.end[w];
+
+    s.touched_atoms.clear();
+    s.touched_cells.clear();
+    for (std::uint32_t k = w; k < wend; ++k) {
+      const std::uint32_t a = p.elems[k];
+      for (std::uint32_t e = g.off[a]; e < g.off[a + 1]; ++e) {
+        const std::uint32_t b = g.nbr[e];
+        if (s.key[b] == 0) s.touched_atoms.push_back(b);
+        s.key[b] += kOrderWeight[g.order[e]];
+      }
+    }
+    for (std::uint32_t b : s.touched_atoms) {
+      const std::uint32_t c = p.cell[b];
+      if (!s.cell_mark[c]) {
+        s.cell_mark[c] = 1;
+        s.touched_cells.push_back(c);
+      }
+    }
+    std::sort(s.touched_cells.begin(), s.touched_cells.end());
+    trace = mix(trace, w);
+    for (std::uint32_t c : s.touched_cells) {
+      s.cell_mark[c] = 0;
+      const std::uint32_t e = p.end[c];
+      if (e - c == 1) {
+        trace = mix(trace, (std::uint64_t(c) << 1) ^ s.key[p.elems[c]]);
+        continue;
+      }
+      auto first = p.elems.begin() + c, last = p.elems.begin() + e;
+      std::sort(first, last, [&](std::uint32_t a, std::uint32_t b) { return s.key[a] < s.key[b]; });
+      if (s.key[*first] == s.key[*(last - 1)]) {
+        trace = mix(trace, (std::uint64_t(c) << 1) ^ s.key[*first]);
+        continue;
+      }
+      // Walk the runs of equal key; each becomes a cell.
+      std::uint32_t largest_start = c, largest_size = 0;
+      const bool was_pending = s.in_stack[c] != 0;
+      std::uint32_t run = c;
+      for (std::uint32_t k = c; k <= e; ++k) {
+        if (k < e && s.key[p.elems[k]] == s.key[p.elems[run]]) {
+          p.pos[p.elems[k]] = k;
+          continue;
+        }
+        p.end[run] = k;
+        for (std::uint32_t q = run; q < k; ++q) p.cell[p.elems[q]] = run;
+        trace = mix(trace, mix(run, s.key[p.elems[run]]) ^ (k - run));
+        if (k - run > largest_size) {
+          largest_size = k - run;
+          largest_start = run;
+        }
+        if (k < e) {
+          p.pos[p.elems[k]] = k;
+          run = k;
+        }
+      }
+      // Push the new cells; the largest may stay out if the old cell had
+      // already been used as a splitter.
+      for (std::uint32_t st = c; st < e; st = p.end[st])
+        if (was_pending || st != largest_start) push(s, st);
+    }
+    for (std::uint32_t b : s.touched_atoms) s.key[b] = 0;
+  }
+  return trace;
+}
+
+}  // namespace
+
+std::uint8_t Graph::bond(std::uint32_t a, std::uint32_t b) const {
+  auto first = nbr.begin() + off[a], last = nbr.begin() + off[a + 1];
+  auto it = std::lower_bound(first, last, b);
+  if (it == last || *it != b) return 0;
+  return order[static_cast<std::size_t>(it - nbr.begin())];
+}
+
+void RefineScratch::reset(std::uint32_t n) {
+  key.assign(n, 0);
+  cell_mark.assign(n, 0);
+  in_stack.assign(n, 0);
+  touched_atoms.clear();
+  touched_cells.clear();
+  stack.clear();
+}
+
+std::uint64_t initial_partition(const Graph &g, Partition &p, RefineScratch &s) {
+  const std::uint32_t n = g.n;
+  p.elems.resize(n);
+  std::iota(p.elems.begin(), p.elems.end(), 0u);
+  std::sort(p.elems.begin(), p.elems.end(), [&](std::uint32_t a, std::uint32_t b) {
+    return g.colour[a] < g.colour[b];
+  });
+  p.pos.assign(n, 0);
+  p.cell.assign(n, 0);
+  p.end.assign(n, 0);
+  s.reset(n);
+  std::uint64_t trace = 0x84222325CBF29CE4ull;
+  for (std::uint32_t k = 0; k < n;) {
+    std::uint32_t j = k;
+    while (j < n && g.colour[p.elems[j]] == g.colour[p.elems[k]]) ++j;
+    for (std::uint32_t q = k; q < j; ++q) {
+      p.pos[p.elems[q]] = q;
+      p.cell[p.elems[q]] = k;
+    }
+    p.end[k] = j;
+    trace = mix(trace, mix(g.colour[p.elems[k]], j - k));
+    push(s, k);
+    k = j;
+  }
+  return mix(trace, refine(g, p, s));
+}
+
+std::uint64_t individualize(const Graph &g, Partition &p, std::uint32_t atom, RefineScratch &s) {
+  const std::uint32_t c = p.cell[atom];
+  const std::uint32_t e = p.end[c];
+  if (e - c == 1) return 0x5555;
+  // Move the atom to the front of its cell.
+  const std::uint32_t k = p.pos[atom];
+  const std::uint32_t other = p.elems[c];
+  std::swap(p.elems[c], p.elems[k]);
+  p.pos[atom] = c;
+  p.pos[other] = k;
+  p.end[c] = c + 1;
+  p.end[c + 1] = e;
+  for (std::uint32_t q = c + 1; q < e; ++q) p.cell[p.elems[q]] = c + 1;
+  if (s.in_stack[c]) push(s, c + 1);
+  push(s, c);
+  return mix(c, refine(g, p, s));
+}
+
+}  // namespace nmrpred::detail
