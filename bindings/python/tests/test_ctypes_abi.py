@@ -1,0 +1,314 @@
+"""The C ABI (libnmrpred.so) loaded through ctypes, as another runtime's FFI
+would load it: only the declarations in capi/include/nmrpred.h are used.
+
+NMRPRED_BUILD_DIR (default <repo>/build) says where the build is; the library
+is <build>/lib/libnmrpred.so.
+
+References outside the project:
+  * RDKit (Debian python3-rdkit) Chem.AddHs: atom counts.
+  * Common practice (any introductory NMR text): ethanol has three proton sets
+    (CH3, CH2, OH) and two carbon environments; benzene has one of each.
+  * The exported-symbol check reads the dynamic symbol table with binutils' nm.
+"""
+
+import ctypes
+import json
+import os
+import pathlib
+import re
+import shutil
+import subprocess
+
+import pytest
+from rdkit import Chem
+
+REPO_ROOT = pathlib.Path(__file__).resolve().parents[3]
+BUILD_DIR = pathlib.Path(os.environ.get("NMRPRED_BUILD_DIR", REPO_ROOT / "build")).resolve()
+LIB_PATH = BUILD_DIR / "lib" / "libnmrpred.so"
+HEADER = REPO_ROOT / "capi" / "include" / "nmrpred.h"
+
+NMR_OK, NMR_ERR_ARGUMENT, NMR_ERR_INPUT, NMR_ERR_UNSUPPORTED = 0, 1, 2, 3
+NMR_OPT_HOSE_SPHERES = 3
+
+c_size_p = ctypes.POINTER(ctypes.c_size_t)
+c_int_p = ctypes.POINTER(ctypes.c_int)
+c_char_pp = ctypes.POINTER(ctypes.c_char_p)
+vp = ctypes.c_void_p
+vpp = ctypes.POINTER(ctypes.c_void_p)
+
+# name: (restype, argtypes). Strings handed to us through char** stay c_void_p
+# so that we can give the same pointer back to nmr_string_free.
+SIGNATURES = {
+    "nmr_version_number": (ctypes.c_int, []),
+    "nmr_version_string": (ctypes.c_char_p, []),
+    "nmr_status_string": (ctypes.c_char_p, [ctypes.c_int]),
+    "nmr_context_new": (ctypes.c_int, [vpp, ctypes.c_char_p]),
+    "nmr_context_free": (None, [vp]),
+    "nmr_context_last_error": (ctypes.c_char_p, [vp]),
+    "nmr_context_tables_version": (ctypes.c_char_p, [vp]),
+    "nmr_context_set_option_double": (ctypes.c_int, [vp, ctypes.c_int, ctypes.c_double]),
+    "nmr_context_get_option_double": (ctypes.c_int, [vp, ctypes.c_int, ctypes.POINTER(ctypes.c_double)]),
+    "nmr_predict": (ctypes.c_int, [vpp, vp, ctypes.c_char_p, ctypes.c_char_p]),
+    "nmr_result_free": (None, [vp]),
+    "nmr_result_record_count": (ctypes.c_size_t, [vp]),
+    "nmr_result_failed_count": (ctypes.c_size_t, [vp]),
+    "nmr_result_record_status": (ctypes.c_int, [vp, ctypes.c_size_t]),
+    "nmr_result_record_error": (ctypes.c_char_p, [vp, ctypes.c_size_t]),
+    "nmr_result_record_title": (ctypes.c_char_p, [vp, ctypes.c_size_t]),
+    "nmr_result_warning_count": (ctypes.c_size_t, [vp, ctypes.c_size_t]),
+    "nmr_result_warning": (ctypes.c_char_p, [vp, ctypes.c_size_t, ctypes.c_size_t]),
+    "nmr_result_atom_count": (ctypes.c_size_t, [vp, ctypes.c_size_t]),
+    "nmr_result_heavy_atom_count": (ctypes.c_size_t, [vp, ctypes.c_size_t]),
+    "nmr_result_class_count": (ctypes.c_size_t, [vp, ctypes.c_size_t]),
+    "nmr_result_topological_class_count": (ctypes.c_size_t, [vp, ctypes.c_size_t]),
+    "nmr_result_atom_element": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_int_p, c_char_pp]),
+    "nmr_result_atom_isotope": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_int_p]),
+    "nmr_result_atom_charge": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_int_p]),
+    "nmr_result_atom_attached_to": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t,
+                                                   ctypes.POINTER(ctypes.c_ssize_t)]),
+    "nmr_result_atom_class": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_size_p]),
+    "nmr_result_atom_topological_class": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_size_p]),
+    "nmr_result_atom_hose": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_char_pp]),
+    "nmr_result_to_json": (ctypes.c_int, [vp, vpp]),
+    "nmr_result_record_to_json": (ctypes.c_int, [vp, ctypes.c_size_t, vpp]),
+    "nmr_string_free": (None, [vp]),
+}
+
+
+@pytest.fixture(scope="module")
+def lib():
+    if not LIB_PATH.is_file():
+        pytest.fail(f"{LIB_PATH} does not exist: build the project first (set NMRPRED_BUILD_DIR)")
+    dll = ctypes.CDLL(str(LIB_PATH))
+    for name, (res, args) in SIGNATURES.items():
+        f = getattr(dll, name)
+        f.restype = res
+        f.argtypes = args
+    return dll
+
+
+@pytest.fixture
+def ctx(lib):
+    handle = ctypes.c_void_p()
+    assert lib.nmr_context_new(ctypes.byref(handle), None) == NMR_OK
+    assert handle.value
+    yield handle
+    lib.nmr_context_free(handle)
+
+
+def predict(lib, ctx, text, fmt=None):
+    res = ctypes.c_void_p()
+    rc = lib.nmr_predict(ctypes.byref(res), ctx, fmt.encode() if fmt else None, text.encode())
+    return rc, res
+
+
+def last_error(lib, ctx):
+    return lib.nmr_context_last_error(ctx).decode()
+
+
+def header_functions():
+    return set(re.findall(r"NMR_API\s+[^;(]*?\b(nmr_\w+)\s*\(", HEADER.read_text()))
+
+
+def test_every_header_function_has_a_signature_here():
+    assert header_functions() == set(SIGNATURES)
+
+
+def test_only_the_header_functions_are_exported():
+    nm = shutil.which("nm")
+    if nm is None:
+        pytest.skip("binutils' nm is not installed")
+    if not LIB_PATH.is_file():
+        pytest.fail(f"{LIB_PATH} does not exist")
+    out = subprocess.run([nm, "-D", "--defined-only", str(LIB_PATH)], capture_output=True, text=True, check=True)
+    exported = {line.split()[-1] for line in out.stdout.splitlines() if line.split()[1:2] and line.split()[1] in "TDBRVWiu"}
+    assert exported == header_functions()
+
+
+def test_versions(lib):
+    text = (REPO_ROOT / "CMakeLists.txt").read_text()
+    m = re.search(r"project\(\s*nmrpred\s+VERSION\s+([0-9]+)\.([0-9]+)\.([0-9]+)", text)
+    major, minor, patch = (int(g) for g in m.groups())
+    assert lib.nmr_version_string().decode() == f"{major}.{minor}.{patch}"
+    assert lib.nmr_version_number() == major * 10000 + minor * 100 + patch
+    header = HEADER.read_text()
+    for part, value in (("MAJOR", major), ("MINOR", minor), ("PATCH", patch)):
+        assert re.search(rf"#define NMR_VERSION_{part} {value}\b", header), part
+    assert LIB_PATH.resolve().name.startswith(f"libnmrpred.so.{major}")
+
+
+def test_status_strings(lib):
+    texts = [lib.nmr_status_string(c).decode() for c in range(0, 7)]
+    assert all(texts) and len(set(texts)) == 7
+    assert lib.nmr_status_string(1000).decode()
+
+
+def test_null_frees_and_null_handles(lib):
+    lib.nmr_context_free(None)
+    lib.nmr_result_free(None)
+    lib.nmr_string_free(None)
+    assert lib.nmr_context_last_error(None).decode()
+    assert lib.nmr_result_record_count(None) == 0
+    assert lib.nmr_result_record_status(None, 0) == NMR_ERR_ARGUMENT
+    assert lib.nmr_context_new(None, None) == NMR_ERR_ARGUMENT
+
+
+def test_context_options_and_errors(lib, ctx):
+    assert lib.nmr_context_tables_version(ctx).decode()
+    value = ctypes.c_double()
+    assert lib.nmr_context_get_option_double(ctx, NMR_OPT_HOSE_SPHERES, ctypes.byref(value)) == NMR_OK
+    assert value.value == 4
+    assert lib.nmr_context_set_option_double(ctx, 4711, 1.0) == NMR_ERR_UNSUPPORTED
+    assert "4711" in last_error(lib, ctx)
+    assert lib.nmr_context_set_option_double(ctx, NMR_OPT_HOSE_SPHERES, 99.0) == NMR_ERR_ARGUMENT
+    assert "NMR_OPT_HOSE_SPHERES" in last_error(lib, ctx)
+    assert lib.nmr_context_set_option_double(ctx, NMR_OPT_HOSE_SPHERES, 2.0) == NMR_OK
+    assert last_error(lib, ctx) == ""
+
+
+def test_context_with_a_tables_dir_reports_why(lib):
+    handle = ctypes.c_void_p()
+    rc = lib.nmr_context_new(ctypes.byref(handle), b"some/tables")
+    try:
+        assert rc == NMR_ERR_UNSUPPORTED
+        assert handle.value, "a failed nmr_context_new still hands back a context"
+        assert "some/tables" in last_error(lib, handle)
+    finally:
+        lib.nmr_context_free(handle)
+
+
+def atom_props(lib, res, rec, i):
+    z = ctypes.c_int()
+    sym = ctypes.c_char_p()
+    assert lib.nmr_result_atom_element(res, rec, i, ctypes.byref(z), ctypes.byref(sym)) == NMR_OK
+    iso = ctypes.c_int(-1)
+    assert lib.nmr_result_atom_isotope(res, rec, i, ctypes.byref(iso)) == NMR_OK
+    charge = ctypes.c_int(-9)
+    assert lib.nmr_result_atom_charge(res, rec, i, ctypes.byref(charge)) == NMR_OK
+    heavy = ctypes.c_ssize_t()
+    assert lib.nmr_result_atom_attached_to(res, rec, i, ctypes.byref(heavy)) == NMR_OK
+    cls = ctypes.c_size_t()
+    assert lib.nmr_result_atom_class(res, rec, i, ctypes.byref(cls)) == NMR_OK
+    topo = ctypes.c_size_t()
+    assert lib.nmr_result_atom_topological_class(res, rec, i, ctypes.byref(topo)) == NMR_OK
+    hose = ctypes.c_char_p()
+    assert lib.nmr_result_atom_hose(res, rec, i, ctypes.byref(hose)) == NMR_OK
+    return {"z": z.value, "symbol": sym.value.decode(), "isotope": iso.value, "charge": charge.value,
+            "attached_to": heavy.value, "class": cls.value, "topological_class": topo.value,
+            "hose": hose.value.decode()}
+
+
+def test_ethanol(lib, ctx):
+    rc, res = predict(lib, ctx, "CCO ethanol")
+    assert rc == NMR_OK, last_error(lib, ctx)
+    try:
+        assert lib.nmr_result_record_count(res) == 1
+        assert lib.nmr_result_record_status(res, 0) == NMR_OK
+        assert lib.nmr_result_record_title(res, 0).decode() == "ethanol"
+        n = lib.nmr_result_atom_count(res, 0)
+        mol_h = Chem.AddHs(Chem.MolFromSmiles("CCO"))
+        assert n == mol_h.GetNumAtoms()
+        assert lib.nmr_result_heavy_atom_count(res, 0) == mol_h.GetNumHeavyAtoms()
+        atoms = [atom_props(lib, res, 0, i) for i in range(n)]
+        assert [a["symbol"] for a in atoms[:3]] == ["C", "C", "O"]
+        assert [a["z"] for a in atoms[:3]] == [6, 6, 8]
+        assert all(a["symbol"] == "H" and a["attached_to"] in (0, 1, 2) for a in atoms[3:])
+        assert all(a["attached_to"] == -1 for a in atoms[:3])
+        # Proton sets: one class per heavy atom's hydrogens, three in all.
+        h_classes = {a["attached_to"]: set() for a in atoms[3:]}
+        for a in atoms[3:]:
+            h_classes[a["attached_to"]].add(a["class"])
+        assert all(len(s) == 1 for s in h_classes.values())
+        assert len(set().union(*h_classes.values())) == 3
+        assert atoms[0]["class"] != atoms[1]["class"]
+        assert lib.nmr_result_class_count(res, 0) == 6
+        assert all(a["hose"] for a in atoms)
+
+        out = ctypes.c_void_p()
+        assert lib.nmr_result_to_json(res, ctypes.byref(out)) == NMR_OK
+        doc = json.loads(ctypes.string_at(out.value).decode())
+        lib.nmr_string_free(out)
+        assert len(doc) == 1 and doc[0]["title"] == "ethanol"
+        assert [a["hose"] for a in doc[0]["atoms"]] == [a["hose"] for a in atoms]
+        assert [a["class"] for a in doc[0]["atoms"]] == [a["class"] for a in atoms]
+    finally:
+        lib.nmr_result_free(res)
+
+
+def test_a_bad_record_in_a_batch(lib, ctx):
+    rc, res = predict(lib, ctx, "CC\nC1CC\nc1ccccc1\n", "smiles")
+    assert rc == NMR_OK, last_error(lib, ctx)
+    try:
+        assert lib.nmr_result_record_count(res) == 3
+        assert lib.nmr_result_failed_count(res) == 1
+        assert [lib.nmr_result_record_status(res, k) for k in range(3)] == [NMR_OK, NMR_ERR_INPUT, NMR_OK]
+        assert lib.nmr_result_record_error(res, 1).decode().strip()
+        assert lib.nmr_result_record_error(res, 0).decode() == ""
+        assert lib.nmr_result_atom_count(res, 1) == 0
+        z = ctypes.c_int(-5)
+        assert lib.nmr_result_atom_element(res, 1, 0, ctypes.byref(z), None) == NMR_ERR_ARGUMENT
+        assert z.value == -5
+        # Benzene: one carbon and one proton environment (common practice).
+        assert lib.nmr_result_class_count(res, 2) == 2
+        out = ctypes.c_void_p()
+        assert lib.nmr_result_record_to_json(res, 1, ctypes.byref(out)) == NMR_OK
+        rec = json.loads(ctypes.string_at(out.value).decode())
+        lib.nmr_string_free(out)
+        assert rec["record"] == 1 and rec["error"]["code"] == NMR_ERR_INPUT and rec["error"]["message"]
+    finally:
+        lib.nmr_result_free(res)
+
+
+def test_failures_of_nmr_predict_leave_a_message(lib, ctx):
+    rc, res = predict(lib, ctx, "")
+    assert rc == NMR_ERR_INPUT and not res.value
+    assert last_error(lib, ctx)
+    rc, res = predict(lib, ctx, "CCO", "no-such-format")
+    assert rc == NMR_ERR_ARGUMENT and not res.value
+    assert "no-such-format" in last_error(lib, ctx)
+    res = ctypes.c_void_p()
+    assert lib.nmr_predict(ctypes.byref(res), ctx, None, None) == NMR_ERR_ARGUMENT
+    assert last_error(lib, ctx)
+
+
+def result_json(lib, res):
+    out = ctypes.c_void_p()
+    assert lib.nmr_result_to_json(res, ctypes.byref(out)) == NMR_OK
+    try:
+        return ctypes.string_at(out.value).decode()
+    finally:
+        lib.nmr_string_free(out)
+
+
+def test_contexts_in_parallel_threads_give_the_sequential_results(lib):
+    """ctypes releases the GIL during foreign calls, so the threads really do
+    run the library at the same time, one context each (the header's rule)."""
+    import threading
+
+    texts = ["CC(O)CC\nc1ccc2ccccc2c1\n", "OC(=O)C(N)Cc1ccccc1\nCCOC(=O)C\n"] * 3
+
+    def run(text):
+        handle = ctypes.c_void_p()
+        assert lib.nmr_context_new(ctypes.byref(handle), None) == NMR_OK
+        try:
+            rc, res = predict(lib, handle, text)
+            assert rc == NMR_OK
+            try:
+                return result_json(lib, res)
+            finally:
+                lib.nmr_result_free(res)
+        finally:
+            lib.nmr_context_free(handle)
+
+    expected = [run(t) for t in texts]
+    got = [None] * len(texts)
+
+    def work(k):
+        got[k] = run(texts[k])
+
+    threads = [threading.Thread(target=work, args=(k,)) for k in range(len(texts))]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join()
+    assert got == expected

@@ -1,0 +1,278 @@
+/*
+ * nmrpred.h - the C interface of libnmrpred (libnmrpred.so).
+ *
+ * Pure C99; also compiles as C++. This header is the whole public C API: what it
+ * does not declare is not public. It stays source- and binary-compatible for a
+ * whole major version (the shared object's SOVERSION is the major version).
+ *
+ * Conventions
+ * - Functions that can fail return int: NMR_OK (0) or a positive NMR_ERR_* code.
+ *   Codes are only ever appended; treat any unknown non-zero code as a failure.
+ * - Newly created objects come back through a first argument `**out`; you own
+ *   them and release each with its one matching nmr_<type>_free. Every _free
+ *   accepts NULL. Never release library memory with free().
+ * - A `const char *` that a function returns is borrowed: it lives as long as
+ *   the handle it came from (static text where noted) and must not be freed.
+ * - Error text lives on the context: after a call on a context fails,
+ *   nmr_context_last_error() says why. Result accessors take no context; they
+ *   report failure only through their status code (see nmr_status_string()),
+ *   and leave their outputs untouched when they fail.
+ * - Atom and record indices are 0-based. Atom order within a record: heavy atoms
+ *   first, in input order, then every hydrogen grouped by the heavy atom it is
+ *   bonded to (explicit hydrogens before implicit ones added by the reader).
+ * - Nothing escapes: no C++ exception leaves the library, and it never calls
+ *   abort()/exit() or writes to stdout/stderr.
+ *
+ * Threads
+ * - Contexts are independent. Use each context from one thread at a time (one
+ *   context per thread, or your own lock around a shared one); different
+ *   contexts may be used from different threads at the same time.
+ * - A result is immutable once nmr_predict() returns it: any number of threads
+ *   may read it at once, with or without the context that made it, until it is
+ *   freed. Results outlive their context.
+ * - Functions that take neither a context nor a result (versions, status text)
+ *   may be called from any thread at any time.
+ *
+ * Typical use
+ *
+ *   nmr_context *ctx = NULL;
+ *   if (nmr_context_new(&ctx, NULL) != NMR_OK) { report(nmr_context_last_error(ctx)); }
+ *   nmr_result *res = NULL;
+ *   if (nmr_predict(&res, ctx, NULL, "CCO ethanol") != NMR_OK) {
+ *     report(nmr_context_last_error(ctx));
+ *   } else if (nmr_result_record_status(res, 0) != NMR_OK) {
+ *     report(nmr_result_record_error(res, 0));
+ *   } else {
+ *     size_t n = nmr_result_atom_count(res, 0);  ... per-atom accessors ...
+ *   }
+ *   nmr_result_free(res);
+ *   nmr_context_free(ctx);
+ */
+#ifndef NMRPRED_H
+#define NMRPRED_H
+
+#include <stddef.h>
+
+#if defined(_WIN32) && !defined(NMR_STATIC)
+#  ifdef NMR_BUILDING
+#    define NMR_API __declspec(dllexport)
+#  else
+#    define NMR_API __declspec(dllimport)
+#  endif
+#elif defined(__GNUC__)
+#  define NMR_API __attribute__((visibility("default")))
+#else
+#  define NMR_API
+#endif
+
+#ifdef __cplusplus
+extern "C" {
+#endif
+
+/* ---------------------------------------------------------------- versions */
+
+/** Version of this header. Compare with nmr_version_number() at start-up to
+ *  catch a program running against a library other than the one it was built
+ *  for; a different NMR_VERSION_MAJOR means an incompatible library. */
+#define NMR_VERSION_MAJOR 0
+#define NMR_VERSION_MINOR 1
+#define NMR_VERSION_PATCH 0
+#define NMR_VERSION_NUMBER (NMR_VERSION_MAJOR * 10000 + NMR_VERSION_MINOR * 100 + NMR_VERSION_PATCH)
+
+/** Version of the loaded library, encoded like NMR_VERSION_NUMBER. Never fails. */
+NMR_API int nmr_version_number(void);
+
+/** Version of the loaded library as "MAJOR.MINOR.PATCH". Static text; never NULL. */
+NMR_API const char *nmr_version_string(void);
+
+/* ------------------------------------------------------------ status codes */
+
+/** Status codes. Append only: never renumbered or reused. */
+enum {
+  NMR_OK = 0,
+  NMR_ERR_ARGUMENT = 1,    /**< an argument is invalid: NULL, out of range, unknown name */
+  NMR_ERR_INPUT = 2,       /**< the structure text cannot be used (syntax, unknown element, ...) */
+  NMR_ERR_UNSUPPORTED = 3, /**< a valid request the library does not handle (unknown option key) */
+  NMR_ERR_TABLES = 4,      /**< a data table is missing, malformed or cites an unknown source */
+  NMR_ERR_NOMEM = 5,       /**< memory ran out */
+  NMR_ERR_INTERNAL = 6     /**< a bug in the library; please report it with the message */
+};
+
+/** Short English description of a status code ("ok", "unusable input", ...);
+ *  "unknown status" for codes this version does not know. Static text; never
+ *  NULL. Needs no context. */
+NMR_API const char *nmr_status_string(int status);
+
+/* ----------------------------------------------------------------- options */
+
+/** Option keys for nmr_context_set_option_double(). Append only. Keys 1 and 2
+ *  are reserved for the spectrum options (field in MHz, line width in Hz). */
+enum {
+  /** Spheres of the HOSE codes: a whole number from 1 to 6. Default 4. */
+  NMR_OPT_HOSE_SPHERES = 3
+};
+
+/* ----------------------------------------------------------------- context */
+
+/** Settings, data tables and the last error message. One thread at a time. */
+typedef struct nmr_context nmr_context;
+
+/** Predictions for every record of one input. Immutable; any thread may read it. */
+typedef struct nmr_result nmr_result;
+
+/** Creates a context with default options.
+ *  tables_dir: NULL selects the tables built into the library. This version has
+ *  no replaceable table set yet, so a directory gives NMR_ERR_UNSUPPORTED.
+ *  On failure other than NMR_ERR_NOMEM, *out still receives a context so that
+ *  nmr_context_last_error() can tell why; free it either way.
+ *  Errors: NMR_ERR_ARGUMENT (out is NULL), NMR_ERR_UNSUPPORTED, NMR_ERR_TABLES,
+ *  NMR_ERR_NOMEM (then *out is NULL). */
+NMR_API int nmr_context_new(nmr_context **out, const char *tables_dir);
+
+/** Frees a context. NULL is fine. Results made with it stay valid. */
+NMR_API void nmr_context_free(nmr_context *ctx);
+
+/** Message describing the latest failure on ctx: what went wrong and, where it
+ *  applies, which argument, record or atom. "" if no call on ctx has failed yet
+ *  or the latest call succeeded. Owned by ctx; valid until the next call on ctx.
+ *  For ctx == NULL returns a static message saying so; never NULL. */
+NMR_API const char *nmr_context_last_error(const nmr_context *ctx);
+
+/** Name and version of the table set behind every result of this context (for
+ *  reproducibility: store it with results). Owned by ctx; valid until ctx is
+ *  freed. Never NULL; "" for ctx == NULL. */
+NMR_API const char *nmr_context_tables_version(const nmr_context *ctx);
+
+/** Sets one option (see NMR_OPT_*). Applies to later nmr_predict() calls.
+ *  Errors: NMR_ERR_ARGUMENT (ctx NULL, or value out of range / not a whole
+ *  number where one is needed; the option keeps its previous value),
+ *  NMR_ERR_UNSUPPORTED (unknown key). */
+NMR_API int nmr_context_set_option_double(nmr_context *ctx, int option, double value);
+
+/** Reads the current value of one option into *value_out.
+ *  Errors: NMR_ERR_ARGUMENT (ctx or value_out NULL), NMR_ERR_UNSUPPORTED (unknown key). */
+NMR_API int nmr_context_get_option_double(nmr_context *ctx, int option, double *value_out);
+
+/* -------------------------------------------------------------- prediction */
+
+/** Reads every record of `text` and predicts each one.
+ *  format: "smiles" (one molecule per line, optional title after whitespace),
+ *  "mol", "sdf", "inchi" (one per line), or NULL / "auto" to recognise the
+ *  format from the content. Names are case-insensitive.
+ *  text: NUL-terminated structure text, UTF-8 or ASCII.
+ *  On NMR_OK, *out receives a result holding one entry per record, in input
+ *  order. A record that cannot be read or predicted does not stop the others:
+ *  it keeps its place with its own status and message (see
+ *  nmr_result_record_status), and nmr_predict still returns NMR_OK.
+ *  Errors (then *out is set to NULL, if out is not NULL): NMR_ERR_ARGUMENT (out,
+ *  ctx or text NULL, unknown format name), NMR_ERR_INPUT (the text holds no
+ *  record at all), NMR_ERR_NOMEM, NMR_ERR_INTERNAL. */
+NMR_API int nmr_predict(nmr_result **out, nmr_context *ctx, const char *format, const char *text);
+
+/** Frees a result and every string borrowed from it. NULL is fine. */
+NMR_API void nmr_result_free(nmr_result *res);
+
+/* --------------------------------------------------------- result: records */
+
+/** Number of records in the result; 0 for NULL. */
+NMR_API size_t nmr_result_record_count(const nmr_result *res);
+
+/** Number of records whose status is not NMR_OK; 0 for NULL. */
+NMR_API size_t nmr_result_failed_count(const nmr_result *res);
+
+/** Status of one record: NMR_OK if it was predicted, otherwise why it failed
+ *  (usually NMR_ERR_INPUT). NMR_ERR_ARGUMENT if res is NULL or record is out of
+ *  range (not a record status then, as nmr_result_record_error() tells). */
+NMR_API int nmr_result_record_status(const nmr_result *res, size_t record);
+
+/** Message of a failed record, naming the problem; "" for a record that
+ *  succeeded. For NULL res or an index out of range, a static message saying so.
+ *  Borrowed from res; never NULL. */
+NMR_API const char *nmr_result_record_error(const nmr_result *res, size_t record);
+
+/** Title of a record (SMILES text after the structure, MOL name line); "" if
+ *  none, or for NULL res / index out of range. Borrowed from res; never NULL. */
+NMR_API const char *nmr_result_record_title(const nmr_result *res, size_t record);
+
+/** Number of warnings of a record (remarks, never errors); 0 for NULL res or an
+ *  index out of range. */
+NMR_API size_t nmr_result_warning_count(const nmr_result *res, size_t record);
+
+/** One warning of a record, or NULL if res is NULL or an index is out of
+ *  range. Borrowed from res. */
+NMR_API const char *nmr_result_warning(const nmr_result *res, size_t record, size_t warning);
+
+/** Number of atoms of a record, hydrogens included; 0 for a failed record, NULL
+ *  res or an index out of range. */
+NMR_API size_t nmr_result_atom_count(const nmr_result *res, size_t record);
+
+/** Number of atoms that are not hydrogen; they are atoms 0 .. count-1. 0 for a
+ *  failed record, NULL res or an index out of range. */
+NMR_API size_t nmr_result_heavy_atom_count(const nmr_result *res, size_t record);
+
+/** Number of chemical (stereo-aware) equivalence classes; class ids run
+ *  0 .. count-1. 0 for a failed record, NULL res or an index out of range. */
+NMR_API size_t nmr_result_class_count(const nmr_result *res, size_t record);
+
+/** Number of topological equivalence classes (graph symmetry only). 0 for a
+ *  failed record, NULL res or an index out of range. */
+NMR_API size_t nmr_result_topological_class_count(const nmr_result *res, size_t record);
+
+/* ----------------------------------------------------------- result: atoms */
+/* Every per-atom accessor returns NMR_OK, or NMR_ERR_ARGUMENT if res or an
+ * output pointer is NULL, the record is out of range or failed, or the atom is
+ * out of range; outputs are left untouched on failure. */
+
+/** Element of an atom: atomic number (1..118) and symbol ("C", "Cl"; static
+ *  text). Either output may be NULL if not wanted. */
+NMR_API int nmr_result_atom_element(const nmr_result *res, size_t record, size_t atom,
+                                    int *atomic_number_out, const char **symbol_out);
+
+/** Isotope of an atom as its mass number (2 for deuterium, 13 for carbon-13),
+ *  or 0 when the input gave none (natural abundance). */
+NMR_API int nmr_result_atom_isotope(const nmr_result *res, size_t record, size_t atom, int *mass_number_out);
+
+/** Formal charge of an atom in units of e. */
+NMR_API int nmr_result_atom_charge(const nmr_result *res, size_t record, size_t atom, int *charge_out);
+
+/** For a hydrogen: index of the heavy atom it is bonded to. -1 for a heavy atom
+ *  and for a hydrogen bonded to no heavy atom (H2, a hydride ion). */
+NMR_API int nmr_result_atom_attached_to(const nmr_result *res, size_t record, size_t atom,
+                                        ptrdiff_t *heavy_atom_out);
+
+/** Chemical equivalence class of an atom (0 .. nmr_result_class_count - 1).
+ *  Atoms exchanged by a symmetry of the molecule (homotopic, enantiotopic) share
+ *  a class; diastereotopic atoms do not. Ids are numbered in order of the lowest
+ *  atom index of each class. */
+NMR_API int nmr_result_atom_class(const nmr_result *res, size_t record, size_t atom, size_t *class_out);
+
+/** Topological equivalence class of an atom (graph symmetry, stereo ignored);
+ *  numbered like nmr_result_atom_class(). */
+NMR_API int nmr_result_atom_topological_class(const nmr_result *res, size_t record, size_t atom,
+                                              size_t *class_out);
+
+/** HOSE code of an atom with the context's NMR_OPT_HOSE_SPHERES spheres at the
+ *  time of nmr_predict(). Borrowed from res (NUL-terminated). */
+NMR_API int nmr_result_atom_hose(const nmr_result *res, size_t record, size_t atom, const char **hose_out);
+
+/* ------------------------------------------------------------------- JSON */
+
+/** Whole result as UTF-8 JSON: an array with one object per record, as printed
+ *  by the nmrpred program (one line per record there). *json_out is yours:
+ *  release it with nmr_string_free().
+ *  Errors: NMR_ERR_ARGUMENT (res or json_out NULL), NMR_ERR_NOMEM. */
+NMR_API int nmr_result_to_json(const nmr_result *res, char **json_out);
+
+/** One record as a UTF-8 JSON object. *json_out is yours: release it with
+ *  nmr_string_free().
+ *  Errors: NMR_ERR_ARGUMENT (res or json_out NULL, record out of range), NMR_ERR_NOMEM. */
+NMR_API int nmr_result_record_to_json(const nmr_result *res, size_t record, char **json_out);
+
+/** Frees a string the library handed to you through a `char **` output. NULL is fine. */
+NMR_API void nmr_string_free(char *s);
+
+#ifdef __cplusplus
+}
+#endif
+
+#endif /* NMRPRED_H */

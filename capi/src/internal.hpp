@@ -1,0 +1,70 @@
+// Private to capi/: the layouts behind the opaque handles and the one place
+// where C++ exceptions are turned into status codes.
+#ifndef NMRPRED_CAPI_INTERNAL_HPP
+#define NMRPRED_CAPI_INTERNAL_HPP
+
+#include <exception>
+#include <new>
+#include <string>
+#include <vector>
+
+#include <nmrpred.h>
+#include <nmrpred/error.hpp>
+#include <nmrpred/predict.hpp>
+
+struct nmr_context {
+  nmrpred::PredictOptions options;
+  std::string tables_version;
+  std::string last_error;
+};
+
+struct nmr_result {
+  std::vector<nmrpred::RecordPrediction> records;
+  std::size_t failed = 0;
+};
+
+namespace nmrpred::capi {
+
+/// Records `message` as ctx's last error (if there is a context) and returns
+/// `status`. Never throws: if even the message cannot be stored, the code alone
+/// still reports the failure.
+inline int fail(nmr_context *ctx, int status, const char *message) noexcept {
+  if (ctx) {
+    try {
+      ctx->last_error = message;
+    } catch (...) {
+      ctx->last_error.clear();
+    }
+  }
+  return status;
+}
+
+inline int fail(nmr_context *ctx, int status, const std::string &message) noexcept {
+  return fail(ctx, status, message.c_str());
+}
+
+/// Runs `body` (returning a status) with the context's error cleared first and
+/// every exception mapped to a status plus message on the context.
+template <class Body>
+int guarded(nmr_context *ctx, Body &&body) noexcept {
+  try {
+    if (ctx) ctx->last_error.clear();
+    return body();
+  } catch (const nmrpred::Error &e) {
+    return fail(ctx, static_cast<int>(e.status()), e.what());
+  } catch (const std::bad_alloc &) {
+    return fail(ctx, NMR_ERR_NOMEM, "out of memory");
+  } catch (const std::exception &e) {
+    try {
+      return fail(ctx, NMR_ERR_INTERNAL, std::string("internal error (please report): ") + e.what());
+    } catch (...) {
+      return fail(ctx, NMR_ERR_INTERNAL, "internal error (please report)");
+    }
+  } catch (...) {
+    return fail(ctx, NMR_ERR_INTERNAL, "internal error (please report): unknown exception");
+  }
+}
+
+}  // namespace nmrpred::capi
+
+#endif

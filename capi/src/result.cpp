@@ -1,0 +1,175 @@
+// Result accessors. They take no context, so they report failure by status code
+// only; each still catches everything because nothing may escape the C ABI.
+#include "internal.hpp"
+
+#include <cstring>
+#include <new>
+
+namespace {
+
+const nmrpred::RecordPrediction *record_at(const nmr_result *res, size_t record) noexcept {
+  if (!res || record >= res->records.size()) return nullptr;
+  return &res->records[record];
+}
+
+const nmrpred::Prediction *prediction_at(const nmr_result *res, size_t record) noexcept {
+  const auto *r = record_at(res, record);
+  return r && r->prediction ? &*r->prediction : nullptr;
+}
+
+/// The prediction if `atom` is a valid atom of a successful record, else null.
+const nmrpred::Prediction *atom_at(const nmr_result *res, size_t record, size_t atom) noexcept {
+  const auto *p = prediction_at(res, record);
+  return p && atom < p->molecule.atom_count() ? p : nullptr;
+}
+
+int copy_out(const std::string &json, char **json_out) noexcept {
+  char *s = new (std::nothrow) char[json.size() + 1];
+  if (!s) return NMR_ERR_NOMEM;
+  std::memcpy(s, json.c_str(), json.size() + 1);
+  *json_out = s;
+  return NMR_OK;
+}
+
+}  // namespace
+
+extern "C" {
+
+void nmr_result_free(nmr_result *res) { delete res; }
+
+size_t nmr_result_record_count(const nmr_result *res) { return res ? res->records.size() : 0; }
+
+size_t nmr_result_failed_count(const nmr_result *res) { return res ? res->failed : 0; }
+
+int nmr_result_record_status(const nmr_result *res, size_t record) {
+  const auto *r = record_at(res, record);
+  return r ? static_cast<int>(r->status) : NMR_ERR_ARGUMENT;
+}
+
+const char *nmr_result_record_error(const nmr_result *res, size_t record) {
+  if (!res) return "no result (res is NULL)";
+  const auto *r = record_at(res, record);
+  if (!r) return "record index out of range";
+  return r->error.c_str();
+}
+
+const char *nmr_result_record_title(const nmr_result *res, size_t record) {
+  const auto *r = record_at(res, record);
+  return r ? r->title.c_str() : "";
+}
+
+size_t nmr_result_warning_count(const nmr_result *res, size_t record) {
+  const auto *r = record_at(res, record);
+  return r ? r->warnings().size() : 0;
+}
+
+const char *nmr_result_warning(const nmr_result *res, size_t record, size_t warning) {
+  const auto *r = record_at(res, record);
+  if (!r || warning >= r->warnings().size()) return nullptr;
+  return r->warnings()[warning].c_str();
+}
+
+size_t nmr_result_atom_count(const nmr_result *res, size_t record) {
+  const auto *p = prediction_at(res, record);
+  return p ? p->molecule.atom_count() : 0;
+}
+
+size_t nmr_result_heavy_atom_count(const nmr_result *res, size_t record) {
+  const auto *p = prediction_at(res, record);
+  return p ? p->molecule.heavy_atom_count() : 0;
+}
+
+size_t nmr_result_class_count(const nmr_result *res, size_t record) {
+  const auto *p = prediction_at(res, record);
+  return p ? p->classes.chemical_count : 0;
+}
+
+size_t nmr_result_topological_class_count(const nmr_result *res, size_t record) {
+  const auto *p = prediction_at(res, record);
+  return p ? p->classes.topological_count : 0;
+}
+
+int nmr_result_atom_element(const nmr_result *res, size_t record, size_t atom, int *atomic_number_out,
+                            const char **symbol_out) {
+  const auto *p = atom_at(res, record, atom);
+  if (!p) return NMR_ERR_ARGUMENT;
+  const unsigned z = p->molecule.atoms()[atom].atomic_number;
+  if (atomic_number_out) *atomic_number_out = static_cast<int>(z);
+  if (symbol_out) *symbol_out = nmrpred::Molecule::element_symbol(z);
+  return NMR_OK;
+}
+
+int nmr_result_atom_isotope(const nmr_result *res, size_t record, size_t atom, int *mass_number_out) {
+  const auto *p = atom_at(res, record, atom);
+  if (!p || !mass_number_out) return NMR_ERR_ARGUMENT;
+  *mass_number_out = p->molecule.atoms()[atom].isotope;
+  return NMR_OK;
+}
+
+int nmr_result_atom_charge(const nmr_result *res, size_t record, size_t atom, int *charge_out) {
+  const auto *p = atom_at(res, record, atom);
+  if (!p || !charge_out) return NMR_ERR_ARGUMENT;
+  *charge_out = p->molecule.atoms()[atom].formal_charge;
+  return NMR_OK;
+}
+
+int nmr_result_atom_attached_to(const nmr_result *res, size_t record, size_t atom, ptrdiff_t *heavy_atom_out) {
+  const auto *p = atom_at(res, record, atom);
+  if (!p || !heavy_atom_out) return NMR_ERR_ARGUMENT;
+  try {
+    const auto &m = p->molecule;
+    const std::int64_t a = m.attached_to(atom);
+    *heavy_atom_out = (a < 0 || m.is_hydrogen(static_cast<size_t>(a))) ? -1 : static_cast<ptrdiff_t>(a);
+    return NMR_OK;
+  } catch (...) {
+    return NMR_ERR_INTERNAL;
+  }
+}
+
+int nmr_result_atom_class(const nmr_result *res, size_t record, size_t atom, size_t *class_out) {
+  const auto *p = atom_at(res, record, atom);
+  if (!p || !class_out || atom >= p->classes.chemical.size()) return NMR_ERR_ARGUMENT;
+  *class_out = p->classes.chemical[atom];
+  return NMR_OK;
+}
+
+int nmr_result_atom_topological_class(const nmr_result *res, size_t record, size_t atom, size_t *class_out) {
+  const auto *p = atom_at(res, record, atom);
+  if (!p || !class_out || atom >= p->classes.topological.size()) return NMR_ERR_ARGUMENT;
+  *class_out = p->classes.topological[atom];
+  return NMR_OK;
+}
+
+int nmr_result_atom_hose(const nmr_result *res, size_t record, size_t atom, const char **hose_out) {
+  const auto *p = atom_at(res, record, atom);
+  if (!p || !hose_out || atom >= p->hose.size()) return NMR_ERR_ARGUMENT;
+  *hose_out = p->hose[atom].c_str();
+  return NMR_OK;
+}
+
+int nmr_result_to_json(const nmr_result *res, char **json_out) {
+  if (!res || !json_out) return NMR_ERR_ARGUMENT;
+  try {
+    return copy_out(nmrpred::to_json(res->records), json_out);
+  } catch (const std::bad_alloc &) {
+    return NMR_ERR_NOMEM;
+  } catch (...) {
+    return NMR_ERR_INTERNAL;
+  }
+}
+
+int nmr_result_record_to_json(const nmr_result *res, size_t record, char **json_out) {
+  const auto *r = record_at(res, record);
+  if (!r || !json_out) return NMR_ERR_ARGUMENT;
+  try {
+    return copy_out(nmrpred::to_json(*r), json_out);
+  } catch (const std::bad_alloc &) {
+    return NMR_ERR_NOMEM;
+  } catch (...) {
+    return NMR_ERR_INTERNAL;
+  }
+}
+
+void nmr_string_free(char *s) { delete[] s; }
+
+}  // extern "C"
