@@ -48,6 +48,14 @@ struct AtomClasses {
 /// not proven stay in separate classes and a note says so.
 NMRPRED_API AtomClasses compute_classes(const Molecule &molecule);
 
+/// A 64-bit key of the constitution (atoms, isotopes, charges, bonds; no
+/// stereo) computed from `classes.invariant_rank`: equal for every atom order
+/// of one molecule, different for different constitutions except by hash
+/// collision or for graphs that colour refinement cannot tell apart (never
+/// seen among real molecules). Used to recognise "the same compound", e.g.
+/// to leave it out of a lookup. Thread rule: pure.
+NMRPRED_API std::uint64_t constitution_key(const Molecule &molecule, const AtomClasses &classes);
+
 }  // namespace nmrpred
 
 #endif

@@ -614,4 +614,31 @@ AtomClasses compute_classes(const Molecule &m) {
   return out;
 }
 
+std::uint64_t constitution_key(const Molecule &m, const AtomClasses &classes) {
+  const auto n = m.atom_count();
+  if (classes.invariant_rank.size() != n) throw ArgumentError("constitution_key: classes belong to another molecule");
+  std::vector<std::vector<std::uint64_t>> rows(n);
+  for (std::size_t a = 0; a < n; ++a) {
+    auto &r = rows[a];
+    r.push_back(classes.invariant_rank[a]);
+    r.push_back(atom_colour(m.atom(a), static_cast<std::uint32_t>(m.degree(a))));
+    std::vector<std::uint64_t> nb;
+    const auto *bid = m.bond_ids_begin(a);
+    for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid)
+      nb.push_back((std::uint64_t(classes.invariant_rank[*it]) << 3) | order_code(m.bond(*bid).order));
+    std::sort(nb.begin(), nb.end());
+    r.insert(r.end(), nb.begin(), nb.end());
+  }
+  std::sort(rows.begin(), rows.end());
+  std::uint64_t h = 0xCBF29CE484222325ull;
+  for (const auto &r : rows) {
+    for (auto v : r) {
+      h ^= v + 0x9E3779B97F4A7C15ull + (h << 6) + (h >> 2);
+      h *= 0x100000001B3ull;
+    }
+    h ^= 0xFF;
+  }
+  return h;
+}
+
 }  // namespace nmrpred

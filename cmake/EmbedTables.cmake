@@ -1,0 +1,26 @@
+# Script mode: cmake -DSRC_DIR=<tables> -DOUT=<file.cpp> -P EmbedTables.cmake
+# Writes a C++ file holding every table text file, so the library needs no data
+# path at run time. Each file becomes a raw string literal cut into pieces well
+# below compiler limits on literal length.
+file(GLOB_RECURSE _files RELATIVE "${SRC_DIR}" "${SRC_DIR}/*.tsv" "${SRC_DIR}/*.md")
+list(SORT _files)
+set(_out "// Generated from tables/ by cmake/EmbedTables.cmake. Do not edit.\n")
+string(APPEND _out "#include \"tables/embedded.hpp\"\n\nnamespace nmrpred::detail {\n\nconst EmbeddedFile kEmbeddedTables[] = {\n")
+set(_count 0)
+foreach(_f IN LISTS _files)
+  file(READ "${SRC_DIR}/${_f}" _text)
+  string(LENGTH "${_text}" _len)
+  string(APPEND _out "  {\"${_f}\", ${_len}u, {\n")
+  set(_pos 0)
+  while(_pos LESS _len)
+    string(SUBSTRING "${_text}" ${_pos} 8000 _piece)
+    string(APPEND _out "    R\"nmrpred_table(${_piece})nmrpred_table\"\n")
+    math(EXPR _pos "${_pos} + 8000")
+  endwhile()
+  string(APPEND _out "  }},\n")
+  math(EXPR _count "${_count} + 1")
+endforeach()
+string(APPEND _out "};\n\nconst std::size_t kEmbeddedTableCount = ${_count};\n\n}  // namespace nmrpred::detail\n")
+file(WRITE "${OUT}.tmp" "${_out}")
+execute_process(COMMAND ${CMAKE_COMMAND} -E copy_if_different "${OUT}.tmp" "${OUT}")
+file(REMOVE "${OUT}.tmp")

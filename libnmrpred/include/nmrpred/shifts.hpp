@@ -1,0 +1,75 @@
+#ifndef NMRPRED_SHIFTS_HPP
+#define NMRPRED_SHIFTS_HPP
+
+/// \file shifts.hpp
+/// Chemical-shift prediction. Every atom of the requested nucleus gets a value
+/// (ppm from TMS), a one-standard-deviation uncertainty, the method that
+/// produced it and the reference compounds behind it. Sources are tried in
+/// order: the user's reference compounds, the built-in reference compounds
+/// (longest HOSE sphere match with enough support), then published increment
+/// rules, then a last-resort class average with a large uncertainty.
+///
+/// Thread rule: pure functions of their arguments; call from any thread.
+
+#include <cstddef>
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include <nmrpred/classes.hpp>
+#include <nmrpred/export.hpp>
+#include <nmrpred/molecule.hpp>
+#include <nmrpred/tables.hpp>
+
+namespace nmrpred {
+
+/// Nuclei the library predicts. The value is the mass number.
+enum class Nucleus : int { H1 = 1, C13 = 13 };
+
+/// Which kind of source produced a shift.
+enum class ShiftSourceKind : int {
+  UserReference = 1,  ///< the user's assigned compounds
+  Reference = 2,      ///< the built-in assigned compounds
+  Increments = 3,     ///< published increment rules
+  ClassAverage = 4,   ///< last resort: typical value of the atom's class
+};
+
+/// One predicted shift. Plain value.
+struct Shift {
+  std::size_t atom = 0;
+  Nucleus nucleus = Nucleus::C13;
+  double ppm = 0;              ///< chemical shift, ppm from TMS
+  double uncertainty_ppm = 0;  ///< one standard deviation, ppm
+  ShiftSourceKind source = ShiftSourceKind::Reference;
+  int sphere = 0;              ///< HOSE spheres matched (lookups), else 0
+  std::string method;          ///< in words: source, sphere level and support, or rules summed
+  std::vector<std::string> references;  ///< ids of the reference compounds that contributed
+  friend bool operator==(const Shift &a, const Shift &b) {
+    return a.atom == b.atom && a.nucleus == b.nucleus && a.ppm == b.ppm &&
+           a.uncertainty_ppm == b.uncertainty_ppm && a.method == b.method;
+  }
+};
+
+/// Settings of a shift prediction. Plain value.
+struct ShiftOptions {
+  /// Predict as if every reference compound with the same constitution as the
+  /// query were absent (honest measurement on compounds the tables hold).
+  bool blind = false;
+  /// Use the reference compounds (user and built-in). Off: increments only.
+  bool use_reference = true;
+  /// Use increment rules before the last resort.
+  bool use_increments = true;
+};
+
+/// 13C shifts of every carbon atom, in atom order. Equivalent atoms (same
+/// chemical class) get identical values. `classes` must come from
+/// compute_classes(molecule). Warnings (atoms only the last resort could
+/// handle, unusual elements) are appended to `warnings` when it is not null.
+/// Throws ArgumentError if `classes` belongs to another molecule.
+NMRPRED_API std::vector<Shift> predict_c13(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                                           const ShiftOptions &options = {},
+                                           std::vector<std::string> *warnings = nullptr);
+
+}  // namespace nmrpred
+
+#endif

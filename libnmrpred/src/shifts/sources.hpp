@@ -1,0 +1,54 @@
+#ifndef NMRPRED_SHIFTS_SOURCES_HPP
+#define NMRPRED_SHIFTS_SOURCES_HPP
+
+// Each way of estimating a shift is a ShiftSource; the engine asks them in
+// order and takes the first answer.
+
+#include <cstdint>
+#include <memory>
+#include <string>
+#include <unordered_map>
+#include <vector>
+
+#include <nmrpred/classes.hpp>
+#include <nmrpred/molecule.hpp>
+#include <nmrpred/shifts.hpp>
+#include <nmrpred/tables.hpp>
+
+namespace nmrpred::detail {
+
+// Everything a source may look at for one molecule.
+class ShiftQuery {
+ public:
+  ShiftQuery(const Molecule &m, const AtomClasses &c, const Tables &t, const ShiftOptions &o, Nucleus n)
+      : molecule(m), classes(c), tables(t), options(o), nucleus(n), constitution(constitution_key(m, c)) {}
+  const Molecule &molecule;
+  const AtomClasses &classes;
+  const Tables &tables;
+  const ShiftOptions &options;
+  Nucleus nucleus;
+  std::uint64_t constitution;
+  // HOSE spheres (kMaxHoseSpheres) of an atom, computed once.
+  const std::vector<std::string> &parts(std::size_t atom) const;
+
+ private:
+  mutable std::unordered_map<std::size_t, std::vector<std::string>> parts_cache_;
+};
+
+class ShiftSource {
+ public:
+  virtual ~ShiftSource() = default;
+  // Fills value, uncertainty, source, sphere, method and references of `out`
+  // and returns true, or returns false to pass the atom on.
+  virtual bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const = 0;
+};
+
+std::unique_ptr<ShiftSource> make_reference_lookup(bool user);
+std::unique_ptr<ShiftSource> make_c13_class_average();
+
+std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const ShiftSource *> &sources,
+                               const std::vector<std::size_t> &atoms, std::vector<std::string> *warnings);
+
+}  // namespace nmrpred::detail
+
+#endif
