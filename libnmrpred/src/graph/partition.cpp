@@ -1,6 +1,7 @@
 #include "graph/partition.hpp"
 
 #include <algorithm>
+#include <functional>
 #include <numeric>
 
 namespace nmrpred::detail {
@@ -20,6 +21,7 @@ void push(RefineScratch &s, std::uint32_t start) {
   if (!s.in_stack[start]) {
     s.in_stack[start] = 1;
     s.stack.push_back(start);
+    std::push_heap(s.stack.begin(), s.stack.end(), std::greater<std::uint32_t>());
   }
 }
 
@@ -29,9 +31,8 @@ std::uint64_t refine(const Graph &g, Partition &p, RefineScratch &s) {
   std::uint64_t trace = 0xCBF29CE484222325ull;
   while (!s.stack.empty()) {
     // Lowest start first keeps the sequence a function of the partition alone.
-    auto it = std::min_element(s.stack.begin(), s.stack.end());
-    const std::uint32_t w = *it;
-    *it = s.stack.back();
+    std::pop_heap(s.stack.begin(), s.stack.end(), std::greater<std::uint32_t>());
+    const std::uint32_t w = s.stack.back();
     s.stack.pop_back();
     s.in_stack[w] = 0;
     const std::uint32_t wend = p.end[w];
@@ -46,53 +47,63 @@ std::uint64_t refine(const Graph &g, Partition &p, RefineScratch &s) {
         s.key[b] += kOrderWeight[g.order[e]];
       }
     }
-    for (std::uint32_t b : s.touched_atoms) {
-      const std::uint32_t c = p.cell[b];
-      if (!s.cell_mark[c]) {
-        s.cell_mark[c] = 1;
-        s.touched_cells.push_back(c);
-      }
-    }
-    std::sort(s.touched_cells.begin(), s.touched_cells.end());
+    // Group the touched atoms by cell, in key order within a cell; atoms of a
+    // cell that were not touched keep key 0 and stay where they are, so a
+    // split costs the touched atoms only, not the whole cell.
+    std::sort(s.touched_atoms.begin(), s.touched_atoms.end(), [&](std::uint32_t a, std::uint32_t b) {
+      if (p.cell[a] != p.cell[b]) return p.cell[a] < p.cell[b];
+      if (s.key[a] != s.key[b]) return s.key[a] < s.key[b];
+      return a < b;
+    });
     trace = mix(trace, w);
-    for (std::uint32_t c : s.touched_cells) {
-      s.cell_mark[c] = 0;
+    for (std::size_t g0 = 0; g0 < s.touched_atoms.size();) {
+      const std::uint32_t c = p.cell[s.touched_atoms[g0]];
+      std::size_t g1 = g0;
+      while (g1 < s.touched_atoms.size() && p.cell[s.touched_atoms[g1]] == c) ++g1;
       const std::uint32_t e = p.end[c];
-      if (e - c == 1) {
-        trace = mix(trace, (std::uint64_t(c) << 1) ^ s.key[p.elems[c]]);
+      const std::uint32_t t = static_cast<std::uint32_t>(g1 - g0);
+      const std::uint64_t kmin = s.key[s.touched_atoms[g0]], kmax = s.key[s.touched_atoms[g1 - 1]];
+      if (e - c == 1 || (t == e - c && kmin == kmax)) {
+        trace = mix(trace, (std::uint64_t(c) << 1) ^ kmin);
+        g0 = g1;
         continue;
       }
-      auto first = p.elems.begin() + c, last = p.elems.begin() + e;
-      std::sort(first, last, [&](std::uint32_t a, std::uint32_t b) { return s.key[a] < s.key[b]; });
-      if (s.key[*first] == s.key[*(last - 1)]) {
-        trace = mix(trace, (std::uint64_t(c) << 1) ^ s.key[*first]);
-        continue;
+      // Place the touched atoms, in key order, at the end of the cell.
+      const std::uint32_t region = e - t;
+      for (std::uint32_t k = 0; k < t; ++k) {
+        const std::uint32_t b = s.touched_atoms[g0 + k];
+        const std::uint32_t q = region + k;
+        const std::uint32_t y = p.elems[q];
+        const std::uint32_t from = p.pos[b];
+        p.elems[from] = y;
+        p.pos[y] = from;
+        p.elems[q] = b;
+        p.pos[b] = q;
       }
-      // Walk the runs of equal key; each becomes a cell.
-      std::uint32_t largest_start = c, largest_size = 0;
       const bool was_pending = s.in_stack[c] != 0;
-      std::uint32_t run = c;
-      for (std::uint32_t k = c; k <= e; ++k) {
-        if (k < e && s.key[p.elems[k]] == s.key[p.elems[run]]) {
-          p.pos[p.elems[k]] = k;
-          continue;
-        }
+      std::uint32_t largest_start = c, largest_size = 0;
+      auto close_run = [&](std::uint32_t run, std::uint32_t k, std::uint64_t key) {
         p.end[run] = k;
-        for (std::uint32_t q = run; q < k; ++q) p.cell[p.elems[q]] = run;
-        trace = mix(trace, mix(run, s.key[p.elems[run]]) ^ (k - run));
+        if (run != c)
+          for (std::uint32_t q = run; q < k; ++q) p.cell[p.elems[q]] = run;
+        trace = mix(trace, mix(run, key) ^ (k - run));
         if (k - run > largest_size) {
           largest_size = k - run;
           largest_start = run;
         }
-        if (k < e) {
-          p.pos[p.elems[k]] = k;
+      };
+      if (region > c) close_run(c, region, 0);
+      std::uint32_t run = region;
+      for (std::uint32_t k = region + 1; k <= e; ++k)
+        if (k == e || s.key[p.elems[k]] != s.key[p.elems[run]]) {
+          close_run(run, k, s.key[p.elems[run]]);
           run = k;
         }
-      }
       // Push the new cells; the largest may stay out if the old cell had
       // already been used as a splitter.
       for (std::uint32_t st = c; st < e; st = p.end[st])
         if (was_pending || st != largest_start) push(s, st);
+      g0 = g1;
     }
     for (std::uint32_t b : s.touched_atoms) s.key[b] = 0;
   }

@@ -1,0 +1,974 @@
+// HOSE-style environment codes after BREMSER-1978 (tables/SOURCES.md). The
+// syntax, the priority table and the tie rule are specified in docs/hose.md;
+// this file follows that text.
+//
+// How the code is made canonical. Atoms are taken sphere by sphere; inside a
+// group they are sorted by their entry (bond, element, charge). Siblings with
+// equal entries are "tied": their order changes nothing in the sphere being
+// written, only which later groups come first and therefore which of two paths
+// to a ring atom writes it and which writes '&'. The code is defined as the
+// first one in priority order, compared sphere by sphere, over every order of
+// tied siblings. Depending on nothing but the atoms within the spheres, the
+// result is the same for any input order, and a code with k spheres is the
+// first k spheres of a longer one.
+//
+// Finding that order without trying all permutations:
+//  * a tied sibling whose branch neither shares atoms with, nor has bonds to,
+//    the rest of the sphere-limited graph ("closed") writes the same text
+//    wherever it stands; closed siblings are sorted by the text of their own
+//    branch, computed once per centre;
+//  * other tied siblings are placed one position at a time, keeping every
+//    choice whose group is first in priority order; partial layouts with the
+//    same future are merged, and of two candidates that a checked symmetry
+//    exchanges only one is explored. A beam cap bounds work on cage-like graphs.
+
+#include <nmrpred/error.hpp>
+#include <nmrpred/hose.hpp>
+
+#include <algorithm>
+#include <array>
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include <fmt/format.h>
+
+namespace nmrpred {
+
+namespace {
+
+// A written entry is one 32-bit token whose numeric order is the priority
+// order (smaller = written first): bond rank << 24 | kind << 12 | charge rank.
+// The end of a group is a token larger than any entry, so a group that stops
+// early sorts after a longer one sharing its start.
+constexpr std::uint32_t kEndOfGroup = 0xFFFFFFFFu;
+constexpr std::uint32_t kRingClosureKind = 0xFFFu;
+constexpr std::uint8_t kOutside = 0xFF;
+constexpr std::uint32_t kNone = 0xFFFFFFFFu;
+// Partial layouts kept per sphere. Beyond it the kept layouts are the first
+// found and the code could depend on atom order; the NCI sample needs at most
+// 105 (Zr and Th tetrakis(acetylacetonates)), C60 far fewer.
+constexpr std::size_t kMaxBeam = 512;
+
+// Element priority, source: BREMSER-1978 (from memory): C, O, N, S, P, Si, B,
+// F, Cl, Br, I; other elements follow by atomic number.
+constexpr std::array<unsigned, 11> kPriorityElements = {6, 8, 7, 16, 15, 14, 5, 9, 17, 35, 53};
+
+std::uint32_t element_kind(unsigned z) noexcept {
+  for (std::uint32_t k = 0; k < kPriorityElements.size(); ++k)
+    if (kPriorityElements[k] == z) return k;
+  return static_cast<std::uint32_t>(kPriorityElements.size()) + z;
+}
+
+unsigned kind_element(std::uint32_t kind) noexcept {
+  return kind < kPriorityElements.size() ? kPriorityElements[kind]
+                                         : kind - static_cast<std::uint32_t>(kPriorityElements.size());
+}
+
+// Multiple bonds before single ones, source: BREMSER-1978 (from memory).
+std::uint32_t bond_rank(BondOrder order) noexcept {
+  switch (order) {
+    case BondOrder::Triple: return 0;
+    case BondOrder::Double: return 1;
+    case BondOrder::Aromatic: return 2;
+    case BondOrder::Single: return 3;
+  }
+  return 3;
+}
+
+const char *bond_symbol(std::uint32_t rank) noexcept {
+  static constexpr const char *kSymbols[] = {"%", "=", "*", ""};
+  return rank < 4 ? kSymbols[rank] : "";
+}
+
+// Neutral first, then +1, -1, +2, -2, ...
+std::uint32_t charge_rank(int q) noexcept {
+  if (q == 0) return 0;
+  return q > 0 ? static_cast<std::uint32_t>(2 * q - 1) : static_cast<std::uint32_t>(-2 * q);
+}
+
+int rank_charge(std::uint32_t r) noexcept {
+  if (r == 0) return 0;
+  return (r & 1u) ? static_cast<int>((r + 1) / 2) : -static_cast<int>(r / 2);
+}
+
+void append_charge(std::string &out, int q) {
+  if (q == 0) return;
+  out += q > 0 ? '+' : '-';
+  const int mag = q > 0 ? q : -q;
+  if (mag > 1) out += std::to_string(mag);
+}
+
+void append_symbol(std::string &out, unsigned z) {
+  const char *sym = Molecule::element_symbol(z);  // one or two letters
+  out.append(sym, sym[1] ? 2 : 1);
+}
+
+void append_token(std::string &out, std::uint32_t token) {
+  const std::uint32_t bond = token >> 24;
+  if (bond < 3) out += bond_symbol(bond)[0];
+  const std::uint32_t kind = (token >> 12) & 0xFFFu;
+  if (kind == kRingClosureKind) {
+    out += '&';
+    return;
+  }
+  append_symbol(out, kind_element(kind));
+  append_charge(out, rank_charge(token & 0xFFFu));
+}
+
+bool is_real(std::uint32_t token) noexcept { return ((token >> 12) & 0xFFFu) != kRingClosureKind; }
+
+// -1, 0, +1 comparison of two token strings that each end implicitly with
+// kEndOfGroup (a proper prefix therefore sorts last).
+int compare_groups(const std::uint32_t *a, std::size_t na, const std::uint32_t *b, std::size_t nb) noexcept {
+  const std::size_t n = std::min(na, nb);
+  for (std::size_t i = 0; i < n; ++i)
+    if (a[i] != b[i]) return a[i] < b[i] ? -1 : 1;
+  if (na == nb) return 0;
+  return na > nb ? -1 : 1;
+}
+
+struct Neighbour {
+  std::uint32_t atom;
+  std::uint32_t bond;  // bond rank already shifted into token position
+};
+
+// What a run of tied siblings needs at the next sphere.
+constexpr std::uint8_t kRunFixed = 0;     // closed branches, already sorted by their text
+constexpr std::uint8_t kRunSearch = 1;    // order can matter: placed by the search
+constexpr std::uint8_t kRunNoFuture = 2;  // all write an empty group and nothing after
+
+struct Candidate {
+  std::uint32_t partial;
+  std::uint32_t position;
+  std::uint32_t tok_off, tok_len;
+  std::uint32_t real_off, real_len;
+};
+
+// Partial layouts of one sphere: the order chosen so far for the atoms of the
+// current level, marks (level-k atoms already expanded, level-k+1 atoms already
+// written), and the level-k+1 atoms in written order.
+struct Partials {
+  std::size_t count = 0;
+  std::vector<std::uint32_t> seq;     // count x L
+  std::vector<std::uint64_t> marks;   // count x W
+  std::vector<std::uint32_t> next;    // count x L1 (capacity; `filled` used)
+  std::vector<std::uint32_t> source;  // beam state each partial descends from
+};
+
+// Buffers of one generation pass. Sub-passes for closed branches start at a
+// deeper level and use the frame of that level, so frames never overlap.
+struct Frame {
+  std::vector<std::uint32_t> seqs;  // beam states x len
+  std::size_t states = 0;
+  std::size_t len = 0;  // atoms of the current level written by this pass
+  std::vector<std::uint32_t> runs;    // [begin, end) position pairs of tied siblings
+  std::vector<std::int32_t> run_at;   // position -> run index, -1 if none
+  std::vector<std::uint8_t> open;     // states x runs: one of the Run* values below
+  Partials cur, alt;
+  std::vector<Candidate> cands;
+  std::vector<std::uint32_t> ctok, creal;
+  std::vector<std::pair<std::uint32_t, std::uint32_t>> entries;  // (token, atom)
+  std::vector<std::uint32_t> order;
+  std::vector<std::uint32_t> out;      // tokens, every group closed by kEndOfGroup
+  std::vector<std::uint32_t> out_off;  // sphere starts in `out`, plus the end
+};
+
+class Engine {
+ public:
+  // `ranks` (may be empty) only guides the symmetry test; results never depend on it.
+  Engine(const Molecule &m, int spheres, const std::vector<std::uint32_t> &ranks)
+      : mol_(m), n_(spheres), ranks_(ranks.size() == m.atom_count() ? &ranks : nullptr) {
+    const std::size_t count = m.atom_count();
+    adj_off_.assign(count + 1, 0);
+    atom_tok_.resize(count);
+    for (std::size_t i = 0; i < count; ++i) {
+      const Atom &a = m.atom(i);
+      atom_tok_[i] = element_kind(a.atomic_number) << 12 | charge_rank(a.formal_charge);
+      const auto *nb = m.neighbours_begin(i);
+      const auto *bid = m.bond_ids_begin(i);
+      const std::size_t deg = m.degree(i);
+      for (std::size_t k = 0; k < deg; ++k) {
+        if (m.atom(nb[k]).atomic_number == 1) continue;  // hydrogens are never written
+        adj_.push_back({nb[k], bond_rank(m.bond(bid[k]).order) << 24});
+      }
+      adj_off_[i + 1] = static_cast<std::uint32_t>(adj_.size());
+    }
+    stamp_.assign(count, 0);
+    level_.assign(count, kOutside);
+    local_.assign(count, 0);
+  }
+
+  // Computes the spheres of `centre`; read them with code() or append_sphere().
+  void run(std::uint32_t centre) {
+    build_region(centre);
+    const std::size_t r = region_.size();
+    closed_.assign(r, -1);
+    block_off_.assign(r, kNone);
+    // Stamped scratch keeps its counters across centres, so it only grows.
+    if (pi_.size() < r) {
+      for (auto *v : {&member_stamp_, &pi_, &pi_stamp_, &image_stamp_, &role_, &role_stamp_}) v->resize(r, 0);
+    }
+    pool_.clear();
+    generate(0, 0, centre);
+  }
+
+  std::string centre_text(std::uint32_t centre) const {
+    std::string s = Molecule::element_symbol(mol_.atom(centre).atomic_number);
+    append_charge(s, mol_.atom(centre).formal_charge);
+    s += '-';
+    s += std::to_string(mol_.degree(centre));
+    return s;
+  }
+
+  // Text of sphere `s` (1-based) from the last run().
+  void append_sphere(std::string &out, int s) const {
+    const Frame &f = frames_[0];
+    const std::uint32_t b = f.out_off[static_cast<std::size_t>(s - 1)];
+    const std::uint32_t e = f.out_off[static_cast<std::size_t>(s)];
+    for (std::uint32_t i = b; i < e; ++i) {
+      if (f.out[i] == kEndOfGroup) {
+        if (i + 1 < e) out += ',';
+      } else {
+        append_token(out, f.out[i]);
+      }
+    }
+  }
+
+  // For a hydrogen bonded to the last centre X by `bond`: its code. Seen from
+  // the hydrogen, sphere 1 is X and sphere k+1 is X's sphere k, because
+  // hydrogens are never written; codes being prefix-stable, X's first n-1
+  // spheres are those of its own (n-1)-sphere code.
+  std::string hydrogen_code(std::uint32_t h, std::uint32_t centre, BondOrder bond) const {
+    std::string s = centre_text(h);
+    s += ';';
+    const std::uint32_t rank = bond_rank(bond);
+    if (rank < 3) s += bond_symbol(rank)[0];
+    append_symbol(s, mol_.atom(centre).atomic_number);
+    append_charge(s, mol_.atom(centre).formal_charge);
+    if (n_ >= 2) {
+      s += '(';
+      for (int k = 1; k < n_; ++k) {
+        if (k > 1) s += '/';
+        append_sphere(s, k);
+      }
+      s += ')';
+    }
+    return s;
+  }
+
+  std::string code(std::uint32_t centre) const {
+    std::string s = centre_text(centre);
+    s.reserve(s.size() + 8 * frames_[0].out.size() / 3 + 16);
+    s += ';';
+    append_sphere(s, 1);
+    if (n_ >= 2) {
+      s += '(';
+      for (int k = 2; k <= n_; ++k) {
+        if (k > 2) s += '/';
+        append_sphere(s, k);
+      }
+      s += ')';
+    }
+    return s;
+  }
+
+ private:
+  static void bump(std::uint32_t &counter, std::vector<std::uint32_t> &stamps,
+                   std::vector<std::uint32_t> *more = nullptr) {
+    if (++counter != 0) return;
+    std::fill(stamps.begin(), stamps.end(), 0);
+    if (more) std::fill(more->begin(), more->end(), 0);
+    counter = 1;
+  }
+
+  int level_of(std::uint32_t a) const noexcept { return stamp_[a] == cur_ ? level_[a] : kOutside; }
+  std::uint32_t level_size(int k) const noexcept { return level_start_[k + 1] - level_start_[k]; }
+
+  void build_region(std::uint32_t centre) {
+    if (++cur_ == 0) {  // stamp wrapped: forget every old mark
+      std::fill(stamp_.begin(), stamp_.end(), 0);
+      cur_ = 1;
+    }
+    region_.clear();
+    region_.push_back(centre);
+    stamp_[centre] = cur_;
+    level_[centre] = 0;
+    local_[centre] = 0;
+    level_start_[0] = 0;
+    level_start_[1] = 1;
+    for (int d = 0; d < n_; ++d) {
+      for (std::uint32_t i = level_start_[d]; i < level_start_[d + 1]; ++i) {
+        const std::uint32_t a = region_[i];
+        for (std::uint32_t k = adj_off_[a]; k < adj_off_[a + 1]; ++k) {
+          const std::uint32_t z = adj_[k].atom;
+          if (stamp_[z] == cur_) continue;
+          stamp_[z] = cur_;
+          level_[z] = static_cast<std::uint8_t>(d + 1);
+          local_[z] = static_cast<std::uint32_t>(region_.size());
+          region_.push_back(z);
+        }
+      }
+      level_start_[d + 2] = static_cast<std::uint32_t>(region_.size());
+    }
+  }
+
+  // A branch with nothing to write after its own (empty) group.
+  bool trivial(std::uint32_t y, int k) const {
+    for (std::uint32_t j = adj_off_[y]; j < adj_off_[y + 1]; ++j) {
+      const int lz = level_of(adj_[j].atom);
+      if (lz == k || lz == k + 1) return false;
+    }
+    return true;
+  }
+
+  // True if every atom reachable from y away from the centre (within the
+  // spheres) is reached only through y's branch and has no bond that will be
+  // written to an atom outside it.
+  bool closed(std::uint32_t y) {
+    const std::uint32_t ly = local_[y];
+    if (closed_[ly] >= 0) return closed_[ly] == 1;
+    bump(member_cur_, member_stamp_);
+    list_.clear();
+    list_.push_back(y);
+    member_stamp_[ly] = member_cur_;
+    for (std::size_t i = 0; i < list_.size(); ++i) {
+      const std::uint32_t a = list_[i];
+      const int la = level_[a];
+      for (std::uint32_t j = adj_off_[a]; j < adj_off_[a + 1]; ++j) {
+        const std::uint32_t z = adj_[j].atom;
+        if (level_of(z) != la + 1) continue;
+        if (member_stamp_[local_[z]] == member_cur_) continue;
+        member_stamp_[local_[z]] = member_cur_;
+        list_.push_back(z);
+      }
+    }
+    bool ok = true;
+    for (std::size_t i = 0; i < list_.size() && ok; ++i) {
+      const std::uint32_t a = list_[i];
+      const int la = level_[a];
+      for (std::uint32_t j = adj_off_[a]; j < adj_off_[a + 1] && ok; ++j) {
+        const std::uint32_t z = adj_[j].atom;
+        const int lz = level_of(z);
+        const bool inside = lz != kOutside && member_stamp_[local_[z]] == member_cur_;
+        if (lz == la - 1 && a != y && !inside) ok = false;
+        if (lz == la && la < n_ && !inside) ok = false;
+      }
+    }
+    closed_[ly] = ok ? 1 : 0;
+    return ok;
+  }
+
+  // Offset in pool_ of y's branch text: for each sphere k+1..n, a length and
+  // that many tokens.
+  std::uint32_t block(std::uint32_t y, int k, int caller_frame) {
+    const std::uint32_t ly = local_[y];
+    if (block_off_[ly] != kNone) return block_off_[ly];
+    if (trivial(y, k)) {
+      const auto off = static_cast<std::uint32_t>(pool_.size());
+      for (int m = k + 1; m <= n_; ++m) {
+        if (m == k + 1) {
+          pool_.push_back(1);
+          pool_.push_back(kEndOfGroup);
+        } else {
+          pool_.push_back(0);
+        }
+      }
+      block_off_[ly] = off;
+      return off;
+    }
+    if (k <= caller_frame) throw InternalError("HOSE code: branch pass would reuse a busy frame");
+    generate(k, k, y);
+    const Frame &f = frames_[static_cast<std::size_t>(k)];
+    const auto off = static_cast<std::uint32_t>(pool_.size());
+    for (std::size_t s = 0; s + 1 < f.out_off.size(); ++s) {
+      pool_.push_back(f.out_off[s + 1] - f.out_off[s]);
+      pool_.insert(pool_.end(), f.out.begin() + f.out_off[s], f.out.begin() + f.out_off[s + 1]);
+    }
+    block_off_[ly] = off;
+    return off;
+  }
+
+  int compare_blocks(std::uint32_t a, std::uint32_t b, int k) const {
+    for (int m = k + 1; m <= n_; ++m) {
+      const std::uint32_t la = pool_[a], lb = pool_[b];
+      const int c = compare_groups(&pool_[a + 1], la, &pool_[b + 1], lb);
+      if (c != 0) return c;
+      a += la + 1;
+      b += lb + 1;
+    }
+    return 0;
+  }
+
+  // Writes spheres k0+1..n of the branch starting at atom `start` (level k0)
+  // into frames_[fi].out.
+  void generate(int fi, int k0, std::uint32_t start) {
+    Frame &f = frames_[static_cast<std::size_t>(fi)];
+    f.seqs.assign(1, start);
+    f.states = 1;
+    f.len = 1;
+    f.runs.clear();
+    f.run_at.assign(1, -1);
+    f.out.clear();
+    f.out_off.assign(1, 0);
+    for (int k = k0; k < n_; ++k) {
+      step(f, fi, k);
+      f.out_off.push_back(static_cast<std::uint32_t>(f.out.size()));
+    }
+  }
+
+  // Group of atom y (level k) in partial layout p: its entries, sorted, are
+  // appended to `tokens`, the atoms it writes for the first time to `reals`.
+  void eval_group(Frame &f, const Partials &P, std::size_t p, std::size_t W, int k, std::uint32_t y,
+                  std::vector<std::uint32_t> &tokens, std::vector<std::uint32_t> &reals) {
+    f.entries.clear();
+    const std::uint64_t *marks = P.marks.data() + p * W;
+    const std::uint32_t base = level_start_[k];
+    for (std::uint32_t j = adj_off_[y]; j < adj_off_[y + 1]; ++j) {
+      const std::uint32_t z = adj_[j].atom;
+      const int lz = level_of(z);
+      if (lz != k && lz != k + 1) continue;  // k-1: that bond is already written
+      const std::uint32_t bit = local_[z] - base;
+      const bool marked = (marks[bit >> 6] >> (bit & 63)) & 1u;
+      if (lz == k) {
+        // A bond inside the sphere is written once, by the atom expanded first.
+        if (!marked) f.entries.emplace_back(adj_[j].bond | kRingClosureKind << 12, kNone);
+      } else if (marked) {
+        f.entries.emplace_back(adj_[j].bond | kRingClosureKind << 12, kNone);
+      } else {
+        f.entries.emplace_back(adj_[j].bond | atom_tok_[z], z);
+      }
+    }
+    // Insertion sort: groups hold a handful of entries.
+    for (std::size_t i = 1; i < f.entries.size(); ++i) {
+      auto v = f.entries[i];
+      std::size_t j = i;
+      for (; j > 0 && v < f.entries[j - 1]; --j) f.entries[j] = f.entries[j - 1];
+      f.entries[j] = v;
+    }
+    for (const auto &e : f.entries) {
+      tokens.push_back(e.first);
+      if (e.second != kNone) reals.push_back(e.second);
+    }
+  }
+
+  void apply(Frame &f, Partials &P, std::size_t p, std::size_t W, std::size_t L, std::size_t L1,
+             std::size_t filled, int k, std::uint32_t pos, const Candidate &c) {
+    std::uint32_t *seq = P.seq.data() + p * L;
+    std::swap(seq[pos], seq[c.position]);
+    std::uint64_t *marks = P.marks.data() + p * W;
+    const std::uint32_t base = level_start_[k];
+    const std::uint32_t ybit = local_[seq[pos]] - base;
+    marks[ybit >> 6] |= std::uint64_t{1} << (ybit & 63);
+    std::uint32_t *next = P.next.data() + p * L1;
+    for (std::uint32_t i = 0; i < c.real_len; ++i) {
+      const std::uint32_t z = f.creal[c.real_off + i];
+      const std::uint32_t bit = local_[z] - base;
+      marks[bit >> 6] |= std::uint64_t{1} << (bit & 63);
+      next[filled + i] = z;
+    }
+  }
+
+  void resize_partials(Partials &P, std::size_t count, std::size_t L, std::size_t W, std::size_t L1) {
+    P.count = count;
+    if (P.seq.size() < count * L) P.seq.resize(count * L);
+    if (P.marks.size() < count * W) P.marks.resize(count * W);
+    if (P.next.size() < count * L1) P.next.resize(count * L1);
+    if (P.source.size() < count) P.source.resize(count);
+  }
+
+  // Partial layouts whose remaining atoms, marks and written atoms agree have
+  // the same future; keep one of each.
+  void dedupe(Frame &f, std::size_t L, std::size_t W, std::size_t L1, std::size_t upto, std::size_t filled) {
+    Partials &P = f.cur;
+    if (P.count < 2) return;
+    // The unplaced members of an open run form a set: sort them by index.
+    const std::size_t R = f.runs.size() / 2;
+    if (upto < L && upto > 0 && f.run_at[upto] >= 0 && f.run_at[upto - 1] == f.run_at[upto]) {
+      const auto r = static_cast<std::size_t>(f.run_at[upto]);
+      for (std::size_t p = 0; p < P.count; ++p)
+        if (f.open[P.source[p] * R + r] == kRunSearch)
+          std::sort(P.seq.data() + p * L + upto, P.seq.data() + p * L + f.runs[2 * r + 1]);
+    }
+    auto less = [&](std::uint32_t a, std::uint32_t b) {
+      const auto *sa = P.seq.data() + a * L, *sb = P.seq.data() + b * L;
+      for (std::size_t i = upto; i < L; ++i)
+        if (sa[i] != sb[i]) return sa[i] < sb[i];
+      const auto *ma = P.marks.data() + a * W, *mb = P.marks.data() + b * W;
+      for (std::size_t i = 0; i < W; ++i)
+        if (ma[i] != mb[i]) return ma[i] < mb[i];
+      const auto *na = P.next.data() + a * L1, *nb = P.next.data() + b * L1;
+      for (std::size_t i = 0; i < filled; ++i)
+        if (na[i] != nb[i]) return na[i] < nb[i];
+      return false;
+    };
+    f.order.resize(P.count);
+    for (std::uint32_t i = 0; i < P.count; ++i) f.order[i] = i;
+    std::sort(f.order.begin(), f.order.end(), less);
+    std::size_t kept = 0;
+    for (std::size_t i = 0; i < f.order.size(); ++i)
+      if (i == 0 || less(f.order[kept - 1], f.order[i])) f.order[kept++] = f.order[i];
+    kept = std::min(kept, kMaxBeam);
+    if (kept == P.count) return;
+    Partials &Q = f.alt;
+    resize_partials(Q, kept, L, W, L1);
+    for (std::size_t i = 0; i < kept; ++i) {
+      const std::size_t s = f.order[i];
+      std::copy_n(P.seq.data() + s * L, L, Q.seq.data() + i * L);
+      std::copy_n(P.marks.data() + s * W, W, Q.marks.data() + i * W);
+      std::copy_n(P.next.data() + s * L1, filled, Q.next.data() + i * L1);
+      Q.source[i] = P.source[s];
+    }
+    std::swap(f.cur, f.alt);
+  }
+
+  // Roles of atoms in a partial layout for the symmetry test: fixed (their
+  // place is decided), members of one still unordered run, or free (level
+  // k+1 atoms not yet written and everything deeper).
+  static constexpr std::uint32_t kRoleFree = 0, kRoleFixed = 1, kRoleSet = 2;
+
+  std::uint32_t role_of(std::uint32_t a) const {
+    const std::uint32_t l = local_[a];
+    return role_stamp_[l] == role_cur_ ? role_[l] : kRoleFree;
+  }
+
+  void set_roles(const Frame &f, const Partials &P, std::size_t p, std::size_t pos, std::size_t L,
+                 std::size_t L1, std::size_t filled, int k) {
+    bump(role_cur_, role_stamp_);
+    // Level-k atoms outside this pass (another branch) keep still.
+    for (std::uint32_t l = level_start_[k]; l < level_start_[k + 1]; ++l) {
+      role_[l] = kRoleFixed;
+      role_stamp_[l] = role_cur_;
+    }
+    const std::size_t R = f.runs.size() / 2;
+    const std::uint32_t *seq = P.seq.data() + p * L;
+    for (std::size_t i = pos; i < L; ++i) {
+      const std::int32_t r = f.run_at[i];
+      const std::uint8_t mode = r >= 0 ? f.open[P.source[p] * R + static_cast<std::size_t>(r)] : kRunFixed;
+      if (mode != kRunFixed) role_[local_[seq[i]]] = kRoleSet + static_cast<std::uint32_t>(r);
+    }
+    const std::uint32_t *next = P.next.data() + p * L1;
+    for (std::size_t i = 0; i < filled; ++i) {
+      role_[local_[next[i]]] = kRoleFixed;
+      role_stamp_[local_[next[i]]] = role_cur_;
+    }
+  }
+
+  std::uint32_t domain_degree(std::uint32_t a, int k) const {
+    std::uint32_t d = 0;
+    for (std::uint32_t j = adj_off_[a]; j < adj_off_[a + 1]; ++j) {
+      const int l = level_of(adj_[j].atom);
+      if (l != kOutside && l >= k) ++d;
+    }
+    return d;
+  }
+
+  bool bonded(std::uint32_t a, std::uint32_t b, std::uint32_t bond) const {
+    for (std::uint32_t j = adj_off_[a]; j < adj_off_[a + 1]; ++j)
+      if (adj_[j].atom == b) return adj_[j].bond == bond;
+    return false;
+  }
+
+  // True if a symmetry of the graph of levels >= k maps x onto y while keeping
+  // the partial layout (roles set by set_roles): then placing x or y first
+  // gives the same code and one branch is enough. The mapping is built by
+  // matching neighbours and closed as an involution (mirror images, exchanged
+  // branches); it is then complete and checked, so a "true" is a proof. A
+  // "false" only costs a branch.
+  bool symmetric(int k, std::uint32_t x, std::uint32_t y) {
+    bump(cert_cur_, pi_stamp_, &image_stamp_);
+    queue_.clear();
+    auto mapped = [&](std::uint32_t a) { return pi_stamp_[local_[a]] == cert_cur_; };
+    auto is_image = [&](std::uint32_t b) { return image_stamp_[local_[b]] == cert_cur_; };
+    auto map = [&](std::uint32_t a, std::uint32_t b) {
+      pi_[local_[a]] = b;
+      pi_stamp_[local_[a]] = cert_cur_;
+      image_stamp_[local_[b]] = cert_cur_;
+      queue_.emplace_back(a, b);
+    };
+    map(x, y);
+    std::size_t head = 0;
+    for (;;) {
+      while (head < queue_.size()) {
+        const std::uint32_t a = queue_[head].first, b = queue_[head].second;
+        ++head;
+        const std::uint32_t role = role_of(a);
+        if (level_[a] != level_[b] || atom_tok_[a] != atom_tok_[b] || role != role_of(b) ||
+            (role == kRoleFixed && a != b) || domain_degree(a, k) != domain_degree(b, k))
+          return false;
+        for (std::uint32_t j = adj_off_[a]; j < adj_off_[a + 1]; ++j) {
+          const std::uint32_t u = adj_[j].atom, bond = adj_[j].bond;
+          const int lu = level_of(u);
+          if (lu == kOutside || lu < k) continue;
+          if (mapped(u)) {
+            if (!bonded(b, pi_[local_[u]], bond)) return false;
+            continue;
+          }
+          std::uint32_t pick = kNone;
+          if (!is_image(u) && bonded(b, u, bond)) pick = u;
+          for (int pass = 0; pass < 2 && pick == kNone; ++pass) {
+            for (std::uint32_t i = adj_off_[b]; i < adj_off_[b + 1]; ++i) {
+              const std::uint32_t v = adj_[i].atom;
+              if (adj_[i].bond != bond || level_of(v) != lu || is_image(v) || atom_tok_[v] != atom_tok_[u] ||
+                  role_of(v) != role_of(u))
+                continue;
+              if (pass == 0 && ranks_ && (*ranks_)[u] != (*ranks_)[v]) continue;
+              pick = v;
+              break;
+            }
+          }
+          if (pick == kNone) return false;
+          map(u, pick);
+        }
+      }
+      bool grew = false;
+      const std::size_t count = queue_.size();
+      for (std::size_t i = 0; i < count; ++i) {
+        const std::uint32_t a = queue_[i].first, b = queue_[i].second;
+        if (mapped(b)) continue;
+        if (is_image(a)) return false;
+        map(b, a);
+        grew = true;
+      }
+      if (!grew) return true;
+    }
+  }
+
+
+  // Among the best candidates of one partial layout, drops those that a
+  // symmetry maps onto a candidate already kept.
+  void prune_symmetric(Frame &f, const Partials &P, std::size_t pos, std::size_t L, std::size_t L1,
+                       std::size_t filled, int k) {
+    std::size_t out = 0;
+    for (std::size_t i = 0; i < keep_.size();) {
+      const std::uint32_t p = f.cands[keep_[i]].partial;
+      std::size_t j = i;
+      while (j < keep_.size() && f.cands[keep_[j]].partial == p) ++j;
+      if (j - i > 1) set_roles(f, P, p, pos, L, L1, filled, k);
+      const std::size_t first = out;
+      for (std::size_t t = i; t < j; ++t) {
+        const std::uint32_t y = P.seq[p * L + f.cands[keep_[t]].position];
+        bool dup = false;
+        for (std::size_t u = first; u < out && !dup; ++u)
+          dup = symmetric(k, P.seq[p * L + f.cands[keep_[u]].position], y);
+        if (!dup) keep_[out++] = keep_[t];
+      }
+      i = j;
+    }
+    keep_.resize(out);
+  }
+
+  // Writes sphere k+1 from the beam of level-k layouts in f.
+  void step(Frame &f, int fi, int k) {
+    // A pass over one branch writes only part of each level: L is what it
+    // holds now, L1 bounds what it can write next, W covers both levels.
+    const std::size_t L = f.len;
+    const std::size_t L1 = level_size(k + 1);
+    const std::size_t W = (level_size(k) + L1 + 63) / 64;
+    const std::size_t R = f.runs.size() / 2;
+
+    // 1. Runs of tied siblings: nothing to do, sort closed branches by their
+    //    own text, or leave open for the search below.
+    f.open.assign(f.states * R, 0);
+    for (std::size_t s = 0; s < f.states; ++s) {
+      for (std::size_t r = 0; r < R; ++r) {
+        std::uint32_t *seg = f.seqs.data() + s * L + f.runs[2 * r];
+        const std::size_t len = f.runs[2 * r + 1] - f.runs[2 * r];
+        bool all_trivial = true, all_closed = true;
+        for (std::size_t i = 0; i < len && all_closed; ++i) {
+          if (trivial(seg[i], k)) continue;
+          all_trivial = false;
+          if (!closed(seg[i])) all_closed = false;
+        }
+        if (all_trivial) {
+          f.open[s * R + r] = kRunNoFuture;
+          continue;
+        }
+        if (!all_closed) {
+          f.open[s * R + r] = kRunSearch;
+          continue;
+        }
+        for (std::size_t i = 0; i < len; ++i) block(seg[i], k, fi);
+        std::sort(seg, seg + len, [&](std::uint32_t a, std::uint32_t b) {
+          const int c = compare_blocks(block_off_[local_[a]], block_off_[local_[b]], k);
+          return c != 0 ? c < 0 : a < b;
+        });
+      }
+    }
+
+    // 2. Place the level-k atoms one position at a time.
+    Partials &P0 = f.cur;
+    resize_partials(P0, f.states, L, W, L1);
+    std::copy_n(f.seqs.begin(), f.states * L, P0.seq.begin());
+    std::fill_n(P0.marks.data(), f.states * W, std::uint64_t{0});
+    for (std::size_t s = 0; s < f.states; ++s) P0.source[s] = static_cast<std::uint32_t>(s);
+    std::size_t filled = 0;
+    for (std::size_t pos = 0; pos < L; ++pos) {
+      Partials &P = f.cur;
+      const std::int32_t r = f.run_at[pos];
+      if (P.count == 1 && (r < 0 || f.open[P.source[0] * R + static_cast<std::size_t>(r)] != kRunSearch)) {
+        // The usual case: one layout, nothing to choose.
+        f.creal.clear();
+        eval_group(f, P, 0, W, k, P.seq[pos], f.out, f.creal);
+        f.out.push_back(kEndOfGroup);
+        const Candidate c{0, static_cast<std::uint32_t>(pos), 0, 0, 0, static_cast<std::uint32_t>(f.creal.size())};
+        apply(f, P, 0, W, L, L1, filled, k, static_cast<std::uint32_t>(pos), c);
+        filled += f.creal.size();
+        continue;
+      }
+      f.cands.clear();
+      f.ctok.clear();
+      f.creal.clear();
+      std::size_t best = 0;
+      for (std::size_t p = 0; p < P.count; ++p) {
+        const bool search = r >= 0 && f.open[P.source[p] * R + static_cast<std::size_t>(r)] == kRunSearch;
+        const std::size_t last = search ? f.runs[2 * static_cast<std::size_t>(r) + 1] : pos + 1;
+        for (std::size_t c = pos; c < last; ++c) {
+          Candidate cand{static_cast<std::uint32_t>(p), static_cast<std::uint32_t>(c),
+                         static_cast<std::uint32_t>(f.ctok.size()), 0, static_cast<std::uint32_t>(f.creal.size()), 0};
+          eval_group(f, P, p, W, k, P.seq[p * L + c], f.ctok, f.creal);
+          cand.tok_len = static_cast<std::uint32_t>(f.ctok.size()) - cand.tok_off;
+          cand.real_len = static_cast<std::uint32_t>(f.creal.size()) - cand.real_off;
+          f.cands.push_back(cand);
+          if (f.cands.size() > 1) {
+            const Candidate &b = f.cands[best];
+            if (compare_groups(&f.ctok[cand.tok_off], cand.tok_len, &f.ctok[b.tok_off], b.tok_len) < 0)
+              best = f.cands.size() - 1;
+          }
+        }
+      }
+      const Candidate bc = f.cands[best];
+      auto ties_best = [&](const Candidate &c) {
+        return compare_groups(&f.ctok[c.tok_off], c.tok_len, &f.ctok[bc.tok_off], bc.tok_len) == 0;
+      };
+      keep_.clear();
+      for (std::uint32_t i = 0; i < f.cands.size(); ++i)
+        if (i == best || ties_best(f.cands[i])) keep_.push_back(i);
+      if (keep_.size() > 1) prune_symmetric(f, P, pos, L, L1, filled, k);
+      if (P.count == 1 && keep_.size() == 1) {
+        apply(f, P, 0, W, L, L1, filled, k, static_cast<std::uint32_t>(pos), f.cands[keep_[0]]);
+      } else {
+        Partials &Q = f.alt;
+        resize_partials(Q, keep_.size(), L, W, L1);
+        for (std::size_t q = 0; q < keep_.size(); ++q) {
+          const Candidate &c = f.cands[keep_[q]];
+          std::copy_n(P.seq.data() + c.partial * L, L, Q.seq.data() + q * L);
+          std::copy_n(P.marks.data() + c.partial * W, W, Q.marks.data() + q * W);
+          std::copy_n(P.next.data() + c.partial * L1, filled, Q.next.data() + q * L1);
+          Q.source[q] = P.source[c.partial];
+          apply(f, Q, q, W, L, L1, filled, k, static_cast<std::uint32_t>(pos), c);
+        }
+        std::swap(f.cur, f.alt);
+        dedupe(f, L, W, L1, pos + 1, filled + bc.real_len);
+      }
+      f.out.insert(f.out.end(), f.ctok.begin() + bc.tok_off, f.ctok.begin() + bc.tok_off + bc.tok_len);
+      f.out.push_back(kEndOfGroup);
+      filled += bc.real_len;
+    }
+
+    // 3. The surviving layouts become the beam of level k+1; tied siblings
+    //    of this sphere become its runs.
+    const Partials &P = f.cur;
+    f.states = P.count;
+    f.len = filled;
+    f.seqs.resize(f.states * filled);
+    for (std::size_t s = 0; s < f.states; ++s)
+      std::copy_n(P.next.data() + s * L1, filled, f.seqs.data() + s * filled);
+    f.runs.clear();
+    f.run_at.assign(filled, -1);
+    const std::size_t sphere_begin = f.out_off.back();
+    std::uint32_t pos = 0;
+    std::size_t i = sphere_begin;
+    while (i < f.out.size()) {
+      const std::uint32_t t = f.out[i];
+      if (t == kEndOfGroup || !is_real(t)) {
+        ++i;
+        continue;
+      }
+      std::size_t j = i + 1;
+      while (j < f.out.size() && f.out[j] == t) ++j;
+      const auto len = static_cast<std::uint32_t>(j - i);
+      if (len > 1) {
+        for (std::uint32_t q = pos; q < pos + len; ++q) f.run_at[q] = static_cast<std::int32_t>(f.runs.size() / 2);
+        f.runs.push_back(pos);
+        f.runs.push_back(pos + len);
+      }
+      pos += len;
+      i = j;
+    }
+  }
+
+  const Molecule &mol_;
+  int n_;
+  const std::vector<std::uint32_t> *ranks_;
+  std::vector<std::uint32_t> adj_off_;
+  std::vector<Neighbour> adj_;
+  std::vector<std::uint32_t> atom_tok_;
+  std::vector<std::uint32_t> stamp_;
+  std::vector<std::uint8_t> level_;
+  std::vector<std::uint32_t> local_;
+  std::uint32_t cur_ = 0;
+  std::vector<std::uint32_t> region_;
+  std::array<std::uint32_t, kMaxHoseSpheres + 2> level_start_{};
+  std::vector<std::int8_t> closed_;
+  std::vector<std::uint32_t> block_off_;
+  std::vector<std::uint32_t> pool_;
+  std::vector<std::uint32_t> member_stamp_;
+  std::uint32_t member_cur_ = 0;  // stamps of the closedness test
+  std::vector<std::uint32_t> list_;
+  // Symmetry test scratch, indexed by local id.
+  std::vector<std::uint32_t> pi_, pi_stamp_, image_stamp_, role_, role_stamp_;
+  std::uint32_t cert_cur_ = 0, role_cur_ = 0;
+  std::vector<std::pair<std::uint32_t, std::uint32_t>> queue_;
+  std::vector<std::uint32_t> keep_;
+  std::array<Frame, kMaxHoseSpheres + 1> frames_;
+};
+
+void check_request(const Molecule &m, const AtomClasses &classes, int spheres) {
+  if (spheres < 1 || spheres > kMaxHoseSpheres)
+    throw ArgumentError(fmt::format("HOSE code: {} spheres requested; allowed are 1 to {}", spheres, kMaxHoseSpheres));
+  if (classes.topological.size() != m.atom_count())
+    throw ArgumentError(fmt::format("HOSE code: classes cover {} atoms but the molecule has {}",
+                                    classes.topological.size(), m.atom_count()));
+}
+
+void check_atom(const Molecule &m, std::size_t atom) {
+  if (atom >= m.atom_count())
+    throw ArgumentError(
+        fmt::format("HOSE code: atom index {} is out of range (molecule has {} atoms)", atom, m.atom_count()));
+}
+
+}  // namespace
+
+std::string hose_code(const Molecule &molecule, const AtomClasses &classes, std::size_t atom, int spheres) {
+  check_request(molecule, classes, spheres);
+  check_atom(molecule, atom);
+  Engine engine(molecule, spheres, classes.invariant_rank);
+  engine.run(static_cast<std::uint32_t>(atom));
+  return engine.code(static_cast<std::uint32_t>(atom));
+}
+
+std::vector<std::string> hose_spheres(const Molecule &molecule, const AtomClasses &classes, std::size_t atom,
+                                      int spheres) {
+  check_request(molecule, classes, spheres);
+  check_atom(molecule, atom);
+  Engine engine(molecule, spheres, classes.invariant_rank);
+  engine.run(static_cast<std::uint32_t>(atom));
+  std::vector<std::string> parts;
+  parts.reserve(static_cast<std::size_t>(spheres) + 1);
+  parts.push_back(engine.centre_text(static_cast<std::uint32_t>(atom)));
+  for (int k = 1; k <= spheres; ++k) {
+    parts.emplace_back();
+    engine.append_sphere(parts.back(), k);
+  }
+  return parts;
+}
+
+std::vector<std::string> hose_codes(const Molecule &molecule, const AtomClasses &classes, int spheres) {
+  check_request(molecule, classes, spheres);
+  const std::size_t count = molecule.atom_count();
+  std::vector<std::string> codes(count);
+  if (count == 0) return codes;
+  Engine engine(molecule, spheres, classes.invariant_rank);
+  // Atoms of one topological class are exchanged by an automorphism, so each
+  // class is computed once. Terminal hydrogens take their code from the run of
+  // their heavy atom (see Engine::hydrogen_code), grouped by the bond to it.
+  std::uint32_t max_class = 0;
+  for (auto c : classes.topological) max_class = std::max(max_class, c);
+  std::vector<std::uint32_t> by_class(static_cast<std::size_t>(max_class) + 1, kNone);
+  std::vector<std::uint32_t> pending;  // hydrogens on the current heavy atom
+  const std::size_t heavy = molecule.heavy_atom_count();
+  std::vector<std::vector<std::uint32_t>> terminal_h(heavy);
+  for (std::size_t h = heavy; h < count; ++h) {
+    const std::int64_t parent = molecule.attached_to(h);
+    if (molecule.degree(h) == 1 && parent >= 0 && static_cast<std::size_t>(parent) < heavy)
+      terminal_h[static_cast<std::size_t>(parent)].push_back(static_cast<std::uint32_t>(h));
+  }
+  auto take_class = [&](std::size_t a) {
+    const std::uint32_t rep = by_class[classes.topological[a]];
+    if (rep == kNone) return false;
+    codes[a] = codes[rep];
+    return true;
+  };
+  for (std::size_t a = 0; a < heavy; ++a) {
+    pending.clear();
+    for (auto h : terminal_h[a])
+      if (!take_class(h)) pending.push_back(h);
+    const bool heavy_done = take_class(a);
+    if (heavy_done && pending.empty()) continue;
+    engine.run(static_cast<std::uint32_t>(a));
+    if (!heavy_done) {
+      codes[a] = engine.code(static_cast<std::uint32_t>(a));
+      by_class[classes.topological[a]] = static_cast<std::uint32_t>(a);
+    }
+    for (auto h : pending) {
+      if (take_class(h)) continue;
+      const auto b = static_cast<std::size_t>(molecule.bond_between(h, a));
+      codes[h] = engine.hydrogen_code(h, static_cast<std::uint32_t>(a), molecule.bond(b).order);
+      by_class[classes.topological[h]] = h;
+    }
+  }
+  // Hydrogens bonded to no heavy atom, or to more than one atom.
+  for (std::size_t h = heavy; h < count; ++h) {
+    if (!codes[h].empty() || take_class(h)) continue;
+    engine.run(static_cast<std::uint32_t>(h));
+    codes[h] = engine.code(static_cast<std::uint32_t>(h));
+    by_class[classes.topological[h]] = static_cast<std::uint32_t>(h);
+  }
+  return codes;
+}
+
+std::string join_hose_spheres(const std::vector<std::string> &parts, int spheres) {
+  if (spheres < 1 || spheres > kMaxHoseSpheres)
+    throw ArgumentError(fmt::format("HOSE code: {} spheres requested; allowed are 1 to {}", spheres, kMaxHoseSpheres));
+  if (parts.size() < static_cast<std::size_t>(spheres) + 1)
+    throw ArgumentError(fmt::format("HOSE code: {} spheres requested but only {} given", spheres,
+                                    parts.empty() ? 0 : parts.size() - 1));
+  std::string s = parts[0];
+  s += ';';
+  s += parts[1];
+  if (spheres >= 2) {
+    s += '(';
+    for (int k = 2; k <= spheres; ++k) {
+      if (k > 2) s += '/';
+      s += parts[static_cast<std::size_t>(k)];
+    }
+    s += ')';
+  }
+  return s;
+}
+
+std::vector<std::string> split_hose_code(std::string_view code) {
+  auto bad = [&](const char *why) {
+    return InputError(fmt::format("HOSE code \"{}\": {}", code, why));
+  };
+  const std::size_t semi = code.find(';');
+  if (semi == std::string_view::npos) throw bad("no ';' after the centre");
+  if (semi == 0) throw bad("the centre is empty");
+  std::vector<std::string> parts;
+  parts.emplace_back(code.substr(0, semi));
+  const std::string_view rest = code.substr(semi + 1);
+  const std::size_t open = rest.find('(');
+  if (open == std::string_view::npos) {
+    if (rest.find_first_of(";/)") != std::string_view::npos) throw bad("unexpected ';', '/' or ')' in sphere 1");
+    parts.emplace_back(rest);
+    return parts;
+  }
+  if (rest.back() != ')') throw bad("missing ')' at the end");
+  const std::string_view first = rest.substr(0, open);
+  const std::string_view inner = rest.substr(open + 1, rest.size() - open - 2);
+  if (first.find_first_of(";/)") != std::string_view::npos) throw bad("unexpected ';', '/' or ')' in sphere 1");
+  if (inner.find_first_of(";()") != std::string_view::npos) throw bad("unexpected ';', '(' or ')' inside the brackets");
+  parts.emplace_back(first);
+  std::size_t b = 0;
+  for (;;) {
+    const std::size_t e = inner.find('/', b);
+    parts.emplace_back(inner.substr(b, e == std::string_view::npos ? std::string_view::npos : e - b));
+    if (e == std::string_view::npos) break;
+    b = e + 1;
+  }
+  if (parts.size() - 1 > static_cast<std::size_t>(kMaxHoseSpheres)) throw bad("more than 6 spheres");
+  return parts;
+}
+
+}  // namespace nmrpred
