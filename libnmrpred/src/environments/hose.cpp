@@ -732,14 +732,14 @@ class Engine {
           f.cands.push_back(cand);
           if (f.cands.size() > 1) {
             const Candidate &b = f.cands[best];
-            if (compare_groups(&f.ctok[cand.tok_off], cand.tok_len, &f.ctok[b.tok_off], b.tok_len) < 0)
+            if (compare_groups(f.ctok.data() + cand.tok_off, cand.tok_len, f.ctok.data() + b.tok_off, b.tok_len) < 0)
               best = f.cands.size() - 1;
           }
         }
       }
       const Candidate bc = f.cands[best];
       auto ties_best = [&](const Candidate &c) {
-        return compare_groups(&f.ctok[c.tok_off], c.tok_len, &f.ctok[bc.tok_off], bc.tok_len) == 0;
+        return compare_groups(f.ctok.data() + c.tok_off, c.tok_len, f.ctok.data() + bc.tok_off, bc.tok_len) == 0;
       };
       keep_.clear();
       for (std::uint32_t i = 0; i < f.cands.size(); ++i)

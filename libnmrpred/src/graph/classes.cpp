@@ -111,6 +111,25 @@ bool even_permutation(std::array<std::int32_t, 4> from, const std::array<std::in
   return swaps % 2 == 0;
 }
 
+// A discrete ordering of the atoms that is canonical up to automorphism:
+// individualise an atom of the first non-singleton cell and refine, until every
+// cell is a singleton. Whichever atom of a cell is picked, the orderings
+// obtained differ by a symmetry of the graph, so configurations derived from
+// this order relate to each other the same way for every input atom order.
+std::vector<std::uint32_t> canonical_positions(const Graph &g, Partition p) {
+  RefineScratch s;
+  s.reset(g.n);
+  std::uint32_t first = 0;
+  while (true) {
+    while (first < g.n && p.end[first] - first == 1) ++first;
+    if (first >= g.n) break;
+    detail::individualize(g, p, p.elems[first], s);
+  }
+  std::vector<std::uint32_t> pos(g.n);
+  for (std::uint32_t a = 0; a < g.n; ++a) pos[a] = p.pos[a];
+  return pos;
+}
+
 // Whole-molecule stereo model in molecule indices.
 struct StereoModel {
   std::vector<TetraConfig> tetra;
@@ -118,18 +137,37 @@ struct StereoModel {
   std::vector<std::string> notes;
 };
 
-StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &rank,
+StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &canon,
                          const std::vector<std::uint32_t> &topo) {
   StereoModel sm;
   const std::size_t n = m.atom_count();
+  // Centres whose configuration matters only relative to another one: two
+  // equivalent non-terminal ligands and two different others (cis/trans on a
+  // ring, pseudo-asymmetric atoms). Reported when another stereo element exists.
+  std::vector<std::uint32_t> pseudo;
+  int stereo_elements = 0;
+  auto pseudo_centre = [&](const std::array<std::int32_t, 4> &l, std::vector<std::int64_t> cls) {
+    // cls is sorted; exactly one equal pair, and those ligands are not leaves.
+    int pairs = 0;
+    std::int64_t tied = -2;
+    for (int k = 0; k + 1 < 4; ++k)
+      if (cls[k] == cls[k + 1]) {
+        ++pairs;
+        tied = cls[k];
+      }
+    if (pairs != 1 || tied < 0) return false;
+    for (auto x : l)
+      if (x >= 0 && static_cast<std::int64_t>(topo[x]) == tied && m.degree(x) < 2) return false;
+    return true;
+  };
   std::vector<std::int32_t> given(n, -1);
   for (std::size_t i = 0; i < m.tetrahedral_stereo().size(); ++i) given[m.tetrahedral_stereo()[i].centre] = static_cast<std::int32_t>(i);
   auto by_rank = [&](std::int32_t a, std::int32_t b) {
-    // Lone pair last; then invariant rank; atom index only breaks ties between
-    // atoms of equal rank, where the choice cannot change the classes.
+    // Lone pair last; then the canonical order (a refinement of the invariant
+    // rank), so ties between equivalent ligands are broken the same way,
+    // up to symmetry, for every input atom order.
     if (a < 0 || b < 0) return b < 0 && a >= 0;
-    if (rank[a] != rank[b]) return rank[a] < rank[b];
-    return a < b;
+    return canon[a] < canon[b];
   };
   for (std::uint32_t c = 0; c < n; ++c) {
     const auto deg = m.degree(c);
@@ -140,6 +178,7 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ra
     t.centre = c;
     if (given[c] >= 0) {
       t.lig = m.tetrahedral_stereo()[given[c]].ligands;
+      ++stereo_elements;
     } else {
       std::array<std::int32_t, 4> l{{-1, -1, -1, -1}};
       int k = 0;
@@ -150,12 +189,22 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ra
       std::vector<std::int64_t> cls;
       for (auto x : l) cls.push_back(x < 0 ? -1 : static_cast<std::int64_t>(topo[x]));
       std::sort(cls.begin(), cls.end());
-      if (std::adjacent_find(cls.begin(), cls.end()) == cls.end())
+      if (std::adjacent_find(cls.begin(), cls.end()) == cls.end()) {
         sm.notes.push_back(fmt::format(
             "atom {}: stereocentre without a given configuration; classes are those of one canonical configuration", c));
+        ++stereo_elements;
+      } else if (pseudo_centre(l, cls)) {
+        pseudo.push_back(c);
+      }
     }
     sm.tetra.push_back(t);
   }
+  if (pseudo.size() + static_cast<std::size_t>(stereo_elements) >= 2)
+    for (auto c : pseudo)
+      sm.notes.push_back(fmt::format(
+          "atom {}: relative configuration (cis/trans on a ring, or pseudo-asymmetric) not given; "
+          "classes are those of one canonical diastereomer",
+          c));
   std::map<std::pair<std::uint32_t, std::uint32_t>, const DoubleBondStereo *> given_db;
   for (const auto &d : m.double_bond_stereo()) given_db[{std::min(d.begin, d.end), std::max(d.begin, d.end)}] = &d;
   for (const auto &b : m.bonds()) {
@@ -558,7 +607,7 @@ AtomClasses compute_classes(const Molecule &m) {
 
   std::uint32_t tcount = 0;
   auto topo_pre = dense_ids(topo_uf, n, tcount);
-  const StereoModel sm = build_stereo(m, out.invariant_rank, topo_pre);
+  const StereoModel sm = build_stereo(m, canonical_positions(whole, pw), topo_pre);
 
   std::vector<Graph> stereo_graph;
   stereo_graph.reserve(frag_atoms.size());

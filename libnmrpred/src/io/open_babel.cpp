@@ -205,10 +205,20 @@ RawMolecule extract(ob::OBMol &mol, Format format) {
   return raw;
 }
 
+// Quotes input in a message: at most 60 bytes, control characters written as
+// \xNN so a message never carries terminal escapes or line breaks.
 std::string shorten(std::string_view text) {
   constexpr std::size_t kMax = 60;
-  if (text.size() <= kMax) return std::string(text);
-  return std::string(text.substr(0, kMax)) + "...";
+  std::string out;
+  for (std::size_t i = 0; i < text.size() && i < kMax; ++i) {
+    const auto c = static_cast<unsigned char>(text[i]);
+    if (c < 0x20 || c == 0x7F)
+      out += fmt::format("\\x{:02X}", c);
+    else
+      out += static_cast<char>(c);
+  }
+  if (text.size() > kMax) out += "...";
+  return out;
 }
 
 }  // namespace
