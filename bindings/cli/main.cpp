@@ -1,13 +1,15 @@
-// nmrpred: command-line front end of libnmrpred. Prints JSON Lines, one object
-// per input record (the serializer in nmrpred/predict.hpp), to stdout;
-// diagnostics go to stderr. The library itself never prints.
+// nmrpred: command-line front end of libnmrpred. Prints JSON Lines to stdout:
+// `predict` one object per input record (the serializer in
+// nmrpred/predict.hpp), `reference` one object per reference compound of the
+// tables. Diagnostics go to stderr. The library itself never prints.
 //
 // Exit status: 0 every record succeeded, 1 at least one record failed (or the
 // input held none), 2 the command line could not be carried out (usage error,
-// unreadable file).
+// unreadable file, tables or user reference records that cannot be used).
 
 #include <fstream>
 #include <iostream>
+#include <memory>
 #include <new>
 #include <sstream>
 #include <string>
@@ -23,12 +25,57 @@ constexpr int kExitOk = 0;
 constexpr int kExitRecordFailed = 1;
 constexpr int kExitUsage = 2;
 
+/// Where the tables come from; shared by every subcommand that uses them.
+struct TablesArgs {
+  std::string dir;                      ///< empty: the built-in tables
+  std::vector<std::string> references;  ///< files of user reference records
+};
+
 struct PredictArgs {
   std::vector<std::string> smiles;
   std::string file;
   std::string format = "auto";
   int spheres = nmrpred::kDefaultHoseSpheres;
+  bool blind = false;
+  bool no_shifts = false;
+  TablesArgs tables;
 };
+
+/// The tables cannot be used: the command cannot be carried out (exit 2).
+struct SetupError {
+  std::string message;
+};
+
+std::string read_file(const std::string &path) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) throw SetupError{"cannot open '" + path + "' for reading"};
+  std::ostringstream ss;
+  ss << in.rdbuf();
+  if (in.bad()) throw SetupError{"error while reading '" + path + "'"};
+  return ss.str();
+}
+
+/// Built-in tables or those of --tables, plus every --reference file in
+/// command-line order (later files may not reuse earlier ids).
+std::shared_ptr<const nmrpred::Tables> load_tables(const TablesArgs &args) {
+  try {
+    auto tables = args.dir.empty() ? nmrpred::Tables::builtin() : nmrpred::Tables::load(args.dir);
+    for (const auto &path : args.references) tables = tables->with_user_reference(read_file(path), path);
+    return tables;
+  } catch (const nmrpred::TablesError &e) {
+    throw SetupError{e.what()};
+  } catch (const nmrpred::InputError &e) {
+    throw SetupError{e.what()};
+  }
+}
+
+void add_tables_options(CLI::App *cmd, TablesArgs &args) {
+  cmd->add_option("--tables", args.dir, "Folder of tables laid out like the project's tables/ (default: built in)")
+      ->check(CLI::ExistingDirectory);
+  cmd->add_option("--reference", args.references,
+                  "File of the user's reference records (tables/FORMAT.md); repeatable, used before built-in records")
+      ->allow_extra_args(false);
+}
 
 /// Prints one record and tells whether it succeeded.
 bool emit(const nmrpred::RecordPrediction &r) {
@@ -39,7 +86,11 @@ bool emit(const nmrpred::RecordPrediction &r) {
 int run_predict(const PredictArgs &args) {
   nmrpred::PredictOptions options;
   options.hose_spheres = args.spheres;
+  options.blind = args.blind;
+  options.predict_shifts = !args.no_shifts;
+  nmrpred::validate(options);
   const nmrpred::Format format = nmrpred::parse_format(args.format);
+  const auto tables = load_tables(args.tables);
 
   std::size_t records = 0;
   std::size_t failed = 0;
@@ -49,7 +100,7 @@ int run_predict(const PredictArgs &args) {
     nmrpred::ReadRecord r;
     while (reader.next(r)) {
       ++records;
-      if (!emit(nmrpred::predict_record(std::move(r), options))) ++failed;
+      if (!emit(nmrpred::predict_record(std::move(r), *tables, options))) ++failed;
       r = nmrpred::ReadRecord{};
     }
   };
@@ -102,11 +153,19 @@ int run_predict(const PredictArgs &args) {
   return kExitOk;
 }
 
+int run_reference(const TablesArgs &args) {
+  const auto tables = load_tables(args);
+  for (const auto &c : tables->reference()) std::cout << nmrpred::to_json(c) << '\n';
+  std::cout.flush();
+  return kExitOk;
+}
+
 }  // namespace
 
 int main(int argc, char **argv) {
   std::ios::sync_with_stdio(false);
-  CLI::App app{"nmrpred: equivalent atoms and HOSE codes for chemical structures (JSON Lines output)"};
+  CLI::App app{"nmrpred: equivalent atoms, HOSE codes and 13C shifts for chemical structures "
+               "(JSON Lines output)"};
   app.set_version_flag("--version", std::string("nmrpred ") + nmrpred::version_string());
   app.require_subcommand(1, 1);
 
@@ -122,6 +181,15 @@ int main(int argc, char **argv) {
   predict->add_option("--spheres", args.spheres, "Spheres of the HOSE codes")
       ->check(CLI::Range(1, nmrpred::kMaxHoseSpheres))
       ->capture_default_str();
+  predict->add_flag("--blind", args.blind,
+                    "Predict shifts as if the tables did not hold the compound itself (honest test on known compounds)");
+  predict->add_flag("--no-shifts", args.no_shifts, "Classes and HOSE codes only (faster)");
+  add_tables_options(predict, args.tables);
+
+  TablesArgs reference_args;
+  CLI::App *reference = app.add_subcommand(
+      "reference", "Print the reference compounds of the tables, one JSON object per compound");
+  add_tables_options(reference, reference_args);
 
   try {
     app.parse(argc, argv);
@@ -131,12 +199,16 @@ int main(int argc, char **argv) {
   }
 
   try {
+    if (reference->parsed()) return run_reference(reference_args);
     if (args.smiles.empty() && args.file.empty()) {
       std::cerr << "nmrpred predict: give --smiles SMILES or a FILE ('-' for standard input)\n"
                 << "Run with --help for more information.\n";
       return kExitUsage;
     }
     return run_predict(args);
+  } catch (const SetupError &e) {
+    std::cerr << "nmrpred: " << e.message << '\n';
+    return kExitUsage;
   } catch (const nmrpred::ArgumentError &e) {
     std::cerr << "nmrpred: " << e.what() << '\n';
     return kExitUsage;

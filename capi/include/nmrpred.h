@@ -44,6 +44,7 @@
  *     report(nmr_result_record_error(res, 0));
  *   } else {
  *     size_t n = nmr_result_atom_count(res, 0);  ... per-atom accessors ...
+ *     size_t k = nmr_result_signal_count(res, 0, NMR_NUCLEUS_13C);  ... signals ...
  *   }
  *   nmr_result_free(res);
  *   nmr_context_free(ctx);
@@ -109,24 +110,42 @@ NMR_API const char *nmr_status_string(int status);
  *  are reserved for the spectrum options (field in MHz, line width in Hz). */
 enum {
   /** Spheres of the HOSE codes: a whole number from 1 to 6. Default 4. */
-  NMR_OPT_HOSE_SPHERES = 3
+  NMR_OPT_HOSE_SPHERES = 3,
+  /** 1: predict shifts as if every reference compound with the same
+   *  constitution as the query were absent from the tables (an honest figure
+   *  for compounds the tables hold). 0 (default): use every record. */
+  NMR_OPT_BLIND = 4,
+  /** 1 (default): predict chemical shifts. 0: classes and HOSE codes only,
+   *  which is faster; shift and signal accessors then find nothing. */
+  NMR_OPT_PREDICT_SHIFTS = 5
 };
+
+/** Nuclei, by mass number. */
+enum { NMR_NUCLEUS_1H = 1, NMR_NUCLEUS_13C = 13 };
 
 /* ----------------------------------------------------------------- context */
 
-/** Settings, data tables and the last error message. One thread at a time. */
+/** Settings, data tables and the last error message. One thread at a time.
+ *  The tables are read when the context is created (tens of milliseconds:
+ *  create a context once and reuse it) and then only read, except that
+ *  nmr_context_add_reference() replaces them with a larger set. */
 typedef struct nmr_context nmr_context;
 
 /** Predictions for every record of one input. Immutable; any thread may read it. */
 typedef struct nmr_result nmr_result;
 
-/** Creates a context with default options.
- *  tables_dir: NULL selects the tables built into the library. This version has
- *  no replaceable table set yet, so a directory gives NMR_ERR_UNSUPPORTED.
+/** Creates a context with default options and its tables.
+ *  tables_dir: NULL selects the tables built into the library; otherwise a
+ *  folder laid out like the project's tables/ folder (at least SOURCES.md
+ *  and one .tsv file in its reference/ subfolder; files it lacks are absent), read
+ *  completely before this returns. UTF-8 path.
  *  On failure other than NMR_ERR_NOMEM, *out still receives a context so that
- *  nmr_context_last_error() can tell why; free it either way.
- *  Errors: NMR_ERR_ARGUMENT (out is NULL), NMR_ERR_UNSUPPORTED, NMR_ERR_TABLES,
- *  NMR_ERR_NOMEM (then *out is NULL). */
+ *  nmr_context_last_error() can tell why; free it either way. Such a context
+ *  has no tables: nmr_predict() and nmr_context_add_reference() on it fail
+ *  with NMR_ERR_TABLES.
+ *  Errors: NMR_ERR_ARGUMENT (out is NULL), NMR_ERR_TABLES (a table file is
+ *  missing or malformed; the message names the file and line), NMR_ERR_NOMEM
+ *  (then *out is NULL). */
 NMR_API int nmr_context_new(nmr_context **out, const char *tables_dir);
 
 /** Frees a context. NULL is fine. Results made with it stay valid. */
@@ -139,11 +158,28 @@ NMR_API void nmr_context_free(nmr_context *ctx);
 NMR_API const char *nmr_context_last_error(const nmr_context *ctx);
 
 /** Name and version of the table set behind every result of this context (for
- *  reproducibility: store it with results). Owned by ctx; valid until ctx is
- *  freed. Never NULL; "" for ctx == NULL. */
+ *  reproducibility: store it with results): "builtin-<hash>" or "dir-<hash>",
+ *  plus "+user-<hash>" for each nmr_context_add_reference(); equal names mean
+ *  equal data. Owned by ctx; valid until ctx is freed or its tables change
+ *  (a successful nmr_context_add_reference()). Never NULL; "" for ctx == NULL
+ *  or a context whose creation failed. */
 NMR_API const char *nmr_context_tables_version(const nmr_context *ctx);
 
+/** Adds the user's own assigned compounds to the context's tables; later
+ *  predictions use them before the built-in records (with ids shown among a
+ *  shift's references). tsv_text: NUL-terminated UTF-8 text in the reference
+ *  record format of the project's tables/FORMAT.md (column header line
+ *  "id smiles solvent c13 h1 source", tab separated; the four "# " header
+ *  lines may be left out). Ids must not be in use already. All or nothing: on
+ *  failure the tables stay as they were. Results made earlier are unaffected.
+ *  Errors: NMR_ERR_ARGUMENT (ctx or tsv_text NULL), NMR_ERR_TABLES (bad
+ *  format, no records, id in use, a SMILES that cannot be read, or a context
+ *  without tables; the message names the line or record), NMR_ERR_INPUT,
+ *  NMR_ERR_NOMEM. */
+NMR_API int nmr_context_add_reference(nmr_context *ctx, const char *tsv_text);
+
 /** Sets one option (see NMR_OPT_*). Applies to later nmr_predict() calls.
+ *  Switches (NMR_OPT_BLIND, NMR_OPT_PREDICT_SHIFTS) take 0 or 1.
  *  Errors: NMR_ERR_ARGUMENT (ctx NULL, or value out of range / not a whole
  *  number where one is needed; the option keeps its previous value),
  *  NMR_ERR_UNSUPPORTED (unknown key). */
@@ -155,7 +191,8 @@ NMR_API int nmr_context_get_option_double(nmr_context *ctx, int option, double *
 
 /* -------------------------------------------------------------- prediction */
 
-/** Reads every record of `text` and predicts each one.
+/** Reads every record of `text` and predicts each one with the context's
+ *  options and tables.
  *  format: "smiles" (one molecule per line, optional title after whitespace),
  *  "mol", "sdf", "inchi" (one per line), or NULL / "auto" to recognise the
  *  format from the content. Names are case-insensitive.
@@ -166,13 +203,18 @@ NMR_API int nmr_context_get_option_double(nmr_context *ctx, int option, double *
  *  nmr_result_record_status), and nmr_predict still returns NMR_OK.
  *  Errors (then *out is set to NULL, if out is not NULL): NMR_ERR_ARGUMENT (out,
  *  ctx or text NULL, unknown format name), NMR_ERR_INPUT (the text holds no
- *  record at all), NMR_ERR_NOMEM, NMR_ERR_INTERNAL. */
+ *  record at all), NMR_ERR_TABLES (the context has no tables because its
+ *  creation failed), NMR_ERR_NOMEM, NMR_ERR_INTERNAL. */
 NMR_API int nmr_predict(nmr_result **out, nmr_context *ctx, const char *format, const char *text);
 
 /** Frees a result and every string borrowed from it. NULL is fine. */
 NMR_API void nmr_result_free(nmr_result *res);
 
 /* --------------------------------------------------------- result: records */
+
+/** Tables version (see nmr_context_tables_version()) of the tables that made
+ *  this result. Borrowed from res; never NULL; "" for NULL. */
+NMR_API const char *nmr_result_tables_version(const nmr_result *res);
 
 /** Number of records in the result; 0 for NULL. */
 NMR_API size_t nmr_result_record_count(const nmr_result *res);
@@ -254,6 +296,70 @@ NMR_API int nmr_result_atom_topological_class(const nmr_result *res, size_t reco
 /** HOSE code of an atom with the context's NMR_OPT_HOSE_SPHERES spheres at the
  *  time of nmr_predict(). Borrowed from res (NUL-terminated). */
 NMR_API int nmr_result_atom_hose(const nmr_result *res, size_t record, size_t atom, const char **hose_out);
+
+/* Predicted shifts. In this version carbons (13C) have one when
+ * NMR_OPT_PREDICT_SHIFTS was on; other atoms have none. Equivalent atoms (one
+ * class) always carry equal values. */
+
+/** Predicted chemical shift of an atom: *ppm_out in ppm from TMS and
+ *  *uncertainty_ppm_out, one standard deviation in ppm. Both receive NaN
+ *  (NMR_OK still) when the atom has no predicted shift; test with isnan().
+ *  Either output may be NULL if not wanted. */
+NMR_API int nmr_result_atom_shift(const nmr_result *res, size_t record, size_t atom, double *ppm_out,
+                                  double *uncertainty_ppm_out);
+
+/** How an atom's shift was obtained, in words (source, HOSE sphere and number
+ *  of compounds, or rules used); "" when the atom has no shift. Borrowed from
+ *  res (NUL-terminated). */
+NMR_API int nmr_result_atom_shift_method(const nmr_result *res, size_t record, size_t atom,
+                                         const char **method_out);
+
+/** Number of reference compounds behind an atom's shift (0 when none, e.g. a
+ *  value from increment rules, or no shift). */
+NMR_API int nmr_result_atom_shift_reference_count(const nmr_result *res, size_t record, size_t atom,
+                                                  size_t *count_out);
+
+/** Id of reference compound `i` (0 .. count-1) behind an atom's shift, as in
+ *  the tables (user records carry the user's ids). Borrowed from res.
+ *  NMR_ERR_ARGUMENT also when i is not below the count. */
+NMR_API int nmr_result_atom_shift_reference(const nmr_result *res, size_t record, size_t atom, size_t i,
+                                            const char **id_out);
+
+/* --------------------------------------------------------- result: signals */
+/* A signal is one line of a predicted spectrum: the atoms of one chemical
+ * equivalence class of one nucleus (NMR_NUCLEUS_*). Signals of a record are
+ * numbered 0 .. count-1 by decreasing shift (downfield first). This version
+ * predicts 13C only: NMR_NUCLEUS_1H has no signals yet. Accessors return
+ * NMR_OK, or NMR_ERR_ARGUMENT if res or an output pointer is NULL, the record
+ * is out of range or failed, the nucleus is not an NMR_NUCLEUS_* value or
+ * the signal or atom index is out of range; outputs are left untouched on
+ * failure. */
+
+/** Number of signals of one nucleus in a record; 0 for a failed record, NULL
+ *  res, an index out of range, an unknown nucleus or shifts not predicted. */
+NMR_API size_t nmr_result_signal_count(const nmr_result *res, size_t record, int nucleus);
+
+/** Shift of a signal in ppm from TMS and its uncertainty (one standard
+ *  deviation, ppm). Either output may be NULL if not wanted. */
+NMR_API int nmr_result_signal_shift(const nmr_result *res, size_t record, int nucleus, size_t signal,
+                                    double *ppm_out, double *uncertainty_ppm_out);
+
+/** For a 13C signal, the number of protons bonded to each of its carbons
+ *  (0 C, 1 CH, 2 CH2, 3 CH3; 4 for methane; 2H and 3H do not count), the
+ *  distinction DEPT-style editing makes. 0 for other nuclei. */
+NMR_API int nmr_result_signal_attached_h(const nmr_result *res, size_t record, int nucleus, size_t signal,
+                                         int *count_out);
+
+/** How the signal's shift was obtained, in words. Borrowed from res. */
+NMR_API int nmr_result_signal_method(const nmr_result *res, size_t record, int nucleus, size_t signal,
+                                     const char **method_out);
+
+/** Number of atoms in a signal (at least 1); 0 for any invalid argument. */
+NMR_API size_t nmr_result_signal_atom_count(const nmr_result *res, size_t record, int nucleus, size_t signal);
+
+/** Atom `i` (0 .. atom count - 1) of a signal, ascending by atom index. */
+NMR_API int nmr_result_signal_atom(const nmr_result *res, size_t record, int nucleus, size_t signal, size_t i,
+                                   size_t *atom_out);
 
 /* ------------------------------------------------------------------- JSON */
 

@@ -14,9 +14,14 @@ using nmrpred::capi::guarded;
 
 namespace {
 
-// Until a replaceable table set exists nothing tabulated feeds a result, and
-// the version says exactly that rather than inventing a name.
-constexpr const char *kTablesVersion = "none";
+/// Reads a 0/1 switch option; anything else is rejected so that a caller
+/// passing 0.5 or 2 learns about it rather than getting a guess.
+int set_switch(nmr_context *ctx, const char *name, double value, bool &target) {
+  if (value != 0.0 && value != 1.0)
+    return fail(ctx, NMR_ERR_ARGUMENT, fmt::format("{} must be 0 or 1, got {}", name, value));
+  target = value == 1.0;
+  return NMR_OK;
+}
 
 }  // namespace
 
@@ -29,10 +34,7 @@ int nmr_context_new(nmr_context **out, const char *tables_dir) {
   if (!ctx) return NMR_ERR_NOMEM;
   *out = ctx;
   return guarded(ctx, [&] {
-    ctx->tables_version = kTablesVersion;
-    if (tables_dir)
-      return fail(ctx, NMR_ERR_UNSUPPORTED,
-                  fmt::format("tables_dir '{}': this version has no replaceable table set; pass NULL", tables_dir));
+    ctx->tables = tables_dir ? nmrpred::Tables::load(tables_dir) : nmrpred::Tables::builtin();
     return static_cast<int>(NMR_OK);
   });
 }
@@ -45,8 +47,24 @@ const char *nmr_context_last_error(const nmr_context *ctx) {
 }
 
 const char *nmr_context_tables_version(const nmr_context *ctx) {
-  if (!ctx) return "";
-  return ctx->tables_version.c_str();
+  if (!ctx || !ctx->tables) return "";
+  return ctx->tables->version().c_str();
+}
+
+int nmr_context_add_reference(nmr_context *ctx, const char *tsv_text) {
+  if (!ctx) return NMR_ERR_ARGUMENT;
+  return guarded(ctx, [&] {
+    if (!tsv_text) return fail(ctx, NMR_ERR_ARGUMENT, "tsv_text is NULL");
+    if (!ctx->tables) return fail(ctx, NMR_ERR_TABLES, "the context has no tables (nmr_context_new failed)");
+    // Messages name the set by its call number, as the caller has no file name
+    // to give.
+    const std::string name = fmt::format("user reference {}", ctx->reference_sets + 1);
+    // Assigning only after success keeps the old tables on any failure.
+    auto tables = ctx->tables->with_user_reference(std::string_view(tsv_text, std::strlen(tsv_text)), name);
+    ctx->tables = std::move(tables);
+    ++ctx->reference_sets;
+    return static_cast<int>(NMR_OK);
+  });
 }
 
 int nmr_context_set_option_double(nmr_context *ctx, int option, double value) {
@@ -61,6 +79,10 @@ int nmr_context_set_option_double(nmr_context *ctx, int option, double value) {
         ctx->options.hose_spheres = static_cast<int>(value);
         return static_cast<int>(NMR_OK);
       }
+      case NMR_OPT_BLIND:
+        return set_switch(ctx, "NMR_OPT_BLIND", value, ctx->options.blind);
+      case NMR_OPT_PREDICT_SHIFTS:
+        return set_switch(ctx, "NMR_OPT_PREDICT_SHIFTS", value, ctx->options.predict_shifts);
       default:
         return fail(ctx, NMR_ERR_UNSUPPORTED, fmt::format("unknown option key {}", option));
     }
@@ -75,6 +97,12 @@ int nmr_context_get_option_double(nmr_context *ctx, int option, double *value_ou
       case NMR_OPT_HOSE_SPHERES:
         *value_out = ctx->options.hose_spheres;
         return static_cast<int>(NMR_OK);
+      case NMR_OPT_BLIND:
+        *value_out = ctx->options.blind ? 1.0 : 0.0;
+        return static_cast<int>(NMR_OK);
+      case NMR_OPT_PREDICT_SHIFTS:
+        *value_out = ctx->options.predict_shifts ? 1.0 : 0.0;
+        return static_cast<int>(NMR_OK);
       default:
         return fail(ctx, NMR_ERR_UNSUPPORTED, fmt::format("unknown option key {}", option));
     }
@@ -87,9 +115,12 @@ int nmr_predict(nmr_result **out, nmr_context *ctx, const char *format, const ch
   return guarded(ctx, [&] {
     if (!out) return fail(ctx, NMR_ERR_ARGUMENT, "out is NULL");
     if (!text) return fail(ctx, NMR_ERR_ARGUMENT, "text is NULL");
+    if (!ctx->tables)
+      return fail(ctx, NMR_ERR_TABLES, "the context has no tables (nmr_context_new failed); create a new one");
     const nmrpred::Format f = format ? nmrpred::parse_format(format) : nmrpred::Format::Auto;
     auto res = std::make_unique<nmr_result>();
-    res->records = nmrpred::predict_all(std::string_view(text, std::strlen(text)), f, ctx->options);
+    res->tables_version = ctx->tables->version();
+    res->records = nmrpred::predict_all(std::string_view(text, std::strlen(text)), f, *ctx->tables, ctx->options);
     if (res->records.empty())
       return fail(ctx, NMR_ERR_INPUT, "the text holds no structure (it is empty or only whitespace)");
     for (const auto &r : res->records)

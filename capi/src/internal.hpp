@@ -3,7 +3,9 @@
 #ifndef NMRPRED_CAPI_INTERNAL_HPP
 #define NMRPRED_CAPI_INTERNAL_HPP
 
+#include <cstddef>
 #include <exception>
+#include <memory>
 #include <new>
 #include <string>
 #include <vector>
@@ -11,16 +13,21 @@
 #include <nmrpred.h>
 #include <nmrpred/error.hpp>
 #include <nmrpred/predict.hpp>
+#include <nmrpred/tables.hpp>
 
 struct nmr_context {
   nmrpred::PredictOptions options;
-  std::string tables_version;
+  /// Null only when nmr_context_new failed to read the tables.
+  std::shared_ptr<const nmrpred::Tables> tables;
+  /// Calls of nmr_context_add_reference so far; numbers the user sets in messages.
+  std::size_t reference_sets = 0;
   std::string last_error;
 };
 
 struct nmr_result {
   std::vector<nmrpred::RecordPrediction> records;
   std::size_t failed = 0;
+  std::string tables_version;
 };
 
 namespace nmrpred::capi {

@@ -2,8 +2,14 @@
 // only; each still catches everything because nothing may escape the C ABI.
 #include "internal.hpp"
 
+#include <cmath>
 #include <cstring>
+#include <limits>
 #include <new>
+
+// The C nucleus numbers are the C++ enum values, so they convert by cast.
+static_assert(NMR_NUCLEUS_13C == static_cast<int>(nmrpred::Nucleus::C13));
+static_assert(NMR_NUCLEUS_1H == static_cast<int>(nmrpred::Nucleus::H1));
 
 namespace {
 
@@ -23,6 +29,24 @@ const nmrpred::Prediction *atom_at(const nmr_result *res, size_t record, size_t 
   return p && atom < p->molecule.atom_count() ? p : nullptr;
 }
 
+/// The shift of a valid atom, or null if it has none. The nucleus follows from
+/// the element, as each element has one predicted nucleus.
+const nmrpred::Shift *shift_of(const nmrpred::Prediction &p, size_t atom) noexcept {
+  switch (p.molecule.atoms()[atom].atomic_number) {
+    case 6: return p.shift(atom, nmrpred::Nucleus::C13);
+    case 1: return p.shift(atom, nmrpred::Nucleus::H1);
+    default: return nullptr;
+  }
+}
+
+/// The signal if every index is valid and the nucleus is an NMR_NUCLEUS_* value, else null.
+const nmrpred::Signal *signal_at(const nmr_result *res, size_t record, int nucleus, size_t signal) noexcept {
+  const auto *p = prediction_at(res, record);
+  if (!p || (nucleus != NMR_NUCLEUS_13C && nucleus != NMR_NUCLEUS_1H)) return nullptr;
+  const auto &list = p->signals(static_cast<nmrpred::Nucleus>(nucleus));
+  return signal < list.size() ? &list[signal] : nullptr;
+}
+
 int copy_out(const std::string &json, char **json_out) noexcept {
   char *s = new (std::nothrow) char[json.size() + 1];
   if (!s) return NMR_ERR_NOMEM;
@@ -36,6 +60,8 @@ int copy_out(const std::string &json, char **json_out) noexcept {
 extern "C" {
 
 void nmr_result_free(nmr_result *res) { delete res; }
+
+const char *nmr_result_tables_version(const nmr_result *res) { return res ? res->tables_version.c_str() : ""; }
 
 size_t nmr_result_record_count(const nmr_result *res) { return res ? res->records.size() : 0; }
 
@@ -144,6 +170,87 @@ int nmr_result_atom_hose(const nmr_result *res, size_t record, size_t atom, cons
   const auto *p = atom_at(res, record, atom);
   if (!p || !hose_out || atom >= p->hose.size()) return NMR_ERR_ARGUMENT;
   *hose_out = p->hose[atom].c_str();
+  return NMR_OK;
+}
+
+int nmr_result_atom_shift(const nmr_result *res, size_t record, size_t atom, double *ppm_out,
+                          double *uncertainty_ppm_out) {
+  const auto *p = atom_at(res, record, atom);
+  if (!p) return NMR_ERR_ARGUMENT;
+  const auto *s = shift_of(*p, atom);
+  const double nan = std::numeric_limits<double>::quiet_NaN();
+  if (ppm_out) *ppm_out = s ? s->ppm : nan;
+  if (uncertainty_ppm_out) *uncertainty_ppm_out = s ? s->uncertainty_ppm : nan;
+  return NMR_OK;
+}
+
+int nmr_result_atom_shift_method(const nmr_result *res, size_t record, size_t atom, const char **method_out) {
+  const auto *p = atom_at(res, record, atom);
+  if (!p || !method_out) return NMR_ERR_ARGUMENT;
+  const auto *s = shift_of(*p, atom);
+  *method_out = s ? s->method.c_str() : "";
+  return NMR_OK;
+}
+
+int nmr_result_atom_shift_reference_count(const nmr_result *res, size_t record, size_t atom, size_t *count_out) {
+  const auto *p = atom_at(res, record, atom);
+  if (!p || !count_out) return NMR_ERR_ARGUMENT;
+  const auto *s = shift_of(*p, atom);
+  *count_out = s ? s->references.size() : 0;
+  return NMR_OK;
+}
+
+int nmr_result_atom_shift_reference(const nmr_result *res, size_t record, size_t atom, size_t i,
+                                    const char **id_out) {
+  const auto *p = atom_at(res, record, atom);
+  if (!p || !id_out) return NMR_ERR_ARGUMENT;
+  const auto *s = shift_of(*p, atom);
+  if (!s || i >= s->references.size()) return NMR_ERR_ARGUMENT;
+  *id_out = s->references[i].c_str();
+  return NMR_OK;
+}
+
+size_t nmr_result_signal_count(const nmr_result *res, size_t record, int nucleus) {
+  const auto *p = prediction_at(res, record);
+  if (!p || (nucleus != NMR_NUCLEUS_13C && nucleus != NMR_NUCLEUS_1H)) return 0;
+  return p->signals(static_cast<nmrpred::Nucleus>(nucleus)).size();
+}
+
+int nmr_result_signal_shift(const nmr_result *res, size_t record, int nucleus, size_t signal, double *ppm_out,
+                            double *uncertainty_ppm_out) {
+  const auto *g = signal_at(res, record, nucleus, signal);
+  if (!g) return NMR_ERR_ARGUMENT;
+  if (ppm_out) *ppm_out = g->ppm;
+  if (uncertainty_ppm_out) *uncertainty_ppm_out = g->uncertainty_ppm;
+  return NMR_OK;
+}
+
+int nmr_result_signal_attached_h(const nmr_result *res, size_t record, int nucleus, size_t signal,
+                                 int *count_out) {
+  const auto *g = signal_at(res, record, nucleus, signal);
+  if (!g || !count_out) return NMR_ERR_ARGUMENT;
+  *count_out = g->attached_h;
+  return NMR_OK;
+}
+
+int nmr_result_signal_method(const nmr_result *res, size_t record, int nucleus, size_t signal,
+                             const char **method_out) {
+  const auto *g = signal_at(res, record, nucleus, signal);
+  if (!g || !method_out) return NMR_ERR_ARGUMENT;
+  *method_out = g->method.c_str();
+  return NMR_OK;
+}
+
+size_t nmr_result_signal_atom_count(const nmr_result *res, size_t record, int nucleus, size_t signal) {
+  const auto *g = signal_at(res, record, nucleus, signal);
+  return g ? g->atoms.size() : 0;
+}
+
+int nmr_result_signal_atom(const nmr_result *res, size_t record, int nucleus, size_t signal, size_t i,
+                           size_t *atom_out) {
+  const auto *g = signal_at(res, record, nucleus, signal);
+  if (!g || !atom_out || i >= g->atoms.size()) return NMR_ERR_ARGUMENT;
+  *atom_out = g->atoms[i];
   return NMR_OK;
 }
 

@@ -6,13 +6,28 @@
  * Expected chemistry (common practice, any introductory NMR text): ethanol,
  * C2H6O, has 3 heavy atoms and 9 atoms with hydrogens, and six sets of
  * equivalent atoms (CH3 carbon, CH2 carbon, O, the three CH3 protons, the two
- * enantiotopic CH2 protons, the OH proton).
+ * enantiotopic CH2 protons, the OH proton); its two carbons give two 13C
+ * signals, the O-bearing CH2 downfield of the CH3. Toluene gives five 13C
+ * signals. Its recorded shifts are GOTTLIEB-1997 (tables/SOURCES.md),
+ * Table 2, CDCl3 (from memory), as kept in tables/reference/aromatic.tsv: a
+ * lookup of toluene itself must name that record ("toluene") unless blind.
+ * Records with ids "demo-..." are demo data with invented values, not
+ * published shifts.
  */
 #include <nmrpred.h>
 
 #include <math.h>
 #include <stdio.h>
 #include <string.h>
+
+#ifndef NMRPRED_TABLES_SOURCE_DIR
+#error "NMRPRED_TABLES_SOURCE_DIR (the project's tables folder) must be defined by the build"
+#endif
+
+/* Demo data (invented values, not published): a user record for toluene. */
+static const char kDemoToluene[] =
+    "id\tsmiles\tsolvent\tc13\th1\tsource\n"
+    "demo-user-toluene\tCc1ccccc1\tCDCl3\t0=10.0;1=20.0;2,6=30.0;3,5=40.0;4=50.0\t-\tdemo data (invented)\n";
 
 static int failures = 0;
 
@@ -90,6 +105,18 @@ static void test_null_handles(void) {
   CHECK(nmr_result_atom_class(NULL, 0, 0, &cls) == NMR_ERR_ARGUMENT);
   CHECK(nmr_result_atom_topological_class(NULL, 0, 0, &cls) == NMR_ERR_ARGUMENT);
   CHECK(nmr_result_atom_hose(NULL, 0, 0, &s) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_atom_shift(NULL, 0, 0, &v, &v) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_atom_shift_method(NULL, 0, 0, &s) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_atom_shift_reference_count(NULL, 0, 0, &cls) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_atom_shift_reference(NULL, 0, 0, 0, &s) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_count(NULL, 0, NMR_NUCLEUS_13C) == 0);
+  CHECK(nmr_result_signal_shift(NULL, 0, NMR_NUCLEUS_13C, 0, &v, &v) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_attached_h(NULL, 0, NMR_NUCLEUS_13C, 0, &z) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_method(NULL, 0, NMR_NUCLEUS_13C, 0, &s) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_atom_count(NULL, 0, NMR_NUCLEUS_13C, 0) == 0);
+  CHECK(nmr_result_signal_atom(NULL, 0, NMR_NUCLEUS_13C, 0, 0, &cls) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_tables_version(NULL) != NULL);
+  CHECK(nmr_context_add_reference(NULL, kDemoToluene) == NMR_ERR_ARGUMENT);
   CHECK(nmr_result_to_json(NULL, &json) == NMR_ERR_ARGUMENT);
   CHECK(nmr_result_record_to_json(NULL, 0, &json) == NMR_ERR_ARGUMENT);
   CHECK(json == NULL);
@@ -100,9 +127,18 @@ static void test_context_failures(void) {
   nmr_result *res = NULL;
   double v = 0.0;
 
-  /* A failed nmr_context_new still hands back a context holding the reason. */
-  CHECK_FAIL(ctx, nmr_context_new(&ctx, "tables-that-do-not-exist"), NMR_ERR_UNSUPPORTED);
+  /* A failed nmr_context_new still hands back a context holding the reason;
+   * without tables it predicts nothing, and says why. */
+  CHECK_FAIL(ctx, nmr_context_new(&ctx, "tables-that-do-not-exist"), NMR_ERR_TABLES);
   CHECK(ctx != NULL);
+  if (ctx) {
+    CHECK(strstr(nmr_context_last_error(ctx), "tables-that-do-not-exist") != NULL);
+    CHECK(nmr_context_tables_version(ctx) != NULL);
+    CHECK(strcmp(nmr_context_tables_version(ctx), "") == 0);
+    CHECK_FAIL(ctx, nmr_predict(&res, ctx, NULL, "C"), NMR_ERR_TABLES);
+    CHECK(res == NULL);
+    CHECK_FAIL(ctx, nmr_context_add_reference(ctx, kDemoToluene), NMR_ERR_TABLES);
+  }
   nmr_context_free(ctx);
   ctx = NULL;
 
@@ -124,7 +160,40 @@ static void test_context_failures(void) {
   /* Rejected values leave the option as it was. */
   CHECK(nmr_context_get_option_double(ctx, NMR_OPT_HOSE_SPHERES, &v) == NMR_OK);
   CHECK(v == 4.0);
+  /* Switches: 0 or 1 only. */
+  CHECK(nmr_context_get_option_double(ctx, NMR_OPT_BLIND, &v) == NMR_OK);
+  CHECK(v == 0.0);
+  CHECK(nmr_context_get_option_double(ctx, NMR_OPT_PREDICT_SHIFTS, &v) == NMR_OK);
+  CHECK(v == 1.0);
+  CHECK_FAIL(ctx, nmr_context_set_option_double(ctx, NMR_OPT_BLIND, 0.5), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_context_set_option_double(ctx, NMR_OPT_BLIND, 2.0), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_context_set_option_double(ctx, NMR_OPT_PREDICT_SHIFTS, NAN), NMR_ERR_ARGUMENT);
+  CHECK(nmr_context_get_option_double(ctx, NMR_OPT_BLIND, &v) == NMR_OK);
+  CHECK(v == 0.0);
+  CHECK(nmr_context_set_option_double(ctx, NMR_OPT_BLIND, 1.0) == NMR_OK);
+  CHECK(nmr_context_get_option_double(ctx, NMR_OPT_BLIND, &v) == NMR_OK);
+  CHECK(v == 1.0);
+
+  /* User records: errors name the line and leave the tables as they were. */
+  {
+    char version_before[128];
+    strncpy(version_before, nmr_context_tables_version(ctx), sizeof version_before - 1);
+    version_before[sizeof version_before - 1] = '\0';
+    CHECK_FAIL(ctx, nmr_context_add_reference(ctx, NULL), NMR_ERR_ARGUMENT);
+    CHECK_FAIL(ctx,
+               nmr_context_add_reference(ctx, "id\tsmiles\tsolvent\tc13\th1\tsource\n"
+                                              "demo-a\tCC\tCDCl3\t0=1x.0\t-\tdemo\n"),
+               NMR_ERR_TABLES);
+    CHECK(strstr(nmr_context_last_error(ctx), ":2:") != NULL);
+    CHECK_FAIL(ctx, nmr_context_add_reference(ctx, "id\tsmiles\tsolvent\tc13\th1\tsource\n"), NMR_ERR_TABLES);
+    CHECK_FAIL(ctx,
+               nmr_context_add_reference(ctx, "id\tsmiles\tsolvent\tc13\th1\tsource\n"
+                                              "toluene\tCc1ccccc1\tCDCl3\t0=10.0\t-\tdemo\n"),
+               NMR_ERR_TABLES);
+    CHECK(strcmp(nmr_context_tables_version(ctx), version_before) == 0);
+  }
   /* A success clears the previous message. */
+  CHECK(nmr_context_get_option_double(ctx, NMR_OPT_HOSE_SPHERES, &v) == NMR_OK);
   CHECK(strcmp(nmr_context_last_error(ctx), "") == 0);
 
   CHECK_FAIL(ctx, nmr_predict(NULL, ctx, NULL, "C"), NMR_ERR_ARGUMENT);
@@ -140,6 +209,99 @@ static void test_context_failures(void) {
   nmr_context_free(ctx);
 }
 
+/* Reference ids behind the shift of one atom, checked for `id`. */
+static int atom_names_reference(const nmr_result *res, size_t atom, const char *id) {
+  size_t count = 0, k;
+  const char *got = NULL;
+  if (nmr_result_atom_shift_reference_count(res, 0, atom, &count) != NMR_OK) return -1;
+  for (k = 0; k < count; ++k) {
+    if (nmr_result_atom_shift_reference(res, 0, atom, k, &got) != NMR_OK || got == NULL) return -1;
+    if (strcmp(got, id) == 0) return 1;
+  }
+  return 0;
+}
+
+static void test_tables_and_blind_mode(void) {
+  nmr_context *ctx = NULL, *dir_ctx = NULL;
+  nmr_result *res = NULL;
+  double ppm = 0.0, unc = 0.0;
+  const char *builtin_version, *dir_version, *id = NULL, *method = NULL;
+  size_t k;
+
+  CHECK(nmr_context_new(&ctx, NULL) == NMR_OK);
+  if (!ctx) return;
+  builtin_version = nmr_context_tables_version(ctx);
+  CHECK(strncmp(builtin_version, "builtin-", 8) == 0);
+
+  /* The project's tables folder holds the text that was built in: same hash. */
+  CHECK(nmr_context_new(&dir_ctx, NMRPRED_TABLES_SOURCE_DIR) == NMR_OK);
+  if (dir_ctx) {
+    dir_version = nmr_context_tables_version(dir_ctx);
+    CHECK(strncmp(dir_version, "dir-", 4) == 0);
+    CHECK(strcmp(dir_version + 4, builtin_version + 8) == 0);
+  }
+  nmr_context_free(dir_ctx);
+
+  /* Not blind: toluene's own record answers. */
+  CHECK(nmr_predict(&res, ctx, "smiles", "Cc1ccccc1 toluene") == NMR_OK);
+  if (res) {
+    CHECK(strcmp(nmr_result_tables_version(res), builtin_version) == 0);
+    CHECK(nmr_result_signal_count(res, 0, NMR_NUCLEUS_13C) == 5);
+    for (k = 0; k < 7; ++k) CHECK(atom_names_reference(res, k, "toluene") == 1);
+    CHECK(nmr_result_atom_shift(res, 0, 0, &ppm, &unc) == NMR_OK);
+    CHECK(fabs(ppm - 21.5) <= 0.01); /* GOTTLIEB-1997 toluene CH3 */
+    CHECK(unc > 0.0);
+  }
+  nmr_result_free(res);
+  res = NULL;
+
+  /* Blind: the record of the query's own constitution is left out. */
+  CHECK(nmr_context_set_option_double(ctx, NMR_OPT_BLIND, 1.0) == NMR_OK);
+  CHECK(nmr_predict(&res, ctx, "smiles", "Cc1ccccc1 toluene") == NMR_OK);
+  if (res) {
+    for (k = 0; k < 7; ++k) {
+      CHECK(atom_names_reference(res, k, "toluene") == 0);
+      CHECK(nmr_result_atom_shift(res, 0, k, &ppm, NULL) == NMR_OK);
+      CHECK(!isnan(ppm));
+    }
+  }
+  nmr_result_free(res);
+  res = NULL;
+  CHECK(nmr_context_set_option_double(ctx, NMR_OPT_BLIND, 0.0) == NMR_OK);
+
+  /* User records come first and are named. */
+  CHECK(nmr_context_add_reference(ctx, kDemoToluene) == NMR_OK);
+  CHECK(strcmp(nmr_context_last_error(ctx), "") == 0);
+  CHECK(strstr(nmr_context_tables_version(ctx), "+user-") != NULL);
+  CHECK(nmr_predict(&res, ctx, "smiles", "Cc1ccccc1 toluene") == NMR_OK);
+  if (res) {
+    CHECK(strstr(nmr_result_tables_version(res), "+user-") != NULL);
+    CHECK(nmr_result_atom_shift(res, 0, 4, &ppm, NULL) == NMR_OK);
+    CHECK(fabs(ppm - 50.0) <= 0.01); /* demo data: para carbon */
+    CHECK(nmr_result_atom_shift_reference(res, 0, 4, 0, &id) == NMR_OK);
+    CHECK(id != NULL && strcmp(id, "demo-user-toluene") == 0);
+    CHECK(nmr_result_atom_shift_method(res, 0, 4, &method) == NMR_OK);
+    CHECK(nonempty(method));
+  }
+  nmr_result_free(res);
+  res = NULL;
+  /* The same ids again: refused, and the tables stay. */
+  CHECK_FAIL(ctx, nmr_context_add_reference(ctx, kDemoToluene), NMR_ERR_TABLES);
+  CHECK(strstr(nmr_context_last_error(ctx), "demo-user-toluene") != NULL);
+
+  /* Shifts off: no shifts, no signals, classes as before. */
+  CHECK(nmr_context_set_option_double(ctx, NMR_OPT_PREDICT_SHIFTS, 0.0) == NMR_OK);
+  CHECK(nmr_predict(&res, ctx, "smiles", "Cc1ccccc1 toluene") == NMR_OK);
+  if (res) {
+    CHECK(nmr_result_signal_count(res, 0, NMR_NUCLEUS_13C) == 0);
+    CHECK(nmr_result_atom_shift(res, 0, 0, &ppm, &unc) == NMR_OK);
+    CHECK(isnan(ppm) && isnan(unc));
+    CHECK(nmr_result_class_count(res, 0) == 9); /* 5 carbon + 4 proton classes (common practice) */
+  }
+  nmr_result_free(res);
+  nmr_context_free(ctx);
+}
+
 static void test_ethanol(void) {
   nmr_context *ctx = NULL;
   nmr_result *res = NULL;
@@ -150,6 +312,10 @@ static void test_ethanol(void) {
   char *json = NULL;
   size_t ch3_class = (size_t)-1;
   int ch3_same = 1;
+  double ppm = 0.0, ppm2 = 0.0, unc = 0.0;
+  const char *method = NULL;
+  size_t count = 0;
+  int attached = -1;
 
   CHECK(nmr_context_new(&ctx, NULL) == NMR_OK);
   if (!ctx) return;
@@ -205,6 +371,55 @@ static void test_ethanol(void) {
   CHECK(nmr_result_atom_hose(res, 0, 0, &hose) == NMR_OK);
   CHECK(nonempty(hose));
 
+  /* Shifts: carbons have one, other atoms NaN; signals downfield first. */
+  CHECK(nmr_result_atom_shift(res, 0, 0, &ppm, &unc) == NMR_OK);
+  CHECK(!isnan(ppm) && unc > 0.0);
+  CHECK(nmr_result_atom_shift(res, 0, 1, &ppm2, NULL) == NMR_OK);
+  CHECK(ppm2 > ppm); /* OCH2 downfield of CH3 */
+  CHECK(nmr_result_atom_shift(res, 0, 1, NULL, NULL) == NMR_OK);
+  CHECK(nmr_result_atom_shift(res, 0, 2, &ppm, &unc) == NMR_OK);
+  CHECK(isnan(ppm) && isnan(unc));
+  CHECK(nmr_result_atom_shift(res, 0, 3, &ppm, NULL) == NMR_OK);
+  CHECK(isnan(ppm));
+  CHECK(nmr_result_atom_shift_method(res, 0, 0, &method) == NMR_OK);
+  CHECK(nonempty(method));
+  CHECK(nmr_result_atom_shift_method(res, 0, 2, &method) == NMR_OK);
+  CHECK(method != NULL && method[0] == '\0');
+  CHECK(nmr_result_atom_shift_reference_count(res, 0, 2, &count) == NMR_OK);
+  CHECK(count == 0);
+  CHECK(nmr_result_atom_shift_reference_count(res, 0, 0, &count) == NMR_OK);
+  CHECK(nmr_result_atom_shift_reference(res, 0, 0, count, &method) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_atom_shift_reference(res, 0, 2, 0, &method) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_count(res, 0, NMR_NUCLEUS_13C) == 2);
+  CHECK(nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H) == 0);
+  CHECK(nmr_result_signal_count(res, 0, 7) == 0);
+  CHECK(nmr_result_signal_shift(res, 0, NMR_NUCLEUS_13C, 0, &ppm, &unc) == NMR_OK);
+  CHECK(nmr_result_signal_shift(res, 0, NMR_NUCLEUS_13C, 1, &ppm2, NULL) == NMR_OK);
+  CHECK(ppm > ppm2);
+  CHECK(nmr_result_signal_atom_count(res, 0, NMR_NUCLEUS_13C, 0) == 1);
+  CHECK(nmr_result_signal_atom(res, 0, NMR_NUCLEUS_13C, 0, 0, &cls) == NMR_OK);
+  CHECK(cls == 1);
+  CHECK(nmr_result_signal_attached_h(res, 0, NMR_NUCLEUS_13C, 0, &attached) == NMR_OK);
+  CHECK(attached == 2);
+  CHECK(nmr_result_signal_attached_h(res, 0, NMR_NUCLEUS_13C, 1, &attached) == NMR_OK);
+  CHECK(attached == 3);
+  CHECK(nmr_result_signal_method(res, 0, NMR_NUCLEUS_13C, 1, &method) == NMR_OK);
+  CHECK(nonempty(method));
+  /* Bad signal arguments fail and leave outputs alone. */
+  ppm = 42.0;
+  CHECK(nmr_result_signal_shift(res, 0, NMR_NUCLEUS_13C, 2, &ppm, NULL) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_shift(res, 0, 7, 0, &ppm, NULL) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_shift(res, 1, NMR_NUCLEUS_13C, 0, &ppm, NULL) == NMR_ERR_ARGUMENT);
+  CHECK(ppm == 42.0);
+  CHECK(nmr_result_signal_atom(res, 0, NMR_NUCLEUS_13C, 0, 1, &cls) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_atom(res, 0, NMR_NUCLEUS_13C, 0, 0, NULL) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_attached_h(res, 0, NMR_NUCLEUS_13C, 0, NULL) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_method(res, 0, NMR_NUCLEUS_13C, 0, NULL) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_atom_count(res, 0, NMR_NUCLEUS_13C, 2) == 0);
+  CHECK(nmr_result_atom_shift_method(res, 0, 0, NULL) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_atom_shift_reference_count(res, 0, 0, NULL) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_atom_shift(res, 0, n, &ppm, NULL) == NMR_ERR_ARGUMENT);
+
   /* Out-of-range indices and NULL outputs fail without touching outputs. */
   z = 42;
   CHECK(nmr_result_atom_element(res, 0, n, &z, NULL) == NMR_ERR_ARGUMENT);
@@ -225,6 +440,7 @@ static void test_ethanol(void) {
 
   CHECK(nmr_result_to_json(res, &json) == NMR_OK);
   CHECK(json != NULL && json[0] == '[' && strstr(json, "\"ethanol\"") != NULL);
+  CHECK(json != NULL && strstr(json, "\"signals\"") != NULL && strstr(json, "\"shift\"") != NULL);
   nmr_string_free(json);
   json = NULL;
   CHECK(nmr_result_record_to_json(res, 0, &json) == NMR_OK);
@@ -274,6 +490,7 @@ int main(void) {
   test_null_handles();
   test_context_failures();
   test_ethanol();
+  test_tables_and_blind_mode();
   test_batch_with_bad_record();
   if (failures) {
     fprintf(stderr, "%d check(s) failed\n", failures);

@@ -1,4 +1,4 @@
-"""nmrpred: chemically equivalent atoms and HOSE codes for chemical structures.
+"""nmrpred: chemically equivalent atoms, HOSE codes and 13C shifts for chemical structures.
 
 Quick start::
 
@@ -7,7 +7,17 @@ Quick start::
     p.elements            # ['C', 'C', 'O', 'H', 'H', 'H', 'H', 'H', 'H']
     p.classes             # int64 array, one chemical equivalence class per atom
     p.hose[0]             # HOSE code of atom 0
+    p.shifts[:2]          # 13C shifts of the two carbons, ppm (NaN for other atoms)
+    p.signals["13C"]      # one dict per carbon signal, downfield first
     print(p.to_json())
+
+The module-level :func:`predict` and :func:`predict_all` use the tables built
+into the library. For other tables, or your own assigned compounds, make a
+:class:`Context`::
+
+    ctx = nmrpred.Context()                 # or Context("path/to/tables")
+    ctx.add_reference(open("mine.tsv").read())
+    p = ctx.predict("CCO", blind=True)
 
 Atom order: heavy atoms first, in input order, then every hydrogen grouped by
 the heavy atom it is bonded to (explicit hydrogens before implicit ones).
@@ -22,8 +32,11 @@ Errors: see :mod:`nmrpred._errors`; all derive from :class:`Error`, and
 
 from __future__ import annotations
 
+import json
+import os
+import threading
 from dataclasses import dataclass, field
-from typing import List, Optional, Union
+from typing import Any, Dict, List, Optional, Union
 
 import numpy as np
 import numpy.typing as npt
@@ -43,6 +56,7 @@ __all__ = [
     "__version__",
     "MAX_HOSE_SPHERES",
     "DEFAULT_HOSE_SPHERES",
+    "Context",
     "Prediction",
     "RecordError",
     "predict",
@@ -64,9 +78,10 @@ MAX_HOSE_SPHERES: int = _core.max_hose_spheres()
 DEFAULT_HOSE_SPHERES: int = _core.default_hose_spheres()
 
 Int64Array = npt.NDArray[np.int64]
+Float64Array = npt.NDArray[np.float64]
 
 
-def _frozen(a: Int64Array) -> Int64Array:
+def _frozen(a: Any) -> Any:
     a.setflags(write=False)
     return a
 
@@ -92,6 +107,24 @@ class Prediction:
         topological_classes: graph-symmetry class, ids 0..topological_class_count-1.
         class_count, topological_class_count: numbers of classes.
         hose: HOSE code of each atom.
+        shifts: float64 array, predicted chemical shift of each atom in ppm
+            from TMS; NaN for atoms without one (this version predicts 13C:
+            carbons have a value unless ``predict_shifts=False``).
+            Equivalent atoms (one class) have equal values.
+        shift_uncertainties: float64 array, one standard deviation of each
+            shift in ppm; NaN where ``shifts`` is NaN.
+        shift_methods: how each shift was obtained, in words; None where
+            there is no shift.
+        shift_references: ids of the reference compounds behind each shift
+            (empty list when none, e.g. for values from increment rules).
+        signals: ``{"13C": [signal, ...]}``, one list per predicted nucleus
+            (empty dict when shifts were not predicted). Each signal is a dict
+            with "shift" (ppm), "atoms" (indices of the equivalent atoms),
+            "attached_h" (protons on each of those carbons: 0 C, 1 CH, 2 CH2,
+            3 CH3, as DEPT-style editing tells them apart), "shift_uncertainty"
+            (ppm) and "shift_method". Lists run by decreasing shift.
+        tables_version: names the table set behind the prediction (store it
+            with results; equal names mean equal data).
         warnings: remarks from reading and prediction (never errors).
     """
 
@@ -109,6 +142,12 @@ class Prediction:
     class_count: int
     topological_class_count: int
     hose: List[str] = field(repr=False)
+    shifts: Float64Array = field(repr=False)
+    shift_uncertainties: Float64Array = field(repr=False)
+    shift_methods: List[Optional[str]] = field(repr=False)
+    shift_references: List[List[str]] = field(repr=False)
+    signals: Dict[str, List[Dict[str, Any]]] = field(repr=False)
+    tables_version: str
     warnings: List[str]
     _record: _core.Record = field(repr=False)
 
@@ -129,6 +168,12 @@ class Prediction:
             class_count=r.class_count,
             topological_class_count=r.topological_class_count,
             hose=r.hose(),
+            shifts=_frozen(r.shifts()),
+            shift_uncertainties=_frozen(r.shift_uncertainties()),
+            shift_methods=r.shift_methods(),
+            shift_references=r.shift_references(),
+            signals=r.signals(),
+            tables_version=r.tables_version,
             warnings=r.warnings,
             _record=r,
         )
@@ -177,52 +222,159 @@ def _convert(r: _core.Record) -> Union[Prediction, RecordError]:
                        warnings=r.warnings, _record=r)
 
 
-def predict_all(text: str, format: str = "auto", spheres: int = DEFAULT_HOSE_SPHERES
-                ) -> List[Union[Prediction, RecordError]]:
-    """Reads every record of ``text`` and predicts each one.
-
-    Args:
-        text: structure text: SMILES (one per line, optional title after
-            whitespace), MOL, SDF or InChI (one per line).
-        format: "auto" (recognise from the content), "smiles", "mol", "sdf" or "inchi".
-        spheres: spheres of the HOSE codes, 1..MAX_HOSE_SPHERES.
-
-    Returns:
-        One item per record, in input order: a :class:`Prediction`, or a
-        :class:`RecordError` for a record that failed (the batch goes on). Empty
-        if the text holds no record.
-
-    Raises:
-        ArgumentError: unknown format or spheres out of range.
-        TypeError: text is not a str.
-        KeyboardInterrupt: Ctrl-C between records.
-    """
+def _check_text(text: Any, format: Any) -> None:
     # The extension would also accept bytes; insisting on str keeps the text's
     # encoding the caller's decision.
     if not isinstance(text, str):
         raise TypeError(f"text must be str, not {type(text).__name__}")
     if not isinstance(format, str):
         raise TypeError(f"format must be str, not {type(format).__name__}")
-    return [_convert(r) for r in _core.predict_records(text, format, spheres)]
 
 
-def predict(text: str, format: str = "auto", spheres: int = DEFAULT_HOSE_SPHERES) -> Prediction:
-    """Predicts the one structure in ``text``.
+class Context:
+    """The tables behind predictions, and predictions made with them.
 
-    Arguments as for :func:`predict_all`.
+    ``Context()`` uses the tables built into the library; ``Context(dir)``
+    reads a replacement set from a folder laid out like the project's
+    ``tables/`` (at least ``SOURCES.md`` and ``reference/*.tsv``). Reading the
+    tables takes tens of milliseconds: make a context once and reuse it.
+
+    Threads: a context may be shared by several threads; predictions run
+    without the GIL and in parallel. :meth:`add_reference` waits for nothing
+    but other additions; predictions already running keep the tables they
+    started with.
 
     Raises:
-        InputError: the text holds no structure, more than one record, or a
-            structure that cannot be read (the message says why).
-        ArgumentError: unknown format or spheres out of range.
-        TypeError: text is not a str.
+        TablesError: the folder lacks a required file or a table is malformed
+            (the message names the file and line).
+        TypeError: tables_dir is not a str or path.
     """
-    items = predict_all(text, format, spheres)
-    if not items:
-        raise InputError("the text holds no structure (it is empty or only whitespace)")
-    if len(items) > 1:
-        raise InputError(f"expected one structure, the text holds {len(items)} records; use predict_all()")
-    item = items[0]
-    if isinstance(item, RecordError):
-        raise error_for_code(item.code, item.message)
-    return item
+
+    def __init__(self, tables_dir: Optional[Union[str, "os.PathLike[str]"]] = None) -> None:
+        if tables_dir is not None:
+            tables_dir = os.fspath(tables_dir)
+            if not isinstance(tables_dir, str):
+                raise TypeError(f"tables_dir must be str or os.PathLike[str], not {type(tables_dir).__name__}")
+        self._core = _core.Context(tables_dir)
+
+    @property
+    def tables_version(self) -> str:
+        """Names the current table set: "builtin-<hash>" or "dir-<hash>", plus
+        "+user-<hash>" per :meth:`add_reference`. Equal names mean equal data."""
+        return self._core.tables_version
+
+    def add_reference(self, text: str, name: str = "user") -> None:
+        """Adds the user's own assigned compounds; later predictions use them
+        before the built-in records and name their ids in ``shift_references``.
+
+        Args:
+            text: records in the reference format of the project's
+                ``tables/FORMAT.md`` (tab-separated column header line
+                ``id smiles solvent c13 h1 source``, then one compound per
+                line; the four ``#`` header lines may be left out).
+            name: labels the records in messages and in :meth:`reference`
+                ("file"), e.g. the file name they came from.
+
+        All or nothing: on an error the tables stay as they were.
+
+        Raises:
+            TablesError: bad format, no records, an id already in use, or a
+                SMILES that cannot be read (the message names ``name:line``
+                or the record).
+            InputError: a structure the library cannot use.
+            TypeError: text or name is not a str.
+        """
+        if not isinstance(text, str):
+            raise TypeError(f"text must be str, not {type(text).__name__}")
+        if not isinstance(name, str):
+            raise TypeError(f"name must be str, not {type(name).__name__}")
+        self._core.add_reference(text, name)
+
+    def reference(self) -> List[Dict[str, Any]]:
+        """The reference compounds of the tables (built-in or from the folder,
+        then the user's), as dicts with "id", "smiles", "solvent", "source",
+        "file", "user", "c13" and "h1"; the last two are lists of
+        ``{"atoms": [...], "ppm": [...]}`` (see ``nmrpred reference``)."""
+        return [json.loads(text) for text in self._core.reference_json()]
+
+    def predict_all(self, text: str, format: str = "auto", spheres: int = DEFAULT_HOSE_SPHERES,
+                    blind: bool = False, predict_shifts: bool = True
+                    ) -> List[Union[Prediction, RecordError]]:
+        """Reads every record of ``text`` and predicts each one.
+
+        Args:
+            text: structure text: SMILES (one per line, optional title after
+                whitespace), MOL, SDF or InChI (one per line).
+            format: "auto" (recognise from the content), "smiles", "mol", "sdf" or "inchi".
+            spheres: spheres of the HOSE codes, 1..MAX_HOSE_SPHERES.
+            blind: predict shifts as if every reference compound with the
+                same constitution as the query were absent (an honest figure
+                for compounds the tables hold).
+            predict_shifts: False gives classes and HOSE codes only (faster);
+                ``shifts`` is then all NaN and ``signals`` empty.
+
+        Returns:
+            One item per record, in input order: a :class:`Prediction`, or a
+            :class:`RecordError` for a record that failed (the batch goes on).
+            Empty if the text holds no record.
+
+        Raises:
+            ArgumentError: unknown format or spheres out of range.
+            TypeError: text is not a str.
+            KeyboardInterrupt: Ctrl-C between records.
+        """
+        _check_text(text, format)
+        records = self._core.predict_records(text, format, spheres, bool(blind), bool(predict_shifts))
+        return [_convert(r) for r in records]
+
+    def predict(self, text: str, format: str = "auto", spheres: int = DEFAULT_HOSE_SPHERES,
+                blind: bool = False, predict_shifts: bool = True) -> Prediction:
+        """Predicts the one structure in ``text``.
+
+        Arguments as for :meth:`predict_all`.
+
+        Raises:
+            InputError: the text holds no structure, more than one record, or a
+                structure that cannot be read (the message says why).
+            ArgumentError: unknown format or spheres out of range.
+            TypeError: text is not a str.
+        """
+        items = self.predict_all(text, format, spheres, blind, predict_shifts)
+        if not items:
+            raise InputError("the text holds no structure (it is empty or only whitespace)")
+        if len(items) > 1:
+            raise InputError(f"expected one structure, the text holds {len(items)} records; use predict_all()")
+        item = items[0]
+        if isinstance(item, RecordError):
+            raise error_for_code(item.code, item.message)
+        return item
+
+
+# The module-level functions share one context with the built-in tables, made
+# on first use: the C++ library keeps no global state, so the one shared
+# object lives here.
+_builtin_context: Optional[Context] = None
+_builtin_context_lock = threading.Lock()
+
+
+def _builtin() -> Context:
+    global _builtin_context
+    with _builtin_context_lock:
+        if _builtin_context is None:
+            _builtin_context = Context()
+        return _builtin_context
+
+
+def predict_all(text: str, format: str = "auto", spheres: int = DEFAULT_HOSE_SPHERES,
+                blind: bool = False, predict_shifts: bool = True
+                ) -> List[Union[Prediction, RecordError]]:
+    """:meth:`Context.predict_all` with the tables built into the library."""
+    _check_text(text, format)
+    return _builtin().predict_all(text, format, spheres, blind, predict_shifts)
+
+
+def predict(text: str, format: str = "auto", spheres: int = DEFAULT_HOSE_SPHERES,
+            blind: bool = False, predict_shifts: bool = True) -> Prediction:
+    """:meth:`Context.predict` with the tables built into the library."""
+    _check_text(text, format)
+    return _builtin().predict(text, format, spheres, blind, predict_shifts)

@@ -1,5 +1,10 @@
 #include <chrono>
+#include <cmath>
 #include <cstdint>
+#include <limits>
+#include <memory>
+#include <mutex>
+#include <optional>
 #include <sstream>
 #include <string>
 #include <utility>
@@ -20,6 +25,7 @@ namespace nmrpred::python {
 namespace {
 
 using Int64Array = py::array_t<std::int64_t>;
+using Float64Array = py::array_t<double>;
 
 /// How often a running batch looks for Ctrl-C: short enough to feel immediate.
 constexpr std::chrono::milliseconds kSignalCheckInterval{100};
@@ -35,26 +41,123 @@ Int64Array per_atom(const RecordPrediction &r, F &&value) {
   return out;
 }
 
+/// The predicted shift of atom i, or null. Each element has one predicted
+/// nucleus (C: 13C, H: 1H), so the atom decides which.
+const Shift *shift_of(const Prediction &p, std::size_t i) {
+  switch (p.molecule.atoms()[i].atomic_number) {
+    case 6: return p.shift(i, Nucleus::C13);
+    case 1: return p.shift(i, Nucleus::H1);
+    default: return nullptr;
+  }
+}
+
+/// One float64 value per atom of the atom's shift, NaN where it has none.
+template <class F>
+Float64Array per_atom_shift(const RecordPrediction &r, F &&value) {
+  const std::size_t n = r.prediction ? r.prediction->molecule.atom_count() : 0;
+  Float64Array out(static_cast<py::ssize_t>(n));
+  auto w = out.mutable_unchecked<1>();
+  for (std::size_t i = 0; i < n; ++i) {
+    const Shift *s = shift_of(*r.prediction, i);
+    w(static_cast<py::ssize_t>(i)) = s ? value(*s) : std::numeric_limits<double>::quiet_NaN();
+  }
+  return out;
+}
+
+const char *nucleus_label(Nucleus n) { return n == Nucleus::C13 ? "13C" : "1H"; }
+
+/// {"13C": [{"shift", "atoms", "attached_h", "shift_uncertainty", "shift_method"}]}
+/// as in the JSON; a nucleus appears only when it was predicted.
+py::dict signals_of(const RecordPrediction &r) {
+  py::dict out;
+  if (!r.prediction || !r.prediction->options.predict_shifts) return out;
+  for (Nucleus n : {Nucleus::C13}) {
+    py::list list;
+    for (const Signal &g : r.prediction->signals(n)) {
+      py::dict d;
+      d["shift"] = g.ppm;
+      d["atoms"] = py::cast(std::vector<std::int64_t>(g.atoms.begin(), g.atoms.end()));
+      d["attached_h"] = g.attached_h;
+      d["shift_uncertainty"] = g.uncertainty_ppm;
+      d["shift_method"] = g.method;
+      list.append(std::move(d));
+    }
+    out[nucleus_label(n)] = std::move(list);
+  }
+  return out;
+}
+
 std::int64_t attached_heavy_atom(const Molecule &m, std::size_t i) {
   const std::int64_t a = m.attached_to(i);
   return (a < 0 || m.is_hydrogen(static_cast<std::size_t>(a))) ? -1 : a;
 }
 
-std::vector<RecordPrediction> predict_records(const std::string &text, const std::string &format_name,
-                                              int spheres) {
+/// The tables and settings of a Python nmrpred.Context. The work runs without
+/// the GIL, so the tables pointer is guarded by the context's own mutex: a
+/// prediction takes a reference to the current (immutable) tables and runs
+/// outside the lock; add_reference swaps in a new set.
+/// Lock order: release the GIL first, then take the mutex, never the reverse.
+class PyContext {
+ public:
+  explicit PyContext(const std::optional<std::string> &tables_dir) {
+    py::gil_scoped_release release;
+    tables_ = tables_dir ? Tables::load(*tables_dir) : Tables::builtin();
+  }
+
+  std::shared_ptr<const Tables> tables() const {
+    std::lock_guard<std::mutex> lock(mutex_);
+    return tables_;
+  }
+
+  std::string tables_version() const {
+    py::gil_scoped_release release;
+    return tables()->version();
+  }
+
+  void add_reference(const std::string &text, const std::string &name) {
+    py::gil_scoped_release release;
+    // Held for the whole rebuild, so two additions cannot lose one another.
+    std::lock_guard<std::mutex> lock(mutex_);
+    tables_ = tables_->with_user_reference(text, name);
+  }
+
+  std::vector<std::string> reference_json() const {
+    const auto t = [&] {
+      py::gil_scoped_release release;
+      return tables();
+    }();
+    std::vector<std::string> out;
+    out.reserve(t->reference().size());
+    for (const auto &c : t->reference()) out.push_back(to_json(c));
+    return out;
+  }
+
+  std::vector<RecordPrediction> predict_records(const std::string &text, const std::string &format_name,
+                                                int spheres, bool blind, bool predict_shifts) const;
+
+ private:
+  mutable std::mutex mutex_;
+  std::shared_ptr<const Tables> tables_;
+};
+
+std::vector<RecordPrediction> PyContext::predict_records(const std::string &text, const std::string &format_name,
+                                                         int spheres, bool blind, bool predict_shifts) const {
   PredictOptions options;
   options.hose_spheres = spheres;
+  options.blind = blind;
+  options.predict_shifts = predict_shifts;
   validate(options);
   const Format format = parse_format(format_name);
 
   std::vector<RecordPrediction> out;
   std::istringstream in(text);
   py::gil_scoped_release release;
+  const std::shared_ptr<const Tables> t = tables();
   MoleculeReader reader(in, format);
   ReadRecord r;
   auto last_check = std::chrono::steady_clock::now();
   while (reader.next(r)) {
-    out.push_back(predict_record(std::move(r), options));
+    out.push_back(predict_record(std::move(r), *t, options));
     r = ReadRecord{};
     // Let Ctrl-C stop a long batch between records. Taking the GIL per record
     // would make the batch wait on other Python threads, so look only every
@@ -75,6 +178,10 @@ void register_predict(py::module_ &m) {
   py::class_<RecordPrediction>(m, "Record", "One record of a batch (private; see nmrpred.Prediction).")
       .def_property_readonly("record", [](const RecordPrediction &r) { return r.record; })
       .def_property_readonly("title", [](const RecordPrediction &r) { return r.title; })
+      .def_property_readonly("tables_version",
+                             [](const RecordPrediction &r) {
+                               return r.prediction ? r.prediction->tables_version : std::string();
+                             })
       .def_property_readonly("ok", &RecordPrediction::ok)
       .def_property_readonly("status", [](const RecordPrediction &r) { return static_cast<int>(r.status); })
       .def_property_readonly("status_name",
@@ -135,6 +242,32 @@ void register_predict(py::module_ &m) {
            [](const RecordPrediction &r) {
              return r.prediction ? r.prediction->hose : std::vector<std::string>{};
            })
+      .def("shifts", [](const RecordPrediction &r) { return per_atom_shift(r, [](const Shift &s) { return s.ppm; }); })
+      .def("shift_uncertainties",
+           [](const RecordPrediction &r) {
+             return per_atom_shift(r, [](const Shift &s) { return s.uncertainty_ppm; });
+           })
+      .def("shift_methods",
+           [](const RecordPrediction &r) {
+             std::vector<std::optional<std::string>> out;
+             if (r.prediction)
+               for (std::size_t i = 0; i < r.prediction->molecule.atom_count(); ++i) {
+                 const Shift *s = shift_of(*r.prediction, i);
+                 out.push_back(s ? std::optional<std::string>(s->method) : std::nullopt);
+               }
+             return out;
+           })
+      .def("shift_references",
+           [](const RecordPrediction &r) {
+             std::vector<std::vector<std::string>> out;
+             if (r.prediction)
+               for (std::size_t i = 0; i < r.prediction->molecule.atom_count(); ++i) {
+                 const Shift *s = shift_of(*r.prediction, i);
+                 out.push_back(s ? s->references : std::vector<std::string>{});
+               }
+             return out;
+           })
+      .def("signals", &signals_of)
       .def("elements",
            [](const RecordPrediction &r) {
              std::vector<std::string> out;
@@ -152,8 +285,14 @@ void register_predict(py::module_ &m) {
           },
           py::arg("indent") = -1);
 
-  m.def("predict_records", &predict_records, py::arg("text"), py::arg("format"), py::arg("spheres"),
-        "Reads and predicts every record of text; the GIL is released while it works.");
+  py::class_<PyContext>(m, "Context", "Tables and their lock (private; see nmrpred.Context).")
+      .def(py::init<const std::optional<std::string> &>(), py::arg("tables_dir"))
+      .def_property_readonly("tables_version", &PyContext::tables_version)
+      .def("add_reference", &PyContext::add_reference, py::arg("text"), py::arg("name"))
+      .def("reference_json", &PyContext::reference_json)
+      .def("predict_records", &PyContext::predict_records, py::arg("text"), py::arg("format"), py::arg("spheres"),
+           py::arg("blind"), py::arg("predict_shifts"),
+           "Reads and predicts every record of text; the GIL is released while it works.");
   m.def("max_hose_spheres", [] { return kMaxHoseSpheres; });
   m.def("default_hose_spheres", [] { return kDefaultHoseSpheres; });
 }

@@ -5,14 +5,20 @@ NMRPRED_BUILD_DIR (default <repo>/build) says where the build is; the library
 is <build>/lib/libnmrpred.so.
 
 References outside the project:
-  * RDKit (Debian python3-rdkit) Chem.AddHs: atom counts.
+  * RDKit (Debian python3-rdkit) Chem.AddHs: atom counts and the hydrogens on
+    each carbon.
   * Common practice (any introductory NMR text): ethanol has three proton sets
-    (CH3, CH2, OH) and two carbon environments; benzene has one of each.
+    (CH3, CH2, OH) and two carbon environments; benzene has one of each;
+    toluene has five 13C signals; equivalent carbons resonate together.
+  * GOTTLIEB-1997 (tables/SOURCES.md), Table 2: 13C of toluene in CDCl3 (from
+    memory), the built-in record "toluene" of tables/reference/aromatic.tsv.
   * The exported-symbol check reads the dynamic symbol table with binutils' nm.
+Records with "demo-" ids are demo data with invented values, not published.
 """
 
 import ctypes
 import json
+import math
 import os
 import pathlib
 import re
@@ -27,11 +33,17 @@ BUILD_DIR = pathlib.Path(os.environ.get("NMRPRED_BUILD_DIR", REPO_ROOT / "build"
 LIB_PATH = BUILD_DIR / "lib" / "libnmrpred.so"
 HEADER = REPO_ROOT / "capi" / "include" / "nmrpred.h"
 
-NMR_OK, NMR_ERR_ARGUMENT, NMR_ERR_INPUT, NMR_ERR_UNSUPPORTED = 0, 1, 2, 3
-NMR_OPT_HOSE_SPHERES = 3
+NMR_OK, NMR_ERR_ARGUMENT, NMR_ERR_INPUT, NMR_ERR_UNSUPPORTED, NMR_ERR_TABLES = 0, 1, 2, 3, 4
+NMR_OPT_HOSE_SPHERES, NMR_OPT_BLIND, NMR_OPT_PREDICT_SHIFTS = 3, 4, 5
+NMR_NUCLEUS_1H, NMR_NUCLEUS_13C = 1, 13
+
+# Demo data (invented values, not published shifts).
+DEMO_TOLUENE = ("id\tsmiles\tsolvent\tc13\th1\tsource\n"
+                "demo-user-toluene\tCc1ccccc1\tCDCl3\t0=10.0;1=20.0;2,6=30.0;3,5=40.0;4=50.0\t-\tdemo data\n")
 
 c_size_p = ctypes.POINTER(ctypes.c_size_t)
 c_int_p = ctypes.POINTER(ctypes.c_int)
+c_double_p = ctypes.POINTER(ctypes.c_double)
 c_char_pp = ctypes.POINTER(ctypes.c_char_p)
 vp = ctypes.c_void_p
 vpp = ctypes.POINTER(ctypes.c_void_p)
@@ -46,10 +58,12 @@ SIGNATURES = {
     "nmr_context_free": (None, [vp]),
     "nmr_context_last_error": (ctypes.c_char_p, [vp]),
     "nmr_context_tables_version": (ctypes.c_char_p, [vp]),
+    "nmr_context_add_reference": (ctypes.c_int, [vp, ctypes.c_char_p]),
     "nmr_context_set_option_double": (ctypes.c_int, [vp, ctypes.c_int, ctypes.c_double]),
     "nmr_context_get_option_double": (ctypes.c_int, [vp, ctypes.c_int, ctypes.POINTER(ctypes.c_double)]),
     "nmr_predict": (ctypes.c_int, [vpp, vp, ctypes.c_char_p, ctypes.c_char_p]),
     "nmr_result_free": (None, [vp]),
+    "nmr_result_tables_version": (ctypes.c_char_p, [vp]),
     "nmr_result_record_count": (ctypes.c_size_t, [vp]),
     "nmr_result_failed_count": (ctypes.c_size_t, [vp]),
     "nmr_result_record_status": (ctypes.c_int, [vp, ctypes.c_size_t]),
@@ -69,6 +83,19 @@ SIGNATURES = {
     "nmr_result_atom_class": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_size_p]),
     "nmr_result_atom_topological_class": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_size_p]),
     "nmr_result_atom_hose": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_char_pp]),
+    "nmr_result_atom_shift": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_double_p, c_double_p]),
+    "nmr_result_atom_shift_method": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_char_pp]),
+    "nmr_result_atom_shift_reference_count": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_size_p]),
+    "nmr_result_atom_shift_reference": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, ctypes.c_size_t,
+                                                       c_char_pp]),
+    "nmr_result_signal_count": (ctypes.c_size_t, [vp, ctypes.c_size_t, ctypes.c_int]),
+    "nmr_result_signal_shift": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t, c_double_p,
+                                               c_double_p]),
+    "nmr_result_signal_attached_h": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t, c_int_p]),
+    "nmr_result_signal_method": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t, c_char_pp]),
+    "nmr_result_signal_atom_count": (ctypes.c_size_t, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t]),
+    "nmr_result_signal_atom": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t, ctypes.c_size_t,
+                                              c_size_p]),
     "nmr_result_to_json": (ctypes.c_int, [vp, vpp]),
     "nmr_result_record_to_json": (ctypes.c_int, [vp, ctypes.c_size_t, vpp]),
     "nmr_string_free": (None, [vp]),
@@ -166,15 +193,45 @@ def test_context_options_and_errors(lib, ctx):
     assert last_error(lib, ctx) == ""
 
 
-def test_context_with_a_tables_dir_reports_why(lib):
+def test_context_with_a_missing_tables_dir_reports_why(lib):
     handle = ctypes.c_void_p()
     rc = lib.nmr_context_new(ctypes.byref(handle), b"some/tables")
     try:
-        assert rc == NMR_ERR_UNSUPPORTED
+        assert rc == NMR_ERR_TABLES
         assert handle.value, "a failed nmr_context_new still hands back a context"
         assert "some/tables" in last_error(lib, handle)
+        assert lib.nmr_context_tables_version(handle).decode() == ""
+        rc, res = predict(lib, handle, "CCO")
+        assert rc == NMR_ERR_TABLES and not res.value
+        assert last_error(lib, handle)
     finally:
         lib.nmr_context_free(handle)
+
+
+def test_context_with_the_project_tables_dir_has_the_built_in_data(lib, ctx):
+    handle = ctypes.c_void_p()
+    assert lib.nmr_context_new(ctypes.byref(handle), str(REPO_ROOT / "tables").encode()) == NMR_OK, \
+        last_error(lib, handle)
+    try:
+        from_dir = lib.nmr_context_tables_version(handle).decode()
+        builtin = lib.nmr_context_tables_version(ctx).decode()
+        assert from_dir.startswith("dir-") and builtin.startswith("builtin-")
+        assert from_dir.split("-", 1)[1] == builtin.split("-", 1)[1]
+    finally:
+        lib.nmr_context_free(handle)
+
+
+def test_switch_options(lib, ctx):
+    value = ctypes.c_double()
+    for key, default in ((NMR_OPT_BLIND, 0.0), (NMR_OPT_PREDICT_SHIFTS, 1.0)):
+        assert lib.nmr_context_get_option_double(ctx, key, ctypes.byref(value)) == NMR_OK
+        assert value.value == default
+        for bad in (0.5, 2.0, -1.0, float("nan")):
+            assert lib.nmr_context_set_option_double(ctx, key, bad) == NMR_ERR_ARGUMENT
+            assert last_error(lib, ctx)
+        assert lib.nmr_context_set_option_double(ctx, key, 1.0 - default) == NMR_OK
+        assert lib.nmr_context_get_option_double(ctx, key, ctypes.byref(value)) == NMR_OK
+        assert value.value == 1.0 - default
 
 
 def atom_props(lib, res, rec, i):
@@ -233,6 +290,149 @@ def test_ethanol(lib, ctx):
         assert [a["class"] for a in doc[0]["atoms"]] == [a["class"] for a in atoms]
     finally:
         lib.nmr_result_free(res)
+
+
+def atom_shift(lib, res, rec, i):
+    ppm, unc = ctypes.c_double(), ctypes.c_double()
+    assert lib.nmr_result_atom_shift(res, rec, i, ctypes.byref(ppm), ctypes.byref(unc)) == NMR_OK
+    method = ctypes.c_char_p()
+    assert lib.nmr_result_atom_shift_method(res, rec, i, ctypes.byref(method)) == NMR_OK
+    count = ctypes.c_size_t()
+    assert lib.nmr_result_atom_shift_reference_count(res, rec, i, ctypes.byref(count)) == NMR_OK
+    refs = []
+    for k in range(count.value):
+        ref = ctypes.c_char_p()
+        assert lib.nmr_result_atom_shift_reference(res, rec, i, k, ctypes.byref(ref)) == NMR_OK
+        refs.append(ref.value.decode())
+    ref = ctypes.c_char_p()
+    assert lib.nmr_result_atom_shift_reference(res, rec, i, count.value, ctypes.byref(ref)) == NMR_ERR_ARGUMENT
+    return {"ppm": ppm.value, "uncertainty": unc.value, "method": method.value.decode(), "references": refs}
+
+
+def signals(lib, res, rec, nucleus=NMR_NUCLEUS_13C):
+    out = []
+    for k in range(lib.nmr_result_signal_count(res, rec, nucleus)):
+        ppm, unc = ctypes.c_double(), ctypes.c_double()
+        assert lib.nmr_result_signal_shift(res, rec, nucleus, k, ctypes.byref(ppm), ctypes.byref(unc)) == NMR_OK
+        h = ctypes.c_int()
+        assert lib.nmr_result_signal_attached_h(res, rec, nucleus, k, ctypes.byref(h)) == NMR_OK
+        method = ctypes.c_char_p()
+        assert lib.nmr_result_signal_method(res, rec, nucleus, k, ctypes.byref(method)) == NMR_OK
+        atoms = []
+        for i in range(lib.nmr_result_signal_atom_count(res, rec, nucleus, k)):
+            a = ctypes.c_size_t()
+            assert lib.nmr_result_signal_atom(res, rec, nucleus, k, i, ctypes.byref(a)) == NMR_OK
+            atoms.append(a.value)
+        out.append({"shift": ppm.value, "atoms": atoms, "attached_h": h.value,
+                    "shift_uncertainty": unc.value, "shift_method": method.value.decode()})
+    return out
+
+
+def record_json(lib, res, rec):
+    out = ctypes.c_void_p()
+    assert lib.nmr_result_record_to_json(res, rec, ctypes.byref(out)) == NMR_OK
+    try:
+        return json.loads(ctypes.string_at(out.value).decode())
+    finally:
+        lib.nmr_string_free(out)
+
+
+@pytest.mark.parametrize("smiles", ["Cc1ccccc1", "CC(C)(C)c1ccc(O)cc1", "CCOC(=O)CC(=O)OCC", "OC1CCCCC1"])
+def test_shift_and_signal_accessors_agree_with_the_json_and_rdkit(lib, ctx, smiles):
+    rc, res = predict(lib, ctx, smiles, "smiles")
+    assert rc == NMR_OK, last_error(lib, ctx)
+    try:
+        mol = Chem.MolFromSmiles(smiles)
+        n = lib.nmr_result_atom_count(res, 0)
+        shifts = [atom_shift(lib, res, 0, i) for i in range(n)]
+        rec = record_json(lib, res, 0)
+        assert rec["tables_version"] == lib.nmr_result_tables_version(res).decode()
+        assert rec["tables_version"] == lib.nmr_context_tables_version(ctx).decode()
+        for i, (atom, s) in enumerate(zip(rec["atoms"], shifts)):
+            if atom["element"] == "C":
+                assert not math.isnan(s["ppm"]) and s["uncertainty"] > 0, i
+                assert atom["shift"] == s["ppm"] and atom["shift_uncertainty"] == s["uncertainty"]
+                assert atom["shift_method"] == s["method"] and s["method"]
+                assert atom["shift_references"] == s["references"]
+            else:
+                assert math.isnan(s["ppm"]) and math.isnan(s["uncertainty"]), i
+                assert s["method"] == "" and s["references"] == []
+                assert "shift" not in atom
+        sig = signals(lib, res, 0)
+        assert sig == rec["signals"]["13C"]
+        assert [g["shift"] for g in sig] == sorted((g["shift"] for g in sig), reverse=True)
+        # One signal per class of carbons, all atoms of a class in it (common practice).
+        classes = [a["class"] for a in rec["atoms"]]
+        carbons = [i for i, a in enumerate(rec["atoms"]) if a["element"] == "C"]
+        assert sorted(i for g in sig for i in g["atoms"]) == carbons
+        for g in sig:
+            assert {classes[i] for i in g["atoms"]} == {classes[g["atoms"][0]]}
+            assert {shifts[i]["ppm"] for i in g["atoms"]} == {g["shift"]}
+            # RDKit's hydrogen count of the carbon (source: RDKit GetTotalNumHs).
+            assert g["attached_h"] == mol.GetAtomWithIdx(g["atoms"][0]).GetTotalNumHs()
+        assert len({classes[i] for i in carbons}) == len(sig)
+        assert lib.nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H) == 0
+        assert lib.nmr_result_signal_count(res, 0, 99) == 0
+    finally:
+        lib.nmr_result_free(res)
+
+
+def toluene_references(lib, ctx, blind):
+    assert lib.nmr_context_set_option_double(ctx, NMR_OPT_BLIND, 1.0 if blind else 0.0) == NMR_OK
+    rc, res = predict(lib, ctx, "Cc1ccccc1", "smiles")
+    assert rc == NMR_OK, last_error(lib, ctx)
+    try:
+        return [atom_shift(lib, res, 0, i) for i in range(7)]
+    finally:
+        lib.nmr_result_free(res)
+
+
+def test_blind_mode_leaves_out_the_compound_itself(lib, ctx):
+    seen = toluene_references(lib, ctx, blind=False)
+    assert all("toluene" in s["references"] for s in seen)
+    # GOTTLIEB-1997, Table 2 (from memory): toluene CH3 21.5, para C 125.3.
+    assert abs(seen[0]["ppm"] - 21.5) <= 0.01 and abs(seen[4]["ppm"] - 125.3) <= 0.01
+    blind = toluene_references(lib, ctx, blind=True)
+    assert not any("toluene" in s["references"] for s in blind)
+    assert blind != seen
+
+
+def test_user_records_come_first_and_bad_ones_are_refused(lib, ctx):
+    before = lib.nmr_context_tables_version(ctx).decode()
+    bad = b"id\tsmiles\tsolvent\tc13\th1\tsource\ndemo-a\tCC\tCDCl3\t0=7.0;1=x\t-\tdemo\n"
+    assert lib.nmr_context_add_reference(ctx, bad) == NMR_ERR_TABLES
+    assert ":2:" in last_error(lib, ctx)
+    assert lib.nmr_context_add_reference(ctx, None) == NMR_ERR_ARGUMENT
+    assert last_error(lib, ctx)
+    assert lib.nmr_context_tables_version(ctx).decode() == before
+    assert lib.nmr_context_add_reference(ctx, DEMO_TOLUENE.encode()) == NMR_OK, last_error(lib, ctx)
+    after = lib.nmr_context_tables_version(ctx).decode()
+    assert after.startswith(before + "+user-")
+    shifts = toluene_references(lib, ctx, blind=False)
+    for atom, want in ((0, 10.0), (1, 20.0), (2, 30.0), (6, 30.0), (3, 40.0), (5, 40.0), (4, 50.0)):  # demo data
+        assert abs(shifts[atom]["ppm"] - want) <= 0.01, atom
+        assert shifts[atom]["references"] == ["demo-user-toluene"]
+    assert lib.nmr_context_add_reference(ctx, DEMO_TOLUENE.encode()) == NMR_ERR_TABLES
+    assert "demo-user-toluene" in last_error(lib, ctx)
+
+
+def test_shifts_off_keeps_the_rest(lib, ctx):
+    rc, with_shifts = predict(lib, ctx, "CC(O)CC", "smiles")
+    assert rc == NMR_OK
+    assert lib.nmr_context_set_option_double(ctx, NMR_OPT_PREDICT_SHIFTS, 0.0) == NMR_OK
+    rc, without = predict(lib, ctx, "CC(O)CC", "smiles")
+    assert rc == NMR_OK
+    try:
+        a, b = record_json(lib, with_shifts, 0), record_json(lib, without, 0)
+        assert b["signals"] == {} and len(a["signals"]["13C"]) == 4
+        assert all("shift" not in atom for atom in b["atoms"])
+        strip = [{k: v for k, v in atom.items() if not k.startswith("shift")} for atom in a["atoms"]]
+        assert strip == b["atoms"]
+        assert lib.nmr_result_signal_count(without, 0, NMR_NUCLEUS_13C) == 0
+        assert math.isnan(atom_shift(lib, without, 0, 0)["ppm"])
+    finally:
+        lib.nmr_result_free(with_shifts)
+        lib.nmr_result_free(without)
 
 
 def test_a_bad_record_in_a_batch(lib, ctx):

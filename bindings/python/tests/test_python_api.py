@@ -15,6 +15,14 @@ References outside the project, named beside each check:
     as the CH2 protons of ethanol, are equivalent; diastereotopic protons,
     such as the CH2 protons of butan-2-ol, are not. A HOSE code describes an
     atom's surroundings only, so atoms a graph automorphism exchanges share it.
+    Equivalent nuclei resonate together (one shift, one signal); a 13C
+    spectrum is listed downfield first; DEPT-style editing tells C, CH, CH2
+    and CH3 apart by the protons on the carbon.
+  * GOTTLIEB-1997 (tables/SOURCES.md), Table 2: 13C of toluene in CDCl3 (from
+    memory), kept as the built-in record "toluene" in
+    tables/reference/aromatic.tsv (read here as text, independently of the
+    library's parser).
+Records with "demo-" ids are demo data with invented values, not published.
 """
 
 import json
@@ -312,6 +320,223 @@ def test_json_matches_the_arrays():
         assert atom["hose"] == p.hose[i]
     assert "\n" not in p.to_json()
     assert json.loads(p.to_json(indent=2)) == rec
+
+
+# ------------------------------------------------------------------ shifts
+
+# Demo data (invented values, not published shifts): a user record for toluene.
+DEMO_TOLUENE = ("id\tsmiles\tsolvent\tc13\th1\tsource\n"
+                "demo-user-toluene\tCc1ccccc1\tCDCl3\t0=10.0;1=20.0;2,6=30.0;3,5=40.0;4=50.0\t-\tdemo data\n")
+DEMO_TOLUENE_PPM = {0: 10.0, 1: 20.0, 2: 30.0, 6: 30.0, 3: 40.0, 5: 40.0, 4: 50.0}
+
+
+def table_record(record_id):
+    """A row of tables/reference/*.tsv read as plain text: {column: field}."""
+    for path in sorted((REPO_ROOT / "tables" / "reference").glob("*.tsv")):
+        lines = [line for line in path.read_text().splitlines() if line and not line.startswith("#")]
+        header = lines[0].split("\t")
+        for line in lines[1:]:
+            row = dict(zip(header, line.split("\t")))
+            if row["id"] == record_id:
+                row["file"] = f"reference/{path.name}"
+                return row
+    raise AssertionError(f"no record {record_id}")
+
+
+def c13_of_record(record_id):
+    """Atom -> ppm from the c13 field (only the plain i,j=v form is needed here)."""
+    out = {}
+    for entry in table_record(record_id)["c13"].split(";"):
+        atoms, value = entry.split("=")
+        for a in atoms.split(","):
+            out[int(a)] = float(value)
+    return out
+
+
+def test_shift_arrays_are_read_only_float64_with_nan_for_atoms_without_a_shift():
+    p = nmrpred.predict("CC(=O)OCC")
+    for name in ("shifts", "shift_uncertainties"):
+        a = getattr(p, name)
+        assert isinstance(a, np.ndarray) and a.dtype == np.float64 and a.shape == (p.atom_count,), name
+        with pytest.raises(ValueError):
+            a[0] = 1.0
+    carbon = np.array([e == "C" for e in p.elements])
+    assert not np.any(np.isnan(p.shifts[carbon])) and np.all(p.shift_uncertainties[carbon] > 0)
+    assert np.all(np.isnan(p.shifts[~carbon])) and np.all(np.isnan(p.shift_uncertainties[~carbon]))
+    assert len(p.shift_methods) == len(p.shift_references) == p.atom_count
+    for i in range(p.atom_count):
+        if carbon[i]:
+            assert isinstance(p.shift_methods[i], str) and p.shift_methods[i]
+            assert all(isinstance(r, str) for r in p.shift_references[i])
+        else:
+            assert p.shift_methods[i] is None and p.shift_references[i] == []
+    assert p.tables_version.startswith("builtin-")
+
+
+def test_known_compound_is_looked_up_and_blind_mode_leaves_it_out():
+    want = c13_of_record("toluene")  # GOTTLIEB-1997, Table 2 (from memory)
+    p = nmrpred.predict("Cc1ccccc1")
+    for atom, ppm in want.items():
+        assert abs(p.shifts[atom] - ppm) <= 0.01, atom
+        assert "toluene" in p.shift_references[atom]
+    b = nmrpred.predict("Cc1ccccc1", blind=True)
+    assert not any("toluene" in refs for refs in b.shift_references)
+    assert not np.any(np.isnan(b.shifts[:7]))
+    assert b.to_json() != p.to_json()
+
+
+@pytest.mark.parametrize("smiles", ["Cc1ccc(C)cc1", "CC(C)(C)c1ccccc1", "CCOCC", "CC(O)CC", "OC(=O)CC(O)(CC(=O)O)C(=O)O",
+                                    "[2H]C([2H])([2H])c1ccccc1", "C"])
+def test_signals_group_equivalent_carbons_downfield_first(smiles):
+    p = nmrpred.predict(smiles)
+    mol_h = rdkit_with_h(smiles)
+    rd_heavy = [a.GetIdx() for a in mol_h.GetAtoms() if a.GetAtomicNum() != 1]
+    sig = p.signals["13C"]
+    assert list(p.signals) == ["13C"]
+    assert [g["shift"] for g in sig] == sorted((g["shift"] for g in sig), reverse=True)
+    carbons = [i for i, e in enumerate(p.elements) if e == "C"]
+    assert sorted(i for g in sig for i in g["atoms"]) == carbons
+    assert len(sig) == len({int(p.classes[i]) for i in carbons})
+    for g in sig:
+        assert g["atoms"] == sorted(g["atoms"])
+        assert len({int(p.classes[i]) for i in g["atoms"]}) == 1
+        assert {float(p.shifts[i]) for i in g["atoms"]} == {g["shift"]}
+        assert {float(p.shift_uncertainties[i]) for i in g["atoms"]} == {g["shift_uncertainty"]}
+        assert {p.shift_methods[i] for i in g["atoms"]} == {g["shift_method"]}
+        # Protons on the carbon: RDKit's count of hydrogens that are not 2H.
+        # Our heavy atoms keep their input order; RDKit also numbers the
+        # bracket hydrogens ([2H]) written in the SMILES, so map by position.
+        atom = mol_h.GetAtomWithIdx(rd_heavy[g["atoms"][0]])
+        protons = sum(1 for n in atom.GetNeighbors() if n.GetAtomicNum() == 1 and n.GetIsotope() in (0, 1))
+        assert g["attached_h"] == protons
+
+
+def test_shift_json_matches_the_arrays():
+    p = nmrpred.predict("CC(O)c1ccncc1")
+    rec = json.loads(p.to_json())
+    assert rec["tables_version"] == p.tables_version
+    assert rec["signals"] == p.signals
+    for i, atom in enumerate(rec["atoms"]):
+        if np.isnan(p.shifts[i]):
+            assert not any(k.startswith("shift") for k in atom)
+        else:
+            assert atom["shift"] == p.shifts[i]
+            assert atom["shift_uncertainty"] == p.shift_uncertainties[i]
+            assert atom["shift_method"] == p.shift_methods[i]
+            assert atom["shift_references"] == p.shift_references[i]
+
+
+def test_predict_shifts_false_gives_classes_and_codes_only():
+    full = nmrpred.predict("CC(O)CC")
+    bare = nmrpred.predict("CC(O)CC", predict_shifts=False)
+    assert np.all(np.isnan(bare.shifts)) and np.all(np.isnan(bare.shift_uncertainties))
+    assert bare.signals == {} and all(m is None for m in bare.shift_methods)
+    assert list(bare.classes) == list(full.classes) and bare.hose == full.hose
+    assert [type(i) for i in nmrpred.predict_all("CC\nCCO\n", predict_shifts=False)] == [nmrpred.Prediction] * 2
+
+
+def test_context_with_built_in_tables_matches_the_module_functions():
+    ctx = nmrpred.Context()
+    assert ctx.tables_version == nmrpred.predict("C").tables_version
+    assert ctx.predict("CCOC(=O)C").to_json() == nmrpred.predict("CCOC(=O)C").to_json()
+    items = ctx.predict_all("CC\nC1CC\n", format="smiles", blind=True)
+    assert isinstance(items[0], nmrpred.Prediction) and isinstance(items[1], nmrpred.RecordError)
+
+
+def test_context_reads_a_tables_folder_and_names_it():
+    from_dir = nmrpred.Context(REPO_ROOT / "tables")
+    builtin = nmrpred.Context()
+    assert from_dir.tables_version.startswith("dir-")
+    assert from_dir.tables_version[len("dir-"):] == builtin.tables_version[len("builtin-"):]
+    assert from_dir.predict("Cc1ccccc1").signals == builtin.predict("Cc1ccccc1").signals
+
+
+@pytest.mark.parametrize("where", ["no/such/tables", "tests"])
+def test_context_with_an_unusable_tables_folder_raises_tables_error(where):
+    with pytest.raises(nmrpred.TablesError) as info:
+        nmrpred.Context(str(REPO_ROOT / where))
+    assert "SOURCES.md" in info.value.message
+    assert info.value.code == 4 and not isinstance(info.value, ValueError)
+    with pytest.raises(TypeError):
+        nmrpred.Context(42)
+
+
+def test_user_records_take_precedence_and_are_named():
+    ctx = nmrpred.Context()
+    before = ctx.tables_version
+    ctx.add_reference(DEMO_TOLUENE, name="demo.tsv")
+    assert ctx.tables_version.startswith(before + "+user-")
+    p = ctx.predict("Cc1ccccc1")
+    assert p.tables_version == ctx.tables_version
+    for atom, ppm in DEMO_TOLUENE_PPM.items():
+        assert abs(p.shifts[atom] - ppm) <= 0.01, atom
+        assert p.shift_references[atom] == ["demo-user-toluene"]
+    # Only this context changed.
+    assert abs(nmrpred.predict("Cc1ccccc1").shifts[4] - c13_of_record("toluene")[4]) <= 0.01
+    demo = [r for r in ctx.reference() if r["id"] == "demo-user-toluene"]
+    assert demo == [{"id": "demo-user-toluene", "smiles": "Cc1ccccc1", "solvent": "CDCl3", "source": "demo data",
+                     "file": "demo.tsv", "user": True,
+                     "c13": [{"atoms": [0], "ppm": [10.0]}, {"atoms": [1], "ppm": [20.0]},
+                             {"atoms": [2, 6], "ppm": [30.0]}, {"atoms": [3, 5], "ppm": [40.0]},
+                             {"atoms": [4], "ppm": [50.0]}],
+                     "h1": []}]
+
+
+@pytest.mark.parametrize("text, part", [
+    ("id\tsmiles\tsolvent\tc13\th1\tsource\ndemo-a\tCC\tCDCl3\t0=7.x\t-\tdemo\n", "demo.tsv:2"),
+    ("id\tsmiles\tsolvent\tc13\th1\tsource\ndemo-a\tCC\tCDCl3\t0=7.0\t-\tdemo\ndemo-b\tCC\tCDCl3\n", "demo.tsv:3"),
+    ("id\tsmiles\tsolvent\tc13\th1\tsource\n", "no records"),
+    ("id\tsmiles\tsolvent\tc13\th1\tsource\ntoluene\tCc1ccccc1\tCDCl3\t0=7.0\t-\tdemo\n", "'toluene'"),
+])
+def test_bad_user_records_are_refused_with_their_line_and_change_nothing(text, part):
+    ctx = nmrpred.Context()
+    before = ctx.tables_version
+    with pytest.raises(nmrpred.TablesError) as info:
+        ctx.add_reference(text, name="demo.tsv")
+    assert part in info.value.message
+    assert ctx.tables_version == before
+    with pytest.raises(TypeError):
+        ctx.add_reference(text.encode())
+
+
+def test_reference_lists_the_built_in_records_as_in_the_table_files():
+    refs = nmrpred.Context().reference()
+    assert len({r["id"] for r in refs}) == len(refs)
+    toluene = next(r for r in refs if r["id"] == "toluene")
+    row = table_record("toluene")
+    assert {k: toluene[k] for k in ("smiles", "solvent", "source", "file")} == \
+        {k: row[k] for k in ("smiles", "solvent", "source", "file")}
+    assert toluene["user"] is False
+    got = {a: ppm for entry in toluene["c13"] for a in entry["atoms"] for ppm in entry["ppm"]}
+    assert got == c13_of_record("toluene")
+
+
+def test_add_reference_while_other_threads_predict():
+    """Every prediction sees either the tables before or after the addition,
+    never a mixture, and none fails (the Context's own lock)."""
+    ctx = nmrpred.Context()
+    before = ctx.tables_version
+    results = []
+    lock = threading.Lock()
+
+    def work():
+        for _ in range(5):
+            p = ctx.predict("Cc1ccccc1")
+            with lock:
+                results.append(p)
+
+    threads = [threading.Thread(target=work) for _ in range(3)]
+    for t in threads:
+        t.start()
+    ctx.add_reference(DEMO_TOLUENE)
+    for t in threads:
+        t.join()
+    after = ctx.tables_version
+    assert len(results) == 15
+    for p in results:
+        assert p.tables_version in (before, after)
+        user = p.tables_version == after
+        assert all((refs == ["demo-user-toluene"]) == user for refs in p.shift_references[:7])
 
 
 # ----------------------------------------------------------------- threads

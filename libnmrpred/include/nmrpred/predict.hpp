@@ -5,9 +5,13 @@
 /// The umbrella C++ API: one call takes a molecule (or structure text) through
 /// every stage of the library, and one serializer turns the outcome into the JSON
 /// that the command-line program, the C ABI and the Python package all emit.
+/// Every call has the form result = f(input, tables, options): the data behind
+/// the predictions (Tables, see tables.hpp) is made once by the caller and
+/// passed in; the library keeps no global state.
 ///
 /// Thread rule: every function here is a pure function of its arguments and may
-/// be called from any number of threads at once. Results are plain values.
+/// be called from any number of threads at once, sharing one Tables. Results
+/// are plain values that do not refer to the Tables they came from.
 ///
 /// Errors: functions throw types derived from nmrpred::Error (see error.hpp)
 /// except where a batch records a failure per record instead (predict_record,
@@ -25,6 +29,8 @@
 #include <nmrpred/hose.hpp>
 #include <nmrpred/io.hpp>
 #include <nmrpred/molecule.hpp>
+#include <nmrpred/shifts.hpp>
+#include <nmrpred/tables.hpp>
 #include <nmrpred/version.hpp>
 
 namespace nmrpred {
@@ -34,10 +40,47 @@ namespace nmrpred {
 struct PredictOptions {
   /// Spheres of the HOSE codes, 1..kMaxHoseSpheres (see hose.hpp).
   int hose_spheres = kDefaultHoseSpheres;
+  /// Predict as if every reference compound with the query's constitution were
+  /// absent from the tables (ShiftOptions::blind): an honest figure for
+  /// compounds the tables already hold.
+  bool blind = false;
+  /// Predict chemical shifts. Off: classes and HOSE codes only (the stages
+  /// before shift prediction), for callers that need nothing else and want
+  /// the speed; Prediction::c13 and c13_signals stay empty.
+  bool predict_shifts = true;
 };
 
 /// Throws ArgumentError naming the member if `options` is out of range.
 NMRPRED_API void validate(const PredictOptions &options);
+
+/// One line of a predicted spectrum: the atoms of one chemical equivalence
+/// class of one nucleus, which resonate together. Plain value.
+struct Signal {
+  Nucleus nucleus = Nucleus::C13;  ///< nucleus of the atoms
+  double ppm = 0;              ///< chemical shift, ppm from TMS (shared by every atom of the class)
+  double uncertainty_ppm = 0;  ///< one standard deviation, ppm
+  /// Atoms of the class, ascending (for 13C: carbon indices).
+  std::vector<std::size_t> atoms;
+  /// 13C: protons (hydrogen atoms other than 2H and 3H) bonded to each of the
+  /// atoms, equal for all of them: 0 quaternary C, 1 CH, 2 CH2, 3 CH3 (4 for
+  /// methane), the number DEPT-style editing tells apart. 0 for other nuclei.
+  int attached_h = 0;
+  std::string method;  ///< how the shift was obtained (Shift::method of the atoms)
+  friend bool operator==(const Signal &a, const Signal &b) {
+    return a.nucleus == b.nucleus && a.ppm == b.ppm && a.uncertainty_ppm == b.uncertainty_ppm &&
+           a.atoms == b.atoms && a.attached_h == b.attached_h && a.method == b.method;
+  }
+};
+
+/// Groups per-atom shifts of one nucleus into signals, one per chemical class
+/// of `classes`, sorted by decreasing shift (spectra are read downfield first;
+/// ties by lowest atom index). `shifts` must come from the same molecule and
+/// classes (for example predict_c13); equivalent atoms carry equal shifts there,
+/// so each signal takes the values of its lowest-indexed atom. Throws
+/// ArgumentError if a shift names an atom outside `molecule` or `classes`
+/// belongs to another molecule. Thread rule: pure.
+NMRPRED_API std::vector<Signal> group_signals(const Molecule &molecule, const AtomClasses &classes,
+                                              const std::vector<Shift> &shifts);
 
 /// Everything the library derives for one molecule. Plain value; per-atom vectors
 /// are indexed like molecule.atoms() (heavy atoms first, then hydrogens).
@@ -46,16 +89,37 @@ struct Prediction {
   AtomClasses classes;
   /// Per atom: HOSE code with PredictOptions::hose_spheres spheres.
   std::vector<std::string> hose;
+  /// 13C shift of every carbon, ascending by atom (predict_c13); empty when
+  /// PredictOptions::predict_shifts is off. Use shift() to look up one atom.
+  std::vector<Shift> c13;
+  /// The 13C signals (group_signals of c13), by decreasing shift; empty when
+  /// shifts were not predicted.
+  std::vector<Signal> c13_signals;
+  /// Tables::version() of the tables that produced this prediction.
+  std::string tables_version;
+  /// The options that produced this prediction.
+  PredictOptions options;
   /// Remarks from reading and from every stage (unspecified stereo given a
-  /// canonical configuration, search limits reached, ...). Never errors.
+  /// canonical configuration, search limits reached, atoms only the shift
+  /// engine's last resort could handle, ...). Never errors.
   std::vector<std::string> warnings;
+
+  /// The predicted shift of `atom` for `nucleus`, or null if there is none (the
+  /// atom is not of that nucleus's element, shifts were not predicted, or the
+  /// nucleus is not predicted yet: this version predicts 13C only). Borrowed:
+  /// valid while this Prediction is unchanged. Never throws.
+  NMRPRED_API const Shift *shift(std::size_t atom, Nucleus nucleus) const noexcept;
+  /// The signals of `nucleus` (empty if it was not predicted). Never throws.
+  NMRPRED_API const std::vector<Signal> &signals(Nucleus nucleus) const noexcept;
 };
 
-/// Runs every stage on `molecule`. Throws ArgumentError for bad options and
-/// whatever the stages throw (InputError for a graph they cannot handle).
-NMRPRED_API Prediction predict(const Molecule &molecule, const PredictOptions &options = {});
+/// Runs every stage on `molecule` with the data of `tables`. Throws
+/// ArgumentError for bad options and whatever the stages throw (InputError for
+/// a graph they cannot handle). The result copies what it needs from `tables`
+/// (version, reference ids), so it may outlive them.
+NMRPRED_API Prediction predict(const Molecule &molecule, const Tables &tables, const PredictOptions &options = {});
 /// Same as above; takes over `molecule` instead of copying it.
-NMRPRED_API Prediction predict(Molecule &&molecule, const PredictOptions &options = {});
+NMRPRED_API Prediction predict(Molecule &&molecule, const Tables &tables, const PredictOptions &options = {});
 
 /// Outcome of one record of a batch: a prediction or the reason it failed.
 struct RecordPrediction {
@@ -82,13 +146,15 @@ struct RecordPrediction {
 /// (any other std::exception) is recorded as Status::Internal so the batch goes
 /// on. Throws ArgumentError only for bad `options` (checked before anything
 /// else) and std::bad_alloc when memory runs out.
-NMRPRED_API RecordPrediction predict_record(ReadRecord record, const PredictOptions &options = {});
+NMRPRED_API RecordPrediction predict_record(ReadRecord record, const Tables &tables,
+                                            const PredictOptions &options = {});
 
-/// Reads every record of `text` and predicts each one. Records that fail keep
-/// their place in the output with their status and message. Throws
-/// ArgumentError for bad options; an input with no record at all gives an empty
-/// vector (callers decide whether that is an error).
-NMRPRED_API std::vector<RecordPrediction> predict_all(std::string_view text, Format format = Format::Auto,
+/// Reads every record of `text` (in `format`; Format::Auto recognises it) and
+/// predicts each one with the data of `tables`. Records that fail keep their
+/// place in the output with their status and message. Throws ArgumentError for
+/// bad options; an input with no record at all gives an empty vector (callers
+/// decide whether that is an error).
+NMRPRED_API std::vector<RecordPrediction> predict_all(std::string_view text, Format format, const Tables &tables,
                                                       const PredictOptions &options = {});
 
 /// Formatting of the JSON text.
@@ -98,11 +164,21 @@ struct JsonOptions {
 };
 
 /// Serializes one record. A successful record is
-///   {"record", "title", "atoms": [{"index", "element", "isotope", "charge",
-///    "attached_to", "class", "topological_class", "hose"}, ...], "warnings",
+///   {"record", "title", "tables_version",
+///    "atoms": [{"index", "element", "isotope", "charge", "attached_to",
+///               "class", "topological_class", "hose",
+///               "shift", "shift_uncertainty", "shift_method", "shift_references"}, ...],
+///    "signals": {"13C": [{"shift", "atoms", "attached_h", "shift_uncertainty",
+///                         "shift_method"}, ...]},
+///    "warnings",
 ///    "counts": {"atoms", "heavy_atoms", "classes", "topological_classes"}}
 /// with "isotope" the mass number or null (natural abundance), "attached_to" the
-/// heavy atom a hydrogen is bonded to or null. A failed record is
+/// heavy atom a hydrogen is bonded to or null. The four "shift*" keys (ppm from
+/// TMS, one standard deviation in ppm, the method in words, ids of the
+/// reference compounds behind the value) appear only on atoms that have a
+/// predicted shift (in this version carbons, when shifts were predicted).
+/// "signals" holds one list per predicted nucleus (none when shifts were not
+/// predicted), each sorted by decreasing shift (see Signal). A failed record is
 ///   {"record", "error": {"code", "name", "message"}}
 /// with "code" the C status number and "name" its NMR_ERR_* constant. Keys are
 /// only ever added. Text that is not valid UTF-8 (titles) has the bad bytes
@@ -111,6 +187,15 @@ NMRPRED_API std::string to_json(const RecordPrediction &record, const JsonOption
 
 /// Serializes records as a JSON array of the objects above.
 NMRPRED_API std::string to_json(const std::vector<RecordPrediction> &records, const JsonOptions &options = {});
+
+/// Serializes one reference compound of Tables::reference() as
+///   {"id", "smiles", "solvent", "source", "file", "user",
+///    "c13": [{"atoms", "ppm"}, ...], "h1": [{"atoms", "ppm"}, ...]}
+/// where "atoms" are heavy-atom indices in the record's SMILES order and "ppm"
+/// is a list of one value (it applies to every listed atom) or two (a
+/// diastereotopic proton pair on one atom, or an unassigned pair of two atoms;
+/// see tables/FORMAT.md). Throws only std::bad_alloc.
+NMRPRED_API std::string to_json(const ReferenceCompound &compound, const JsonOptions &options = {});
 
 /// Name of the C constant for a status ("NMR_OK", "NMR_ERR_INPUT", ...), as used
 /// in the JSON "name" key. Static text; never null.

@@ -45,6 +45,7 @@ struct ReferenceCompound {
   std::vector<ReferenceAssignment> h1;
   bool user = false;  ///< added by the user at run time
   std::string file;   ///< table file it came from
+  std::size_t line = 0;  ///< line of the record in that file (1-based)
 };
 
 /// An immutable set of tables.

@@ -1,8 +1,8 @@
 // JSON output shared by the command-line program, the C ABI and Python.
 //
 // Each top-level key of a record is built by its own section function, so a
-// later stage (shifts, signals) adds one function and one line in
-// record_value() without touching the others. ordered_json keeps keys in the
+// later stage adds one function and one line in record_value() without
+// touching the others. ordered_json keeps keys in the
 // order they are written, which keeps the output readable and diff-friendly.
 
 #include <nmrpred/predict.hpp>
@@ -25,11 +25,37 @@ std::int64_t attached_heavy_atom(const Molecule &m, std::size_t i) {
   return a;
 }
 
+/// Nucleus an atom's shift belongs to: 1H for hydrogen, 13C for carbon.
+/// Other elements have none yet; returns false for them.
+bool nucleus_of(const Atom &a, Nucleus &out) {
+  if (a.atomic_number == 6) {
+    out = Nucleus::C13;
+    return true;
+  }
+  if (a.atomic_number == 1) {
+    out = Nucleus::H1;
+    return true;
+  }
+  return false;
+}
+
+/// Label of a nucleus in "signals" (isotope notation, as spectra are labelled).
+const char *nucleus_label(Nucleus n) { return n == Nucleus::C13 ? "13C" : "1H"; }
+
+void add_shift(Json &atom, const Shift &s) {
+  atom["shift"] = s.ppm;
+  atom["shift_uncertainty"] = s.uncertainty_ppm;
+  atom["shift_method"] = s.method;
+  atom["shift_references"] = s.references;
+}
+
 Json atoms_section(const Prediction &p) {
   const Molecule &m = p.molecule;
   Json atoms = Json::array();
   for (std::size_t i = 0; i < m.atom_count(); ++i) {
     const Atom &a = m.atom(i);
+    Nucleus nucleus{};
+    const Shift *shift = nucleus_of(a, nucleus) ? p.shift(i, nucleus) : nullptr;
     Json atom;
     atom["index"] = i;
     atom["element"] = Molecule::element_symbol(a.atomic_number);
@@ -39,9 +65,32 @@ Json atoms_section(const Prediction &p) {
     atom["class"] = p.classes.chemical.at(i);
     atom["topological_class"] = p.classes.topological.at(i);
     atom["hose"] = p.hose.at(i);
+    if (shift) add_shift(atom, *shift);
     atoms.push_back(std::move(atom));
   }
   return atoms;
+}
+
+Json signal_value(const Signal &g) {
+  Json j;
+  j["shift"] = g.ppm;
+  j["atoms"] = g.atoms;
+  j["attached_h"] = g.attached_h;
+  j["shift_uncertainty"] = g.uncertainty_ppm;
+  j["shift_method"] = g.method;
+  return j;
+}
+
+Json signals_section(const Prediction &p) {
+  // A nucleus appears only when it was predicted, so an empty list means "no
+  // atoms of that nucleus", never "not computed".
+  Json signals = Json::object();
+  if (p.options.predict_shifts) {
+    Json list = Json::array();
+    for (const auto &g : p.signals(Nucleus::C13)) list.push_back(signal_value(g));
+    signals[nucleus_label(Nucleus::C13)] = std::move(list);
+  }
+  return signals;
 }
 
 Json counts_section(const Prediction &p) {
@@ -70,9 +119,35 @@ Json record_value(const RecordPrediction &r) {
   }
   const Prediction &p = *r.prediction;
   j["title"] = r.title;
+  j["tables_version"] = p.tables_version;
   j["atoms"] = atoms_section(p);
+  j["signals"] = signals_section(p);
   j["warnings"] = p.warnings;
   j["counts"] = counts_section(p);
+  return j;
+}
+
+Json assignments_value(const std::vector<ReferenceAssignment> &list) {
+  Json out = Json::array();
+  for (const auto &a : list) {
+    Json j;
+    j["atoms"] = a.atoms;
+    j["ppm"] = a.values;
+    out.push_back(std::move(j));
+  }
+  return out;
+}
+
+Json reference_value(const ReferenceCompound &c) {
+  Json j;
+  j["id"] = c.id;
+  j["smiles"] = c.smiles;
+  j["solvent"] = c.solvent;
+  j["source"] = c.source;
+  j["file"] = c.file;
+  j["user"] = c.user;
+  j["c13"] = assignments_value(c.c13);
+  j["h1"] = assignments_value(c.h1);
   return j;
 }
 
@@ -99,6 +174,10 @@ const char *status_constant_name(Status status) noexcept {
 
 std::string to_json(const RecordPrediction &record, const JsonOptions &options) {
   return dump(record_value(record), options);
+}
+
+std::string to_json(const ReferenceCompound &compound, const JsonOptions &options) {
+  return dump(reference_value(compound), options);
 }
 
 std::string to_json(const std::vector<RecordPrediction> &records, const JsonOptions &options) {

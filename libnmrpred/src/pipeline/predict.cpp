@@ -1,6 +1,8 @@
 #include <nmrpred/predict.hpp>
 
+#include <algorithm>
 #include <exception>
+#include <map>
 #include <new>
 #include <utility>
 
@@ -14,11 +16,80 @@ void validate(const PredictOptions &options) {
                                     options.hose_spheres));
 }
 
-Prediction predict(const Molecule &molecule, const PredictOptions &options) {
-  return predict(Molecule(molecule), options);
+namespace {
+
+// Returned by Prediction::signals for a nucleus without signals; immutable.
+const std::vector<Signal> kNoSignals;
+
+/// Protons bonded to atom `i`: DEPT-style editing sees 1H only, so 2H and 3H
+/// do not count.
+int proton_count(const Molecule &m, std::size_t i) {
+  int n = 0;
+  for (auto it = m.neighbours_begin(i); it != m.neighbours_end(i); ++it) {
+    const Atom &a = m.atom(*it);
+    if (a.atomic_number == 1 && a.isotope != 2 && a.isotope != 3) ++n;
+  }
+  return n;
 }
 
-Prediction predict(Molecule &&molecule, const PredictOptions &options) {
+}  // namespace
+
+std::vector<Signal> group_signals(const Molecule &molecule, const AtomClasses &classes,
+                                  const std::vector<Shift> &shifts) {
+  if (classes.chemical.size() != molecule.atom_count())
+    throw ArgumentError("group_signals: classes belong to another molecule");
+  // Walking the shifts by atom makes each class's lowest atom the one whose
+  // values the signal takes, whatever order the shifts came in.
+  std::vector<const Shift *> by_atom;
+  by_atom.reserve(shifts.size());
+  for (const Shift &s : shifts) {
+    if (s.atom >= molecule.atom_count())
+      throw ArgumentError(fmt::format("group_signals: shift of atom {}, the molecule has {} atoms", s.atom,
+                                      molecule.atom_count()));
+    by_atom.push_back(&s);
+  }
+  std::stable_sort(by_atom.begin(), by_atom.end(), [](const Shift *a, const Shift *b) { return a->atom < b->atom; });
+  std::vector<Signal> out;
+  std::map<std::uint32_t, std::size_t> by_class;  // chemical class -> position in out
+  for (const Shift *s : by_atom) {
+    const auto [it, added] = by_class.emplace(classes.chemical[s->atom], out.size());
+    if (!added) {
+      if (out[it->second].atoms.back() != s->atom) out[it->second].atoms.push_back(s->atom);
+      continue;
+    }
+    Signal g;
+    g.nucleus = s->nucleus;
+    g.ppm = s->ppm;
+    g.uncertainty_ppm = s->uncertainty_ppm;
+    g.atoms.push_back(s->atom);
+    g.attached_h = s->nucleus == Nucleus::C13 ? proton_count(molecule, s->atom) : 0;
+    g.method = s->method;
+    out.push_back(std::move(g));
+  }
+  std::sort(out.begin(), out.end(), [](const Signal &a, const Signal &b) {
+    if (a.ppm != b.ppm) return a.ppm > b.ppm;
+    return a.atoms[0] < b.atoms[0];
+  });
+  return out;
+}
+
+const Shift *Prediction::shift(std::size_t atom, Nucleus nucleus) const noexcept {
+  if (nucleus != Nucleus::C13) return nullptr;
+  // c13 is ascending by atom (predict_c13 walks the atoms in order).
+  const auto it =
+      std::lower_bound(c13.begin(), c13.end(), atom, [](const Shift &s, std::size_t a) { return s.atom < a; });
+  return it != c13.end() && it->atom == atom ? &*it : nullptr;
+}
+
+const std::vector<Signal> &Prediction::signals(Nucleus nucleus) const noexcept {
+  return nucleus == Nucleus::C13 ? c13_signals : kNoSignals;
+}
+
+Prediction predict(const Molecule &molecule, const Tables &tables, const PredictOptions &options) {
+  return predict(Molecule(molecule), tables, options);
+}
+
+Prediction predict(Molecule &&molecule, const Tables &tables, const PredictOptions &options) {
   validate(options);
   Prediction p;
   p.molecule = std::move(molecule);
@@ -27,11 +98,24 @@ Prediction predict(Molecule &&molecule, const PredictOptions &options) {
   if (p.hose.size() != p.molecule.atom_count())
     throw InternalError(fmt::format("hose_codes returned {} codes for {} atoms", p.hose.size(),
                                     p.molecule.atom_count()));
+  p.tables_version = tables.version();
+  p.options = options;
   p.warnings = p.classes.notes;
+  if (options.predict_shifts) {
+    ShiftOptions so;
+    so.blind = options.blind;
+    p.c13 = predict_c13(p.molecule, p.classes, tables, so, &p.warnings);
+    // Prediction::shift relies on the order; a shuffled engine result is a bug
+    // to report, not to paper over.
+    const bool ascending = std::is_sorted(p.c13.begin(), p.c13.end(),
+                                          [](const Shift &a, const Shift &b) { return a.atom < b.atom; });
+    if (!ascending) throw InternalError("predict_c13 returned shifts out of atom order");
+    p.c13_signals = group_signals(p.molecule, p.classes, p.c13);
+  }
   return p;
 }
 
-RecordPrediction predict_record(ReadRecord record, const PredictOptions &options) {
+RecordPrediction predict_record(ReadRecord record, const Tables &tables, const PredictOptions &options) {
   validate(options);
   RecordPrediction out;
   out.record = record.record;
@@ -48,7 +132,7 @@ RecordPrediction predict_record(ReadRecord record, const PredictOptions &options
   // turned into the record's status here; out-of-memory still propagates because
   // carrying on would only fail again.
   try {
-    Prediction p = predict(std::move(*record.molecule), options);
+    Prediction p = predict(std::move(*record.molecule), tables, options);
     p.warnings.insert(p.warnings.begin(), std::make_move_iterator(record.warnings.begin()),
                       std::make_move_iterator(record.warnings.end()));
     out.prediction = std::move(p);
@@ -66,12 +150,13 @@ RecordPrediction predict_record(ReadRecord record, const PredictOptions &options
   return out;
 }
 
-std::vector<RecordPrediction> predict_all(std::string_view text, Format format, const PredictOptions &options) {
+std::vector<RecordPrediction> predict_all(std::string_view text, Format format, const Tables &tables,
+                                          const PredictOptions &options) {
   validate(options);
   std::vector<ReadRecord> records = read_records(text, format);
   std::vector<RecordPrediction> out;
   out.reserve(records.size());
-  for (auto &r : records) out.push_back(predict_record(std::move(r), options));
+  for (auto &r : records) out.push_back(predict_record(std::move(r), tables, options));
   return out;
 }
 

@@ -17,24 +17,25 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const std::vector<Re
     try {
       m = read_molecule(c.smiles, Format::Smiles);
     } catch (const Error &e) {
-      throw TablesError(fmt::format("{}: reference '{}': {}", c.file, c.id, e.what()));
+      throw InputError(fmt::format("{}:{}: reference '{}': SMILES '{}' cannot be read: {}", c.file, c.line, c.id,
+                                   c.smiles, e.what()));
     }
     const auto classes = compute_classes(m);
     index->constitution[ci] = constitution_key(m, classes);
     auto add = [&](int nucleus, std::size_t centre, double value) {
       const auto parts = hose_spheres(m, classes, centre, kMaxHoseSpheres);
       for (int k = 1; k <= kMaxHoseSpheres; ++k)
-        index->levels[nucleus][k][join_hose_spheres(parts, k)].push_back({static_cast<float>(value), ci});
+        index->levels[nucleus][k][join_hose_spheres(parts, k)].push_back({value, ci});
     };
     auto check_atom = [&](std::uint32_t a) {
       if (a >= m.heavy_atom_count())
-        throw TablesError(fmt::format("{}: reference '{}': atom {} is out of range", c.file, c.id, a));
+        throw TablesError(fmt::format("{}:{}: reference '{}': atom {} is out of range", c.file, c.line, c.id, a));
     };
     for (const auto &as : c.c13)
       for (std::size_t k = 0; k < as.atoms.size(); ++k) {
         check_atom(as.atoms[k]);
         if (m.atom(as.atoms[k]).atomic_number != 6)
-          throw TablesError(fmt::format("{}: reference '{}': 13C shift on atom {}, which is not carbon", c.file, c.id, as.atoms[k]));
+          throw TablesError(fmt::format("{}:{}: reference '{}': 13C shift on atom {}, which is not carbon", c.file, c.line, c.id, as.atoms[k]));
         add(kIndexC13, as.atoms[k], as.values.size() == as.atoms.size() ? as.values[k] : as.values[0]);
       }
     for (const auto &as : c.h1)
@@ -47,7 +48,7 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const std::vector<Re
             break;
           }
         if (h < 0)
-          throw TablesError(fmt::format("{}: reference '{}': 1H shift on atom {}, which carries no hydrogen", c.file, c.id, as.atoms[k]));
+          throw TablesError(fmt::format("{}:{}: reference '{}': 1H shift on atom {}, which carries no hydrogen", c.file, c.line, c.id, as.atoms[k]));
         if (as.atoms.size() == 1 && as.values.size() == 2) {
           // A diastereotopic pair: both protons share the topological code.
           add(kIndexH1, static_cast<std::size_t>(h), as.values[0]);

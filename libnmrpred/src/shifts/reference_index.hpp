@@ -18,7 +18,7 @@
 namespace nmrpred::detail {
 
 struct IndexEntry {
-  float shift_ppm;
+  double shift_ppm;
   std::uint32_t compound;  // index into Tables::reference()
 };
 

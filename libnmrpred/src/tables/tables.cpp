@@ -169,6 +169,7 @@ std::vector<ReferenceCompound> parse_reference(std::string_view text, std::strin
     c.source = row.fields[c_source];
     c.user = user;
     c.file = std::string(name);
+    c.line = row.line;
     if (c.id.empty() || c.smiles.empty()) throw TablesError(where + ": empty id or SMILES");
     if (!user && std::find(keys.begin(), keys.end(), source_key_of(c.source)) == keys.end())
       throw TablesError(fmt::format("{}: source '{}' is not defined in SOURCES.md", where, c.source));

@@ -1,0 +1,139 @@
+"""The nmrpred command-line program: shift output, --blind, --tables,
+--reference, --no-shifts and the `reference` subcommand.
+
+NMRPRED_BUILD_DIR (default <repo>/build) says where the build is; the program
+is <build>/bin/nmrpred. Run with Debian's interpreter:
+    NMRPRED_BUILD_DIR=build /usr/bin/python3 -m pytest bindings/python/tests
+
+References outside the project:
+  * GOTTLIEB-1997 (tables/SOURCES.md), Table 2: 13C of toluene in CDCl3 (from
+    memory), kept as the record "toluene" of tables/reference/aromatic.tsv,
+    whose rows are counted here from the file text.
+  * Common practice: toluene shows five 13C signals; a spectrum is listed
+    downfield first.
+Records with "demo-" ids are demo data with invented values, not published.
+"""
+
+import json
+import os
+import pathlib
+import subprocess
+
+import pytest
+
+REPO_ROOT = pathlib.Path(__file__).resolve().parents[3]
+BUILD_DIR = pathlib.Path(os.environ.get("NMRPRED_BUILD_DIR", REPO_ROOT / "build")).resolve()
+CLI = BUILD_DIR / "bin" / "nmrpred"
+
+# Demo data (invented values, not published shifts).
+DEMO_TOLUENE = ("id\tsmiles\tsolvent\tc13\th1\tsource\n"
+                "demo-user-toluene\tCc1ccccc1\tCDCl3\t0=10.0;1=20.0;2,6=30.0;3,5=40.0;4=50.0\t-\tdemo data\n")
+
+
+def run(*args):
+    if not CLI.is_file():
+        pytest.fail(f"{CLI} does not exist: build the project first (set NMRPRED_BUILD_DIR)")
+    return subprocess.run([str(CLI), *map(str, args)], capture_output=True, text=True, timeout=120)
+
+
+def records(proc):
+    return [json.loads(line) for line in proc.stdout.splitlines()]
+
+
+def table_rows():
+    """Reference records of tables/reference/*.tsv counted from the text."""
+    n = 0
+    for path in (REPO_ROOT / "tables" / "reference").glob("*.tsv"):
+        lines = [line for line in path.read_text().splitlines() if line and not line.startswith("#")]
+        n += len(lines) - 1
+    return n
+
+
+def test_predict_prints_shifts_signals_and_the_tables_version():
+    proc = run("predict", "--smiles", "Cc1ccccc1 toluene")
+    assert proc.returncode == 0, proc.stderr
+    [rec] = records(proc)
+    assert rec["tables_version"].startswith("builtin-")
+    carbons = [a for a in rec["atoms"] if a["element"] == "C"]
+    assert len(carbons) == 7
+    for a in carbons:
+        assert {"shift", "shift_uncertainty", "shift_method", "shift_references"} <= set(a)
+        assert "toluene" in a["shift_references"]
+    assert all("shift" not in a for a in rec["atoms"] if a["element"] != "C")
+    assert abs(carbons[0]["shift"] - 21.5) <= 0.01  # GOTTLIEB-1997 toluene CH3
+    sig = rec["signals"]["13C"]
+    assert len(sig) == 5
+    assert [g["shift"] for g in sig] == sorted((g["shift"] for g in sig), reverse=True)
+    assert [g["attached_h"] for g in sig if g["atoms"] == [0]] == [3]
+
+
+def test_blind_leaves_the_compound_itself_out():
+    proc = run("predict", "--blind", "--smiles", "Cc1ccccc1")
+    assert proc.returncode == 0, proc.stderr
+    [rec] = records(proc)
+    assert not any("toluene" in a.get("shift_references", []) for a in rec["atoms"])
+
+
+def test_no_shifts_prints_the_foundation_output_only():
+    proc = run("predict", "--no-shifts", "--smiles", "CCO")
+    assert proc.returncode == 0, proc.stderr
+    [rec] = records(proc)
+    assert rec["signals"] == {}
+    assert all("shift" not in a for a in rec["atoms"])
+
+
+def test_user_reference_file_takes_precedence(tmp_path):
+    path = tmp_path / "demo.tsv"
+    path.write_text(DEMO_TOLUENE)
+    proc = run("predict", "--reference", path, "--smiles", "Cc1ccccc1")
+    assert proc.returncode == 0, proc.stderr
+    [rec] = records(proc)
+    assert "+user-" in rec["tables_version"]
+    assert rec["atoms"][4]["shift"] == pytest.approx(50.0, abs=0.01)  # demo data
+    assert rec["atoms"][4]["shift_references"] == ["demo-user-toluene"]
+
+
+def test_bad_reference_or_tables_stop_the_command_with_a_message(tmp_path):
+    bad = tmp_path / "bad.tsv"
+    bad.write_text("id\tsmiles\tsolvent\tc13\th1\tsource\ndemo-a\tCC\tCDCl3\t0=abc\t-\tdemo\n")
+    for args, part in (
+        (("--reference", bad), f"{bad}:2"),
+        (("--reference", tmp_path / "missing.tsv"), "missing.tsv"),
+        (("--tables", REPO_ROOT / "tests"), "SOURCES.md"),
+        (("--tables", tmp_path / "no-such-dir"), "no-such-dir"),
+    ):
+        proc = run("predict", *args, "--smiles", "CCO")
+        assert proc.returncode == 2, (args, proc.stderr)
+        assert part in proc.stderr, (args, proc.stderr)
+        assert proc.stdout == ""
+
+
+def test_tables_folder_gives_the_built_in_data_under_its_own_name():
+    proc = run("predict", "--tables", REPO_ROOT / "tables", "--smiles", "Cc1ccccc1")
+    assert proc.returncode == 0, proc.stderr
+    [rec] = records(proc)
+    builtin = records(run("predict", "--smiles", "Cc1ccccc1"))[0]
+    assert rec["tables_version"] == "dir-" + builtin["tables_version"][len("builtin-"):]
+    assert rec["signals"] == builtin["signals"]
+
+
+def test_reference_lists_every_record(tmp_path):
+    proc = run("reference")
+    assert proc.returncode == 0, proc.stderr
+    recs = records(proc)
+    assert len(recs) == table_rows()
+    for r in recs:
+        assert {"id", "smiles", "solvent", "source", "file", "user", "c13", "h1"} <= set(r)
+        assert r["user"] is False
+        for entry in r["c13"] + r["h1"]:
+            assert entry["atoms"] and 1 <= len(entry["ppm"]) <= 2
+    toluene = next(r for r in recs if r["id"] == "toluene")
+    assert toluene["file"] == "reference/aromatic.tsv"
+    assert {"atoms": [0], "ppm": [21.5]} in toluene["c13"]
+
+    path = tmp_path / "demo.tsv"
+    path.write_text(DEMO_TOLUENE)
+    with_user = records(run("reference", "--reference", path))
+    assert len(with_user) == len(recs) + 1
+    assert with_user[-1]["id"] == "demo-user-toluene"
+    assert with_user[-1]["user"] is True and with_user[-1]["file"] == str(path)

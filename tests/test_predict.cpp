@@ -1,0 +1,511 @@
+// The umbrella API (nmrpred/predict.hpp): 13C shifts carried through predict,
+// predict_record and predict_all, blind mode, user reference records, signals,
+// JSON, and the errors of unusable tables and user records.
+//
+// Sources of the expected values:
+//  [GOTTLIEB]  GOTTLIEB-1997 (tables/SOURCES.md), Table 2, 13C of toluene and
+//              benzene in CDCl3 (from memory), as recorded in the built-in
+//              table tables/reference/aromatic.tsv. A non-blind lookup of a
+//              compound the tables hold must give back its recorded values.
+//  [CP]        Common practice: equivalent nuclei resonate together, so they
+//              share one shift and one signal; the number of 13C signals of
+//              small symmetric molecules; a carbon's attached protons (0-3)
+//              are what DEPT-style editing tells apart, and 2H is not seen by
+//              it.
+//  [FORMAT]    tables/FORMAT.md, "Reference shift records": the record layout
+//              that user records follow, so the faults below are faults by it.
+// Records marked "demo data" carry invented values that exist only to show
+// which source the library used; they are not published shifts.
+
+#include <doctest/doctest.h>
+
+#include <nmrpred/error.hpp>
+#include <nmrpred/predict.hpp>
+#include <nmrpred/shifts.hpp>
+#include <nmrpred/tables.hpp>
+
+#include <algorithm>
+#include <filesystem>
+#include <fstream>
+#include <map>
+#include <memory>
+#include <set>
+#include <string>
+#include <vector>
+
+#include <nlohmann/json.hpp>
+
+#include "check.hpp"
+
+namespace {
+
+using nmrpred::Nucleus;
+using nmrpred::Prediction;
+using nmrpred::PredictOptions;
+using nmrpred::Shift;
+using nmrpred::ShiftSourceKind;
+using nmrpred::Tables;
+
+// Parsed once for the whole file: building the tables takes tens of milliseconds.
+const Tables &builtin_tables() {
+  static const std::shared_ptr<const Tables> tables = Tables::builtin();
+  return *tables;
+}
+
+Prediction predict_smiles(const std::string &smiles, const Tables &tables, const PredictOptions &options = {}) {
+  return nmrpred::predict(nmrpred::read_molecule(smiles, nmrpred::Format::Smiles), tables, options);
+}
+
+bool names(const Shift &s, const std::string &id) {
+  return std::find(s.references.begin(), s.references.end(), id) != s.references.end();
+}
+
+struct ShiftRow {
+  const char *input;  // SMILES
+  std::size_t atom;
+  double expected_ppm;
+  double tolerance_ppm;
+  const char *source;
+};
+
+// Toluene, Cc1ccccc1: 0 CH3, 1 ipso, 2/6 ortho, 3/5 meta, 4 para.
+const ShiftRow kToluene[] = {
+    {"Cc1ccccc1", 0, 21.5, 0.01, "[GOTTLIEB] toluene CH3"},
+    {"Cc1ccccc1", 1, 137.9, 0.01, "[GOTTLIEB] toluene C1"},
+    {"Cc1ccccc1", 2, 129.1, 0.01, "[GOTTLIEB] toluene C2/C6"},
+    {"Cc1ccccc1", 6, 129.1, 0.01, "[GOTTLIEB] toluene C2/C6"},
+    {"Cc1ccccc1", 3, 128.3, 0.01, "[GOTTLIEB] toluene C3/C5"},
+    {"Cc1ccccc1", 5, 128.3, 0.01, "[GOTTLIEB] toluene C3/C5"},
+    {"Cc1ccccc1", 4, 125.3, 0.01, "[GOTTLIEB] toluene C4"},
+};
+
+// Demo data (invented values, not published shifts): a user record for
+// toluene under a made-up id, with values no real spectrum would show, so that
+// a result can only have come from it.
+const char *kDemoUserRecords =
+    "id\tsmiles\tsolvent\tc13\th1\tsource\n"
+    "demo-user-toluene\tCc1ccccc1\tCDCl3\t0=10.0;1=20.0;2,6=30.0;3,5=40.0;4=50.0\t-\tdemo data (invented)\n";
+
+const ShiftRow kDemoToluene[] = {
+    {"Cc1ccccc1", 0, 10.0, 0.01, "demo data in kDemoUserRecords"},
+    {"Cc1ccccc1", 1, 20.0, 0.01, "demo data in kDemoUserRecords"},
+    {"Cc1ccccc1", 2, 30.0, 0.01, "demo data in kDemoUserRecords"},
+    {"Cc1ccccc1", 6, 30.0, 0.01, "demo data in kDemoUserRecords"},
+    {"Cc1ccccc1", 3, 40.0, 0.01, "demo data in kDemoUserRecords"},
+    {"Cc1ccccc1", 5, 40.0, 0.01, "demo data in kDemoUserRecords"},
+    {"Cc1ccccc1", 4, 50.0, 0.01, "demo data in kDemoUserRecords"},
+};
+
+struct SignalRow {
+  const char *input;
+  std::size_t carbon_signals;
+  const char *source;
+};
+
+const SignalRow kSignalCounts[] = {
+    {"c1ccccc1", 1, "[CP] benzene"},
+    {"Cc1ccccc1", 5, "[CP] toluene"},
+    {"Cc1ccc(C)cc1", 3, "[CP] p-xylene"},
+    {"CC(C)(C)c1ccccc1", 6, "[CP] tert-butylbenzene"},
+    {"CCOCC", 2, "[CP] diethyl ether"},
+    {"CC(O)CC", 4, "[CP] butan-2-ol"},
+    {"C1CCCCC1", 1, "[CP] cyclohexane"},
+    {"CC(C)(C)C", 2, "[CP] neopentane"},
+    {"O=C(O)CC(O)(CC(=O)O)C(=O)O", 4, "[CP] citric acid"},
+};
+
+struct AttachedHRow {
+  const char *input;
+  std::size_t atom;  // a carbon of the signal
+  int attached_h;
+  const char *source;
+};
+
+const AttachedHRow kAttachedH[] = {
+    {"Cc1ccccc1", 0, 3, "[CP] toluene CH3"},
+    {"Cc1ccccc1", 1, 0, "[CP] toluene C1 (quaternary)"},
+    {"Cc1ccccc1", 4, 1, "[CP] toluene C4-H"},
+    {"C1CCCCC1", 0, 2, "[CP] cyclohexane CH2"},
+    {"CC(C)(C)c1ccccc1", 1, 0, "[CP] tert-butylbenzene C(CH3)3"},
+    {"C", 0, 4, "[CP] methane CH4"},
+    {"[2H]C([2H])([2H])c1ccccc1", 0, 0, "[CP] CD3 carries no 1H"},
+    {"[2H]C([2H])c1ccccc1", 0, 1, "[CP] CHD2: one 1H, the two 2H not counted"},
+};
+
+struct BadRecordRow {
+  const char *text;
+  nmrpred::Status status;
+  const char *message_part;
+  const char *why;
+};
+
+const char *kHeader = "id\tsmiles\tsolvent\tc13\th1\tsource\n";
+
+std::string with_header(const char *rows) { return std::string(kHeader) + rows; }
+
+// Writes `text` to `dir`/`rel`, creating folders.
+void write_file(const std::filesystem::path &dir, const std::string &rel, std::string_view text) {
+  const auto path = dir / rel;
+  std::filesystem::create_directories(path.parent_path());
+  std::ofstream out(path, std::ios::binary);
+  out << text;
+}
+
+// A fresh empty folder under the system's temporary folder, removed at scope exit.
+struct TempDir {
+  std::filesystem::path path;
+  explicit TempDir(const std::string &tag) {
+    path = std::filesystem::temp_directory_path() /
+           ("nmrpred-test-predict-" + tag + "-" + std::to_string(reinterpret_cast<std::uintptr_t>(this)));
+    std::filesystem::remove_all(path);
+    std::filesystem::create_directories(path);
+  }
+  ~TempDir() {
+    std::error_code ec;
+    std::filesystem::remove_all(path, ec);
+  }
+};
+
+}  // namespace
+
+TEST_SUITE("predict") {
+  TEST_CASE("default options predict 13C shifts with every reference record") {
+    const PredictOptions o;
+    CHECK(o.predict_shifts);
+    CHECK_FALSE(o.blind);
+  }
+
+  TEST_CASE("a compound the tables hold is found at a high HOSE sphere and named among the references") {
+    const auto p = predict_smiles("Cc1ccccc1", builtin_tables());
+    CHECK(p.c13.size() == 7);
+    CHECK(p.tables_version == builtin_tables().version());
+    for (const auto &row : kToluene) {
+      INFO(row.input, " atom ", row.atom, " ", row.source);
+      const Shift *s = p.shift(row.atom, Nucleus::C13);
+      REQUIRE(s != nullptr);
+      check_close(s->ppm, row.expected_ppm, row.tolerance_ppm);
+      CHECK(s->source == ShiftSourceKind::Reference);
+      CHECK(s->sphere >= 4);
+      CHECK(names(*s, "toluene"));
+      CHECK(s->uncertainty_ppm > 0);
+      CHECK_FALSE(s->method.empty());
+    }
+  }
+
+  TEST_CASE("blind mode leaves the query's own record out and changes the result") {
+    const auto seen = predict_smiles("Cc1ccccc1", builtin_tables());
+    PredictOptions blind;
+    blind.blind = true;
+    const auto p = predict_smiles("Cc1ccccc1", builtin_tables(), blind);
+    REQUIRE(p.c13.size() == seen.c13.size());
+    bool any_different = false;
+    for (std::size_t k = 0; k < p.c13.size(); ++k) {
+      const Shift &s = p.c13[k];
+      INFO("atom ", s.atom, ": ", s.method);
+      CHECK_FALSE(names(s, "toluene"));
+      CHECK(s.atom == seen.c13[k].atom);
+      if (!(s == seen.c13[k])) any_different = true;
+    }
+    CHECK(any_different);
+    // Blind mode is about the query's own constitution: a compound the tables
+    // do not hold gets the same answer either way.
+    const std::string absent = "CCCCCCCCCCCC(=O)OCc1ccc(Cl)cc1";
+    const auto q = nmrpred::read_molecule(absent, nmrpred::Format::Smiles);
+    const auto q_key = nmrpred::constitution_key(q, nmrpred::compute_classes(q));
+    for (const auto &c : builtin_tables().reference()) {
+      const auto m = nmrpred::read_molecule(c.smiles, nmrpred::Format::Smiles);
+      REQUIRE_MESSAGE(nmrpred::constitution_key(m, nmrpred::compute_classes(m)) != q_key,
+                      "precondition: the tables must not hold ", absent, " (", c.id, ")");
+    }
+    CHECK(predict_smiles(absent, builtin_tables(), blind).c13 == predict_smiles(absent, builtin_tables()).c13);
+  }
+
+  TEST_CASE("user reference records take precedence over built-in ones and are named") {
+    const auto user = builtin_tables().with_user_reference(kDemoUserRecords, "demo.tsv");
+    CHECK(user->version().rfind(builtin_tables().version() + "+user-", 0) == 0);
+    const auto p = predict_smiles("Cc1ccccc1", *user);
+    CHECK(p.tables_version == user->version());
+    for (const auto &row : kDemoToluene) {
+      INFO(row.input, " atom ", row.atom, " ", row.source);
+      const Shift *s = p.shift(row.atom, Nucleus::C13);
+      REQUIRE(s != nullptr);
+      check_close(s->ppm, row.expected_ppm, row.tolerance_ppm);
+      CHECK(s->source == ShiftSourceKind::UserReference);
+      CHECK(s->references == std::vector<std::string>{"demo-user-toluene"});
+    }
+    // The built-in set is immutable: adding records made a new set.
+    for (const auto &row : kToluene) {
+      INFO(row.input, " atom ", row.atom, " ", row.source);
+      check_close(predict_smiles(row.input, builtin_tables()).shift(row.atom, Nucleus::C13)->ppm, row.expected_ppm,
+                  row.tolerance_ppm);
+    }
+    // Blind mode leaves out user records of the query's constitution too.
+    PredictOptions blind;
+    blind.blind = true;
+    for (const auto &s : predict_smiles("Cc1ccccc1", *user, blind).c13) {
+      INFO("atom ", s.atom);
+      CHECK_FALSE(names(s, "demo-user-toluene"));
+      CHECK(s.source != ShiftSourceKind::UserReference);
+    }
+    const auto &refs = user->reference();
+    const auto it = std::find_if(refs.begin(), refs.end(), [](const auto &c) { return c.id == "demo-user-toluene"; });
+    REQUIRE(it != refs.end());
+    CHECK(it->user);
+    CHECK(it->file == "demo.tsv");
+  }
+
+  TEST_CASE("equivalent carbons carry equal shifts and form one signal, downfield first") {
+    for (const auto &row : kSignalCounts) {
+      INFO(row.input, " ", row.source);
+      const auto p = predict_smiles(row.input, builtin_tables());
+      CHECK(p.c13_signals.size() == row.carbon_signals);
+      std::set<std::size_t> carbons, in_signals;
+      for (const auto &s : p.c13) carbons.insert(s.atom);
+      for (std::size_t a = 0; a < p.molecule.atom_count(); ++a)
+        CHECK((p.molecule.atom(a).atomic_number == 6) == (carbons.count(a) == 1));
+      for (std::size_t k = 0; k < p.c13_signals.size(); ++k) {
+        const auto &g = p.c13_signals[k];
+        CHECK(g.nucleus == Nucleus::C13);
+        REQUIRE_FALSE(g.atoms.empty());
+        CHECK(std::is_sorted(g.atoms.begin(), g.atoms.end()));
+        if (k > 0) CHECK(p.c13_signals[k - 1].ppm >= g.ppm);
+        const Shift *first = p.shift(g.atoms[0], Nucleus::C13);
+        REQUIRE(first != nullptr);
+        for (auto a : g.atoms) {
+          in_signals.insert(a);
+          const Shift *s = p.shift(a, Nucleus::C13);
+          REQUIRE(s != nullptr);
+          CHECK(p.classes.chemical[a] == p.classes.chemical[g.atoms[0]]);
+          CHECK(s->ppm == first->ppm);
+          CHECK(s->uncertainty_ppm == first->uncertainty_ppm);
+          CHECK(s->method == first->method);
+          CHECK(s->references == first->references);
+        }
+        CHECK(g.ppm == first->ppm);
+        CHECK(g.uncertainty_ppm == first->uncertainty_ppm);
+        CHECK(g.method == first->method);
+      }
+      CHECK(in_signals == carbons);
+      // A carbon of every class is in some signal, and no class is split.
+      std::map<std::uint32_t, std::size_t> signals_per_class;
+      for (const auto &g : p.c13_signals) ++signals_per_class[p.classes.chemical[g.atoms[0]]];
+      for (const auto &kv : signals_per_class) CHECK(kv.second == 1);
+    }
+  }
+
+  TEST_CASE("a signal counts the protons on its carbons") {
+    for (const auto &row : kAttachedH) {
+      INFO(row.input, " atom ", row.atom, " ", row.source);
+      const auto p = predict_smiles(row.input, builtin_tables());
+      const auto it = std::find_if(p.c13_signals.begin(), p.c13_signals.end(), [&](const nmrpred::Signal &g) {
+        return std::find(g.atoms.begin(), g.atoms.end(), row.atom) != g.atoms.end();
+      });
+      REQUIRE(it != p.c13_signals.end());
+      CHECK(it->attached_h == row.attached_h);
+    }
+  }
+
+  TEST_CASE("Prediction::shift finds the shifts of carbons only") {
+    const auto p = predict_smiles("CCO", builtin_tables());
+    CHECK(p.shift(0, Nucleus::C13) != nullptr);
+    CHECK(p.shift(1, Nucleus::C13) != nullptr);
+    CHECK(p.shift(2, Nucleus::C13) == nullptr);  // oxygen
+    CHECK(p.shift(0, Nucleus::H1) == nullptr);   // 1H is not predicted yet
+    for (std::size_t h = p.molecule.heavy_atom_count(); h < p.molecule.atom_count(); ++h) {
+      CHECK(p.shift(h, Nucleus::C13) == nullptr);
+      CHECK(p.shift(h, Nucleus::H1) == nullptr);
+    }
+    CHECK(p.shift(p.molecule.atom_count(), Nucleus::C13) == nullptr);
+    CHECK(&p.signals(Nucleus::C13) == &p.c13_signals);
+    CHECK(p.signals(Nucleus::H1).empty());
+  }
+
+  TEST_CASE("switching shift prediction off gives the foundation output alone") {
+    PredictOptions off;
+    off.predict_shifts = false;
+    const auto with = predict_smiles("CC(O)CC", builtin_tables());
+    const auto without = predict_smiles("CC(O)CC", builtin_tables(), off);
+    CHECK(without.c13.empty());
+    CHECK(without.c13_signals.empty());
+    CHECK(without.shift(0, Nucleus::C13) == nullptr);
+    CHECK(without.classes == with.classes);
+    CHECK(without.hose == with.hose);
+    const auto j = nlohmann::json::parse(nmrpred::to_json(nmrpred::predict_record(
+        nmrpred::read_records("CC(O)CC", nmrpred::Format::Smiles).at(0), builtin_tables(), off)));
+    CHECK(j.at("signals") == nlohmann::json::object());
+    for (const auto &atom : j.at("atoms")) CHECK_FALSE(atom.contains("shift"));
+  }
+
+  TEST_CASE("the prediction's warnings include those of the shift engine") {
+    // Tetramethyltin: no reference record has a carbon on tin, so the engine
+    // falls back to its last resort and says so (checked below, not assumed).
+    const auto m = nmrpred::read_molecule("C[Sn](C)(C)C", nmrpred::Format::Smiles);
+    std::vector<std::string> engine;
+    nmrpred::predict_c13(m, nmrpred::compute_classes(m), builtin_tables(), {}, &engine);
+    REQUIRE_MESSAGE(!engine.empty(), "precondition: pick a molecule the shift engine warns about");
+    const auto p = nmrpred::predict(m, builtin_tables());
+    for (const auto &w : engine) {
+      INFO(w);
+      CHECK(std::find(p.warnings.begin(), p.warnings.end(), w) != p.warnings.end());
+    }
+  }
+
+  TEST_CASE("a batch predicts shifts for every good record and keeps the bad one in place") {
+    const auto records = nmrpred::predict_all("CC\nC1CC\nc1ccccc1 benzene\n", nmrpred::Format::Smiles, builtin_tables());
+    REQUIRE(records.size() == 3);
+    CHECK(records[0].ok());
+    CHECK(records[1].status == nmrpred::Status::Input);
+    REQUIRE(records[2].ok());
+    const auto &benzene = *records[2].prediction;
+    REQUIRE(benzene.c13_signals.size() == 1);
+    CHECK(benzene.c13_signals[0].atoms == std::vector<std::size_t>{0, 1, 2, 3, 4, 5});
+    CHECK(benzene.c13_signals[0].attached_h == 1);
+    INFO("[GOTTLIEB] benzene");
+    check_close(benzene.c13_signals[0].ppm, 128.4, 0.01);
+    CHECK(benzene.tables_version == builtin_tables().version());
+  }
+
+  TEST_CASE("the JSON of a record carries shifts, signals and the tables version") {
+    const auto rec = nmrpred::predict_record(nmrpred::read_records("Cc1ccccc1 toluene", nmrpred::Format::Smiles).at(0),
+                                             builtin_tables());
+    REQUIRE(rec.ok());
+    const auto &p = *rec.prediction;
+    const auto j = nlohmann::json::parse(nmrpred::to_json(rec));
+    CHECK(j.at("tables_version") == builtin_tables().version());
+    const auto &atoms = j.at("atoms");
+    REQUIRE(atoms.size() == p.molecule.atom_count());
+    for (std::size_t i = 0; i < atoms.size(); ++i) {
+      INFO("atom ", i);
+      const auto &a = atoms[i];
+      const Shift *s = p.shift(i, Nucleus::C13);
+      CHECK((a.at("element") == "C") == (s != nullptr));
+      for (const char *key : {"shift", "shift_uncertainty", "shift_method", "shift_references"})
+        CHECK(a.contains(key) == (s != nullptr));
+      if (!s) continue;
+      CHECK(a.at("shift").get<double>() == s->ppm);
+      CHECK(a.at("shift_uncertainty").get<double>() == s->uncertainty_ppm);
+      CHECK(a.at("shift_method") == s->method);
+      CHECK(a.at("shift_references").get<std::vector<std::string>>() == s->references);
+    }
+    const auto &signals = j.at("signals");
+    REQUIRE(signals.size() == 1);
+    const auto &c13 = signals.at("13C");
+    REQUIRE(c13.size() == p.c13_signals.size());
+    for (std::size_t k = 0; k < c13.size(); ++k) {
+      const auto &g = p.c13_signals[k];
+      CHECK(c13[k].at("shift").get<double>() == g.ppm);
+      CHECK(c13[k].at("atoms").get<std::vector<std::size_t>>() == g.atoms);
+      CHECK(c13[k].at("attached_h") == g.attached_h);
+      CHECK(c13[k].at("shift_uncertainty").get<double>() == g.uncertainty_ppm);
+      CHECK(c13[k].at("shift_method") == g.method);
+      if (k > 0) CHECK(c13[k - 1].at("shift").get<double>() >= c13[k].at("shift").get<double>());
+    }
+  }
+
+  TEST_CASE("a reference compound serializes with its assignments") {
+    const auto &refs = builtin_tables().reference();
+    const auto it = std::find_if(refs.begin(), refs.end(), [](const auto &c) { return c.id == "toluene"; });
+    REQUIRE(it != refs.end());
+    const auto j = nlohmann::json::parse(nmrpred::to_json(*it));
+    CHECK(j.at("id") == "toluene");
+    CHECK(j.at("smiles") == it->smiles);
+    CHECK(j.at("solvent") == it->solvent);
+    CHECK(j.at("source") == it->source);
+    CHECK(j.at("file") == it->file);
+    CHECK(j.at("user") == false);
+    REQUIRE(j.at("c13").size() == it->c13.size());
+    for (std::size_t k = 0; k < it->c13.size(); ++k) {
+      CHECK(j.at("c13")[k].at("atoms").get<std::vector<std::uint32_t>>() == it->c13[k].atoms);
+      CHECK(j.at("c13")[k].at("ppm").get<std::vector<double>>() == it->c13[k].values);
+    }
+    CHECK(j.at("h1").size() == it->h1.size());
+  }
+
+  TEST_CASE("group_signals refuses shifts of another molecule") {
+    const auto p = predict_smiles("CCO", builtin_tables());
+    const auto other = predict_smiles("CCCO", builtin_tables());
+    CHECK_THROWS_AS(nmrpred::group_signals(p.molecule, other.classes, p.c13), nmrpred::ArgumentError);
+    auto shifts = p.c13;
+    shifts[0].atom = p.molecule.atom_count();
+    CHECK_THROWS_AS(nmrpred::group_signals(p.molecule, p.classes, shifts), nmrpred::ArgumentError);
+  }
+
+  TEST_CASE("a tables folder that cannot be used is a TablesError naming the problem") {
+    auto check_tables_error = [](const std::string &dir, const std::string &part) {
+      INFO(dir, " -> message should mention '", part, "'");
+      try {
+        Tables::load(dir);
+        FAIL("Tables::load accepted ", dir);
+      } catch (const nmrpred::TablesError &e) {
+        CHECK(e.status() == nmrpred::Status::Tables);
+        CHECK(std::string(e.what()).find(part) != std::string::npos);
+      }
+    };
+    check_tables_error("tables-that-do-not-exist", "SOURCES.md");
+    check_tables_error(NMRPRED_TEST_DATA_DIR, "SOURCES.md");  // a folder of structures, not tables
+
+    TempDir no_reference("noref");
+    write_file(no_reference.path, "SOURCES.md", builtin_tables().file_text("SOURCES.md"));
+    check_tables_error(no_reference.path.string(), "reference");
+
+    // [FORMAT]: every row has as many fields as the column header.
+    TempDir bad_row("badrow");
+    write_file(bad_row.path, "SOURCES.md", builtin_tables().file_text("SOURCES.md"));
+    write_file(bad_row.path, "reference/aromatic.tsv",
+               "# table: reference-shifts\n# version: 1\n# units: ppm relative to TMS\n# sources: COMMON-PRACTICE\n" +
+                   std::string(kHeader) + "demo-a\tCC\tCDCl3\t0,1=7.0\n");
+    check_tables_error(bad_row.path.string(), "reference/aromatic.tsv:6");
+  }
+
+  TEST_CASE("the project's tables folder read at run time equals the built-in set") {
+    const auto dir = Tables::load(NMRPRED_TABLES_SOURCE_DIR);
+    const std::string builtin = builtin_tables().version();
+    REQUIRE(dir->version().rfind("dir-", 0) == 0);
+    REQUIRE(builtin.rfind("builtin-", 0) == 0);
+    // Same text, same hash: the name differs only in where the tables came from.
+    CHECK(dir->version().substr(4) == builtin.substr(8));
+    CHECK(dir->reference().size() == builtin_tables().reference().size());
+  }
+
+  TEST_CASE("bad user records are refused with the line or record that is wrong") {
+    // Demo data (invented values) throughout; each row breaks one [FORMAT] rule.
+    const BadRecordRow rows[] = {
+        {kHeader, nmrpred::Status::Tables, "demo.tsv: no records", "a header and nothing else"},
+        {"demo-a\tCC\tCDCl3\t0=7.0\t-\tdemo\n", nmrpred::Status::Tables, "no column 'id'",
+         "the column header line is missing"},
+        {"id\tsmiles\tsolvent\tc13\th1\tsource\ndemo-a\tCC\tCDCl3\t0=1x.0\t-\tdemo\n", nmrpred::Status::Tables,
+         "demo.tsv:2", "a shift that is not a number"},
+        {"id\tsmiles\tsolvent\tc13\th1\tsource\ndemo-a\tCC\tCDCl3\t0=7.0\t-\tdemo\ndemo-b\tCCC\tCDCl3\t0=7.0\n",
+         nmrpred::Status::Tables, "demo.tsv:3", "too few fields"},
+        {"id\tsmiles\tsolvent\tc13\th1\tsource\ndemo-a\tCC\tCDCl3\t0:7.0\t-\tdemo\n", nmrpred::Status::Tables,
+         "demo.tsv:2", "an entry without '='"},
+        {"id\tsmiles\tsolvent\tc13\th1\tsource\ntoluene\tCc1ccccc1\tCDCl3\t0=7.0\t-\tdemo\n", nmrpred::Status::Tables,
+         "'toluene'", "an id the built-in set uses"},
+        {"id\tsmiles\tsolvent\tc13\th1\tsource\ndemo-a\tCC\tCDCl3\t5=7.0\t-\tdemo\n", nmrpred::Status::Tables,
+         "'demo-a'", "an atom index past the end"},
+        {"id\tsmiles\tsolvent\tc13\th1\tsource\ndemo-a\tCO\tCDCl3\t1=7.0\t-\tdemo\n", nmrpred::Status::Tables,
+         "'demo-a'", "a 13C value on oxygen"},
+    };
+    for (const auto &row : rows) {
+      INFO(row.why, ": expect '", row.message_part, "'");
+      try {
+        builtin_tables().with_user_reference(row.text, "demo.tsv");
+        FAIL("accepted: ", row.text);
+      } catch (const nmrpred::Error &e) {
+        INFO("message: ", e.what());
+        CHECK(e.status() == row.status);
+        CHECK(std::string(e.what()).find(row.message_part) != std::string::npos);
+      }
+    }
+    // A SMILES that cannot be read: tables.hpp promises InputError naming the
+    // line; the record must at least be named, whichever code comes back.
+    try {
+      builtin_tables().with_user_reference(with_header("demo-ring\tC1CC\tCDCl3\t0=7.0\t-\tdemo\n"), "demo.tsv");
+      FAIL("accepted an unclosed ring");
+    } catch (const nmrpred::Error &e) {
+      INFO("message: ", e.what());
+      CHECK((e.status() == nmrpred::Status::Input || e.status() == nmrpred::Status::Tables));
+      CHECK(std::string(e.what()).find("demo-ring") != std::string::npos);
+    }
+  }
+}
