@@ -1,0 +1,174 @@
+// Times structure reading, equivalence classes and HOSE codes over a SMILES
+// file (the NCI sample from Debian's rdkit-data; see benchmarks/README.md).
+//
+// Usage: bench_read_classes SMILES_FILE [REPEATS]
+//
+// Each stage runs REPEATS times over the whole file; the report gives the
+// median wall time, the spread (min..max) and molecules per second at the
+// median, plus machine, compiler and library version. Single-threaded by
+// construction; pin it to one core (taskset -c 0) for stable figures.
+// No assertions: a benchmark only measures.
+
+#include <nmrpred/classes.hpp>
+#include <nmrpred/error.hpp>
+#include <nmrpred/hose.hpp>
+#include <nmrpred/io.hpp>
+#include <nmrpred/molecule.hpp>
+
+#include <sys/utsname.h>
+
+#include <algorithm>
+#include <chrono>
+#include <cstdio>
+#include <cstdlib>
+#include <fstream>
+#include <functional>
+#include <iterator>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include <fmt/format.h>
+
+#ifndef NMRPRED_BENCH_VERSION
+#define NMRPRED_BENCH_VERSION "unknown"
+#endif
+#ifndef NMRPRED_BENCH_BUILD_TYPE
+#define NMRPRED_BENCH_BUILD_TYPE "unknown"
+#endif
+
+namespace {
+
+using Clock = std::chrono::steady_clock;
+
+std::string read_file(const char *path) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) throw std::runtime_error(fmt::format("cannot open {}", path));
+  return std::string(std::istreambuf_iterator<char>(in), std::istreambuf_iterator<char>());
+}
+
+std::string cpu_model() {
+  std::ifstream in("/proc/cpuinfo");
+  std::string line;
+  while (std::getline(in, line))
+    if (line.rfind("model name", 0) == 0) {
+      const auto colon = line.find(':');
+      if (colon != std::string::npos) return line.substr(colon + 2);
+    }
+  return "unknown CPU";
+}
+
+std::string compiler() {
+#if defined(__clang__)
+  return fmt::format("clang {}", __clang_version__);
+#elif defined(__GNUC__)
+  return fmt::format("gcc {}", __VERSION__);
+#else
+  return "unknown compiler";
+#endif
+}
+
+struct Timing {
+  double median_s = 0, min_s = 0, max_s = 0;
+};
+
+// Runs `work` `repeats` times and summarises the wall times. The result of
+// each run is folded into `sink` so the optimiser cannot drop the work.
+Timing time_it(int repeats, const std::function<std::size_t()> &work, std::size_t &sink) {
+  std::vector<double> t;
+  for (int r = 0; r < repeats; ++r) {
+    const auto start = Clock::now();
+    sink += work();
+    t.push_back(std::chrono::duration<double>(Clock::now() - start).count());
+  }
+  std::sort(t.begin(), t.end());
+  const std::size_t n = t.size();
+  const double median = n % 2 ? t[n / 2] : 0.5 * (t[n / 2 - 1] + t[n / 2]);
+  return {median, t.front(), t.back()};
+}
+
+void report(const char *stage, std::size_t molecules, const Timing &t) {
+  fmt::print("{:<38} {:>8} {:>10.3f} {:>10.3f} {:>10.3f} {:>12.0f}\n", stage, molecules, t.median_s,
+             t.min_s, t.max_s, t.median_s > 0 ? static_cast<double>(molecules) / t.median_s : 0.0);
+}
+
+}  // namespace
+
+int main(int argc, char **argv) {
+  if (argc < 2) {
+    std::fprintf(stderr, "usage: %s SMILES_FILE [REPEATS]\n", argv[0]);
+    return 2;
+  }
+  const int repeats = argc > 2 ? std::max(1, std::atoi(argv[2])) : 5;
+  try {
+    const std::string text = read_file(argv[1]);
+    utsname un{};
+    uname(&un);
+    fmt::print("libnmrpred {} ({} build), {}\n", NMRPRED_BENCH_VERSION, NMRPRED_BENCH_BUILD_TYPE, compiler());
+    fmt::print("machine: {}, {} {} {}\n", cpu_model(), un.sysname, un.release, un.machine);
+    fmt::print("input: {}\nrepeats: {} (median and min..max of wall time; one thread)\n\n", argv[1], repeats);
+
+    // Read once outside the timings to know the molecules and sort them by size.
+    const auto records = nmrpred::read_records(text, nmrpred::Format::Smiles);
+    std::vector<nmrpred::Molecule> molecules;
+    for (const auto &r : records)
+      if (r.molecule) molecules.push_back(*r.molecule);
+    fmt::print("records: {}, read: {}, refused: {}\n\n", records.size(), molecules.size(),
+               records.size() - molecules.size());
+
+    fmt::print("{:<38} {:>8} {:>10} {:>10} {:>10} {:>12}\n", "stage", "mols", "median s", "min s", "max s",
+               "mols/s");
+    std::size_t sink = 0;
+
+    report("read (Open Babel -> Molecule)", records.size(), time_it(repeats, [&] {
+             return nmrpred::read_records(text, nmrpred::Format::Smiles).size();
+           }, sink));
+
+    auto classes_only = [&](const std::vector<nmrpred::Molecule> &mols) {
+      std::size_t n = 0;
+      for (const auto &m : mols) n += nmrpred::compute_classes(m).chemical_count;
+      return n;
+    };
+    auto classes_and_codes = [&](const std::vector<nmrpred::Molecule> &mols) {
+      std::size_t n = 0;
+      for (const auto &m : mols) {
+        const auto classes = nmrpred::compute_classes(m);
+        for (const auto &code : nmrpred::hose_codes(m, classes)) n += code.size();
+      }
+      return n;
+    };
+
+    report("classes (read beforehand)", molecules.size(), time_it(repeats, [&] { return classes_only(molecules); }, sink));
+    report("classes + HOSE codes (read beforehand)", molecules.size(),
+           time_it(repeats, [&] { return classes_and_codes(molecules); }, sink));
+    report("read + classes + HOSE codes", records.size(), time_it(repeats, [&] {
+             std::size_t n = 0;
+             for (const auto &r : nmrpred::read_records(text, nmrpred::Format::Smiles))
+               if (r.molecule) {
+                 const auto classes = nmrpred::compute_classes(*r.molecule);
+                 for (const auto &code : nmrpred::hose_codes(*r.molecule, classes)) n += code.size();
+               }
+             return n;
+           }, sink));
+
+    // Cost grows with size; report classes + codes per size class of heavy atoms.
+    const std::size_t bounds[] = {15, 30, static_cast<std::size_t>(-1)};
+    std::vector<nmrpred::Molecule> by_size[3];
+    for (const auto &m : molecules) {
+      std::size_t k = 0;
+      while (m.heavy_atom_count() > bounds[k]) ++k;
+      by_size[k].push_back(m);
+    }
+    const char *labels[] = {"  classes + codes, <= 15 heavy atoms", "  classes + codes, 16..30 heavy atoms",
+                            "  classes + codes, > 30 heavy atoms"};
+    for (int k = 0; k < 3; ++k)
+      if (!by_size[k].empty())
+        report(labels[k], by_size[k].size(), time_it(repeats, [&] { return classes_and_codes(by_size[k]); }, sink));
+
+    fmt::print("\n(checksum {})\n", sink % 1000003);
+  } catch (const std::exception &e) {
+    std::fprintf(stderr, "bench_read_classes: %s\n", e.what());
+    return 1;
+  }
+  return 0;
+}
