@@ -143,11 +143,14 @@ std::vector<Shift> predict_c13(const Molecule &molecule, const AtomClasses &clas
   const auto user = detail::make_reference_lookup(true);
   const auto builtin = detail::make_reference_lookup(false);
   const auto fallback = detail::make_c13_class_average();
+  std::unique_ptr<detail::ShiftSource> increments;
+  if (options.use_increments) increments = detail::make_c13_increments(tables);
   std::vector<const detail::ShiftSource *> sources;
   if (options.use_reference) {
     sources.push_back(user.get());
     sources.push_back(builtin.get());
   }
+  if (increments) sources.push_back(increments.get());
   sources.push_back(fallback.get());
   std::vector<std::size_t> atoms;
   for (std::size_t a = 0; a < molecule.heavy_atom_count(); ++a)

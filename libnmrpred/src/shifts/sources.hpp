@@ -45,6 +45,18 @@ class ShiftSource {
 
 std::unique_ptr<ShiftSource> make_reference_lookup(bool user);
 std::unique_ptr<ShiftSource> make_c13_class_average();
+// 13C increment rules (tables/increments/c13_*.tsv, applied as
+// tables/FORMAT.md describes). parse_c13_increment_tables reads and compiles
+// the tables (about 0.5 ms, more than the rest of a small molecule's
+// prediction; a table absent from `tables` leaves its scheme empty) and
+// throws TablesError naming the file and line of a malformed row or an
+// unsupported SMARTS. The parsed tables are immutable and may be shared by
+// threads. A source object serves one predict_c13 call, from one thread.
+struct C13IncrementTables;
+std::shared_ptr<const C13IncrementTables> parse_c13_increment_tables(const Tables &tables);
+std::unique_ptr<ShiftSource> make_c13_increments(std::shared_ptr<const C13IncrementTables> parsed);
+// Parses `tables` anew (convenience for callers that have no parsed copy).
+std::unique_ptr<ShiftSource> make_c13_increments(const Tables &tables);
 
 std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const ShiftSource *> &sources,
                                const std::vector<std::size_t> &atoms, std::vector<std::string> *warnings);

@@ -1,0 +1,786 @@
+// SMARTS subset for the rule tables; semantics in smarts.hpp.
+
+#include "graph/smarts.hpp"
+
+#include <nmrpred/error.hpp>
+
+#include <algorithm>
+#include <cctype>
+#include <map>
+#include <numeric>
+#include <set>
+#include <utility>
+
+#include <fmt/format.h>
+
+namespace nmrpred::detail {
+
+enum class Prim : std::uint8_t {
+  True,
+  AtomicNumber,
+  Aromatic,
+  TotalH,
+  HeavyDegree,
+  Connectivity,
+  Charge,
+  RingCount,  // value -1: in any ring
+  RingSize,   // value -1: in any ring
+  Isotope,
+  Recursive,
+  BondSingle,
+  BondDouble,
+  BondTriple,
+  BondAromatic,
+  BondRing,
+};
+
+enum class Op : std::uint8_t { Prim, Not, And, Or };
+
+struct ExprNode {
+  Op op = Op::Prim;
+  Prim prim = Prim::True;
+  int value = 0;
+  int left = -1;
+  int right = -1;
+};
+
+struct PatternBond {
+  std::uint32_t a = 0, b = 0;
+  int expr = -1;  // root node; -1 = single or aromatic (nothing written)
+};
+
+struct SmartsImpl {
+  std::string text;
+  std::vector<ExprNode> nodes;
+  std::vector<int> atom_expr;  // root node per pattern atom
+  std::vector<PatternBond> bonds;
+  std::vector<std::vector<std::pair<std::uint32_t, std::uint32_t>>> adjacency;  // (atom, bond)
+  std::vector<SmartsPattern> recursive;
+  // Search order for matches anchored at atom 0 (see search_order).
+  std::vector<std::uint32_t> order0, parent0, rank0;
+};
+
+namespace {
+
+constexpr std::size_t kMaxPatternLength = 1000;
+
+bool is_digit(char c) { return c >= '0' && c <= '9'; }
+bool is_lower(char c) { return c >= 'a' && c <= 'z'; }
+bool is_upper(char c) { return c >= 'A' && c <= 'Z'; }
+
+class Parser {
+ public:
+  Parser(std::string_view text, SmartsImpl &out) : s_(text), out_(out) {}
+
+  void parse() {
+    if (s_.empty()) fail("empty pattern");
+    // Table patterns are short; a bound keeps the recursive descent shallow
+    // whatever a replacement table set holds.
+    if (s_.size() > kMaxPatternLength) fail(fmt::format("longer than {} characters", kMaxPatternLength));
+    int prev = -1;
+    int pending = -2;  // -2: no bond written; else node root
+    std::vector<int> branch;
+    struct Open {
+      int atom;
+      int bond;
+    };
+    std::map<int, Open> open;
+    while (pos_ < s_.size()) {
+      const char c = s_[pos_];
+      if (c == '(') {
+        if (prev < 0 || pending != -2) fail("branch without a preceding atom");
+        branch.push_back(prev);
+        ++pos_;
+      } else if (c == ')') {
+        if (branch.empty() || pending != -2) fail("unbalanced ')'");
+        prev = branch.back();
+        branch.pop_back();
+        ++pos_;
+      } else if (is_bond_char(c)) {
+        if (prev < 0 || pending != -2) fail("bond without a preceding atom");
+        pending = parse_bond_expr();
+      } else if (is_digit(c) || c == '%') {
+        if (prev < 0) fail("ring closure without a preceding atom");
+        int n = 0;
+        if (c == '%') {
+          if (pos_ + 2 >= s_.size() || !is_digit(s_[pos_ + 1]) || !is_digit(s_[pos_ + 2]))
+            fail("'%' needs two digits");
+          n = (s_[pos_ + 1] - '0') * 10 + (s_[pos_ + 2] - '0');
+          pos_ += 3;
+        } else {
+          n = c - '0';
+          ++pos_;
+        }
+        const auto it = open.find(n);
+        if (it == open.end()) {
+          open[n] = Open{prev, pending};
+        } else {
+          if (it->second.atom == prev) fail("ring closure onto the same atom");
+          const int bond = pending != -2 ? pending : it->second.bond;
+          add_bond(static_cast<std::uint32_t>(it->second.atom), static_cast<std::uint32_t>(prev), bond);
+          open.erase(it);
+        }
+        pending = -2;
+      } else {
+        const int atom = parse_atom();
+        if (prev >= 0) add_bond(static_cast<std::uint32_t>(prev), static_cast<std::uint32_t>(atom), pending);
+        else if (pending != -2) fail("bond without a preceding atom");
+        prev = atom;
+        pending = -2;
+      }
+    }
+    if (!branch.empty()) fail("unbalanced '('");
+    if (!open.empty()) fail(fmt::format("ring closure {} not closed", open.begin()->first));
+    if (pending != -2) fail("pattern ends with a bond");
+  }
+
+ private:
+  [[noreturn]] void fail(const std::string &why) const {
+    throw TablesError(fmt::format("SMARTS '{}': {} (at position {})", s_, why, pos_));
+  }
+  [[noreturn]] void unsupported(const std::string &what) const {
+    throw TablesError(fmt::format("SMARTS '{}': {} is not supported (at position {})", s_, what, pos_));
+  }
+
+  static bool is_bond_char(char c) {
+    return c == '-' || c == '=' || c == '#' || c == ':' || c == '~' || c == '@' || c == '/' || c == '\\' ||
+           c == '!' || c == '&' || c == ',' || c == ';';
+  }
+
+  int node(Op op, Prim prim = Prim::True, int value = 0, int left = -1, int right = -1) {
+    out_.nodes.push_back(ExprNode{op, prim, value, left, right});
+    return static_cast<int>(out_.nodes.size()) - 1;
+  }
+  int prim(Prim p, int value = 0) { return node(Op::Prim, p, value); }
+  int both(int a, int b) { return node(Op::And, Prim::True, 0, a, b); }
+
+  void add_bond(std::uint32_t a, std::uint32_t b, int expr) {
+    for (const auto &nb : out_.adjacency[a])
+      if (nb.first == b) fail("two bonds between the same atoms");
+    const auto id = static_cast<std::uint32_t>(out_.bonds.size());
+    out_.bonds.push_back(PatternBond{a, b, expr == -2 ? -1 : expr});
+    out_.adjacency[a].emplace_back(b, id);
+    out_.adjacency[b].emplace_back(a, id);
+  }
+
+  int new_atom(int expr) {
+    out_.atom_expr.push_back(expr);
+    out_.adjacency.emplace_back();
+    return static_cast<int>(out_.atom_expr.size()) - 1;
+  }
+
+  // Element with aromaticity constraint; aromatic < 0 means either.
+  int element(unsigned z, int aromatic) {
+    const int e = prim(Prim::AtomicNumber, static_cast<int>(z));
+    return aromatic < 0 ? e : both(e, prim(Prim::Aromatic, aromatic));
+  }
+
+  int parse_atom() {
+    const char c = s_[pos_];
+    if (c == '[') {
+      ++pos_;
+      bracket_start_ = pos_;
+      const int e = parse_low_and(false);
+      if (pos_ >= s_.size() || s_[pos_] != ']') fail("unterminated bracket atom");
+      const auto &root = out_.nodes[static_cast<std::size_t>(e)];
+      // Hydrogens are never matched (smarts.hpp); inside a larger expression
+      // #1 is simply false, but an atom that is only #1 could never match.
+      if (root.op == Op::Prim && root.prim == Prim::AtomicNumber && root.value == 1)
+        unsupported("a hydrogen pattern atom");
+      ++pos_;
+      return new_atom(e);
+    }
+    if (c == '*') return ++pos_, new_atom(prim(Prim::True));
+    if (c == 'a') return ++pos_, new_atom(prim(Prim::Aromatic, 1));
+    if (c == 'A') return ++pos_, new_atom(prim(Prim::Aromatic, 0));
+    if (s_.substr(pos_, 2) == "Cl") return pos_ += 2, new_atom(element(17, 0));
+    if (s_.substr(pos_, 2) == "Br") return pos_ += 2, new_atom(element(35, 0));
+    switch (c) {
+      case 'B': return ++pos_, new_atom(element(5, 0));
+      case 'C': return ++pos_, new_atom(element(6, 0));
+      case 'N': return ++pos_, new_atom(element(7, 0));
+      case 'O': return ++pos_, new_atom(element(8, 0));
+      case 'P': return ++pos_, new_atom(element(15, 0));
+      case 'S': return ++pos_, new_atom(element(16, 0));
+      case 'F': return ++pos_, new_atom(element(9, 0));
+      case 'I': return ++pos_, new_atom(element(53, 0));
+      case 'b': return ++pos_, new_atom(element(5, 1));
+      case 'c': return ++pos_, new_atom(element(6, 1));
+      case 'n': return ++pos_, new_atom(element(7, 1));
+      case 'o': return ++pos_, new_atom(element(8, 1));
+      case 'p': return ++pos_, new_atom(element(15, 1));
+      case 's': return ++pos_, new_atom(element(16, 1));
+      case '.': unsupported("'.' (disconnected pattern)");
+      case '>': unsupported("reaction syntax");
+      default: break;
+    }
+    fail(fmt::format("unexpected character '{}'", c));
+  }
+
+  // Precedence, lowest first: ';'  ','  '&' (or nothing)  '!'.
+  int parse_low_and(bool bond) {
+    int e = parse_or(bond);
+    while (pos_ < s_.size() && s_[pos_] == ';') {
+      ++pos_;
+      e = both(e, parse_or(bond));
+    }
+    return e;
+  }
+  int parse_or(bool bond) {
+    int e = parse_high_and(bond);
+    while (pos_ < s_.size() && s_[pos_] == ',') {
+      ++pos_;
+      e = node(Op::Or, Prim::True, 0, e, parse_high_and(bond));
+    }
+    return e;
+  }
+  bool ends_term(bool bond) const {
+    if (pos_ >= s_.size()) return true;
+    const char c = s_[pos_];
+    if (c == ',' || c == ';') return true;
+    if (bond) return !is_bond_char(c);
+    return c == ']';
+  }
+  int parse_high_and(bool bond) {
+    int e = parse_unary(bond);
+    while (!ends_term(bond)) {
+      if (s_[pos_] == '&') {
+        ++pos_;
+        if (ends_term(bond)) fail("'&' without an operand");
+      }
+      e = both(e, parse_unary(bond));
+    }
+    return e;
+  }
+  int parse_unary(bool bond) {
+    if (pos_ < s_.size() && s_[pos_] == '!') {
+      ++pos_;
+      return node(Op::Not, Prim::True, 0, parse_unary(bond));
+    }
+    if (ends_term(bond)) fail("missing primitive");
+    return bond ? parse_bond_primitive() : parse_atom_primitive();
+  }
+
+  int parse_bond_expr() { return parse_low_and(true); }
+
+  int parse_bond_primitive() {
+    const char c = s_[pos_++];
+    switch (c) {
+      case '-':
+      case '/':
+      case '\\': return prim(Prim::BondSingle);
+      case '=': return prim(Prim::BondDouble);
+      case '#': return prim(Prim::BondTriple);
+      case ':': return prim(Prim::BondAromatic);
+      case '~': return prim(Prim::True);
+      case '@': return prim(Prim::BondRing);
+      default: --pos_; fail(fmt::format("unexpected bond character '{}'", c));
+    }
+  }
+
+  // Reads digits; returns `dflt` when there are none.
+  int number(int dflt) {
+    if (pos_ >= s_.size() || !is_digit(s_[pos_])) return dflt;
+    int n = 0;
+    while (pos_ < s_.size() && is_digit(s_[pos_])) {
+      n = n * 10 + (s_[pos_] - '0');
+      if (n > 1000) fail("number too large");
+      ++pos_;
+    }
+    return n;
+  }
+
+  // An upper-case letter followed by a lower-case one that together name an element.
+  unsigned two_letter_element() const {
+    if (pos_ + 1 >= s_.size() || !is_lower(s_[pos_ + 1])) return 0;
+    return Molecule::element_from_symbol(std::string(s_.substr(pos_, 2)));
+  }
+
+  int parse_atom_primitive() {
+    const char c = s_[pos_];
+    if (c == '$') {
+      if (pos_ + 1 >= s_.size() || s_[pos_ + 1] != '(') fail("'$' must be followed by '('");
+      const std::size_t start = pos_ + 2;
+      std::size_t i = start;
+      int depth = 1;
+      while (i < s_.size() && depth > 0) {
+        if (s_[i] == '(') ++depth;
+        if (s_[i] == ')') --depth;
+        ++i;
+      }
+      if (depth != 0) fail("unterminated '$('");
+      try {
+        out_.recursive.emplace_back(s_.substr(start, i - 1 - start));
+      } catch (const TablesError &e) {
+        fail(fmt::format("in recursive part: {}", e.what()));
+      }
+      pos_ = i;
+      return prim(Prim::Recursive, static_cast<int>(out_.recursive.size()) - 1);
+    }
+    if (c == '#') {
+      ++pos_;
+      const int z = number(-1);
+      if (z < 1 || z > 118) fail("'#' needs an atomic number 1..118");
+      return prim(Prim::AtomicNumber, z);
+    }
+    if (is_digit(c)) {
+      const int isotope = number(0);
+      // "[2H]" is a hydrogen atom (deuterium), not "isotope 2 with one H".
+      if (pos_ + 1 < s_.size() && s_[pos_] == 'H' &&
+          (s_[pos_ + 1] == ']' || s_[pos_ + 1] == '+' || s_[pos_ + 1] == '-'))
+        unsupported("a hydrogen pattern atom");
+      return prim(Prim::Isotope, isotope);
+    }
+    if (c == '*') return ++pos_, prim(Prim::True);
+    if (c == '+' || c == '-') {
+      const int sign = c == '+' ? 1 : -1;
+      ++pos_;
+      int n = number(-1);
+      if (n < 0) {
+        n = 1;
+        while (pos_ < s_.size() && s_[pos_] == c) ++n, ++pos_;
+      }
+      return prim(Prim::Charge, sign * n);
+    }
+    if (c == '@') unsupported("chirality");
+    if (c == ':') {
+      ++pos_;
+      if (number(-1) < 0) fail("':' in a bracket atom needs an atom map number");
+      return prim(Prim::True);  // atom maps do not constrain the match
+    }
+    if (is_lower(c)) {
+      const auto two = s_.substr(pos_, 2);
+      if (two == "se") return pos_ += 2, element(34, 1);
+      if (two == "as") return pos_ += 2, element(33, 1);
+      ++pos_;
+      switch (c) {
+        case 'a': return prim(Prim::Aromatic, 1);
+        case 'b': return element(5, 1);
+        case 'c': return element(6, 1);
+        case 'n': return element(7, 1);
+        case 'o': return element(8, 1);
+        case 'p': return element(15, 1);
+        case 's': return element(16, 1);
+        case 'r': return prim(Prim::RingSize, number(-1));
+        case 'h': --pos_, unsupported("'h' (implicit hydrogen count)");
+        case 'v': --pos_, unsupported("'v' (valence)");
+        case 'x': --pos_, unsupported("'x' (ring connectivity)");
+        default: --pos_, fail(fmt::format("unknown primitive '{}'", c));
+      }
+    }
+    if (is_upper(c)) {
+      if (const unsigned z = two_letter_element()) {
+        pos_ += 2;
+        return element(z, 0);
+      }
+      switch (c) {
+        case 'H': {
+          const bool first = pos_ == bracket_start_;
+          ++pos_;
+          if (first && (pos_ >= s_.size() || s_[pos_] == ']' || s_[pos_] == '+' || s_[pos_] == '-'))
+            --pos_, unsupported("a hydrogen pattern atom");
+          return prim(Prim::TotalH, number(1));
+        }
+        case 'D': return ++pos_, prim(Prim::HeavyDegree, number(1));
+        case 'X': return ++pos_, prim(Prim::Connectivity, number(1));
+        case 'R': return ++pos_, prim(Prim::RingCount, number(-1));
+        case 'A': return ++pos_, prim(Prim::Aromatic, 0);
+        default: break;
+      }
+      const unsigned z = Molecule::element_from_symbol(std::string(1, c));
+      if (z == 0) fail(fmt::format("unknown element '{}'", c));
+      ++pos_;
+      return element(z, 0);
+    }
+    fail(fmt::format("unexpected character '{}'", c));
+  }
+
+  std::string_view s_;
+  SmartsImpl &out_;
+  std::size_t pos_ = 0;
+  std::size_t bracket_start_ = 0;
+};
+
+bool eval(const SmartsImpl &p, int n, const SmartsTarget &t, std::size_t atom, std::int64_t bond);
+
+bool eval_prim(const SmartsImpl &p, const ExprNode &e, const SmartsTarget &t, std::size_t atom, std::int64_t bond) {
+  const Molecule &m = t.molecule();
+  switch (e.prim) {
+    case Prim::True: return true;
+    case Prim::AtomicNumber: return m.atom(atom).atomic_number == e.value;
+    case Prim::Aromatic: return m.atom(atom).aromatic == (e.value != 0);
+    case Prim::TotalH: return static_cast<int>(m.hydrogen_count(atom)) == e.value;
+    case Prim::HeavyDegree: return static_cast<int>(t.heavy_degree(atom)) == e.value;
+    case Prim::Connectivity: return static_cast<int>(m.degree(atom)) == e.value;
+    case Prim::Charge: return m.atom(atom).formal_charge == e.value;
+    case Prim::RingCount: return e.value < 0 ? t.ring_count(atom) > 0 : t.ring_count(atom) == e.value;
+    case Prim::RingSize: return e.value < 0 ? t.smallest_ring(atom) > 0 : t.smallest_ring(atom) == e.value;
+    case Prim::Isotope: return m.atom(atom).isotope == e.value;
+    case Prim::Recursive: return match_at(p.recursive[static_cast<std::size_t>(e.value)], t, atom) > 0;
+    case Prim::BondSingle: return m.bond(static_cast<std::size_t>(bond)).order == BondOrder::Single;
+    case Prim::BondDouble: return m.bond(static_cast<std::size_t>(bond)).order == BondOrder::Double;
+    case Prim::BondTriple: return m.bond(static_cast<std::size_t>(bond)).order == BondOrder::Triple;
+    case Prim::BondAromatic: return m.bond(static_cast<std::size_t>(bond)).order == BondOrder::Aromatic;
+    case Prim::BondRing: return t.bond_ring_count(static_cast<std::size_t>(bond)) > 0;
+  }
+  return false;
+}
+
+bool eval(const SmartsImpl &p, int n, const SmartsTarget &t, std::size_t atom, std::int64_t bond) {
+  const ExprNode &e = p.nodes[static_cast<std::size_t>(n)];
+  switch (e.op) {
+    case Op::Prim: return eval_prim(p, e, t, atom, bond);
+    case Op::Not: return !eval(p, e.left, t, atom, bond);
+    case Op::And: return eval(p, e.left, t, atom, bond) && eval(p, e.right, t, atom, bond);
+    case Op::Or: return eval(p, e.left, t, atom, bond) || eval(p, e.right, t, atom, bond);
+  }
+  return false;
+}
+
+bool bond_ok(const SmartsImpl &p, const PatternBond &pb, const SmartsTarget &t, std::int64_t bond) {
+  if (pb.expr < 0) {
+    const auto o = t.molecule().bond(static_cast<std::size_t>(bond)).order;
+    return o == BondOrder::Single || o == BondOrder::Aromatic;
+  }
+  return eval(p, pb.expr, t, 0, bond);
+}
+
+// Depth-first order of the pattern atoms from `root`, so that each atom after
+// the first has an already placed neighbour (its parent) to draw candidates
+// from. Returns false for a disconnected pattern (the parser never builds one).
+bool search_order(const SmartsImpl &p, std::uint32_t root, std::vector<std::uint32_t> &order,
+                  std::vector<std::uint32_t> &parent, std::vector<std::uint32_t> &rank) {
+  const std::size_t n = p.atom_expr.size();
+  order.clear();
+  parent.assign(n, 0);
+  rank.assign(n, 0);
+  std::vector<bool> seen(n, false);
+  std::vector<std::uint32_t> stack{root};
+  seen[root] = true;
+  while (!stack.empty()) {
+    const auto q = stack.back();
+    stack.pop_back();
+    rank[q] = static_cast<std::uint32_t>(order.size());
+    order.push_back(q);
+    const auto &adj = p.adjacency[q];
+    for (auto it = adj.rbegin(); it != adj.rend(); ++it)
+      if (!seen[it->first]) {
+        seen[it->first] = true;
+        parent[it->first] = q;
+        stack.push_back(it->first);
+      }
+  }
+  return order.size() == n;
+}
+
+class Search {
+ public:
+  Search(const SmartsImpl &p, const SmartsTarget &t, const std::vector<std::int64_t> &fixed,
+         const std::vector<bool> &excluded, const std::function<bool(const std::vector<std::uint32_t> &)> &visit)
+      : p_(p), t_(t), fixed_(fixed), excluded_(excluded), visit_(visit) {}
+
+  bool run() {
+    const std::size_t n = p_.atom_expr.size();
+    if (n == 0) return false;
+    std::uint32_t root = 0;
+    for (std::size_t i = 0; i < fixed_.size() && i < n; ++i)
+      if (fixed_[i] >= 0) {
+        root = static_cast<std::uint32_t>(i);
+        break;
+      }
+    if (root == 0) {
+      order_ = &p_.order0, parent_ = &p_.parent0, rank_ = &p_.rank0;
+    } else {
+      if (!search_order(p_, root, own_order_, own_parent_, own_rank_)) return false;
+      order_ = &own_order_, parent_ = &own_parent_, rank_ = &own_rank_;
+    }
+    map_.assign(n, 0);
+    step(0);
+    return found_;
+  }
+
+ private:
+  bool excluded(std::size_t a) const { return a < excluded_.size() && excluded_[a]; }
+  std::int64_t fixed(std::uint32_t q) const { return q < fixed_.size() ? fixed_[q] : -1; }
+
+  // Pattern atom q at search depth i onto molecule atom a.
+  bool candidate_ok(std::size_t i, std::uint32_t q, std::size_t a) const {
+    const Molecule &m = t_.molecule();
+    if (m.atom(a).atomic_number == 1 || excluded(a)) return false;
+    for (std::size_t j = 0; j < i; ++j)
+      if (map_[(*order_)[j]] == a) return false;
+    const auto f = fixed(q);
+    if (f >= 0 && static_cast<std::size_t>(f) != a) return false;
+    // Bonds to every placed neighbour (tree bond and ring closures) must exist and match.
+    for (const auto &nb : p_.adjacency[q]) {
+      if ((*rank_)[nb.first] >= i) continue;
+      const auto b = m.bond_between(a, map_[nb.first]);
+      if (b < 0 || !bond_ok(p_, p_.bonds[nb.second], t_, b)) return false;
+    }
+    return eval(p_, p_.atom_expr[q], t_, a, -1);
+  }
+
+  // Returns true to stop the whole search.
+  bool step(std::size_t i) {
+    if (i == order_->size()) {
+      found_ = true;
+      return visit_ ? visit_(map_) : true;
+    }
+    const auto q = (*order_)[i];
+    const Molecule &m = t_.molecule();
+    auto try_atom = [&](std::size_t a) {
+      if (!candidate_ok(i, q, a)) return false;
+      map_[q] = static_cast<std::uint32_t>(a);
+      return step(i + 1);
+    };
+    if (i == 0) {
+      const auto f = fixed(q);
+      if (f >= 0) return static_cast<std::size_t>(f) < m.atom_count() && try_atom(static_cast<std::size_t>(f));
+      for (std::size_t a = 0; a < m.heavy_atom_count(); ++a)
+        if (try_atom(a)) return true;
+      return false;
+    }
+    const auto from = map_[(*parent_)[q]];
+    for (auto it = m.neighbours_begin(from); it != m.neighbours_end(from); ++it)
+      if (try_atom(*it)) return true;
+    return false;
+  }
+
+  const SmartsImpl &p_;
+  const SmartsTarget &t_;
+  const std::vector<std::int64_t> &fixed_;
+  const std::vector<bool> &excluded_;
+  const std::function<bool(const std::vector<std::uint32_t> &)> &visit_;
+  const std::vector<std::uint32_t> *order_ = nullptr, *parent_ = nullptr, *rank_ = nullptr;
+  std::vector<std::uint32_t> own_order_, own_parent_, own_rank_;
+  std::vector<std::uint32_t> map_;
+  bool found_ = false;
+};
+
+}  // namespace
+
+SmartsPattern::SmartsPattern(std::string_view text) {
+  auto impl = std::make_shared<SmartsImpl>();
+  impl->text = std::string(text);
+  Parser(impl->text, *impl).parse();
+  if (!search_order(*impl, 0, impl->order0, impl->parent0, impl->rank0))
+    throw InternalError(fmt::format("SMARTS '{}': disconnected pattern", impl->text));
+  impl_ = std::move(impl);
+}
+
+std::string_view SmartsPattern::text() const noexcept {
+  return impl_ ? std::string_view(impl_->text) : std::string_view();
+}
+
+std::size_t SmartsPattern::atom_count() const noexcept { return impl_ ? impl_->atom_expr.size() : 0; }
+
+SmartsTarget::SmartsTarget(const Molecule &m) : m_(m), heavy_degree_(m.atom_count(), 0) {
+  for (const auto &b : m.bonds())
+    if (m.atom(b.begin).atomic_number != 1 && m.atom(b.end).atomic_number != 1) {
+      ++heavy_degree_[b.begin];
+      ++heavy_degree_[b.end];
+    }
+}
+
+int SmartsTarget::ring_count(std::size_t atom) const {
+  perceive_rings();
+  return atom_rings_[atom];
+}
+int SmartsTarget::bond_ring_count(std::size_t bond) const {
+  perceive_rings();
+  return bond_rings_[bond];
+}
+int SmartsTarget::smallest_ring(std::size_t atom) const {
+  perceive_rings();
+  return atom_smallest_[atom];
+}
+const std::vector<std::vector<std::uint32_t>> &SmartsTarget::rings() const {
+  perceive_rings();
+  return rings_;
+}
+
+// Rings: Horton's candidate cycles (shortest paths from a root to both ends of
+// an edge), shortest first, tested for independence by Gaussian elimination
+// over GF(2) on bond sets.
+void SmartsTarget::perceive_rings() const {
+  if (rings_done_) return;
+  rings_done_ = true;
+  const Molecule &m = m_;
+  const std::size_t n = m.heavy_atom_count();
+  atom_rings_.assign(m.atom_count(), 0);
+  atom_smallest_.assign(m.atom_count(), 0);
+  bond_rings_.assign(m.bond_count(), 0);
+  // Ring atoms: strip atoms of heavy degree <= 1 until none is left.
+  std::vector<int> deg(n, 0);
+  std::vector<std::uint32_t> bonds;  // heavy-heavy bonds
+  for (std::uint32_t b = 0; b < m.bond_count(); ++b) {
+    const auto &bd = m.bond(b);
+    if (bd.begin < n && bd.end < n) {
+      bonds.push_back(b);
+      ++deg[bd.begin];
+      ++deg[bd.end];
+    }
+  }
+  std::vector<bool> core(n, true);
+  std::vector<std::uint32_t> queue;
+  for (std::uint32_t a = 0; a < n; ++a)
+    if (deg[a] <= 1) queue.push_back(a), core[a] = false;
+  while (!queue.empty()) {
+    const auto a = queue.back();
+    queue.pop_back();
+    for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it)
+      if (*it < n && core[*it] && --deg[*it] <= 1) core[*it] = false, queue.push_back(*it);
+  }
+  std::vector<std::uint32_t> edges;  // core bonds
+  std::vector<int> edge_of_bond(m.bond_count(), -1);
+  for (auto b : bonds)
+    if (core[m.bond(b).begin] && core[m.bond(b).end]) {
+      edge_of_bond[b] = static_cast<int>(edges.size());
+      edges.push_back(b);
+    }
+  if (edges.empty()) return;
+  // Cycle rank = E - V + components over the core.
+  std::vector<std::uint32_t> comp(n);
+  std::iota(comp.begin(), comp.end(), 0u);
+  std::function<std::uint32_t(std::uint32_t)> find = [&](std::uint32_t x) {
+    return comp[x] == x ? x : comp[x] = find(comp[x]);
+  };
+  std::size_t vertices = 0, components = 0;
+  for (std::uint32_t a = 0; a < n; ++a) vertices += core[a];
+  for (auto b : edges) comp[find(m.bond(b).begin)] = find(m.bond(b).end);
+  for (std::uint32_t a = 0; a < n; ++a) components += core[a] && find(a) == a;
+  const std::size_t rank = edges.size() + components - vertices;
+  const std::size_t words = (edges.size() + 63) / 64;
+  struct Cycle {
+    std::vector<std::uint64_t> bits;
+    std::vector<std::uint32_t> atoms;
+  };
+  std::vector<Cycle> candidates;
+  std::vector<int> dist(n), parent_edge(n), parent_atom(n);
+  std::vector<std::uint32_t> mark(n, 0);
+  std::uint32_t stamp = 0;
+  for (std::uint32_t r = 0; r < n; ++r) {
+    if (!core[r]) continue;
+    std::fill(dist.begin(), dist.end(), -1);
+    dist[r] = 0;
+    parent_edge[r] = -1;
+    std::vector<std::uint32_t> bfs{r};
+    for (std::size_t k = 0; k < bfs.size(); ++k) {
+      const auto a = bfs[k];
+      const auto *bid = m.bond_ids_begin(a);
+      for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid) {
+        if (*it >= n || !core[*it] || dist[*it] >= 0) continue;
+        dist[*it] = dist[a] + 1;
+        parent_edge[*it] = edge_of_bond[*bid];
+        parent_atom[*it] = static_cast<int>(a);
+        bfs.push_back(*it);
+      }
+    }
+    for (std::size_t e = 0; e < edges.size(); ++e) {
+      const auto x = m.bond(edges[e]).begin, y = m.bond(edges[e]).end;
+      if (dist[x] < 0 || dist[y] < 0) continue;
+      if (parent_edge[x] == static_cast<int>(e) || parent_edge[y] == static_cast<int>(e)) continue;
+      auto path = [&](std::uint32_t v) {
+        std::vector<std::uint32_t> p{v};
+        while (v != r) v = static_cast<std::uint32_t>(parent_atom[v]), p.push_back(v);
+        return p;  // v ... r
+      };
+      const auto px = path(x), py = path(y);
+      ++stamp;
+      for (std::size_t i = 0; i + 1 < px.size(); ++i) mark[px[i]] = stamp;
+      bool disjoint = true;
+      for (std::size_t i = 0; i + 1 < py.size() && disjoint; ++i) disjoint = mark[py[i]] != stamp;
+      if (!disjoint) continue;
+      Cycle c;
+      c.bits.assign(words, 0);
+      c.atoms.assign(px.rbegin(), px.rend());  // r ... x
+      for (std::size_t i = 0; i + 1 < py.size(); ++i) c.atoms.push_back(py[i]);  // y ... (before r)
+      for (std::size_t i = 0; i < c.atoms.size(); ++i) {
+        const auto b = m.bond_between(c.atoms[i], c.atoms[(i + 1) % c.atoms.size()]);
+        const auto ei = static_cast<std::size_t>(edge_of_bond[static_cast<std::size_t>(b)]);
+        c.bits[ei / 64] |= std::uint64_t{1} << (ei % 64);
+      }
+      candidates.push_back(std::move(c));
+    }
+  }
+  std::stable_sort(candidates.begin(), candidates.end(),
+                   [](const Cycle &a, const Cycle &b) { return a.atoms.size() < b.atoms.size(); });
+  std::vector<std::vector<std::uint64_t>> basis;  // reduced rows, one pivot bit each
+  std::vector<std::size_t> pivots;
+  auto reduce = [&](std::vector<std::uint64_t> v) {
+    for (std::size_t i = 0; i < basis.size(); ++i)
+      if (v[pivots[i] / 64] >> (pivots[i] % 64) & 1)
+        for (std::size_t w = 0; w < words; ++w) v[w] ^= basis[i][w];
+    return v;
+  };
+  auto first_bit = [&](const std::vector<std::uint64_t> &v) {
+    for (std::size_t w = 0; w < words; ++w)
+      if (v[w]) {
+        std::size_t bit = 0;
+        while (!(v[w] >> bit & 1)) ++bit;
+        return w * 64 + bit;
+      }
+    return words * 64;
+  };
+  auto add = [&](std::vector<std::uint64_t> v) {
+    v = reduce(std::move(v));
+    const auto pivot = first_bit(v);
+    if (pivot == words * 64) return;
+    for (auto &row : basis)
+      if (row[pivot / 64] >> (pivot % 64) & 1)
+        for (std::size_t w = 0; w < words; ++w) row[w] ^= v[w];
+    basis.push_back(std::move(v));
+    pivots.push_back(pivot);
+  };
+  // A ring is kept when it is not a sum of strictly smaller rings (a relevant
+  // cycle). Unlike a plain SSSR this keeps every one of equally small
+  // alternatives (both six-rings of pinane, all four of adamantane), as RDKit's
+  // symmetrized SSSR does, so R<n> does not depend on atom order.
+  std::set<std::vector<std::uint64_t>> seen_bits;
+  std::size_t i = 0;
+  while (i < candidates.size() && basis.size() < rank) {
+    std::size_t j = i;
+    while (j < candidates.size() && candidates[j].atoms.size() == candidates[i].atoms.size()) ++j;
+    std::vector<std::vector<std::uint64_t>> group;
+    for (std::size_t k = i; k < j; ++k) {
+      if (!seen_bits.insert(candidates[k].bits).second) continue;
+      if (first_bit(reduce(candidates[k].bits)) == words * 64) continue;
+      rings_.push_back(candidates[k].atoms);
+      group.push_back(candidates[k].bits);
+    }
+    for (auto &v : group) add(std::move(v));
+    i = j;
+  }
+  for (const auto &ring : rings_) {
+    const int size = static_cast<int>(ring.size());
+    for (std::size_t i = 0; i < ring.size(); ++i) {
+      const auto a = ring[i];
+      ++atom_rings_[a];
+      if (atom_smallest_[a] == 0 || size < atom_smallest_[a]) atom_smallest_[a] = static_cast<std::uint8_t>(size);
+      ++bond_rings_[static_cast<std::size_t>(m.bond_between(a, ring[(i + 1) % ring.size()]))];
+    }
+  }
+}
+
+std::size_t match_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom,
+                     const std::vector<bool> &excluded) {
+  if (p.empty() || atom >= t.molecule().atom_count()) return 0;
+  // Most table rows fail on the anchor atom itself: test it before setting up a search.
+  const auto &impl = p.impl();
+  if (t.molecule().atom(atom).atomic_number == 1 || (atom < excluded.size() && excluded[atom]) ||
+      !eval(impl, impl.atom_expr[0], t, atom, -1))
+    return 0;
+  if (impl.atom_expr.size() == 1) return 1;
+  std::vector<std::int64_t> fixed{static_cast<std::int64_t>(atom)};
+  const std::function<bool(const std::vector<std::uint32_t> &)> stop_at_first;
+  return Search(p.impl(), t, fixed, excluded, stop_at_first).run() ? p.atom_count() : 0;
+}
+
+bool for_each_match(const SmartsPattern &p, const SmartsTarget &t, const std::vector<std::int64_t> &fixed,
+                    const std::vector<bool> &excluded,
+                    const std::function<bool(const std::vector<std::uint32_t> &)> &visit) {
+  if (p.empty()) return false;
+  return Search(p.impl(), t, fixed, excluded, visit).run();
+}
+
+}  // namespace nmrpred::detail

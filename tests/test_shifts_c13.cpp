@@ -1,0 +1,267 @@
+// 13C increment rules (libnmrpred/src/shifts/increments_c13.cpp, applied as
+// tables/FORMAT.md "Increment tables (13C)" describes), run with the reference
+// lookups switched off so that only the rules answer.
+//
+// Each expected value is the measured shift of the compound, as published in
+// the source named beside it (recalled, hence "(from memory)"; the same values
+// are recorded in tables/reference/). Tolerances are the accuracy the rule
+// tables document for each scheme (tables/FORMAT.md), so a check fails when
+// the engine applies a rule wrongly, not when the rule itself is coarse:
+//   Grant-Paul alkanes 1.0 ppm, benzene increments 2.0, pyridine 1.0,
+//   alkenes 1.5, alkynes 2.0, sp3 substituents 2.0, carbonyl classes: the
+//   class's typical value, 3.0.
+// The expected method texts follow from the rows of the tables that apply
+// (tables/increments/c13_*.tsv, ids and values as printed there).
+
+#include <doctest/doctest.h>
+
+#include <nmrpred/classes.hpp>
+#include <nmrpred/error.hpp>
+#include <nmrpred/io.hpp>
+#include <nmrpred/shifts.hpp>
+#include <nmrpred/tables.hpp>
+
+#include <algorithm>
+#include <cstdint>
+#include <filesystem>
+#include <fstream>
+#include <string>
+#include <vector>
+
+#include "check.hpp"
+
+namespace {
+
+using nmrpred::Shift;
+using nmrpred::ShiftSourceKind;
+
+struct Row {
+  const char *smiles;
+  std::size_t atom;
+  double want_ppm;
+  double tol_ppm;
+  const char *source;
+  std::vector<const char *> method;  // substrings the method text must contain
+};
+
+std::vector<Shift> increments_only(const std::string &smiles, const nmrpred::Tables &tables) {
+  const auto m = nmrpred::read_molecule(smiles, nmrpred::Format::Smiles);
+  nmrpred::ShiftOptions opt;
+  opt.use_reference = false;
+  return nmrpred::predict_c13(m, nmrpred::compute_classes(m), tables, opt);
+}
+
+const Shift &shift_of(const std::vector<Shift> &shifts, std::size_t atom) {
+  for (const auto &s : shifts)
+    if (s.atom == atom) return s;
+  FAIL("no shift for atom " << atom);
+  return shifts.front();
+}
+
+void check_rows(const std::vector<Row> &rows) {
+  const auto tables = nmrpred::Tables::builtin();
+  for (const auto &row : rows) {
+    INFO(row.smiles, " atom ", row.atom, " - ", row.source);
+    const auto shifts = increments_only(row.smiles, *tables);
+    const auto &s = shift_of(shifts, row.atom);
+    INFO("method: ", s.method);
+    CHECK(s.source == ShiftSourceKind::Increments);
+    CHECK(s.sphere == 0);
+    CHECK(s.references.empty());
+    CHECK(s.uncertainty_ppm > 0);
+    check_close(s.ppm, row.want_ppm, row.tol_ppm);
+    for (const char *part : row.method) {
+      INFO("expected in the method: ", part);
+      CHECK(s.method.find(part) != std::string::npos);
+    }
+  }
+}
+
+}  // namespace
+
+TEST_SUITE("shifts") {
+  TEST_CASE("Grant-Paul sums give the carbons of n-hexane and 2-methylpentane") {
+    check_rows({
+        {"CCCCCC", 0, 14.1, 1.0, "GOTTLIEB-1997 (from memory)",
+         {"sp3 additive increments", "base gp-base -2.3", "alpha gp-alpha 9.1", "beta gp-beta 9.4",
+          "gamma gp-gamma -2.5", "delta gp-delta 0.3", "epsilon gp-epsilon 0.1"}},
+        {"CCCCCC", 1, 22.7, 1.0, "GOTTLIEB-1997 (from memory)", {"2 x alpha gp-alpha 9.1"}},
+        {"CCCCCC", 2, 31.6, 1.0, "GOTTLIEB-1997 (from memory)", {"2 x beta gp-beta 9.4"}},
+        {"CC(C)CCC", 0, 22.7, 1.0, "LINDEMAN-ADAMS-1971 (from memory)", {"steric gp-steric-1-3 -1.1"}},
+        {"CC(C)CCC", 1, 27.9, 1.0, "LINDEMAN-ADAMS-1971 (from memory)", {"steric gp-steric-3-2 -3.7"}},
+        {"CC(C)CCC", 3, 41.8, 1.0, "LINDEMAN-ADAMS-1971 (from memory)", {"steric gp-steric-2-3 -2.5"}},
+        {"CC(C)CCC", 4, 20.7, 1.0, "LINDEMAN-ADAMS-1971 (from memory)", {}},
+        {"CC(C)CCC", 5, 14.3, 1.0, "LINDEMAN-ADAMS-1971 (from memory)", {}},
+    });
+  }
+
+  TEST_CASE("benzene increments give the ring carbons of 4-nitroanisole and 4-methylacetophenone") {
+    check_rows({
+        {"COc1ccc(cc1)[N+](=O)[O-]", 2, 164.6, 2.0, "PRETSCH-2009 (from memory)",
+         {"benzene increments: base 128.5", "ipso benzene-och3 31.4", "para benzene-no2 6.1"}},
+        {"COc1ccc(cc1)[N+](=O)[O-]", 3, 114.0, 2.0, "PRETSCH-2009 (from memory)",
+         {"ortho benzene-och3 -14.4", "meta benzene-no2 0.9"}},
+        {"COc1ccc(cc1)[N+](=O)[O-]", 4, 125.9, 2.0, "PRETSCH-2009 (from memory)",
+         {"meta benzene-och3 1.0", "ortho benzene-no2 -4.9"}},
+        {"COc1ccc(cc1)[N+](=O)[O-]", 5, 141.5, 2.0, "PRETSCH-2009 (from memory)",
+         {"para benzene-och3 -7.7", "ipso benzene-no2 19.9"}},
+        {"CC(=O)c1ccc(C)cc1", 3, 134.7, 2.0, "PRETSCH-2009 (from memory)",
+         {"ipso benzene-acetyl 8.9", "para benzene-ch3 -3.1"}},
+        {"CC(=O)c1ccc(C)cc1", 4, 128.5, 2.0, "PRETSCH-2009 (from memory)", {}},
+        {"CC(=O)c1ccc(C)cc1", 5, 129.2, 2.0, "PRETSCH-2009 (from memory)", {}},
+        {"CC(=O)c1ccc(C)cc1", 6, 143.9, 2.0, "PRETSCH-2009 (from memory)",
+         {"para benzene-acetyl 4.4", "ipso benzene-ch3 9.3"}},
+    });
+  }
+
+  TEST_CASE("pyridine ring values and ring increments give the carbons of 2-picoline and 2,6-lutidine") {
+    check_rows({
+        {"Cc1ccccn1", 1, 158.3, 1.0, "PRETSCH-2009 (from memory)",
+         {"heteroaromatic ring increments (pyridine)", "base pyridine-c2 149.9", "ring pyridine-2-ch3-c2 8.8"}},
+        {"Cc1ccccn1", 2, 123.2, 1.0, "PRETSCH-2009 (from memory)", {"ring pyridine-2-ch3-c3 -0.6"}},
+        {"Cc1ccccn1", 3, 136.3, 1.0, "PRETSCH-2009 (from memory)", {"ring pyridine-2-ch3-c4 0.2"}},
+        {"Cc1ccccn1", 4, 120.8, 1.0, "PRETSCH-2009 (from memory)", {"ring pyridine-2-ch3-c5 -3.0"}},
+        {"Cc1ccccn1", 5, 149.2, 1.0, "PRETSCH-2009 (from memory)", {"ring pyridine-2-ch3-c6 -0.4"}},
+        // tables/FORMAT.md worked example: the 6-CH3 uses the mirrored 2-CH3 rows.
+        {"Cc1cccc(C)n1", 2, 120.1, 1.0, "PRETSCH-2009 (from memory)",
+         {"ring pyridine-2-ch3-c3 -0.6", "ring pyridine-2-ch3-c5 -3.0"}},
+        {"Cc1cccc(C)n1", 3, 136.6, 1.0, "PRETSCH-2009 (from memory)", {"2 x ring pyridine-2-ch3-c4 0.2"}},
+    });
+  }
+
+  TEST_CASE("alkene and alkyne increments give the sp and sp2 carbons of 1-butene, 2-methyl-2-butene and 1-hexyne") {
+    check_rows({
+        {"C=CCC", 0, 113.3, 1.5, "PRETSCH-2009 (from memory)",
+         {"alkene increments: base 123.3", "partner alpha alkene-alkyl-alpha -7.9",
+          "partner beta alkene-alkyl-beta -1.8"}},
+        {"C=CCC", 1, 140.5, 1.5, "PRETSCH-2009 (from memory)",
+         {"ipso alpha alkene-alkyl-alpha 10.6", "ipso beta alkene-alkyl-beta 7.2"}},
+        // tables/FORMAT.md worked example (130.7 by the rule).
+        {"CC=C(C)C", 2, 131.9, 1.5, "PRETSCH-2009 (from memory)",
+         {"ipso geminal alkene-corr-geminal -4.8", "cis alkene-corr-cis -1.1"}},
+        {"CC=C(C)C", 1, 118.7, 1.5, "PRETSCH-2009 (from memory)",
+         {"partner geminal alkene-corr-geminal 2.5"}},
+        {"C#CCCCC", 0, 68.2, 2.0, "PRETSCH-2009 (from memory)",
+         {"alkyne increments: base 71.9", "partner alpha alkyne-alkyl-alpha -5.7",
+          "delta position without a published value taken as 0"}},
+        {"C#CCCCC", 1, 84.6, 2.0, "PRETSCH-2009 (from memory)",
+         {"ipso alpha alkyne-alkyl-alpha 6.9", "ipso delta alkyne-alkyl-delta 0.5"}},
+    });
+  }
+
+  TEST_CASE("sp3 substituent increments give the carbons of 1-propanol, 1-butene's ethyl group and ethyl acetate") {
+    check_rows({
+        {"CCCO", 2, 64.3, 2.0, "PRETSCH-2009 (from memory)", {"alpha additive-o 49.0"}},
+        {"CCCO", 1, 25.9, 2.0, "PRETSCH-2009 (from memory)", {"beta additive-o 10.1"}},
+        {"CCCO", 0, 10.1, 2.0, "PRETSCH-2009 (from memory)", {"gamma additive-o -6.2"}},
+        {"C=CCC", 2, 26.9, 2.0, "PRETSCH-2009 (from memory)", {"alpha additive-alkenyl 19.5"}},
+        {"C=CCC", 3, 13.3, 2.0, "PRETSCH-2009 (from memory)", {"beta additive-alkenyl 6.9"}},
+        // The alkoxy side of an ester is a chain group: the acyl CH3 beyond
+        // it counts as a gamma chain carbon (tables/FORMAT.md).
+        {"CC(=O)OCC", 4, 60.5, 2.0, "GOTTLIEB-1997 (from memory)",
+         {"alpha additive-oco 56.5", "gamma gp-gamma -2.5"}},
+        {"CC(=O)OCC", 0, 21.0, 2.0, "GOTTLIEB-1997 (from memory)", {"alpha additive-coor 22.6"}},
+    });
+  }
+
+  TEST_CASE("a substituent without an additive row falls to the parent-alkane scheme") {
+    // tables/FORMAT.md: NR3+ has no row in the additive scheme; the parent
+    // scheme takes Grant-Paul for the parent alkane (ethane C: -2.3 + 9.1)
+    // plus the terminal alpha increment of NR3+ (31), derived by hand from
+    // the rule before running the code. Tolerance 0.05: rounding only.
+    check_rows({
+        {"CC[N+](CC)(CC)CC", 1, -2.3 + 9.1 + 31, 0.05, "tables/FORMAT.md parent scheme; SILVERSTEIN-2014 (from memory)",
+         {"sp3 parent-alkane increments", "alpha gp-alpha 9.1", "alpha (terminal) parent-nr3 31"}},
+    });
+  }
+
+  TEST_CASE("carbonyl and other sp/sp2 carbons take the typical value of their class") {
+    check_rows({
+        {"CC(C)=O", 1, 207.1, 3.0, "GOTTLIEB-1997 (from memory)", {"dialkyl ketone", "ketone-saturated 209"}},
+        {"CC(=O)OCC", 1, 171.4, 3.0, "GOTTLIEB-1997 (from memory)", {"ester-saturated"}},
+    });
+  }
+
+  TEST_CASE("carbons outside every scheme are passed on to the class average") {
+    // tables/FORMAT.md: ring carbons and carbons bearing two or more
+    // heteroatoms are outside the sp3 rules; an alkene with one substituent
+    // on each carbon needs its E/Z configuration; a benzene substituent
+    // without a row is not covered.
+    struct Case {
+      const char *smiles;
+      std::size_t atom;
+      const char *why;
+    };
+    const Case cases[] = {{"C1CCCCC1", 0, "sp3 ring carbon"},
+                          {"ClC(Cl)Cl", 1, "three heteroatoms on one sp3 carbon"},
+                          {"CC=CCC", 1, "alkene without E/Z"},
+                          {"OB(O)c1ccccc1", 3, "boronic acid substituent has no benzene row"}};
+    const auto tables = nmrpred::Tables::builtin();
+    for (const auto &c : cases) {
+      INFO(c.smiles, " atom ", c.atom, ": ", c.why);
+      const auto shifts = increments_only(c.smiles, *tables);
+      CHECK(shift_of(shifts, c.atom).source == ShiftSourceKind::ClassAverage);
+    }
+  }
+
+  TEST_CASE("the cis correction separates (Z)- from (E)-2-pentene by the table's value") {
+    // DORMAN-JAUTELAT-ROBERTS-1971 (from memory): the cis correction of
+    // c13_alkene.tsv (alkene-corr-cis, -1.1 ppm) applies once per cis pair.
+    const auto tables = nmrpred::Tables::builtin();
+    const auto z = increments_only("C/C=C\\CC", *tables);
+    const auto e = increments_only("C/C=C/CC", *tables);
+    for (std::size_t atom : {1, 2}) {
+      INFO("atom ", atom);
+      REQUIRE(shift_of(z, atom).source == ShiftSourceKind::Increments);
+      REQUIRE(shift_of(e, atom).source == ShiftSourceKind::Increments);
+      check_close(shift_of(z, atom).ppm - shift_of(e, atom).ppm, -1.1, 1e-9);
+      CHECK(shift_of(z, atom).method.find("cis alkene-corr-cis -1.1") != std::string::npos);
+      CHECK(shift_of(e, atom).method.find("alkene-corr-cis") == std::string::npos);
+    }
+  }
+
+  TEST_CASE("use_increments=false leaves the rules out") {
+    const auto tables = nmrpred::Tables::builtin();
+    const auto m = nmrpred::read_molecule("CCCO", nmrpred::Format::Smiles);
+    nmrpred::ShiftOptions opt;
+    opt.use_reference = false;
+    opt.use_increments = false;
+    for (const auto &s : nmrpred::predict_c13(m, nmrpred::compute_classes(m), *tables, opt))
+      CHECK(s.source == ShiftSourceKind::ClassAverage);
+  }
+
+  TEST_CASE("a rule table with an unsupported SMARTS fails with a TablesError naming file and line") {
+    const auto builtin = nmrpred::Tables::builtin();
+    const auto dir = std::filesystem::temp_directory_path() /
+                     ("nmrpred-test-shifts-c13-" + std::to_string(reinterpret_cast<std::uintptr_t>(&builtin)));
+    std::filesystem::remove_all(dir);
+    auto write = [&](const std::string &rel, std::string_view text) {
+      std::filesystem::create_directories((dir / rel).parent_path());
+      std::ofstream(dir / rel, std::ios::binary) << text;
+    };
+    write("SOURCES.md", builtin->file_text("SOURCES.md"));
+    write("reference/aliphatic.tsv", builtin->file_text("reference/aliphatic.tsv"));
+    std::string benzene(builtin->file_text("increments/c13_benzene.tsv"));
+    const std::string good = "\t[CH3]\t", bad = "\t[C@H3]\t";
+    const auto at = benzene.find(good);
+    REQUIRE(at != std::string::npos);
+    benzene.replace(at, good.size(), bad);
+    const auto line = 1 + std::count(benzene.begin(), benzene.begin() + static_cast<std::ptrdiff_t>(at), '\n');
+    write("increments/c13_benzene.tsv", benzene);
+    const auto tables = nmrpred::Tables::load(dir.string());
+    const auto m = nmrpred::read_molecule("Cc1ccccc1", nmrpred::Format::Smiles);
+    nmrpred::ShiftOptions opt;
+    opt.use_reference = false;
+    try {
+      nmrpred::predict_c13(m, nmrpred::compute_classes(m), *tables, opt);
+      FAIL("no error");
+    } catch (const nmrpred::TablesError &e) {
+      const std::string what = e.what();
+      INFO(what);
+      CHECK(what.find("increments/c13_benzene.tsv:" + std::to_string(line)) != std::string::npos);
+      CHECK(what.find("[C@H3]") != std::string::npos);
+    }
+    std::error_code ec;
+    std::filesystem::remove_all(dir, ec);
+  }
+}
