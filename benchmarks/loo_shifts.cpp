@@ -90,7 +90,8 @@ int main(int argc, char **argv) {
         const char *hname[] = {"C", "CH", "CH2", "CH3", "CH4"};
         by_h[hname[std::min<std::size_t>(m.hydrogen_count(a), 4)]].add(e, s->uncertainty_ppm);
         by_source[s->source == nmrpred::ShiftSourceKind::Reference
-                      ? "lookup sphere " + std::to_string(s->sphere)
+                      ? "lookup sphere " + std::to_string(s->sphere) +
+                            (s->method.find("corrected") != std::string::npos ? " corrected" : " direct")
                       : (s->source == nmrpred::ShiftSourceKind::Increments ? "increments" : "class average")]
             .add(e, s->uncertainty_ppm);
         worst.emplace_back(std::fabs(e), rc.id + " atom " + std::to_string(a) + " (" + s->method + ")");

@@ -248,12 +248,10 @@ TEST_SUITE("shifts") {
     benzene.replace(at, good.size(), bad);
     const auto line = 1 + std::count(benzene.begin(), benzene.begin() + static_cast<std::ptrdiff_t>(at), '\n');
     write("increments/c13_benzene.tsv", benzene);
-    const auto tables = nmrpred::Tables::load(dir.string());
-    const auto m = nmrpred::read_molecule("Cc1ccccc1", nmrpred::Format::Smiles);
-    nmrpred::ShiftOptions opt;
-    opt.use_reference = false;
+    // The rule tables are parsed when the table set is loaded, so the error
+    // comes from load(), before any prediction.
     try {
-      nmrpred::predict_c13(m, nmrpred::compute_classes(m), *tables, opt);
+      nmrpred::Tables::load(dir.string());
       FAIL("no error");
     } catch (const nmrpred::TablesError &e) {
       const std::string what = e.what();

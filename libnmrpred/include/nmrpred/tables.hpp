@@ -24,6 +24,7 @@ namespace nmrpred {
 
 namespace detail {
 struct ReferenceIndex;
+struct C13IncrementTables;
 }
 
 /// One assignment of a reference record: `atoms` (heavy-atom indices in the
@@ -84,6 +85,8 @@ class NMRPRED_API Tables {
 
   /// Lookup structures built from the reference records (private to the library).
   const detail::ReferenceIndex &reference_index() const noexcept { return *index_; }
+  /// The 13C increment tables, parsed once (private to the library).
+  const std::shared_ptr<const detail::C13IncrementTables> &c13_increments() const noexcept { return c13_increments_; }
 
   Tables(const Tables &) = delete;
   Tables &operator=(const Tables &) = delete;
@@ -97,6 +100,7 @@ class NMRPRED_API Tables {
   std::vector<ReferenceCompound> reference_;
   std::vector<std::string> source_keys_;
   std::vector<std::pair<std::string, std::string>> files_;
+  std::shared_ptr<const detail::C13IncrementTables> c13_increments_;
   std::shared_ptr<const detail::ReferenceIndex> index_;
   friend struct Private;
 };

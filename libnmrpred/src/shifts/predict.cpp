@@ -5,6 +5,7 @@
 #include <nmrpred/shifts.hpp>
 
 #include <algorithm>
+#include <limits>
 #include <cmath>
 #include <map>
 #include <memory>
@@ -33,9 +34,31 @@ constexpr LevelSetting kC13Levels[kMaxHoseSpheres + 1] = {
 constexpr LevelSetting kH1Levels[kMaxHoseSpheres + 1] = {
     {0, 0}, {3, 0.9}, {2, 0.45}, {1, 0.25}, {1, 0.18}, {1, 0.14}, {1, 0.12}};
 
+// Residual-corrected lookups: at shallow spheres the matched reference atoms
+// differ too much in their outer environment for their raw shifts to be
+// useful, but the increment rules capture most of that difference. There the
+// estimate is the query's increment value plus the median of (shift -
+// increment) over the matched reference atoms. Levels and priors come from
+// the leave-one-out benchmark (benchmarks/README.md).
+constexpr int kResidualMaxSphere = 6;
+constexpr double kResidualPrior[kMaxHoseSpheres + 1] = {0, 2.6, 1.9, 1.5, 1.2, 1.0, 0.9};
+
+double median_of(std::vector<double> &v) {
+  std::sort(v.begin(), v.end());
+  const auto n = v.size();
+  return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
+}
+
+double spread_about(const std::vector<double> &v, double centre) {
+  if (v.size() < 2) return 0.0;
+  double var = 0;
+  for (double x : v) var += (x - centre) * (x - centre);
+  return std::sqrt(var / static_cast<double>(v.size() - 1));
+}
+
 class ReferenceLookup final : public ShiftSource {
  public:
-  explicit ReferenceLookup(bool user) : user_(user) {}
+  ReferenceLookup(bool user, const ShiftSource *increments) : user_(user), increments_(increments) {}
 
   bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
     const auto &index = q.tables.reference_index();
@@ -43,50 +66,88 @@ class ReferenceLookup final : public ShiftSource {
     const int nucleus = q.nucleus == Nucleus::C13 ? kIndexC13 : kIndexH1;
     const auto *levels = q.nucleus == Nucleus::C13 ? kC13Levels : kH1Levels;
     const auto &parts = q.parts(atom);
+    // The query's own increment value, computed only if a shallow match needs it.
+    bool inc_done = false;
+    double inc_q = std::numeric_limits<double>::quiet_NaN();
+    std::string inc_method;
+    struct Acc {
+      double shift = 0, residual = 0;
+      int n = 0, n_residual = 0;
+    };
     for (int k = kMaxHoseSpheres; k >= 1; --k) {
       const auto &map = index.levels[nucleus][k];
       const auto it = map.find(join_hose_spheres(parts, k));
       if (it == map.end()) continue;
       // Average per compound first, so one compound with many equal atoms
       // does not outvote the others.
-      std::map<std::uint32_t, std::pair<double, int>> per_compound;
+      std::map<std::uint32_t, Acc> per_compound;
       for (const auto &e : it->second) {
         const auto &rc = refs[e.compound];
         if (rc.user != user_) continue;
         if (q.options.blind && index.constitution[e.compound] == q.constitution) continue;
         auto &acc = per_compound[e.compound];
-        acc.first += e.shift_ppm;
-        acc.second += 1;
+        acc.shift += e.shift_ppm;
+        acc.n += 1;
+        if (std::isfinite(e.increment_ppm)) {
+          acc.residual += e.shift_ppm - e.increment_ppm;
+          acc.n_residual += 1;
+        }
       }
       const int n = static_cast<int>(per_compound.size());
       if (n < (user_ ? 1 : levels[k].min_support)) continue;
-      std::vector<double> values;
-      for (const auto &kv : per_compound) values.push_back(kv.second.first / kv.second.second);
-      std::sort(values.begin(), values.end());
-      // Median resists a single odd reference better than the mean.
-      const double median = values.size() % 2 ? values[values.size() / 2]
-                                              : 0.5 * (values[values.size() / 2 - 1] + values[values.size() / 2]);
-      double var = 0;
-      for (double v : values) var += (v - median) * (v - median);
-      const double sd = n > 1 ? std::sqrt(var / (n - 1)) : 0.0;
-      out.ppm = median;
-      out.uncertainty_ppm = std::sqrt(levels[k].prior_ppm * levels[k].prior_ppm + sd * sd);
-      out.source = user_ ? ShiftSourceKind::UserReference : ShiftSourceKind::Reference;
-      out.sphere = k;
-      out.method = fmt::format("{} reference lookup, HOSE sphere {}, {} compound{}",
-                               user_ ? "user" : "built-in", k, n, n == 1 ? "" : "s");
-      out.references.clear();
+      std::vector<double> shifts, residuals;
       for (const auto &kv : per_compound) {
-        if (out.references.size() == 10) break;
-        out.references.push_back(refs[kv.first].id);
+        shifts.push_back(kv.second.shift / kv.second.n);
+        if (kv.second.n_residual) residuals.push_back(kv.second.residual / kv.second.n_residual);
       }
+      if (k <= kResidualMaxSphere && increments_ && !residuals.empty()) {
+        if (!inc_done) {
+          Shift s;
+          if (increments_->estimate(q, atom, s)) {
+            inc_q = s.ppm;
+            inc_method = s.method;
+          }
+          inc_done = true;
+        }
+        if (std::isfinite(inc_q)) {
+          const double m = median_of(residuals);
+          const double sd = spread_about(residuals, m);
+          const int nr = static_cast<int>(residuals.size());
+          out.ppm = inc_q + m;
+          out.uncertainty_ppm = std::sqrt(kResidualPrior[k] * kResidualPrior[k] + sd * sd);
+          out.method = fmt::format("{}; corrected by {:+.1f} ppm, the median residual of {} {} reference "
+                                   "compound{} at HOSE sphere {}",
+                                   inc_method, m, nr, user_ ? "user" : "built-in", nr == 1 ? "" : "s", k);
+          fill_common(out, q, per_compound, k);
+          return true;
+        }
+      }
+      const double med = median_of(shifts);
+      const double sd = spread_about(shifts, med);
+      out.ppm = med;
+      out.uncertainty_ppm = std::sqrt(levels[k].prior_ppm * levels[k].prior_ppm + sd * sd);
+      out.method = fmt::format("{} reference lookup, HOSE sphere {}, {} compound{}", user_ ? "user" : "built-in",
+                               k, n, n == 1 ? "" : "s");
+      fill_common(out, q, per_compound, k);
       return true;
     }
     return false;
   }
 
  private:
+  template <class Map>
+  void fill_common(Shift &out, const ShiftQuery &q, const Map &per_compound, int k) const {
+    out.source = user_ ? ShiftSourceKind::UserReference : ShiftSourceKind::Reference;
+    out.sphere = k;
+    out.references.clear();
+    for (const auto &kv : per_compound) {
+      if (out.references.size() == 10) break;
+      out.references.push_back(q.tables.reference()[kv.first].id);
+    }
+  }
+
   bool user_;
+  const ShiftSource *increments_;
 };
 
 }  // namespace
@@ -131,7 +192,9 @@ std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const Shif
   return out;
 }
 
-std::unique_ptr<ShiftSource> make_reference_lookup(bool user) { return std::make_unique<ReferenceLookup>(user); }
+std::unique_ptr<ShiftSource> make_reference_lookup(bool user, const ShiftSource *increments) {
+  return std::make_unique<ReferenceLookup>(user, increments);
+}
 
 }  // namespace detail
 
@@ -140,11 +203,11 @@ std::vector<Shift> predict_c13(const Molecule &molecule, const AtomClasses &clas
   if (classes.chemical.size() != molecule.atom_count())
     throw ArgumentError("predict_c13: classes belong to another molecule");
   detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::C13);
-  const auto user = detail::make_reference_lookup(true);
-  const auto builtin = detail::make_reference_lookup(false);
-  const auto fallback = detail::make_c13_class_average();
   std::unique_ptr<detail::ShiftSource> increments;
-  if (options.use_increments) increments = detail::make_c13_increments(tables);
+  if (options.use_increments) increments = detail::make_c13_increments(tables.c13_increments());
+  const auto user = detail::make_reference_lookup(true, increments.get());
+  const auto builtin = detail::make_reference_lookup(false, increments.get());
+  const auto fallback = detail::make_c13_class_average();
   std::vector<const detail::ShiftSource *> sources;
   if (options.use_reference) {
     sources.push_back(user.get());

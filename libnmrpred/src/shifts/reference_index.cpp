@@ -1,5 +1,9 @@
 #include "shifts/reference_index.hpp"
 
+#include <limits>
+
+#include "shifts/sources.hpp"
+
 #include <nmrpred/classes.hpp>
 #include <nmrpred/error.hpp>
 #include <nmrpred/io.hpp>
@@ -8,8 +12,10 @@
 
 namespace nmrpred::detail {
 
-std::shared_ptr<const ReferenceIndex> build_reference_index(const std::vector<ReferenceCompound> &compounds) {
+std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables) {
+  const auto &compounds = tables.reference();
   auto index = std::make_shared<ReferenceIndex>();
+  const ShiftOptions plain;
   index->constitution.resize(compounds.size());
   for (std::uint32_t ci = 0; ci < compounds.size(); ++ci) {
     const auto &c = compounds[ci];
@@ -22,10 +28,15 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const std::vector<Re
     }
     const auto classes = compute_classes(m);
     index->constitution[ci] = constitution_key(m, classes);
+    const ShiftQuery q(m, classes, tables, plain, Nucleus::C13);
+    const auto increments = make_c13_increments(tables.c13_increments());
     auto add = [&](int nucleus, std::size_t centre, double value) {
       const auto parts = hose_spheres(m, classes, centre, kMaxHoseSpheres);
+      double inc = std::numeric_limits<double>::quiet_NaN();
+      Shift s;
+      if (nucleus == kIndexC13 && increments->estimate(q, centre, s)) inc = s.ppm;
       for (int k = 1; k <= kMaxHoseSpheres; ++k)
-        index->levels[nucleus][k][join_hose_spheres(parts, k)].push_back({value, ci});
+        index->levels[nucleus][k][join_hose_spheres(parts, k)].push_back({value, inc, ci});
     };
     auto check_atom = [&](std::uint32_t a) {
       if (a >= m.heavy_atom_count())

@@ -19,6 +19,10 @@ namespace nmrpred::detail {
 
 struct IndexEntry {
   double shift_ppm;
+  // What the 13C increment rules give for this reference atom (NaN where no
+  // rule applies): lookups use shift - increment to correct the rules for
+  // the query's own environment.
+  double increment_ppm;
   std::uint32_t compound;  // index into Tables::reference()
 };
 
@@ -30,7 +34,8 @@ struct ReferenceIndex {
   std::vector<std::uint64_t> constitution;  // per compound
 };
 
-std::shared_ptr<const ReferenceIndex> build_reference_index(const std::vector<ReferenceCompound> &compounds);
+// Needs tables.reference() and tables.c13_increments(); not tables.reference_index().
+std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables);
 
 }  // namespace nmrpred::detail
 

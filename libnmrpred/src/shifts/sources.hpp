@@ -43,7 +43,8 @@ class ShiftSource {
   virtual bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const = 0;
 };
 
-std::unique_ptr<ShiftSource> make_reference_lookup(bool user);
+// `increments` (may be null) corrects shallow matches; see predict.cpp.
+std::unique_ptr<ShiftSource> make_reference_lookup(bool user, const ShiftSource *increments);
 std::unique_ptr<ShiftSource> make_c13_class_average();
 // 13C increment rules (tables/increments/c13_*.tsv, applied as
 // tables/FORMAT.md describes). parse_c13_increment_tables reads and compiles

@@ -9,6 +9,7 @@
 #include <fmt/format.h>
 
 #include "shifts/reference_index.hpp"
+#include "shifts/sources.hpp"
 #include "tables/embedded.hpp"
 #include "tables/parse.hpp"
 
@@ -208,7 +209,8 @@ struct Tables::Private {
     if (dup != ids.end()) throw TablesError(fmt::format("tables: reference id '{}' is used twice", *dup));
     t->version_ = fmt::format("{}-{:016x}", prefix, h);
     t->files_ = std::move(files);
-    t->index_ = detail::build_reference_index(t->reference_);
+    t->c13_increments_ = detail::parse_c13_increment_tables(*t);
+    t->index_ = detail::build_reference_index(*t);
     return t;
   }
 };
@@ -273,7 +275,8 @@ std::shared_ptr<const Tables> Tables::with_user_reference(std::string_view tsv_t
     t->reference_.push_back(std::move(r));
   }
   t->version_ = fmt::format("{}+user-{:016x}", version_, detail::fnv1a(tsv_text, 0xCBF29CE484222325ull));
-  t->index_ = detail::build_reference_index(t->reference_);
+  t->c13_increments_ = c13_increments_;
+  t->index_ = detail::build_reference_index(*t);
   return t;
 }
 
