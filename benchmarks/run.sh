@@ -13,7 +13,7 @@ if [[ ! -f "$BUILD/build.ninja" ]]; then
   cmake -S "$REPO_ROOT" -B "$BUILD" -G Ninja -DCMAKE_BUILD_TYPE=Release \
     -DNMRPRED_BUILD_BENCHMARKS=ON -DNMRPRED_BUILD_TESTS=OFF -DNMRPRED_BUILD_PYTHON=OFF
 fi
-ninja -C "$BUILD" -j2 bench_read_classes
+ninja -C "$BUILD" -j2 bench_read_classes nmrpred_loo_shifts
 
 # The NCI sample ships with Debian's rdkit-data; RDKit knows where.
 NCI=$("$PYTHON" -c 'import os; from rdkit import RDConfig; print(os.path.join(RDConfig.RDDataDir, "NCI", "first_5K.smi"))')
@@ -25,3 +25,9 @@ echo "== libnmrpred (Open Babel $(pkg-config --modversion openbabel-3 2>/dev/nul
 echo
 echo "== RDKit reference"
 "${PIN[@]}" "$PYTHON" "$REPO_ROOT/benchmarks/rdkit_rank.py" "$NCI" "$REPEATS"
+echo
+echo "== 13C leave-one-out accuracy (built-in reference set, blind)"
+"$BUILD/bin/nmrpred_loo_shifts"
+echo
+echo "== 13C leave-one-out accuracy, increment rules alone"
+"$BUILD/bin/nmrpred_loo_shifts" --increments-only

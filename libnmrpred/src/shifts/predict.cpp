@@ -43,64 +43,45 @@ constexpr LevelSetting kH1Levels[kMaxHoseSpheres + 1] = {
 constexpr int kResidualMaxSphere = 6;
 constexpr double kResidualPrior[kMaxHoseSpheres + 1] = {0, 2.6, 1.9, 1.5, 1.2, 1.0, 0.9};
 
-double median_of(std::vector<double> &v) {
-  std::sort(v.begin(), v.end());
-  const auto n = v.size();
-  return n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
-}
-
-double spread_about(const std::vector<double> &v, double centre) {
-  if (v.size() < 2) return 0.0;
-  double var = 0;
-  for (double x : v) var += (x - centre) * (x - centre);
-  return std::sqrt(var / static_cast<double>(v.size() - 1));
-}
-
 class ReferenceLookup final : public ShiftSource {
  public:
   ReferenceLookup(bool user, const ShiftSource *increments) : user_(user), increments_(increments) {}
 
   bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
     const auto &index = q.tables.reference_index();
-    const auto &refs = q.tables.reference();
+    if (user_ && !index.has_user) return false;
     const int nucleus = q.nucleus == Nucleus::C13 ? kIndexC13 : kIndexH1;
     const auto *levels = q.nucleus == Nucleus::C13 ? kC13Levels : kH1Levels;
+    const auto &excluded = q.excluded_compounds();
     const auto &parts = q.parts(atom);
-    // The query's own increment value, computed only if a shallow match needs it.
+    // The query's own increment value, computed only once a match needs it.
     bool inc_done = false;
     double inc_q = std::numeric_limits<double>::quiet_NaN();
     std::string inc_method;
-    struct Acc {
-      double shift = 0, residual = 0;
-      int n = 0, n_residual = 0;
-    };
     for (int k = kMaxHoseSpheres; k >= 1; --k) {
-      const auto &map = index.levels[nucleus][k];
-      const auto it = map.find(join_hose_spheres(parts, k));
+      const auto &map = index.levels[user_ ? kUser : kBuiltin][nucleus][k];
+      const auto it = map.find(hose_key(parts, k));
       if (it == map.end()) continue;
-      // Average per compound first, so one compound with many equal atoms
-      // does not outvote the others.
-      std::map<std::uint32_t, Acc> per_compound;
-      for (const auto &e : it->second) {
-        const auto &rc = refs[e.compound];
-        if (rc.user != user_) continue;
-        if (q.options.blind && index.constitution[e.compound] == q.constitution) continue;
-        auto &acc = per_compound[e.compound];
-        acc.shift += e.shift_ppm;
-        acc.n += 1;
-        if (std::isfinite(e.increment_ppm)) {
-          acc.residual += e.shift_ppm - e.increment_ppm;
-          acc.n_residual += 1;
+      const Bucket &b = it->second;
+      Summary shift = b.shift, residual = b.residual;
+      std::vector<std::uint32_t> used;
+      // Blind mode: recompute without the query's own compound(s), if present.
+      bool touched = false;
+      for (auto c : excluded)
+        touched |= std::binary_search(b.compounds.begin(), b.compounds.end(), CompoundValue{c, 0, 0},
+                                      [](const CompoundValue &x, const CompoundValue &y) { return x.compound < y.compound; });
+      if (touched) {
+        std::vector<double> sv, rv;
+        for (const auto &cv : b.compounds) {
+          if (std::find(excluded.begin(), excluded.end(), cv.compound) != excluded.end()) continue;
+          sv.push_back(cv.shift_ppm);
+          if (std::isfinite(cv.residual_ppm)) rv.push_back(cv.residual_ppm);
         }
+        shift = summarise(std::move(sv));
+        residual = summarise(std::move(rv));
       }
-      const int n = static_cast<int>(per_compound.size());
-      if (n < (user_ ? 1 : levels[k].min_support)) continue;
-      std::vector<double> shifts, residuals;
-      for (const auto &kv : per_compound) {
-        shifts.push_back(kv.second.shift / kv.second.n);
-        if (kv.second.n_residual) residuals.push_back(kv.second.residual / kv.second.n_residual);
-      }
-      if (k <= kResidualMaxSphere && increments_ && !residuals.empty()) {
+      if (shift.n < (user_ ? 1 : levels[k].min_support)) continue;
+      if (k <= kResidualMaxSphere && increments_ && residual.n > 0) {
         if (!inc_done) {
           Shift s;
           if (increments_->estimate(q, atom, s)) {
@@ -110,39 +91,36 @@ class ReferenceLookup final : public ShiftSource {
           inc_done = true;
         }
         if (std::isfinite(inc_q)) {
-          const double m = median_of(residuals);
-          const double sd = spread_about(residuals, m);
-          const int nr = static_cast<int>(residuals.size());
-          out.ppm = inc_q + m;
-          out.uncertainty_ppm = std::sqrt(kResidualPrior[k] * kResidualPrior[k] + sd * sd);
+          out.ppm = inc_q + residual.median;
+          out.uncertainty_ppm = std::sqrt(kResidualPrior[k] * kResidualPrior[k] + residual.sd * residual.sd);
           out.method = fmt::format("{}; corrected by {:+.1f} ppm, the median residual of {} {} reference "
                                    "compound{} at HOSE sphere {}",
-                                   inc_method, m, nr, user_ ? "user" : "built-in", nr == 1 ? "" : "s", k);
-          fill_common(out, q, per_compound, k);
+                                   inc_method, residual.median, residual.n, user_ ? "user" : "built-in",
+                                   residual.n == 1 ? "" : "s", k);
+          fill_common(out, q, b, excluded, k);
           return true;
         }
       }
-      const double med = median_of(shifts);
-      const double sd = spread_about(shifts, med);
-      out.ppm = med;
-      out.uncertainty_ppm = std::sqrt(levels[k].prior_ppm * levels[k].prior_ppm + sd * sd);
+      out.ppm = shift.median;
+      out.uncertainty_ppm = std::sqrt(levels[k].prior_ppm * levels[k].prior_ppm + shift.sd * shift.sd);
       out.method = fmt::format("{} reference lookup, HOSE sphere {}, {} compound{}", user_ ? "user" : "built-in",
-                               k, n, n == 1 ? "" : "s");
-      fill_common(out, q, per_compound, k);
+                               k, shift.n, shift.n == 1 ? "" : "s");
+      fill_common(out, q, b, excluded, k);
       return true;
     }
     return false;
   }
 
  private:
-  template <class Map>
-  void fill_common(Shift &out, const ShiftQuery &q, const Map &per_compound, int k) const {
+  void fill_common(Shift &out, const ShiftQuery &q, const Bucket &b, const std::vector<std::uint32_t> &excluded,
+                   int k) const {
     out.source = user_ ? ShiftSourceKind::UserReference : ShiftSourceKind::Reference;
     out.sphere = k;
     out.references.clear();
-    for (const auto &kv : per_compound) {
+    for (const auto &cv : b.compounds) {
       if (out.references.size() == 10) break;
-      out.references.push_back(q.tables.reference()[kv.first].id);
+      if (std::find(excluded.begin(), excluded.end(), cv.compound) != excluded.end()) continue;
+      out.references.push_back(q.tables.reference()[cv.compound].id);
     }
   }
 
@@ -151,6 +129,18 @@ class ReferenceLookup final : public ShiftSource {
 };
 
 }  // namespace
+
+const std::vector<std::uint32_t> &ShiftQuery::excluded_compounds() const {
+  if (!excluded_done_) {
+    if (options.blind) {
+      const auto &con = tables.reference_index().constitution;
+      for (std::uint32_t c = 0; c < con.size(); ++c)
+        if (con[c] == constitution) excluded_.push_back(c);
+    }
+    excluded_done_ = true;
+  }
+  return excluded_;
+}
 
 const std::vector<std::string> &ShiftQuery::parts(std::size_t atom) const {
   auto &slot = parts_cache_[atom];

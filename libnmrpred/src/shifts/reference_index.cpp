@@ -1,5 +1,7 @@
 #include "shifts/reference_index.hpp"
 
+#include <algorithm>
+#include <cmath>
 #include <limits>
 
 #include "shifts/sources.hpp"
@@ -12,9 +14,43 @@
 
 namespace nmrpred::detail {
 
+std::uint64_t hose_key(const std::vector<std::string> &parts, int spheres) {
+  std::uint64_t h = 0xCBF29CE484222325ull;
+  for (int k = 0; k <= spheres && k < static_cast<int>(parts.size()); ++k) {
+    for (unsigned char c : parts[static_cast<std::size_t>(k)]) {
+      h ^= c;
+      h *= 0x100000001B3ull;
+    }
+    h ^= 0x1F;  // sphere separator, not a character codes use
+    h *= 0x100000001B3ull;
+  }
+  return h;
+}
+
+Summary summarise(std::vector<double> v) {
+  Summary s;
+  s.n = static_cast<int>(v.size());
+  if (v.empty()) return s;
+  std::sort(v.begin(), v.end());
+  const auto n = v.size();
+  s.median = n % 2 ? v[n / 2] : 0.5 * (v[n / 2 - 1] + v[n / 2]);
+  if (n > 1) {
+    double var = 0;
+    for (double x : v) var += (x - s.median) * (x - s.median);
+    s.sd = std::sqrt(var / static_cast<double>(n - 1));
+  }
+  return s;
+}
+
 std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables) {
   const auto &compounds = tables.reference();
   auto index = std::make_shared<ReferenceIndex>();
+  // Raw atoms per bucket first; averaged per compound at the end.
+  struct Raw {
+    std::uint32_t compound;
+    double shift, increment;
+  };
+  std::array<std::array<std::array<std::unordered_map<std::uint64_t, std::vector<Raw>>, kMaxHoseSpheres + 1>, 2>, 2> raw;
   const ShiftOptions plain;
   index->constitution.resize(compounds.size());
   for (std::uint32_t ci = 0; ci < compounds.size(); ++ci) {
@@ -30,13 +66,14 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     index->constitution[ci] = constitution_key(m, classes);
     const ShiftQuery q(m, classes, tables, plain, Nucleus::C13);
     const auto increments = make_c13_increments(tables.c13_increments());
+    const int origin = c.user ? kUser : kBuiltin;
+    index->has_user |= c.user;
     auto add = [&](int nucleus, std::size_t centre, double value) {
       const auto parts = hose_spheres(m, classes, centre, kMaxHoseSpheres);
       double inc = std::numeric_limits<double>::quiet_NaN();
       Shift s;
       if (nucleus == kIndexC13 && increments->estimate(q, centre, s)) inc = s.ppm;
-      for (int k = 1; k <= kMaxHoseSpheres; ++k)
-        index->levels[nucleus][k][join_hose_spheres(parts, k)].push_back({value, inc, ci});
+      for (int k = 1; k <= kMaxHoseSpheres; ++k) raw[origin][nucleus][k][hose_key(parts, k)].push_back({ci, value, inc});
     };
     auto check_atom = [&](std::uint32_t a) {
       if (a >= m.heavy_atom_count())
@@ -69,6 +106,36 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
         }
       }
   }
+  for (int o = 0; o < 2; ++o)
+    for (int nu = 0; nu < 2; ++nu)
+      for (int k = 1; k <= kMaxHoseSpheres; ++k)
+        for (auto &kv : raw[o][nu][k]) {
+          auto &atoms = kv.second;
+          std::sort(atoms.begin(), atoms.end(), [](const Raw &a, const Raw &b) { return a.compound < b.compound; });
+          Bucket b;
+          std::vector<double> shifts, residuals;
+          for (std::size_t i = 0; i < atoms.size();) {
+            std::size_t j = i;
+            double sum = 0, rsum = 0;
+            int rn = 0;
+            for (; j < atoms.size() && atoms[j].compound == atoms[i].compound; ++j) {
+              sum += atoms[j].shift;
+              if (std::isfinite(atoms[j].increment)) {
+                rsum += atoms[j].shift - atoms[j].increment;
+                ++rn;
+              }
+            }
+            const CompoundValue v{atoms[i].compound, sum / static_cast<double>(j - i),
+                                  rn ? rsum / rn : std::numeric_limits<double>::quiet_NaN()};
+            b.compounds.push_back(v);
+            shifts.push_back(v.shift_ppm);
+            if (rn) residuals.push_back(v.residual_ppm);
+            i = j;
+          }
+          b.shift = summarise(std::move(shifts));
+          b.residual = summarise(std::move(residuals));
+          index->levels[o][nu][k].emplace(kv.first, std::move(b));
+        }
   return index;
 }
 

@@ -1,9 +1,10 @@
 #ifndef NMRPRED_SHIFTS_REFERENCE_INDEX_HPP
 #define NMRPRED_SHIFTS_REFERENCE_INDEX_HPP
 
-// Lookup structures built from the reference compounds: for each nucleus and
-// each HOSE sphere level, the assigned shifts of every reference atom whose
-// environment has that code.
+// Lookup structures built from the reference compounds: for each origin
+// (built-in or user), nucleus and HOSE sphere level, the reference atoms whose
+// environment has a given code, already averaged per compound and summarised,
+// so a lookup costs one hash probe per level.
 
 #include <array>
 #include <cstdint>
@@ -17,21 +18,41 @@
 
 namespace nmrpred::detail {
 
-struct IndexEntry {
-  double shift_ppm;
-  // What the 13C increment rules give for this reference atom (NaN where no
-  // rule applies): lookups use shift - increment to correct the rules for
-  // the query's own environment.
-  double increment_ppm;
+enum IndexNucleus { kIndexC13 = 0, kIndexH1 = 1 };
+enum IndexOrigin { kBuiltin = 0, kUser = 1 };
+
+// One reference compound's atoms with one code, averaged.
+struct CompoundValue {
   std::uint32_t compound;  // index into Tables::reference()
+  double shift_ppm;
+  // shift - what the 13C increment rules give for the same atoms; NaN where
+  // the rules do not apply. Lookups use it to correct the rules for the
+  // query's own environment.
+  double residual_ppm;
 };
 
-enum IndexNucleus { kIndexC13 = 0, kIndexH1 = 1 };
+struct Summary {
+  int n = 0;  // compounds
+  double median = 0, sd = 0;
+};
+
+struct Bucket {
+  std::vector<CompoundValue> compounds;  // sorted by compound
+  Summary shift, residual;               // over all compounds (residual: those that have one)
+};
+
+// Hash of the code with `spheres` spheres, computed from its parts
+// (hose_spheres()/split_hose_code()) without building the text.
+std::uint64_t hose_key(const std::vector<std::string> &parts, int spheres);
+
+// Median and sample standard deviation about it.
+Summary summarise(std::vector<double> values);
 
 struct ReferenceIndex {
-  // levels[nucleus][k] maps the code with k spheres (1..kMaxHoseSpheres).
-  std::array<std::array<std::unordered_map<std::string, std::vector<IndexEntry>>, kMaxHoseSpheres + 1>, 2> levels;
+  // levels[origin][nucleus][k] maps hose_key(parts, k), k = 1..kMaxHoseSpheres.
+  std::array<std::array<std::array<std::unordered_map<std::uint64_t, Bucket>, kMaxHoseSpheres + 1>, 2>, 2> levels;
   std::vector<std::uint64_t> constitution;  // per compound
+  bool has_user = false;
 };
 
 // Needs tables.reference() and tables.c13_increments(); not tables.reference_index().

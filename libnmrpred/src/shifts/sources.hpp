@@ -30,8 +30,13 @@ class ShiftQuery {
   std::uint64_t constitution;
   // HOSE spheres (kMaxHoseSpheres) of an atom, computed once.
   const std::vector<std::string> &parts(std::size_t atom) const;
+  // Blind mode: reference compounds with the query's constitution (sorted);
+  // empty otherwise. Needs tables.reference_index().
+  const std::vector<std::uint32_t> &excluded_compounds() const;
 
  private:
+  mutable bool excluded_done_ = false;
+  mutable std::vector<std::uint32_t> excluded_;
   mutable std::unordered_map<std::size_t, std::vector<std::string>> parts_cache_;
 };
 
