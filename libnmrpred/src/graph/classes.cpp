@@ -264,6 +264,11 @@ Graph build_graph(const Molecule &m, const std::vector<std::uint32_t> &atoms, co
   g.off.assign(g.n + 1, 0);
   g.colour.resize(g.n);
   g.leaf.assign(g.n, 0);
+  std::size_t edges = 0;
+  for (auto a : atoms) edges += m.degree(a);
+  g.nbr.reserve(edges);
+  g.order.reserve(edges);
+  std::vector<std::pair<std::uint32_t, std::uint8_t>> tmp;
   for (std::uint32_t i = 0; i < g.n; ++i) {
     const auto a = atoms[i];
     const auto deg = static_cast<std::uint32_t>(m.degree(a));
@@ -271,7 +276,7 @@ Graph build_graph(const Molecule &m, const std::vector<std::uint32_t> &atoms, co
     g.leaf[i] = deg == 1;
     g.off[i + 1] = g.off[i] + deg;
     const auto *bid = m.bond_ids_begin(a);
-    std::vector<std::pair<std::uint32_t, std::uint8_t>> tmp;
+    tmp.clear();
     for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid)
       tmp.emplace_back(local_of[*it], order_code(m.bond(*bid).order));
     std::sort(tmp.begin(), tmp.end());
@@ -508,23 +513,39 @@ void orbits(const Graph &g, const Partition &base, const std::vector<std::vector
 // equivalent (a rotation about the parent bond exchanges them without touching
 // any configuration); pairs are topologically equivalent.
 void unite_twins(const Graph &g, UnionFind &uf, std::size_t min_size) {
+  std::vector<std::pair<std::uint64_t, std::uint32_t>> leaves;
   for (std::uint32_t p = 0; p < g.n; ++p) {
-    std::map<std::pair<std::uint64_t, std::uint8_t>, std::vector<std::uint32_t>> sets;
+    leaves.clear();
     for (std::uint32_t k = g.off[p]; k < g.off[p + 1]; ++k)
-      if (g.leaf[g.nbr[k]]) sets[{g.colour[g.nbr[k]], g.order[k]}].push_back(g.nbr[k]);
-    for (auto &kv : sets)
-      if (kv.second.size() >= min_size)
-        for (auto a : kv.second) uf.unite(kv.second[0], a);
+      if (g.leaf[g.nbr[k]]) leaves.emplace_back((g.colour[g.nbr[k]] << 3) ^ g.order[k], g.nbr[k]);
+    if (leaves.size() < min_size) continue;
+    std::sort(leaves.begin(), leaves.end());
+    for (std::size_t i = 0; i < leaves.size();) {
+      std::size_t j = i;
+      while (j < leaves.size() && leaves[j].first == leaves[i].first) ++j;
+      if (j - i >= min_size)
+        for (std::size_t q = i + 1; q < j; ++q) uf.unite(leaves[i].second, leaves[q].second);
+      i = j;
+    }
   }
 }
 
-std::vector<std::vector<std::uint32_t>> groups_of(UnionFind &uf, std::uint32_t n, const std::vector<std::uint32_t> &within) {
-  // Groups of atoms sharing `within` value, in order of first atom.
-  std::map<std::uint32_t, std::vector<std::uint32_t>> by;
-  for (std::uint32_t a = 0; a < n; ++a) by[within[a]].push_back(a);
+// Atoms grouped by their `within` value (groups with one atom left out, as
+// they need no search), each group in atom order.
+std::vector<std::vector<std::uint32_t>> groups_of(std::uint32_t n, const std::vector<std::uint32_t> &within) {
+  std::vector<std::pair<std::uint32_t, std::uint32_t>> keyed(n);
+  for (std::uint32_t a = 0; a < n; ++a) keyed[a] = {within[a], a};
+  std::sort(keyed.begin(), keyed.end());
   std::vector<std::vector<std::uint32_t>> out;
-  for (auto &kv : by) out.push_back(std::move(kv.second));
-  (void)uf;
+  for (std::uint32_t i = 0; i < n;) {
+    std::uint32_t j = i;
+    while (j < n && keyed[j].first == keyed[i].first) ++j;
+    if (j - i > 1) {
+      out.emplace_back();
+      for (std::uint32_t q = i; q < j; ++q) out.back().push_back(keyed[q].second);
+    }
+    i = j;
+  }
   return out;
 }
 
@@ -589,15 +610,21 @@ AtomClasses compute_classes(const Molecule &m) {
   // Topological orbits first: the stereo model reports only real stereo
   // elements, which needs them.
   for (const auto &atoms : frag_atoms) {
-    frag_graph.push_back(build_graph(m, atoms, none, local_of));
+    if (frag_atoms.size() == 1) {
+      // One fragment: the whole-molecule graph and partition serve as they are.
+      frag_graph.push_back(whole);
+      frag_part.push_back(pw);
+    } else {
+      frag_graph.push_back(build_graph(m, atoms, none, local_of));
+      frag_part.emplace_back();
+      detail::initial_partition(frag_graph.back(), frag_part.back(), scratch);
+    }
     const Graph &g = frag_graph.back();
-    frag_part.emplace_back();
-    detail::initial_partition(g, frag_part.back(), scratch);
     UnionFind uf(g.n);
     unite_twins(g, uf, 2);
     std::vector<std::uint32_t> cellid(g.n);
     for (std::uint32_t a = 0; a < g.n; ++a) cellid[a] = frag_part.back().cell[a];
-    orbits(g, frag_part.back(), groups_of(uf, g.n, cellid), {0}, uf, budget, exhausted);
+    orbits(g, frag_part.back(), groups_of(g.n, cellid), {0}, uf, budget, exhausted);
     for (std::uint32_t a = 0; a < g.n; ++a) topo_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
 
@@ -618,7 +645,7 @@ AtomClasses compute_classes(const Molecule &m) {
     unite_twins(g, uf, 3);
     std::vector<std::uint32_t> within(g.n);
     for (std::uint32_t a = 0; a < g.n; ++a) within[a] = topo_uf.find(g.global[a]);
-    orbits(g, frag_part[f], groups_of(uf, g.n, within), {+1, -1}, uf, budget, exhausted);
+    orbits(g, frag_part[f], groups_of(g.n, within), {+1, -1}, uf, budget, exhausted);
     for (std::uint32_t a = 0; a < g.n; ++a) chem_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
 
