@@ -208,6 +208,16 @@ std::vector<Shift> predict_c13(const Molecule &molecule, const AtomClasses &clas
   std::vector<std::size_t> atoms;
   for (std::size_t a = 0; a < molecule.heavy_atom_count(); ++a)
     if (molecule.atom(a).atomic_number == 6) atoms.push_back(a);
+  if (warnings)
+    for (std::size_t a = 0; a < molecule.atom_count(); ++a)
+      if (molecule.atom(a).radical_electrons) {
+        // The tables hold closed-shell molecules only; a radical's spectrum is
+        // dominated by paramagnetic effects no rule here describes.
+        warnings->push_back(fmt::format("atom {}: unpaired electrons; shifts near a radical centre are not "
+                                        "reliable (values are those of the closed-shell graph)",
+                                        a));
+        break;
+      }
   return detail::run_sources(q, sources, atoms, warnings);
 }
 
