@@ -1,0 +1,88 @@
+#include <nmrpred/error.hpp>
+#include <nmrpred/solvents.hpp>
+
+#include <algorithm>
+#include <cctype>
+
+#include <fmt/format.h>
+
+#include "tables/parse.hpp"
+
+namespace nmrpred {
+
+namespace {
+
+std::string lower_trimmed(std::string_view s) {
+  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.front()))) s.remove_prefix(1);
+  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.back()))) s.remove_suffix(1);
+  std::string out(s);
+  for (auto &c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  return out;
+}
+
+std::vector<SolventSignal> signals(const std::string &where, std::string_view shifts, std::string_view mults,
+                                   std::string_view couplings) {
+  std::vector<SolventSignal> out;
+  if (shifts == "-") return out;
+  const auto s = detail::split(shifts, ';'), m = detail::split(mults, ';'), j = detail::split(couplings, ';');
+  if (m.size() != s.size() || j.size() != s.size())
+    throw TablesError(fmt::format("{}: shift, multiplicity and coupling lists differ in length", where));
+  for (std::size_t i = 0; i < s.size(); ++i) {
+    SolventSignal sig;
+    if (!detail::parse_double(s[i], sig.shift_ppm)) throw TablesError(fmt::format("{}: bad shift '{}'", where, s[i]));
+    sig.multiplicity = std::string(m[i]);
+    if (j[i] != "-" && !detail::parse_double(j[i], sig.coupling_hz))
+      throw TablesError(fmt::format("{}: bad coupling '{}'", where, j[i]));
+    out.push_back(std::move(sig));
+  }
+  return out;
+}
+
+}  // namespace
+
+std::vector<Solvent> solvents(const Tables &tables) {
+  const auto text = tables.file_text("solvents.tsv");
+  if (text.empty()) throw TablesError("tables: solvents.tsv is missing");
+  const auto t = detail::parse_tsv(text, "solvents.tsv", true);
+  const auto c_id = detail::column(t, "id"), c_name = detail::column(t, "name"),
+             c_alias = detail::column(t, "aliases"), c_h = detail::column(t, "h1_residual_ppm"),
+             c_hm = detail::column(t, "h1_multiplicity"), c_hj = detail::column(t, "j_hd_hz"),
+             c_c = detail::column(t, "c13_ppm"), c_cm = detail::column(t, "c13_multiplicity"),
+             c_cj = detail::column(t, "j_cd_hz"), c_w = detail::column(t, "water_h1_ppm"),
+             c_src = detail::column(t, "source");
+  std::vector<Solvent> out;
+  for (const auto &row : t.rows) {
+    const std::string where = fmt::format("solvents.tsv:{}", row.line);
+    const auto &f = row.fields;
+    Solvent s;
+    s.id = f[c_id];
+    s.name = f[c_name];
+    for (auto a : detail::split(f[c_alias], ';'))
+      if (!a.empty() && a != "-") s.aliases.push_back(lower_trimmed(a));
+    s.h1_residual = signals(where, f[c_h], f[c_hm], f[c_hj]);
+    s.c13 = signals(where, f[c_c], f[c_cm], f[c_cj]);
+    if (!detail::parse_double(f[c_w], s.water_h1_ppm))
+      throw TablesError(fmt::format("{}: bad water shift '{}'", where, f[c_w]));
+    // Labile protons exchange with the deuterons of the solvent's own O-D
+    // group (common practice).
+    s.exchanges_labile_protons = s.id == "d2o" || s.id == "cd3od";
+    s.source = f[c_src];
+    out.push_back(std::move(s));
+  }
+  return out;
+}
+
+Solvent find_solvent(const Tables &tables, std::string_view name) {
+  const auto key = lower_trimmed(name);
+  auto all = solvents(tables);
+  for (auto &s : all) {
+    if (lower_trimmed(s.name) == key || s.id == key ||
+        std::find(s.aliases.begin(), s.aliases.end(), key) != s.aliases.end())
+      return std::move(s);
+  }
+  std::string known;
+  for (const auto &s : all) known += (known.empty() ? "" : ", ") + s.name;
+  throw ArgumentError(fmt::format("unknown solvent '{}' (known: {})", name, known));
+}
+
+}  // namespace nmrpred
