@@ -3,7 +3,7 @@
 // same constitution left out of the lookup) and compared with its assigned
 // shifts. Prints overall and per-class figures; asserts nothing.
 //
-//   build/bin/nmrpred_loo_shifts [--increments-only]
+//   build/bin/nmrpred_loo_shifts [--increments-only] [--1h]
 
 #include <nmrpred/classes.hpp>
 #include <nmrpred/io.hpp>
@@ -61,11 +61,91 @@ std::string carbon_type(const nmrpred::Molecule &m, std::size_t a) {
 
 }  // namespace
 
+std::string proton_type(const nmrpred::Molecule &m, std::size_t heavy) {
+  const auto z = m.atom(heavy).atomic_number;
+  if (z != 6) return "exchangeable (O/N/S-H)";
+  bool aromatic = m.atom(heavy).aromatic, alkene = false, carbonyl = false, hetero = false, hetero_ring = false;
+  const auto *bid = m.bond_ids_begin(heavy);
+  for (auto it = m.neighbours_begin(heavy); it != m.neighbours_end(heavy); ++it, ++bid) {
+    const auto nz = m.atom(*it).atomic_number;
+    const auto o = m.bond(*bid).order;
+    if (o == nmrpred::BondOrder::Double) (nz == 8 ? carbonyl : alkene) = true;
+    if (o == nmrpred::BondOrder::Aromatic && nz != 6) hetero_ring = true;
+    if (o == nmrpred::BondOrder::Single && nz != 6 && nz != 1) hetero = true;
+  }
+  if (carbonyl) return "aldehyde/formyl";
+  if (aromatic) return hetero_ring ? "heteroaromatic" : "aromatic";
+  if (alkene) return "alkene";
+  return hetero ? "alkyl next to heteroatom" : "alkyl";
+}
+
+int run_h1(const nmrpred::Tables &tables, const nmrpred::ShiftOptions &opt) {
+  Stats all;
+  std::map<std::string, Stats> by_type, by_source;
+  std::vector<std::pair<double, std::string>> worst;
+  for (const auto &rc : tables.reference()) {
+    const auto m = nmrpred::read_molecule(rc.smiles, nmrpred::Format::Smiles);
+    const auto cls = nmrpred::compute_classes(m);
+    nmrpred::ShiftOptions o = opt;
+    o.solvent = rc.solvent;
+    const auto shifts = nmrpred::predict_h1(m, cls, tables, o);
+    std::map<std::size_t, std::vector<const nmrpred::Shift *>> on_heavy;
+    for (const auto &s : shifts) on_heavy[static_cast<std::size_t>(m.attached_to(s.atom))].push_back(&s);
+    for (const auto &as : rc.h1) {
+      for (std::size_t k = 0; k < as.atoms.size(); ++k) {
+        const auto heavy = as.atoms[k];
+        const auto &hs = on_heavy[heavy];
+        if (hs.empty()) continue;
+        std::vector<double> truth;
+        if (as.atoms.size() == 1 && as.values.size() == 2) truth = {as.values[0], as.values[1]};
+        else if (as.atoms.size() == 2 && as.values.size() == 2) truth = {0.5 * (as.values[0] + as.values[1])};
+        else truth = {as.values[0]};
+        // Pair predictions and values in sorted order (which diastereotopic
+        // proton is which is not stated).
+        std::vector<const nmrpred::Shift *> ps(hs.begin(), hs.end());
+        std::sort(ps.begin(), ps.end(), [](auto *a, auto *b) { return a->ppm < b->ppm; });
+        std::sort(truth.begin(), truth.end());
+        const bool pair = truth.size() == 2 && ps.size() >= 2;
+        const std::size_t n = pair ? 2 : 1;
+        for (std::size_t i = 0; i < n; ++i) {
+          const auto *s = pair ? ps[i == 0 ? 0 : ps.size() - 1] : ps[0];
+          const double t = pair ? truth[i] : (truth.size() == 2 ? 0.5 * (truth[0] + truth[1]) : truth[0]);
+          const double e = s->ppm - t;
+          const auto type = proton_type(m, heavy);
+          by_type[type].add(e, s->uncertainty_ppm);
+          if (s->exchangeable) continue;
+          all.add(e, s->uncertainty_ppm);
+          by_source[s->source == nmrpred::ShiftSourceKind::Reference
+                        ? "lookup sphere " + std::to_string(s->sphere) +
+                              (s->method.find("corrected") != std::string::npos ? " corrected" : " direct")
+                        : (s->source == nmrpred::ShiftSourceKind::Increments ? "increments" : "class average")]
+              .add(e, s->uncertainty_ppm);
+          worst.emplace_back(std::fabs(e), rc.id + " H on atom " + std::to_string(heavy) + " (" + s->method + ")");
+        }
+      }
+    }
+  }
+  std::printf("1H leave-one-out over %zu reference compounds (tables %s)%s\n", tables.reference().size(),
+              tables.version().c_str(), opt.use_reference ? "" : ", increments only");
+  all.print("non-exchangeable protons", 0.5);
+  for (const auto &kv : by_type) kv.second.print(kv.first.c_str(), 0.5);
+  for (const auto &kv : by_source) kv.second.print(kv.first.c_str(), 0.5);
+  std::sort(worst.rbegin(), worst.rend());
+  std::printf("largest errors:\n");
+  for (std::size_t i = 0; i < 10 && i < worst.size(); ++i) std::printf("  %6.2f  %s\n", worst[i].first, worst[i].second.c_str());
+  return 0;
+}
+
 int main(int argc, char **argv) {
   nmrpred::ShiftOptions opt;
   opt.blind = true;
-  if (argc > 1 && std::strcmp(argv[1], "--increments-only") == 0) opt.use_reference = false;
+  bool h1 = false;
+  for (int i = 1; i < argc; ++i) {
+    if (std::strcmp(argv[i], "--increments-only") == 0) opt.use_reference = false;
+    if (std::strcmp(argv[i], "--1h") == 0) h1 = true;
+  }
   const auto tables = nmrpred::Tables::builtin();
+  if (h1) return run_h1(*tables, opt);
   Stats all;
   std::map<std::string, Stats> by_type, by_h, by_source;
   std::vector<std::pair<double, std::string>> worst;

@@ -44,6 +44,12 @@ struct Shift {
   int sphere = 0;              ///< HOSE spheres matched (lookups), else 0
   std::string method;          ///< in words: source, sphere level and support, or rules summed
   std::vector<std::string> references;  ///< ids of the reference compounds that contributed
+  /// 1H only: a proton on O, N or S, whose shift depends on solvent,
+  /// concentration and temperature and whose signal may be broad.
+  bool exchangeable = false;
+  /// 1H only: false for an exchangeable proton replaced by deuterium in a
+  /// solvent that exchanges (D2O, CD3OD): it gives no signal.
+  bool observed = true;
   friend bool operator==(const Shift &a, const Shift &b) {
     return a.atom == b.atom && a.nucleus == b.nucleus && a.ppm == b.ppm &&
            a.uncertainty_ppm == b.uncertainty_ppm && a.method == b.method;
@@ -59,6 +65,10 @@ struct ShiftOptions {
   bool use_reference = true;
   /// Use increment rules before the last resort.
   bool use_increments = true;
+  /// Solvent (name or alias from tables/solvents.tsv). Matters for
+  /// exchangeable protons; other values are for CDCl3 unless a method says
+  /// otherwise.
+  std::string solvent = "CDCl3";
 };
 
 /// 13C shifts of every carbon atom, in atom order. Equivalent atoms (same
@@ -69,6 +79,16 @@ struct ShiftOptions {
 NMRPRED_API std::vector<Shift> predict_c13(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
                                            const ShiftOptions &options = {},
                                            std::vector<std::string> *warnings = nullptr);
+
+/// 1H shifts of every proton (hydrogen of natural or mass 1; deuterium and
+/// tritium are left out), in atom order. Equivalent protons (same chemical
+/// class) get identical values. Protons on O, N and S are marked exchangeable,
+/// with a solvent-dependent typical value and a wide uncertainty, and are
+/// marked not observed in solvents that exchange them (D2O, CD3OD).
+/// Throws ArgumentError for classes of another molecule or an unknown solvent.
+NMRPRED_API std::vector<Shift> predict_h1(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                                          const ShiftOptions &options = {},
+                                          std::vector<std::string> *warnings = nullptr);
 
 }  // namespace nmrpred
 

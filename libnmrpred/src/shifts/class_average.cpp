@@ -93,8 +93,57 @@ class C13ClassAverage final : public ShiftSource {
   }
 };
 
+// Last-resort 1H estimate: the centre of the usual region of the proton's
+// class (source: COMMON-PRACTICE), with an uncertainty covering the region.
+class H1ClassAverage final : public ShiftSource {
+ public:
+  bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
+    const auto &m = q.molecule;
+    const auto heavy = m.attached_to(atom);
+    double ppm = 2.0, sd = 2.0;
+    const char *cls = "proton on an unusual atom";
+    if (heavy >= 0) {
+      const auto h = static_cast<std::size_t>(heavy);
+      const auto z = m.atom(h).atomic_number;
+      if (z == 8 || z == 7 || z == 16) {
+        ppm = z == 8 ? 4.0 : (z == 7 ? 3.0 : 2.0), sd = 3.0, cls = "exchangeable proton";
+      } else if (z == 6) {
+        int hetero = 0, pi = 0, aromatic = 0, dbl_o = 0, triple = 0;
+        const auto *bid = m.bond_ids_begin(h);
+        for (auto it = m.neighbours_begin(h); it != m.neighbours_end(h); ++it, ++bid) {
+          const auto nz = m.atom(*it).atomic_number;
+          const auto o = m.bond(*bid).order;
+          if (nz == 1) continue;
+          if (o == BondOrder::Aromatic) ++aromatic;
+          if (o == BondOrder::Triple) ++triple;
+          if (o == BondOrder::Double) (nz == 8 ? dbl_o : pi)++;
+          // Electronegative neighbours pull the proton downfield; Si, B and
+          // metals do not.
+          const bool electronegative = nz == 7 || nz == 8 || nz == 9 || nz == 15 || nz == 16 || nz == 17 ||
+                                       nz == 35 || nz == 53;
+          if (electronegative && o == BondOrder::Single) ++hetero;
+        }
+        if (dbl_o) ppm = 9.7, sd = 0.6, cls = "aldehyde or formyl C-H";
+        else if (triple) ppm = 2.5, sd = 0.6, cls = "alkyne C-H";
+        else if (aromatic) ppm = 7.3, sd = 0.6, cls = "aromatic C-H";
+        else if (pi) ppm = 5.7, sd = 0.9, cls = "alkene C-H";
+        else if (hetero) ppm = std::min(3.6 + 1.5 * (hetero - 1), 7.0), sd = 1.0, cls = "sp3 C-H next to a heteroatom";
+        else ppm = 1.4, sd = 0.7, cls = "sp3 C-H";
+      }
+    }
+    out.ppm = ppm;
+    out.uncertainty_ppm = sd;
+    out.source = ShiftSourceKind::ClassAverage;
+    out.sphere = 0;
+    out.method = fmt::format("class average: {}", cls);
+    out.references.clear();
+    return true;
+  }
+};
+
 }  // namespace
 
 std::unique_ptr<ShiftSource> make_c13_class_average() { return std::make_unique<C13ClassAverage>(); }
+std::unique_ptr<ShiftSource> make_h1_class_average() { return std::make_unique<H1ClassAverage>(); }
 
 }  // namespace nmrpred::detail

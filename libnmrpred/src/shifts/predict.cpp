@@ -3,6 +3,7 @@
 #include <nmrpred/error.hpp>
 #include <nmrpred/hose.hpp>
 #include <nmrpred/shifts.hpp>
+#include <nmrpred/solvents.hpp>
 
 #include <algorithm>
 #include <limits>
@@ -31,8 +32,11 @@ struct LevelSetting {
 };
 constexpr LevelSetting kC13Levels[kMaxHoseSpheres + 1] = {
     {0, 0}, {3, 7.0}, {2, 3.6}, {1, 2.4}, {1, 1.7}, {1, 1.3}, {1, 1.0}};
+// For protons sphere 1 is only "a hydrogen on carbon": it says nothing, and a
+// class average does better (leave-one-out), so it is never used.
+constexpr int kNever = 1 << 30;
 constexpr LevelSetting kH1Levels[kMaxHoseSpheres + 1] = {
-    {0, 0}, {3, 0.9}, {2, 0.45}, {1, 0.25}, {1, 0.18}, {1, 0.14}, {1, 0.12}};
+    {0, 0}, {kNever, 0.9}, {2, 0.45}, {1, 0.25}, {1, 0.18}, {1, 0.14}, {1, 0.12}};
 
 // Residual-corrected lookups: at shallow spheres the matched reference atoms
 // differ too much in their outer environment for their raw shifts to be
@@ -219,6 +223,46 @@ std::vector<Shift> predict_c13(const Molecule &molecule, const AtomClasses &clas
         break;
       }
   return detail::run_sources(q, sources, atoms, warnings);
+}
+
+std::vector<Shift> predict_h1(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                              const ShiftOptions &options, std::vector<std::string> *warnings) {
+  if (classes.chemical.size() != molecule.atom_count())
+    throw ArgumentError("predict_h1: classes belong to another molecule");
+  const Solvent solvent = find_solvent(tables, options.solvent);
+  detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::H1);
+  const auto user = detail::make_reference_lookup(true, nullptr);
+  const auto builtin = detail::make_reference_lookup(false, nullptr);
+  const auto fallback = detail::make_h1_class_average();
+  std::vector<const detail::ShiftSource *> lookups{user.get(), builtin.get()};
+  std::vector<const detail::ShiftSource *> sources;
+  std::vector<std::size_t> carbon_bound, labile;
+  for (std::size_t a = molecule.heavy_atom_count(); a < molecule.atom_count(); ++a) {
+    const auto iso = molecule.atom(a).isotope;
+    if (iso > 1) continue;  // deuterium and tritium give no 1H signal
+    const auto heavy = molecule.attached_to(a);
+    const auto z = heavy >= 0 ? molecule.atom(static_cast<std::size_t>(heavy)).atomic_number : 0;
+    (z == 8 || z == 7 || z == 16 ? labile : carbon_bound).push_back(a);
+  }
+  if (options.use_reference) sources = lookups;
+  sources.push_back(fallback.get());
+  auto out = detail::run_sources(q, sources, carbon_bound, warnings);
+  // Exchangeable protons: reference values from other solvents and
+  // concentrations do not carry over, so they get the typical value of their
+  // class with a wide uncertainty.
+  auto labile_shifts = detail::run_sources(q, {fallback.get()}, labile, nullptr);
+  for (auto &s : labile_shifts) {
+    s.exchangeable = true;
+    s.observed = !solvent.exchanges_labile_protons;
+    s.method += solvent.exchanges_labile_protons
+                    ? fmt::format("; exchanges with {} and gives no signal", solvent.name)
+                    : fmt::format("; in {} the signal may be broad or absent, and its position depends on "
+                                  "concentration, water and temperature",
+                                  solvent.name);
+    out.push_back(std::move(s));
+  }
+  std::sort(out.begin(), out.end(), [](const Shift &a, const Shift &b) { return a.atom < b.atom; });
+  return out;
 }
 
 }  // namespace nmrpred

@@ -51,6 +51,7 @@ class ShiftSource {
 // `increments` (may be null) corrects shallow matches; see predict.cpp.
 std::unique_ptr<ShiftSource> make_reference_lookup(bool user, const ShiftSource *increments);
 std::unique_ptr<ShiftSource> make_c13_class_average();
+std::unique_ptr<ShiftSource> make_h1_class_average();
 // 13C increment rules (tables/increments/c13_*.tsv, applied as
 // tables/FORMAT.md describes). parse_c13_increment_tables reads and compiles
 // the tables (about 0.5 ms, more than the rest of a small molecule's
