@@ -25,6 +25,7 @@ namespace nmrpred {
 namespace detail {
 struct ReferenceIndex;
 struct C13IncrementTables;
+struct H1IncrementTables;
 }
 
 /// One assignment of a reference record: `atoms` (heavy-atom indices in the
@@ -87,6 +88,8 @@ class NMRPRED_API Tables {
   const detail::ReferenceIndex &reference_index() const noexcept { return *index_; }
   /// The 13C increment tables, parsed once (private to the library).
   const std::shared_ptr<const detail::C13IncrementTables> &c13_increments() const noexcept { return c13_increments_; }
+  /// The 1H increment tables, parsed once (private to the library).
+  const std::shared_ptr<const detail::H1IncrementTables> &h1_increments() const noexcept { return h1_increments_; }
 
   Tables(const Tables &) = delete;
   Tables &operator=(const Tables &) = delete;
@@ -101,6 +104,7 @@ class NMRPRED_API Tables {
   std::vector<std::string> source_keys_;
   std::vector<std::pair<std::string, std::string>> files_;
   std::shared_ptr<const detail::C13IncrementTables> c13_increments_;
+  std::shared_ptr<const detail::H1IncrementTables> h1_increments_;
   std::shared_ptr<const detail::ReferenceIndex> index_;
   friend struct Private;
 };

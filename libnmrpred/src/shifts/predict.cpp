@@ -13,6 +13,7 @@
 
 #include <fmt/format.h>
 
+#include "shifts/increments_h1.hpp"
 #include "shifts/reference_index.hpp"
 #include "shifts/sources.hpp"
 
@@ -31,7 +32,7 @@ struct LevelSetting {
   double prior_ppm;
 };
 constexpr LevelSetting kC13Levels[kMaxHoseSpheres + 1] = {
-    {0, 0}, {3, 7.0}, {2, 3.6}, {1, 2.4}, {1, 1.7}, {1, 1.3}, {1, 1.0}};
+    {0, 0}, {3, 6.0}, {2, 3.0}, {1, 2.0}, {1, 1.4}, {1, 1.0}, {1, 0.8}};
 // For protons sphere 1 is only "a hydrogen on carbon": it says nothing, and a
 // class average does better (leave-one-out), so it is never used.
 constexpr int kNever = 1 << 30;
@@ -45,7 +46,8 @@ constexpr LevelSetting kH1Levels[kMaxHoseSpheres + 1] = {
 // increment) over the matched reference atoms. Levels and priors come from
 // the leave-one-out benchmark (benchmarks/README.md).
 constexpr int kResidualMaxSphere = 6;
-constexpr double kResidualPrior[kMaxHoseSpheres + 1] = {0, 2.6, 1.9, 1.5, 1.2, 1.0, 0.9};
+constexpr double kC13ResidualPrior[kMaxHoseSpheres + 1] = {0, 2.2, 1.5, 0.9, 0.5, 0.4, 0.3};
+constexpr double kH1ResidualPrior[kMaxHoseSpheres + 1] = {0, 0.5, 0.22, 0.22, 0.11, 0.08, 0.05};
 
 class ReferenceLookup final : public ShiftSource {
  public:
@@ -96,7 +98,8 @@ class ReferenceLookup final : public ShiftSource {
         }
         if (std::isfinite(inc_q)) {
           out.ppm = inc_q + residual.median;
-          out.uncertainty_ppm = std::sqrt(kResidualPrior[k] * kResidualPrior[k] + residual.sd * residual.sd);
+          const double prior = (q.nucleus == Nucleus::C13 ? kC13ResidualPrior : kH1ResidualPrior)[k];
+          out.uncertainty_ppm = std::sqrt(prior * prior + residual.sd * residual.sd);
           out.method = fmt::format("{}; corrected by {:+.1f} ppm, the median residual of {} {} reference "
                                    "compound{} at HOSE sphere {}",
                                    inc_method, residual.median, residual.n, user_ ? "user" : "built-in",
@@ -231,10 +234,11 @@ std::vector<Shift> predict_h1(const Molecule &molecule, const AtomClasses &class
     throw ArgumentError("predict_h1: classes belong to another molecule");
   const Solvent solvent = find_solvent(tables, options.solvent);
   detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::H1);
-  const auto user = detail::make_reference_lookup(true, nullptr);
-  const auto builtin = detail::make_reference_lookup(false, nullptr);
+  std::unique_ptr<detail::ShiftSource> increments;
+  if (options.use_increments) increments = detail::make_h1_increments(tables.h1_increments(), solvent.name);
+  const auto user = detail::make_reference_lookup(true, increments.get());
+  const auto builtin = detail::make_reference_lookup(false, increments.get());
   const auto fallback = detail::make_h1_class_average();
-  std::vector<const detail::ShiftSource *> lookups{user.get(), builtin.get()};
   std::vector<const detail::ShiftSource *> sources;
   std::vector<std::size_t> carbon_bound, labile;
   for (std::size_t a = molecule.heavy_atom_count(); a < molecule.atom_count(); ++a) {
@@ -244,21 +248,30 @@ std::vector<Shift> predict_h1(const Molecule &molecule, const AtomClasses &class
     const auto z = heavy >= 0 ? molecule.atom(static_cast<std::size_t>(heavy)).atomic_number : 0;
     (z == 8 || z == 7 || z == 16 ? labile : carbon_bound).push_back(a);
   }
-  if (options.use_reference) sources = lookups;
+  if (options.use_reference) {
+    sources.push_back(user.get());
+    sources.push_back(builtin.get());
+  }
+  if (increments) sources.push_back(increments.get());
   sources.push_back(fallback.get());
   auto out = detail::run_sources(q, sources, carbon_bound, warnings);
   // Exchangeable protons: reference values from other solvents and
-  // concentrations do not carry over, so they get the typical value of their
-  // class with a wide uncertainty.
-  auto labile_shifts = detail::run_sources(q, {fallback.get()}, labile, nullptr);
+  // concentrations do not carry over; the solvent-specific typical values of
+  // the special-proton table (or a class average) with a wide uncertainty.
+  std::vector<const detail::ShiftSource *> labile_sources;
+  if (increments) labile_sources.push_back(increments.get());
+  labile_sources.push_back(fallback.get());
+  auto labile_shifts = detail::run_sources(q, labile_sources, labile, nullptr);
   for (auto &s : labile_shifts) {
+    const bool from_table = s.source == ShiftSourceKind::Increments;
     s.exchangeable = true;
     s.observed = !solvent.exchanges_labile_protons;
-    s.method += solvent.exchanges_labile_protons
-                    ? fmt::format("; exchanges with {} and gives no signal", solvent.name)
-                    : fmt::format("; in {} the signal may be broad or absent, and its position depends on "
-                                  "concentration, water and temperature",
-                                  solvent.name);
+    if (!from_table)
+      s.method += solvent.exchanges_labile_protons
+                      ? fmt::format("; exchanges with {} and gives no signal", solvent.name)
+                      : fmt::format("; in {} the signal may be broad or absent, and its position depends on "
+                                    "concentration, water and temperature",
+                                    solvent.name);
     out.push_back(std::move(s));
   }
   std::sort(out.begin(), out.end(), [](const Shift &a, const Shift &b) { return a.atom < b.atom; });

@@ -4,6 +4,7 @@
 #include <cmath>
 #include <limits>
 
+#include "shifts/increments_h1.hpp"
 #include "shifts/sources.hpp"
 
 #include <nmrpred/classes.hpp>
@@ -66,6 +67,10 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     index->constitution[ci] = constitution_key(m, classes);
     const ShiftQuery q(m, classes, tables, plain, Nucleus::C13);
     const auto increments = make_c13_increments(tables.c13_increments());
+    ShiftOptions in_solvent;
+    in_solvent.solvent = c.solvent;
+    const ShiftQuery qh(m, classes, tables, in_solvent, Nucleus::H1);
+    const auto h1_increments = make_h1_increments(tables.h1_increments(), c.solvent);
     const int origin = c.user ? kUser : kBuiltin;
     index->has_user |= c.user;
     auto add = [&](int nucleus, std::size_t centre, double value) {
@@ -73,6 +78,7 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
       double inc = std::numeric_limits<double>::quiet_NaN();
       Shift s;
       if (nucleus == kIndexC13 && increments->estimate(q, centre, s)) inc = s.ppm;
+      if (nucleus == kIndexH1 && h1_increments->estimate(qh, centre, s) && !s.exchangeable) inc = s.ppm;
       for (int k = 1; k <= kMaxHoseSpheres; ++k) raw[origin][nucleus][k][hose_key(parts, k)].push_back({ci, value, inc});
     };
     auto check_atom = [&](std::uint32_t a) {

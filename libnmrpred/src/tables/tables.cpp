@@ -9,6 +9,7 @@
 #include <fmt/format.h>
 
 #include "shifts/reference_index.hpp"
+#include "shifts/increments_h1.hpp"
 #include "shifts/sources.hpp"
 #include "tables/embedded.hpp"
 #include "tables/parse.hpp"
@@ -210,6 +211,7 @@ struct Tables::Private {
     t->version_ = fmt::format("{}-{:016x}", prefix, h);
     t->files_ = std::move(files);
     t->c13_increments_ = detail::parse_c13_increment_tables(*t);
+    t->h1_increments_ = detail::parse_h1_increment_tables(*t);
     t->index_ = detail::build_reference_index(*t);
     return t;
   }
@@ -276,6 +278,7 @@ std::shared_ptr<const Tables> Tables::with_user_reference(std::string_view tsv_t
   }
   t->version_ = fmt::format("{}+user-{:016x}", version_, detail::fnv1a(tsv_text, 0xCBF29CE484222325ull));
   t->c13_increments_ = c13_increments_;
+  t->h1_increments_ = h1_increments_;
   t->index_ = detail::build_reference_index(*t);
   return t;
 }

@@ -1,0 +1,1030 @@
+// 1H shifts from published increment rules: the tables in
+// tables/increments/h1_*.tsv, applied as tables/FORMAT.md ("1H increment and
+// solvent tables") describes and tests/python/test_h1_tables.py checks. One
+// scheme per kind of proton, chosen by the atom that carries it:
+//   C of CHO, HC(=O)X, C#C-H; O-H, N-H, S-H   h1_special (per solvent)
+//   benzene ring C-H                         7.26 + ortho/meta/para increments
+//   heteroaromatic and fused ring C-H        base value of the parent ring
+//   alkene C-H                               Pascual-Meier-Simon, 5.25 + Z terms
+//   sp3 C-H                                  Shoolery's rule (CH2XY) or the
+//                                            CH3/CH2/CH alpha/beta position table
+// A proton no rule covers is passed on: a substituent without a row is never
+// counted as zero.
+
+#include "shifts/increments_h1.hpp"
+
+#include <nmrpred/error.hpp>
+#include <nmrpred/solvents.hpp>
+
+#include <algorithm>
+#include <array>
+#include <cctype>
+#include <cmath>
+#include <initializer_list>
+#include <optional>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include <fmt/format.h>
+
+#include "graph/smarts.hpp"
+#include "tables/parse.hpp"
+
+namespace nmrpred::detail {
+
+namespace {
+
+using Opt = std::optional<double>;
+
+// ---------------------------------------------------------------------------
+// Uncertainties (one standard deviation, ppm): sigma = sqrt(floor^2 +
+// (slope * n)^2) with n the number of increments summed, because additive
+// rules lose accuracy with every substituent (crowding and interactions
+// they leave out). Calibrated against tables/reference/*.tsv (every
+// assigned proton a scheme covers, rules only) so that about two thirds of
+// the errors fall within one sigma; figures in the report of this change.
+struct Spread {
+  double floor_ppm;
+  double slope_ppm;
+};
+constexpr Spread kShoolerySpread{0.21, 0.0};
+constexpr Spread kAlphaSpread{0.15, 0.0};
+constexpr Spread kBetaSpread{0.10, 0.0};
+constexpr Spread kAlkaneSpread{0.10, 0.0};
+constexpr Spread kAlkeneSpread{0.10, 0.08};
+constexpr Spread kBenzeneSpread{0.08, 0.06};
+// Heteroaromatic base values: the parent itself, then per ring substituent
+// the table gives no increment for.
+constexpr Spread kHeteroSpread{0.06, 0.28};
+// Added in quadrature when an alkene's geometry had to be assumed.
+constexpr double kAssumedGeometryPpm = 0.3;
+// Added in quadrature for a C=C in a five-membered ring (cyclopentenes,
+// cyclopentenones, maleic anhydride, norbornenes, indene): on
+// tables/reference the rule comes out 0.3-1.2 ppm low there (RMS 0.7).
+constexpr double kFiveRingAlkenePpm = 0.7;
+
+// ---------------------------------------------------------------------------
+// Parsed tables
+
+struct ValueRow {
+  std::string id;
+  SmartsPattern smarts;
+  double ppm = 0;
+};
+
+struct Param {
+  std::string id;
+  double ppm = 0;
+  bool set = false;
+};
+
+struct ShooleryTable {
+  bool present = false;
+  Param shoolery_base;
+  std::array<Param, 4> alkane;                    // by H count 1..3
+  std::vector<ValueRow> sigma;
+  std::array<std::vector<ValueRow>, 4> alpha;     // by H count 1..3
+  std::array<std::vector<ValueRow>, 4> beta;      // by H count 1..3
+};
+
+enum class Variant { Any, InRing, Conjugated, Isolated };
+
+struct AlkeneRow {
+  std::string id;
+  SmartsPattern smarts;
+  Variant variant = Variant::Any;
+  double gem = 0, cis = 0, trans = 0;
+};
+
+struct AlkeneTable {
+  bool present = false;
+  Param base;
+  std::vector<AlkeneRow> rows;
+};
+
+struct BenzeneRow {
+  std::string id;
+  SmartsPattern smarts;
+  std::array<double, 4> by_relation{};  // -, ortho, meta, para
+};
+
+struct BenzeneTable {
+  bool present = false;
+  Param base;
+  std::vector<BenzeneRow> rows;
+};
+
+struct HeteroRow {
+  std::string id, ring, position;
+  SmartsPattern smarts;
+  double ppm = 0;
+};
+
+struct SpecialRow {
+  std::string id, solvent;  // solvent "*" = any
+  Opt typical_ppm;
+  double min_ppm = 0, max_ppm = 0;
+};
+
+struct SpecialGroup {
+  std::string name;
+  SmartsPattern smarts;
+  bool exchanges = false;
+  std::vector<SpecialRow> rows;
+};
+
+struct SolventInfo {
+  std::string id, name;
+  std::vector<std::string> aliases;
+  double water_ppm = 0;
+  bool exchanges = false;
+};
+
+std::string lower_trimmed(std::string_view s) {
+  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.front()))) s.remove_prefix(1);
+  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.back()))) s.remove_suffix(1);
+  std::string out(s);
+  for (auto &c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  return out;
+}
+
+class TableReader {
+ public:
+  TableReader(const Tables &tables, const char *path) : path_(path) {
+    const auto text = tables.file_text(path);
+    present_ = !text.empty();
+    if (present_) table_ = parse_tsv(text, path, true);
+  }
+  bool present() const { return present_; }
+  const TsvTable &table() const { return table_; }
+  std::size_t col(const char *name) const { return column(table_, name); }
+  [[noreturn]] void fail(const TsvRow &row, const std::string &why) const {
+    throw TablesError(fmt::format("{}:{}: {}", path_, row.line, why));
+  }
+  Opt ppm(const TsvRow &row, std::size_t c) const {
+    const auto &f = row.fields[c];
+    if (f == "-") return std::nullopt;
+    double v = 0;
+    if (!parse_double(f, v)) fail(row, fmt::format("column '{}': '{}' is not a number", table_.columns[c], f));
+    return v;
+  }
+  double need_ppm(const TsvRow &row, std::size_t c) const {
+    const auto v = ppm(row, c);
+    if (!v) fail(row, fmt::format("column '{}' needs a number", table_.columns[c]));
+    return *v;
+  }
+  SmartsPattern smarts(const TsvRow &row, std::size_t c) const {
+    try {
+      return SmartsPattern(row.fields[c]);
+    } catch (const TablesError &e) {
+      fail(row, e.what());
+    }
+  }
+
+ private:
+  const char *path_;
+  bool present_ = false;
+  TsvTable table_;
+};
+
+}  // namespace
+
+// The parsed tables; opaque outside this file (increments_h1.hpp).
+struct H1IncrementTables {
+  ShooleryTable shoolery;
+  AlkeneTable alkene;
+  BenzeneTable benzene;
+  std::vector<HeteroRow> hetero;
+  std::vector<SpecialGroup> special;
+  std::vector<SolventInfo> solvents;  // empty when the set has no solvents.tsv
+};
+
+namespace {
+
+constexpr const char *kShooleryPath = "increments/h1_shoolery.tsv";
+
+void read_shoolery(const Tables &tables, ShooleryTable &out) {
+  TableReader r(tables, kShooleryPath);
+  if (!r.present()) return;
+  const auto c_kind = r.col("kind"), c_id = r.col("id"), c_smarts = r.col("smarts"), c_value = r.col("value_ppm");
+  const char *const types[] = {"", "ch", "ch2", "ch3"};
+  for (const auto &row : r.table().rows) {
+    const auto &kind = row.fields[c_kind], &id = row.fields[c_id];
+    const double v = r.need_ppm(row, c_value);
+    if (kind == "base") {
+      bool known = false;
+      if (id == "shoolery-base") out.shoolery_base = Param{id, v, true}, known = true;
+      for (std::size_t h = 1; h <= 3; ++h)
+        if (id == fmt::format("alkane-{}", types[h])) out.alkane[h] = Param{id, v, true}, known = true;
+      if (!known) r.fail(row, fmt::format("unknown base row '{}'", id));
+      continue;
+    }
+    ValueRow vr{id, r.smarts(row, c_smarts), v};
+    if (kind == "sigma") {
+      out.sigma.push_back(std::move(vr));
+      continue;
+    }
+    bool known = false;
+    for (std::size_t h = 1; h <= 3 && !known; ++h) {
+      if (kind == fmt::format("alpha-{}", types[h])) out.alpha[h].push_back(vr), known = true;
+      else if (kind == fmt::format("beta-{}", types[h])) out.beta[h].push_back(vr), known = true;
+    }
+    if (!known) r.fail(row, fmt::format("unknown kind '{}'", kind));
+  }
+  out.present = true;
+}
+
+void read_alkene(const Tables &tables, AlkeneTable &out) {
+  const char *path = "increments/h1_alkene.tsv";
+  TableReader r(tables, path);
+  if (!r.present()) return;
+  const auto c_kind = r.col("kind"), c_id = r.col("id"), c_smarts = r.col("smarts"), c_variant = r.col("variant"),
+             c_base = r.col("base_ppm"), c_gem = r.col("z_gem_ppm"), c_cis = r.col("z_cis_ppm"),
+             c_trans = r.col("z_trans_ppm");
+  for (const auto &row : r.table().rows) {
+    const auto &kind = row.fields[c_kind];
+    if (kind == "base") {
+      out.base = Param{row.fields[c_id], r.need_ppm(row, c_base), true};
+    } else if (kind == "substituent") {
+      AlkeneRow a;
+      a.id = row.fields[c_id];
+      a.smarts = r.smarts(row, c_smarts);
+      const auto &v = row.fields[c_variant];
+      if (v == "any") a.variant = Variant::Any;
+      else if (v == "in-ring") a.variant = Variant::InRing;
+      else if (v == "conjugated") a.variant = Variant::Conjugated;
+      else if (v == "isolated") a.variant = Variant::Isolated;
+      else r.fail(row, fmt::format("unknown variant '{}'", v));
+      a.gem = r.need_ppm(row, c_gem), a.cis = r.need_ppm(row, c_cis), a.trans = r.need_ppm(row, c_trans);
+      out.rows.push_back(std::move(a));
+    } else {
+      r.fail(row, fmt::format("unknown kind '{}'", kind));
+    }
+  }
+  if (!out.base.set) throw TablesError(fmt::format("{}: no base row", path));
+  out.present = true;
+}
+
+void read_benzene(const Tables &tables, BenzeneTable &out) {
+  const char *path = "increments/h1_benzene.tsv";
+  TableReader r(tables, path);
+  if (!r.present()) return;
+  const auto c_kind = r.col("kind"), c_id = r.col("id"), c_smarts = r.col("smarts"), c_base = r.col("base_ppm");
+  const std::array<std::size_t, 4> c_rel{0, r.col("z_ortho_ppm"), r.col("z_meta_ppm"), r.col("z_para_ppm")};
+  for (const auto &row : r.table().rows) {
+    const auto &kind = row.fields[c_kind];
+    if (kind == "base") {
+      out.base = Param{row.fields[c_id], r.need_ppm(row, c_base), true};
+    } else if (kind == "substituent") {
+      BenzeneRow b;
+      b.id = row.fields[c_id];
+      b.smarts = r.smarts(row, c_smarts);
+      for (std::size_t i = 1; i <= 3; ++i) b.by_relation[i] = r.need_ppm(row, c_rel[i]);
+      out.rows.push_back(std::move(b));
+    } else {
+      r.fail(row, fmt::format("unknown kind '{}'", kind));
+    }
+  }
+  if (!out.base.set) throw TablesError(fmt::format("{}: no base row", path));
+  out.present = true;
+}
+
+void read_hetero(const Tables &tables, std::vector<HeteroRow> &out) {
+  TableReader r(tables, "increments/h1_heteroaromatic.tsv");
+  if (!r.present()) return;
+  const auto c_kind = r.col("kind"), c_id = r.col("id"), c_ring = r.col("ring"), c_pos = r.col("position"),
+             c_smarts = r.col("smarts"), c_shift = r.col("shift_ppm");
+  for (const auto &row : r.table().rows) {
+    if (row.fields[c_kind] != "base") r.fail(row, fmt::format("unknown kind '{}'", row.fields[c_kind]));
+    HeteroRow h;
+    h.id = row.fields[c_id];
+    h.ring = row.fields[c_ring];
+    h.position = row.fields[c_pos];
+    h.smarts = r.smarts(row, c_smarts);
+    h.ppm = r.need_ppm(row, c_shift);
+    out.push_back(std::move(h));
+  }
+}
+
+void read_special(const Tables &tables, std::vector<SpecialGroup> &out) {
+  TableReader r(tables, "increments/h1_special.tsv");
+  if (!r.present()) return;
+  const auto c_id = r.col("id"), c_group = r.col("group"), c_smarts = r.col("smarts"), c_solvent = r.col("solvent"),
+             c_typ = r.col("typical_ppm"), c_min = r.col("min_ppm"), c_max = r.col("max_ppm"),
+             c_exch = r.col("exchanges");
+  for (const auto &row : r.table().rows) {
+    const auto &name = row.fields[c_group];
+    auto it = std::find_if(out.begin(), out.end(), [&](const SpecialGroup &g) { return g.name == name; });
+    const auto &exch = row.fields[c_exch];
+    if (exch != "yes" && exch != "no") r.fail(row, fmt::format("column 'exchanges': '{}' is not yes or no", exch));
+    if (it == out.end()) {
+      SpecialGroup g;
+      g.name = name;
+      g.smarts = r.smarts(row, c_smarts);
+      g.exchanges = exch == "yes";
+      out.push_back(std::move(g));
+      it = out.end() - 1;
+    } else if (std::string(it->smarts.text()) != row.fields[c_smarts] || it->exchanges != (exch == "yes")) {
+      r.fail(row, fmt::format("group '{}' differs from its first row in smarts or exchanges", name));
+    }
+    SpecialRow s;
+    s.id = row.fields[c_id];
+    s.solvent = row.fields[c_solvent];
+    s.typical_ppm = r.ppm(row, c_typ);
+    s.min_ppm = r.need_ppm(row, c_min);
+    s.max_ppm = r.need_ppm(row, c_max);
+    if (!(s.min_ppm < s.max_ppm)) r.fail(row, "min_ppm must be below max_ppm");
+    if (s.typical_ppm && !(s.min_ppm <= *s.typical_ppm && *s.typical_ppm <= s.max_ppm))
+      r.fail(row, "typical_ppm must lie within min_ppm..max_ppm");
+    for (const auto &other : it->rows)
+      if (other.solvent == s.solvent) r.fail(row, fmt::format("group '{}' lists solvent '{}' twice", name, s.solvent));
+    it->rows.push_back(std::move(s));
+  }
+}
+
+void read_solvents(const Tables &tables, std::vector<SolventInfo> &out) {
+  if (tables.file_text("solvents.tsv").empty()) return;
+  for (const auto &s : nmrpred::solvents(tables))
+    out.push_back(SolventInfo{s.id, s.name, s.aliases, s.water_h1_ppm, s.exchanges_labile_protons});
+}
+
+// ---------------------------------------------------------------------------
+// A sum of increments, kept term by term for the method text.
+
+std::string fmt_ppm(double v) {
+  auto s = fmt::format("{:.2f}", v);
+  if (s == "-0.00") s = "0.00";
+  return s;
+}
+
+class Sum {
+ public:
+  Sum(std::string scheme, Spread spread) : scheme_(std::move(scheme)), spread_(spread) {}
+  void base(const std::string &label, double ppm) {
+    base_label_ = label;
+    base_ppm_ = ppm;
+  }
+  void add(const std::string &role, const std::string &id, double ppm) {
+    terms_.push_back(Term{role, id, ppm});
+  }
+  void note(const std::string &text) {
+    if (std::find(notes_.begin(), notes_.end(), text) == notes_.end()) notes_.push_back(text);
+  }
+  void widen(double ppm) { extra_var_ += ppm * ppm; }
+  double ppm() const {
+    double v = base_ppm_;
+    for (const auto &t : terms_) v += t.ppm;
+    return v;
+  }
+  double uncertainty(int count) const {
+    const double slope = spread_.slope_ppm * count;
+    return std::sqrt(spread_.floor_ppm * spread_.floor_ppm + slope * slope + extra_var_);
+  }
+  double uncertainty() const { return uncertainty(static_cast<int>(terms_.size())); }
+  std::string method() const {
+    std::string s = fmt::format("{}: {}", scheme_, base_label_);
+    for (const auto &t : terms_) s += fmt::format(" + {}{}{} {}", t.role, t.role.empty() ? "" : " ", t.id, fmt_ppm(t.ppm));
+    s += fmt::format(" = {}", fmt_ppm(ppm()));
+    for (const auto &n : notes_) s += fmt::format(" ({})", n);
+    return s;
+  }
+
+ private:
+  struct Term {
+    std::string role, id;
+    double ppm;
+  };
+  std::string scheme_;
+  Spread spread_;
+  std::string base_label_;
+  double base_ppm_ = 0;
+  std::vector<Term> terms_;
+  std::vector<std::string> notes_;
+  double extra_var_ = 0;
+};
+
+// An estimate ready to be copied into a Shift.
+struct Estimate {
+  double ppm = 0;
+  double uncertainty_ppm = 0;
+  std::string method;
+  bool exchangeable = false;
+  bool observed = true;
+};
+
+Estimate from_sum(const Sum &s, int count) { return Estimate{s.ppm(), s.uncertainty(count), s.method()}; }
+Estimate from_sum(const Sum &s) { return Estimate{s.ppm(), s.uncertainty(), s.method()}; }
+
+// ---------------------------------------------------------------------------
+// Graph helpers
+
+bool is_sp3_carbon(const Molecule &m, std::size_t a) {
+  const auto &at = m.atom(a);
+  if (at.atomic_number != 6 || at.aromatic || at.formal_charge != 0 || at.radical_electrons != 0) return false;
+  if (m.degree(a) != 4) return false;
+  const auto *bid = m.bond_ids_begin(a);
+  for (std::size_t i = 0; i < m.degree(a); ++i)
+    if (m.bond(bid[i]).order != BondOrder::Single) return false;
+  return true;
+}
+
+template <class F>
+void for_heavy_neighbours(const Molecule &m, std::size_t a, F f) {
+  const auto *bid = m.bond_ids_begin(a);
+  for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid)
+    if (m.atom(*it).atomic_number != 1) f(static_cast<std::size_t>(*it), m.bond(*bid).order);
+}
+
+std::vector<std::size_t> heavy_neighbours(const Molecule &m, std::size_t a) {
+  std::vector<std::size_t> out;
+  for_heavy_neighbours(m, a, [&](std::size_t x, BondOrder) { out.push_back(x); });
+  return out;
+}
+
+std::string atom_label(const Molecule &m, std::size_t a) {
+  return fmt::format("{}{}", Molecule::element_symbol(m.atom(a).atomic_number), a);
+}
+
+// Aromatic or part of a double/triple bond (tables/FORMAT.md, alkene variants).
+bool unsaturated(const Molecule &m, std::size_t a) {
+  if (m.atom(a).aromatic) return true;
+  bool multiple = false;
+  const auto *bid = m.bond_ids_begin(a);
+  for (std::size_t i = 0; i < m.degree(a); ++i) {
+    const auto o = m.bond(bid[i]).order;
+    multiple |= o == BondOrder::Double || o == BondOrder::Triple || o == BondOrder::Aromatic;
+  }
+  return multiple;
+}
+
+bool in_one_ring(const SmartsTarget &t, std::initializer_list<std::size_t> atoms, std::size_t max_size = 0) {
+  for (const auto &r : t.rings()) {
+    if (max_size && r.size() > max_size) continue;
+    bool all = true;
+    for (auto a : atoms) all = all && std::find(r.begin(), r.end(), a) != r.end();
+    if (all) return true;
+  }
+  return false;
+}
+
+// First row in file order that applies to substituent atom x: its SMARTS
+// matches with atom 0 on x and no other atom on the skeleton
+// (tables/FORMAT.md), and `keep` accepts it.
+template <class Row, class Keep>
+const Row *first_row(const std::vector<Row> &rows, const SmartsTarget &t, std::size_t x,
+                     const std::vector<bool> &skeleton, Keep keep) {
+  for (const auto &row : rows)
+    if (match_at(row.smarts, t, x, skeleton) && keep(row)) return &row;
+  return nullptr;
+}
+
+template <class Row>
+const Row *first_row(const std::vector<Row> &rows, const SmartsTarget &t, std::size_t x,
+                     const std::vector<bool> &skeleton) {
+  return first_row(rows, t, x, skeleton, [](const Row &) { return true; });
+}
+
+// ---------------------------------------------------------------------------
+// The source
+
+class H1Increments final : public ShiftSource {
+ public:
+  H1Increments(std::shared_ptr<const H1IncrementTables> parsed, std::string solvent)
+      : parsed_(std::move(parsed)), tab_(*parsed_) {
+    const auto key = lower_trimmed(solvent.empty() ? std::string("CDCl3") : solvent);
+    if (tab_.solvents.empty()) {
+      // No solvents.tsv in this table set: the h1_special names are all we know.
+      solvent_name_ = solvent.empty() ? "CDCl3" : solvent;
+      exchanges_ = key == "d2o" || key == "cd3od";
+      return;
+    }
+    for (const auto &s : tab_.solvents)
+      if (lower_trimmed(s.name) == key || s.id == key ||
+          std::find(s.aliases.begin(), s.aliases.end(), key) != s.aliases.end()) {
+        solvent_name_ = s.name;
+        exchanges_ = s.exchanges;
+        water_ppm_ = s.water_ppm;
+        known_ = true;
+        return;
+      }
+    std::string names;
+    for (const auto &s : tab_.solvents) names += (names.empty() ? "" : ", ") + s.name;
+    throw ArgumentError(fmt::format("unknown solvent '{}' (known: {})", solvent, names));
+  }
+
+  bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
+    if (q.nucleus != Nucleus::H1) return false;
+    const auto r = evaluate(q, atom);
+    if (!r) return false;
+    out.ppm = r->ppm;
+    out.uncertainty_ppm = r->uncertainty_ppm;
+    out.source = ShiftSourceKind::Increments;
+    out.sphere = 0;
+    out.method = r->method;
+    out.references.clear();
+    out.exchangeable = r->exchangeable;
+    out.observed = r->observed;
+    return true;
+  }
+
+  // The rule estimate for hydrogen `atom`, or nothing when no rule covers it.
+  std::optional<Estimate> evaluate(const ShiftQuery &q, std::size_t atom) const {
+    const Molecule &m = q.molecule;
+    if (atom >= m.atom_count() || !m.is_hydrogen(atom) || m.atom(atom).isotope > 1) return std::nullopt;
+    const auto carrier = m.attached_to(atom);
+    if (carrier < 0 || m.degree(atom) != 1) return std::nullopt;
+    const auto c = static_cast<std::size_t>(carrier);
+    const auto &a = m.atom(c);
+    if (a.formal_charge != 0 || a.radical_electrons != 0) return std::nullopt;
+    const SmartsTarget &t = target(q);
+    const SpecialGroup *group = special_group(t, c);
+    if (a.atomic_number != 6) {
+      if (a.atomic_number == 7 || a.atomic_number == 8 || a.atomic_number == 16) return labile(group);
+      return std::nullopt;
+    }
+    if (group) return special_ch(*group);
+    if (a.aromatic) {
+      if (auto r = benzene(t, c)) return r;
+      return hetero(t, c);
+    }
+    int doubles = 0, multiple_other = 0;
+    std::size_t partner = c;
+    for_heavy_neighbours(m, c, [&](std::size_t b, BondOrder o) {
+      if (o == BondOrder::Double && m.atom(b).atomic_number == 6) ++doubles, partner = b;
+      else if (o != BondOrder::Single) ++multiple_other;
+    });
+    if (doubles == 1 && multiple_other == 0) return alkene(q, t, atom, c, partner);
+    if (is_sp3_carbon(m, c)) return sp3(t, c);
+    return std::nullopt;
+  }
+
+ private:
+  // One SmartsTarget per query: ring perception is shared by all protons of
+  // the molecule. Not thread-safe (header: one thread per source object).
+  const SmartsTarget &target(const ShiftQuery &q) const {
+    if (query_ != &q || !target_ || &target_->molecule() != &q.molecule) {
+      target_ = std::make_unique<SmartsTarget>(q.molecule);
+      query_ = &q;
+    }
+    return *target_;
+  }
+
+  // --- h1_special -----------------------------------------------------------
+  // The first group in file order whose SMARTS matches on the proton's atom.
+  const SpecialGroup *special_group(const SmartsTarget &t, std::size_t c) const {
+    for (const auto &g : tab_.special)
+      if (match_at(g.smarts, t, c)) return &g;
+    return nullptr;
+  }
+
+  const SpecialRow *special_row(const SpecialGroup &g) const {
+    for (const auto &r : g.rows)
+      if (r.solvent == "*" || r.solvent == solvent_name_) return &r;
+    return nullptr;
+  }
+
+  static Estimate special_value(const SpecialGroup &g, const SpecialRow &r, const std::string &solvent) {
+    // tables/FORMAT.md: min..max is a wide range for matching measured
+    // peaks; half of it is the spread we report. A row without a typical
+    // value gives the middle of its range.
+    Estimate e;
+    const double half = 0.5 * (r.max_ppm - r.min_ppm);
+    e.uncertainty_ppm = half;
+    const std::string where = r.solvent == "*" ? std::string("any solvent") : solvent;
+    if (r.typical_ppm) {
+      e.ppm = *r.typical_ppm;
+      e.method = fmt::format("typical value of the group '{}' in {}: {} {} (range {}-{})", g.name, where, r.id,
+                             fmt_ppm(e.ppm), fmt_ppm(r.min_ppm), fmt_ppm(r.max_ppm));
+    } else {
+      e.ppm = 0.5 * (r.min_ppm + r.max_ppm);
+      e.method = fmt::format("group '{}' in {}: {} gives no typical value; middle of the range {}-{} = {}", g.name,
+                             where, r.id, fmt_ppm(r.min_ppm), fmt_ppm(r.max_ppm), fmt_ppm(e.ppm));
+    }
+    return e;
+  }
+
+  std::optional<Estimate> special_ch(const SpecialGroup &g) const {
+    const auto *row = special_row(g);
+    if (!row) return std::nullopt;  // FORMAT.md: not covered in this solvent
+    return special_value(g, *row, solvent_name_);
+  }
+
+  std::optional<Estimate> labile(const SpecialGroup *g) const {
+    if (!g) return std::nullopt;
+    if (g->exchanges && exchanges_) {
+      // tables/FORMAT.md (h1_special): in D2O and CD3OD these protons are
+      // replaced by deuterium; what remains of them is part of the water
+      // signal. Spread: half the widest range the group has in any solvent.
+      double half = 0;
+      for (const auto &r : g->rows) half = std::max(half, 0.5 * (r.max_ppm - r.min_ppm));
+      Estimate e;
+      e.ppm = known_ ? water_ppm_ : 4.79;
+      e.uncertainty_ppm = half;
+      e.exchangeable = true;
+      e.observed = false;
+      e.method = fmt::format("group '{}': exchanges with the deuterium of {} and gives no signal of its own "
+                             "(it joins the solvent's water signal at {})",
+                             g->name, solvent_name_, fmt_ppm(e.ppm));
+      return e;
+    }
+    const auto *row = special_row(*g);
+    if (!row) return std::nullopt;
+    auto e = special_value(*g, *row, solvent_name_);
+    e.exchangeable = g->exchanges;
+    if (g->exchanges) e.method += "; moves with concentration, water and temperature";
+    return e;
+  }
+
+  // --- benzene ----------------------------------------------------------------
+  std::optional<Estimate> benzene(const SmartsTarget &t, std::size_t k) const {
+    const Molecule &m = t.molecule();
+    if (!tab_.benzene.present) return std::nullopt;
+    for (const auto &ring : t.rings()) {
+      if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
+      bool benzenoid = true;
+      for (std::size_t i = 0; i < 6 && benzenoid; ++i) {
+        const auto &at = m.atom(ring[i]);
+        const auto b = m.bond_between(ring[i], ring[(i + 1) % 6]);
+        benzenoid = at.atomic_number == 6 && at.aromatic && at.formal_charge == 0 && b >= 0 &&
+                    m.bond(static_cast<std::size_t>(b)).order == BondOrder::Aromatic;
+      }
+      if (!benzenoid) continue;
+      std::vector<bool> skeleton(m.atom_count(), false);
+      for (auto a : ring) skeleton[a] = true;
+      const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
+      const char *const relation[] = {"", "ortho", "meta", "para"};
+      Sum s("benzene increments", kBenzeneSpread);
+      s.base(fmt::format("base {}", fmt_ppm(tab_.benzene.base.ppm)), tab_.benzene.base.ppm);
+      bool ok = true;
+      for (int ir = 0; ir < 6 && ok; ++ir) {
+        const auto r = ring[static_cast<std::size_t>(ir)];
+        const int rel = std::min(std::abs(ir - ik), 6 - std::abs(ir - ik));
+        for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
+          if (!ok || skeleton[x]) return;
+          // FORMAT.md: fused rings and groups bonded to two ring atoms are
+          // not covered (the heteroaromatic table has the fused parents).
+          if (rel == 0 || in_one_ring(t, {r, x})) {
+            ok = false;
+            return;
+          }
+          const auto *row = first_row(tab_.benzene.rows, t, x, skeleton);
+          if (!row) {
+            ok = false;
+            return;
+          }
+          s.add(relation[rel], row->id, row->by_relation[static_cast<std::size_t>(rel)]);
+        });
+      }
+      if (ok) return from_sum(s);
+    }
+    return std::nullopt;
+  }
+
+  // --- heteroaromatic base values -------------------------------------------
+  std::optional<Estimate> hetero(const SmartsTarget &t, std::size_t k) const {
+    const Molecule &m = t.molecule();
+    for (const auto &row : tab_.hetero) {
+      std::vector<std::int64_t> fixed(row.smarts.atom_count(), -1);
+      if (fixed.empty()) continue;
+      fixed[0] = static_cast<std::int64_t>(k);
+      std::vector<std::uint32_t> map;
+      for_each_match(row.smarts, t, fixed, {}, [&](const std::vector<std::uint32_t> &mp) {
+        map = mp;
+        return true;
+      });
+      if (map.empty()) continue;
+      // The first matching row names the parent; FORMAT.md keeps the rows
+      // of different parents apart, so no other row can apply.
+      std::vector<bool> in_ring(m.atom_count(), false);
+      for (auto a : map) in_ring[a] = true;
+      int nitrogens = 0, substituents = 0;
+      bool n_substituted = false;
+      for (auto a : map) {
+        const auto &at = m.atom(a);
+        if (at.formal_charge != 0) return std::nullopt;  // ring cation or N-oxide
+        if (at.atomic_number == 7) ++nitrogens;
+        bool bad = false;
+        for_heavy_neighbours(m, a, [&](std::size_t x, BondOrder o) {
+          if (in_ring[x]) return;
+          // An exocyclic double bond makes a pyridone-type ring, not the parent.
+          if (o == BondOrder::Double) bad = true;
+          ++substituents;
+          if (at.atomic_number == 7) n_substituted = true;
+        });
+        if (bad) return std::nullopt;
+      }
+      // FORMAT.md: the imidazole and pyrazole rows average the NH
+      // tautomers, so N-substituted azoles are not covered.
+      if (nitrogens >= 2 && n_substituted) return std::nullopt;
+      Sum s(fmt::format("heteroaromatic base value ({}, position {})", row.ring, row.position), kHeteroSpread);
+      s.base(fmt::format("{} {}", row.id, fmt_ppm(row.ppm)), row.ppm);
+      if (substituents > 0)
+        s.note(fmt::format("{} ring substituent{} not accounted for: the table gives no increments for this ring",
+                           substituents, substituents == 1 ? "" : "s"));
+      return from_sum(s, substituents);
+    }
+    return std::nullopt;
+  }
+
+  // --- alkenes (Pascual-Meier-Simon) -----------------------------------------
+  // Operational reading of "conjugated" (tables/FORMAT.md, h1_alkene).
+  static bool conjugated(const Molecule &m, std::size_t ca, std::size_t cb, std::size_t sub) {
+    for (auto c : {ca, cb})
+      for (auto n : heavy_neighbours(m, c))
+        if (n != ca && n != cb && n != sub && unsaturated(m, n)) return true;
+    std::vector<std::size_t> partners;
+    for_heavy_neighbours(m, sub, [&](std::size_t x, BondOrder o) {
+      if (o == BondOrder::Double || o == BondOrder::Triple) partners.push_back(x);
+    });
+    std::vector<std::size_t> units{sub};
+    units.insert(units.end(), partners.begin(), partners.end());
+    for (auto a : units)
+      for (auto n : heavy_neighbours(m, a)) {
+        if (n == ca || n == cb || n == sub || std::find(partners.begin(), partners.end(), n) != partners.end())
+          continue;
+        if (unsaturated(m, n)) return true;
+      }
+    return false;
+  }
+
+  bool variant_holds(const SmartsTarget &t, Variant v, std::size_t ca, std::size_t cb, std::size_t sub) const {
+    switch (v) {
+      case Variant::Any: return true;
+      case Variant::InRing: return in_one_ring(t, {ca, cb, sub});
+      case Variant::Conjugated: return conjugated(t.molecule(), ca, cb, sub);
+      case Variant::Isolated: return !conjugated(t.molecule(), ca, cb, sub);
+    }
+    return false;
+  }
+
+  // A light CIP comparison for the E assumption: atomic number (then mass),
+  // then the sorted atomic numbers of the next sphere with duplicated atoms
+  // for multiple bonds; graph rank and index break remaining ties.
+  static std::vector<int> cip_key(const Molecule &m, std::size_t from, std::size_t x) {
+    const auto &ax = m.atom(x);
+    std::vector<int> next;
+    const auto *bid = m.bond_ids_begin(x);
+    for (auto it = m.neighbours_begin(x); it != m.neighbours_end(x); ++it, ++bid) {
+      if (*it == from) continue;
+      const int z = m.atom(*it).atomic_number;
+      const auto o = m.bond(*bid).order;
+      const int copies = o == BondOrder::Triple ? 3 : (o == BondOrder::Double || o == BondOrder::Aromatic) ? 2 : 1;
+      for (int i = 0; i < copies; ++i) next.push_back(z);
+    }
+    std::sort(next.rbegin(), next.rend());
+    std::vector<int> key{ax.atomic_number, ax.isotope};
+    key.insert(key.end(), next.begin(), next.end());
+    return key;
+  }
+
+  // Of two atoms bonded to `centre`, the one of higher priority.
+  static std::size_t higher(const ShiftQuery &q, std::size_t centre, std::size_t x, std::size_t y, bool cip) {
+    const Molecule &m = q.molecule;
+    if (cip) {
+      const auto kx = cip_key(m, centre, x), ky = cip_key(m, centre, y);
+      if (kx != ky) return kx > ky ? x : y;
+    }
+    const auto &rank = q.classes.invariant_rank;
+    if (x < rank.size() && y < rank.size() && rank[x] != rank[y]) return rank[x] > rank[y] ? x : y;
+    return std::min(x, y);
+  }
+
+  std::optional<Estimate> alkene(const ShiftQuery &q, const SmartsTarget &t, std::size_t h, std::size_t ca,
+                                 std::size_t cb) const {
+    const Molecule &m = t.molecule();
+    if (!tab_.alkene.present) return std::nullopt;
+    const auto &b = m.atom(cb);
+    if (b.aromatic || b.formal_charge != 0 || b.radical_electrons != 0) return std::nullopt;
+    if (m.degree(ca) != 3 || m.degree(cb) != 3) return std::nullopt;
+    // Cumulated double bonds (allenes) are not covered (FORMAT.md).
+    for (auto c : {ca, cb}) {
+      int multiple = 0;
+      const auto *bid = m.bond_ids_begin(c);
+      for (std::size_t i = 0; i < m.degree(c); ++i) multiple += m.bond(bid[i]).order != BondOrder::Single;
+      if (multiple != 1) return std::nullopt;
+    }
+    // Strained ring alkenes (cyclopropene, cyclobutene) are not covered.
+    if (in_one_ring(t, {ca, cb}, 4)) return std::nullopt;
+    std::size_t other_a = ca;  // ca's third neighbour (heavy atom or hydrogen)
+    std::vector<std::size_t> on_b;  // cb's two other neighbours
+    for (auto it = m.neighbours_begin(ca); it != m.neighbours_end(ca); ++it)
+      if (*it != cb && *it != h) other_a = *it;
+    for (auto it = m.neighbours_begin(cb); it != m.neighbours_end(cb); ++it)
+      if (*it != ca) on_b.push_back(*it);
+    if (other_a == ca || on_b.size() != 2) return std::nullopt;
+
+    std::vector<bool> skeleton(m.atom_count(), false);
+    skeleton[ca] = skeleton[cb] = true;
+    const AlkeneTable &tab = tab_.alkene;
+    auto row_for = [&](std::size_t s) {
+      return first_row(tab.rows, t, s, skeleton,
+                       [&](const AlkeneRow &r) { return variant_holds(t, r.variant, ca, cb, s); });
+    };
+
+    // Which neighbour of cb is cis to h.
+    std::string geometry_note;
+    bool assumed = false;
+    std::size_t cis_b = on_b[0];
+    const bool heavy0 = !m.is_hydrogen(on_b[0]), heavy1 = !m.is_hydrogen(on_b[1]);
+    if (heavy0 || heavy1) {
+      const int known = known_cis(t, ca, cb, h, other_a, on_b[0]);
+      if (known >= 0) {
+        cis_b = known ? on_b[0] : on_b[1];
+      } else if (m.is_hydrogen(other_a)) {
+        // =CH2 end without given geometry: the lower-index proton is taken
+        // cis to the higher-ranked group on the other carbon.
+        const std::size_t top = (heavy0 && heavy1) ? higher(q, cb, on_b[0], on_b[1], false)
+                                                   : (heavy0 ? on_b[0] : on_b[1]);
+        const std::size_t other_top = top == on_b[0] ? on_b[1] : on_b[0];
+        cis_b = h < other_a ? top : other_top;
+        geometry_note = fmt::format("geometry of the =CH2 protons not given; the lower-index proton (H{}) is taken "
+                                    "cis to {}",
+                                    std::min(h, other_a), atom_label(m, top));
+      } else {
+        // Substituents on both carbons and no geometry given: E assumed,
+        // i.e. h cis to the higher-priority group on cb.
+        cis_b = (heavy0 && heavy1) ? higher(q, cb, on_b[0], on_b[1], true) : (heavy0 ? on_b[0] : on_b[1]);
+        geometry_note = "geometry not given; E assumed";
+        assumed = true;
+      }
+    }
+
+    Sum s("alkene increments (Pascual-Meier-Simon)", kAlkeneSpread);
+    s.base(fmt::format("base {}", fmt_ppm(tab.base.ppm)), tab.base.ppm);
+    int count = 0;
+    auto term = [&](std::size_t x, const char *role) -> bool {
+      if (m.is_hydrogen(x)) return true;
+      const auto *row = row_for(x);
+      if (!row) return false;
+      const std::string r(role);
+      s.add(r, row->id, r == "gem" ? row->gem : r == "cis" ? row->cis : row->trans);
+      ++count;
+      return true;
+    };
+    if (!term(other_a, "gem")) return std::nullopt;
+    for (auto x : on_b)
+      if (!term(x, x == cis_b ? "cis" : "trans")) return std::nullopt;
+    if (!geometry_note.empty()) s.note(geometry_note);
+    if (assumed) s.widen(kAssumedGeometryPpm);
+    if (in_one_ring(t, {ca, cb}, 5)) {
+      s.note("C=C in a five-membered ring, outside the rule's tested scope");
+      s.widen(kFiveRingAlkenePpm);
+    }
+    return from_sum(s, count);
+  }
+
+  // 1 when h (on ca) is cis to y (on cb), 0 when trans, -1 when neither a
+  // small ring nor the input fixes the geometry. `g` is ca's third neighbour.
+  static int known_cis(const SmartsTarget &t, std::size_t ca, std::size_t cb, std::size_t h, std::size_t g,
+                       std::size_t y) {
+    const Molecule &m = t.molecule();
+    std::size_t y2 = y;
+    for (auto it = m.neighbours_begin(cb); it != m.neighbours_end(cb); ++it)
+      if (*it != ca && *it != y) y2 = *it;
+    // In a ring of up to 7 atoms the ring bonds leave the double bond on
+    // the same side (io/ gives such bonds no stereo entry).
+    if (!m.is_hydrogen(g)) {
+      if (!m.is_hydrogen(y) && in_one_ring(t, {ca, cb, g, y}, 7)) return 0;
+      if (y2 != y && !m.is_hydrogen(y2) && in_one_ring(t, {ca, cb, g, y2}, 7)) return 1;
+    }
+    for (const auto &d : m.double_bond_stereo()) {
+      std::size_t ra, rb;
+      if (d.begin == ca && d.end == cb) ra = d.ref_begin, rb = d.ref_end;
+      else if (d.begin == cb && d.end == ca) ra = d.ref_end, rb = d.ref_begin;
+      else continue;
+      // A reference atom other than ours is the other group on that carbon,
+      // which flips the relation.
+      const bool cis = (d.cis != (ra != h)) != (rb != y);
+      return cis ? 1 : 0;
+    }
+    return -1;
+  }
+
+  // --- sp3 C-H: Shoolery's rule and the position table -----------------------
+  std::optional<Estimate> sp3(const SmartsTarget &t, std::size_t c) const {
+    const Molecule &m = t.molecule();
+    const ShooleryTable &tab = tab_.shoolery;
+    if (!tab.present) return std::nullopt;
+    // Ring strain (cyclopropanes, epoxides, aziridines) is not covered
+    // (FORMAT.md); four-membered rings neither: on tables/reference the rule
+    // misses cyclobutane, cyclobutanone and oxetane by 0.6-1.4 ppm.
+    const int ring = t.smallest_ring(c);
+    if (ring == 3 || ring == 4) return std::nullopt;
+    const std::size_t n_h = m.hydrogen_count(c);
+    const auto nbrs = heavy_neighbours(m, c);
+    if (n_h == 4) {
+      if (!tab.shoolery_base.set) return std::nullopt;
+      Sum s("Shoolery's rule", kShoolerySpread);
+      s.base(fmt::format("base {} {}", tab.shoolery_base.id, fmt_ppm(tab.shoolery_base.ppm)),
+             tab.shoolery_base.ppm);
+      return from_sum(s);
+    }
+    if (n_h < 1 || n_h > 3) return std::nullopt;
+    std::vector<bool> skeleton(m.atom_count(), false);
+    skeleton[c] = true;
+    // Sort the neighbours: `direct` groups (not an sp3 carbon), `shoolery`
+    // sp3 carbons that are groups of their own in Shoolery's table (CF3,
+    // CF2R), `beta` sp3 carbons carrying a group one bond further (the
+    // group atoms are counted), and clean alkyl carbons.
+    std::vector<std::size_t> direct, own, beta;
+    std::vector<int> beta_groups;
+    for (auto n : nbrs) {
+      if (!is_sp3_carbon(m, n)) {
+        direct.push_back(n);
+        continue;
+      }
+      int groups = 0;
+      for_heavy_neighbours(m, n, [&](std::size_t y, BondOrder) {
+        if (y != c && !is_sp3_carbon(m, y)) ++groups;
+      });
+      if (groups == 0) continue;
+      const auto *sg = first_row(tab.sigma, t, n, skeleton);
+      if (sg && sg->id != "sigma-alkyl") {
+        own.push_back(n);
+      } else {
+        beta.push_back(n);
+        beta_groups.push_back(groups);
+      }
+    }
+    const std::size_t n_groups = direct.size() + own.size();
+    const char *const type[] = {"", "CH", "CH2", "CH3"};
+
+    auto shoolery = [&]() -> std::optional<Estimate> {
+      // Shoolery's rule for CH2XY: 0.23 + sigma(X) + sigma(Y); clean alkyl
+      // takes the sigma of row sigma-alkyl (FORMAT.md, h1_shoolery step 1).
+      if (!tab.shoolery_base.set) return std::nullopt;
+      Sum s("Shoolery's rule", kShoolerySpread);
+      s.base(fmt::format("base {} {}", tab.shoolery_base.id, fmt_ppm(tab.shoolery_base.ppm)), tab.shoolery_base.ppm);
+      for (auto n : nbrs) {
+        const auto *row = first_row(tab.sigma, t, n, skeleton);
+        if (!row) return std::nullopt;
+        s.add("", row->id, row->ppm);
+      }
+      return from_sum(s, 0);
+    };
+
+    if (n_h == 2 && nbrs.size() == 2 && n_groups == 2) return shoolery();
+    if (!beta.empty() && n_groups > 0) return std::nullopt;  // alpha + beta: no published combination
+    if (n_groups == 1) {
+      if (!own.empty()) {
+        // A group with only a sigma row (CF3, CF2R) next to a CH2.
+        if (n_h == 2 && nbrs.size() == 2) return shoolery();
+        return std::nullopt;
+      }
+      const auto *row = first_row(tab.alpha[n_h], t, direct[0], skeleton);
+      if (!row) {
+        if (n_h == 2 && nbrs.size() == 2) return shoolery();
+        return std::nullopt;
+      }
+      Sum s(fmt::format("position table ({} alpha to a group)", type[n_h]), kAlphaSpread);
+      s.base(fmt::format("{} {}", row->id, fmt_ppm(row->ppm)), row->ppm);
+      return from_sum(s, 0);
+    }
+    if (n_groups > 1) return std::nullopt;  // CHXY, CH2XY with three heavy neighbours
+    if (!beta.empty()) {
+      // Exactly one group one bond further away (FORMAT.md step 3).
+      if (beta.size() != 1 || beta_groups[0] != 1) return std::nullopt;
+      const auto *row = first_row(tab.beta[n_h], t, beta[0], skeleton);
+      if (!row) return std::nullopt;
+      Sum s(fmt::format("position table ({} beta to a group)", type[n_h]), kBetaSpread);
+      s.base(fmt::format("{} {}", row->id, fmt_ppm(row->ppm)), row->ppm);
+      return from_sum(s, 0);
+    }
+    const auto &alk = tab.alkane[n_h];
+    if (!alk.set) return std::nullopt;
+    Sum s(fmt::format("position table ({} with no group within two bonds)", type[n_h]), kAlkaneSpread);
+    s.base(fmt::format("{} {}", alk.id, fmt_ppm(alk.ppm)), alk.ppm);
+    return from_sum(s, 0);
+  }
+
+  std::shared_ptr<const H1IncrementTables> parsed_;
+  const H1IncrementTables &tab_;
+  std::string solvent_name_;
+  bool exchanges_ = false;
+  bool known_ = false;
+  double water_ppm_ = 0;
+  mutable const ShiftQuery *query_ = nullptr;
+  mutable std::unique_ptr<SmartsTarget> target_;
+};
+
+}  // namespace
+
+std::shared_ptr<const H1IncrementTables> parse_h1_increment_tables(const Tables &tables) {
+  auto out = std::make_shared<H1IncrementTables>();
+  read_shoolery(tables, out->shoolery);
+  read_alkene(tables, out->alkene);
+  read_benzene(tables, out->benzene);
+  read_hetero(tables, out->hetero);
+  read_special(tables, out->special);
+  read_solvents(tables, out->solvents);
+  return out;
+}
+
+std::unique_ptr<ShiftSource> make_h1_increments(std::shared_ptr<const H1IncrementTables> parsed,
+                                                std::string solvent) {
+  if (!parsed) throw InternalError("make_h1_increments: no parsed tables");
+  return std::make_unique<H1Increments>(std::move(parsed), std::move(solvent));
+}
+
+}  // namespace nmrpred::detail
