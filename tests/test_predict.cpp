@@ -1,6 +1,7 @@
-// The umbrella API (nmrpred/predict.hpp): 13C shifts carried through predict,
-// predict_record and predict_all, blind mode, user reference records, signals,
-// JSON, and the errors of unusable tables and user records.
+// The umbrella API (nmrpred/predict.hpp): 13C and 1H shifts carried through
+// predict, predict_record and predict_all, blind mode, user reference records,
+// signals, solvents, JSON, and the errors of unusable tables, user records and
+// unknown solvents.
 //
 // Sources of the expected values:
 //  [GOTTLIEB]  GOTTLIEB-1997 (tables/SOURCES.md), Table 2, 13C of toluene and
@@ -12,6 +13,17 @@
 //              small symmetric molecules; a carbon's attached protons (0-3)
 //              are what DEPT-style editing tells apart, and 2H is not seen by
 //              it.
+//  [CP-1H]     Common practice for 1H spectra (any introductory NMR text): a
+//              signal's integral is proportional to the number of protons in
+//              it (CH3 3, CH2 2, OH 1), so the integrals of a molecule add up
+//              to its proton count; protons on O, N and S exchange, and in D2O
+//              or CD3OD they are replaced by deuterium and vanish from the
+//              spectrum (the "D2O shake"); 2H is not seen in a 1H spectrum;
+//              diastereotopic CH2 protons (next to a stereocentre, as in
+//              butan-2-ol) are chemically distinct and give separate signals.
+//  [FULMER]    FULMER-2010 (tables/SOURCES.md), residual CHCl3 7.26 ppm and
+//              CDCl3 77.16 ppm, water in CDCl3 1.56 ppm; D2O: HDO 4.79 ppm
+//              (from memory).
 //  [FORMAT]    tables/FORMAT.md, "Reference shift records": the record layout
 //              that user records follow, so the faults below are faults by it.
 // Records marked "demo data" carry invented values that exist only to show
@@ -169,9 +181,11 @@ struct TempDir {
 }  // namespace
 
 TEST_SUITE("predict") {
-  TEST_CASE("default options predict 13C shifts with every reference record") {
+  TEST_CASE("default options predict 13C and 1H shifts in CDCl3 with every reference record") {
     const PredictOptions o;
     CHECK(o.predict_shifts);
+    CHECK(o.predict_h1);
+    CHECK(o.solvent == "CDCl3");
     CHECK_FALSE(o.blind);
   }
 
@@ -305,19 +319,26 @@ TEST_SUITE("predict") {
     }
   }
 
-  TEST_CASE("Prediction::shift finds the shifts of carbons only") {
+  TEST_CASE("Prediction::shift finds 13C shifts of carbons and 1H shifts of protons") {
     const auto p = predict_smiles("CCO", builtin_tables());
     CHECK(p.shift(0, Nucleus::C13) != nullptr);
     CHECK(p.shift(1, Nucleus::C13) != nullptr);
     CHECK(p.shift(2, Nucleus::C13) == nullptr);  // oxygen
-    CHECK(p.shift(0, Nucleus::H1) == nullptr);   // 1H is not predicted yet
+    CHECK(p.shift(2, Nucleus::H1) == nullptr);
+    CHECK(p.shift(0, Nucleus::H1) == nullptr);   // a carbon has no 1H shift
+    CHECK(p.h1.size() == 6);                      // [CP-1H] C2H6O
     for (std::size_t h = p.molecule.heavy_atom_count(); h < p.molecule.atom_count(); ++h) {
+      INFO("hydrogen ", h);
       CHECK(p.shift(h, Nucleus::C13) == nullptr);
-      CHECK(p.shift(h, Nucleus::H1) == nullptr);
+      const Shift *s = p.shift(h, Nucleus::H1);
+      REQUIRE(s != nullptr);
+      CHECK(s->atom == h);
+      CHECK(s->nucleus == Nucleus::H1);
     }
     CHECK(p.shift(p.molecule.atom_count(), Nucleus::C13) == nullptr);
+    CHECK(p.shift(p.molecule.atom_count(), Nucleus::H1) == nullptr);
     CHECK(&p.signals(Nucleus::C13) == &p.c13_signals);
-    CHECK(p.signals(Nucleus::H1).empty());
+    CHECK(&p.signals(Nucleus::H1) == &p.h1_signals);
   }
 
   TEST_CASE("switching shift prediction off gives the foundation output alone") {
@@ -327,6 +348,9 @@ TEST_SUITE("predict") {
     const auto without = predict_smiles("CC(O)CC", builtin_tables(), off);
     CHECK(without.c13.empty());
     CHECK(without.c13_signals.empty());
+    CHECK(without.h1.empty());
+    CHECK(without.h1_signals.empty());
+    CHECK(without.h1_exchanged_signals.empty());
     CHECK(without.shift(0, Nucleus::C13) == nullptr);
     CHECK(without.classes == with.classes);
     CHECK(without.hose == with.hose);
@@ -377,18 +401,23 @@ TEST_SUITE("predict") {
     for (std::size_t i = 0; i < atoms.size(); ++i) {
       INFO("atom ", i);
       const auto &a = atoms[i];
-      const Shift *s = p.shift(i, Nucleus::C13);
-      CHECK((a.at("element") == "C") == (s != nullptr));
+      const bool carbon = a.at("element") == "C", hydrogen = a.at("element") == "H";
+      const Shift *s = p.shift(i, carbon ? Nucleus::C13 : Nucleus::H1);
+      CHECK((carbon || hydrogen) == (s != nullptr));  // toluene has no 2H
       for (const char *key : {"shift", "shift_uncertainty", "shift_method", "shift_references"})
         CHECK(a.contains(key) == (s != nullptr));
+      CHECK(a.contains("exchangeable") == hydrogen);
       if (!s) continue;
       CHECK(a.at("shift").get<double>() == s->ppm);
       CHECK(a.at("shift_uncertainty").get<double>() == s->uncertainty_ppm);
       CHECK(a.at("shift_method") == s->method);
       CHECK(a.at("shift_references").get<std::vector<std::string>>() == s->references);
+      if (hydrogen) CHECK(a.at("exchangeable") == false);
     }
     const auto &signals = j.at("signals");
-    REQUIRE(signals.size() == 1);
+    REQUIRE(signals.size() == 3);
+    CHECK(signals.at("1H").size() == p.h1_signals.size());
+    CHECK(signals.at("1H_exchanged").empty());
     const auto &c13 = signals.at("13C");
     REQUIRE(c13.size() == p.c13_signals.size());
     for (std::size_t k = 0; k < c13.size(); ++k) {
@@ -507,5 +536,235 @@ TEST_SUITE("predict") {
       CHECK((e.status() == nmrpred::Status::Input || e.status() == nmrpred::Status::Tables));
       CHECK(std::string(e.what()).find("demo-ring") != std::string::npos);
     }
+  }
+
+  TEST_CASE("ethanol in CDCl3 shows CH3, CH2 and OH signals with integrals 3, 2 and 1") {
+    // CCO: atoms 0 CH3, 1 CH2, 2 O; hydrogens 3-5 on C0, 6-7 on C1, 8 on O.
+    const auto p = predict_smiles("CCO", builtin_tables());
+    CHECK(p.solvent.name == "CDCl3");
+    REQUIRE(p.h1_signals.size() == 3);
+    CHECK(p.h1_exchanged_signals.empty());
+    std::map<std::size_t, const nmrpred::Signal *> by_heavy;  // heavy atom -> its protons' signal
+    int total = 0;
+    for (const auto &g : p.h1_signals) {
+      INFO("signal at ", g.ppm);
+      CHECK(g.nucleus == Nucleus::H1);
+      CHECK(g.observed);
+      CHECK(g.count == static_cast<int>(g.atoms.size()));
+      total += g.count;
+      by_heavy[static_cast<std::size_t>(p.molecule.attached_to(g.atoms[0]))] = &g;
+    }
+    CHECK(total == 6);  // [CP-1H] integrals add up to C2H6O's six protons
+    REQUIRE(by_heavy.size() == 3);
+    const struct {
+      std::size_t heavy;
+      int count;
+      bool exchangeable;
+      const char *source;
+    } rows[] = {{0, 3, false, "[CP-1H] CH3"}, {1, 2, false, "[CP-1H] CH2 (enantiotopic pair)"},
+                {2, 1, true, "[CP-1H] OH exchanges"}};
+    for (const auto &row : rows) {
+      INFO("heavy atom ", row.heavy, " ", row.source);
+      REQUIRE(by_heavy.count(row.heavy) == 1);
+      CHECK(by_heavy[row.heavy]->count == row.count);
+      CHECK(by_heavy[row.heavy]->exchangeable == row.exchangeable);
+      for (auto h : by_heavy[row.heavy]->atoms) CHECK(p.shift(h, Nucleus::H1)->exchangeable == row.exchangeable);
+    }
+    for (std::size_t k = 1; k < p.h1_signals.size(); ++k) CHECK(p.h1_signals[k - 1].ppm >= p.h1_signals[k].ppm);
+  }
+
+  TEST_CASE("in D2O and CD3OD the OH proton is exchanged: listed apart, and the integrals are 3 and 2") {
+    for (const char *solvent : {"D2O", "CD3OD", "methanol-d4"}) {
+      INFO(solvent, " [CP-1H] exchange with the solvent's deuterium");
+      PredictOptions o;
+      o.solvent = solvent;
+      const auto p = predict_smiles("CCO", builtin_tables(), o);
+      REQUIRE(p.h1_signals.size() == 2);
+      std::multiset<int> counts;
+      for (const auto &g : p.h1_signals) {
+        counts.insert(g.count);
+        CHECK_FALSE(g.exchangeable);
+        CHECK(g.observed);
+      }
+      CHECK(counts == std::multiset<int>{2, 3});
+      REQUIRE(p.h1_exchanged_signals.size() == 1);
+      const auto &oh = p.h1_exchanged_signals[0];
+      CHECK(oh.atoms == std::vector<std::size_t>{8});
+      CHECK(oh.count == 1);
+      CHECK(oh.exchangeable);
+      CHECK_FALSE(oh.observed);
+      // The proton keeps its predicted shift; only the signal is gone.
+      REQUIRE(p.shift(8, Nucleus::H1) != nullptr);
+      CHECK_FALSE(p.shift(8, Nucleus::H1)->observed);
+      const auto j = nlohmann::json::parse(nmrpred::to_json(
+          nmrpred::predict_record(nmrpred::read_records("CCO", nmrpred::Format::Smiles).at(0), builtin_tables(), o)));
+      CHECK(j.at("signals").at("1H").size() == 2);
+      REQUIRE(j.at("signals").at("1H_exchanged").size() == 1);
+      CHECK(j.at("signals").at("1H_exchanged")[0].at("observed") == false);
+      CHECK(j.at("atoms")[8].at("observed") == false);
+      CHECK(j.at("atoms")[8].at("exchangeable") == true);
+    }
+    // DMSO-d6 does not exchange: the OH is seen.
+    PredictOptions dmso;
+    dmso.solvent = "dmso";
+    const auto p = predict_smiles("CCO", builtin_tables(), dmso);
+    CHECK(p.solvent.name == "DMSO-d6");
+    CHECK(p.h1_signals.size() == 3);
+    CHECK(p.h1_exchanged_signals.empty());
+  }
+
+  TEST_CASE("deuterated positions give no 1H signal") {
+    // CD3CH2OH: atoms 0 CD3, 1 CH2, 2 O, hydrogens 3-5 are 2H.
+    const auto p = predict_smiles("[2H]C([2H])([2H])CO", builtin_tables());
+    std::size_t deuterium = 0;
+    for (std::size_t h = p.molecule.heavy_atom_count(); h < p.molecule.atom_count(); ++h) {
+      if (p.molecule.atom(h).isotope != 2) continue;
+      ++deuterium;
+      INFO("deuterium ", h, " [CP-1H] 2H is not seen in a 1H spectrum");
+      CHECK(p.shift(h, Nucleus::H1) == nullptr);
+      for (const auto &g : p.h1_signals) CHECK(std::find(g.atoms.begin(), g.atoms.end(), h) == g.atoms.end());
+    }
+    CHECK(deuterium == 3);
+    REQUIRE(p.h1_signals.size() == 2);  // CH2 and OH
+    int total = 0;
+    for (const auto &g : p.h1_signals) {
+      total += g.count;
+      CHECK(p.molecule.attached_to(g.atoms[0]) != 0);
+    }
+    CHECK(total == 3);
+    CHECK(p.h1.size() == 3);
+    const auto j = nlohmann::json::parse(nmrpred::to_json(nmrpred::predict_record(
+        nmrpred::read_records("[2H]C([2H])([2H])CO", nmrpred::Format::Smiles).at(0), builtin_tables())));
+    for (const auto &a : j.at("atoms"))
+      if (a.at("isotope") == 2) CHECK_FALSE(a.contains("shift"));
+  }
+
+  TEST_CASE("diastereotopic CH2 protons of butan-2-ol are two signals even if their values coincide") {
+    // CC(O)CC: atom 3 is the CH2 next to the stereocentre C1.
+    const auto p = predict_smiles("CC(O)CC", builtin_tables());
+    std::vector<std::size_t> ch2;
+    for (std::size_t h = p.molecule.heavy_atom_count(); h < p.molecule.atom_count(); ++h)
+      if (p.molecule.attached_to(h) == 3) ch2.push_back(h);
+    REQUIRE(ch2.size() == 2);
+    auto signal_of = [&](std::size_t h) {
+      return std::find_if(p.h1_signals.begin(), p.h1_signals.end(), [&](const nmrpred::Signal &g) {
+        return std::find(g.atoms.begin(), g.atoms.end(), h) != g.atoms.end();
+      });
+    };
+    INFO("[CP-1H] diastereotopic protons");
+    REQUIRE(signal_of(ch2[0]) != p.h1_signals.end());
+    REQUIRE(signal_of(ch2[1]) != p.h1_signals.end());
+    CHECK(signal_of(ch2[0]) != signal_of(ch2[1]));
+    CHECK(signal_of(ch2[0])->count == 1);
+    CHECK(signal_of(ch2[1])->count == 1);
+    // CH3, CH3, CH, OH and the two CH2 protons; integrals add up to C4H10O.
+    CHECK(p.h1_signals.size() == 6);
+    int total = 0;
+    for (const auto &g : p.h1_signals) total += g.count;
+    CHECK(total == 10);
+  }
+
+  TEST_CASE("group_signals keeps classes apart even when their shifts are equal") {
+    // Forcing equal values on the two diastereotopic protons must not merge
+    // their signals: a signal is a class, not a value.
+    const auto p = predict_smiles("CC(O)CC", builtin_tables());
+    auto h1 = p.h1;
+    std::vector<std::size_t> ch2;
+    for (auto &s : h1)
+      if (p.molecule.attached_to(s.atom) == 3) ch2.push_back(&s - h1.data());
+    REQUIRE(ch2.size() == 2);
+    h1[ch2[1]].ppm = h1[ch2[0]].ppm;
+    h1[ch2[1]].uncertainty_ppm = h1[ch2[0]].uncertainty_ppm;
+    CHECK(nmrpred::group_signals(p.molecule, p.classes, h1).size() == 6);
+  }
+
+  TEST_CASE("the JSON of a record carries 1H signals and the solvent's residual signals") {
+    const auto rec =
+        nmrpred::predict_record(nmrpred::read_records("CCO ethanol", nmrpred::Format::Smiles).at(0), builtin_tables());
+    REQUIRE(rec.ok());
+    const auto &p = *rec.prediction;
+    // ordered_json keeps the keys in the order they were written.
+    const auto j = nlohmann::ordered_json::parse(nmrpred::to_json(rec));
+    const auto &h1 = j.at("signals").at("1H");
+    REQUIRE(h1.size() == p.h1_signals.size());
+    for (std::size_t k = 0; k < h1.size(); ++k) {
+      const auto &g = p.h1_signals[k];
+      std::vector<std::string> keys;
+      for (const auto &kv : h1[k].items()) keys.push_back(kv.key());
+      CHECK(keys == std::vector<std::string>{"shift", "atoms", "count", "shift_uncertainty", "exchangeable",
+                                             "observed", "shift_method"});
+      CHECK(h1[k].at("shift").get<double>() == g.ppm);
+      CHECK(h1[k].at("atoms").get<std::vector<std::size_t>>() == g.atoms);
+      CHECK(h1[k].at("count") == g.count);
+      CHECK(h1[k].at("exchangeable") == g.exchangeable);
+    }
+    for (std::size_t i = p.molecule.heavy_atom_count(); i < p.molecule.atom_count(); ++i) {
+      INFO("hydrogen ", i);
+      const auto &a = j.at("atoms")[i];
+      for (const char *key : {"shift", "shift_uncertainty", "shift_method", "shift_references", "exchangeable"})
+        CHECK(a.contains(key));
+      CHECK(a.at("exchangeable") == (i == 8));
+    }
+    const auto &solvent = j.at("solvent");
+    CHECK(solvent.at("name") == "CDCl3");
+    INFO("[FULMER] CDCl3");
+    REQUIRE(solvent.at("residual_1h").size() == 1);
+    check_close(solvent.at("residual_1h")[0].get<double>(), 7.26, 0.005);
+    REQUIRE(solvent.at("residual_13c").size() == 1);
+    check_close(solvent.at("residual_13c")[0].get<double>(), 77.16, 0.005);
+    check_close(solvent.at("water_1h").get<double>(), 1.56, 0.005);
+
+    PredictOptions d2o;
+    d2o.solvent = "D2O";
+    const auto jd = nlohmann::json::parse(nmrpred::to_json(
+        nmrpred::predict_record(nmrpred::read_records("CCO", nmrpred::Format::Smiles).at(0), builtin_tables(), d2o)));
+    INFO("[FULMER] D2O");
+    CHECK(jd.at("solvent").at("residual_13c").empty());
+    check_close(jd.at("solvent").at("water_1h").get<double>(), 4.79, 0.005);
+
+    // predict_h1 off: 13C alone, as before 1H prediction existed.
+    PredictOptions no_h1;
+    no_h1.predict_h1 = false;
+    const auto jn = nlohmann::json::parse(nmrpred::to_json(
+        nmrpred::predict_record(nmrpred::read_records("CCO", nmrpred::Format::Smiles).at(0), builtin_tables(), no_h1)));
+    CHECK(jn.at("signals").size() == 1);
+    CHECK(jn.at("signals").contains("13C"));
+    CHECK_FALSE(jn.at("atoms")[3].contains("shift"));
+  }
+
+  TEST_CASE("a solvent the tables do not know is an ArgumentError naming the known ones") {
+    PredictOptions o;
+    o.solvent = "chloroform-h";
+    const auto m = nmrpred::read_molecule("CCO", nmrpred::Format::Smiles);
+    for (int way = 0; way < 3; ++way) {
+      INFO("way ", way);
+      try {
+        if (way == 0) nmrpred::predict(m, builtin_tables(), o);
+        if (way == 1) nmrpred::predict_all("CCO\nCC\n", nmrpred::Format::Smiles, builtin_tables(), o);
+        if (way == 2)
+          nmrpred::predict_record(nmrpred::read_records("CCO", nmrpred::Format::Smiles).at(0), builtin_tables(), o);
+        FAIL("accepted solvent ", o.solvent);
+      } catch (const nmrpred::ArgumentError &e) {
+        const std::string msg = e.what();
+        INFO(msg);
+        CHECK(msg.find("chloroform-h") != std::string::npos);
+        CHECK(msg.find("CDCl3") != std::string::npos);
+        CHECK(msg.find("D2O") != std::string::npos);
+      }
+    }
+    CHECK(nmrpred::validate(PredictOptions{}, builtin_tables()).name == "CDCl3");
+  }
+
+  TEST_CASE("a solvent serializes with its residual signals") {
+    const auto s = nmrpred::find_solvent(builtin_tables(), "CDCl3");
+    const auto j = nlohmann::json::parse(nmrpred::to_json(s));
+    CHECK(j.at("id") == s.id);
+    CHECK(j.at("name") == "CDCl3");
+    CHECK(j.at("exchanges_labile_protons") == false);
+    REQUIRE(j.at("residual_13c_detail").size() == 1);
+    CHECK(j.at("residual_13c_detail")[0].at("multiplicity") == s.c13[0].multiplicity);
+    CHECK(j.at("residual_1h").get<std::vector<double>>() == std::vector<double>{s.h1_residual[0].shift_ppm});
+    CHECK(nlohmann::json::parse(nmrpred::to_json(nmrpred::find_solvent(builtin_tables(), "D2O")))
+              .at("exchanges_labile_protons") == true);
   }
 }

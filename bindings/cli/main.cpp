@@ -1,11 +1,12 @@
 // nmrpred: command-line front end of libnmrpred. Prints JSON Lines to stdout:
 // `predict` one object per input record (the serializer in
 // nmrpred/predict.hpp), `reference` one object per reference compound of the
-// tables. Diagnostics go to stderr. The library itself never prints.
+// tables, `solvents` one object per solvent. Diagnostics go to stderr. The library itself never prints.
 //
 // Exit status: 0 every record succeeded, 1 at least one record failed (or the
 // input held none), 2 the command line could not be carried out (usage error,
-// unreadable file, tables or user reference records that cannot be used).
+// unreadable file, unknown solvent, tables or user reference records that
+// cannot be used).
 
 #include <fstream>
 #include <iostream>
@@ -38,6 +39,8 @@ struct PredictArgs {
   int spheres = nmrpred::kDefaultHoseSpheres;
   bool blind = false;
   bool no_shifts = false;
+  bool no_h1 = false;
+  std::string solvent = "CDCl3";
   TablesArgs tables;
 };
 
@@ -88,9 +91,18 @@ int run_predict(const PredictArgs &args) {
   options.hose_spheres = args.spheres;
   options.blind = args.blind;
   options.predict_shifts = !args.no_shifts;
+  options.predict_h1 = !args.no_h1;
+  options.solvent = args.solvent;
   nmrpred::validate(options);
   const nmrpred::Format format = nmrpred::parse_format(args.format);
   const auto tables = load_tables(args.tables);
+  // Before any input is read: an unknown solvent stops the command (exit 2)
+  // with the known names, instead of failing every record.
+  try {
+    nmrpred::validate(options, *tables);
+  } catch (const nmrpred::TablesError &e) {
+    throw SetupError{e.what()};
+  }
 
   std::size_t records = 0;
   std::size_t failed = 0;
@@ -153,6 +165,19 @@ int run_predict(const PredictArgs &args) {
   return kExitOk;
 }
 
+int run_solvents(const TablesArgs &args) {
+  const auto tables = load_tables(args);
+  std::vector<nmrpred::Solvent> list;
+  try {
+    list = nmrpred::solvents(*tables);
+  } catch (const nmrpred::TablesError &e) {
+    throw SetupError{e.what()};
+  }
+  for (const auto &s : list) std::cout << nmrpred::to_json(s) << '\n';
+  std::cout.flush();
+  return kExitOk;
+}
+
 int run_reference(const TablesArgs &args) {
   const auto tables = load_tables(args);
   for (const auto &c : tables->reference()) std::cout << nmrpred::to_json(c) << '\n';
@@ -164,7 +189,7 @@ int run_reference(const TablesArgs &args) {
 
 int main(int argc, char **argv) {
   std::ios::sync_with_stdio(false);
-  CLI::App app{"nmrpred: equivalent atoms, HOSE codes and 13C shifts for chemical structures "
+  CLI::App app{"nmrpred: equivalent atoms, HOSE codes and 1H/13C shifts for chemical structures "
                "(JSON Lines output)"};
   app.set_version_flag("--version", std::string("nmrpred ") + nmrpred::version_string());
   app.require_subcommand(1, 1);
@@ -184,12 +209,22 @@ int main(int argc, char **argv) {
   predict->add_flag("--blind", args.blind,
                     "Predict shifts as if the tables did not hold the compound itself (honest test on known compounds)");
   predict->add_flag("--no-shifts", args.no_shifts, "Classes and HOSE codes only (faster)");
+  predict->add_flag("--no-h1", args.no_h1, "Predict 13C shifts only");
+  predict->add_option("--solvent", args.solvent,
+                      "Solvent of the sample, a name or alias listed by `nmrpred solvents` (D2O and CD3OD "
+                      "exchange OH/NH/SH protons)")
+      ->capture_default_str();
   add_tables_options(predict, args.tables);
 
   TablesArgs reference_args;
   CLI::App *reference = app.add_subcommand(
       "reference", "Print the reference compounds of the tables, one JSON object per compound");
   add_tables_options(reference, reference_args);
+
+  TablesArgs solvents_args;
+  CLI::App *solvents = app.add_subcommand(
+      "solvents", "Print the solvents of the tables (residual and water signals), one JSON object per solvent");
+  add_tables_options(solvents, solvents_args);
 
   try {
     app.parse(argc, argv);
@@ -200,6 +235,7 @@ int main(int argc, char **argv) {
 
   try {
     if (reference->parsed()) return run_reference(reference_args);
+    if (solvents->parsed()) return run_solvents(solvents_args);
     if (args.smiles.empty() && args.file.empty()) {
       std::cerr << "nmrpred predict: give --smiles SMILES or a FILE ('-' for standard input)\n"
                 << "Run with --help for more information.\n";

@@ -106,8 +106,11 @@ NMR_API const char *nmr_status_string(int status);
 
 /* ----------------------------------------------------------------- options */
 
-/** Option keys for nmr_context_set_option_double(). Append only. Keys 1 and 2
- *  are reserved for the spectrum options (field in MHz, line width in Hz). */
+/** Option keys. Append only. Keys 1 and 2 are reserved for the spectrum
+ *  options (field in MHz, line width in Hz). Numeric options are set with
+ *  nmr_context_set_option_double(), text options (NMR_OPT_SOLVENT) with
+ *  nmr_context_set_option_string(); a key given to the wrong one is
+ *  NMR_ERR_UNSUPPORTED. */
 enum {
   /** Spheres of the HOSE codes: a whole number from 1 to 6. Default 4. */
   NMR_OPT_HOSE_SPHERES = 3,
@@ -116,8 +119,17 @@ enum {
    *  for compounds the tables hold). 0 (default): use every record. */
   NMR_OPT_BLIND = 4,
   /** 1 (default): predict chemical shifts. 0: classes and HOSE codes only,
-   *  which is faster; shift and signal accessors then find nothing. */
-  NMR_OPT_PREDICT_SHIFTS = 5
+   *  which is faster; shift and signal accessors then find nothing (neither
+   *  nucleus, whatever NMR_OPT_PREDICT_H1 says). */
+  NMR_OPT_PREDICT_SHIFTS = 5,
+  /** 1 (default): predict 1H shifts and signals as well as 13C (when
+   *  NMR_OPT_PREDICT_SHIFTS is on). 0: 13C only. */
+  NMR_OPT_PREDICT_H1 = 6,
+  /** Text: solvent of the sample, a name or alias of the tables' solvent list
+   *  (case-insensitive): "CDCl3" (default), "DMSO-d6", "CD3OD", "D2O",
+   *  "acetone-d6", "C6D6", ... In D2O and CD3OD, protons on O, N and S
+   *  exchange for deuterium and give no 1H signal. */
+  NMR_OPT_SOLVENT = 7
 };
 
 /** Nuclei, by mass number. */
@@ -189,6 +201,22 @@ NMR_API int nmr_context_set_option_double(nmr_context *ctx, int option, double v
  *  Errors: NMR_ERR_ARGUMENT (ctx or value_out NULL), NMR_ERR_UNSUPPORTED (unknown key). */
 NMR_API int nmr_context_get_option_double(nmr_context *ctx, int option, double *value_out);
 
+/** Sets one text option (NMR_OPT_SOLVENT). Applies to later nmr_predict() calls.
+ *  value: NUL-terminated UTF-8. A solvent is checked against the context's
+ *  tables at once and stored under its usual name (nmr_context_get_option_string
+ *  then gives "DMSO-d6" for "dmso").
+ *  Errors: NMR_ERR_ARGUMENT (ctx or value NULL, or an unknown solvent: the
+ *  message names the known ones; the option keeps its previous value),
+ *  NMR_ERR_UNSUPPORTED (unknown key or a numeric key), NMR_ERR_TABLES (the
+ *  context has no tables, or they lack a usable solvent list). */
+NMR_API int nmr_context_set_option_string(nmr_context *ctx, int option, const char *value);
+
+/** Reads the current value of one text option: *value_out receives text owned
+ *  by ctx, valid until the next call on ctx.
+ *  Errors: NMR_ERR_ARGUMENT (ctx or value_out NULL), NMR_ERR_UNSUPPORTED
+ *  (unknown key or a numeric key). */
+NMR_API int nmr_context_get_option_string(nmr_context *ctx, int option, const char **value_out);
+
 /* -------------------------------------------------------------- prediction */
 
 /** Reads every record of `text` and predicts each one with the context's
@@ -204,7 +232,8 @@ NMR_API int nmr_context_get_option_double(nmr_context *ctx, int option, double *
  *  Errors (then *out is set to NULL, if out is not NULL): NMR_ERR_ARGUMENT (out,
  *  ctx or text NULL, unknown format name), NMR_ERR_INPUT (the text holds no
  *  record at all), NMR_ERR_TABLES (the context has no tables because its
- *  creation failed), NMR_ERR_NOMEM, NMR_ERR_INTERNAL. */
+ *  creation failed, or its tables folder has no usable solvent list),
+ *  NMR_ERR_NOMEM, NMR_ERR_INTERNAL. */
 NMR_API int nmr_predict(nmr_result **out, nmr_context *ctx, const char *format, const char *text);
 
 /** Frees a result and every string borrowed from it. NULL is fine. */
@@ -297,8 +326,9 @@ NMR_API int nmr_result_atom_topological_class(const nmr_result *res, size_t reco
  *  time of nmr_predict(). Borrowed from res (NUL-terminated). */
 NMR_API int nmr_result_atom_hose(const nmr_result *res, size_t record, size_t atom, const char **hose_out);
 
-/* Predicted shifts. In this version carbons (13C) have one when
- * NMR_OPT_PREDICT_SHIFTS was on; other atoms have none. Equivalent atoms (one
+/* Predicted shifts. When NMR_OPT_PREDICT_SHIFTS was on, carbons have a 13C
+ * shift and protons (hydrogens other than 2H and 3H) a 1H shift unless
+ * NMR_OPT_PREDICT_H1 was off; other atoms have none. Equivalent atoms (one
  * class) always carry equal values. */
 
 /** Predicted chemical shift of an atom: *ppm_out in ppm from TMS and
@@ -325,11 +355,28 @@ NMR_API int nmr_result_atom_shift_reference_count(const nmr_result *res, size_t 
 NMR_API int nmr_result_atom_shift_reference(const nmr_result *res, size_t record, size_t atom, size_t i,
                                             const char **id_out);
 
+/** For a proton with a predicted 1H shift: *exchangeable_out 1 if it sits on
+ *  O, N or S and exchanges (its position depends on solvent, concentration and
+ *  temperature), else 0; *observed_out 0 if the solvent (D2O, CD3OD) exchanges
+ *  it for deuterium so it gives no signal, else 1. Other atoms get 0 and 1.
+ *  Either output may be NULL if not wanted. */
+NMR_API int nmr_result_atom_exchangeable(const nmr_result *res, size_t record, size_t atom,
+                                         int *exchangeable_out, int *observed_out);
+
+/** Usual name of the solvent a record was predicted for ("CDCl3", "D2O", ...);
+ *  "" for a failed record, NULL res or an index out of range. Its residual
+ *  and water signals are in the record's JSON ("solvent"). Borrowed from res;
+ *  never NULL. */
+NMR_API const char *nmr_result_solvent(const nmr_result *res, size_t record);
+
 /* --------------------------------------------------------- result: signals */
 /* A signal is one line of a predicted spectrum: the atoms of one chemical
  * equivalence class of one nucleus (NMR_NUCLEUS_*). Signals of a record are
- * numbered 0 .. count-1 by decreasing shift (downfield first). This version
- * predicts 13C only: NMR_NUCLEUS_1H has no signals yet. Accessors return
+ * numbered 0 .. count-1 by decreasing shift (downfield first). 1H signals are
+ * those a spectrum in the record's solvent shows: protons exchanged for
+ * deuterium (OH, NH, SH in D2O or CD3OD) are left out (find them with
+ * nmr_result_atom_exchangeable()), and deuterated positions give none.
+ * Diastereotopic protons are separate classes, so separate signals. Accessors return
  * NMR_OK, or NMR_ERR_ARGUMENT if res or an output pointer is NULL, the record
  * is out of range or failed, the nucleus is not an NMR_NUCLEUS_* value or
  * the signal or atom index is out of range; outputs are left untouched on
@@ -349,6 +396,18 @@ NMR_API int nmr_result_signal_shift(const nmr_result *res, size_t record, int nu
  *  distinction DEPT-style editing makes. 0 for other nuclei. */
 NMR_API int nmr_result_signal_attached_h(const nmr_result *res, size_t record, int nucleus, size_t signal,
                                          int *count_out);
+
+/** Number of nuclei a signal stands for (its atoms). For 1H this is the
+ *  integral in protons (3 for a CH3 group); for 13C, the number of carbons
+ *  (routine 13C peak areas are not proportional to it). */
+NMR_API int nmr_result_signal_integral(const nmr_result *res, size_t record, int nucleus, size_t signal,
+                                       int *count_out);
+
+/** 1 if a 1H signal belongs to exchangeable protons (on O, N or S: often
+ *  broad, position dependent on solvent, concentration and temperature),
+ *  else 0; always 0 for 13C. */
+NMR_API int nmr_result_signal_exchangeable(const nmr_result *res, size_t record, int nucleus, size_t signal,
+                                           int *exchangeable_out);
 
 /** How the signal's shift was obtained, in words. Borrowed from res. */
 NMR_API int nmr_result_signal_method(const nmr_result *res, size_t record, int nucleus, size_t signal,

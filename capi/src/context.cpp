@@ -8,6 +8,7 @@
 #include <fmt/format.h>
 
 #include <nmrpred/io.hpp>
+#include <nmrpred/solvents.hpp>
 
 using nmrpred::capi::fail;
 using nmrpred::capi::guarded;
@@ -21,6 +22,19 @@ int set_switch(nmr_context *ctx, const char *name, double value, bool &target) {
     return fail(ctx, NMR_ERR_ARGUMENT, fmt::format("{} must be 0 or 1, got {}", name, value));
   target = value == 1.0;
   return NMR_OK;
+}
+
+/// A text option given to a numeric call or the other way round: the key is
+/// known, so say which call it needs rather than just "unknown".
+int wrong_kind(nmr_context *ctx, int option, bool is_text) {
+  return fail(ctx, NMR_ERR_UNSUPPORTED,
+              is_text ? fmt::format("option key {} takes text: use nmr_context_set_option_string", option)
+                      : fmt::format("option key {} takes a number: use nmr_context_set_option_double", option));
+}
+
+bool is_numeric_option(int option) {
+  return option == NMR_OPT_HOSE_SPHERES || option == NMR_OPT_BLIND || option == NMR_OPT_PREDICT_SHIFTS ||
+         option == NMR_OPT_PREDICT_H1;
 }
 
 }  // namespace
@@ -83,6 +97,10 @@ int nmr_context_set_option_double(nmr_context *ctx, int option, double value) {
         return set_switch(ctx, "NMR_OPT_BLIND", value, ctx->options.blind);
       case NMR_OPT_PREDICT_SHIFTS:
         return set_switch(ctx, "NMR_OPT_PREDICT_SHIFTS", value, ctx->options.predict_shifts);
+      case NMR_OPT_PREDICT_H1:
+        return set_switch(ctx, "NMR_OPT_PREDICT_H1", value, ctx->options.predict_h1);
+      case NMR_OPT_SOLVENT:
+        return wrong_kind(ctx, option, true);
       default:
         return fail(ctx, NMR_ERR_UNSUPPORTED, fmt::format("unknown option key {}", option));
     }
@@ -103,9 +121,44 @@ int nmr_context_get_option_double(nmr_context *ctx, int option, double *value_ou
       case NMR_OPT_PREDICT_SHIFTS:
         *value_out = ctx->options.predict_shifts ? 1.0 : 0.0;
         return static_cast<int>(NMR_OK);
+      case NMR_OPT_PREDICT_H1:
+        *value_out = ctx->options.predict_h1 ? 1.0 : 0.0;
+        return static_cast<int>(NMR_OK);
+      case NMR_OPT_SOLVENT:
+        return wrong_kind(ctx, option, true);
       default:
         return fail(ctx, NMR_ERR_UNSUPPORTED, fmt::format("unknown option key {}", option));
     }
+  });
+}
+
+int nmr_context_set_option_string(nmr_context *ctx, int option, const char *value) {
+  if (!ctx) return NMR_ERR_ARGUMENT;
+  return guarded(ctx, [&] {
+    if (option == NMR_OPT_SOLVENT) {
+      if (!value) return fail(ctx, NMR_ERR_ARGUMENT, "value is NULL");
+      if (!ctx->tables)
+        return fail(ctx, NMR_ERR_TABLES, "the context has no tables (nmr_context_new failed); create a new one");
+      // Checked now, so that a typo surfaces at the call that made it; throws
+      // ArgumentError naming the known solvents.
+      ctx->options.solvent = nmrpred::find_solvent(*ctx->tables, value).name;
+      return static_cast<int>(NMR_OK);
+    }
+    if (is_numeric_option(option)) return wrong_kind(ctx, option, false);
+    return fail(ctx, NMR_ERR_UNSUPPORTED, fmt::format("unknown option key {}", option));
+  });
+}
+
+int nmr_context_get_option_string(nmr_context *ctx, int option, const char **value_out) {
+  if (!ctx) return NMR_ERR_ARGUMENT;
+  return guarded(ctx, [&] {
+    if (!value_out) return fail(ctx, NMR_ERR_ARGUMENT, "value_out is NULL");
+    if (option == NMR_OPT_SOLVENT) {
+      *value_out = ctx->options.solvent.c_str();
+      return static_cast<int>(NMR_OK);
+    }
+    if (is_numeric_option(option)) return wrong_kind(ctx, option, false);
+    return fail(ctx, NMR_ERR_UNSUPPORTED, fmt::format("unknown option key {}", option));
   });
 }
 

@@ -210,6 +210,22 @@ int nmr_result_atom_shift_reference(const nmr_result *res, size_t record, size_t
   return NMR_OK;
 }
 
+int nmr_result_atom_exchangeable(const nmr_result *res, size_t record, size_t atom, int *exchangeable_out,
+                                 int *observed_out) {
+  const auto *p = atom_at(res, record, atom);
+  if (!p) return NMR_ERR_ARGUMENT;
+  const auto *s = shift_of(*p, atom);
+  const bool proton = s && s->nucleus == nmrpred::Nucleus::H1;
+  if (exchangeable_out) *exchangeable_out = proton && s->exchangeable ? 1 : 0;
+  if (observed_out) *observed_out = proton && !s->observed ? 0 : 1;
+  return NMR_OK;
+}
+
+const char *nmr_result_solvent(const nmr_result *res, size_t record) {
+  const auto *p = prediction_at(res, record);
+  return p ? p->solvent.name.c_str() : "";
+}
+
 size_t nmr_result_signal_count(const nmr_result *res, size_t record, int nucleus) {
   const auto *p = prediction_at(res, record);
   if (!p || (nucleus != NMR_NUCLEUS_13C && nucleus != NMR_NUCLEUS_1H)) return 0;
@@ -230,6 +246,21 @@ int nmr_result_signal_attached_h(const nmr_result *res, size_t record, int nucle
   const auto *g = signal_at(res, record, nucleus, signal);
   if (!g || !count_out) return NMR_ERR_ARGUMENT;
   *count_out = g->attached_h;
+  return NMR_OK;
+}
+
+int nmr_result_signal_integral(const nmr_result *res, size_t record, int nucleus, size_t signal, int *count_out) {
+  const auto *g = signal_at(res, record, nucleus, signal);
+  if (!g || !count_out) return NMR_ERR_ARGUMENT;
+  *count_out = g->count;
+  return NMR_OK;
+}
+
+int nmr_result_signal_exchangeable(const nmr_result *res, size_t record, int nucleus, size_t signal,
+                                   int *exchangeable_out) {
+  const auto *g = signal_at(res, record, nucleus, signal);
+  if (!g || !exchangeable_out) return NMR_ERR_ARGUMENT;
+  *exchangeable_out = g->exchangeable ? 1 : 0;
   return NMR_OK;
 }
 

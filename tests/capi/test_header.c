@@ -13,6 +13,12 @@
  * lookup of toluene itself must name that record ("toluene") unless blind.
  * Records with ids "demo-..." are demo data with invented values, not
  * published shifts.
+ *
+ * 1H (common practice, any introductory NMR text): ethanol's protons give
+ * three signals, CH3, CH2 and OH, whose integrals are 3, 2 and 1 (an integral
+ * is proportional to the number of protons); the OH proton exchanges, and in
+ * D2O it is replaced by deuterium and leaves the spectrum, so two signals
+ * with integrals 3 and 2 remain.
  */
 #include <nmrpred.h>
 
@@ -115,6 +121,12 @@ static void test_null_handles(void) {
   CHECK(nmr_result_signal_method(NULL, 0, NMR_NUCLEUS_13C, 0, &s) == NMR_ERR_ARGUMENT);
   CHECK(nmr_result_signal_atom_count(NULL, 0, NMR_NUCLEUS_13C, 0) == 0);
   CHECK(nmr_result_signal_atom(NULL, 0, NMR_NUCLEUS_13C, 0, 0, &cls) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_integral(NULL, 0, NMR_NUCLEUS_1H, 0, &z) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_exchangeable(NULL, 0, NMR_NUCLEUS_1H, 0, &z) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_atom_exchangeable(NULL, 0, 0, &z, &z) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_solvent(NULL, 0) != NULL);
+  CHECK(nmr_context_set_option_string(NULL, NMR_OPT_SOLVENT, "D2O") == NMR_ERR_ARGUMENT);
+  CHECK(nmr_context_get_option_string(NULL, NMR_OPT_SOLVENT, &s) == NMR_ERR_ARGUMENT);
   CHECK(nmr_result_tables_version(NULL) != NULL);
   CHECK(nmr_context_add_reference(NULL, kDemoToluene) == NMR_ERR_ARGUMENT);
   CHECK(nmr_result_to_json(NULL, &json) == NMR_ERR_ARGUMENT);
@@ -138,6 +150,7 @@ static void test_context_failures(void) {
     CHECK_FAIL(ctx, nmr_predict(&res, ctx, NULL, "C"), NMR_ERR_TABLES);
     CHECK(res == NULL);
     CHECK_FAIL(ctx, nmr_context_add_reference(ctx, kDemoToluene), NMR_ERR_TABLES);
+    CHECK_FAIL(ctx, nmr_context_set_option_string(ctx, NMR_OPT_SOLVENT, "D2O"), NMR_ERR_TABLES);
   }
   nmr_context_free(ctx);
   ctx = NULL;
@@ -173,6 +186,34 @@ static void test_context_failures(void) {
   CHECK(nmr_context_set_option_double(ctx, NMR_OPT_BLIND, 1.0) == NMR_OK);
   CHECK(nmr_context_get_option_double(ctx, NMR_OPT_BLIND, &v) == NMR_OK);
   CHECK(v == 1.0);
+  CHECK(nmr_context_get_option_double(ctx, NMR_OPT_PREDICT_H1, &v) == NMR_OK);
+  CHECK(v == 1.0);
+  CHECK_FAIL(ctx, nmr_context_set_option_double(ctx, NMR_OPT_PREDICT_H1, 0.5), NMR_ERR_ARGUMENT);
+
+  /* Text options: the solvent. */
+  {
+    const char *text = NULL;
+    CHECK(nmr_context_get_option_string(ctx, NMR_OPT_SOLVENT, &text) == NMR_OK);
+    CHECK(text != NULL && strcmp(text, "CDCl3") == 0);
+    CHECK_FAIL(ctx, nmr_context_set_option_string(ctx, NMR_OPT_SOLVENT, "chloroform-h"), NMR_ERR_ARGUMENT);
+    CHECK(strstr(nmr_context_last_error(ctx), "chloroform-h") != NULL);
+    CHECK(strstr(nmr_context_last_error(ctx), "CDCl3") != NULL); /* names the known ones */
+    CHECK(strstr(nmr_context_last_error(ctx), "D2O") != NULL);
+    CHECK_FAIL(ctx, nmr_context_set_option_string(ctx, NMR_OPT_SOLVENT, NULL), NMR_ERR_ARGUMENT);
+    CHECK_FAIL(ctx, nmr_context_set_option_string(ctx, 12345, "D2O"), NMR_ERR_UNSUPPORTED);
+    CHECK_FAIL(ctx, nmr_context_set_option_string(ctx, NMR_OPT_HOSE_SPHERES, "3"), NMR_ERR_UNSUPPORTED);
+    CHECK_FAIL(ctx, nmr_context_set_option_double(ctx, NMR_OPT_SOLVENT, 1.0), NMR_ERR_UNSUPPORTED);
+    CHECK_FAIL(ctx, nmr_context_get_option_double(ctx, NMR_OPT_SOLVENT, &v), NMR_ERR_UNSUPPORTED);
+    CHECK_FAIL(ctx, nmr_context_get_option_string(ctx, NMR_OPT_BLIND, &text), NMR_ERR_UNSUPPORTED);
+    CHECK_FAIL(ctx, nmr_context_get_option_string(ctx, NMR_OPT_SOLVENT, NULL), NMR_ERR_ARGUMENT);
+    /* Rejected values leave the option as it was. */
+    CHECK(nmr_context_get_option_string(ctx, NMR_OPT_SOLVENT, &text) == NMR_OK);
+    CHECK(text != NULL && strcmp(text, "CDCl3") == 0);
+    /* Aliases are stored under the usual name. */
+    CHECK(nmr_context_set_option_string(ctx, NMR_OPT_SOLVENT, " dmso ") == NMR_OK);
+    CHECK(nmr_context_get_option_string(ctx, NMR_OPT_SOLVENT, &text) == NMR_OK);
+    CHECK(text != NULL && strcmp(text, "DMSO-d6") == 0);
+  }
 
   /* User records: errors name the line and leave the tables as they were. */
   {
@@ -294,6 +335,7 @@ static void test_tables_and_blind_mode(void) {
   CHECK(nmr_predict(&res, ctx, "smiles", "Cc1ccccc1 toluene") == NMR_OK);
   if (res) {
     CHECK(nmr_result_signal_count(res, 0, NMR_NUCLEUS_13C) == 0);
+    CHECK(nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H) == 0);
     CHECK(nmr_result_atom_shift(res, 0, 0, &ppm, &unc) == NMR_OK);
     CHECK(isnan(ppm) && isnan(unc));
     CHECK(nmr_result_class_count(res, 0) == 9); /* 5 carbon + 4 proton classes (common practice) */
@@ -379,8 +421,9 @@ static void test_ethanol(void) {
   CHECK(nmr_result_atom_shift(res, 0, 1, NULL, NULL) == NMR_OK);
   CHECK(nmr_result_atom_shift(res, 0, 2, &ppm, &unc) == NMR_OK);
   CHECK(isnan(ppm) && isnan(unc));
-  CHECK(nmr_result_atom_shift(res, 0, 3, &ppm, NULL) == NMR_OK);
-  CHECK(isnan(ppm));
+  /* Protons have a 1H shift. */
+  CHECK(nmr_result_atom_shift(res, 0, 3, &ppm, &unc) == NMR_OK);
+  CHECK(!isnan(ppm) && unc > 0.0);
   CHECK(nmr_result_atom_shift_method(res, 0, 0, &method) == NMR_OK);
   CHECK(nonempty(method));
   CHECK(nmr_result_atom_shift_method(res, 0, 2, &method) == NMR_OK);
@@ -391,8 +434,10 @@ static void test_ethanol(void) {
   CHECK(nmr_result_atom_shift_reference(res, 0, 0, count, &method) == NMR_ERR_ARGUMENT);
   CHECK(nmr_result_atom_shift_reference(res, 0, 2, 0, &method) == NMR_ERR_ARGUMENT);
   CHECK(nmr_result_signal_count(res, 0, NMR_NUCLEUS_13C) == 2);
-  CHECK(nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H) == 0);
+  CHECK(nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H) == 3); /* CH3, CH2, OH */
   CHECK(nmr_result_signal_count(res, 0, 7) == 0);
+  CHECK(strcmp(nmr_result_solvent(res, 0), "CDCl3") == 0);
+  CHECK(strcmp(nmr_result_solvent(res, 1), "") == 0);
   CHECK(nmr_result_signal_shift(res, 0, NMR_NUCLEUS_13C, 0, &ppm, &unc) == NMR_OK);
   CHECK(nmr_result_signal_shift(res, 0, NMR_NUCLEUS_13C, 1, &ppm2, NULL) == NMR_OK);
   CHECK(ppm > ppm2);
@@ -419,6 +464,11 @@ static void test_ethanol(void) {
   CHECK(nmr_result_atom_shift_method(res, 0, 0, NULL) == NMR_ERR_ARGUMENT);
   CHECK(nmr_result_atom_shift_reference_count(res, 0, 0, NULL) == NMR_ERR_ARGUMENT);
   CHECK(nmr_result_atom_shift(res, 0, n, &ppm, NULL) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_integral(res, 0, NMR_NUCLEUS_1H, 3, &attached) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_integral(res, 0, NMR_NUCLEUS_1H, 0, NULL) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_exchangeable(res, 0, NMR_NUCLEUS_1H, 0, NULL) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_atom_exchangeable(res, 0, n, &attached, NULL) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_atom_exchangeable(res, 0, 0, NULL, NULL) == NMR_OK);
 
   /* Out-of-range indices and NULL outputs fail without touching outputs. */
   z = 42;
@@ -451,6 +501,104 @@ static void test_ethanol(void) {
   nmr_context_free(ctx);
   CHECK(nmr_result_atom_count(res, 0) == 9);
   nmr_result_free(res);
+}
+
+/* Integral and exchangeable flag of the 1H signal holding `atom`; -1 if none. */
+static int h1_signal_of(const nmr_result *res, size_t atom, int *integral, int *exchangeable) {
+  size_t k, i, a = 0;
+  for (k = 0; k < nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H); ++k)
+    for (i = 0; i < nmr_result_signal_atom_count(res, 0, NMR_NUCLEUS_1H, k); ++i)
+      if (nmr_result_signal_atom(res, 0, NMR_NUCLEUS_1H, k, i, &a) == NMR_OK && a == atom) {
+        if (nmr_result_signal_integral(res, 0, NMR_NUCLEUS_1H, k, integral) != NMR_OK) return -1;
+        if (nmr_result_signal_exchangeable(res, 0, NMR_NUCLEUS_1H, k, exchangeable) != NMR_OK) return -1;
+        return (int)k;
+      }
+  return -1;
+}
+
+static void test_proton_signals_and_solvents(void) {
+  nmr_context *ctx = NULL;
+  nmr_result *res = NULL;
+  int integral = 0, exch = -1, observed = -1, total = 0;
+  size_t k;
+  double ppm = 0.0, prev = 1e9;
+  char *json = NULL;
+
+  CHECK(nmr_context_new(&ctx, NULL) == NMR_OK);
+  if (!ctx) return;
+  /* Ethanol in CDCl3: atoms 3-5 on the CH3, 6-7 on the CH2, 8 on O. */
+  CHECK(nmr_predict(&res, ctx, "smiles", "CCO") == NMR_OK);
+  if (res) {
+    CHECK(nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H) == 3);
+    CHECK(h1_signal_of(res, 3, &integral, &exch) >= 0 && integral == 3 && exch == 0);
+    CHECK(h1_signal_of(res, 6, &integral, &exch) >= 0 && integral == 2 && exch == 0);
+    CHECK(h1_signal_of(res, 8, &integral, &exch) >= 0 && integral == 1 && exch == 1);
+    for (k = 0; k < 3; ++k) {
+      CHECK(nmr_result_signal_shift(res, 0, NMR_NUCLEUS_1H, k, &ppm, NULL) == NMR_OK);
+      CHECK(ppm <= prev); /* downfield first */
+      prev = ppm;
+      CHECK(nmr_result_signal_integral(res, 0, NMR_NUCLEUS_1H, k, &integral) == NMR_OK);
+      total += integral;
+    }
+    CHECK(total == 6);
+    CHECK(nmr_result_atom_exchangeable(res, 0, 8, &exch, &observed) == NMR_OK);
+    CHECK(exch == 1 && observed == 1);
+    CHECK(nmr_result_atom_exchangeable(res, 0, 3, &exch, &observed) == NMR_OK);
+    CHECK(exch == 0 && observed == 1);
+    CHECK(nmr_result_atom_exchangeable(res, 0, 0, &exch, &observed) == NMR_OK); /* a carbon */
+    CHECK(exch == 0 && observed == 1);
+    /* 13C signals: the integral is the number of carbons, never exchangeable. */
+    CHECK(nmr_result_signal_integral(res, 0, NMR_NUCLEUS_13C, 0, &integral) == NMR_OK);
+    CHECK(integral == 1);
+    CHECK(nmr_result_signal_exchangeable(res, 0, NMR_NUCLEUS_13C, 0, &exch) == NMR_OK);
+    CHECK(exch == 0);
+  }
+  nmr_result_free(res);
+  res = NULL;
+
+  /* In D2O the OH proton is exchanged: two signals, integrals 3 and 2. */
+  CHECK(nmr_context_set_option_string(ctx, NMR_OPT_SOLVENT, "D2O") == NMR_OK);
+  CHECK(nmr_predict(&res, ctx, "smiles", "CCO") == NMR_OK);
+  if (res) {
+    CHECK(strcmp(nmr_result_solvent(res, 0), "D2O") == 0);
+    CHECK(nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H) == 2);
+    CHECK(h1_signal_of(res, 3, &integral, &exch) >= 0 && integral == 3);
+    CHECK(h1_signal_of(res, 6, &integral, &exch) >= 0 && integral == 2);
+    CHECK(h1_signal_of(res, 8, &integral, &exch) == -1);
+    CHECK(nmr_result_atom_exchangeable(res, 0, 8, &exch, &observed) == NMR_OK);
+    CHECK(exch == 1 && observed == 0);
+    CHECK(nmr_result_atom_shift(res, 0, 8, &ppm, NULL) == NMR_OK);
+    CHECK(!isnan(ppm)); /* predicted, though not seen */
+    CHECK(nmr_result_record_to_json(res, 0, &json) == NMR_OK);
+    CHECK(json != NULL && strstr(json, "\"1H_exchanged\"") != NULL && strstr(json, "\"D2O\"") != NULL);
+    nmr_string_free(json);
+  }
+  nmr_result_free(res);
+  res = NULL;
+
+  /* Deuterium gives no 1H shift: CD3CH2OH, atoms 3-5 are 2H. */
+  CHECK(nmr_context_set_option_string(ctx, NMR_OPT_SOLVENT, "CDCl3") == NMR_OK);
+  CHECK(nmr_predict(&res, ctx, "smiles", "[2H]C([2H])([2H])CO") == NMR_OK);
+  if (res) {
+    CHECK(nmr_result_atom_shift(res, 0, 3, &ppm, NULL) == NMR_OK);
+    CHECK(isnan(ppm));
+    CHECK(h1_signal_of(res, 3, &integral, &exch) == -1);
+    CHECK(nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H) == 2);
+  }
+  nmr_result_free(res);
+  res = NULL;
+
+  /* 1H off: 13C only. */
+  CHECK(nmr_context_set_option_double(ctx, NMR_OPT_PREDICT_H1, 0.0) == NMR_OK);
+  CHECK(nmr_predict(&res, ctx, "smiles", "CCO") == NMR_OK);
+  if (res) {
+    CHECK(nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H) == 0);
+    CHECK(nmr_result_signal_count(res, 0, NMR_NUCLEUS_13C) == 2);
+    CHECK(nmr_result_atom_shift(res, 0, 3, &ppm, NULL) == NMR_OK);
+    CHECK(isnan(ppm));
+  }
+  nmr_result_free(res);
+  nmr_context_free(ctx);
 }
 
 static void test_batch_with_bad_record(void) {
@@ -491,6 +639,7 @@ int main(void) {
   test_context_failures();
   test_ethanol();
   test_tables_and_blind_mode();
+  test_proton_signals_and_solvents();
   test_batch_with_bad_record();
   if (failures) {
     fprintf(stderr, "%d check(s) failed\n", failures);

@@ -1,4 +1,4 @@
-"""nmrpred: chemically equivalent atoms, HOSE codes and 13C shifts for chemical structures.
+"""nmrpred: chemically equivalent atoms, HOSE codes and 1H/13C shifts for chemical structures.
 
 Quick start::
 
@@ -7,8 +7,11 @@ Quick start::
     p.elements            # ['C', 'C', 'O', 'H', 'H', 'H', 'H', 'H', 'H']
     p.classes             # int64 array, one chemical equivalence class per atom
     p.hose[0]             # HOSE code of atom 0
-    p.shifts[:2]          # 13C shifts of the two carbons, ppm (NaN for other atoms)
+    p.shifts[:2]          # 13C shifts of the two carbons, ppm
+    p.shifts[3:]          # 1H shifts of the protons, ppm (NaN for O and for 2H)
     p.signals["13C"]      # one dict per carbon signal, downfield first
+    p.signals["1H"]       # one dict per proton signal; "count" is the integral
+    nmrpred.predict("CCO", solvent="D2O").signals["1H_exchanged"]  # the OH, not seen in D2O
     print(p.to_json())
 
 The module-level :func:`predict` and :func:`predict_all` use the tables built
@@ -61,6 +64,8 @@ __all__ = [
     "RecordError",
     "predict",
     "predict_all",
+    "solvents",
+    "DEFAULT_SOLVENT",
     "Error",
     "ArgumentError",
     "InputError",
@@ -76,9 +81,12 @@ __version__: str = _core.__version__
 MAX_HOSE_SPHERES: int = _core.max_hose_spheres()
 #: Default number of HOSE code spheres.
 DEFAULT_HOSE_SPHERES: int = _core.default_hose_spheres()
+#: Solvent assumed when none is given.
+DEFAULT_SOLVENT: str = "CDCl3"
 
 Int64Array = npt.NDArray[np.int64]
 Float64Array = npt.NDArray[np.float64]
+BoolArray = npt.NDArray[np.bool_]
 
 
 def _frozen(a: Any) -> Any:
@@ -108,21 +116,35 @@ class Prediction:
         class_count, topological_class_count: numbers of classes.
         hose: HOSE code of each atom.
         shifts: float64 array, predicted chemical shift of each atom in ppm
-            from TMS; NaN for atoms without one (this version predicts 13C:
-            carbons have a value unless ``predict_shifts=False``).
-            Equivalent atoms (one class) have equal values.
+            from TMS: 13C for carbons, 1H for protons (hydrogens other than
+            2H and 3H); NaN for other atoms and when ``predict_shifts=False``
+            (protons also with ``predict_h1=False``). Equivalent atoms (one
+            class) have equal values.
         shift_uncertainties: float64 array, one standard deviation of each
             shift in ppm; NaN where ``shifts`` is NaN.
         shift_methods: how each shift was obtained, in words; None where
             there is no shift.
         shift_references: ids of the reference compounds behind each shift
             (empty list when none, e.g. for values from increment rules).
-        signals: ``{"13C": [signal, ...]}``, one list per predicted nucleus
-            (empty dict when shifts were not predicted). Each signal is a dict
-            with "shift" (ppm), "atoms" (indices of the equivalent atoms),
-            "attached_h" (protons on each of those carbons: 0 C, 1 CH, 2 CH2,
-            3 CH3, as DEPT-style editing tells them apart), "shift_uncertainty"
-            (ppm) and "shift_method". Lists run by decreasing shift.
+        exchangeable: bool array, True for protons on O, N or S, whose
+            position depends on solvent, concentration and temperature.
+        observed: bool array, False for protons the solvent exchanges for
+            deuterium (OH, NH, SH in D2O or CD3OD), which give no signal;
+            True for every other atom.
+        signals: ``{"13C": [...], "1H": [...], "1H_exchanged": [...]}``, one
+            list per predicted nucleus (empty dict when shifts were not
+            predicted), each by decreasing shift, as in the JSON. Each signal
+            is a dict with "shift" (ppm), "atoms" (indices of the equivalent
+            atoms), "shift_uncertainty" (ppm) and "shift_method"; 13C signals
+            add "attached_h" (protons on each of those carbons: 0 C, 1 CH,
+            2 CH2, 3 CH3, as DEPT-style editing tells them apart); 1H signals
+            add "count" (the integral in protons), "exchangeable" and
+            "observed". "1H" holds what a spectrum in the solvent shows;
+            signals of protons exchanged for deuterium are under
+            "1H_exchanged" instead, so the counts of "1H" add up to the
+            spectrum's integrals.
+        solvent: the solvent of the prediction: {"id", "name", "residual_1h"
+            (ppm list), "residual_13c" (ppm list), "water_1h" (ppm)}.
         tables_version: names the table set behind the prediction (store it
             with results; equal names mean equal data).
         warnings: remarks from reading and prediction (never errors).
@@ -147,6 +169,9 @@ class Prediction:
     shift_methods: List[Optional[str]] = field(repr=False)
     shift_references: List[List[str]] = field(repr=False)
     signals: Dict[str, List[Dict[str, Any]]] = field(repr=False)
+    exchangeable: BoolArray = field(repr=False)
+    observed: BoolArray = field(repr=False)
+    solvent: Dict[str, Any] = field(repr=False)
     tables_version: str
     warnings: List[str]
     _record: _core.Record = field(repr=False)
@@ -173,6 +198,9 @@ class Prediction:
             shift_methods=r.shift_methods(),
             shift_references=r.shift_references(),
             signals=r.signals(),
+            exchangeable=_frozen(r.exchangeable()),
+            observed=_frozen(r.observed()),
+            solvent=r.solvent(),
             tables_version=r.tables_version,
             warnings=r.warnings,
             _record=r,
@@ -297,9 +325,13 @@ class Context:
         ``{"atoms": [...], "ppm": [...]}`` (see ``nmrpred reference``)."""
         return [json.loads(text) for text in self._core.reference_json()]
 
+    def solvents(self) -> List[Dict[str, Any]]:
+        """The solvents of the tables (see :func:`nmrpred.solvents`)."""
+        return [json.loads(text) for text in self._core.solvents_json()]
+
     def predict_all(self, text: str, format: str = "auto", spheres: int = DEFAULT_HOSE_SPHERES,
-                    blind: bool = False, predict_shifts: bool = True
-                    ) -> List[Union[Prediction, RecordError]]:
+                    blind: bool = False, predict_shifts: bool = True, solvent: str = DEFAULT_SOLVENT,
+                    predict_h1: bool = True) -> List[Union[Prediction, RecordError]]:
         """Reads every record of ``text`` and predicts each one.
 
         Args:
@@ -312,6 +344,11 @@ class Context:
                 for compounds the tables hold).
             predict_shifts: False gives classes and HOSE codes only (faster);
                 ``shifts`` is then all NaN and ``signals`` empty.
+            solvent: solvent of the sample, a name or alias from
+                :func:`solvents` (case-insensitive), e.g. "CDCl3", "DMSO-d6",
+                "D2O". In D2O and CD3OD protons on O, N and S exchange for
+                deuterium and give no signal.
+            predict_h1: False predicts 13C only.
 
         Returns:
             One item per record, in input order: a :class:`Prediction`, or a
@@ -319,16 +356,22 @@ class Context:
             Empty if the text holds no record.
 
         Raises:
-            ArgumentError: unknown format or spheres out of range.
-            TypeError: text is not a str.
+            ArgumentError: unknown format, spheres out of range, or unknown
+                solvent (the message names the known ones).
+            TablesError: the tables have no usable solvent list.
+            TypeError: text, format or solvent is not a str.
             KeyboardInterrupt: Ctrl-C between records.
         """
         _check_text(text, format)
-        records = self._core.predict_records(text, format, spheres, bool(blind), bool(predict_shifts))
+        if not isinstance(solvent, str):
+            raise TypeError(f"solvent must be str, not {type(solvent).__name__}")
+        records = self._core.predict_records(text, format, spheres, bool(blind), bool(predict_shifts), solvent,
+                                             bool(predict_h1))
         return [_convert(r) for r in records]
 
     def predict(self, text: str, format: str = "auto", spheres: int = DEFAULT_HOSE_SPHERES,
-                blind: bool = False, predict_shifts: bool = True) -> Prediction:
+                blind: bool = False, predict_shifts: bool = True, solvent: str = DEFAULT_SOLVENT,
+                predict_h1: bool = True) -> Prediction:
         """Predicts the one structure in ``text``.
 
         Arguments as for :meth:`predict_all`.
@@ -336,10 +379,12 @@ class Context:
         Raises:
             InputError: the text holds no structure, more than one record, or a
                 structure that cannot be read (the message says why).
-            ArgumentError: unknown format or spheres out of range.
-            TypeError: text is not a str.
+            ArgumentError: unknown format, spheres out of range, or unknown
+                solvent (the message names the known ones).
+            TablesError: the tables have no usable solvent list.
+            TypeError: text, format or solvent is not a str.
         """
-        items = self.predict_all(text, format, spheres, blind, predict_shifts)
+        items = self.predict_all(text, format, spheres, blind, predict_shifts, solvent, predict_h1)
         if not items:
             raise InputError("the text holds no structure (it is empty or only whitespace)")
         if len(items) > 1:
@@ -366,15 +411,28 @@ def _builtin() -> Context:
 
 
 def predict_all(text: str, format: str = "auto", spheres: int = DEFAULT_HOSE_SPHERES,
-                blind: bool = False, predict_shifts: bool = True
-                ) -> List[Union[Prediction, RecordError]]:
+                blind: bool = False, predict_shifts: bool = True, solvent: str = DEFAULT_SOLVENT,
+                predict_h1: bool = True) -> List[Union[Prediction, RecordError]]:
     """:meth:`Context.predict_all` with the tables built into the library."""
     _check_text(text, format)
-    return _builtin().predict_all(text, format, spheres, blind, predict_shifts)
+    return _builtin().predict_all(text, format, spheres, blind, predict_shifts, solvent, predict_h1)
 
 
 def predict(text: str, format: str = "auto", spheres: int = DEFAULT_HOSE_SPHERES,
-            blind: bool = False, predict_shifts: bool = True) -> Prediction:
+            blind: bool = False, predict_shifts: bool = True, solvent: str = DEFAULT_SOLVENT,
+            predict_h1: bool = True) -> Prediction:
     """:meth:`Context.predict` with the tables built into the library."""
     _check_text(text, format)
-    return _builtin().predict(text, format, spheres, blind, predict_shifts)
+    return _builtin().predict(text, format, spheres, blind, predict_shifts, solvent, predict_h1)
+
+
+def solvents() -> List[Dict[str, Any]]:
+    """The NMR solvents the built-in tables know, in table order, as dicts
+    with "id", "name" (usual spelling), "residual_1h" and "residual_13c" (ppm
+    of the residual signals of the deuterated solvent), "water_1h" (ppm of
+    dissolved water), "aliases" (lower-case names accepted as ``solvent``),
+    "exchanges_labile_protons" (True for D2O and CD3OD), "source" (key of
+    tables/SOURCES.md) and "residual_1h_detail" / "residual_13c_detail" (lists
+    of {"shift", "multiplicity", "coupling_hz"}), as ``nmrpred solvents``
+    prints them."""
+    return _builtin().solvents()

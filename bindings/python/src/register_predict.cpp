@@ -15,6 +15,7 @@
 #include <pybind11/stl.h>
 
 #include <nmrpred/predict.hpp>
+#include <nmrpred/solvents.hpp>
 
 #include "register.hpp"
 
@@ -64,27 +65,72 @@ Float64Array per_atom_shift(const RecordPrediction &r, F &&value) {
   return out;
 }
 
-const char *nucleus_label(Nucleus n) { return n == Nucleus::C13 ? "13C" : "1H"; }
+/// One bool per atom of the atom's 1H shift, `otherwise` where it has none.
+template <class F>
+py::array_t<bool> per_atom_flag(const RecordPrediction &r, bool otherwise, F &&value) {
+  const std::size_t n = r.prediction ? r.prediction->molecule.atom_count() : 0;
+  py::array_t<bool> out(static_cast<py::ssize_t>(n));
+  auto w = out.mutable_unchecked<1>();
+  for (std::size_t i = 0; i < n; ++i) {
+    const Shift *s = shift_of(*r.prediction, i);
+    w(static_cast<py::ssize_t>(i)) = s && s->nucleus == Nucleus::H1 ? value(*s) : otherwise;
+  }
+  return out;
+}
 
-/// {"13C": [{"shift", "atoms", "attached_h", "shift_uncertainty", "shift_method"}]}
-/// as in the JSON; a nucleus appears only when it was predicted.
+/// A list of signals with the keys of the JSON (nmrpred/predict.hpp, to_json).
+py::list signal_list(const std::vector<Signal> &signals) {
+  py::list list;
+  for (const Signal &g : signals) {
+    py::dict d;
+    d["shift"] = g.ppm;
+    d["atoms"] = py::cast(std::vector<std::int64_t>(g.atoms.begin(), g.atoms.end()));
+    if (g.nucleus == Nucleus::C13)
+      d["attached_h"] = g.attached_h;
+    else
+      d["count"] = g.count;
+    d["shift_uncertainty"] = g.uncertainty_ppm;
+    if (g.nucleus == Nucleus::H1) {
+      d["exchangeable"] = g.exchangeable;
+      d["observed"] = g.observed;
+    }
+    d["shift_method"] = g.method;
+    list.append(std::move(d));
+  }
+  return list;
+}
+
+/// {"13C": [...], "1H": [...], "1H_exchanged": [...]} as in the JSON; a
+/// nucleus appears only when it was predicted.
 py::dict signals_of(const RecordPrediction &r) {
   py::dict out;
   if (!r.prediction || !r.prediction->options.predict_shifts) return out;
-  for (Nucleus n : {Nucleus::C13}) {
-    py::list list;
-    for (const Signal &g : r.prediction->signals(n)) {
-      py::dict d;
-      d["shift"] = g.ppm;
-      d["atoms"] = py::cast(std::vector<std::int64_t>(g.atoms.begin(), g.atoms.end()));
-      d["attached_h"] = g.attached_h;
-      d["shift_uncertainty"] = g.uncertainty_ppm;
-      d["shift_method"] = g.method;
-      list.append(std::move(d));
-    }
-    out[nucleus_label(n)] = std::move(list);
+  const Prediction &p = *r.prediction;
+  out["13C"] = signal_list(p.c13_signals);
+  if (p.options.predict_h1) {
+    out["1H"] = signal_list(p.h1_signals);
+    out["1H_exchanged"] = signal_list(p.h1_exchanged_signals);
   }
   return out;
+}
+
+std::vector<double> shifts_of(const std::vector<SolventSignal> &list) {
+  std::vector<double> out;
+  for (const auto &s : list) out.push_back(s.shift_ppm);
+  return out;
+}
+
+/// The record's "solvent" object of the JSON, as a dict (None for a failed record).
+py::object solvent_of(const RecordPrediction &r) {
+  if (!r.prediction) return py::none();
+  const Solvent &s = r.prediction->solvent;
+  py::dict d;
+  d["id"] = s.id;
+  d["name"] = s.name;
+  d["residual_1h"] = shifts_of(s.h1_residual);
+  d["residual_13c"] = shifts_of(s.c13);
+  d["water_1h"] = s.water_h1_ppm;
+  return std::move(d);
 }
 
 std::int64_t attached_heavy_atom(const Molecule &m, std::size_t i) {
@@ -132,8 +178,16 @@ class PyContext {
     return out;
   }
 
+  std::vector<std::string> solvents_json() const {
+    py::gil_scoped_release release;
+    std::vector<std::string> out;
+    for (const auto &s : solvents(*tables())) out.push_back(to_json(s));
+    return out;
+  }
+
   std::vector<RecordPrediction> predict_records(const std::string &text, const std::string &format_name,
-                                                int spheres, bool blind, bool predict_shifts) const;
+                                                int spheres, bool blind, bool predict_shifts,
+                                                const std::string &solvent, bool predict_h1) const;
 
  private:
   mutable std::mutex mutex_;
@@ -141,11 +195,14 @@ class PyContext {
 };
 
 std::vector<RecordPrediction> PyContext::predict_records(const std::string &text, const std::string &format_name,
-                                                         int spheres, bool blind, bool predict_shifts) const {
+                                                         int spheres, bool blind, bool predict_shifts,
+                                                         const std::string &solvent, bool predict_h1) const {
   PredictOptions options;
   options.hose_spheres = spheres;
   options.blind = blind;
   options.predict_shifts = predict_shifts;
+  options.solvent = solvent;
+  options.predict_h1 = predict_h1;
   validate(options);
   const Format format = parse_format(format_name);
 
@@ -153,6 +210,9 @@ std::vector<RecordPrediction> PyContext::predict_records(const std::string &text
   std::istringstream in(text);
   py::gil_scoped_release release;
   const std::shared_ptr<const Tables> t = tables();
+  // The solvent needs the tables; checking it before the first record makes
+  // a typo one ArgumentError, not a failure per record.
+  validate(options, *t);
   MoleculeReader reader(in, format);
   ReadRecord r;
   auto last_check = std::chrono::steady_clock::now();
@@ -268,6 +328,11 @@ void register_predict(py::module_ &m) {
              return out;
            })
       .def("signals", &signals_of)
+      .def("exchangeable",
+           [](const RecordPrediction &r) { return per_atom_flag(r, false, [](const Shift &s) { return s.exchangeable; }); })
+      .def("observed",
+           [](const RecordPrediction &r) { return per_atom_flag(r, true, [](const Shift &s) { return s.observed; }); })
+      .def("solvent", &solvent_of)
       .def("elements",
            [](const RecordPrediction &r) {
              std::vector<std::string> out;
@@ -290,8 +355,9 @@ void register_predict(py::module_ &m) {
       .def_property_readonly("tables_version", &PyContext::tables_version)
       .def("add_reference", &PyContext::add_reference, py::arg("text"), py::arg("name"))
       .def("reference_json", &PyContext::reference_json)
+      .def("solvents_json", &PyContext::solvents_json)
       .def("predict_records", &PyContext::predict_records, py::arg("text"), py::arg("format"), py::arg("spheres"),
-           py::arg("blind"), py::arg("predict_shifts"),
+           py::arg("blind"), py::arg("predict_shifts"), py::arg("solvent"), py::arg("predict_h1"),
            "Reads and predicts every record of text; the GIL is released while it works.");
   m.def("max_hose_spheres", [] { return kMaxHoseSpheres; });
   m.def("default_hose_spheres", [] { return kDefaultHoseSpheres; });

@@ -10,7 +10,9 @@ References outside the project:
     memory), kept as the record "toluene" of tables/reference/aromatic.tsv,
     whose rows are counted here from the file text.
   * Common practice: toluene shows five 13C signals; a spectrum is listed
-    downfield first.
+    downfield first; ethanol's 1H signals integrate 3:2:1 (CH3, CH2, OH) and
+    the OH proton exchanges away in D2O.
+  * FULMER-2010 (tables/SOURCES.md): HDO in D2O at 4.79 ppm (from memory).
 Records with "demo-" ids are demo data with invented values, not published.
 """
 
@@ -59,7 +61,8 @@ def test_predict_prints_shifts_signals_and_the_tables_version():
     for a in carbons:
         assert {"shift", "shift_uncertainty", "shift_method", "shift_references"} <= set(a)
         assert "toluene" in a["shift_references"]
-    assert all("shift" not in a for a in rec["atoms"] if a["element"] != "C")
+    assert all("shift" not in a for a in rec["atoms"] if a["element"] not in ("C", "H"))
+    assert all("shift" in a and a["exchangeable"] is False for a in rec["atoms"] if a["element"] == "H")
     assert abs(carbons[0]["shift"] - 21.5) <= 0.01  # GOTTLIEB-1997 toluene CH3
     sig = rec["signals"]["13C"]
     assert len(sig) == 5
@@ -137,3 +140,39 @@ def test_reference_lists_every_record(tmp_path):
     assert len(with_user) == len(recs) + 1
     assert with_user[-1]["id"] == "demo-user-toluene"
     assert with_user[-1]["user"] is True and with_user[-1]["file"] == str(path)
+
+
+def test_solvent_option_moves_the_oh_signal_to_the_exchanged_list():
+    cdcl3 = records(run("predict", "--smiles", "CCO"))[0]
+    assert sorted(g["count"] for g in cdcl3["signals"]["1H"]) == [1, 2, 3]
+    assert cdcl3["solvent"]["name"] == "CDCl3"
+    proc = run("predict", "--solvent", "D2O", "--smiles", "CCO")
+    assert proc.returncode == 0, proc.stderr
+    [rec] = records(proc)
+    assert sorted(g["count"] for g in rec["signals"]["1H"]) == [2, 3]
+    assert [g["atoms"] for g in rec["signals"]["1H_exchanged"]] == [[8]]
+    assert rec["solvent"]["name"] == "D2O"
+    assert rec["solvent"]["water_1h"] == pytest.approx(4.79, abs=0.005)
+
+
+def test_unknown_solvent_exits_2_naming_the_known_ones():
+    proc = run("predict", "--solvent", "chloroform-h", "--smiles", "CCO")
+    assert proc.returncode == 2
+    assert "chloroform-h" in proc.stderr and "CDCl3" in proc.stderr and "DMSO-d6" in proc.stderr
+    assert proc.stdout == ""
+
+
+def test_no_h1_prints_13c_only():
+    [rec] = records(run("predict", "--no-h1", "--smiles", "CCO"))
+    assert list(rec["signals"]) == ["13C"]
+
+
+def test_solvents_lists_the_table():
+    proc = run("solvents")
+    assert proc.returncode == 0, proc.stderr
+    recs = records(proc)
+    lines = [line for line in (REPO_ROOT / "tables" / "solvents.tsv").read_text().splitlines()
+             if line and not line.startswith("#")]
+    assert [r["id"] for r in recs] == [line.split("\t")[0] for line in lines[1:]]
+    for r in recs:
+        assert {"id", "name", "residual_1h", "residual_13c", "water_1h", "aliases"} <= set(r)

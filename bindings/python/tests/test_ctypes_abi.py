@@ -12,6 +12,10 @@ References outside the project:
     toluene has five 13C signals; equivalent carbons resonate together.
   * GOTTLIEB-1997 (tables/SOURCES.md), Table 2: 13C of toluene in CDCl3 (from
     memory), the built-in record "toluene" of tables/reference/aromatic.tsv.
+  * Common practice for 1H: a signal's integral is its number of protons, so
+    the integrals add up to the molecule's proton count (RDKit counts the
+    hydrogens); protons on O, N and S exchange and vanish in D2O or CD3OD;
+    2H gives no 1H signal.
   * The exported-symbol check reads the dynamic symbol table with binutils' nm.
 Records with "demo-" ids are demo data with invented values, not published.
 """
@@ -34,7 +38,7 @@ LIB_PATH = BUILD_DIR / "lib" / "libnmrpred.so"
 HEADER = REPO_ROOT / "capi" / "include" / "nmrpred.h"
 
 NMR_OK, NMR_ERR_ARGUMENT, NMR_ERR_INPUT, NMR_ERR_UNSUPPORTED, NMR_ERR_TABLES = 0, 1, 2, 3, 4
-NMR_OPT_HOSE_SPHERES, NMR_OPT_BLIND, NMR_OPT_PREDICT_SHIFTS = 3, 4, 5
+NMR_OPT_HOSE_SPHERES, NMR_OPT_BLIND, NMR_OPT_PREDICT_SHIFTS, NMR_OPT_PREDICT_H1, NMR_OPT_SOLVENT = 3, 4, 5, 6, 7
 NMR_NUCLEUS_1H, NMR_NUCLEUS_13C = 1, 13
 
 # Demo data (invented values, not published shifts).
@@ -61,6 +65,8 @@ SIGNATURES = {
     "nmr_context_add_reference": (ctypes.c_int, [vp, ctypes.c_char_p]),
     "nmr_context_set_option_double": (ctypes.c_int, [vp, ctypes.c_int, ctypes.c_double]),
     "nmr_context_get_option_double": (ctypes.c_int, [vp, ctypes.c_int, ctypes.POINTER(ctypes.c_double)]),
+    "nmr_context_set_option_string": (ctypes.c_int, [vp, ctypes.c_int, ctypes.c_char_p]),
+    "nmr_context_get_option_string": (ctypes.c_int, [vp, ctypes.c_int, c_char_pp]),
     "nmr_predict": (ctypes.c_int, [vpp, vp, ctypes.c_char_p, ctypes.c_char_p]),
     "nmr_result_free": (None, [vp]),
     "nmr_result_tables_version": (ctypes.c_char_p, [vp]),
@@ -88,11 +94,16 @@ SIGNATURES = {
     "nmr_result_atom_shift_reference_count": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_size_p]),
     "nmr_result_atom_shift_reference": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, ctypes.c_size_t,
                                                        c_char_pp]),
+    "nmr_result_atom_exchangeable": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_int_p, c_int_p]),
+    "nmr_result_solvent": (ctypes.c_char_p, [vp, ctypes.c_size_t]),
     "nmr_result_signal_count": (ctypes.c_size_t, [vp, ctypes.c_size_t, ctypes.c_int]),
     "nmr_result_signal_shift": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t, c_double_p,
                                                c_double_p]),
     "nmr_result_signal_attached_h": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t, c_int_p]),
     "nmr_result_signal_method": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t, c_char_pp]),
+    "nmr_result_signal_integral": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t, c_int_p]),
+    "nmr_result_signal_exchangeable": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t,
+                                                      c_int_p]),
     "nmr_result_signal_atom_count": (ctypes.c_size_t, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t]),
     "nmr_result_signal_atom": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t, ctypes.c_size_t,
                                               c_size_p]),
@@ -310,6 +321,7 @@ def atom_shift(lib, res, rec, i):
 
 
 def signals(lib, res, rec, nucleus=NMR_NUCLEUS_13C):
+    """The signals of one nucleus through the accessors, with the keys of the JSON."""
     out = []
     for k in range(lib.nmr_result_signal_count(res, rec, nucleus)):
         ppm, unc = ctypes.c_double(), ctypes.c_double()
@@ -318,14 +330,31 @@ def signals(lib, res, rec, nucleus=NMR_NUCLEUS_13C):
         assert lib.nmr_result_signal_attached_h(res, rec, nucleus, k, ctypes.byref(h)) == NMR_OK
         method = ctypes.c_char_p()
         assert lib.nmr_result_signal_method(res, rec, nucleus, k, ctypes.byref(method)) == NMR_OK
+        count, exch = ctypes.c_int(), ctypes.c_int()
+        assert lib.nmr_result_signal_integral(res, rec, nucleus, k, ctypes.byref(count)) == NMR_OK
+        assert lib.nmr_result_signal_exchangeable(res, rec, nucleus, k, ctypes.byref(exch)) == NMR_OK
         atoms = []
         for i in range(lib.nmr_result_signal_atom_count(res, rec, nucleus, k)):
             a = ctypes.c_size_t()
             assert lib.nmr_result_signal_atom(res, rec, nucleus, k, i, ctypes.byref(a)) == NMR_OK
             atoms.append(a.value)
-        out.append({"shift": ppm.value, "atoms": atoms, "attached_h": h.value,
-                    "shift_uncertainty": unc.value, "shift_method": method.value.decode()})
+        assert count.value == len(atoms)
+        if nucleus == NMR_NUCLEUS_13C:
+            assert exch.value == 0
+            out.append({"shift": ppm.value, "atoms": atoms, "attached_h": h.value,
+                        "shift_uncertainty": unc.value, "shift_method": method.value.decode()})
+        else:
+            assert h.value == 0
+            out.append({"shift": ppm.value, "atoms": atoms, "count": count.value,
+                        "shift_uncertainty": unc.value, "exchangeable": bool(exch.value),
+                        "observed": True, "shift_method": method.value.decode()})
     return out
+
+
+def atom_exchange(lib, res, rec, i):
+    exch, observed = ctypes.c_int(-1), ctypes.c_int(-1)
+    assert lib.nmr_result_atom_exchangeable(res, rec, i, ctypes.byref(exch), ctypes.byref(observed)) == NMR_OK
+    return bool(exch.value), bool(observed.value)
 
 
 def record_json(lib, res, rec):
@@ -349,11 +378,14 @@ def test_shift_and_signal_accessors_agree_with_the_json_and_rdkit(lib, ctx, smil
         assert rec["tables_version"] == lib.nmr_result_tables_version(res).decode()
         assert rec["tables_version"] == lib.nmr_context_tables_version(ctx).decode()
         for i, (atom, s) in enumerate(zip(rec["atoms"], shifts)):
-            if atom["element"] == "C":
+            proton = atom["element"] == "H" and atom["isotope"] in (None, 1)
+            if atom["element"] == "C" or proton:
                 assert not math.isnan(s["ppm"]) and s["uncertainty"] > 0, i
                 assert atom["shift"] == s["ppm"] and atom["shift_uncertainty"] == s["uncertainty"]
                 assert atom["shift_method"] == s["method"] and s["method"]
                 assert atom["shift_references"] == s["references"]
+                if proton:
+                    assert (atom["exchangeable"], atom["observed"]) == atom_exchange(lib, res, 0, i)
             else:
                 assert math.isnan(s["ppm"]) and math.isnan(s["uncertainty"]), i
                 assert s["method"] == "" and s["references"] == []
@@ -371,7 +403,15 @@ def test_shift_and_signal_accessors_agree_with_the_json_and_rdkit(lib, ctx, smil
             # RDKit's hydrogen count of the carbon (source: RDKit GetTotalNumHs).
             assert g["attached_h"] == mol.GetAtomWithIdx(g["atoms"][0]).GetTotalNumHs()
         assert len({classes[i] for i in carbons}) == len(sig)
-        assert lib.nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H) == 0
+        # 1H: one signal per class of protons; integrals add up to RDKit's
+        # hydrogen count (CDCl3 exchanges nothing, so every proton is seen).
+        h1 = signals(lib, res, 0, NMR_NUCLEUS_1H)
+        assert h1 == rec["signals"]["1H"]
+        assert rec["signals"]["1H_exchanged"] == []
+        assert sum(g["count"] for g in h1) == sum(a.GetTotalNumHs() for a in mol.GetAtoms())
+        protons = [i for i, a in enumerate(rec["atoms"]) if a["element"] == "H"]
+        assert sorted(i for g in h1 for i in g["atoms"]) == protons
+        assert len({classes[i] for i in protons}) == len(h1)
         assert lib.nmr_result_signal_count(res, 0, 99) == 0
     finally:
         lib.nmr_result_free(res)
@@ -426,9 +466,11 @@ def test_shifts_off_keeps_the_rest(lib, ctx):
         a, b = record_json(lib, with_shifts, 0), record_json(lib, without, 0)
         assert b["signals"] == {} and len(a["signals"]["13C"]) == 4
         assert all("shift" not in atom for atom in b["atoms"])
-        strip = [{k: v for k, v in atom.items() if not k.startswith("shift")} for atom in a["atoms"]]
+        strip = [{k: v for k, v in atom.items() if not k.startswith("shift") and k not in ("exchangeable", "observed")}
+                 for atom in a["atoms"]]
         assert strip == b["atoms"]
         assert lib.nmr_result_signal_count(without, 0, NMR_NUCLEUS_13C) == 0
+        assert lib.nmr_result_signal_count(without, 0, NMR_NUCLEUS_1H) == 0
         assert math.isnan(atom_shift(lib, without, 0, 0)["ppm"])
     finally:
         lib.nmr_result_free(with_shifts)
@@ -512,3 +554,80 @@ def test_contexts_in_parallel_threads_give_the_sequential_results(lib):
     for t in threads:
         t.join()
     assert got == expected
+
+
+def test_solvent_option_is_text_checked_against_the_tables(lib, ctx):
+    value = ctypes.c_char_p()
+    assert lib.nmr_context_get_option_string(ctx, NMR_OPT_SOLVENT, ctypes.byref(value)) == NMR_OK
+    assert value.value.decode() == "CDCl3"
+    assert lib.nmr_context_set_option_string(ctx, NMR_OPT_SOLVENT, b"chloroform-h") == NMR_ERR_ARGUMENT
+    message = last_error(lib, ctx)
+    assert "chloroform-h" in message and "CDCl3" in message and "D2O" in message
+    assert lib.nmr_context_set_option_string(ctx, 4711, b"D2O") == NMR_ERR_UNSUPPORTED
+    assert "4711" in last_error(lib, ctx)
+    assert lib.nmr_context_set_option_string(ctx, NMR_OPT_BLIND, b"1") == NMR_ERR_UNSUPPORTED
+    assert lib.nmr_context_set_option_double(ctx, NMR_OPT_SOLVENT, 1.0) == NMR_ERR_UNSUPPORTED
+    assert "nmr_context_set_option_string" in last_error(lib, ctx)
+    assert lib.nmr_context_set_option_string(ctx, NMR_OPT_SOLVENT, None) == NMR_ERR_ARGUMENT
+    assert lib.nmr_context_set_option_string(ctx, NMR_OPT_SOLVENT, b"heavy water") == NMR_OK
+    assert lib.nmr_context_get_option_string(ctx, NMR_OPT_SOLVENT, ctypes.byref(value)) == NMR_OK
+    assert value.value.decode() == "D2O"
+
+
+@pytest.mark.parametrize("solvent, oh_seen", [("CDCl3", True), ("DMSO-d6", True), ("D2O", False), ("CD3OD", False)])
+def test_ethanol_proton_signals_by_solvent(lib, ctx, solvent, oh_seen):
+    """Common practice: CH3 3, CH2 2, OH 1; the OH exchanges away in D2O and CD3OD."""
+    assert lib.nmr_context_set_option_string(ctx, NMR_OPT_SOLVENT, solvent.encode()) == NMR_OK
+    rc, res = predict(lib, ctx, "CCO", "smiles")
+    assert rc == NMR_OK, last_error(lib, ctx)
+    try:
+        assert lib.nmr_result_solvent(res, 0).decode() == solvent
+        h1 = signals(lib, res, 0, NMR_NUCLEUS_1H)
+        rec = record_json(lib, res, 0)
+        assert h1 == rec["signals"]["1H"]
+        assert [g["shift"] for g in h1] == sorted((g["shift"] for g in h1), reverse=True)
+        by_heavy = {rec["atoms"][g["atoms"][0]]["attached_to"]: g for g in h1}
+        assert by_heavy[0]["count"] == 3 and by_heavy[1]["count"] == 2
+        assert not by_heavy[0]["exchangeable"] and not by_heavy[1]["exchangeable"]
+        assert (2 in by_heavy) == oh_seen
+        assert atom_exchange(lib, res, 0, 8) == (True, oh_seen)
+        if oh_seen:
+            assert by_heavy[2]["count"] == 1 and by_heavy[2]["exchangeable"]
+            assert rec["signals"]["1H_exchanged"] == []
+        else:
+            [oh] = rec["signals"]["1H_exchanged"]
+            assert oh["atoms"] == [8] and oh["count"] == 1 and oh["observed"] is False
+        assert rec["solvent"]["name"] == solvent
+    finally:
+        lib.nmr_result_free(res)
+
+
+def test_deuterium_gives_no_proton_signal(lib, ctx):
+    rc, res = predict(lib, ctx, "[2H]C([2H])([2H])CO", "smiles")
+    assert rc == NMR_OK, last_error(lib, ctx)
+    try:
+        rec = record_json(lib, res, 0)
+        deuterium = [i for i, a in enumerate(rec["atoms"]) if a["isotope"] == 2]
+        assert len(deuterium) == 3
+        for i in deuterium:
+            assert math.isnan(atom_shift(lib, res, 0, i)["ppm"])
+        h1 = signals(lib, res, 0, NMR_NUCLEUS_1H)
+        assert not set(deuterium) & {i for g in h1 for i in g["atoms"]}
+        assert sorted(g["count"] for g in h1) == [1, 2]
+    finally:
+        lib.nmr_result_free(res)
+
+
+def test_predict_h1_off_gives_13c_only(lib, ctx):
+    value = ctypes.c_double()
+    assert lib.nmr_context_get_option_double(ctx, NMR_OPT_PREDICT_H1, ctypes.byref(value)) == NMR_OK
+    assert value.value == 1.0
+    assert lib.nmr_context_set_option_double(ctx, NMR_OPT_PREDICT_H1, 0.0) == NMR_OK
+    rc, res = predict(lib, ctx, "CCO", "smiles")
+    assert rc == NMR_OK
+    try:
+        assert lib.nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H) == 0
+        assert lib.nmr_result_signal_count(res, 0, NMR_NUCLEUS_13C) == 2
+        assert list(record_json(lib, res, 0)["signals"]) == ["13C"]
+    finally:
+        lib.nmr_result_free(res)

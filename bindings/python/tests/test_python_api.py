@@ -22,6 +22,13 @@ References outside the project, named beside each check:
     memory), kept as the built-in record "toluene" in
     tables/reference/aromatic.tsv (read here as text, independently of the
     library's parser).
+  * Common practice for 1H spectra: a signal's integral is its number of
+    protons (CH3 3, CH2 2, OH 1), so the integrals add up to the proton count
+    (RDKit counts the hydrogens); protons on O, N and S exchange and vanish
+    in D2O or CD3OD; 2H gives no 1H signal; diastereotopic protons give
+    separate signals.
+  * FULMER-2010 (tables/SOURCES.md): residual CHCl3 7.26 ppm, CDCl3 77.16 ppm,
+    water in CDCl3 1.56 ppm, HDO in D2O 4.79 ppm (from memory).
 Records with "demo-" ids are demo data with invented values, not published.
 """
 
@@ -360,10 +367,17 @@ def test_shift_arrays_are_read_only_float64_with_nan_for_atoms_without_a_shift()
         assert isinstance(a, np.ndarray) and a.dtype == np.float64 and a.shape == (p.atom_count,), name
         with pytest.raises(ValueError):
             a[0] = 1.0
-    carbon = np.array([e == "C" for e in p.elements])
+    # Carbons have a 13C shift and protons a 1H shift; the oxygens have none.
+    carbon = np.array([e in ("C", "H") for e in p.elements])
     assert not np.any(np.isnan(p.shifts[carbon])) and np.all(p.shift_uncertainties[carbon] > 0)
     assert np.all(np.isnan(p.shifts[~carbon])) and np.all(np.isnan(p.shift_uncertainties[~carbon]))
     assert len(p.shift_methods) == len(p.shift_references) == p.atom_count
+    for name in ("exchangeable", "observed"):
+        a = getattr(p, name)
+        assert isinstance(a, np.ndarray) and a.dtype == np.bool_ and a.shape == (p.atom_count,), name
+        with pytest.raises(ValueError):
+            a[0] = True
+    assert not np.any(p.exchangeable) and np.all(p.observed)  # ethyl acetate has no OH/NH
     for i in range(p.atom_count):
         if carbon[i]:
             assert isinstance(p.shift_methods[i], str) and p.shift_methods[i]
@@ -392,7 +406,7 @@ def test_signals_group_equivalent_carbons_downfield_first(smiles):
     mol_h = rdkit_with_h(smiles)
     rd_heavy = [a.GetIdx() for a in mol_h.GetAtoms() if a.GetAtomicNum() != 1]
     sig = p.signals["13C"]
-    assert list(p.signals) == ["13C"]
+    assert list(p.signals) == ["13C", "1H", "1H_exchanged"]
     assert [g["shift"] for g in sig] == sorted((g["shift"] for g in sig), reverse=True)
     carbons = [i for i, e in enumerate(p.elements) if e == "C"]
     assert sorted(i for g in sig for i in g["atoms"]) == carbons
@@ -558,3 +572,116 @@ def test_parallel_calls_give_the_sequential_results():
     for e, g in zip(expected, got):
         assert g is not None
         assert g.to_json() == e.to_json()
+
+
+# ---------------------------------------------------------- 1H and solvents
+
+
+def proton_signal_by_heavy_atom(p):
+    return {int(p.attached_to[g["atoms"][0]]): g for g in p.signals["1H"]}
+
+
+def test_ethanol_proton_signals_in_cdcl3():
+    """Common practice: CH3 3, CH2 2, OH 1 (exchangeable)."""
+    p = nmrpred.predict("CCO")
+    sig = p.signals["1H"]
+    assert [g["shift"] for g in sig] == sorted((g["shift"] for g in sig), reverse=True)
+    by_heavy = proton_signal_by_heavy_atom(p)
+    assert {a: g["count"] for a, g in by_heavy.items()} == {0: 3, 1: 2, 2: 1}
+    assert {a: g["exchangeable"] for a, g in by_heavy.items()} == {0: False, 1: False, 2: True}
+    assert p.signals["1H_exchanged"] == []
+    protons = [i for i, e in enumerate(p.elements) if e == "H"]
+    assert not np.any(np.isnan(p.shifts[protons]))
+    assert [int(i) for i in np.flatnonzero(p.exchangeable)] == [8]
+    assert np.all(p.observed)
+    assert p.solvent["name"] == "CDCl3"
+    # FULMER-2010 (from memory)
+    assert p.solvent["residual_1h"] == pytest.approx([7.26], abs=0.005)
+    assert p.solvent["residual_13c"] == pytest.approx([77.16], abs=0.005)
+    assert p.solvent["water_1h"] == pytest.approx(1.56, abs=0.005)
+    assert json.loads(p.to_json())["solvent"] == p.solvent
+    assert json.loads(p.to_json())["signals"] == p.signals
+
+
+@pytest.mark.parametrize("solvent", ["D2O", "d2o", "CD3OD", "methanol-d4"])
+def test_in_exchanging_solvents_the_oh_signal_is_listed_apart(solvent):
+    """Common practice: the OH proton exchanges for deuterium and is not seen."""
+    p = nmrpred.predict("CCO", solvent=solvent)
+    by_heavy = proton_signal_by_heavy_atom(p)
+    assert {a: g["count"] for a, g in by_heavy.items()} == {0: 3, 1: 2}
+    [oh] = p.signals["1H_exchanged"]
+    assert oh["atoms"] == [8] and oh["count"] == 1 and oh["exchangeable"] and not oh["observed"]
+    assert bool(p.exchangeable[8]) and not bool(p.observed[8])
+    assert not np.isnan(p.shifts[8])
+    assert p.solvent["name"] in ("D2O", "CD3OD")
+
+
+def test_integrals_add_up_to_the_proton_count_rdkit_gives():
+    for smiles in ("CC(=O)Nc1ccc(O)cc1", "CCN(CC)CC", "OC(=O)CC(O)(CC(=O)O)C(=O)O", "c1ccncc1"):
+        p = nmrpred.predict(smiles)
+        protons = sum(a.GetTotalNumHs() for a in Chem.MolFromSmiles(smiles).GetAtoms())  # source: RDKit
+        assert sum(g["count"] for g in p.signals["1H"]) == protons, smiles
+        classes = {int(p.classes[i]) for g in p.signals["1H"] for i in g["atoms"]}
+        assert len(classes) == len(p.signals["1H"]), smiles
+
+
+def test_deuterated_positions_give_no_proton_signal():
+    p = nmrpred.predict("[2H]C([2H])([2H])CO")
+    deuterium = [i for i in range(p.atom_count) if p.isotopes[i] == 2]
+    assert len(deuterium) == 3
+    assert np.all(np.isnan(p.shifts[deuterium]))
+    assert not set(deuterium) & {i for g in p.signals["1H"] for i in g["atoms"]}
+    assert sorted(g["count"] for g in p.signals["1H"]) == [1, 2]
+
+
+def test_diastereotopic_protons_are_two_signals():
+    """Common practice: the CH2 protons of butan-2-ol are diastereotopic."""
+    p = nmrpred.predict("CC(O)CC")
+    ch2 = [i for i in range(p.atom_count) if p.attached_to[i] == 3]
+    holding = [[k for k, g in enumerate(p.signals["1H"]) if h in g["atoms"]] for h in ch2]
+    assert len(holding[0]) == 1 and len(holding[1]) == 1 and holding[0] != holding[1]
+    assert sum(g["count"] for g in p.signals["1H"]) == 10
+
+
+def test_unknown_solvent_is_an_argument_error_naming_the_known_ones():
+    for call in (lambda: nmrpred.predict("CCO", solvent="chloroform-h"),
+                 lambda: nmrpred.predict_all("CCO\nCC\n", solvent="chloroform-h"),
+                 lambda: nmrpred.Context().predict("CCO", solvent="chloroform-h")):
+        with pytest.raises(nmrpred.ArgumentError) as info:
+            call()
+        assert "chloroform-h" in info.value.message
+        assert "CDCl3" in info.value.message and "D2O" in info.value.message
+    with pytest.raises(TypeError):
+        nmrpred.predict("CCO", solvent=None)
+
+
+def test_predict_h1_false_gives_13c_only():
+    p = nmrpred.predict("CCO", predict_h1=False)
+    assert list(p.signals) == ["13C"]
+    assert np.all(np.isnan(p.shifts[3:])) and not np.any(np.isnan(p.shifts[:2]))
+
+
+def test_solvents_lists_the_table():
+    """Read against tables/solvents.tsv as plain text."""
+    rows = []
+    lines = [line for line in (REPO_ROOT / "tables" / "solvents.tsv").read_text().splitlines()
+             if line and not line.startswith("#")]
+    header = lines[0].split("\t")
+    for line in lines[1:]:
+        rows.append(dict(zip(header, line.split("\t"))))
+    got = nmrpred.solvents()
+    assert [s["name"] for s in got] == [r["name"] for r in rows]
+    for s, r in zip(got, rows):
+        assert s["id"] == r["id"]
+        assert s["residual_1h"] == [float(v) for v in r["h1_residual_ppm"].split(";")]
+        want_13c = [] if r["c13_ppm"] == "-" else [float(v) for v in r["c13_ppm"].split(";")]
+        assert s["residual_13c"] == want_13c
+        assert s["water_1h"] == float(r["water_h1_ppm"])
+        assert [d["shift"] for d in s["residual_1h_detail"]] == s["residual_1h"]
+    d2o = next(s for s in got if s["name"] == "D2O")
+    assert d2o["exchanges_labile_protons"] is True
+    assert nmrpred.Context().solvents() == got
+    # Every listed name and alias is accepted as solvent=.
+    for s in got:
+        for name in [s["name"]] + s["aliases"]:
+            assert nmrpred.predict("C", solvent=name).solvent["name"] == s["name"]

@@ -30,6 +30,7 @@
 #include <nmrpred/io.hpp>
 #include <nmrpred/molecule.hpp>
 #include <nmrpred/shifts.hpp>
+#include <nmrpred/solvents.hpp>
 #include <nmrpred/tables.hpp>
 #include <nmrpred/version.hpp>
 
@@ -46,15 +47,31 @@ struct PredictOptions {
   bool blind = false;
   /// Predict chemical shifts. Off: classes and HOSE codes only (the stages
   /// before shift prediction), for callers that need nothing else and want
-  /// the speed; Prediction::c13 and c13_signals stay empty.
+  /// the speed; every shift and signal list of Prediction stays empty (both
+  /// nuclei, whatever predict_h1 says).
   bool predict_shifts = true;
+  /// Solvent of the sample: a name, id or alias of tables/solvents.tsv
+  /// (find_solvent(), case-insensitive). It decides whether exchangeable
+  /// protons (OH, NH, SH) are seen (they are not in D2O and CD3OD) and which
+  /// residual solvent signals a record lists.
+  std::string solvent = "CDCl3";
+  /// Predict 1H shifts and signals too (only when predict_shifts is on).
+  /// Off: 13C only, as before 1H prediction existed.
+  bool predict_h1 = true;
 };
 
-/// Throws ArgumentError naming the member if `options` is out of range.
+/// Throws ArgumentError naming the member if `options` is out of range. Checks
+/// what needs no tables (the solvent name is checked by the overload below).
 NMRPRED_API void validate(const PredictOptions &options);
 
+/// As above, and also checks the solvent against `tables`: ArgumentError
+/// naming the known solvents when it is not one of them, TablesError when the
+/// tables have no usable solvents.tsv. Returns the solvent. Thread rule: pure.
+NMRPRED_API Solvent validate(const PredictOptions &options, const Tables &tables);
+
 /// One line of a predicted spectrum: the atoms of one chemical equivalence
-/// class of one nucleus, which resonate together. Plain value.
+/// class of one nucleus, which resonate together. Plain value; members are
+/// only ever appended.
 struct Signal {
   Nucleus nucleus = Nucleus::C13;  ///< nucleus of the atoms
   double ppm = 0;              ///< chemical shift, ppm from TMS (shared by every atom of the class)
@@ -66,9 +83,19 @@ struct Signal {
   /// methane), the number DEPT-style editing tells apart. 0 for other nuclei.
   int attached_h = 0;
   std::string method;  ///< how the shift was obtained (Shift::method of the atoms)
+  /// Nuclei the signal stands for: the number of atoms. For 1H this is the
+  /// integral in protons (common practice: a 1H integral is proportional to
+  /// the number of protons resonating there).
+  int count = 0;
+  /// 1H: the protons sit on O, N or S and exchange (Shift::exchangeable).
+  bool exchangeable = false;
+  /// 1H: false when the protons are exchanged for deuterium by the solvent
+  /// (Shift::observed) and so give no signal.
+  bool observed = true;
   friend bool operator==(const Signal &a, const Signal &b) {
     return a.nucleus == b.nucleus && a.ppm == b.ppm && a.uncertainty_ppm == b.uncertainty_ppm &&
-           a.atoms == b.atoms && a.attached_h == b.attached_h && a.method == b.method;
+           a.atoms == b.atoms && a.attached_h == b.attached_h && a.method == b.method && a.count == b.count &&
+           a.exchangeable == b.exchangeable && a.observed == b.observed;
   }
 };
 
@@ -76,7 +103,9 @@ struct Signal {
 /// of `classes`, sorted by decreasing shift (spectra are read downfield first;
 /// ties by lowest atom index). `shifts` must come from the same molecule and
 /// classes (for example predict_c13); equivalent atoms carry equal shifts there,
-/// so each signal takes the values of its lowest-indexed atom. Throws
+/// so each signal takes the values of its lowest-indexed atom (including
+/// Shift::exchangeable and Shift::observed). Signals of unobserved protons are
+/// included; callers split them off (Prediction keeps them apart). Throws
 /// ArgumentError if a shift names an atom outside `molecule` or `classes`
 /// belongs to another molecule. Thread rule: pure.
 NMRPRED_API std::vector<Signal> group_signals(const Molecule &molecule, const AtomClasses &classes,
@@ -95,6 +124,23 @@ struct Prediction {
   /// The 13C signals (group_signals of c13), by decreasing shift; empty when
   /// shifts were not predicted.
   std::vector<Signal> c13_signals;
+  /// 1H shift of every proton (hydrogen with isotope 0 or 1; deuterium and
+  /// tritium have none), ascending by atom (predict_h1); empty when
+  /// predict_shifts or predict_h1 is off. Exchanged protons are included,
+  /// with Shift::observed false.
+  std::vector<Shift> h1;
+  /// The 1H signals a spectrum in the solvent shows, one per chemical class of
+  /// observed protons, by decreasing shift; Signal::count is the integral.
+  /// Diastereotopic protons are separate classes and so separate signals, even
+  /// where their predicted values coincide.
+  std::vector<Signal> h1_signals;
+  /// Signals of protons the solvent exchanges for deuterium (OH, NH, SH in
+  /// D2O or CD3OD): predicted but not seen, kept apart so that the integrals
+  /// of h1_signals add up to what the spectrum shows. Empty in other solvents.
+  std::vector<Signal> h1_exchanged_signals;
+  /// The solvent of PredictOptions::solvent as the tables describe it
+  /// (residual and water signals, for drawing or setting them aside).
+  Solvent solvent;
   /// Tables::version() of the tables that produced this prediction.
   std::string tables_version;
   /// The options that produced this prediction.
@@ -105,16 +151,18 @@ struct Prediction {
   std::vector<std::string> warnings;
 
   /// The predicted shift of `atom` for `nucleus`, or null if there is none (the
-  /// atom is not of that nucleus's element, shifts were not predicted, or the
-  /// nucleus is not predicted yet: this version predicts 13C only). Borrowed:
-  /// valid while this Prediction is unchanged. Never throws.
+  /// atom is not of that nucleus's element, is deuterium or tritium, or the
+  /// nucleus was not predicted). Borrowed: valid while this Prediction is
+  /// unchanged. Never throws.
   NMRPRED_API const Shift *shift(std::size_t atom, Nucleus nucleus) const noexcept;
-  /// The signals of `nucleus` (empty if it was not predicted). Never throws.
+  /// The signals of `nucleus` a spectrum shows (c13_signals, h1_signals;
+  /// empty if the nucleus was not predicted). Never throws.
   NMRPRED_API const std::vector<Signal> &signals(Nucleus nucleus) const noexcept;
 };
 
 /// Runs every stage on `molecule` with the data of `tables`. Throws
-/// ArgumentError for bad options and whatever the stages throw (InputError for
+/// ArgumentError for bad options (an unknown solvent among them), TablesError
+/// when the tables lack a usable solvents.tsv, and whatever the stages throw (InputError for
 /// a graph they cannot handle). The result copies what it needs from `tables`
 /// (version, reference ids), so it may outlive them.
 NMRPRED_API Prediction predict(const Molecule &molecule, const Tables &tables, const PredictOptions &options = {});
@@ -140,19 +188,21 @@ struct RecordPrediction {
   }
 };
 
-/// Runs every stage on one record from MoleculeReader or read_records. Never
-/// throws nmrpred::Error: a failure of the record, whether from reading or a
-/// later stage, becomes its status and message. A failure that is a library bug
-/// (any other std::exception) is recorded as Status::Internal so the batch goes
-/// on. Throws ArgumentError only for bad `options` (checked before anything
-/// else) and std::bad_alloc when memory runs out.
+/// Runs every stage on one record from MoleculeReader or read_records. A
+/// failure of the record, whether from reading or a later stage, becomes its
+/// status and message. A failure that is a library bug (any other
+/// std::exception) is recorded as Status::Internal so the batch goes on.
+/// Throws only what concerns the whole call, checked before anything else:
+/// ArgumentError for bad `options` (an unknown solvent among them),
+/// TablesError when the tables lack a usable solvents.tsv; and std::bad_alloc
+/// when memory runs out.
 NMRPRED_API RecordPrediction predict_record(ReadRecord record, const Tables &tables,
                                             const PredictOptions &options = {});
 
 /// Reads every record of `text` (in `format`; Format::Auto recognises it) and
 /// predicts each one with the data of `tables`. Records that fail keep their
 /// place in the output with their status and message. Throws ArgumentError for
-/// bad options; an input with no record at all gives an empty vector (callers
+/// bad options and TablesError as predict_record does; an input with no record at all gives an empty vector (callers
 /// decide whether that is an error).
 NMRPRED_API std::vector<RecordPrediction> predict_all(std::string_view text, Format format, const Tables &tables,
                                                       const PredictOptions &options = {});
@@ -167,18 +217,34 @@ struct JsonOptions {
 ///   {"record", "title", "tables_version",
 ///    "atoms": [{"index", "element", "isotope", "charge", "attached_to",
 ///               "class", "topological_class", "hose",
-///               "shift", "shift_uncertainty", "shift_method", "shift_references"}, ...],
+///               "shift", "shift_uncertainty", "shift_method", "shift_references",
+///               "exchangeable", "observed"}, ...],
 ///    "signals": {"13C": [{"shift", "atoms", "attached_h", "shift_uncertainty",
-///                         "shift_method"}, ...]},
+///                         "shift_method"}, ...],
+///                "1H": [{"shift", "atoms", "count", "shift_uncertainty",
+///                        "exchangeable", "observed", "shift_method"}, ...],
+///                "1H_exchanged": [same keys as "1H"]},
+///    "solvent": {"id", "name", "residual_1h": [ppm, ...], "residual_13c": [ppm, ...],
+///                "water_1h": ppm},
 ///    "warnings",
 ///    "counts": {"atoms", "heavy_atoms", "classes", "topological_classes"}}
 /// with "isotope" the mass number or null (natural abundance), "attached_to" the
 /// heavy atom a hydrogen is bonded to or null. The four "shift*" keys (ppm from
 /// TMS, one standard deviation in ppm, the method in words, ids of the
 /// reference compounds behind the value) appear only on atoms that have a
-/// predicted shift (in this version carbons, when shifts were predicted).
-/// "signals" holds one list per predicted nucleus (none when shifts were not
-/// predicted), each sorted by decreasing shift (see Signal). A failed record is
+/// predicted shift: carbons (13C) and protons (1H; not 2H or 3H) when that
+/// nucleus was predicted. Protons with a shift also carry "exchangeable"
+/// (bonded to O, N or S) and "observed" (false when the solvent exchanges them
+/// for deuterium). "signals" holds one list per predicted nucleus (none when
+/// shifts were not predicted), each sorted by decreasing shift (see Signal).
+/// "1H" lists what a spectrum in the solvent shows, one entry per chemical
+/// class of protons, "count" being the integral in protons; protons exchanged
+/// for deuterium (OH, NH, SH in D2O or CD3OD) are left out of "1H" and listed
+/// under "1H_exchanged" (present, maybe empty, whenever "1H" is), so that the
+/// counts of "1H" add up to the integrals a spectrum shows. Deuterated
+/// positions give no entry at all. "solvent" describes PredictOptions::solvent:
+/// its residual 1H and 13C signals and dissolved water (ppm from TMS), so that
+/// later stages can draw or ignore them. A failed record is
 ///   {"record", "error": {"code", "name", "message"}}
 /// with "code" the C status number and "name" its NMR_ERR_* constant. Keys are
 /// only ever added. Text that is not valid UTF-8 (titles) has the bad bytes
@@ -196,6 +262,16 @@ NMRPRED_API std::string to_json(const std::vector<RecordPrediction> &records, co
 /// diastereotopic proton pair on one atom, or an unassigned pair of two atoms;
 /// see tables/FORMAT.md). Throws only std::bad_alloc.
 NMRPRED_API std::string to_json(const ReferenceCompound &compound, const JsonOptions &options = {});
+
+/// Serializes one solvent of solvents(tables) as
+///   {"id", "name", "residual_1h": [ppm, ...], "residual_13c": [ppm, ...], "water_1h",
+///    "aliases", "exchanges_labile_protons", "source",
+///    "residual_1h_detail": [{"shift", "multiplicity", "coupling_hz"}, ...],
+///    "residual_13c_detail": [same]}
+/// with shifts in ppm from TMS and "coupling_hz" null where the table gives
+/// none. The first keys mean what they mean in a record's "solvent". Throws
+/// only std::bad_alloc.
+NMRPRED_API std::string to_json(const Solvent &solvent, const JsonOptions &options = {});
 
 /// Name of the C constant for a status ("NMR_OK", "NMR_ERR_INPUT", ...), as used
 /// in the JSON "name" key. Static text; never null.

@@ -47,6 +47,10 @@ void add_shift(Json &atom, const Shift &s) {
   atom["shift_uncertainty"] = s.uncertainty_ppm;
   atom["shift_method"] = s.method;
   atom["shift_references"] = s.references;
+  if (s.nucleus == Nucleus::H1) {
+    atom["exchangeable"] = s.exchangeable;
+    atom["observed"] = s.observed;
+  }
 }
 
 Json atoms_section(const Prediction &p) {
@@ -75,22 +79,77 @@ Json signal_value(const Signal &g) {
   Json j;
   j["shift"] = g.ppm;
   j["atoms"] = g.atoms;
-  j["attached_h"] = g.attached_h;
+  if (g.nucleus == Nucleus::C13) {
+    j["attached_h"] = g.attached_h;
+  } else {
+    j["count"] = g.count;
+  }
   j["shift_uncertainty"] = g.uncertainty_ppm;
+  if (g.nucleus == Nucleus::H1) {
+    j["exchangeable"] = g.exchangeable;
+    j["observed"] = g.observed;
+  }
   j["shift_method"] = g.method;
   return j;
+}
+
+Json signal_list(const std::vector<Signal> &signals) {
+  Json list = Json::array();
+  for (const auto &g : signals) list.push_back(signal_value(g));
+  return list;
 }
 
 Json signals_section(const Prediction &p) {
   // A nucleus appears only when it was predicted, so an empty list means "no
   // atoms of that nucleus", never "not computed".
   Json signals = Json::object();
-  if (p.options.predict_shifts) {
-    Json list = Json::array();
-    for (const auto &g : p.signals(Nucleus::C13)) list.push_back(signal_value(g));
-    signals[nucleus_label(Nucleus::C13)] = std::move(list);
+  if (!p.options.predict_shifts) return signals;
+  signals[nucleus_label(Nucleus::C13)] = signal_list(p.c13_signals);
+  if (p.options.predict_h1) {
+    signals[nucleus_label(Nucleus::H1)] = signal_list(p.h1_signals);
+    signals["1H_exchanged"] = signal_list(p.h1_exchanged_signals);
   }
   return signals;
+}
+
+std::vector<double> shifts_of(const std::vector<SolventSignal> &list) {
+  std::vector<double> out;
+  out.reserve(list.size());
+  for (const auto &s : list) out.push_back(s.shift_ppm);
+  return out;
+}
+
+/// The keys a record and the solvent table share.
+Json solvent_summary(const Solvent &s) {
+  Json j;
+  j["id"] = s.id;
+  j["name"] = s.name;
+  j["residual_1h"] = shifts_of(s.h1_residual);
+  j["residual_13c"] = shifts_of(s.c13);
+  j["water_1h"] = s.water_h1_ppm;
+  return j;
+}
+
+Json solvent_detail(const std::vector<SolventSignal> &list) {
+  Json out = Json::array();
+  for (const auto &s : list) {
+    Json j;
+    j["shift"] = s.shift_ppm;
+    j["multiplicity"] = s.multiplicity;
+    j["coupling_hz"] = s.coupling_hz > 0 ? Json(s.coupling_hz) : Json(nullptr);
+    out.push_back(std::move(j));
+  }
+  return out;
+}
+
+Json solvent_value(const Solvent &s) {
+  Json j = solvent_summary(s);
+  j["aliases"] = s.aliases;
+  j["exchanges_labile_protons"] = s.exchanges_labile_protons;
+  j["source"] = s.source;
+  j["residual_1h_detail"] = solvent_detail(s.h1_residual);
+  j["residual_13c_detail"] = solvent_detail(s.c13);
+  return j;
 }
 
 Json counts_section(const Prediction &p) {
@@ -122,6 +181,7 @@ Json record_value(const RecordPrediction &r) {
   j["tables_version"] = p.tables_version;
   j["atoms"] = atoms_section(p);
   j["signals"] = signals_section(p);
+  j["solvent"] = solvent_summary(p.solvent);
   j["warnings"] = p.warnings;
   j["counts"] = counts_section(p);
   return j;
@@ -174,6 +234,10 @@ const char *status_constant_name(Status status) noexcept {
 
 std::string to_json(const RecordPrediction &record, const JsonOptions &options) {
   return dump(record_value(record), options);
+}
+
+std::string to_json(const Solvent &solvent, const JsonOptions &options) {
+  return dump(solvent_value(solvent), options);
 }
 
 std::string to_json(const ReferenceCompound &compound, const JsonOptions &options) {

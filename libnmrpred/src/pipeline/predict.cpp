@@ -16,6 +16,11 @@ void validate(const PredictOptions &options) {
                                     options.hose_spheres));
 }
 
+Solvent validate(const PredictOptions &options, const Tables &tables) {
+  validate(options);
+  return find_solvent(tables, options.solvent);
+}
+
 namespace {
 
 // Returned by Prediction::signals for a nucleus without signals; immutable.
@@ -64,25 +69,33 @@ std::vector<Signal> group_signals(const Molecule &molecule, const AtomClasses &c
     g.atoms.push_back(s->atom);
     g.attached_h = s->nucleus == Nucleus::C13 ? proton_count(molecule, s->atom) : 0;
     g.method = s->method;
+    g.exchangeable = s->exchangeable;
+    g.observed = s->observed;
     out.push_back(std::move(g));
   }
   std::sort(out.begin(), out.end(), [](const Signal &a, const Signal &b) {
     if (a.ppm != b.ppm) return a.ppm > b.ppm;
     return a.atoms[0] < b.atoms[0];
   });
+  for (auto &g : out) g.count = static_cast<int>(g.atoms.size());
   return out;
 }
 
 const Shift *Prediction::shift(std::size_t atom, Nucleus nucleus) const noexcept {
-  if (nucleus != Nucleus::C13) return nullptr;
-  // c13 is ascending by atom (predict_c13 walks the atoms in order).
-  const auto it =
-      std::lower_bound(c13.begin(), c13.end(), atom, [](const Shift &s, std::size_t a) { return s.atom < a; });
-  return it != c13.end() && it->atom == atom ? &*it : nullptr;
+  const std::vector<Shift> *list = nucleus == Nucleus::C13 ? &c13 : nucleus == Nucleus::H1 ? &h1 : nullptr;
+  if (!list) return nullptr;
+  // Both lists are ascending by atom (predict() checks it).
+  const auto it = std::lower_bound(list->begin(), list->end(), atom,
+                                   [](const Shift &s, std::size_t a) { return s.atom < a; });
+  return it != list->end() && it->atom == atom ? &*it : nullptr;
 }
 
 const std::vector<Signal> &Prediction::signals(Nucleus nucleus) const noexcept {
-  return nucleus == Nucleus::C13 ? c13_signals : kNoSignals;
+  switch (nucleus) {
+    case Nucleus::C13: return c13_signals;
+    case Nucleus::H1: return h1_signals;
+  }
+  return kNoSignals;
 }
 
 Prediction predict(const Molecule &molecule, const Tables &tables, const PredictOptions &options) {
@@ -90,7 +103,7 @@ Prediction predict(const Molecule &molecule, const Tables &tables, const Predict
 }
 
 Prediction predict(Molecule &&molecule, const Tables &tables, const PredictOptions &options) {
-  validate(options);
+  Solvent solvent = validate(options, tables);
   Prediction p;
   p.molecule = std::move(molecule);
   p.classes = compute_classes(p.molecule);
@@ -101,22 +114,35 @@ Prediction predict(Molecule &&molecule, const Tables &tables, const PredictOptio
   p.tables_version = tables.version();
   p.options = options;
   p.warnings = p.classes.notes;
+  p.solvent = std::move(solvent);
+  // Prediction::shift relies on the order; a shuffled engine result is a bug
+  // to report, not to paper over.
+  auto check_order = [](const std::vector<Shift> &list, const char *engine) {
+    const bool ascending =
+        std::is_sorted(list.begin(), list.end(), [](const Shift &a, const Shift &b) { return a.atom < b.atom; });
+    if (!ascending) throw InternalError(fmt::format("{} returned shifts out of atom order", engine));
+  };
   if (options.predict_shifts) {
     ShiftOptions so;
     so.blind = options.blind;
+    so.solvent = p.solvent.name;
     p.c13 = predict_c13(p.molecule, p.classes, tables, so, &p.warnings);
-    // Prediction::shift relies on the order; a shuffled engine result is a bug
-    // to report, not to paper over.
-    const bool ascending = std::is_sorted(p.c13.begin(), p.c13.end(),
-                                          [](const Shift &a, const Shift &b) { return a.atom < b.atom; });
-    if (!ascending) throw InternalError("predict_c13 returned shifts out of atom order");
+    check_order(p.c13, "predict_c13");
     p.c13_signals = group_signals(p.molecule, p.classes, p.c13);
+    if (options.predict_h1) {
+      p.h1 = predict_h1(p.molecule, p.classes, tables, so, &p.warnings);
+      check_order(p.h1, "predict_h1");
+      for (auto &g : group_signals(p.molecule, p.classes, p.h1))
+        (g.observed ? p.h1_signals : p.h1_exchanged_signals).push_back(std::move(g));
+    }
   }
   return p;
 }
 
 RecordPrediction predict_record(ReadRecord record, const Tables &tables, const PredictOptions &options) {
-  validate(options);
+  // A bad solvent is the caller's mistake, not the record's: it throws here
+  // instead of failing every record one by one.
+  validate(options, tables);
   RecordPrediction out;
   out.record = record.record;
   out.title = std::move(record.title);
@@ -152,7 +178,7 @@ RecordPrediction predict_record(ReadRecord record, const Tables &tables, const P
 
 std::vector<RecordPrediction> predict_all(std::string_view text, Format format, const Tables &tables,
                                           const PredictOptions &options) {
-  validate(options);
+  validate(options, tables);
   std::vector<ReadRecord> records = read_records(text, format);
   std::vector<RecordPrediction> out;
   out.reserve(records.size());
