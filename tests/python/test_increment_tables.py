@@ -90,6 +90,20 @@ SPECS = {
         "numeric": ["typical_ppm", "low_ppm", "high_ppm"],
         "enums": {},
     },
+    "c13_sp3_class.tsv": {
+        "table": "c13-sp3-class",
+        "columns": ["id", "class", "smarts", "example", "typical_ppm", "low_ppm", "high_ppm", "source", "comment"],
+        "numeric": ["typical_ppm", "low_ppm", "high_ppm"],
+        "enums": {},
+    },
+    "c13_ring_sp3.tsv": {
+        "table": "c13-ring-sp3",
+        "columns": ["id", "kind", "ring_size", "branch", "substituent", "smarts", "example", "alpha_ppm", "beta_ppm",
+                    "gamma_ppm", "delta_ppm", "source", "comment"],
+        "numeric": ["alpha_ppm", "beta_ppm", "gamma_ppm", "delta_ppm"],
+        "enums": {"kind": {"base", "member", "substituent"}, "ring_size": {"-", "3", "4", "5", "6", "7", "8"},
+                  "branch": {"-", "atom", "group"}},
+    },
 }
 # Loose physical bounds that catch a slipped digit: base and typical shifts
 # lie in the 13C window, increments are smaller than the largest known
@@ -274,14 +288,20 @@ def check_semantics(t):
             need = ["ipso_ppm"] + (["ortho_ppm", "meta_ppm", "para_ppm"] if row["kind"] == "substituent" else [])
         elif name == "c13-heteroaromatic":
             need = ["value_ppm"]
-        elif name == "c13-carbonyl":
+        elif name == "c13-ring-sp3":
+            need = ["alpha_ppm"]
+            if row["kind"] == "substituent":
+                need = ["alpha_ppm", "beta_ppm", "gamma_ppm", "delta_ppm"]
+            if (row["kind"] == "member") != (row["branch"] in ("atom", "group")):
+                errors.append(f"{where}: member rows (and only they) name a branch, 'atom' or 'group'")
+        elif name in ("c13-carbonyl", "c13-sp3-class"):
             need = ["typical_ppm", "low_ppm", "high_ppm"]
             if None not in values.values() and not values["low_ppm"] <= values["typical_ppm"] <= values["high_ppm"]:
                 errors.append(f"{where}: needs low <= typical <= high")
         for col in need:
             if values[col] is None:
                 errors.append(f"{where}: {col} must be a number")
-        is_shift = (name == "c13-carbonyl" or row.get("kind") == "base"
+        is_shift = (name in ("c13-carbonyl", "c13-sp3-class") or row.get("kind") == "base"
                     or (name == "c13-alkane" and row["term"] == "base"))
         for col, v in values.items():
             if v is None:
@@ -396,6 +416,21 @@ def benzene_sites(mol):
                     yield s, a, set(ring)
 
 
+def ring_sites(mol):
+    """Substituent sites of the sp3 ring scheme: for each sp3 ring carbon, its
+    smallest ring is the skeleton; neighbours outside it are substituents."""
+    rings = sorted(mol.GetRingInfo().AtomRings(), key=len)
+    for s in range(mol.GetNumAtoms()):
+        if not is_sp3_carbon(mol, s):
+            continue
+        ring = next((r for r in rings if s in r), None)
+        if ring is None:
+            continue
+        for a in heavy_neighbours(mol, s):
+            if a not in ring:
+                yield s, a, set(ring)
+
+
 def scheme_groups(tables):
     """(label, rows, site generator) for every set of mutually exclusive rows."""
     sp3 = tables["c13_sp3_substituent.tsv"].rows
@@ -406,6 +441,7 @@ def scheme_groups(tables):
         ("sp3 additive", [r for r in sp3 if r["scheme"] == "additive"], sp3_sites),
         ("alkene", alkene, alkene_sites),
         ("benzene", benzene, benzene_sites),
+        ("ring sp3", [r for r in tables["c13_ring_sp3.tsv"].rows if r["kind"] == "substituent"], ring_sites),
     ]
 
 
@@ -502,6 +538,8 @@ def example_sites(t, row):
     elif name == "c13-heteroaromatic":
         ring = mol.GetRingInfo().AtomRings()[0]
         sites = [(0, a, set(ring)) for a in heavy_neighbours(mol, 0) if a not in ring]
+    elif name == "c13-ring-sp3" and row["kind"] == "substituent":
+        sites = list(ring_sites(mol))
     else:
         sites = []
     return mol, [(s, a, f) for s, a, f in sites if s == 0]
@@ -517,7 +555,12 @@ def test_examples_show_the_substituent_at_atom_0(tables):
     for t in tables.values():
         name = t.spec["table"]
         for row in well_formed(t):
-            if row.get("smarts", "-") == "-" or name in ("c13-carbonyl",):
+            if row.get("smarts", "-") == "-" or name in ("c13-carbonyl", "c13-sp3-class"):
+                continue
+            if name == "c13-ring-sp3" and row["kind"] == "member":
+                mol = Chem.MolFromSmiles(row["example"])
+                if not matches_at(mol, row["smarts"], 0, set()) or not mol.GetAtomWithIdx(0).IsInRing():
+                    errors.append(f"{t.where(row)}: atom 0 of {row['example']!r} is not a ring member the row matches")
                 continue
             mol, sites = example_sites(t, row)
             hits = [(a, f) for _, a, f in sites if matches_at(mol, row["smarts"], a, f)]
@@ -532,6 +575,8 @@ def test_examples_show_the_substituent_at_atom_0(tables):
                 peers = groups["alkene"]
             elif name == "c13-benzene":
                 peers = groups["benzene"]
+            elif name == "c13-ring-sp3":
+                peers = groups["ring sp3"]
             else:
                 peers = [row]
             others = [r["id"] for r, _ in rows_matching(mol, peers, a, forbidden) if r is not row]
@@ -540,16 +585,44 @@ def test_examples_show_the_substituent_at_atom_0(tables):
     fail_with(errors)
 
 
+def class_rows(tables):
+    """The class rows of c13_carbonyl and c13_sp3_class: one namespace, the
+    predictor picks among all of them (tables/FORMAT.md)."""
+    return tables["c13_carbonyl.tsv"].rows + tables["c13_sp3_class.tsv"].rows
+
+
 def test_carbonyl_examples_and_exclusive_classes(tables):
-    """Each carbonyl-class SMARTS matches atom 0 of its example, and no other
-    class matches that atom (basis: RDKit substructure matching)."""
+    """Each class SMARTS (c13_carbonyl, c13_sp3_class) matches atom 0 of its
+    example, and no other class matches that atom (basis: RDKit
+    substructure matching)."""
     errors = []
-    rows = tables["c13_carbonyl.tsv"].rows
+    rows = class_rows(tables)
     for row in rows:
         mol = Chem.MolFromSmiles(row["example"])
         got = [r["id"] for r in rows if matches_at(mol, r["smarts"], 0, set())]
         if got != [row["id"]]:
-            errors.append(f"c13_carbonyl.tsv ({row['id']}): atom 0 of {row['example']!r} matches {got}")
+            errors.append(f"class {row['id']}: atom 0 of {row['example']!r} matches {got}")
+    fail_with(errors)
+
+
+def test_ring_tables_complete_and_members_exclusive(tables, nci_smiles):
+    """c13_ring_sp3 has one base row per ring size 3-8 plus the '-' row for
+    larger rings; at most one member row per ring size matches any ring atom
+    of the NCI sample (basis: the scheme of tables/FORMAT.md; RDKit)."""
+    rows = tables["c13_ring_sp3.tsv"].rows
+    sizes = sorted(r["ring_size"] for r in rows if r["kind"] == "base")
+    assert sizes == ["-", "3", "4", "5", "6", "7", "8"], sizes
+    members = [r for r in rows if r["kind"] == "member"]
+    errors = []
+    for idx, mol in enumerate(nci_molecules(nci_smiles, 1500)):
+        for ring in mol.GetRingInfo().AtomRings():
+            n = str(len(ring))
+            for a in ring:
+                hit = [r for r in members if matches_at(mol, r["smarts"], a, set())]
+                exact = [r["id"] for r in hit if r["ring_size"] == n]
+                generic = [r["id"] for r in hit if r["ring_size"] == "-"]
+                if len(exact) > 1 or (not exact and len(generic) > 1):
+                    errors.append(f"molecule #{idx} {Chem.MolToSmiles(mol)} atom {a}: members {exact or generic}")
     fail_with(errors)
 
 
@@ -633,7 +706,7 @@ def test_rows_of_a_scheme_are_mutually_exclusive_on_nci(tables, nci_smiles):
     between rows (basis: RDKit substructure matching on NCI structures)."""
     mols = nci_molecules(nci_smiles)
     assert len(mols) > 4000
-    errors, sites_seen = exclusivity_errors(mols, scheme_groups(tables), tables["c13_carbonyl.tsv"].rows)
+    errors, sites_seen = exclusivity_errors(mols, scheme_groups(tables), class_rows(tables))
     assert sites_seen > 10000, sites_seen
     fail_with(errors)
 
