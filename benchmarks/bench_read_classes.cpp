@@ -168,7 +168,7 @@ int main(int argc, char **argv) {
                if (r.molecule) n += nmrpred::predict_c13(*r.molecule, nmrpred::compute_classes(*r.molecule), *tables).size();
              return n;
            }, sink));
-    report("predict_all (read, classes, HOSE, 13C)", records.size(), time_it(repeats, [&] {
+    report("predict_all (read, classes, HOSE, 13C, 1H)", records.size(), time_it(repeats, [&] {
              return nmrpred::predict_all(text, nmrpred::Format::Smiles, *tables).size();
            }, sink));
 

@@ -97,9 +97,14 @@ int run_h1(const nmrpred::Tables &tables, const nmrpred::ShiftOptions &opt) {
         const auto &hs = on_heavy[heavy];
         if (hs.empty()) continue;
         std::vector<double> truth;
-        if (as.atoms.size() == 1 && as.values.size() == 2) truth = {as.values[0], as.values[1]};
-        else if (as.atoms.size() == 2 && as.values.size() == 2) truth = {0.5 * (as.values[0] + as.values[1])};
-        else truth = {as.values[0]};
+        if (as.atoms.size() == 1 && as.values.size() == 2) {
+          truth.push_back(as.values[0]);
+          truth.push_back(as.values[1]);
+        } else if (as.atoms.size() == 2 && as.values.size() == 2) {
+          truth.push_back(0.5 * (as.values[0] + as.values[1]));
+        } else {
+          truth.push_back(as.values[0]);
+        }
         // Pair predictions and values in sorted order (which diastereotopic
         // proton is which is not stated).
         std::vector<const nmrpred::Shift *> ps(hs.begin(), hs.end());

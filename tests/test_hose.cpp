@@ -377,3 +377,19 @@ TEST_SUITE("hose") {
     }
   }
 }
+
+TEST_SUITE("hose") {
+  TEST_CASE("hose_spheres_all gives every atom the parts hose_spheres gives it") {
+    // Consistency of the batch call with the single-atom call (library contract).
+    for (const char *smiles : {"CC(C)Cc1ccc(cc1)C(C)C(=O)O", "C[C@@H](O)CC", "c1ccc2ccccc2c1", "[Na+].[O-]C(=O)C"}) {
+      INFO(smiles);
+      const auto m = nmrpred::read_molecule(smiles, nmrpred::Format::Smiles);
+      const auto classes = nmrpred::compute_classes(m);
+      for (int k = 1; k <= nmrpred::kMaxHoseSpheres; ++k) {
+        const auto all = nmrpred::hose_spheres_all(m, classes, k);
+        REQUIRE(all.size() == m.atom_count());
+        for (std::size_t a = 0; a < m.atom_count(); ++a) CHECK(all[a] == nmrpred::hose_spheres(m, classes, a, k));
+      }
+    }
+  }
+}

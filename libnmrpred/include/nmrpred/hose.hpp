@@ -56,9 +56,21 @@ NMRPRED_API std::vector<std::string> hose_codes(const Molecule &molecule, const 
 /// centre ("C-4"), element k (1..spheres) the text of sphere k with its groups
 /// separated by ','. Always spheres + 1 elements; a sphere with nothing in it
 /// is "". Shift lookup compares codes sphere by sphere with these.
+/// Sets up the molecule on every call: for many atoms use hose_spheres_all().
 /// Errors: ArgumentError as for hose_code(). Thread rule: pure.
 NMRPRED_API std::vector<std::string> hose_spheres(const Molecule &molecule, const AtomClasses &classes,
                                                   std::size_t atom, int spheres = kDefaultHoseSpheres);
+
+/// hose_spheres() for every atom (hydrogens included), indexed like the atoms:
+/// element a equals hose_spheres(molecule, classes, a, spheres). Like
+/// hose_codes(), it sets the molecule up once and computes each topological
+/// class of `classes` once (and once per heavy atom for its hydrogens), so
+/// coding many atoms of one molecule costs far less than calling
+/// hose_spheres() for each. The result is owned by the caller.
+/// Errors: ArgumentError as for hose_codes(). Thread rule: pure.
+NMRPRED_API std::vector<std::vector<std::string>> hose_spheres_all(const Molecule &molecule,
+                                                                   const AtomClasses &classes,
+                                                                   int spheres = kDefaultHoseSpheres);
 
 /// Builds a code from the centre and the first `spheres` spheres of `parts`
 /// (as returned by hose_spheres() or split_hose_code()). Because codes are

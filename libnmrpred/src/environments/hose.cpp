@@ -27,7 +27,10 @@
 
 #include <algorithm>
 #include <array>
+#include <charconv>
 #include <cstdint>
+#include <memory>
+#include <type_traits>
 #include <string>
 #include <vector>
 
@@ -76,10 +79,8 @@ std::uint32_t bond_rank(BondOrder order) noexcept {
   return 3;
 }
 
-const char *bond_symbol(std::uint32_t rank) noexcept {
-  static constexpr const char *kSymbols[] = {"%", "=", "*", ""};
-  return rank < 4 ? kSymbols[rank] : "";
-}
+// Symbols of bond ranks 0..2; single bonds (rank 3) have none.
+constexpr const char kBondSymbols[] = "%=*";
 
 // Neutral first, then +1, -1, +2, -2, ...
 std::uint32_t charge_rank(int q) noexcept {
@@ -92,28 +93,48 @@ int rank_charge(std::uint32_t r) noexcept {
   return (r & 1u) ? static_cast<int>((r + 1) / 2) : -static_cast<int>(r / 2);
 }
 
-void append_charge(std::string &out, int q) {
-  if (q == 0) return;
-  out += q > 0 ? '+' : '-';
-  const int mag = q > 0 ? q : -q;
-  if (mag > 1) out += std::to_string(mag);
-}
+// Longest text of one entry: bond, two-letter symbol, sign, three digits
+// (formal charges are 8-bit).
+constexpr std::size_t kTokenTextMax = 7;
+// Longest centre text: symbol, charge, '-', a degree of up to 10 digits.
+constexpr std::size_t kCentreTextMax = 2 + 4 + 1 + 10;
 
-void append_symbol(std::string &out, unsigned z) {
+char *put_symbol(char *p, unsigned z) noexcept {
   const char *sym = Molecule::element_symbol(z);  // one or two letters
-  out.append(sym, sym[1] ? 2 : 1);
+  *p++ = sym[0];
+  if (sym[1]) *p++ = sym[1];
+  return p;
 }
 
-void append_token(std::string &out, std::uint32_t token) {
+char *put_charge(char *p, int q) noexcept {
+  if (q == 0) return p;
+  *p++ = q > 0 ? '+' : '-';
+  const int mag = q > 0 ? q : -q;
+  if (mag > 1) p = std::to_chars(p, p + 3, mag).ptr;
+  return p;
+}
+
+// Symbols of kPriorityElements, in that order: most entries are one of these,
+// and a table read is cheaper than the general lookup.
+constexpr std::array<const char *, 11> kPrioritySymbols = {"C", "O", "N", "S", "P", "Si", "B", "F", "Cl", "Br", "I"};
+
+inline char *put_token(char *p, std::uint32_t token) noexcept {
   const std::uint32_t bond = token >> 24;
-  if (bond < 3) out += bond_symbol(bond)[0];
+  if (bond < 3) *p++ = kBondSymbols[bond];
   const std::uint32_t kind = (token >> 12) & 0xFFFu;
   if (kind == kRingClosureKind) {
-    out += '&';
-    return;
+    *p++ = '&';
+    return p;
   }
-  append_symbol(out, kind_element(kind));
-  append_charge(out, rank_charge(token & 0xFFFu));
+  if (kind < kPrioritySymbols.size()) {
+    const char *sym = kPrioritySymbols[kind];
+    *p++ = sym[0];
+    if (sym[1]) *p++ = sym[1];
+  } else {
+    p = put_symbol(p, kind_element(kind));
+  }
+  const std::uint32_t charge = token & 0xFFFu;
+  return charge ? put_charge(p, rank_charge(charge)) : p;
 }
 
 bool is_real(std::uint32_t token) noexcept { return ((token >> 12) & 0xFFFu) != kRingClosureKind; }
@@ -127,6 +148,96 @@ int compare_groups(const std::uint32_t *a, std::size_t na, const std::uint32_t *
   if (na == nb) return 0;
   return na > nb ? -1 : 1;
 }
+
+// Growable array of trivially copyable values with room for N of them inside
+// the object. One hose_codes() call on a typical molecule then runs without
+// allocating scratch: the engine is one heap block, and its buffers only
+// reach for the heap on unusually large regions. Not copyable or movable
+// (it may point into itself).
+template <class T, std::size_t N>
+class SmallVec {
+  static_assert(std::is_trivially_copyable_v<T>, "SmallVec holds plain values only");
+
+ public:
+  SmallVec() = default;
+  SmallVec(const SmallVec &) = delete;
+  SmallVec &operator=(const SmallVec &) = delete;
+  ~SmallVec() {
+    if (data_ != inline_) ::operator delete(data_);
+  }
+
+  T *data() noexcept { return data_; }
+  const T *data() const noexcept { return data_; }
+  T *begin() noexcept { return data_; }
+  T *end() noexcept { return data_ + size_; }
+  const T *begin() const noexcept { return data_; }
+  const T *end() const noexcept { return data_ + size_; }
+  std::size_t size() const noexcept { return size_; }
+  bool empty() const noexcept { return size_ == 0; }
+  T &operator[](std::size_t i) noexcept { return data_[i]; }
+  const T &operator[](std::size_t i) const noexcept { return data_[i]; }
+  T &back() noexcept { return data_[size_ - 1]; }
+  const T &back() const noexcept { return data_[size_ - 1]; }
+
+  void clear() noexcept { size_ = 0; }
+  // After reserve(n) and writing the elements through data(): n <= capacity.
+  void set_size(std::size_t n) noexcept { size_ = n; }
+  void reserve(std::size_t n) {
+    if (n > cap_) grow(n);
+  }
+  void resize(std::size_t n) { resize(n, T{}); }
+  void resize(std::size_t n, const T &value) {
+    if (n > size_) {
+      const T v = value;
+      reserve(n);
+      std::fill(data_ + size_, data_ + n, v);
+    }
+    size_ = n;
+  }
+  void assign(std::size_t n, const T &value) {
+    const T v = value;
+    reserve(n);
+    std::fill_n(data_, n, v);
+    size_ = n;
+  }
+  void push_back(const T &value) {
+    if (size_ == cap_) {
+      const T v = value;  // `value` may live in the old buffer
+      grow(2 * cap_);
+      data_[size_++] = v;
+      return;
+    }
+    data_[size_++] = value;
+  }
+  void append(const T *first, const T *last) {
+    const auto n = static_cast<std::size_t>(last - first);
+    if (size_ + n > cap_) {
+      // The range may lie in the old buffer: copy it through the new one.
+      T *old = data_;
+      const std::size_t at = static_cast<std::size_t>(first - old);
+      const bool inside = first >= old && first < old + size_;
+      grow(std::max(2 * cap_, size_ + n));
+      if (inside) first = data_ + at;
+    }
+    std::copy_n(first, n, data_ + size_);
+    size_ += n;
+  }
+
+ private:
+  void grow(std::size_t n) {
+    n = std::max({n, 2 * cap_, 2 * N});
+    T *fresh = static_cast<T *>(::operator new(n * sizeof(T)));
+    std::copy_n(data_, size_, fresh);
+    if (data_ != inline_) ::operator delete(data_);
+    data_ = fresh;
+    cap_ = n;
+  }
+
+  T inline_[N];
+  T *data_ = inline_;
+  std::size_t size_ = 0;
+  std::size_t cap_ = N;
+};
 
 struct Neighbour {
   std::uint32_t atom;
@@ -150,28 +261,33 @@ struct Candidate {
 // written), and the level-k+1 atoms in written order.
 struct Partials {
   std::size_t count = 0;
-  std::vector<std::uint32_t> seq;     // count x L
-  std::vector<std::uint64_t> marks;   // count x W
-  std::vector<std::uint32_t> next;    // count x L1 (capacity; `filled` used)
-  std::vector<std::uint32_t> source;  // beam state each partial descends from
+  SmallVec<std::uint32_t, 64> seq;    // count x L
+  SmallVec<std::uint64_t, 8> marks;   // count x W
+  SmallVec<std::uint32_t, 64> next;   // count x L1 (capacity; `filled` used)
+  SmallVec<std::uint32_t, 8> source;  // beam state each partial descends from
 };
 
 // Buffers of one generation pass. Sub-passes for closed branches start at a
 // deeper level and use the frame of that level, so frames never overlap.
 struct Frame {
-  std::vector<std::uint32_t> seqs;  // beam states x len
+  SmallVec<std::uint32_t, 32> seqs;  // beam states x len
   std::size_t states = 0;
   std::size_t len = 0;  // atoms of the current level written by this pass
-  std::vector<std::uint32_t> runs;    // [begin, end) position pairs of tied siblings
-  std::vector<std::int32_t> run_at;   // position -> run index, -1 if none
-  std::vector<std::uint8_t> open;     // states x runs: one of the Run* values below
-  Partials cur, alt;
-  std::vector<Candidate> cands;
-  std::vector<std::uint32_t> ctok, creal;
-  std::vector<std::pair<std::uint32_t, std::uint32_t>> entries;  // (token, atom)
-  std::vector<std::uint32_t> order;
-  std::vector<std::uint32_t> out;      // tokens, every group closed by kEndOfGroup
-  std::vector<std::uint32_t> out_off;  // sphere starts in `out`, plus the end
+  SmallVec<std::uint32_t, 16> runs;    // [begin, end) position pairs of tied siblings
+  SmallVec<std::int32_t, 32> run_at;   // position -> run index, -1 if none
+  SmallVec<std::uint8_t, 32> open;     // states x runs: one of the Run* values below
+  std::array<Partials, 2> parts;       // the current layouts and room for the next ones
+  int cur_part = 0;
+  Partials &cur() noexcept { return parts[static_cast<std::size_t>(cur_part)]; }
+  Partials &alt() noexcept { return parts[static_cast<std::size_t>(1 - cur_part)]; }
+  void flip() noexcept { cur_part = 1 - cur_part; }
+  SmallVec<Candidate, 16> cands;
+  SmallVec<std::uint32_t, 128> ctok;
+  SmallVec<std::uint32_t, 32> creal;
+  SmallVec<std::uint64_t, 16> entries;  // token << 32 | atom (kNone for '&')
+  SmallVec<std::uint32_t, 16> order;
+  SmallVec<std::uint32_t, 128> out;      // tokens, every group closed by kEndOfGroup
+  SmallVec<std::uint32_t, 8> out_off;    // sphere starts in `out`, plus the end
 };
 
 class Engine {
@@ -180,6 +296,7 @@ class Engine {
   Engine(const Molecule &m, int spheres, const std::vector<std::uint32_t> &ranks)
       : mol_(m), n_(spheres), ranks_(ranks.size() == m.atom_count() ? &ranks : nullptr) {
     const std::size_t count = m.atom_count();
+    const std::size_t heavy = m.heavy_atom_count();
     adj_off_.assign(count + 1, 0);
     atom_tok_.resize(count);
     for (std::size_t i = 0; i < count; ++i) {
@@ -189,17 +306,16 @@ class Engine {
       const auto *bid = m.bond_ids_begin(i);
       const std::size_t deg = m.degree(i);
       for (std::size_t k = 0; k < deg; ++k) {
-        if (m.atom(nb[k]).atomic_number == 1) continue;  // hydrogens are never written
+        if (nb[k] >= heavy) continue;  // hydrogens (all atoms from heavy on) are never written
         adj_.push_back({nb[k], bond_rank(m.bond(bid[k]).order) << 24});
       }
       adj_off_[i + 1] = static_cast<std::uint32_t>(adj_.size());
     }
-    stamp_.assign(count, 0);
-    level_.assign(count, kOutside);
-    local_.assign(count, 0);
+    place_.assign(count, Place{0, 0, kOutside});
   }
 
-  // Computes the spheres of `centre`; read them with code() or append_sphere().
+  // Computes the spheres of `centre` and their text; read them with code(),
+  // hydrogen_code(), parts() or sphere_text().
   void run(std::uint32_t centre) {
     build_region(centre);
     const std::size_t r = region_.size();
@@ -207,32 +323,83 @@ class Engine {
     block_off_.assign(r, kNone);
     // Stamped scratch keeps its counters across centres, so it only grows.
     if (pi_.size() < r) {
-      for (auto *v : {&member_stamp_, &pi_, &pi_stamp_, &image_stamp_, &role_, &role_stamp_}) v->resize(r, 0);
+      for (auto *v : {&member_stamp_, &mark_, &pi_, &pi_stamp_, &image_stamp_, &role_, &role_stamp_}) v->resize(r, 0);
     }
     pool_.clear();
     generate(0, 0, centre);
+    write_text();
   }
 
-  std::string centre_text(std::uint32_t centre) const {
-    std::string s = Molecule::element_symbol(mol_.atom(centre).atomic_number);
-    append_charge(s, mol_.atom(centre).formal_charge);
-    s += '-';
-    s += std::to_string(mol_.degree(centre));
-    return s;
+  char *put_centre(char *p, std::uint32_t atom) const {
+    const Atom &a = mol_.atom(atom);
+    p = put_charge(put_symbol(p, a.atomic_number), a.formal_charge);
+    *p++ = '-';
+    return std::to_chars(p, p + 10, mol_.degree(atom)).ptr;
   }
 
-  // Text of sphere `s` (1-based) from the last run().
-  void append_sphere(std::string &out, int s) const {
+  // Centre text ("C-4", "N+-4") of `atom`, the part before ';'.
+  std::string centre_text(std::uint32_t atom) const {
+    char buf[kCentreTextMax];
+    return std::string(buf, put_centre(buf, atom));
+  }
+
+  // Writes the text of every sphere of the last run() into text_; sphere s
+  // (1-based) is text_[text_off_[s - 1], text_off_[s]). Done once per run so
+  // a code, a hydrogen's code and the parts are each copied out with a single
+  // allocation.
+  void write_text() {
     const Frame &f = frames_[0];
-    const std::uint32_t b = f.out_off[static_cast<std::size_t>(s - 1)];
-    const std::uint32_t e = f.out_off[static_cast<std::size_t>(s)];
-    for (std::uint32_t i = b; i < e; ++i) {
-      if (f.out[i] == kEndOfGroup) {
-        if (i + 1 < e) out += ',';
-      } else {
-        append_token(out, f.out[i]);
+    text_.resize(f.out.size() * kTokenTextMax + 1);
+    char *const begin = text_.data();
+    char *p = begin;
+    text_off_[0] = 0;
+    for (int s = 1; s <= n_; ++s) {
+      const std::uint32_t b = f.out_off[static_cast<std::size_t>(s - 1)];
+      const std::uint32_t e = f.out_off[static_cast<std::size_t>(s)];
+      for (std::uint32_t i = b; i < e; ++i) {
+        if (f.out[i] == kEndOfGroup) {
+          if (i + 1 < e) *p++ = ',';
+        } else {
+          p = put_token(p, f.out[i]);
+        }
       }
+      text_off_[static_cast<std::size_t>(s)] = static_cast<std::uint32_t>(p - begin);
     }
+  }
+
+  std::size_t sphere_size(int s) const {
+    return text_off_[static_cast<std::size_t>(s)] - text_off_[static_cast<std::size_t>(s - 1)];
+  }
+
+  std::string sphere_text(int s) const {
+    return std::string(text_.data() + text_off_[static_cast<std::size_t>(s - 1)], sphere_size(s));
+  }
+
+  // Text of sphere `s` (1-based) from the last write_text().
+  void append_sphere(std::string &out, int s) const {
+    out.append(text_.data() + text_off_[static_cast<std::size_t>(s - 1)], sphere_size(s));
+  }
+
+  // `head`, then sphere `outer` unless it is 0, then spheres `first`..`last`
+  // in brackets separated by '/' (no brackets if first > last).
+  std::string assemble(const char *head, std::size_t head_len, int outer, int first, int last) const {
+    std::size_t total = head_len + (outer > 0 ? sphere_size(outer) : 0);
+    if (first <= last)
+      total += 2 + static_cast<std::size_t>(last - first) +
+               (text_off_[static_cast<std::size_t>(last)] - text_off_[static_cast<std::size_t>(first - 1)]);
+    std::string s;
+    s.reserve(total);
+    s.append(head, head_len);
+    if (outer > 0) append_sphere(s, outer);
+    if (first <= last) {
+      s += '(';
+      for (int k = first; k <= last; ++k) {
+        if (k > first) s += '/';
+        append_sphere(s, k);
+      }
+      s += ')';
+    }
+    return s;
   }
 
   // For a hydrogen bonded to the last centre X by `bond`: its code. Seen from
@@ -240,61 +407,64 @@ class Engine {
   // hydrogens are never written; codes being prefix-stable, X's first n-1
   // spheres are those of its own (n-1)-sphere code.
   std::string hydrogen_code(std::uint32_t h, std::uint32_t centre, BondOrder bond) const {
-    std::string s = centre_text(h);
-    s += ';';
-    const std::uint32_t rank = bond_rank(bond);
-    if (rank < 3) s += bond_symbol(rank)[0];
-    append_symbol(s, mol_.atom(centre).atomic_number);
-    append_charge(s, mol_.atom(centre).formal_charge);
-    if (n_ >= 2) {
-      s += '(';
-      for (int k = 1; k < n_; ++k) {
-        if (k > 1) s += '/';
-        append_sphere(s, k);
-      }
-      s += ')';
-    }
-    return s;
+    char head[kCentreTextMax + 1 + kTokenTextMax];
+    char *p = put_centre(head, h);
+    *p++ = ';';
+    p = put_token(p, bond_rank(bond) << 24 | atom_tok_[centre]);
+    return assemble(head, static_cast<std::size_t>(p - head), 0, 1, n_ - 1);
   }
 
+  // hose_spheres() parts of the last centre.
+  std::vector<std::string> parts(std::uint32_t centre) const {
+    std::vector<std::string> out;
+    out.reserve(static_cast<std::size_t>(n_) + 1);
+    out.push_back(centre_text(centre));
+    for (int k = 1; k <= n_; ++k) out.push_back(sphere_text(k));
+    return out;
+  }
+
+  // hose_spheres() parts of a terminal hydrogen on the last centre (see
+  // hydrogen_code()).
+  std::vector<std::string> hydrogen_parts(std::uint32_t h, std::uint32_t centre, BondOrder bond) const {
+    std::vector<std::string> out;
+    out.reserve(static_cast<std::size_t>(n_) + 1);
+    out.push_back(centre_text(h));
+    char first[kTokenTextMax];
+    out.emplace_back(first, put_token(first, bond_rank(bond) << 24 | atom_tok_[centre]));
+    for (int k = 1; k < n_; ++k) out.push_back(sphere_text(k));
+    return out;
+  }
+
+  // Code of the last centre, from write_text().
   std::string code(std::uint32_t centre) const {
-    std::string s = centre_text(centre);
-    s.reserve(s.size() + 8 * frames_[0].out.size() / 3 + 16);
-    s += ';';
-    append_sphere(s, 1);
-    if (n_ >= 2) {
-      s += '(';
-      for (int k = 2; k <= n_; ++k) {
-        if (k > 2) s += '/';
-        append_sphere(s, k);
-      }
-      s += ')';
-    }
-    return s;
+    char head[kCentreTextMax + 1];
+    char *p = put_centre(head, centre);
+    *p++ = ';';
+    return assemble(head, static_cast<std::size_t>(p - head), 1, 2, n_);
   }
 
  private:
-  static void bump(std::uint32_t &counter, std::vector<std::uint32_t> &stamps,
-                   std::vector<std::uint32_t> *more = nullptr) {
+  template <class Stamps>
+  static void bump(std::uint32_t &counter, Stamps &stamps, Stamps *more = nullptr) {
     if (++counter != 0) return;
     std::fill(stamps.begin(), stamps.end(), 0);
     if (more) std::fill(more->begin(), more->end(), 0);
     counter = 1;
   }
 
-  int level_of(std::uint32_t a) const noexcept { return stamp_[a] == cur_ ? level_[a] : kOutside; }
+  int level_of(std::uint32_t a) const noexcept { return place_[a].stamp == cur_ ? place_[a].level : kOutside; }
   std::uint32_t level_size(int k) const noexcept { return level_start_[k + 1] - level_start_[k]; }
 
   void build_region(std::uint32_t centre) {
     if (++cur_ == 0) {  // stamp wrapped: forget every old mark
-      std::fill(stamp_.begin(), stamp_.end(), 0);
+      for (Place &pl : place_) pl.stamp = 0;
       cur_ = 1;
     }
     region_.clear();
     region_.push_back(centre);
-    stamp_[centre] = cur_;
-    level_[centre] = 0;
-    local_[centre] = 0;
+    place_[centre].stamp = cur_;
+    place_[centre].level = 0;
+    place_[centre].local = 0;
     level_start_[0] = 0;
     level_start_[1] = 1;
     for (int d = 0; d < n_; ++d) {
@@ -302,10 +472,10 @@ class Engine {
         const std::uint32_t a = region_[i];
         for (std::uint32_t k = adj_off_[a]; k < adj_off_[a + 1]; ++k) {
           const std::uint32_t z = adj_[k].atom;
-          if (stamp_[z] == cur_) continue;
-          stamp_[z] = cur_;
-          level_[z] = static_cast<std::uint8_t>(d + 1);
-          local_[z] = static_cast<std::uint32_t>(region_.size());
+          if (place_[z].stamp == cur_) continue;
+          place_[z].stamp = cur_;
+          place_[z].level = static_cast<std::uint8_t>(d + 1);
+          place_[z].local = static_cast<std::uint32_t>(region_.size());
           region_.push_back(z);
         }
       }
@@ -326,33 +496,33 @@ class Engine {
   // spheres) is reached only through y's branch and has no bond that will be
   // written to an atom outside it.
   bool closed(std::uint32_t y) {
-    const std::uint32_t ly = local_[y];
+    const std::uint32_t ly = place_[y].local;
     if (closed_[ly] >= 0) return closed_[ly] == 1;
     bump(member_cur_, member_stamp_);
     list_.clear();
     list_.push_back(y);
     member_stamp_[ly] = member_cur_;
-    for (std::size_t i = 0; i < list_.size(); ++i) {
-      const std::uint32_t a = list_[i];
-      const int la = level_[a];
-      for (std::uint32_t j = adj_off_[a]; j < adj_off_[a + 1]; ++j) {
-        const std::uint32_t z = adj_[j].atom;
-        if (level_of(z) != la + 1) continue;
-        if (member_stamp_[local_[z]] == member_cur_) continue;
-        member_stamp_[local_[z]] = member_cur_;
-        list_.push_back(z);
-      }
-    }
+    // The list grows level by level, so when an atom is taken every member
+    // at its own level and the level below is known: the test can run in
+    // the same pass and stop at the first bond leaving the branch.
     bool ok = true;
     for (std::size_t i = 0; i < list_.size() && ok; ++i) {
       const std::uint32_t a = list_[i];
-      const int la = level_[a];
-      for (std::uint32_t j = adj_off_[a]; j < adj_off_[a + 1] && ok; ++j) {
+      const int la = place_[a].level;
+      for (std::uint32_t j = adj_off_[a]; j < adj_off_[a + 1]; ++j) {
         const std::uint32_t z = adj_[j].atom;
         const int lz = level_of(z);
-        const bool inside = lz != kOutside && member_stamp_[local_[z]] == member_cur_;
-        if (lz == la - 1 && a != y && !inside) ok = false;
-        if (lz == la && la < n_ && !inside) ok = false;
+        if (lz == kOutside) continue;
+        const bool inside = member_stamp_[place_[z].local] == member_cur_;
+        if (lz == la + 1) {
+          if (!inside) {
+            member_stamp_[place_[z].local] = member_cur_;
+            list_.push_back(z);
+          }
+        } else if ((lz == la - 1 && a != y && !inside) || (lz == la && la < n_ && !inside)) {
+          ok = false;
+          break;
+        }
       }
     }
     closed_[ly] = ok ? 1 : 0;
@@ -362,7 +532,7 @@ class Engine {
   // Offset in pool_ of y's branch text: for each sphere k+1..n, a length and
   // that many tokens.
   std::uint32_t block(std::uint32_t y, int k, int caller_frame) {
-    const std::uint32_t ly = local_[y];
+    const std::uint32_t ly = place_[y].local;
     if (block_off_[ly] != kNone) return block_off_[ly];
     if (trivial(y, k)) {
       const auto off = static_cast<std::uint32_t>(pool_.size());
@@ -383,7 +553,7 @@ class Engine {
     const auto off = static_cast<std::uint32_t>(pool_.size());
     for (std::size_t s = 0; s + 1 < f.out_off.size(); ++s) {
       pool_.push_back(f.out_off[s + 1] - f.out_off[s]);
-      pool_.insert(pool_.end(), f.out.begin() + f.out_off[s], f.out.begin() + f.out_off[s + 1]);
+      pool_.append(f.out.begin() + f.out_off[s], f.out.begin() + f.out_off[s + 1]);
     }
     block_off_[ly] = off;
     return off;
@@ -420,7 +590,7 @@ class Engine {
   // Group of atom y (level k) in partial layout p: its entries, sorted, are
   // appended to `tokens`, the atoms it writes for the first time to `reals`.
   void eval_group(Frame &f, const Partials &P, std::size_t p, std::size_t W, int k, std::uint32_t y,
-                  std::vector<std::uint32_t> &tokens, std::vector<std::uint32_t> &reals) {
+                  SmallVec<std::uint32_t, 128> &tokens, SmallVec<std::uint32_t, 32> &reals) {
     f.entries.clear();
     const std::uint64_t *marks = P.marks.data() + p * W;
     const std::uint32_t base = level_start_[k];
@@ -428,27 +598,33 @@ class Engine {
       const std::uint32_t z = adj_[j].atom;
       const int lz = level_of(z);
       if (lz != k && lz != k + 1) continue;  // k-1: that bond is already written
-      const std::uint32_t bit = local_[z] - base;
+      const std::uint32_t bit = place_[z].local - base;
       const bool marked = (marks[bit >> 6] >> (bit & 63)) & 1u;
       if (lz == k) {
         // A bond inside the sphere is written once, by the atom expanded first.
-        if (!marked) f.entries.emplace_back(adj_[j].bond | kRingClosureKind << 12, kNone);
+        if (!marked) f.entries.push_back(std::uint64_t{adj_[j].bond | kRingClosureKind << 12} << 32 | kNone);
       } else if (marked) {
-        f.entries.emplace_back(adj_[j].bond | kRingClosureKind << 12, kNone);
+        f.entries.push_back(std::uint64_t{adj_[j].bond | kRingClosureKind << 12} << 32 | kNone);
       } else {
-        f.entries.emplace_back(adj_[j].bond | atom_tok_[z], z);
+        f.entries.push_back(std::uint64_t{adj_[j].bond | atom_tok_[z]} << 32 | z);
       }
     }
-    // Insertion sort: groups hold a handful of entries.
-    for (std::size_t i = 1; i < f.entries.size(); ++i) {
-      auto v = f.entries[i];
-      std::size_t j = i;
-      for (; j > 0 && v < f.entries[j - 1]; --j) f.entries[j] = f.entries[j - 1];
-      f.entries[j] = v;
+    sort_entries(f);
+    for (const std::uint64_t e : f.entries) {
+      tokens.push_back(static_cast<std::uint32_t>(e >> 32));
+      if (static_cast<std::uint32_t>(e) != kNone) reals.push_back(static_cast<std::uint32_t>(e));
     }
-    for (const auto &e : f.entries) {
-      tokens.push_back(e.first);
-      if (e.second != kNone) reals.push_back(e.second);
+  }
+
+  // Insertion sort: groups hold a handful of entries.
+  static void sort_entries(Frame &f) noexcept {
+    std::uint64_t *e = f.entries.data();
+    const std::size_t n = f.entries.size();
+    for (std::size_t i = 1; i < n; ++i) {
+      const std::uint64_t v = e[i];
+      std::size_t j = i;
+      for (; j > 0 && v < e[j - 1]; --j) e[j] = e[j - 1];
+      e[j] = v;
     }
   }
 
@@ -458,12 +634,12 @@ class Engine {
     std::swap(seq[pos], seq[c.position]);
     std::uint64_t *marks = P.marks.data() + p * W;
     const std::uint32_t base = level_start_[k];
-    const std::uint32_t ybit = local_[seq[pos]] - base;
+    const std::uint32_t ybit = place_[seq[pos]].local - base;
     marks[ybit >> 6] |= std::uint64_t{1} << (ybit & 63);
     std::uint32_t *next = P.next.data() + p * L1;
     for (std::uint32_t i = 0; i < c.real_len; ++i) {
       const std::uint32_t z = f.creal[c.real_off + i];
-      const std::uint32_t bit = local_[z] - base;
+      const std::uint32_t bit = place_[z].local - base;
       marks[bit >> 6] |= std::uint64_t{1} << (bit & 63);
       next[filled + i] = z;
     }
@@ -480,7 +656,7 @@ class Engine {
   // Partial layouts whose remaining atoms, marks and written atoms agree have
   // the same future; keep one of each.
   void dedupe(Frame &f, std::size_t L, std::size_t W, std::size_t L1, std::size_t upto, std::size_t filled) {
-    Partials &P = f.cur;
+    Partials &P = f.cur();
     if (P.count < 2) return;
     // The unplaced members of an open run form a set: sort them by index.
     const std::size_t R = f.runs.size() / 2;
@@ -510,7 +686,7 @@ class Engine {
       if (i == 0 || less(f.order[kept - 1], f.order[i])) f.order[kept++] = f.order[i];
     kept = std::min(kept, kMaxBeam);
     if (kept == P.count) return;
-    Partials &Q = f.alt;
+    Partials &Q = f.alt();
     resize_partials(Q, kept, L, W, L1);
     for (std::size_t i = 0; i < kept; ++i) {
       const std::size_t s = f.order[i];
@@ -519,7 +695,7 @@ class Engine {
       std::copy_n(P.next.data() + s * L1, filled, Q.next.data() + i * L1);
       Q.source[i] = P.source[s];
     }
-    std::swap(f.cur, f.alt);
+    f.flip();
   }
 
   // Roles of atoms in a partial layout for the symmetry test: fixed (their
@@ -528,7 +704,7 @@ class Engine {
   static constexpr std::uint32_t kRoleFree = 0, kRoleFixed = 1, kRoleSet = 2;
 
   std::uint32_t role_of(std::uint32_t a) const {
-    const std::uint32_t l = local_[a];
+    const std::uint32_t l = place_[a].local;
     return role_stamp_[l] == role_cur_ ? role_[l] : kRoleFree;
   }
 
@@ -545,12 +721,12 @@ class Engine {
     for (std::size_t i = pos; i < L; ++i) {
       const std::int32_t r = f.run_at[i];
       const std::uint8_t mode = r >= 0 ? f.open[P.source[p] * R + static_cast<std::size_t>(r)] : kRunFixed;
-      if (mode != kRunFixed) role_[local_[seq[i]]] = kRoleSet + static_cast<std::uint32_t>(r);
+      if (mode != kRunFixed) role_[place_[seq[i]].local] = kRoleSet + static_cast<std::uint32_t>(r);
     }
     const std::uint32_t *next = P.next.data() + p * L1;
     for (std::size_t i = 0; i < filled; ++i) {
-      role_[local_[next[i]]] = kRoleFixed;
-      role_stamp_[local_[next[i]]] = role_cur_;
+      role_[place_[next[i]].local] = kRoleFixed;
+      role_stamp_[place_[next[i]].local] = role_cur_;
     }
   }
 
@@ -578,13 +754,13 @@ class Engine {
   bool symmetric(int k, std::uint32_t x, std::uint32_t y) {
     bump(cert_cur_, pi_stamp_, &image_stamp_);
     queue_.clear();
-    auto mapped = [&](std::uint32_t a) { return pi_stamp_[local_[a]] == cert_cur_; };
-    auto is_image = [&](std::uint32_t b) { return image_stamp_[local_[b]] == cert_cur_; };
+    auto mapped = [&](std::uint32_t a) { return pi_stamp_[place_[a].local] == cert_cur_; };
+    auto is_image = [&](std::uint32_t b) { return image_stamp_[place_[b].local] == cert_cur_; };
     auto map = [&](std::uint32_t a, std::uint32_t b) {
-      pi_[local_[a]] = b;
-      pi_stamp_[local_[a]] = cert_cur_;
-      image_stamp_[local_[b]] = cert_cur_;
-      queue_.emplace_back(a, b);
+      pi_[place_[a].local] = b;
+      pi_stamp_[place_[a].local] = cert_cur_;
+      image_stamp_[place_[b].local] = cert_cur_;
+      queue_.push_back({a, b});
     };
     map(x, y);
     std::size_t head = 0;
@@ -593,7 +769,7 @@ class Engine {
         const std::uint32_t a = queue_[head].first, b = queue_[head].second;
         ++head;
         const std::uint32_t role = role_of(a);
-        if (level_[a] != level_[b] || atom_tok_[a] != atom_tok_[b] || role != role_of(b) ||
+        if (place_[a].level != place_[b].level || atom_tok_[a] != atom_tok_[b] || role != role_of(b) ||
             (role == kRoleFixed && a != b) || domain_degree(a, k) != domain_degree(b, k))
           return false;
         for (std::uint32_t j = adj_off_[a]; j < adj_off_[a + 1]; ++j) {
@@ -601,7 +777,7 @@ class Engine {
           const int lu = level_of(u);
           if (lu == kOutside || lu < k) continue;
           if (mapped(u)) {
-            if (!bonded(b, pi_[local_[u]], bond)) return false;
+            if (!bonded(b, pi_[place_[u].local], bond)) return false;
             continue;
           }
           std::uint32_t pick = kNone;
@@ -633,7 +809,6 @@ class Engine {
       if (!grew) return true;
     }
   }
-
 
   // Among the best candidates of one partial layout, drops those that a
   // symmetry maps onto a candidate already kept.
@@ -690,21 +865,28 @@ class Engine {
         }
         for (std::size_t i = 0; i < len; ++i) block(seg[i], k, fi);
         std::sort(seg, seg + len, [&](std::uint32_t a, std::uint32_t b) {
-          const int c = compare_blocks(block_off_[local_[a]], block_off_[local_[b]], k);
+          const int c = compare_blocks(block_off_[place_[a].local], block_off_[place_[b].local], k);
           return c != 0 ? c < 0 : a < b;
         });
       }
     }
 
+    bool any_search = false;
+    for (std::size_t i = 0; i < f.open.size() && !any_search; ++i) any_search = f.open[i] == kRunSearch;
+    if (f.states == 1 && !any_search) {
+      step_fixed(f, k);
+      return;
+    }
+
     // 2. Place the level-k atoms one position at a time.
-    Partials &P0 = f.cur;
+    Partials &P0 = f.cur();
     resize_partials(P0, f.states, L, W, L1);
     std::copy_n(f.seqs.begin(), f.states * L, P0.seq.begin());
     std::fill_n(P0.marks.data(), f.states * W, std::uint64_t{0});
     for (std::size_t s = 0; s < f.states; ++s) P0.source[s] = static_cast<std::uint32_t>(s);
     std::size_t filled = 0;
     for (std::size_t pos = 0; pos < L; ++pos) {
-      Partials &P = f.cur;
+      Partials &P = f.cur();
       const std::int32_t r = f.run_at[pos];
       if (P.count == 1 && (r < 0 || f.open[P.source[0] * R + static_cast<std::size_t>(r)] != kRunSearch)) {
         // The usual case: one layout, nothing to choose.
@@ -748,7 +930,7 @@ class Engine {
       if (P.count == 1 && keep_.size() == 1) {
         apply(f, P, 0, W, L, L1, filled, k, static_cast<std::uint32_t>(pos), f.cands[keep_[0]]);
       } else {
-        Partials &Q = f.alt;
+        Partials &Q = f.alt();
         resize_partials(Q, keep_.size(), L, W, L1);
         for (std::size_t q = 0; q < keep_.size(); ++q) {
           const Candidate &c = f.cands[keep_[q]];
@@ -758,24 +940,97 @@ class Engine {
           Q.source[q] = P.source[c.partial];
           apply(f, Q, q, W, L, L1, filled, k, static_cast<std::uint32_t>(pos), c);
         }
-        std::swap(f.cur, f.alt);
+        f.flip();
         dedupe(f, L, W, L1, pos + 1, filled + bc.real_len);
       }
-      f.out.insert(f.out.end(), f.ctok.begin() + bc.tok_off, f.ctok.begin() + bc.tok_off + bc.tok_len);
+      f.out.append(f.ctok.begin() + bc.tok_off, f.ctok.begin() + bc.tok_off + bc.tok_len);
       f.out.push_back(kEndOfGroup);
       filled += bc.real_len;
     }
 
-    // 3. The surviving layouts become the beam of level k+1; tied siblings
-    //    of this sphere become its runs.
-    const Partials &P = f.cur;
+    // 3. The surviving layouts become the beam of level k+1.
+    if (k + 1 == n_) return;  // nothing reads it after the last sphere
+    const Partials &P = f.cur();
     f.states = P.count;
     f.len = filled;
     f.seqs.resize(f.states * filled);
     for (std::size_t s = 0; s < f.states; ++s)
       std::copy_n(P.next.data() + s * L1, filled, f.seqs.data() + s * filled);
+    find_runs(f);
+  }
+
+  // Step for the usual case: one layout and no tied siblings whose order is
+  // open, so every group is written where it stands. Gives what the general
+  // placement loop gives for a single layout with nothing to choose, without
+  // its per-layout copies, and finds the next runs while writing.
+  void step_fixed(Frame &f, int k) {
+    bump(mark_cur_, mark_);
+    const std::size_t L = f.len;
+    const bool last = k + 1 == n_;  // nothing reads the next level's layout
+    f.creal.clear();  // level k+1 atoms in written order
     f.runs.clear();
-    f.run_at.assign(filled, -1);
+    for (std::size_t pos = 0; pos < L; ++pos) {
+      const std::uint32_t y = f.seqs[pos];
+      const std::uint32_t jb = adj_off_[y], je = adj_off_[y + 1];
+      f.entries.reserve(je - jb);
+      std::uint64_t *ent = f.entries.data();
+      std::size_t ne = 0;
+      for (std::uint32_t j = jb; j < je; ++j) {
+        const std::uint32_t z = adj_[j].atom;
+        const int lz = level_of(z);
+        if (lz != k && lz != k + 1) continue;  // k-1: that bond is already written
+        const bool marked = mark_[place_[z].local] == mark_cur_;
+        if (lz == k) {
+          // A bond inside the sphere is written once, by the atom expanded first.
+          if (!marked) ent[ne++] = std::uint64_t{adj_[j].bond | kRingClosureKind << 12} << 32 | kNone;
+        } else if (marked) {
+          ent[ne++] = std::uint64_t{adj_[j].bond | kRingClosureKind << 12} << 32 | kNone;
+        } else {
+          ent[ne++] = std::uint64_t{adj_[j].bond | atom_tok_[z]} << 32 | z;
+        }
+      }
+      f.entries.set_size(ne);
+      sort_entries(f);
+      f.out.reserve(f.out.size() + ne + 1);
+      f.creal.reserve(f.creal.size() + ne);
+      std::uint32_t *out = f.out.data() + f.out.size();
+      for (std::size_t i = 0; i < ne; ++i) {
+        const auto token = static_cast<std::uint32_t>(ent[i] >> 32);
+        const auto z = static_cast<std::uint32_t>(ent[i]);
+        *out++ = token;
+        if (z == kNone) continue;
+        mark_[place_[z].local] = mark_cur_;
+        const auto at = static_cast<std::uint32_t>(f.creal.size());
+        if (!last && i > 0 && static_cast<std::uint32_t>(ent[i - 1] >> 32) == token) {
+          // Tied with the previous atom of this group: extend or open a run.
+          if (!f.runs.empty() && f.runs.back() == at) {
+            ++f.runs.back();
+          } else {
+            f.runs.push_back(at - 1);
+            f.runs.push_back(at + 1);
+          }
+        }
+        f.creal.push_back(z);
+      }
+      *out++ = kEndOfGroup;
+      f.out.set_size(static_cast<std::size_t>(out - f.out.data()));
+      mark_[place_[y].local] = mark_cur_;
+    }
+    f.states = 1;
+    f.len = f.creal.size();
+    if (last) return;
+    f.seqs.resize(f.len);
+    std::copy_n(f.creal.data(), f.len, f.seqs.data());
+    f.run_at.assign(f.len, -1);
+    for (std::size_t r = 0; r < f.runs.size() / 2; ++r)
+      for (std::uint32_t q = f.runs[2 * r]; q < f.runs[2 * r + 1]; ++q) f.run_at[q] = static_cast<std::int32_t>(r);
+  }
+
+  // Tied siblings of the sphere just written (runs of equal real entries in
+  // one group) become the runs of the next step.
+  void find_runs(Frame &f) {
+    f.runs.clear();
+    f.run_at.assign(f.len, -1);
     const std::size_t sphere_begin = f.out_off.back();
     std::uint32_t pos = 0;
     std::size_t i = sphere_begin;
@@ -801,26 +1056,40 @@ class Engine {
   const Molecule &mol_;
   int n_;
   const std::vector<std::uint32_t> *ranks_;
-  std::vector<std::uint32_t> adj_off_;
-  std::vector<Neighbour> adj_;
-  std::vector<std::uint32_t> atom_tok_;
-  std::vector<std::uint32_t> stamp_;
-  std::vector<std::uint8_t> level_;
-  std::vector<std::uint32_t> local_;
+  // Per atom of the molecule.
+  SmallVec<std::uint32_t, 64> adj_off_;
+  SmallVec<Neighbour, 128> adj_;
+  SmallVec<std::uint32_t, 64> atom_tok_;
+  // Where an atom lies relative to the current centre; valid when `stamp`
+  // equals cur_. One record, as the inner loops read all three together.
+  struct Place {
+    std::uint32_t stamp;
+    std::uint32_t local;  // index in region_
+    std::uint8_t level;   // sphere, 0 for the centre
+  };
+  SmallVec<Place, 64> place_;
   std::uint32_t cur_ = 0;
-  std::vector<std::uint32_t> region_;
+  // Per atom of the region of the current centre (local ids).
+  SmallVec<std::uint32_t, 64> region_;
   std::array<std::uint32_t, kMaxHoseSpheres + 2> level_start_{};
-  std::vector<std::int8_t> closed_;
-  std::vector<std::uint32_t> block_off_;
-  std::vector<std::uint32_t> pool_;
-  std::vector<std::uint32_t> member_stamp_;
+  SmallVec<std::int8_t, 64> closed_;
+  SmallVec<std::uint32_t, 64> block_off_;
+  SmallVec<std::uint32_t, 256> pool_;
+  SmallVec<char, 512> text_;
+  std::array<std::uint32_t, kMaxHoseSpheres + 1> text_off_{};
+  SmallVec<std::uint32_t, 64> member_stamp_;
+  SmallVec<std::uint32_t, 64> mark_;  // stamps of step_fixed(): expanded or written
+  std::uint32_t mark_cur_ = 0;
   std::uint32_t member_cur_ = 0;  // stamps of the closedness test
-  std::vector<std::uint32_t> list_;
+  SmallVec<std::uint32_t, 64> list_;
   // Symmetry test scratch, indexed by local id.
-  std::vector<std::uint32_t> pi_, pi_stamp_, image_stamp_, role_, role_stamp_;
+  SmallVec<std::uint32_t, 64> pi_, pi_stamp_, image_stamp_, role_, role_stamp_;
   std::uint32_t cert_cur_ = 0, role_cur_ = 0;
-  std::vector<std::pair<std::uint32_t, std::uint32_t>> queue_;
-  std::vector<std::uint32_t> keep_;
+  struct Pair {
+    std::uint32_t first, second;
+  };
+  SmallVec<Pair, 64> queue_;
+  SmallVec<std::uint32_t, 16> keep_;
   std::array<Frame, kMaxHoseSpheres + 1> frames_;
 };
 
@@ -843,79 +1112,128 @@ void check_atom(const Molecule &m, std::size_t atom) {
 std::string hose_code(const Molecule &molecule, const AtomClasses &classes, std::size_t atom, int spheres) {
   check_request(molecule, classes, spheres);
   check_atom(molecule, atom);
-  Engine engine(molecule, spheres, classes.invariant_rank);
-  engine.run(static_cast<std::uint32_t>(atom));
-  return engine.code(static_cast<std::uint32_t>(atom));
+  // One heap block (the engine keeps its scratch inline), not one per buffer.
+  const auto engine = std::make_unique<Engine>(molecule, spheres, classes.invariant_rank);
+  engine->run(static_cast<std::uint32_t>(atom));
+  return engine->code(static_cast<std::uint32_t>(atom));
 }
 
 std::vector<std::string> hose_spheres(const Molecule &molecule, const AtomClasses &classes, std::size_t atom,
                                       int spheres) {
   check_request(molecule, classes, spheres);
   check_atom(molecule, atom);
-  Engine engine(molecule, spheres, classes.invariant_rank);
-  engine.run(static_cast<std::uint32_t>(atom));
-  std::vector<std::string> parts;
-  parts.reserve(static_cast<std::size_t>(spheres) + 1);
-  parts.push_back(engine.centre_text(static_cast<std::uint32_t>(atom)));
-  for (int k = 1; k <= spheres; ++k) {
-    parts.emplace_back();
-    engine.append_sphere(parts.back(), k);
-  }
-  return parts;
+  const auto engine = std::make_unique<Engine>(molecule, spheres, classes.invariant_rank);
+  engine->run(static_cast<std::uint32_t>(atom));
+  return engine->parts(static_cast<std::uint32_t>(atom));
 }
 
-std::vector<std::string> hose_codes(const Molecule &molecule, const AtomClasses &classes, int spheres) {
-  check_request(molecule, classes, spheres);
+namespace {
+
+// Runs `engine` once per topological class and hands each result to the
+// callbacks: centre(atom) after a run on `atom`, hydrogen(h, atom, bond) for
+// a terminal hydrogen h on it, copy(to, from) for an atom of a class already
+// done. Atoms of one topological class are exchanged by an automorphism, so
+// their codes agree. Terminal hydrogens take their result from the run of
+// their heavy atom (see Engine::hydrogen_code).
+template <class Centre, class Hydrogen, class Copy>
+void code_every_atom(const Molecule &molecule, const AtomClasses &classes, Engine &engine, Centre centre,
+                     Hydrogen hydrogen, Copy copy) {
   const std::size_t count = molecule.atom_count();
-  std::vector<std::string> codes(count);
-  if (count == 0) return codes;
-  Engine engine(molecule, spheres, classes.invariant_rank);
-  // Atoms of one topological class are exchanged by an automorphism, so each
-  // class is computed once. Terminal hydrogens take their code from the run of
-  // their heavy atom (see Engine::hydrogen_code), grouped by the bond to it.
   std::uint32_t max_class = 0;
   for (auto c : classes.topological) max_class = std::max(max_class, c);
   std::vector<std::uint32_t> by_class(static_cast<std::size_t>(max_class) + 1, kNone);
   std::vector<std::uint32_t> pending;  // hydrogens on the current heavy atom
+  std::vector<std::uint8_t> done(count, 0);
   const std::size_t heavy = molecule.heavy_atom_count();
-  std::vector<std::vector<std::uint32_t>> terminal_h(heavy);
-  for (std::size_t h = heavy; h < count; ++h) {
+  // Terminal hydrogens of each heavy atom, in index order (counting sort).
+  std::vector<std::uint32_t> h_start(heavy + 2, 0), h_list;
+  auto terminal_parent = [&](std::size_t h) -> std::size_t {
     const std::int64_t parent = molecule.attached_to(h);
     if (molecule.degree(h) == 1 && parent >= 0 && static_cast<std::size_t>(parent) < heavy)
-      terminal_h[static_cast<std::size_t>(parent)].push_back(static_cast<std::uint32_t>(h));
+      return static_cast<std::size_t>(parent);
+    return heavy;
+  };
+  for (std::size_t h = heavy; h < count; ++h) ++h_start[terminal_parent(h) + 1];
+  for (std::size_t a = 0; a < heavy; ++a) h_start[a + 1] += h_start[a];
+  h_list.resize(h_start[heavy]);
+  {
+    std::vector<std::uint32_t> fill(h_start.begin(), h_start.begin() + static_cast<std::ptrdiff_t>(heavy));
+    for (std::size_t h = heavy; h < count; ++h) {
+      const std::size_t parent = terminal_parent(h);
+      if (parent < heavy) h_list[fill[parent]++] = static_cast<std::uint32_t>(h);
+    }
   }
   auto take_class = [&](std::size_t a) {
     const std::uint32_t rep = by_class[classes.topological[a]];
     if (rep == kNone) return false;
-    codes[a] = codes[rep];
+    copy(a, rep);
+    done[a] = 1;
     return true;
+  };
+  auto record = [&](std::size_t a) {
+    by_class[classes.topological[a]] = static_cast<std::uint32_t>(a);
+    done[a] = 1;
   };
   for (std::size_t a = 0; a < heavy; ++a) {
     pending.clear();
-    for (auto h : terminal_h[a])
-      if (!take_class(h)) pending.push_back(h);
+    for (std::uint32_t i = h_start[a]; i < h_start[a + 1]; ++i)
+      if (!take_class(h_list[i])) pending.push_back(h_list[i]);
     const bool heavy_done = take_class(a);
     if (heavy_done && pending.empty()) continue;
     engine.run(static_cast<std::uint32_t>(a));
     if (!heavy_done) {
-      codes[a] = engine.code(static_cast<std::uint32_t>(a));
-      by_class[classes.topological[a]] = static_cast<std::uint32_t>(a);
+      centre(a);
+      record(a);
     }
     for (auto h : pending) {
       if (take_class(h)) continue;
-      const auto b = static_cast<std::size_t>(molecule.bond_between(h, a));
-      codes[h] = engine.hydrogen_code(h, static_cast<std::uint32_t>(a), molecule.bond(b).order);
-      by_class[classes.topological[h]] = h;
+      // A terminal hydrogen's only bond is the one to `a`.
+      hydrogen(h, a, molecule.bond(*molecule.bond_ids_begin(h)).order);
+      record(h);
     }
   }
   // Hydrogens bonded to no heavy atom, or to more than one atom.
   for (std::size_t h = heavy; h < count; ++h) {
-    if (!codes[h].empty() || take_class(h)) continue;
+    if (done[h] || take_class(h)) continue;
     engine.run(static_cast<std::uint32_t>(h));
-    codes[h] = engine.code(static_cast<std::uint32_t>(h));
-    by_class[classes.topological[h]] = static_cast<std::uint32_t>(h);
+    centre(h);
+    record(h);
   }
+}
+
+}  // namespace
+
+std::vector<std::string> hose_codes(const Molecule &molecule, const AtomClasses &classes, int spheres) {
+  check_request(molecule, classes, spheres);
+  std::vector<std::string> codes(molecule.atom_count());
+  if (codes.empty()) return codes;
+  // One heap block (the engine keeps its scratch inline), not one per buffer.
+  const auto engine_ptr = std::make_unique<Engine>(molecule, spheres, classes.invariant_rank);
+  Engine &engine = *engine_ptr;
+  code_every_atom(
+      molecule, classes, engine,
+      [&](std::size_t a) { codes[a] = engine.code(static_cast<std::uint32_t>(a)); },
+      [&](std::size_t h, std::size_t a, BondOrder bond) {
+        codes[h] = engine.hydrogen_code(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond);
+      },
+      [&](std::size_t to, std::size_t from) { codes[to] = codes[from]; });
   return codes;
+}
+
+std::vector<std::vector<std::string>> hose_spheres_all(const Molecule &molecule, const AtomClasses &classes,
+                                                       int spheres) {
+  check_request(molecule, classes, spheres);
+  std::vector<std::vector<std::string>> parts(molecule.atom_count());
+  if (parts.empty()) return parts;
+  const auto engine_ptr = std::make_unique<Engine>(molecule, spheres, classes.invariant_rank);
+  Engine &engine = *engine_ptr;
+  code_every_atom(
+      molecule, classes, engine, [&](std::size_t a) { parts[a] = engine.parts(static_cast<std::uint32_t>(a)); },
+      [&](std::size_t h, std::size_t a, BondOrder bond) {
+        parts[h] = engine.hydrogen_parts(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond);
+      },
+      [&](std::size_t to, std::size_t from) { parts[to] = parts[from]; });
+  return parts;
 }
 
 std::string join_hose_spheres(const std::vector<std::string> &parts, int spheres) {

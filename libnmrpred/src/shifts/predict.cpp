@@ -150,9 +150,10 @@ const std::vector<std::uint32_t> &ShiftQuery::excluded_compounds() const {
 }
 
 const std::vector<std::string> &ShiftQuery::parts(std::size_t atom) const {
-  auto &slot = parts_cache_[atom];
-  if (slot.empty()) slot = hose_spheres(molecule, classes, atom, kMaxHoseSpheres);
-  return slot;
+  // One pass over the molecule computes every atom's code once per class,
+  // which costs less than a few single-atom calls.
+  if (parts_.empty()) parts_ = hose_spheres_all(molecule, classes, kMaxHoseSpheres);
+  return parts_.at(atom);
 }
 
 std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const ShiftSource *> &sources,

@@ -73,8 +73,9 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     const auto h1_increments = make_h1_increments(tables.h1_increments(), c.solvent);
     const int origin = c.user ? kUser : kBuiltin;
     index->has_user |= c.user;
+    const auto all_parts = hose_spheres_all(m, classes, kMaxHoseSpheres);
     auto add = [&](int nucleus, std::size_t centre, double value) {
-      const auto parts = hose_spheres(m, classes, centre, kMaxHoseSpheres);
+      const auto &parts = all_parts[centre];
       double inc = std::numeric_limits<double>::quiet_NaN();
       Shift s;
       if (nucleus == kIndexC13 && increments->estimate(q, centre, s)) inc = s.ppm;

@@ -37,7 +37,7 @@ class ShiftQuery {
  private:
   mutable bool excluded_done_ = false;
   mutable std::vector<std::uint32_t> excluded_;
-  mutable std::unordered_map<std::size_t, std::vector<std::string>> parts_cache_;
+  mutable std::vector<std::vector<std::string>> parts_;
 };
 
 class ShiftSource {
