@@ -29,13 +29,12 @@
 #include <fmt/format.h>
 
 #include "graph/smarts.hpp"
+#include "shifts/increment_support.hpp"
 #include "tables/parse.hpp"
 
 namespace nmrpred::detail {
 
 namespace {
-
-using Opt = std::optional<double>;
 
 // ---------------------------------------------------------------------------
 // Uncertainties (one standard deviation, ppm): sigma = sqrt(floor^2 +
@@ -44,10 +43,6 @@ using Opt = std::optional<double>;
 // they leave out). Calibrated against tables/reference/*.tsv (every
 // assigned proton a scheme covers, rules only) so that about two thirds of
 // the errors fall within one sigma; figures in the report of this change.
-struct Spread {
-  double floor_ppm;
-  double slope_ppm;
-};
 constexpr Spread kShoolerySpread{0.21, 0.0};
 constexpr Spread kAlphaSpread{0.15, 0.0};
 constexpr Spread kBetaSpread{0.10, 0.0};
@@ -148,45 +143,6 @@ std::string lower_trimmed(std::string_view s) {
   for (auto &c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
   return out;
 }
-
-class TableReader {
- public:
-  TableReader(const Tables &tables, const char *path) : path_(path) {
-    const auto text = tables.file_text(path);
-    present_ = !text.empty();
-    if (present_) table_ = parse_tsv(text, path, true);
-  }
-  bool present() const { return present_; }
-  const TsvTable &table() const { return table_; }
-  std::size_t col(const char *name) const { return column(table_, name); }
-  [[noreturn]] void fail(const TsvRow &row, const std::string &why) const {
-    throw TablesError(fmt::format("{}:{}: {}", path_, row.line, why));
-  }
-  Opt ppm(const TsvRow &row, std::size_t c) const {
-    const auto &f = row.fields[c];
-    if (f == "-") return std::nullopt;
-    double v = 0;
-    if (!parse_double(f, v)) fail(row, fmt::format("column '{}': '{}' is not a number", table_.columns[c], f));
-    return v;
-  }
-  double need_ppm(const TsvRow &row, std::size_t c) const {
-    const auto v = ppm(row, c);
-    if (!v) fail(row, fmt::format("column '{}' needs a number", table_.columns[c]));
-    return *v;
-  }
-  SmartsPattern smarts(const TsvRow &row, std::size_t c) const {
-    try {
-      return SmartsPattern(row.fields[c]);
-    } catch (const TablesError &e) {
-      fail(row, e.what());
-    }
-  }
-
- private:
-  const char *path_;
-  bool present_ = false;
-  TsvTable table_;
-};
 
 }  // namespace
 
@@ -419,31 +375,10 @@ Estimate from_sum(const Sum &s) { return Estimate{s.ppm(), s.uncertainty(), s.me
 // ---------------------------------------------------------------------------
 // Graph helpers
 
-bool is_sp3_carbon(const Molecule &m, std::size_t a) {
-  const auto &at = m.atom(a);
-  if (at.atomic_number != 6 || at.aromatic || at.formal_charge != 0 || at.radical_electrons != 0) return false;
-  if (m.degree(a) != 4) return false;
-  const auto *bid = m.bond_ids_begin(a);
-  for (std::size_t i = 0; i < m.degree(a); ++i)
-    if (m.bond(bid[i]).order != BondOrder::Single) return false;
-  return true;
-}
-
-template <class F>
-void for_heavy_neighbours(const Molecule &m, std::size_t a, F f) {
-  const auto *bid = m.bond_ids_begin(a);
-  for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid)
-    if (m.atom(*it).atomic_number != 1) f(static_cast<std::size_t>(*it), m.bond(*bid).order);
-}
-
 std::vector<std::size_t> heavy_neighbours(const Molecule &m, std::size_t a) {
   std::vector<std::size_t> out;
   for_heavy_neighbours(m, a, [&](std::size_t x, BondOrder) { out.push_back(x); });
   return out;
-}
-
-std::string atom_label(const Molecule &m, std::size_t a) {
-  return fmt::format("{}{}", Molecule::element_symbol(m.atom(a).atomic_number), a);
 }
 
 // Aromatic or part of a double/triple bond (tables/FORMAT.md, alkene variants).
