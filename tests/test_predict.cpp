@@ -164,19 +164,6 @@ void write_file(const std::filesystem::path &dir, const std::string &rel, std::s
 }
 
 // A fresh empty folder under the system's temporary folder, removed at scope exit.
-struct TempDir {
-  std::filesystem::path path;
-  explicit TempDir(const std::string &tag) {
-    path = std::filesystem::temp_directory_path() /
-           ("nmrpred-test-predict-" + tag + "-" + std::to_string(reinterpret_cast<std::uintptr_t>(this)));
-    std::filesystem::remove_all(path);
-    std::filesystem::create_directories(path);
-  }
-  ~TempDir() {
-    std::error_code ec;
-    std::filesystem::remove_all(path, ec);
-  }
-};
 
 }  // namespace
 
