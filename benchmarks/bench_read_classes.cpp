@@ -16,6 +16,7 @@
 #include <nmrpred/molecule.hpp>
 #include <nmrpred/predict.hpp>
 #include <nmrpred/shifts.hpp>
+#include <nmrpred/spectrum.hpp>
 #include <nmrpred/tables.hpp>
 
 #include <sys/utsname.h>
@@ -168,9 +169,90 @@ int main(int argc, char **argv) {
                if (r.molecule) n += nmrpred::predict_c13(*r.molecule, nmrpred::compute_classes(*r.molecule), *tables).size();
              return n;
            }, sink));
+    // Couplings and the 1H simulation are timed apart (below), so this stage
+    // keeps measuring what it measured before they existed.
+    nmrpred::PredictOptions shifts_only;
+    shifts_only.predict_couplings = false;
     report("predict_all (read, classes, HOSE, 13C, 1H)", records.size(), time_it(repeats, [&] {
-             return nmrpred::predict_all(text, nmrpred::Format::Smiles, *tables).size();
+             return nmrpred::predict_all(text, nmrpred::Format::Smiles, *tables, shifts_only).size();
            }, sink));
+    // Default options: + couplings, the 1H line list and multiplets at 400 MHz.
+    report("predict_all + 1H line list", records.size(), time_it(repeats, [&] {
+             std::size_t n = 0;
+             for (const auto &r : nmrpred::predict_all(text, nmrpred::Format::Smiles, *tables))
+               if (r.prediction && r.prediction->h1_simulation) n += r.prediction->h1_simulation->lines.size();
+             return n;
+           }, sink));
+    // The line lists are made once; this times only sampling them (with the
+    // residual solvent and water signals) on 65536 points.
+    std::vector<nmrpred::Simulation> sims;
+    nmrpred::Solvent cdcl3 = nmrpred::find_solvent(*tables, "CDCl3");
+    for (const auto &r : nmrpred::predict_all(text, nmrpred::Format::Smiles, *tables))
+      if (r.prediction && r.prediction->h1_simulation) sims.push_back(*r.prediction->h1_simulation);
+    const auto solvent_signals = nmrpred::solvent_peaks(cdcl3, nmrpred::Nucleus::H1, 400);
+    nmrpred::SamplingOptions sampling = nmrpred::sampling_defaults(nmrpred::Nucleus::H1, 400);
+    sampling.points = 65536;
+    report("  64k-point sampling of those lists", sims.size(), time_it(repeats, [&] {
+             std::size_t n = 0;
+             for (const auto &sim : sims) {
+               std::vector<nmrpred::Multiplet> all = sim.multiplets;
+               for (const auto &p : solvent_signals) all.push_back(p.signal);
+               n += nmrpred::sample_signals(all, sampling).intensity.size();
+             }
+             return n;
+           }, sink));
+
+    // Per molecule: reading one SMILES line, then the full 1H line list
+    // (prediction + couplings + simulation), then 64k-point sampling; the
+    // ratios to reading are taken per molecule and their median reported.
+    {
+      std::vector<double> read_t, lines_t, sample_t, lines_ratio, sample_ratio;
+      std::istringstream in(text);
+      std::string line;
+      while (std::getline(in, line)) {
+        if (line.empty()) continue;
+        auto t0 = Clock::now();
+        auto recs = nmrpred::read_records(line, nmrpred::Format::Smiles);
+        auto t1 = Clock::now();
+        if (recs.empty() || !recs[0].molecule) continue;
+        nmrpred::RecordPrediction r;
+        try {
+          r = nmrpred::predict_record(std::move(recs[0]), *tables);
+        } catch (const nmrpred::Error &) {
+          continue;
+        }
+        auto t2 = Clock::now();
+        if (!r.prediction || !r.prediction->h1_simulation) continue;
+        std::vector<nmrpred::Multiplet> all = r.prediction->h1_simulation->multiplets;
+        for (const auto &p : solvent_signals) all.push_back(p.signal);
+        sink += nmrpred::sample_signals(all, sampling).intensity.size();
+        auto t3 = Clock::now();
+        const double rt = std::chrono::duration<double>(t1 - t0).count();
+        const double lt = std::chrono::duration<double>(t2 - t1).count();
+        const double st = std::chrono::duration<double>(t3 - t2).count();
+        read_t.push_back(rt);
+        lines_t.push_back(lt);
+        sample_t.push_back(st);
+        lines_ratio.push_back(lt / rt);
+        sample_ratio.push_back(st / rt);
+      }
+      auto median = [](std::vector<double> v) {
+        if (v.empty()) return 0.0;
+        std::sort(v.begin(), v.end());
+        return v[v.size() / 2];
+      };
+      auto p95 = [](std::vector<double> v) {
+        if (v.empty()) return 0.0;
+        std::sort(v.begin(), v.end());
+        return v[v.size() * 95 / 100];
+      };
+      fmt::print("\nper molecule ({} with a 1H spectrum; median / 95th percentile, one pass):\n", read_t.size());
+      fmt::print("  read one SMILES                {:>9.1f} / {:>9.1f} us\n", 1e6 * median(read_t), 1e6 * p95(read_t));
+      fmt::print("  1H line list (predict, J, sim) {:>9.1f} / {:>9.1f} us   x{:.1f} / x{:.1f} of reading\n",
+                 1e6 * median(lines_t), 1e6 * p95(lines_t), median(lines_ratio), p95(lines_ratio));
+      fmt::print("  + 64k-point sampling           {:>9.1f} / {:>9.1f} us   x{:.1f} / x{:.1f} of reading\n",
+                 1e6 * median(sample_t), 1e6 * p95(sample_t), median(sample_ratio), p95(sample_ratio));
+    }
 
     // Cost grows with size; report classes + codes per size class of heavy atoms.
     const std::size_t bounds[] = {15, 30, static_cast<std::size_t>(-1)};

@@ -11,17 +11,25 @@ NMRPRED_DEBIAN_PACKAGES=(
   python3-rdkit rdkit-data nlohmann-json3-dev libcli11-dev
 )
 
+# Only for the benchmarks (benchmarks/spin_numpy_reference.py): Debian's
+# OpenBLAS, so that the NumPy reference runs on an optimised BLAS/LAPACK
+# rather than the reference one. Not needed to build or test.
+NMRPRED_BENCH_DEBIAN_PACKAGES=(libopenblas0-pthread)
+
 # Debian's interpreter: the python3 first on PATH may be a different one
 # without the packages above.
 PYTHON=/usr/bin/python3
 
 log() { printf '==> %s\n' "$*" >&2; }
 
-# Installs only the packages that are missing, so a second run costs one
-# dpkg-query call and no network.
+# ensure_packages [PKG...]: installs those of the packages (default: the
+# list above) that are missing, so a second run costs one dpkg-query call
+# and no network.
 ensure_packages() {
   local missing=() pkg status
-  for pkg in "${NMRPRED_DEBIAN_PACKAGES[@]}"; do
+  local wanted=("$@")
+  ((${#wanted[@]})) || wanted=("${NMRPRED_DEBIAN_PACKAGES[@]}")
+  for pkg in "${wanted[@]}"; do
     status=$(dpkg-query -W -f='${db:Status-Status}' "$pkg" 2>/dev/null || true)
     [[ "$status" == installed ]] || missing+=("$pkg")
   done

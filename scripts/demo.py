@@ -18,6 +18,14 @@ The structures are read from a SMILES file (column 1: SMILES, the rest: sample
 code and name), run through the command-line program `nmrpred predict`, and
 its JSON Lines output is printed as one table per molecule.
 
+Finally, for the key intermediate (INT-3 by default) the demo asks `nmrpred
+spectrum` for its simulated 1H spectrum at 400 MHz: the multiplet list, the
+same list written the way a paper's experimental section would, and an SVG
+drawing plus a JCAMP-DX file in the output folder (default: demo/ inside the
+build folder), to lay beside the measured spectrum. Then `nmrpred match` ranks
+the proposed structure and two isomers against a 1H peak list for it; that
+list (demo/INT-3_measured_invented.txt) is invented for the demo, not measured.
+
 Run it through `bash scripts/demo.sh`, or directly:
     /usr/bin/python3 scripts/demo.py --cli build/bin/nmrpred demo/route.smi
 """
@@ -25,6 +33,7 @@ Run it through `bash scripts/demo.sh`, or directly:
 import argparse
 import collections
 import json
+import pathlib
 import subprocess
 import sys
 
@@ -165,11 +174,74 @@ def print_record(code, name, smiles, rec):
     return formula, len(carbons), len(hydrogens)
 
 
+def show_spectrum(cli, smiles_file, titles, code, out_dir):
+    """Simulated 1H spectrum of the record `code`: multiplets, prose, SVG and JCAMP-DX files."""
+    codes = [t[0] for t in titles]
+    if code not in codes:
+        print(f"\n(no sample {code} in {smiles_file}: no spectrum shown)")
+        return True
+    record = codes.index(code)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    svg, jdx = out_dir / f"{code}_1H.svg", out_dir / f"{code}_1H.jdx"
+    cmd = [cli, "spectrum", smiles_file, "--record", str(record), "--mhz", "400", "--solvent-signals",
+           "--svg", str(svg), "--jcamp", str(jdx)]
+    proc = subprocess.run(cmd, capture_output=True, text=True, timeout=120)
+    print("=" * 78)
+    print(f"Simulated 1H spectrum of {code} {titles[record][1]} (400 MHz, CDCl3)")
+    if proc.returncode != 0:
+        print(f"  could not be simulated (exit {proc.returncode}): {proc.stderr.strip()}")
+        return False
+    out = json.loads(proc.stdout)
+    print(f"  {'ppm':>6}  {'label':<6} {'J / Hz':<18} {'nH':>3}  atoms")
+    for m in out["multiplets"]:
+        j = ", ".join(f"{v:.1f}" for v in m["j_hz"]) or "-"
+        atoms = " ".join(map(str, m["atoms"]))
+        print(f"  {m['ppm']:>6.2f}  {m['label']:<6} {j:<18} {m['integral']:>3.0f}  {atoms}")
+    for s in out.get("solvent_signals", []):
+        print(f"  {s['ppm']:>6.2f}  {s['label']:<6} {'-':<18} {'':>3}  solvent: {s['text']}")
+    print("  as a paper would list it:")
+    print(f"    {out['text']}")
+    for w in out["warnings"]:
+        print(f"  note: {w}")
+    print(f"  drawing:  {svg}")
+    print(f"  JCAMP-DX: {jdx}")
+    print("  The shifts and couplings are estimates: expect the measured lines within the")
+    print("  predicted uncertainty, with the same multiplet shapes.")
+    return True
+
+
+def show_match(cli, candidates, measured):
+    """Ranks the candidates of `candidates` against the peak list in `measured` (invented demo data)."""
+    if not (candidates.is_file() and measured.is_file()):
+        print(f"\n(no {candidates.name} / {measured.name}: no match shown)")
+        return True
+    proc = subprocess.run([cli, "match", str(candidates), "--measured", str(measured)],
+                          capture_output=True, text=True, timeout=120)
+    print("=" * 78)
+    print("Which structure fits the measured 1H list? (the list is INVENTED demo data)")
+    print("  " + measured.read_text(encoding="utf-8").strip())
+    if proc.returncode not in (0, 1) or not proc.stdout.strip():
+        print(f"  could not be matched (exit {proc.returncode}): {proc.stderr.strip()}")
+        return False
+    out = json.loads(proc.stdout)
+    print(f"  {'rank':>4}  {'score':>7}  {'verdict':<12} candidate")
+    for k, r in enumerate(out.get("ranking", []), 1):
+        score = r.get("score")
+        score_text = f"{score:7.3f}" if isinstance(score, (int, float)) else f"{'-':>7}"
+        print(f"  {k:>4}  {score_text}  {str(r.get('verdict', '')):<12} {r.get('title', '')}")
+    if out.get("margin") is not None:
+        print(f"  margin to the runner-up: {out['margin']}")
+    return proc.returncode == 0
+
+
 def main():
     ap = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     ap.add_argument("--cli", required=True, help="path to the nmrpred program")
+    ap.add_argument("--spectrum", default="INT-3", help="sample code whose 1H spectrum is simulated")
+    ap.add_argument("--out", help="folder for the spectrum files (default: demo/ in the build folder)")
     ap.add_argument("smiles_file", help="SMILES file: SMILES, sample code, name")
     args = ap.parse_args()
+    out_dir = pathlib.Path(args.out) if args.out else pathlib.Path(args.cli).resolve().parent.parent / "demo"
 
     titles = read_titles(args.smiles_file)
     records, status = run_cli(args.cli, args.smiles_file)
@@ -202,9 +274,13 @@ def main():
             print("  The signal counts differ, so a clean spectrum can tell these apart.")
         else:
             print("  Some share their signal counts: counts alone will not tell them apart.")
-    print("\nThese counts support, and never replace, the measured spectrum and the lab's own")
-    print("release procedure.")
-    return 0 if status == 0 else 1
+    spectrum_ok = show_spectrum(args.cli, args.smiles_file, titles, args.spectrum, out_dir)
+    demo_dir = pathlib.Path(args.smiles_file).resolve().parent
+    match_ok = show_match(args.cli, demo_dir / f"{args.spectrum}_candidates.smi",
+                          demo_dir / f"{args.spectrum}_measured_invented.txt")
+    print("\nThese counts and spectra support, and never replace, the measured spectrum and the")
+    print("lab's own release procedure.")
+    return 0 if status == 0 and spectrum_ok and match_ok else 1
 
 
 if __name__ == "__main__":

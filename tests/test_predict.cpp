@@ -678,8 +678,9 @@ TEST_SUITE("predict") {
       const auto &g = p.h1_signals[k];
       std::vector<std::string> keys;
       for (const auto &kv : h1[k].items()) keys.push_back(kv.key());
+      // Keys are only ever appended: the multiplet keys follow (couplings are on by default).
       CHECK(keys == std::vector<std::string>{"shift", "atoms", "count", "shift_uncertainty", "exchangeable",
-                                             "observed", "shift_method"});
+                                             "observed", "shift_method", "multiplicity", "j_hz", "lines"});
       CHECK(h1[k].at("shift").get<double>() == g.ppm);
       CHECK(h1[k].at("atoms").get<std::vector<std::size_t>>() == g.atoms);
       CHECK(h1[k].at("count") == g.count);
@@ -753,5 +754,237 @@ TEST_SUITE("predict") {
     CHECK(j.at("residual_1h").get<std::vector<double>>() == std::vector<double>{s.h1_residual[0].shift_ppm});
     CHECK(nlohmann::json::parse(nmrpred::to_json(nmrpred::find_solvent(builtin_tables(), "D2O")))
               .at("exchanges_labile_protons") == true);
+  }
+
+  // Couplings and the simulated 1H spectrum carried through predict().
+  //
+  // Sources of the expected values:
+  //  [GOTTLIEB-T1] GOTTLIEB-1997 (tables/SOURCES.md), Table 1, ethyl acetate in
+  //                CDCl3: CH3CO 2.05 (s), OCH2 4.12 (q, J = 7.1 Hz), CH3 1.26
+  //                (t, J = 7.1 Hz) (from memory).
+  //  [CP-J]        Common practice for first-order 1H spectra (any introductory
+  //                NMR text): n equivalent neighbours split a signal into n+1
+  //                lines ("t" from CH2, "q" from CH3), a methyl with no proton
+  //                within three bonds is a singlet; OH protons exchange fast in
+  //                CDCl3, lose their couplings and appear as a broad singlet;
+  //                the lines of a multiplet add up to its integral; para-
+  //                disubstituted benzenes with different substituents show two
+  //                2H "doublets" (an AA'XX' pattern) at high field, which grow
+  //                into a roofed second-order pattern ("AA'BB'") when the shift
+  //                difference in Hz approaches J, the inner lines of each half
+  //                gaining intensity (the roof effect).
+  //  [CF]          1J(C,F) of fluorobenzene about 245 Hz, so the C-F carbon of a
+  //                proton-decoupled 13C spectrum is a doublet (common practice;
+  //                PRETSCH-2009, tables/SOURCES.md, 13C-19F couplings, from memory).
+
+  // Heavy atom whose protons make up `g` (protons only).
+  std::size_t heavy_of(const Prediction &p, const nmrpred::Signal &g) {
+    return static_cast<std::size_t>(p.molecule.attached_to(g.atoms.at(0)));
+  }
+
+  const nmrpred::Signal *signal_on(const Prediction &p, std::size_t heavy) {
+    for (const auto &g : p.h1_signals)
+      if (heavy_of(p, g) == heavy) return &g;
+    return nullptr;
+  }
+
+  double line_sum(const nmrpred::Signal &g) {
+    double s = 0;
+    for (const auto &l : g.lines) s += l.intensity;
+    return s;
+  }
+
+  TEST_CASE("ethyl acetate at 400 MHz: acetyl s, OCH2 q and CH3 t with J near 7 Hz, integrals 3:2:3") {
+    // CC(=O)OCC: 0 acetyl CH3, 1 C=O, 2 =O, 3 O, 4 OCH2, 5 CH3.
+    const auto p = predict_smiles("CC(=O)OCC", builtin_tables());
+    CHECK(p.options.predict_couplings);
+    CHECK_FALSE(p.couplings.empty());
+    REQUIRE(p.h1_simulation.has_value());
+    REQUIRE(p.h1_signals.size() == 3);
+    const struct {
+      std::size_t heavy;
+      const char *label;
+      int count;
+      double j_hz;  // <0: none
+      const char *source;
+    } rows[] = {{0, "s", 3, -1, "[GOTTLIEB-T1] CH3CO 2.05 s"},
+                {4, "q", 2, 7.1, "[GOTTLIEB-T1] OCH2 4.12 q 7.1"},
+                {5, "t", 3, 7.1, "[GOTTLIEB-T1] CH3 1.26 t 7.1"}};
+    for (const auto &row : rows) {
+      INFO("heavy atom ", row.heavy, " ", row.source);
+      const nmrpred::Signal *g = signal_on(p, row.heavy);
+      REQUIRE(g != nullptr);
+      CHECK(g->multiplicity == row.label);
+      CHECK(g->count == row.count);
+      if (row.j_hz < 0) {
+        CHECK(g->j_hz.empty());
+      } else {
+        REQUIRE(g->j_hz.size() == 1);
+        check_close(g->j_hz[0], row.j_hz, 1.0);  // vicinal J of free rotation, 6-8 Hz [CP-J]
+      }
+      // [CP-J] one line for s, n+1 for n equivalent neighbours; lines add up to the integral.
+      CHECK(g->lines.size() == (row.label[0] == 's' ? 1u : row.label[0] == 't' ? 3u : 4u));
+      check_close(line_sum(*g), g->count, 1e-6);
+      for (std::size_t k = 1; k < g->lines.size(); ++k) CHECK(g->lines[k - 1].ppm < g->lines[k].ppm);
+      for (const auto &l : g->lines) check_close(l.hz, l.ppm * p.options.field_mhz, 1e-6);
+    }
+  }
+
+  TEST_CASE("the OH of ethanol is a broad singlet in CDCl3, and in D2O it has no lines") {
+    const auto p = predict_smiles("CCO", builtin_tables());
+    const nmrpred::Signal *oh = signal_on(p, 2);
+    REQUIRE(oh != nullptr);
+    CHECK(oh->multiplicity == "br s");  // [CP-J] fast exchange
+    CHECK(oh->j_hz.empty());
+    // Exchange decouples the OH, so the CH2 sees only the CH3: a quartet [CP-J].
+    REQUIRE(signal_on(p, 1) != nullptr);
+    CHECK(signal_on(p, 1)->multiplicity == "q");
+
+    PredictOptions d2o;
+    d2o.solvent = "D2O";
+    const auto q = predict_smiles("CCO", builtin_tables(), d2o);
+    REQUIRE(q.h1_exchanged_signals.size() == 1);
+    CHECK(q.h1_exchanged_signals[0].lines.empty());
+    CHECK(q.h1_exchanged_signals[0].multiplicity.empty());
+    double total = 0;
+    for (const auto &g : q.h1_signals) total += line_sum(g);
+    check_close(total, 5, 1e-6);  // [CP-1H] CH3 + CH2: the spectrum shows 5 protons
+    REQUIRE(q.h1_simulation.has_value());
+    for (const auto &m : q.h1_simulation->multiplets) CHECK(m.atoms != q.h1_exchanged_signals[0].atoms);
+  }
+
+  // Lines closer than the line width merge on the spectrum; returns the
+  // intensities of the peaks one sees, by position.
+  std::vector<std::pair<double, double>> visible_peaks(const nmrpred::Signal &g, double field_mhz, double width_hz) {
+    std::vector<std::pair<double, double>> peaks;  // (ppm, intensity)
+    for (const auto &l : g.lines) {
+      if (!peaks.empty() && (l.ppm - peaks.back().first) * field_mhz < width_hz) {
+        auto &p = peaks.back();
+        p.first = (p.first * p.second + l.ppm * l.intensity) / (p.second + l.intensity + 1e-300);
+        p.second += l.intensity;
+      } else {
+        peaks.emplace_back(l.ppm, l.intensity);
+      }
+    }
+    return peaks;
+  }
+
+  TEST_CASE("a para-disubstituted benzene gives two 2H doublet-like signals at 400 MHz and roofed multiplets at 40 MHz") {
+    // 4-nitroanisole: ring protons ortho to NO2 near 8.2 ppm, ortho to OMe
+    // near 6.9 ppm (Delta nu about 500 Hz at 400 MHz, J(ortho) 8-9 Hz). The
+    // AA'XX' pattern is written "d" in papers although it is not first order
+    // [CP-J]; what makes it look like one is that two lines about J(ortho)
+    // apart carry most of the intensity, which is what is checked (the label
+    // itself is the simulation's to choose: "d" or "m").
+    const auto hi = predict_smiles("COc1ccc(cc1)[N+](=O)[O-]", builtin_tables());
+    std::vector<const nmrpred::Signal *> ring;
+    for (const auto &g : hi.h1_signals)
+      if (hi.molecule.atom(heavy_of(hi, g)).aromatic) ring.push_back(&g);
+    REQUIRE(ring.size() == 2);
+    for (const auto *g : ring) {
+      INFO("ring signal at ", g->ppm, " [CP-J] AA'XX' seen as a doublet");
+      CHECK(g->count == 2);
+      auto peaks = visible_peaks(*g, 400, 1.0);
+      REQUIRE(peaks.size() >= 2);
+      std::sort(peaks.begin(), peaks.end(), [](const auto &x, const auto &y) { return x.second > y.second; });
+      check_close(std::abs(peaks[0].first - peaks[1].first) * 400, 8.5, 1.5);  // ortho J 7-10 Hz [CP-J]
+      CHECK(peaks[0].second + peaks[1].second >= 0.6 * g->count);
+      check_close(line_sum(*g), 2, 1e-6);
+    }
+
+    // At 40 MHz the two halves are about 50 Hz apart, some six J: each half
+    // leans towards the other (roof effect [CP-J]), so the lines nearer the
+    // partner carry more intensity than those farther away, and the pattern
+    // is second order, written "m" [CP-J].
+    PredictOptions low;
+    low.field_mhz = 40;
+    const auto lo = predict_smiles("COc1ccc(cc1)[N+](=O)[O-]", builtin_tables(), low);
+    std::vector<const nmrpred::Signal *> ring40;
+    for (const auto &g : lo.h1_signals)
+      if (lo.molecule.atom(heavy_of(lo, g)).aromatic) ring40.push_back(&g);
+    REQUIRE(ring40.size() == 2);
+    const double mid = (ring40[0]->ppm + ring40[1]->ppm) / 2;
+    for (const auto *g : ring40) {
+      INFO("ring signal at ", g->ppm, " (40 MHz)");
+      CHECK(g->multiplicity == "m");
+      double inner = 0, outer = 0;
+      for (const auto &l : g->lines) (std::abs(l.ppm - mid) < std::abs(g->ppm - mid) ? inner : outer) += l.intensity;
+      CHECK(inner > outer * 1.1);
+      check_close(inner + outer, 2, 1e-6);
+    }
+  }
+
+  TEST_CASE("the C-F carbon of fluorobenzene is a doublet of about 245 Hz in the 13C signals") {
+    const auto p = predict_smiles("Fc1ccccc1", builtin_tables());
+    const nmrpred::Signal *cf = nullptr;
+    for (const auto &g : p.c13_signals)
+      if (g.atoms == std::vector<std::size_t>{1}) cf = &g;
+    REQUIRE(cf != nullptr);
+    CHECK(cf->multiplicity == "d");  // [CF]
+    REQUIRE(cf->j_hz.size() == 1);
+    check_close(std::abs(cf->j_hz[0]), 245, 15);  // [CF]
+    CHECK(cf->lines.empty());
+    // A carbon without a heteronucleus nearby keeps no multiplicity: toluene's
+    // proton-decoupled 13C spectrum is all singlets, written without a letter.
+    for (const auto &g : predict_smiles("Cc1ccccc1", builtin_tables()).c13_signals) CHECK(g.multiplicity.empty());
+  }
+
+  TEST_CASE("with predict_couplings off there are no couplings, multiplets or lines") {
+    PredictOptions o;
+    o.predict_couplings = false;
+    const auto p = predict_smiles("CC(=O)OCC", builtin_tables(), o);
+    CHECK(p.couplings.empty());
+    CHECK_FALSE(p.h1_simulation.has_value());
+    for (const auto &g : p.h1_signals) {
+      CHECK(g.multiplicity.empty());
+      CHECK(g.lines.empty());
+    }
+    const auto j = nlohmann::json::parse(nmrpred::to_json(nmrpred::predict_record(
+        nmrpred::read_records("CC(=O)OCC", nmrpred::Format::Smiles).at(0), builtin_tables(), o)));
+    CHECK_FALSE(j.contains("couplings"));
+    CHECK_FALSE(j.at("signals").at("1H")[0].contains("multiplicity"));
+  }
+
+  TEST_CASE("the JSON of a record lists its couplings and each 1H signal's multiplicity and lines") {
+    const auto r = nmrpred::predict_record(nmrpred::read_records("CC(=O)OCC", nmrpred::Format::Smiles).at(0),
+                                           builtin_tables());
+    REQUIRE(r.ok());
+    const auto j = nlohmann::json::parse(nmrpred::to_json(r));
+    CHECK(j.at("field_mhz") == 400.0);
+    REQUIRE(j.at("couplings").size() == r.prediction->couplings.size());
+    for (const auto &c : j.at("couplings")) {
+      REQUIRE(c.at("atoms").size() == 2);
+      CHECK(c.at("atoms")[0].get<std::size_t>() < c.at("atoms")[1].get<std::size_t>());
+      for (const char *key : {"bonds", "j_hz", "uncertainty_hz", "rule", "source"}) CHECK(c.contains(key));
+    }
+    double total = 0;
+    for (const auto &g : j.at("signals").at("1H")) {
+      CHECK(g.at("multiplicity").is_string());
+      CHECK(g.at("j_hz").is_array());
+      for (const auto &l : g.at("lines")) total += l.at("intensity").get<double>();
+    }
+    check_close(total, 8, 1e-6);  // [CP-1H] C4H8O2
+    // Earlier keys are kept.
+    CHECK(j.at("signals").at("1H")[0].contains("count"));
+  }
+
+  TEST_CASE("field and line width out of range are ArgumentErrors naming the option") {
+    const struct {
+      double field_mhz, line_width_hz;
+      const char *name;
+    } rows[] = {{39, 1, "field_mhz"},     {1201, 1, "field_mhz"},      {std::nan(""), 1, "field_mhz"},
+                {400, 0, "line_width_hz"}, {400, 101, "line_width_hz"}, {400, std::nan(""), "line_width_hz"}};
+    for (const auto &row : rows) {
+      INFO(row.name, " ", row.field_mhz, " ", row.line_width_hz);
+      PredictOptions o;
+      o.field_mhz = row.field_mhz;
+      o.line_width_hz = row.line_width_hz;
+      try {
+        nmrpred::validate(o);
+        FAIL("accepted");
+      } catch (const nmrpred::ArgumentError &e) {
+        CHECK(std::string(e.what()).find(row.name) != std::string::npos);
+      }
+    }
   }
 }

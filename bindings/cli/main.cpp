@@ -1,7 +1,9 @@
 // nmrpred: command-line front end of libnmrpred. Prints JSON Lines to stdout:
 // `predict` one object per input record (the serializer in
-// nmrpred/predict.hpp), `reference` one object per reference compound of the
-// tables, `solvents` one object per solvent. Diagnostics go to stderr. The library itself never prints.
+// nmrpred/predict.hpp, with couplings and multiplets unless --no-couplings),
+// `reference` one object per reference compound of the tables, `solvents` one
+// object per solvent; `simulate`, `match` and `spectrum` live in cmd_*.cpp.
+// Diagnostics go to stderr. The library itself never prints.
 //
 // Exit status: 0 every record succeeded, 1 at least one record failed (or the
 // input held none), 2 the command line could not be carried out (usage error,
@@ -20,17 +22,11 @@
 
 #include <nmrpred/predict.hpp>
 
+#include "common.hpp"
+
 namespace {
 
-constexpr int kExitOk = 0;
-constexpr int kExitRecordFailed = 1;
-constexpr int kExitUsage = 2;
-
-/// Where the tables come from; shared by every subcommand that uses them.
-struct TablesArgs {
-  std::string dir;                      ///< empty: the built-in tables
-  std::vector<std::string> references;  ///< files of user reference records
-};
+using namespace nmrpred_cli;
 
 struct PredictArgs {
   std::vector<std::string> smiles;
@@ -40,45 +36,12 @@ struct PredictArgs {
   bool blind = false;
   bool no_shifts = false;
   bool no_h1 = false;
+  bool no_couplings = false;
+  double mhz = 400;
+  double line_width_hz = 1.0;
   std::string solvent = "CDCl3";
   TablesArgs tables;
 };
-
-/// The tables cannot be used: the command cannot be carried out (exit 2).
-struct SetupError {
-  std::string message;
-};
-
-std::string read_file(const std::string &path) {
-  std::ifstream in(path, std::ios::binary);
-  if (!in) throw SetupError{"cannot open '" + path + "' for reading"};
-  std::ostringstream ss;
-  ss << in.rdbuf();
-  if (in.bad()) throw SetupError{"error while reading '" + path + "'"};
-  return ss.str();
-}
-
-/// Built-in tables or those of --tables, plus every --reference file in
-/// command-line order (later files may not reuse earlier ids).
-std::shared_ptr<const nmrpred::Tables> load_tables(const TablesArgs &args) {
-  try {
-    auto tables = args.dir.empty() ? nmrpred::Tables::builtin() : nmrpred::Tables::load(args.dir);
-    for (const auto &path : args.references) tables = tables->with_user_reference(read_file(path), path);
-    return tables;
-  } catch (const nmrpred::TablesError &e) {
-    throw SetupError{e.what()};
-  } catch (const nmrpred::InputError &e) {
-    throw SetupError{e.what()};
-  }
-}
-
-void add_tables_options(CLI::App *cmd, TablesArgs &args) {
-  cmd->add_option("--tables", args.dir, "Folder of tables laid out like the project's tables/ (default: built in)")
-      ->check(CLI::ExistingDirectory);
-  cmd->add_option("--reference", args.references,
-                  "File of the user's reference records (tables/FORMAT.md); repeatable, used before built-in records")
-      ->allow_extra_args(false);
-}
 
 /// Prints one record and tells whether it succeeded.
 bool emit(const nmrpred::RecordPrediction &r) {
@@ -92,6 +55,9 @@ int run_predict(const PredictArgs &args) {
   options.blind = args.blind;
   options.predict_shifts = !args.no_shifts;
   options.predict_h1 = !args.no_h1;
+  options.predict_couplings = !args.no_couplings;
+  options.field_mhz = args.mhz;
+  options.line_width_hz = args.line_width_hz;
   options.solvent = args.solvent;
   nmrpred::validate(options);
   const nmrpred::Format format = nmrpred::parse_format(args.format);
@@ -210,6 +176,13 @@ int main(int argc, char **argv) {
                     "Predict shifts as if the tables did not hold the compound itself (honest test on known compounds)");
   predict->add_flag("--no-shifts", args.no_shifts, "Classes and HOSE codes only (faster)");
   predict->add_flag("--no-h1", args.no_h1, "Predict 13C shifts only");
+  predict->add_flag("--no-couplings", args.no_couplings,
+                    "Leave out couplings, multiplets and simulated lines (faster)");
+  predict->add_option("--mhz", args.mhz, "Spectrometer field as the 1H frequency, MHz (40..1200), for the multiplets")
+      ->capture_default_str();
+  predict->add_option("--line-width", args.line_width_hz,
+                      "Line width (full width at half height), Hz; smaller splittings are not resolved")
+      ->capture_default_str();
   predict->add_option("--solvent", args.solvent,
                       "Solvent of the sample, a name or alias listed by `nmrpred solvents` (D2O and CD3OD "
                       "exchange OH/NH/SH protons)")
@@ -226,6 +199,9 @@ int main(int argc, char **argv) {
       "solvents", "Print the solvents of the tables (residual and water signals), one JSON object per solvent");
   add_tables_options(solvents, solvents_args);
 
+  const std::vector<Command> commands = {add_simulate_command(app), add_match_command(app),
+                                         add_spectrum_command(app)};
+
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError &e) {
@@ -236,6 +212,8 @@ int main(int argc, char **argv) {
   try {
     if (reference->parsed()) return run_reference(reference_args);
     if (solvents->parsed()) return run_solvents(solvents_args);
+    for (const auto &c : commands)
+      if (c.app->parsed()) return c.run();
     if (args.smiles.empty() && args.file.empty()) {
       std::cerr << "nmrpred predict: give --smiles SMILES or a FILE ('-' for standard input)\n"
                 << "Run with --help for more information.\n";

@@ -106,8 +106,8 @@ NMR_API const char *nmr_status_string(int status);
 
 /* ----------------------------------------------------------------- options */
 
-/** Option keys. Append only. Keys 1 and 2 are reserved for the spectrum
- *  options (field in MHz, line width in Hz). Numeric options are set with
+/** Option keys. Append only. Keys 1 and 2 (field in MHz, line width in Hz)
+ *  are among the spectrum options further down. Numeric options are set with
  *  nmr_context_set_option_double(), text options (NMR_OPT_SOLVENT) with
  *  nmr_context_set_option_string(); a key given to the wrong one is
  *  NMR_ERR_UNSUPPORTED. */
@@ -131,6 +131,42 @@ enum {
    *  exchange for deuterium and give no 1H signal. */
   NMR_OPT_SOLVENT = 7
 };
+
+/** Spectrum and coupling options (append only). Numeric; they apply to later
+ *  nmr_predict(), nmr_result_simulate() and nmr_simulate_json() calls, and the
+ *  sampling ones (points, ppm range, line shape) are copied into each
+ *  nmr_spectrum when it is made. */
+enum {
+  /** Spectrometer field as the 1H frequency, MHz (40 .. 1200). Default 400.
+   *  Other nuclei resonate at this times their frequency ratio (13C: about
+   *  0.2515). A spin-system JSON's own "mhz" takes precedence over it. */
+  NMR_OPT_FIELD_MHZ = 1,
+  /** Full width at half height of a line, Hz (0 < w <= 100). Default 1.
+   *  Splittings narrower than the width are not resolved in multiplet labels
+   *  (nmr_predict() multiplicities, simulated multiplets). */
+  NMR_OPT_LINE_WIDTH_HZ = 2,
+  /** 1 (default): estimate J couplings with the shifts and simulate the 1H
+   *  spectrum at NMR_OPT_FIELD_MHZ, so that signals get a multiplicity and
+   *  nmr_result_coupling_count() finds the couplings. 0: none (faster; 1H
+   *  spectra of records are then singlets). */
+  NMR_OPT_PREDICT_COUPLINGS = 8,
+  /** Samples of a sampled spectrum's axis, both ends included (16 ..
+   *  4194304), or 0 (default): enough for at least 4 samples per line width. */
+  NMR_OPT_POINTS = 9,
+  /** Low and high ends of the sampled axis, ppm. NaN (default) picks the
+   *  usual range of the nucleus (1H: -0.5 .. 12; 13C: -5 .. 225; other
+   *  nuclei: the lines' span widened by 10 % and at least 1 ppm each side).
+   *  When both are set, low must be below high (checked when the spectrum is
+   *  made). */
+  NMR_OPT_PPM_LOW = 10,
+  NMR_OPT_PPM_HIGH = 11,
+  /** Line shape of sampled spectra: 1 Lorentzian (default), 2 Gaussian of the
+   *  same width. */
+  NMR_OPT_LINE_SHAPE = 12
+};
+
+/** Values of NMR_OPT_LINE_SHAPE. */
+enum { NMR_LINE_LORENTZIAN = 1, NMR_LINE_GAUSSIAN = 2 };
 
 /** Nuclei, by mass number. */
 enum { NMR_NUCLEUS_1H = 1, NMR_NUCLEUS_13C = 13 };
@@ -435,6 +471,291 @@ NMR_API int nmr_result_record_to_json(const nmr_result *res, size_t record, char
 
 /** Frees a string the library handed to you through a `char **` output. NULL is fine. */
 NMR_API void nmr_string_free(char *s);
+
+/* ------------------------------------------------------ result: couplings */
+/* Estimated J couplings of a record (NMR_OPT_PREDICT_COUPLINGS on at the time
+ * of nmr_predict()), sorted by atom pair. Each pair of atoms appears once,
+ * with atom_a < atom_b; couplings between equivalent atoms are included. */
+
+/** Number of couplings of a record; 0 for a failed record, NULL res, an index
+ *  out of range or couplings not predicted. */
+NMR_API size_t nmr_result_coupling_count(const nmr_result *res, size_t record);
+
+/** Coupling `i` of a record: its two atoms and the signed coupling constant
+ *  in Hz. Any output may be NULL if not wanted.
+ *  Errors: NMR_ERR_ARGUMENT (res NULL, record out of range or failed, i not
+ *  below the count); outputs are left untouched then. */
+NMR_API int nmr_result_coupling(const nmr_result *res, size_t record, size_t i, size_t *atom_a_out,
+                                size_t *atom_b_out, double *j_hz_out);
+
+/** Details of coupling `i`: bonds between the atoms (2 for 2J, 3 for 3J, ...),
+ *  one standard deviation in Hz, and the id of the coupling rule that gave it
+ *  (borrowed from res). Any output may be NULL. Errors as nmr_result_coupling(). */
+NMR_API int nmr_result_coupling_detail(const nmr_result *res, size_t record, size_t i, int *bonds_out,
+                                       double *uncertainty_hz_out, const char **rule_out);
+
+/** First-order multiplicity of a 1H signal in the trade's letters ("s", "d",
+ *  "t", "dd", "m", "br s", ...), "" when couplings were not predicted and for
+ *  13C. Borrowed from res. Errors as the other signal accessors. */
+NMR_API int nmr_result_signal_multiplicity(const nmr_result *res, size_t record, int nucleus, size_t signal,
+                                           const char **multiplicity_out);
+
+/** Number of resolved coupling constants behind a signal's multiplicity (one
+ *  per splitting step: 2 for "dt"); 0 for any invalid argument. */
+NMR_API size_t nmr_result_signal_j_count(const nmr_result *res, size_t record, int nucleus, size_t signal);
+
+/** Coupling constant `i` of a signal's multiplicity, Hz, largest first.
+ *  NMR_ERR_ARGUMENT also when i is not below nmr_result_signal_j_count(). */
+NMR_API int nmr_result_signal_j(const nmr_result *res, size_t record, int nucleus, size_t signal, size_t i,
+                                double *j_hz_out);
+
+/** Number of simulated lines of a 1H signal (NMR_OPT_PREDICT_COUPLINGS on:
+ *  the signal's multiplet at NMR_OPT_FIELD_MHZ); 0 for 13C, without
+ *  couplings, or for any invalid argument. */
+NMR_API size_t nmr_result_signal_line_count(const nmr_result *res, size_t record, int nucleus, size_t signal);
+
+/** Copies the simulated lines of a signal into caller arrays of `capacity`
+ *  elements: ppm, Hz from TMS and intensity (a signal's intensities add up to
+ *  its integral), by increasing ppm. Any array may be NULL.
+ *  Errors: NMR_ERR_ARGUMENT (as the other signal accessors, or capacity below
+ *  the line count; nothing is written then). */
+NMR_API int nmr_result_signal_lines(const nmr_result *res, size_t record, int nucleus, size_t signal,
+                                    double *ppm_out, double *hz_out, double *intensity_out, size_t capacity);
+
+/* ---------------------------------------------------------------- spectra */
+
+/** A simulated spectrum: its line list, its multiplets (one per signal) and
+ *  the settings to sample and draw it. Immutable; any thread may read it; it
+ *  outlives the context and result it came from. */
+typedef struct nmr_spectrum nmr_spectrum;
+
+/** Simulates a spin system given as JSON text:
+ *    {"mhz": 400, "spins": [{"shift": 2.1, "nucleus": "1H"}, ...],
+ *     "couplings": [[i, j, J_Hz], ...]}
+ *  "mhz" (1H frequency of the magnet) may be left out: the context's
+ *  NMR_OPT_FIELD_MHZ then applies. Optional keys: "observe" (isotope whose
+ *  spectrum is wanted: "1H" default, "2H", "13C", "19F", "31P"),
+ *  "line_width_hz", "weak_coupling_ratio", "max_block_size",
+ *  "merge_tolerance_hz", "equivalent_shift_tolerance_ppm"; per spin optional
+ *  "nucleus" (default "1H"), "class" (a non-negative integer: spins of one
+ *  isotope with the same class are chemically equivalent) and "exchangeable"
+ *  (true: takes part in no coupling). A spin may be a bare number (a 1H
+ *  shift, ppm). Spin indices in "couplings" and in the multiplets' atoms are
+ *  0-based positions in "spins". Strongly coupled spins are solved exactly.
+ *  Errors (then *out is NULL): NMR_ERR_ARGUMENT (out, ctx or json NULL; text
+ *  that is not such JSON, an unknown key, a bad value or a spin system the
+ *  library rejects: the message names the key, spin or coupling),
+ *  NMR_ERR_NOMEM, NMR_ERR_INTERNAL. */
+NMR_API int nmr_simulate_json(nmr_spectrum **out, nmr_context *ctx, const char *spin_system_json);
+
+/** Simulates the 1H or 13C spectrum of one record of a result: its predicted
+ *  shifts and (for 1H) the couplings estimated by nmr_predict() (none when
+ *  NMR_OPT_PREDICT_COUPLINGS was off), at the context's NMR_OPT_FIELD_MHZ and
+ *  line width. Multiplet atoms are atom indices of the record; 13C spectra are
+ *  proton-decoupled. The solvent's own signals are not included.
+ *  Errors (then *out is NULL): NMR_ERR_ARGUMENT (a NULL pointer, record out of
+ *  range, nucleus not NMR_NUCLEUS_*, or that nucleus not predicted), the
+ *  record's own status when it failed (usually NMR_ERR_INPUT), NMR_ERR_NOMEM,
+ *  NMR_ERR_INTERNAL. */
+NMR_API int nmr_result_simulate(nmr_spectrum **out, nmr_context *ctx, const nmr_result *res, size_t record,
+                                int nucleus);
+
+/** Frees a spectrum and every string borrowed from it. NULL is fine. */
+NMR_API void nmr_spectrum_free(nmr_spectrum *spec);
+
+/** Observed isotope as its mass number (1, 2, 13, 19, 31); 0 for NULL. */
+NMR_API int nmr_spectrum_nucleus(const nmr_spectrum *spec);
+
+/** Frequency of the observed isotope, MHz (the field's 1H frequency times the
+ *  isotope's frequency ratio); NaN for NULL. Hz = ppm times this. */
+NMR_API double nmr_spectrum_observe_mhz(const nmr_spectrum *spec);
+
+/** Number of lines (all multiplets together, by increasing ppm); 0 for NULL. */
+NMR_API size_t nmr_spectrum_line_count(const nmr_spectrum *spec);
+
+/** Copies every line into caller arrays of at least nmr_spectrum_line_count()
+ *  elements: position in ppm and in Hz from the reference, and relative
+ *  intensity (the lines add up to the number of observed nuclei). Any array
+ *  may be NULL if not wanted; `capacity` is the length of the arrays given.
+ *  Errors: NMR_ERR_ARGUMENT (spec NULL, or capacity below the line count;
+ *  nothing is written then). */
+NMR_API int nmr_spectrum_lines(const nmr_spectrum *spec, double *ppm_out, double *hz_out, double *intensity_out,
+                               size_t capacity);
+
+/** Number of multiplets (one per observed signal, downfield first); 0 for NULL. */
+NMR_API size_t nmr_spectrum_multiplet_count(const nmr_spectrum *spec);
+
+/* Multiplet accessors return NMR_OK, or NMR_ERR_ARGUMENT when spec or an
+ * output is NULL or an index is out of range (outputs untouched then). */
+
+/** Label of a multiplet in the trade's letters ("s", "d", "t", "q", "dd",
+ *  "m", "br s", ...). Borrowed from spec. */
+NMR_API int nmr_spectrum_multiplet_label(const nmr_spectrum *spec, size_t multiplet, const char **label_out);
+
+/** Centre (intensity-weighted), lowest and highest line of a multiplet, ppm.
+ *  Any output may be NULL. */
+NMR_API int nmr_spectrum_multiplet_ppm(const nmr_spectrum *spec, size_t multiplet, double *ppm_out,
+                                       double *ppm_low_out, double *ppm_high_out);
+
+/** Integral of a multiplet: the number of nuclei it stands for. */
+NMR_API int nmr_spectrum_multiplet_integral(const nmr_spectrum *spec, size_t multiplet, double *integral_out);
+
+/** Number of resolved couplings behind a multiplet's label; 0 for any invalid argument. */
+NMR_API size_t nmr_spectrum_multiplet_j_count(const nmr_spectrum *spec, size_t multiplet);
+
+/** Coupling `i` behind a multiplet's label, Hz, largest first. */
+NMR_API int nmr_spectrum_multiplet_j(const nmr_spectrum *spec, size_t multiplet, size_t i, double *j_hz_out);
+
+/** Number of atoms (record spectra) or spins (spin-system spectra) of a
+ *  multiplet; 0 for any invalid argument. */
+NMR_API size_t nmr_spectrum_multiplet_atom_count(const nmr_spectrum *spec, size_t multiplet);
+
+/** Atom or spin `i` of a multiplet, ascending. */
+NMR_API int nmr_spectrum_multiplet_atom(const nmr_spectrum *spec, size_t multiplet, size_t i, size_t *atom_out);
+
+/** Number of warnings of the simulation (couplings treated first-order, no
+ *  spin of the observed isotope, ...); 0 for NULL. */
+NMR_API size_t nmr_spectrum_warning_count(const nmr_spectrum *spec);
+
+/** One warning, or NULL when spec is NULL or i is out of range. Borrowed from spec. */
+NMR_API const char *nmr_spectrum_warning(const nmr_spectrum *spec, size_t i);
+
+/** Number of samples nmr_spectrum_sample() wants when given 0 points: the
+ *  NMR_OPT_POINTS in force when the spectrum was made, or the default for its
+ *  width (a power of two from 65536); 0 for NULL. */
+NMR_API size_t nmr_spectrum_default_points(const nmr_spectrum *spec);
+
+/** Samples the spectrum on `points` equally spaced positions of its axis
+ *  (NMR_OPT_PPM_LOW .. NMR_OPT_PPM_HIGH, ascending, both ends included) with
+ *  its line shape and width: ppm_out receives the positions, intensity_out
+ *  the heights in intensity units per ppm (a line of intensity I encloses
+ *  area I over ppm). Either array may be NULL; each given one must hold
+ *  `points` doubles.
+ *  Errors: NMR_ERR_ARGUMENT (spec NULL, points outside 16 .. 4194304, a bad
+ *  axis or width), NMR_ERR_NOMEM. */
+NMR_API int nmr_spectrum_sample(const nmr_spectrum *spec, double *ppm_out, double *intensity_out, size_t points);
+
+/** The sampled spectrum (nmr_spectrum_default_points() samples) as a
+ *  JCAMP-DX 5.01 file of data type NMR SPECTRUM, plain numbers (AFFN), x in
+ *  Hz from the reference, high ppm first. *text_out is yours: release it with
+ *  nmr_string_free().
+ *  Errors: NMR_ERR_ARGUMENT (spec or text_out NULL), NMR_ERR_UNSUPPORTED
+ *  (observed isotope other than 1H and 13C), NMR_ERR_NOMEM. */
+NMR_API int nmr_spectrum_to_jcamp(const nmr_spectrum *spec, char **text_out);
+
+/** The sampled spectrum drawn as a self-contained SVG 1.1 picture (UTF-8),
+ *  ppm decreasing to the right, each multiplet labelled with its centre,
+ *  label, couplings and integral. *text_out is yours: release it with
+ *  nmr_string_free(). Errors as nmr_spectrum_to_jcamp(). */
+NMR_API int nmr_spectrum_to_svg(const nmr_spectrum *spec, char **text_out);
+
+/** Lines and multiplets as UTF-8 JSON:
+ *    {"observe", "mhz", "observe_mhz", "lines": [{"ppm", "hz", "intensity"}, ...],
+ *     "multiplets": [{"ppm", "ppm_low", "ppm_high", "label", "j_hz",
+ *                     "integral", "atoms", "lines"}, ...], "warnings": [...]}
+ *  *json_out is yours: release it with nmr_string_free().
+ *  Errors: NMR_ERR_ARGUMENT (a NULL pointer), NMR_ERR_NOMEM. */
+NMR_API int nmr_spectrum_to_json(const nmr_spectrum *spec, char **json_out);
+
+/* ------------------------------------------------ measured data, matching */
+
+/** Candidates ranked against measured peak lists. Immutable; any thread may
+ *  read it; it outlives its context. */
+typedef struct nmr_match_result nmr_match_result;
+
+/** Reads a measured peak list (the trade's prose style "1H NMR (400 MHz,
+ *  CDCl3) δ 7.31 (d, J = 8.5 Hz, 2H), ...", a CSV table with a header row,
+ *  or JSON; recognised from the content) and writes every spectrum it holds
+ *  back in the prose style, one per line, normalised (multiplicities in the
+ *  trade's letters, 2 decimals for 1H, 1 for 13C). *out is yours: release it
+ *  with nmr_string_free().
+ *  Errors (then *out is NULL): NMR_ERR_ARGUMENT (a NULL pointer),
+ *  NMR_ERR_INPUT (text that is not a peak list: the message names the line,
+ *  column and what was found), NMR_ERR_NOMEM. */
+NMR_API int nmr_measured_format(char **out, nmr_context *ctx, const char *measured_text);
+
+/** Predicts every candidate structure of `candidates_text` with the context's
+ *  options and ranks them against the measured peak lists (at most one
+ *  spectrum per nucleus, 1H and/or 13C, over all texts; each text as
+ *  nmr_measured_format() reads it). candidates_format as nmr_predict()'s
+ *  format (NULL or "auto" recognises it). When NMR_OPT_SOLVENT was never set
+ *  on the context, the first solvent the measured data name that the tables
+ *  know is used (else CDCl3). A candidate that cannot be read or predicted
+ *  keeps its place with its status and message and the others are still
+ *  ranked.
+ *  Errors (then *out is NULL): NMR_ERR_ARGUMENT (a NULL pointer, unknown
+ *  format, measured_count 0, two spectra of one nucleus, a nucleus the
+ *  context does not predict), NMR_ERR_INPUT (no candidate in the text,
+ *  unusable measured data), NMR_ERR_TABLES, NMR_ERR_NOMEM, NMR_ERR_INTERNAL. */
+NMR_API int nmr_match(nmr_match_result **out, nmr_context *ctx, const char *candidates_format,
+                      const char *candidates_text, const char *const *measured_texts, size_t measured_count);
+
+/** Frees a match result and every string borrowed from it. NULL is fine. */
+NMR_API void nmr_match_result_free(nmr_match_result *m);
+
+/** Number of candidates (records of the candidates text, failed ones
+ *  included), in input order; 0 for NULL. */
+NMR_API size_t nmr_match_candidate_count(const nmr_match_result *m);
+
+/** Status of a candidate: NMR_OK if it was predicted and matched, otherwise
+ *  why not (usually NMR_ERR_INPUT). NMR_ERR_ARGUMENT for NULL or an index out
+ *  of range. */
+NMR_API int nmr_match_candidate_status(const nmr_match_result *m, size_t candidate);
+
+/** Message of a failed candidate; "" for one that succeeded; a static message
+ *  for NULL or an index out of range. Borrowed; never NULL. */
+NMR_API const char *nmr_match_candidate_error(const nmr_match_result *m, size_t candidate);
+
+/** Title of a candidate (as nmr_result_record_title()); "" if none or
+ *  invalid. Borrowed; never NULL. */
+NMR_API const char *nmr_match_candidate_title(const nmr_match_result *m, size_t candidate);
+
+/** Number of ranked candidates (those whose status is NMR_OK); 0 for NULL. */
+NMR_API size_t nmr_match_ranked_count(const nmr_match_result *m);
+
+/** The candidate (input index) at position `rank` of the ranking, 0 being the
+ *  best (lowest score); ties keep input order.
+ *  Errors: NMR_ERR_ARGUMENT (NULL pointer, rank not below the ranked count). */
+NMR_API int nmr_match_ranked(const nmr_match_result *m, size_t rank, size_t *candidate_out);
+
+/* Per-candidate accessors return NMR_OK, NMR_ERR_ARGUMENT (NULL pointer or
+ * index out of range) or the candidate's own status when it failed; outputs
+ * are left untouched on failure. */
+
+/** Score of a candidate: 0 is perfect agreement, larger is worse; comparable
+ *  between candidates of one match. */
+NMR_API int nmr_match_score(const nmr_match_result *m, size_t candidate, double *score_out);
+
+/** Probability that the candidate is the right one if one of them is
+ *  (exp(-score / T) normalised over the ranked candidates). */
+NMR_API int nmr_match_probability(const nmr_match_result *m, size_t candidate, double *probability_out);
+
+/** Verdict on a candidate: "consistent", "doubtful" or "inconsistent"
+ *  (static text). */
+NMR_API int nmr_match_verdict(const nmr_match_result *m, size_t candidate, const char **verdict_out);
+
+/** Number of reasons why a candidate's verdict is not "consistent"; 0 for any
+ *  invalid argument. */
+NMR_API size_t nmr_match_reason_count(const nmr_match_result *m, size_t candidate);
+
+/** Reason `i` of a candidate, in words, or NULL for any invalid argument. Borrowed. */
+NMR_API const char *nmr_match_reason(const nmr_match_result *m, size_t candidate, size_t i);
+
+/** Score of the second-best ranked candidate minus that of the best (>= 0).
+ *  Errors: NMR_ERR_ARGUMENT (a NULL pointer), NMR_ERR_UNSUPPORTED (fewer than
+ *  two ranked candidates: there is no margin; *margin_out untouched). */
+NMR_API int nmr_match_margin(const nmr_match_result *m, double *margin_out);
+
+/** The whole match as UTF-8 JSON:
+ *    {"ranking": [{"candidate", "title", "score", "verdict", "probability"}, ...] best first,
+ *     "margin" (null with fewer than two ranked candidates),
+ *     "candidates": [{"candidate", "title", "score", "verdict", "reasons",
+ *                     "worst", "warnings", "summary", "spectra"} or
+ *                    {"candidate", "title", "error": {"code", "name", "message"}}, ...]}
+ *  in input order, the keys of a candidate's match as documented for the
+ *  library's match JSON (docs/matching.md). *json_out is yours: release it
+ *  with nmr_string_free(). Errors: NMR_ERR_ARGUMENT (a NULL pointer), NMR_ERR_NOMEM. */
+NMR_API int nmr_match_to_json(const nmr_match_result *m, char **json_out);
 
 #ifdef __cplusplus
 }

@@ -34,7 +34,21 @@ int wrong_kind(nmr_context *ctx, int option, bool is_text) {
 
 bool is_numeric_option(int option) {
   return option == NMR_OPT_HOSE_SPHERES || option == NMR_OPT_BLIND || option == NMR_OPT_PREDICT_SHIFTS ||
-         option == NMR_OPT_PREDICT_H1;
+         option == NMR_OPT_PREDICT_H1 || option == NMR_OPT_FIELD_MHZ || option == NMR_OPT_LINE_WIDTH_HZ ||
+         option == NMR_OPT_PREDICT_COUPLINGS || option == NMR_OPT_POINTS || option == NMR_OPT_PPM_LOW ||
+         option == NMR_OPT_PPM_HIGH || option == NMR_OPT_LINE_SHAPE;
+}
+
+/// A number that must lie in [low, high]; the limits are those of
+/// PredictOptions / SamplingOptions, checked here so the error names the key.
+int set_range(nmr_context *ctx, const char *name, double value, double low, double high, bool low_open,
+              double &target) {
+  if (!std::isfinite(value) || value > high || value < low || (low_open && value == low))
+    return fail(ctx, NMR_ERR_ARGUMENT,
+                fmt::format("{} must be a number {} {} and <= {}, got {}", name, low_open ? ">" : ">=", low, high,
+                            value));
+  target = value;
+  return NMR_OK;
 }
 
 }  // namespace
@@ -99,6 +113,36 @@ int nmr_context_set_option_double(nmr_context *ctx, int option, double value) {
         return set_switch(ctx, "NMR_OPT_PREDICT_SHIFTS", value, ctx->options.predict_shifts);
       case NMR_OPT_PREDICT_H1:
         return set_switch(ctx, "NMR_OPT_PREDICT_H1", value, ctx->options.predict_h1);
+      case NMR_OPT_FIELD_MHZ:
+        return set_range(ctx, "NMR_OPT_FIELD_MHZ", value, 40, 1200, false, ctx->options.field_mhz);
+      case NMR_OPT_LINE_WIDTH_HZ:
+        return set_range(ctx, "NMR_OPT_LINE_WIDTH_HZ", value, 0, 100, true, ctx->options.line_width_hz);
+      case NMR_OPT_PREDICT_COUPLINGS:
+        return set_switch(ctx, "NMR_OPT_PREDICT_COUPLINGS", value, ctx->options.predict_couplings);
+      case NMR_OPT_POINTS:
+        if (!std::isfinite(value) || value != std::floor(value) || (value != 0 && (value < 16 || value > 4194304)))
+          return fail(ctx, NMR_ERR_ARGUMENT,
+                      fmt::format("NMR_OPT_POINTS must be 0 or a whole number from 16 to 4194304, got {}", value));
+        ctx->spectrum.points = value;
+        return static_cast<int>(NMR_OK);
+      case NMR_OPT_PPM_LOW:
+      case NMR_OPT_PPM_HIGH: {
+        // NaN restores the default; infinities would make an axis of no use.
+        if (std::isinf(value) || std::fabs(value) > 1e4)
+          return fail(ctx, NMR_ERR_ARGUMENT,
+                      fmt::format("{} must be NaN (the default) or a shift within +-10000 ppm, got {}",
+                                  option == NMR_OPT_PPM_LOW ? "NMR_OPT_PPM_LOW" : "NMR_OPT_PPM_HIGH", value));
+        (option == NMR_OPT_PPM_LOW ? ctx->spectrum.ppm_low : ctx->spectrum.ppm_high) = value;
+        return static_cast<int>(NMR_OK);
+      }
+      case NMR_OPT_LINE_SHAPE:
+        if (value != NMR_LINE_LORENTZIAN && value != NMR_LINE_GAUSSIAN)
+          return fail(ctx, NMR_ERR_ARGUMENT,
+                      fmt::format("NMR_OPT_LINE_SHAPE must be NMR_LINE_LORENTZIAN (1) or NMR_LINE_GAUSSIAN (2), "
+                                  "got {}",
+                                  value));
+        ctx->spectrum.shape = static_cast<nmrpred::LineShape>(static_cast<int>(value));
+        return static_cast<int>(NMR_OK);
       case NMR_OPT_SOLVENT:
         return wrong_kind(ctx, option, true);
       default:
@@ -124,6 +168,27 @@ int nmr_context_get_option_double(nmr_context *ctx, int option, double *value_ou
       case NMR_OPT_PREDICT_H1:
         *value_out = ctx->options.predict_h1 ? 1.0 : 0.0;
         return static_cast<int>(NMR_OK);
+      case NMR_OPT_FIELD_MHZ:
+        *value_out = ctx->options.field_mhz;
+        return static_cast<int>(NMR_OK);
+      case NMR_OPT_LINE_WIDTH_HZ:
+        *value_out = ctx->options.line_width_hz;
+        return static_cast<int>(NMR_OK);
+      case NMR_OPT_PREDICT_COUPLINGS:
+        *value_out = ctx->options.predict_couplings ? 1.0 : 0.0;
+        return static_cast<int>(NMR_OK);
+      case NMR_OPT_POINTS:
+        *value_out = ctx->spectrum.points;
+        return static_cast<int>(NMR_OK);
+      case NMR_OPT_PPM_LOW:
+        *value_out = ctx->spectrum.ppm_low;
+        return static_cast<int>(NMR_OK);
+      case NMR_OPT_PPM_HIGH:
+        *value_out = ctx->spectrum.ppm_high;
+        return static_cast<int>(NMR_OK);
+      case NMR_OPT_LINE_SHAPE:
+        *value_out = static_cast<double>(static_cast<int>(ctx->spectrum.shape));
+        return static_cast<int>(NMR_OK);
       case NMR_OPT_SOLVENT:
         return wrong_kind(ctx, option, true);
       default:
@@ -142,6 +207,7 @@ int nmr_context_set_option_string(nmr_context *ctx, int option, const char *valu
       // Checked now, so that a typo surfaces at the call that made it; throws
       // ArgumentError naming the known solvents.
       ctx->options.solvent = nmrpred::find_solvent(*ctx->tables, value).name;
+      ctx->solvent_set = true;
       return static_cast<int>(NMR_OK);
     }
     if (is_numeric_option(option)) return wrong_kind(ctx, option, false);

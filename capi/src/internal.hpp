@@ -5,6 +5,7 @@
 
 #include <cstddef>
 #include <exception>
+#include <limits>
 #include <memory>
 #include <new>
 #include <string>
@@ -12,8 +13,26 @@
 
 #include <nmrpred.h>
 #include <nmrpred/error.hpp>
+#include <nmrpred/couplings.hpp>
+#include <nmrpred/match.hpp>
 #include <nmrpred/predict.hpp>
+#include <nmrpred/spectrum.hpp>
+#include <nmrpred/spin.hpp>
 #include <nmrpred/tables.hpp>
+
+namespace nmrpred::capi {
+
+/// Context options of sampled spectra that PredictOptions does not hold (the
+/// field, line width and couplings switch live there). NaN and 0 mean "the
+/// nucleus's default".
+struct SpectrumSettings {
+  double points = 0;
+  double ppm_low = std::numeric_limits<double>::quiet_NaN();
+  double ppm_high = std::numeric_limits<double>::quiet_NaN();
+  nmrpred::LineShape shape = nmrpred::LineShape::Lorentzian;
+};
+
+}  // namespace nmrpred::capi
 
 struct nmr_context {
   nmrpred::PredictOptions options;
@@ -22,12 +41,41 @@ struct nmr_context {
   /// Calls of nmr_context_add_reference so far; numbers the user sets in messages.
   std::size_t reference_sets = 0;
   std::string last_error;
+  nmrpred::capi::SpectrumSettings spectrum;
+  /// True once NMR_OPT_SOLVENT was set: nmr_match then keeps it rather than
+  /// taking the solvent the measured data name.
+  bool solvent_set = false;
 };
 
 struct nmr_result {
   std::vector<nmrpred::RecordPrediction> records;
   std::size_t failed = 0;
   std::string tables_version;
+};
+
+struct nmr_spectrum {
+  nmrpred::Simulation simulation;
+  /// Sampling settings fixed when the spectrum was made; `sampling.points` is
+  /// the default count of nmr_spectrum_sample(0)/to_jcamp/to_svg.
+  nmrpred::SamplingOptions sampling;
+  /// False for isotopes a SampledSpectrum cannot name (2H, 19F, 31P): such
+  /// spectra sample but cannot be written as JCAMP-DX or SVG.
+  bool file_nucleus = true;
+  std::string solvent_name;
+};
+
+struct nmr_match_result {
+  struct Candidate {
+    int status = 0;
+    std::string error;
+    std::string title;
+    /// Index into ranking.results, or npos for a failed candidate.
+    std::size_t ranked = static_cast<std::size_t>(-1);
+  };
+  std::vector<Candidate> candidates;
+  nmrpred::Ranking ranking;
+  /// Input index of each entry of ranking.results.
+  std::vector<std::size_t> candidate_of;
 };
 
 namespace nmrpred::capi {

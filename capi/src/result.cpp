@@ -311,3 +311,79 @@ int nmr_result_record_to_json(const nmr_result *res, size_t record, char **json_
 void nmr_string_free(char *s) { delete[] s; }
 
 }  // extern "C"
+
+namespace {
+
+const nmrpred::Coupling *coupling_at(const nmr_result *res, size_t record, size_t i) noexcept {
+  const auto *p = prediction_at(res, record);
+  return p && i < p->couplings.size() ? &p->couplings[i] : nullptr;
+}
+
+}  // namespace
+
+extern "C" {
+
+size_t nmr_result_coupling_count(const nmr_result *res, size_t record) {
+  const auto *p = prediction_at(res, record);
+  return p ? p->couplings.size() : 0;
+}
+
+int nmr_result_coupling(const nmr_result *res, size_t record, size_t i, size_t *atom_a_out, size_t *atom_b_out,
+                        double *j_hz_out) {
+  const auto *c = coupling_at(res, record, i);
+  if (!c) return NMR_ERR_ARGUMENT;
+  if (atom_a_out) *atom_a_out = c->a;
+  if (atom_b_out) *atom_b_out = c->b;
+  if (j_hz_out) *j_hz_out = c->j_hz;
+  return NMR_OK;
+}
+
+int nmr_result_coupling_detail(const nmr_result *res, size_t record, size_t i, int *bonds_out,
+                               double *uncertainty_hz_out, const char **rule_out) {
+  const auto *c = coupling_at(res, record, i);
+  if (!c) return NMR_ERR_ARGUMENT;
+  if (bonds_out) *bonds_out = c->bonds;
+  if (uncertainty_hz_out) *uncertainty_hz_out = c->uncertainty_hz;
+  if (rule_out) *rule_out = c->rule.c_str();
+  return NMR_OK;
+}
+
+int nmr_result_signal_multiplicity(const nmr_result *res, size_t record, int nucleus, size_t signal,
+                                   const char **multiplicity_out) {
+  const auto *g = signal_at(res, record, nucleus, signal);
+  if (!g || !multiplicity_out) return NMR_ERR_ARGUMENT;
+  *multiplicity_out = g->multiplicity.c_str();
+  return NMR_OK;
+}
+
+size_t nmr_result_signal_j_count(const nmr_result *res, size_t record, int nucleus, size_t signal) {
+  const auto *g = signal_at(res, record, nucleus, signal);
+  return g ? g->j_hz.size() : 0;
+}
+
+int nmr_result_signal_j(const nmr_result *res, size_t record, int nucleus, size_t signal, size_t i,
+                        double *j_hz_out) {
+  const auto *g = signal_at(res, record, nucleus, signal);
+  if (!g || !j_hz_out || i >= g->j_hz.size()) return NMR_ERR_ARGUMENT;
+  *j_hz_out = g->j_hz[i];
+  return NMR_OK;
+}
+
+size_t nmr_result_signal_line_count(const nmr_result *res, size_t record, int nucleus, size_t signal) {
+  const auto *g = signal_at(res, record, nucleus, signal);
+  return g ? g->lines.size() : 0;
+}
+
+int nmr_result_signal_lines(const nmr_result *res, size_t record, int nucleus, size_t signal, double *ppm_out,
+                            double *hz_out, double *intensity_out, size_t capacity) {
+  const auto *g = signal_at(res, record, nucleus, signal);
+  if (!g || capacity < g->lines.size()) return NMR_ERR_ARGUMENT;
+  for (std::size_t i = 0; i < g->lines.size(); ++i) {
+    if (ppm_out) ppm_out[i] = g->lines[i].ppm;
+    if (hz_out) hz_out[i] = g->lines[i].hz;
+    if (intensity_out) intensity_out[i] = g->lines[i].intensity;
+  }
+  return NMR_OK;
+}
+
+}  // extern "C"

@@ -24,6 +24,7 @@
 
 #include <math.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #ifndef NMRPRED_TABLES_SOURCE_DIR
@@ -633,6 +634,421 @@ static void test_batch_with_bad_record(void) {
   nmr_context_free(ctx);
 }
 
+/* ------------------------------------------------------ spectra, matching */
+/*
+ * Sources of the checks below:
+ * - AB quartet: two spin-1/2 nuclei of shift difference dnu (Hz) and coupling
+ *   J give four lines at the centre +-(D+J)/2 and +-(D-J)/2 with D =
+ *   sqrt(dnu^2 + J^2); inner lines have relative intensity 1 + J/D, outer
+ *   ones 1 - J/D. H. Guenther, NMR Spectroscopy, 3rd ed., Wiley 2013, the AB
+ *   system (from memory); any NMR text derives the same closed form.
+ * - First-order ethyl group (common practice): CH3 a triplet and CH2 a
+ *   quartet, vicinal 3J(H,H) about 7 Hz (6 to 8 Hz).
+ * - Ethanol in CDCl3: 1H 3.72 (q, CH2), 1.25 (t, CH3), 1.32 (s, OH); 13C
+ *   58.28, 18.41. GOTTLIEB-1997 (tables/SOURCES.md), Tables 1 and 2 (from
+ *   memory).
+ * - JCAMP-DX 5.01 labels: McDonald & Wilks, Appl. Spectrosc. 1988, 42, 151.
+ */
+static const char kAbJson[] =
+    "{\"mhz\": 400, \"spins\": [{\"shift\": 3.0}, {\"shift\": 3.05}], \"couplings\": [[0, 1, 10.0]]}";
+
+static const char kEthanolH1[] =
+    "1H NMR (400 MHz, CDCl3) \xce\xb4 3.72 (q, J = 7.0 Hz, 2H), 1.32 (br s, 1H), 1.25 (t, J = 7.0 Hz, 3H).";
+static const char kEthanolC13[] = "13C NMR (101 MHz, CDCl3) \xce\xb4 58.3, 18.4.";
+
+static int near(double got, double want, double tol) { return fabs(got - want) <= tol; }
+
+static void test_spin_system_json(void) {
+  nmr_context *ctx = NULL;
+  nmr_spectrum *spec = NULL;
+  double ppm[8], hz[8], inten[8];
+  double dnu = 20.0, j = 10.0, d = sqrt(20.0 * 20.0 + 10.0 * 10.0), centre = 3.025 * 400.0;
+  size_t n, i, atom = 99;
+  char *text = NULL;
+  const char *label = NULL;
+  double total = 0.0, integral = 0.0;
+  double *sample_ppm = NULL, *sample_int = NULL;
+  size_t points;
+
+  (void)dnu;
+  CHECK(nmr_context_new(&ctx, NULL) == NMR_OK);
+  if (!ctx) return;
+  CHECK(nmr_simulate_json(&spec, ctx, kAbJson) == NMR_OK);
+  if (!spec) {
+    fprintf(stderr, "nmr_simulate_json: %s\n", nmr_context_last_error(ctx));
+    nmr_context_free(ctx);
+    ++failures;
+    return;
+  }
+  CHECK(nmr_spectrum_nucleus(spec) == 1);
+  CHECK(near(nmr_spectrum_observe_mhz(spec), 400.0, 1e-9));
+  n = nmr_spectrum_line_count(spec);
+  CHECK(n == 4);
+  CHECK(nmr_spectrum_lines(spec, ppm, hz, inten, 3) == NMR_ERR_ARGUMENT);
+  if (n == 4 && nmr_spectrum_lines(spec, ppm, hz, inten, 8) == NMR_OK) {
+    /* Lines by increasing ppm: outer, inner, inner, outer. */
+    CHECK(near(hz[0], centre - (d + j) / 2, 1e-3));
+    CHECK(near(hz[1], centre - (d - j) / 2, 1e-3));
+    CHECK(near(hz[2], centre + (d - j) / 2, 1e-3));
+    CHECK(near(hz[3], centre + (d + j) / 2, 1e-3));
+    CHECK(near(ppm[0] * 400.0, hz[0], 1e-6));
+    /* Each spin contributes 1, so the four add up to 2: outer (1 - J/D)/2. */
+    CHECK(near(inten[0], (1 - j / d) / 2, 1e-6));
+    CHECK(near(inten[1], (1 + j / d) / 2, 1e-6));
+    CHECK(near(inten[3] / inten[2], (1 - j / d) / (1 + j / d), 1e-6));
+    for (i = 0; i < 4; ++i) total += inten[i];
+    CHECK(near(total, 2.0, 1e-9));
+  }
+  /* Two chemically different spins give two multiplets, downfield first. */
+  CHECK(nmr_spectrum_multiplet_count(spec) == 2);
+  CHECK(nmr_spectrum_multiplet_label(spec, 0, &label) == NMR_OK && label != NULL);
+  CHECK(nmr_spectrum_multiplet_integral(spec, 0, &integral) == NMR_OK && near(integral, 1.0, 1e-9));
+  CHECK(nmr_spectrum_multiplet_atom_count(spec, 0) == 1);
+  CHECK(nmr_spectrum_multiplet_atom(spec, 0, 0, &atom) == NMR_OK && atom == 1);
+  CHECK(nmr_spectrum_multiplet_atom(spec, 0, 1, &atom) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_spectrum_multiplet_label(spec, 2, &label) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_spectrum_multiplet_j(spec, 0, 99, &integral) == NMR_ERR_ARGUMENT);
+
+  /* Sampling: a line of intensity I encloses area I over ppm, so the sum
+   * times the step gives the 2 protons (Gaussian lines: no tails lost). */
+  CHECK(nmr_spectrum_default_points(spec) >= 65536);
+  points = 65536;
+  sample_ppm = (double *)malloc(points * sizeof(double));
+  sample_int = (double *)malloc(points * sizeof(double));
+  if (sample_ppm && sample_int) {
+    CHECK(nmr_spectrum_sample(spec, sample_ppm, sample_int, points) == NMR_OK);
+    total = 0.0;
+    for (i = 0; i < points; ++i) total += sample_int[i];
+    total *= (sample_ppm[points - 1] - sample_ppm[0]) / (double)(points - 1);
+    CHECK(near(sample_ppm[0], -0.5, 1e-9));
+    CHECK(near(sample_ppm[points - 1], 12.0, 1e-9));
+    /* Lorentzian tails beyond the axis take a little under 1e-3 of the area. */
+    CHECK(near(total, 2.0, 2e-3));
+    CHECK(nmr_spectrum_sample(spec, sample_ppm, sample_int, 3) == NMR_ERR_ARGUMENT);
+  }
+  free(sample_ppm);
+  free(sample_int);
+
+  CHECK(nmr_spectrum_to_jcamp(spec, &text) == NMR_OK);
+  CHECK(text != NULL && strncmp(text, "##TITLE=", 8) == 0 && strstr(text, "##JCAMP-DX=5.01") != NULL &&
+        strstr(text, "##END=") != NULL);
+  nmr_string_free(text);
+  text = NULL;
+  CHECK(nmr_spectrum_to_svg(spec, &text) == NMR_OK);
+  CHECK(text != NULL && strstr(text, "<svg") != NULL && strstr(text, "</svg>") != NULL);
+  nmr_string_free(text);
+  text = NULL;
+  CHECK(nmr_spectrum_to_json(spec, &text) == NMR_OK);
+  CHECK(text != NULL && strstr(text, "\"multiplets\"") != NULL);
+  nmr_string_free(text);
+  CHECK(nmr_spectrum_to_json(spec, NULL) == NMR_ERR_ARGUMENT);
+  nmr_spectrum_free(spec);
+  spec = NULL;
+
+  /* 19F (not a nucleus of JCAMP-DX or SVG output here): lines, no files. */
+  CHECK(nmr_simulate_json(&spec, ctx, "{\"observe\": \"19F\", \"spins\": [{\"shift\": -120, \"nucleus\": \"19F\"}]}") ==
+        NMR_OK);
+  if (spec) {
+    CHECK(nmr_spectrum_nucleus(spec) == 19);
+    CHECK(nmr_spectrum_line_count(spec) == 1);
+    text = NULL;
+    CHECK(nmr_spectrum_to_jcamp(spec, &text) == NMR_ERR_UNSUPPORTED);
+    CHECK(text == NULL);
+  }
+  nmr_spectrum_free(spec);
+
+  /* Error paths: each names the problem. */
+  spec = (nmr_spectrum *)&total;
+  CHECK_FAIL(ctx, nmr_simulate_json(&spec, ctx, NULL), NMR_ERR_ARGUMENT);
+  CHECK(spec == NULL);
+  CHECK_FAIL(ctx, nmr_simulate_json(NULL, ctx, kAbJson), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_simulate_json(&spec, ctx, "{not json"), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_simulate_json(&spec, ctx, "[1, 2]"), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_simulate_json(&spec, ctx, "{\"spins\": [1.0], \"colour\": 1}"), NMR_ERR_ARGUMENT);
+  CHECK(strstr(nmr_context_last_error(ctx), "colour") != NULL);
+  CHECK_FAIL(ctx, nmr_simulate_json(&spec, ctx, "{\"spins\": [1.0, 2.0], \"couplings\": [[0, -1, 7]]}"),
+             NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_simulate_json(&spec, ctx, "{\"spins\": [1.0, 2.0], \"couplings\": [[0, 5, 7]]}"),
+             NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_simulate_json(&spec, ctx, "{\"spins\": []}"), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_simulate_json(&spec, ctx, "{\"spins\": [1.0], \"mhz\": -5}"), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_simulate_json(&spec, ctx, "{\"spins\": [{\"shift\": 1, \"nucleus\": \"17O\"}]}"),
+             NMR_ERR_ARGUMENT);
+  CHECK(spec == NULL);
+  CHECK(nmr_simulate_json(&spec, NULL, kAbJson) == NMR_ERR_ARGUMENT);
+
+  /* Options: ranges are checked at the call that sets them. */
+  CHECK(nmr_context_get_option_double(ctx, NMR_OPT_FIELD_MHZ, &total) == NMR_OK && total == 400.0);
+  CHECK_FAIL(ctx, nmr_context_set_option_double(ctx, NMR_OPT_FIELD_MHZ, 10.0), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_context_set_option_double(ctx, NMR_OPT_LINE_WIDTH_HZ, 0.0), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_context_set_option_double(ctx, NMR_OPT_LINE_SHAPE, 3.0), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_context_set_option_double(ctx, NMR_OPT_POINTS, 5.0), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_context_set_option_double(ctx, NMR_OPT_PREDICT_COUPLINGS, 0.5), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_context_set_option_string(ctx, NMR_OPT_FIELD_MHZ, "400"), NMR_ERR_UNSUPPORTED);
+  /* A reversed axis fails when the spectrum is made. */
+  CHECK(nmr_context_set_option_double(ctx, NMR_OPT_PPM_LOW, 5.0) == NMR_OK);
+  CHECK(nmr_context_set_option_double(ctx, NMR_OPT_PPM_HIGH, 1.0) == NMR_OK);
+  CHECK_FAIL(ctx, nmr_simulate_json(&spec, ctx, kAbJson), NMR_ERR_ARGUMENT);
+  CHECK(nmr_context_set_option_double(ctx, NMR_OPT_PPM_HIGH, 6.0) == NMR_OK);
+  CHECK(nmr_context_set_option_double(ctx, NMR_OPT_POINTS, 1024.0) == NMR_OK);
+  CHECK(nmr_context_set_option_double(ctx, NMR_OPT_FIELD_MHZ, 600.0) == NMR_OK);
+  /* Without "mhz" the context's field applies. */
+  CHECK(nmr_simulate_json(&spec, ctx, "{\"spins\": [3.0]}") == NMR_OK);
+  if (spec) {
+    CHECK(near(nmr_spectrum_observe_mhz(spec), 600.0, 1e-9));
+    CHECK(nmr_spectrum_default_points(spec) == 1024);
+  }
+  nmr_spectrum_free(spec);
+  nmr_spectrum_free(NULL);
+
+  CHECK(nmr_spectrum_line_count(NULL) == 0);
+  CHECK(nmr_spectrum_multiplet_count(NULL) == 0);
+  CHECK(nmr_spectrum_nucleus(NULL) == 0);
+  CHECK(isnan(nmr_spectrum_observe_mhz(NULL)));
+  CHECK(nmr_spectrum_lines(NULL, ppm, hz, inten, 8) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_spectrum_sample(NULL, ppm, inten, 16) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_spectrum_to_jcamp(NULL, &text) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_spectrum_to_svg(NULL, &text) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_spectrum_warning(NULL, 0) == NULL);
+  CHECK(nmr_spectrum_warning_count(NULL) == 0);
+  CHECK(nmr_spectrum_multiplet_j_count(NULL, 0) == 0);
+  nmr_context_free(ctx);
+}
+
+/* Index of the 1H multiplet whose centre is nearest `ppm`. */
+static size_t multiplet_near(const nmr_spectrum *spec, double ppm) {
+  size_t i, best = 0;
+  double bestd = 1e300, c = 0.0;
+  for (i = 0; i < nmr_spectrum_multiplet_count(spec); ++i) {
+    if (nmr_spectrum_multiplet_ppm(spec, i, &c, NULL, NULL) == NMR_OK && fabs(c - ppm) < bestd) {
+      bestd = fabs(c - ppm);
+      best = i;
+    }
+  }
+  return best;
+}
+
+static void test_record_spectrum_and_couplings(void) {
+  nmr_context *ctx = NULL;
+  nmr_result *res = NULL;
+  nmr_spectrum *spec = NULL;
+  size_t i, n, a = 0, b = 0, sig, atoms;
+  double j = 0.0, integral = 0.0, unc = 0.0;
+  int bonds = 0, z = 0, found = 0;
+  const char *label = NULL, *rule = NULL;
+  ptrdiff_t ha = 0, hb = 0;
+
+  CHECK(nmr_context_new(&ctx, NULL) == NMR_OK);
+  if (!ctx) return;
+  CHECK(nmr_predict(&res, ctx, "smiles", "CCO ethanol\nC1CC\n") == NMR_OK);
+  if (!res) {
+    nmr_context_free(ctx);
+    return;
+  }
+  /* Couplings: the CH3-CH2 vicinal 3J(H,H) is about 7 Hz (common practice). */
+  n = nmr_result_coupling_count(res, 0);
+  CHECK(n > 0);
+  for (i = 0; i < n; ++i) {
+    CHECK(nmr_result_coupling(res, 0, i, &a, &b, &j) == NMR_OK);
+    CHECK(a < b);
+    CHECK(nmr_result_coupling_detail(res, 0, i, &bonds, &unc, &rule) == NMR_OK);
+    CHECK(rule != NULL);
+    if (nmr_result_atom_attached_to(res, 0, a, &ha) == NMR_OK && nmr_result_atom_attached_to(res, 0, b, &hb) == NMR_OK &&
+        ((ha == 0 && hb == 1) || (ha == 1 && hb == 0))) {
+      ++found;
+      CHECK(bonds == 3);
+      CHECK(j >= 6.0 && j <= 8.0);
+    }
+  }
+  CHECK(found == 6); /* 3 methyl protons x 2 methylene protons */
+  CHECK(nmr_result_coupling(res, 0, n, &a, &b, &j) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_coupling_count(res, 1) == 0);
+  CHECK(nmr_result_coupling(res, 1, 0, &a, &b, &j) == NMR_ERR_ARGUMENT);
+
+  /* Signal multiplicities: CH3 triplet, CH2 quartet (first order, common practice). */
+  for (sig = 0; sig < nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H); ++sig) {
+    CHECK(nmr_result_signal_integral(res, 0, NMR_NUCLEUS_1H, sig, &z) == NMR_OK);
+    CHECK(nmr_result_signal_multiplicity(res, 0, NMR_NUCLEUS_1H, sig, &label) == NMR_OK);
+    if (z == 3) {
+      CHECK(label != NULL && strcmp(label, "t") == 0);
+      CHECK(nmr_result_signal_j_count(res, 0, NMR_NUCLEUS_1H, sig) == 1);
+      CHECK(nmr_result_signal_j(res, 0, NMR_NUCLEUS_1H, sig, 0, &j) == NMR_OK && j >= 6.0 && j <= 8.0);
+      CHECK(nmr_result_signal_j(res, 0, NMR_NUCLEUS_1H, sig, 1, &j) == NMR_ERR_ARGUMENT);
+      /* Triplet 1:2:1 whose intensities add up to the 3 protons. */
+      CHECK(nmr_result_signal_line_count(res, 0, NMR_NUCLEUS_1H, sig) == 3);
+      {
+        double lp[3], lh[3], li[3];
+        CHECK(nmr_result_signal_lines(res, 0, NMR_NUCLEUS_1H, sig, lp, lh, li, 2) == NMR_ERR_ARGUMENT);
+        CHECK(nmr_result_signal_lines(res, 0, NMR_NUCLEUS_1H, sig, lp, lh, li, 3) == NMR_OK);
+        CHECK(near(li[0] + li[1] + li[2], 3.0, 1e-6));
+        CHECK(near(li[1] / li[0], 2.0, 1e-3) && near(li[1] / li[2], 2.0, 1e-3));
+        CHECK(lp[0] < lp[1] && lp[1] < lp[2]);
+      }
+    } else if (z == 2) {
+      CHECK(label != NULL && strcmp(label, "q") == 0);
+    }
+  }
+  CHECK(nmr_result_signal_multiplicity(res, 0, NMR_NUCLEUS_1H, 99, &label) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_multiplicity(res, 0, 7, 0, &label) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_result_signal_j_count(NULL, 0, NMR_NUCLEUS_1H, 0) == 0);
+  CHECK(nmr_result_signal_line_count(NULL, 0, NMR_NUCLEUS_1H, 0) == 0);
+  CHECK(nmr_result_signal_lines(NULL, 0, NMR_NUCLEUS_1H, 0, NULL, NULL, NULL, 0) == NMR_ERR_ARGUMENT);
+
+  /* The record's 1H spectrum: triplet and quartet with integrals 3 and 2. */
+  CHECK(nmr_result_simulate(&spec, ctx, res, 0, NMR_NUCLEUS_1H) == NMR_OK);
+  if (spec) {
+    double ch3 = 0.0, ch2 = 0.0;
+    for (sig = 0; sig < nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H); ++sig) {
+      CHECK(nmr_result_signal_integral(res, 0, NMR_NUCLEUS_1H, sig, &z) == NMR_OK);
+      if (z == 3) nmr_result_signal_shift(res, 0, NMR_NUCLEUS_1H, sig, &ch3, NULL);
+      if (z == 2) nmr_result_signal_shift(res, 0, NMR_NUCLEUS_1H, sig, &ch2, NULL);
+    }
+    i = multiplet_near(spec, ch3);
+    CHECK(nmr_spectrum_multiplet_label(spec, i, &label) == NMR_OK && strcmp(label, "t") == 0);
+    CHECK(nmr_spectrum_multiplet_integral(spec, i, &integral) == NMR_OK && near(integral, 3.0, 1e-6));
+    atoms = nmr_spectrum_multiplet_atom_count(spec, i);
+    CHECK(atoms == 3);
+    CHECK(nmr_spectrum_multiplet_atom(spec, i, 0, &a) == NMR_OK &&
+          nmr_result_atom_attached_to(res, 0, a, &ha) == NMR_OK && ha == 0);
+    i = multiplet_near(spec, ch2);
+    CHECK(nmr_spectrum_multiplet_label(spec, i, &label) == NMR_OK && strcmp(label, "q") == 0);
+    CHECK(nmr_spectrum_multiplet_j_count(spec, i) == 1);
+    CHECK(nmr_spectrum_multiplet_j(spec, i, 0, &j) == NMR_OK && j >= 6.0 && j <= 8.0);
+    /* Triplet 1:2:1 + quartet 1:3:3:1 + the OH singlet: 8 lines (common practice). */
+    CHECK(nmr_spectrum_line_count(spec) == 8);
+  }
+  nmr_spectrum_free(spec);
+  spec = NULL;
+  CHECK(nmr_result_simulate(&spec, ctx, res, 0, NMR_NUCLEUS_13C) == NMR_OK);
+  if (spec) {
+    CHECK(nmr_spectrum_nucleus(spec) == 13);
+    CHECK(nmr_spectrum_multiplet_count(spec) == 2); /* proton-decoupled: two singlets */
+  }
+  nmr_spectrum_free(spec);
+  spec = NULL;
+  CHECK_FAIL(ctx, nmr_result_simulate(&spec, ctx, res, 1, NMR_NUCLEUS_1H), NMR_ERR_INPUT);
+  CHECK_FAIL(ctx, nmr_result_simulate(&spec, ctx, res, 5, NMR_NUCLEUS_1H), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_result_simulate(&spec, ctx, res, 0, 19), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_result_simulate(&spec, ctx, NULL, 0, NMR_NUCLEUS_1H), NMR_ERR_ARGUMENT);
+  CHECK(spec == NULL);
+  nmr_result_free(res);
+  res = NULL;
+
+  /* Couplings off: no couplings, no multiplicity. */
+  CHECK(nmr_context_set_option_double(ctx, NMR_OPT_PREDICT_COUPLINGS, 0.0) == NMR_OK);
+  CHECK(nmr_predict(&res, ctx, "smiles", "CCO") == NMR_OK);
+  if (res) {
+    CHECK(nmr_result_coupling_count(res, 0) == 0);
+    CHECK(nmr_result_signal_multiplicity(res, 0, NMR_NUCLEUS_1H, 0, &label) == NMR_OK && label[0] == '\0');
+  }
+  nmr_result_free(res);
+  nmr_context_free(ctx);
+}
+
+static void test_measured_and_match(void) {
+  nmr_context *ctx = NULL;
+  nmr_match_result *m = NULL;
+  const char *both[2];
+  const char *two_h1[2];
+  char *text = NULL;
+  size_t c = 99;
+  double score0 = 0.0, score1 = 0.0, margin = -1.0, p0 = 0.0, p2 = 0.0;
+  const char *verdict = NULL;
+
+  both[0] = kEthanolH1;
+  both[1] = kEthanolC13;
+  two_h1[0] = kEthanolH1;
+  two_h1[1] = kEthanolH1;
+  CHECK(nmr_context_new(&ctx, NULL) == NMR_OK);
+  if (!ctx) return;
+
+  /* Normalised prose: long multiplicity names become the trade's letters
+   * (docs/measured.md). */
+  CHECK(nmr_measured_format(&text, ctx, "1H NMR (400 MHz, CDCl3) \xce\xb4 1.250 (triplet, J = 7.04 Hz, 3H)") ==
+        NMR_OK);
+  CHECK(text != NULL && strstr(text, "1.25 (t, J = 7.0 Hz, 3H)") != NULL);
+  nmr_string_free(text);
+  text = NULL;
+  CHECK_FAIL(ctx, nmr_measured_format(&text, ctx, "1H NMR (400 MHz, CDCl3) \xce\xb4 7,31 (s, 1H)"), NMR_ERR_INPUT);
+  CHECK(text == NULL);
+  CHECK_FAIL(ctx, nmr_measured_format(&text, ctx, NULL), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_measured_format(NULL, ctx, kEthanolH1), NMR_ERR_ARGUMENT);
+
+  /* Ethanol against its own data ranks above dimethyl ether; the unreadable
+   * candidate keeps its place and is not ranked. */
+  CHECK(nmr_match(&m, ctx, "smiles", "COC dimethyl ether\nC1CC\nCCO ethanol\n", both, 2) == NMR_OK);
+  if (!m) {
+    fprintf(stderr, "nmr_match: %s\n", nmr_context_last_error(ctx));
+    ++failures;
+    nmr_context_free(ctx);
+    return;
+  }
+  CHECK(nmr_match_candidate_count(m) == 3);
+  CHECK(nmr_match_ranked_count(m) == 2);
+  CHECK(nmr_match_candidate_status(m, 1) == NMR_ERR_INPUT);
+  CHECK(nonempty(nmr_match_candidate_error(m, 1)));
+  CHECK(strcmp(nmr_match_candidate_title(m, 2), "ethanol") == 0);
+  CHECK(nmr_match_ranked(m, 0, &c) == NMR_OK && c == 2);
+  CHECK(nmr_match_ranked(m, 1, &c) == NMR_OK && c == 0);
+  CHECK(nmr_match_ranked(m, 2, &c) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_match_score(m, 2, &score0) == NMR_OK);
+  CHECK(nmr_match_score(m, 0, &score1) == NMR_OK);
+  CHECK(score0 < score1);
+  CHECK(nmr_match_margin(m, &margin) == NMR_OK && near(margin, score1 - score0, 1e-9));
+  CHECK(nmr_match_probability(m, 2, &p2) == NMR_OK && nmr_match_probability(m, 0, &p0) == NMR_OK);
+  CHECK(near(p0 + p2, 1.0, 1e-9) && p2 > p0);
+  CHECK(nmr_match_verdict(m, 2, &verdict) == NMR_OK && strcmp(verdict, "consistent") == 0);
+  CHECK(nmr_match_verdict(m, 0, &verdict) == NMR_OK && strcmp(verdict, "consistent") != 0);
+  CHECK(nmr_match_reason_count(m, 0) > 0 && nonempty(nmr_match_reason(m, 0, 0)));
+  CHECK(nmr_match_reason(m, 0, 999) == NULL);
+  CHECK(nmr_match_score(m, 1, &score0) == NMR_ERR_INPUT);
+  CHECK(nmr_match_score(m, 3, &score0) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_match_verdict(m, 1, &verdict) == NMR_ERR_INPUT);
+  CHECK(nmr_match_to_json(m, &text) == NMR_OK);
+  CHECK(text != NULL && strstr(text, "\"ranking\"") != NULL && strstr(text, "NMR_ERR_INPUT") != NULL &&
+        strstr(text, "\"assignment\"") != NULL);
+  nmr_string_free(text);
+  text = NULL;
+  nmr_match_result_free(m);
+  m = NULL;
+
+  /* One candidate: no margin. */
+  CHECK(nmr_match(&m, ctx, NULL, "CCO", both, 1) == NMR_OK);
+  CHECK(m != NULL && nmr_match_margin(m, &margin) == NMR_ERR_UNSUPPORTED);
+  nmr_match_result_free(m);
+  m = (nmr_match_result *)&margin;
+
+  /* Error paths. */
+  CHECK_FAIL(ctx, nmr_match(&m, ctx, NULL, "CCO", both, 0), NMR_ERR_ARGUMENT);
+  CHECK(m == NULL);
+  CHECK_FAIL(ctx, nmr_match(&m, ctx, NULL, NULL, both, 2), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_match(&m, ctx, NULL, "CCO", NULL, 2), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_match(NULL, ctx, NULL, "CCO", both, 2), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_match(&m, ctx, "nonsense", "CCO", both, 2), NMR_ERR_ARGUMENT);
+  CHECK_FAIL(ctx, nmr_match(&m, ctx, NULL, "   ", both, 2), NMR_ERR_INPUT);
+  CHECK_FAIL(ctx, nmr_match(&m, ctx, NULL, "CCO", two_h1, 2), NMR_ERR_ARGUMENT);
+  both[1] = "this is not a peak list";
+  CHECK_FAIL(ctx, nmr_match(&m, ctx, NULL, "CCO", both, 2), NMR_ERR_INPUT);
+  CHECK(strstr(nmr_context_last_error(ctx), "measured_texts[1]") != NULL);
+  both[1] = NULL;
+  CHECK_FAIL(ctx, nmr_match(&m, ctx, NULL, "CCO", both, 2), NMR_ERR_ARGUMENT);
+  CHECK(m == NULL);
+  CHECK(nmr_match(&m, NULL, NULL, "CCO", both, 1) == NMR_ERR_ARGUMENT);
+
+  nmr_match_result_free(NULL);
+  CHECK(nmr_match_candidate_count(NULL) == 0);
+  CHECK(nmr_match_ranked_count(NULL) == 0);
+  CHECK(nmr_match_candidate_status(NULL, 0) == NMR_ERR_ARGUMENT);
+  CHECK(nonempty(nmr_match_candidate_error(NULL, 0)));
+  CHECK(nmr_match_candidate_title(NULL, 0) != NULL);
+  CHECK(nmr_match_ranked(NULL, 0, &c) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_match_score(NULL, 0, &score0) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_match_margin(NULL, &margin) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_match_to_json(NULL, &text) == NMR_ERR_ARGUMENT);
+  CHECK(nmr_match_reason_count(NULL, 0) == 0);
+  nmr_context_free(ctx);
+}
+
 int main(void) {
   test_versions_and_status();
   test_null_handles();
@@ -641,6 +1057,9 @@ int main(void) {
   test_tables_and_blind_mode();
   test_proton_signals_and_solvents();
   test_batch_with_bad_record();
+  test_spin_system_json();
+  test_record_spectrum_and_couplings();
+  test_measured_and_match();
   if (failures) {
     fprintf(stderr, "%d check(s) failed\n", failures);
     return 1;

@@ -79,7 +79,7 @@ py::array_t<bool> per_atom_flag(const RecordPrediction &r, bool otherwise, F &&v
 }
 
 /// A list of signals with the keys of the JSON (nmrpred/predict.hpp, to_json).
-py::list signal_list(const std::vector<Signal> &signals) {
+py::list signal_list(const std::vector<Signal> &signals, bool with_couplings) {
   py::list list;
   for (const Signal &g : signals) {
     py::dict d;
@@ -95,6 +95,22 @@ py::list signal_list(const std::vector<Signal> &signals) {
       d["observed"] = g.observed;
     }
     d["shift_method"] = g.method;
+    if (with_couplings) {
+      // The keys the JSON adds when couplings were predicted.
+      d["multiplicity"] = g.multiplicity;
+      d["j_hz"] = g.j_hz;
+      if (g.nucleus == Nucleus::H1) {
+        py::list lines;
+        for (const SpectralLine &l : g.lines) {
+          py::dict ld;
+          ld["ppm"] = l.ppm;
+          ld["hz"] = l.hz;
+          ld["intensity"] = l.intensity;
+          lines.append(std::move(ld));
+        }
+        d["lines"] = std::move(lines);
+      }
+    }
     list.append(std::move(d));
   }
   return list;
@@ -106,10 +122,11 @@ py::dict signals_of(const RecordPrediction &r) {
   py::dict out;
   if (!r.prediction || !r.prediction->options.predict_shifts) return out;
   const Prediction &p = *r.prediction;
-  out["13C"] = signal_list(p.c13_signals);
+  const bool couplings = p.options.predict_couplings;
+  out["13C"] = signal_list(p.c13_signals, couplings);
   if (p.options.predict_h1) {
-    out["1H"] = signal_list(p.h1_signals);
-    out["1H_exchanged"] = signal_list(p.h1_exchanged_signals);
+    out["1H"] = signal_list(p.h1_signals, couplings);
+    out["1H_exchanged"] = signal_list(p.h1_exchanged_signals, couplings);
   }
   return out;
 }
@@ -187,7 +204,14 @@ class PyContext {
 
   std::vector<RecordPrediction> predict_records(const std::string &text, const std::string &format_name,
                                                 int spheres, bool blind, bool predict_shifts,
-                                                const std::string &solvent, bool predict_h1) const;
+                                                const std::string &solvent, bool predict_h1, bool predict_couplings,
+                                                double field_mhz, double line_width_hz) const;
+
+  std::string match(const std::vector<RecordPrediction> &records,
+                    const std::vector<std::string> &measured_texts) const {
+    py::gil_scoped_release release;
+    return match_json(records, measured_texts, *tables());
+  }
 
  private:
   mutable std::mutex mutex_;
@@ -196,8 +220,13 @@ class PyContext {
 
 std::vector<RecordPrediction> PyContext::predict_records(const std::string &text, const std::string &format_name,
                                                          int spheres, bool blind, bool predict_shifts,
-                                                         const std::string &solvent, bool predict_h1) const {
+                                                         const std::string &solvent, bool predict_h1,
+                                                         bool predict_couplings, double field_mhz,
+                                                         double line_width_hz) const {
   PredictOptions options;
+  options.predict_couplings = predict_couplings;
+  options.field_mhz = field_mhz;
+  options.line_width_hz = line_width_hz;
   options.hose_spheres = spheres;
   options.blind = blind;
   options.predict_shifts = predict_shifts;
@@ -333,6 +362,26 @@ void register_predict(py::module_ &m) {
       .def("observed",
            [](const RecordPrediction &r) { return per_atom_flag(r, true, [](const Shift &s) { return s.observed; }); })
       .def("solvent", &solvent_of)
+      .def("couplings",
+           [](const RecordPrediction &r) {
+             py::list out;
+             if (r.prediction)
+               for (const Coupling &c : r.prediction->couplings) {
+                 py::dict d;
+                 // The keys of the record JSON's "couplings".
+                 py::list atoms;
+                 atoms.append(c.a);
+                 atoms.append(c.b);
+                 d["atoms"] = std::move(atoms);
+                 d["bonds"] = c.bonds;
+                 d["j_hz"] = c.j_hz;
+                 d["uncertainty_hz"] = c.uncertainty_hz;
+                 d["rule"] = c.rule;
+                 d["source"] = c.source;
+                 out.append(std::move(d));
+               }
+             return out;
+           })
       .def("elements",
            [](const RecordPrediction &r) {
              std::vector<std::string> out;
@@ -358,7 +407,10 @@ void register_predict(py::module_ &m) {
       .def("solvents_json", &PyContext::solvents_json)
       .def("predict_records", &PyContext::predict_records, py::arg("text"), py::arg("format"), py::arg("spheres"),
            py::arg("blind"), py::arg("predict_shifts"), py::arg("solvent"), py::arg("predict_h1"),
-           "Reads and predicts every record of text; the GIL is released while it works.");
+           py::arg("predict_couplings") = true, py::arg("field_mhz") = 400.0, py::arg("line_width_hz") = 1.0,
+           "Reads and predicts every record of text; the GIL is released while it works.")
+      .def("match", &PyContext::match, py::arg("records"), py::arg("measured_texts"),
+           "Ranks the records against measured peak lists; JSON as nmr_match_to_json().");
   m.def("max_hose_spheres", [] { return kMaxHoseSpheres; });
   m.def("default_hose_spheres", [] { return kDefaultHoseSpheres; });
 }

@@ -176,3 +176,97 @@ def test_solvents_lists_the_table():
     assert [r["id"] for r in recs] == [line.split("\t")[0] for line in lines[1:]]
     for r in recs:
         assert {"id", "name", "residual_1h", "residual_13c", "water_1h", "aliases"} <= set(r)
+
+
+# Couplings, multiplets and the `spectrum` subcommand.
+# References outside the project:
+#   * GOTTLIEB-1997 (tables/SOURCES.md), Table 1: ethyl acetate in CDCl3, OCH2
+#     4.12 (q, J = 7.1 Hz), CH3 1.26 (t, J = 7.1 Hz), CH3CO 2.05 (s) (from memory).
+#   * Common practice: 1H integrals of ethyl acetate 3:2:3; the 13C spectrum of
+#     toluene has five signals.
+#   * JCAMP-DX 5.01 (McDonald & Wilks, Appl. Spectrosc. 1988, 42, 151): a file
+#     starts with ##TITLE= and ends with ##END=; ##NPOINTS gives the number of
+#     ordinates.
+#   * SVG 1.1 (W3C): an XML document whose root is {http://www.w3.org/2000/svg}svg,
+#     checked with the standard library's XML parser.
+
+def by_heavy_atom(rec):
+    """1H signals keyed by the heavy atom their protons sit on."""
+    attached = {a["index"]: a["attached_to"] for a in rec["atoms"]}
+    return {attached[g["atoms"][0]]: g for g in rec["signals"]["1H"]}
+
+
+def test_predict_lists_couplings_and_multiplets_of_ethyl_acetate():
+    # CC(=O)OCC: 0 acetyl CH3, 4 OCH2, 5 CH3.
+    [rec] = records(run("predict", "--smiles", "CC(=O)OCC"))
+    assert rec["field_mhz"] == 400
+    assert rec["couplings"]
+    for c in rec["couplings"]:
+        assert {"atoms", "bonds", "j_hz", "uncertainty_hz", "rule", "source"} <= set(c)
+        assert len(c["atoms"]) == 2 and c["atoms"][0] < c["atoms"][1]
+    sig = by_heavy_atom(rec)
+    assert [sig[k]["count"] for k in (0, 4, 5)] == [3, 2, 3]
+    assert [sig[k]["multiplicity"] for k in (0, 4, 5)] == ["s", "q", "t"]
+    for k in (4, 5):
+        assert abs(sig[k]["j_hz"][0] - 7.1) <= 1.0
+    for g in sig.values():
+        assert abs(sum(line["intensity"] for line in g["lines"]) - g["count"]) < 1e-6
+        assert {"ppm", "hz", "intensity"} <= set(g["lines"][0])
+
+
+def test_predict_mhz_and_no_couplings_options():
+    [rec] = records(run("predict", "--mhz", "60", "--smiles", "CC(=O)OCC"))
+    assert rec["field_mhz"] == 60
+    for g in rec["signals"]["1H"]:
+        for line in g["lines"]:
+            assert abs(line["hz"] - 60 * line["ppm"]) < 1e-6
+    [rec] = records(run("predict", "--no-couplings", "--smiles", "CC(=O)OCC"))
+    assert "couplings" not in rec and "field_mhz" not in rec
+    assert all("multiplicity" not in g for g in rec["signals"]["1H"])
+    for bad in (["--mhz", "10"], ["--mhz", "nan"], ["--line-width", "0"]):
+        proc = run("predict", *bad, "--smiles", "CCO")
+        assert proc.returncode == 2, bad
+        assert proc.stdout == ""
+
+
+def test_spectrum_writes_svg_and_jcamp_and_prints_the_multiplets(tmp_path):
+    import xml.etree.ElementTree as ET
+
+    svg, jdx = tmp_path / "s.svg", tmp_path / "s.jdx"
+    proc = run("spectrum", "--smiles", "CC(=O)OCC", "--svg", svg, "--jcamp", jdx, "--points", 4096,
+               "--solvent-signals")
+    assert proc.returncode == 0, proc.stderr
+    out = json.loads(proc.stdout)
+    assert out["nucleus"] == "1H" and out["field_mhz"] == 400
+    labels = sorted(m["label"] for m in out["multiplets"])
+    assert labels == ["q", "s", "t"]
+    assert sorted(round(m["integral"]) for m in out["multiplets"]) == [2, 3, 3]
+    assert any(s["text"] == "CDCl3" for s in out["solvent_signals"])
+    assert out["text"].startswith("1H NMR (400 MHz, CDCl3)")
+    root = ET.parse(svg).getroot()
+    assert root.tag == "{http://www.w3.org/2000/svg}svg"
+    text = jdx.read_text()
+    assert text.startswith("##TITLE=")
+    assert text.rstrip().endswith("##END=")
+    assert "##NPOINTS=4096" in text
+    assert "##.OBSERVE NUCLEUS=^1H" in text
+
+
+def test_spectrum_13c_text_and_record_choice(tmp_path):
+    proc = run("spectrum", "--smiles", "Cc1ccccc1", "--nucleus", "13C", "--text")
+    assert proc.returncode == 0, proc.stderr
+    assert proc.stdout.startswith("13C NMR (101 MHz, CDCl3)")
+    out = json.loads(run("spectrum", "--smiles", "Cc1ccccc1", "--nucleus", "13C").stdout)
+    assert len(out["multiplets"]) == 5
+    two = tmp_path / "two.smi"
+    two.write_text("CCO ethanol\nCC(=O)OCC ethyl acetate\n")
+    proc = run("spectrum", two)
+    assert proc.returncode == 2 and "--record" in proc.stderr
+    out = json.loads(run("spectrum", two, "--record", 1).stdout)
+    assert out["record"] == 1 and out["title"] == "ethyl acetate"
+    proc = run("spectrum", two, "--record", 5)
+    assert proc.returncode == 2 and "2 record" in proc.stderr
+    for bad in (["--ppm", "5:1"], ["--ppm", "x"], ["--mhz", "5000"], ["--shape", "box"]):
+        proc = run("spectrum", "--smiles", "CCO", *bad)
+        assert proc.returncode == 2, bad
+        assert proc.stderr

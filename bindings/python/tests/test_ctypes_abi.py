@@ -110,6 +110,58 @@ SIGNATURES = {
     "nmr_result_to_json": (ctypes.c_int, [vp, vpp]),
     "nmr_result_record_to_json": (ctypes.c_int, [vp, ctypes.c_size_t, vpp]),
     "nmr_string_free": (None, [vp]),
+    # couplings, spectra, measured data and matching
+    "nmr_result_coupling_count": (ctypes.c_size_t, [vp, ctypes.c_size_t]),
+    "nmr_result_coupling": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_size_p, c_size_p, c_double_p]),
+    "nmr_result_coupling_detail": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_int_p, c_double_p,
+                                                  c_char_pp]),
+    "nmr_result_signal_multiplicity": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t,
+                                                      c_char_pp]),
+    "nmr_result_signal_j_count": (ctypes.c_size_t, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t]),
+    "nmr_result_signal_j": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t, ctypes.c_size_t,
+                                           c_double_p]),
+    "nmr_result_signal_line_count": (ctypes.c_size_t, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t]),
+    "nmr_result_signal_lines": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_int, ctypes.c_size_t, c_double_p,
+                                               c_double_p, c_double_p, ctypes.c_size_t]),
+    "nmr_simulate_json": (ctypes.c_int, [vpp, vp, ctypes.c_char_p]),
+    "nmr_result_simulate": (ctypes.c_int, [vpp, vp, vp, ctypes.c_size_t, ctypes.c_int]),
+    "nmr_spectrum_free": (None, [vp]),
+    "nmr_spectrum_nucleus": (ctypes.c_int, [vp]),
+    "nmr_spectrum_observe_mhz": (ctypes.c_double, [vp]),
+    "nmr_spectrum_line_count": (ctypes.c_size_t, [vp]),
+    "nmr_spectrum_lines": (ctypes.c_int, [vp, c_double_p, c_double_p, c_double_p, ctypes.c_size_t]),
+    "nmr_spectrum_multiplet_count": (ctypes.c_size_t, [vp]),
+    "nmr_spectrum_multiplet_label": (ctypes.c_int, [vp, ctypes.c_size_t, c_char_pp]),
+    "nmr_spectrum_multiplet_ppm": (ctypes.c_int, [vp, ctypes.c_size_t, c_double_p, c_double_p, c_double_p]),
+    "nmr_spectrum_multiplet_integral": (ctypes.c_int, [vp, ctypes.c_size_t, c_double_p]),
+    "nmr_spectrum_multiplet_j_count": (ctypes.c_size_t, [vp, ctypes.c_size_t]),
+    "nmr_spectrum_multiplet_j": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_double_p]),
+    "nmr_spectrum_multiplet_atom_count": (ctypes.c_size_t, [vp, ctypes.c_size_t]),
+    "nmr_spectrum_multiplet_atom": (ctypes.c_int, [vp, ctypes.c_size_t, ctypes.c_size_t, c_size_p]),
+    "nmr_spectrum_warning_count": (ctypes.c_size_t, [vp]),
+    "nmr_spectrum_warning": (ctypes.c_char_p, [vp, ctypes.c_size_t]),
+    "nmr_spectrum_default_points": (ctypes.c_size_t, [vp]),
+    "nmr_spectrum_sample": (ctypes.c_int, [vp, c_double_p, c_double_p, ctypes.c_size_t]),
+    "nmr_spectrum_to_jcamp": (ctypes.c_int, [vp, vpp]),
+    "nmr_spectrum_to_svg": (ctypes.c_int, [vp, vpp]),
+    "nmr_spectrum_to_json": (ctypes.c_int, [vp, vpp]),
+    "nmr_measured_format": (ctypes.c_int, [vpp, vp, ctypes.c_char_p]),
+    "nmr_match": (ctypes.c_int, [vpp, vp, ctypes.c_char_p, ctypes.c_char_p, ctypes.POINTER(ctypes.c_char_p),
+                                 ctypes.c_size_t]),
+    "nmr_match_result_free": (None, [vp]),
+    "nmr_match_candidate_count": (ctypes.c_size_t, [vp]),
+    "nmr_match_candidate_status": (ctypes.c_int, [vp, ctypes.c_size_t]),
+    "nmr_match_candidate_error": (ctypes.c_char_p, [vp, ctypes.c_size_t]),
+    "nmr_match_candidate_title": (ctypes.c_char_p, [vp, ctypes.c_size_t]),
+    "nmr_match_ranked_count": (ctypes.c_size_t, [vp]),
+    "nmr_match_ranked": (ctypes.c_int, [vp, ctypes.c_size_t, c_size_p]),
+    "nmr_match_score": (ctypes.c_int, [vp, ctypes.c_size_t, c_double_p]),
+    "nmr_match_probability": (ctypes.c_int, [vp, ctypes.c_size_t, c_double_p]),
+    "nmr_match_verdict": (ctypes.c_int, [vp, ctypes.c_size_t, c_char_pp]),
+    "nmr_match_reason_count": (ctypes.c_size_t, [vp, ctypes.c_size_t]),
+    "nmr_match_reason": (ctypes.c_char_p, [vp, ctypes.c_size_t, ctypes.c_size_t]),
+    "nmr_match_margin": (ctypes.c_int, [vp, c_double_p]),
+    "nmr_match_to_json": (ctypes.c_int, [vp, vpp]),
 }
 
 
@@ -320,7 +372,7 @@ def atom_shift(lib, res, rec, i):
     return {"ppm": ppm.value, "uncertainty": unc.value, "method": method.value.decode(), "references": refs}
 
 
-def signals(lib, res, rec, nucleus=NMR_NUCLEUS_13C):
+def signals(lib, res, rec, nucleus=NMR_NUCLEUS_13C, couplings=True):
     """The signals of one nucleus through the accessors, with the keys of the JSON."""
     out = []
     for k in range(lib.nmr_result_signal_count(res, rec, nucleus)):
@@ -341,13 +393,33 @@ def signals(lib, res, rec, nucleus=NMR_NUCLEUS_13C):
         assert count.value == len(atoms)
         if nucleus == NMR_NUCLEUS_13C:
             assert exch.value == 0
-            out.append({"shift": ppm.value, "atoms": atoms, "attached_h": h.value,
-                        "shift_uncertainty": unc.value, "shift_method": method.value.decode()})
+            item = {"shift": ppm.value, "atoms": atoms, "attached_h": h.value,
+                    "shift_uncertainty": unc.value, "shift_method": method.value.decode()}
         else:
             assert h.value == 0
-            out.append({"shift": ppm.value, "atoms": atoms, "count": count.value,
-                        "shift_uncertainty": unc.value, "exchangeable": bool(exch.value),
-                        "observed": True, "shift_method": method.value.decode()})
+            item = {"shift": ppm.value, "atoms": atoms, "count": count.value,
+                    "shift_uncertainty": unc.value, "exchangeable": bool(exch.value),
+                    "observed": True, "shift_method": method.value.decode()}
+        if couplings:
+            # The keys the JSON adds when couplings were predicted (the default).
+            mult = ctypes.c_char_p()
+            assert lib.nmr_result_signal_multiplicity(res, rec, nucleus, k, ctypes.byref(mult)) == NMR_OK
+            item["multiplicity"] = mult.value.decode()
+            js = []
+            for i in range(lib.nmr_result_signal_j_count(res, rec, nucleus, k)):
+                j = ctypes.c_double()
+                assert lib.nmr_result_signal_j(res, rec, nucleus, k, i, ctypes.byref(j)) == NMR_OK
+                js.append(j.value)
+            item["j_hz"] = js
+            if nucleus == NMR_NUCLEUS_1H:
+                n = lib.nmr_result_signal_line_count(res, rec, nucleus, k)
+                p, hz, inten = (ctypes.c_double * max(n, 1))(), (ctypes.c_double * max(n, 1))(), \
+                    (ctypes.c_double * max(n, 1))()
+                assert lib.nmr_result_signal_lines(res, rec, nucleus, k, p, hz, inten, n) == NMR_OK
+                if n:
+                    assert lib.nmr_result_signal_lines(res, rec, nucleus, k, p, hz, inten, n - 1) == NMR_ERR_ARGUMENT
+                item["lines"] = [{"ppm": p[i], "hz": hz[i], "intensity": inten[i]} for i in range(n)]
+        out.append(item)
     return out
 
 
@@ -631,3 +703,236 @@ def test_predict_h1_off_gives_13c_only(lib, ctx):
         assert list(record_json(lib, res, 0)["signals"]) == ["13C"]
     finally:
         lib.nmr_result_free(res)
+
+
+# ------------------------------------------------------------------ spectra
+# AB quartet closed form: H. Guenther, NMR Spectroscopy, 3rd ed., Wiley 2013,
+# the AB system (from memory). Ethanol data in CDCl3: GOTTLIEB-1997
+# (tables/SOURCES.md), Tables 1 and 2 (from memory). Ethyl triplet/quartet
+# with 3J about 7 Hz: common practice.
+NMR_OPT_FIELD_MHZ, NMR_OPT_LINE_WIDTH_HZ, NMR_OPT_PREDICT_COUPLINGS = 1, 2, 8
+NMR_OPT_POINTS, NMR_OPT_PPM_LOW, NMR_OPT_PPM_HIGH, NMR_OPT_LINE_SHAPE = 9, 10, 11, 12
+
+AB_JSON = '{"mhz": 400, "spins": [{"shift": 3.0}, {"shift": 3.05}], "couplings": [[0, 1, 10.0]]}'
+ETHANOL_H1 = "1H NMR (400 MHz, CDCl3) δ 3.72 (q, J = 7.0 Hz, 2H), 1.32 (br s, 1H), 1.25 (t, J = 7.0 Hz, 3H)."
+ETHANOL_C13 = "13C NMR (101 MHz, CDCl3) δ 58.3, 18.4."
+
+
+def take_string(lib, ptr):
+    try:
+        return ctypes.string_at(ptr.value).decode("utf-8")
+    finally:
+        lib.nmr_string_free(ptr)
+
+
+def simulate_json(lib, ctx, text):
+    spec = ctypes.c_void_p()
+    rc = lib.nmr_simulate_json(ctypes.byref(spec), ctx, text.encode())
+    return rc, spec
+
+
+def spectrum_lines(lib, spec):
+    n = lib.nmr_spectrum_line_count(spec)
+    ppm, hz, inten = (ctypes.c_double * n)(), (ctypes.c_double * n)(), (ctypes.c_double * n)()
+    assert lib.nmr_spectrum_lines(spec, ppm, hz, inten, n) == NMR_OK
+    return list(ppm), list(hz), list(inten)
+
+
+def test_ab_quartet_through_the_c_abi(lib, ctx):
+    rc, spec = simulate_json(lib, ctx, AB_JSON)
+    assert rc == NMR_OK, last_error(lib, ctx)
+    try:
+        ppm, hz, inten = spectrum_lines(lib, spec)
+        d = math.hypot(20.0, 10.0)
+        centre = 3.025 * 400
+        want = [centre - (d + 10) / 2, centre - (d - 10) / 2, centre + (d - 10) / 2, centre + (d + 10) / 2]
+        assert hz == pytest.approx(want, abs=1e-3)
+        assert inten == pytest.approx([(1 - 10 / d) / 2, (1 + 10 / d) / 2, (1 + 10 / d) / 2, (1 - 10 / d) / 2],
+                                      abs=1e-6)
+        small = (ctypes.c_double * 2)()
+        assert lib.nmr_spectrum_lines(spec, small, None, None, 2) == NMR_ERR_ARGUMENT
+        assert lib.nmr_spectrum_multiplet_count(spec) == 2
+        # A JSON text of the same lines.
+        out = ctypes.c_void_p()
+        assert lib.nmr_spectrum_to_json(spec, ctypes.byref(out)) == NMR_OK
+        doc = json.loads(take_string(lib, out))
+        assert [l["hz"] for l in doc["lines"]] == pytest.approx(hz)
+        # Sampled with Gaussian lines the area is the 2 protons.
+        points = 8192
+        xs, ys = (ctypes.c_double * points)(), (ctypes.c_double * points)()
+        assert lib.nmr_spectrum_sample(spec, xs, ys, points) == NMR_OK
+        step = (xs[points - 1] - xs[0]) / (points - 1)
+        assert xs[0] == pytest.approx(-0.5) and xs[points - 1] == pytest.approx(12.0)
+        assert sum(ys) * step == pytest.approx(2.0, abs=5e-3)
+        assert lib.nmr_spectrum_sample(spec, xs, ys, 15) == NMR_ERR_ARGUMENT
+        out = ctypes.c_void_p()
+        assert lib.nmr_spectrum_to_jcamp(spec, ctypes.byref(out)) == NMR_OK
+        jcamp = take_string(lib, out)
+        npoints = int(re.search(r"^##NPOINTS=\s*(\d+)", jcamp, re.M).group(1))
+        assert npoints == lib.nmr_spectrum_default_points(spec)
+        out = ctypes.c_void_p()
+        assert lib.nmr_spectrum_to_svg(spec, ctypes.byref(out)) == NMR_OK
+        assert "</svg>" in take_string(lib, out)
+    finally:
+        lib.nmr_spectrum_free(spec)
+
+
+def test_spectrum_options_and_errors(lib, ctx):
+    v = ctypes.c_double()
+    assert lib.nmr_context_get_option_double(ctx, NMR_OPT_FIELD_MHZ, ctypes.byref(v)) == NMR_OK and v.value == 400
+    assert lib.nmr_context_get_option_double(ctx, NMR_OPT_PPM_LOW, ctypes.byref(v)) == NMR_OK
+    assert math.isnan(v.value)
+    for key, bad in ((NMR_OPT_FIELD_MHZ, 5.0), (NMR_OPT_LINE_WIDTH_HZ, -1.0), (NMR_OPT_POINTS, 8.0),
+                     (NMR_OPT_LINE_SHAPE, 0.0), (NMR_OPT_PREDICT_COUPLINGS, 2.0), (NMR_OPT_PPM_LOW, math.inf)):
+        assert lib.nmr_context_set_option_double(ctx, key, bad) == NMR_ERR_ARGUMENT
+        assert last_error(lib, ctx)
+    assert lib.nmr_context_set_option_double(ctx, NMR_OPT_LINE_SHAPE, 2.0) == NMR_OK
+    assert lib.nmr_context_set_option_double(ctx, NMR_OPT_PPM_LOW, 2.0) == NMR_OK
+    assert lib.nmr_context_set_option_double(ctx, NMR_OPT_PPM_HIGH, 4.0) == NMR_OK
+    assert lib.nmr_context_set_option_double(ctx, NMR_OPT_POINTS, 4096.0) == NMR_OK
+    rc, spec = simulate_json(lib, ctx, AB_JSON)
+    assert rc == NMR_OK
+    try:
+        assert lib.nmr_spectrum_default_points(spec) == 4096
+        xs, ys = (ctypes.c_double * 4096)(), (ctypes.c_double * 4096)()
+        assert lib.nmr_spectrum_sample(spec, xs, ys, 4096) == NMR_OK
+        assert xs[0] == pytest.approx(2.0) and xs[4095] == pytest.approx(4.0)
+        assert sum(ys) * (2.0 / 4095) == pytest.approx(2.0, abs=1e-6)  # Gaussian: the whole area
+    finally:
+        lib.nmr_spectrum_free(spec)
+    for bad, word in (("{oops", "JSON"), ('{"spins": [1], "color": 2}', "color"),
+                      ('{"spins": [1, 2], "couplings": [[0, 7, 1.0]]}', "coupling"),
+                      ('{"spins": [{"shift": "x"}]}', "shift")):
+        rc, spec = simulate_json(lib, ctx, bad)
+        assert rc == NMR_ERR_ARGUMENT and not spec.value
+        assert word in last_error(lib, ctx)
+    spec = ctypes.c_void_p()
+    assert lib.nmr_simulate_json(ctypes.byref(spec), ctx, None) == NMR_ERR_ARGUMENT
+    assert lib.nmr_simulate_json(ctypes.byref(spec), None, AB_JSON.encode()) == NMR_ERR_ARGUMENT
+    lib.nmr_spectrum_free(None)
+    assert lib.nmr_spectrum_line_count(None) == 0
+    assert math.isnan(lib.nmr_spectrum_observe_mhz(None))
+
+
+def test_record_couplings_multiplicities_and_spectrum(lib, ctx):
+    rc, res = predict(lib, ctx, "CCO ethanol\nC1CC\n", "smiles")
+    assert rc == NMR_OK
+    try:
+        n = lib.nmr_result_coupling_count(res, 0)
+        a, b, j = ctypes.c_size_t(), ctypes.c_size_t(), ctypes.c_double()
+        heavy = ctypes.c_ssize_t()
+        vicinal = []
+        for i in range(n):
+            assert lib.nmr_result_coupling(res, 0, i, ctypes.byref(a), ctypes.byref(b), ctypes.byref(j)) == NMR_OK
+            owners = set()
+            for atom in (a.value, b.value):
+                lib.nmr_result_atom_attached_to(res, 0, atom, ctypes.byref(heavy))
+                owners.add(heavy.value)
+            if owners == {0, 1}:
+                vicinal.append(j.value)
+        assert len(vicinal) == 6 and all(6.0 <= x <= 8.0 for x in vicinal)
+        assert lib.nmr_result_coupling(res, 0, n, None, None, None) == NMR_ERR_ARGUMENT
+        assert lib.nmr_result_coupling_count(res, 1) == 0
+        label = ctypes.c_char_p()
+        count = ctypes.c_int()
+        seen = {}
+        for sig in range(lib.nmr_result_signal_count(res, 0, NMR_NUCLEUS_1H)):
+            lib.nmr_result_signal_integral(res, 0, NMR_NUCLEUS_1H, sig, ctypes.byref(count))
+            assert lib.nmr_result_signal_multiplicity(res, 0, NMR_NUCLEUS_1H, sig, ctypes.byref(label)) == NMR_OK
+            seen[count.value] = label.value.decode()
+            if count.value == 3:
+                assert lib.nmr_result_signal_j_count(res, 0, NMR_NUCLEUS_1H, sig) == 1
+                assert lib.nmr_result_signal_j(res, 0, NMR_NUCLEUS_1H, sig, 0, ctypes.byref(j)) == NMR_OK
+                assert 6.0 <= j.value <= 8.0
+        assert seen[3] == "t" and seen[2] == "q"
+        spec = ctypes.c_void_p()
+        assert lib.nmr_result_simulate(ctypes.byref(spec), ctx, res, 0, NMR_NUCLEUS_1H) == NMR_OK
+        try:
+            labels = []
+            for m in range(lib.nmr_spectrum_multiplet_count(spec)):
+                assert lib.nmr_spectrum_multiplet_label(spec, m, ctypes.byref(label)) == NMR_OK
+                labels.append(label.value.decode())
+            assert "t" in labels and "q" in labels
+        finally:
+            lib.nmr_spectrum_free(spec)
+        spec = ctypes.c_void_p()
+        assert lib.nmr_result_simulate(ctypes.byref(spec), ctx, res, 1, NMR_NUCLEUS_1H) == NMR_ERR_INPUT
+        assert lib.nmr_result_simulate(ctypes.byref(spec), ctx, res, 0, 2) == NMR_ERR_ARGUMENT
+        assert "nucleus" in last_error(lib, ctx)
+        assert not spec.value
+    finally:
+        lib.nmr_result_free(res)
+
+
+def run_match(lib, ctx, candidates, texts, fmt=None):
+    arr = (ctypes.c_char_p * max(1, len(texts)))(*[t.encode() if t is not None else None for t in texts])
+    m = ctypes.c_void_p()
+    rc = lib.nmr_match(ctypes.byref(m), ctx, fmt.encode() if fmt else None,
+                       candidates.encode() if candidates is not None else None, arr, len(texts))
+    return rc, m
+
+
+def test_match_through_the_c_abi(lib, ctx):
+    rc, m = run_match(lib, ctx, "COC dimethyl ether\nC1CC\nCCO ethanol\n", [ETHANOL_H1, ETHANOL_C13], "smiles")
+    assert rc == NMR_OK, last_error(lib, ctx)
+    try:
+        assert lib.nmr_match_candidate_count(m) == 3
+        assert lib.nmr_match_ranked_count(m) == 2
+        c = ctypes.c_size_t()
+        assert lib.nmr_match_ranked(m, 0, ctypes.byref(c)) == NMR_OK and c.value == 2
+        assert lib.nmr_match_candidate_status(m, 1) == NMR_ERR_INPUT
+        assert lib.nmr_match_candidate_error(m, 1).decode()
+        score = ctypes.c_double()
+        assert lib.nmr_match_score(m, 1, ctypes.byref(score)) == NMR_ERR_INPUT
+        verdict = ctypes.c_char_p()
+        assert lib.nmr_match_verdict(m, 2, ctypes.byref(verdict)) == NMR_OK
+        assert verdict.value.decode() == "consistent"
+        margin = ctypes.c_double()
+        assert lib.nmr_match_margin(m, ctypes.byref(margin)) == NMR_OK and margin.value > 0
+        out = ctypes.c_void_p()
+        assert lib.nmr_match_to_json(m, ctypes.byref(out)) == NMR_OK
+        doc = json.loads(take_string(lib, out))
+        assert [r["candidate"] for r in doc["ranking"]] == [2, 0]
+        assert doc["margin"] == pytest.approx(margin.value)
+        assert doc["candidates"][1]["error"]["name"] == "NMR_ERR_INPUT"
+        assert doc["candidates"][2]["title"] == "ethanol"
+    finally:
+        lib.nmr_match_result_free(m)
+    for cands, texts, want, word in (
+            ("CCO", [ETHANOL_H1, "no peaks here"], NMR_ERR_INPUT, "measured_texts[1]"),
+            ("CCO", [ETHANOL_H1, ETHANOL_H1], NMR_ERR_ARGUMENT, "1H"),
+            ("CCO", [ETHANOL_H1, None], NMR_ERR_ARGUMENT, "measured_texts[1]"),
+            ("", [ETHANOL_H1], NMR_ERR_INPUT, "no structure"),
+            (None, [ETHANOL_H1], NMR_ERR_ARGUMENT, "candidates_text")):
+        rc, m = run_match(lib, ctx, cands, texts)
+        assert rc == want and not m.value
+        assert word in last_error(lib, ctx)
+    rc, m = run_match(lib, ctx, "CCO", [])
+    assert rc == NMR_ERR_ARGUMENT and "measured_count" in last_error(lib, ctx)
+    lib.nmr_match_result_free(None)
+    assert lib.nmr_match_candidate_count(None) == 0
+
+
+def test_measured_format_through_the_c_abi(lib, ctx):
+    corpus = json.loads((REPO_ROOT / "tests" / "data" / "measured_corpus.json").read_text(encoding="utf-8"))
+    out = ctypes.c_void_p()
+    # nmr_measured_format reads with the defaults (format recognised, nucleus
+    # from the text): cases that need the caller's nucleus or format are left out.
+    for case in corpus["cases"]:
+        if case.get("default_nucleus") or case.get("format"):
+            continue
+        assert lib.nmr_measured_format(ctypes.byref(out), ctx, case["input"].encode()) == NMR_OK, case["id"]
+        text = take_string(lib, out)
+        assert text.count("\n") + 1 == len(case["expect"]), case["id"]
+        # Normalised text reads back to the same number of peaks.
+        again = ctypes.c_void_p()
+        assert lib.nmr_measured_format(ctypes.byref(again), ctx, text.encode()) == NMR_OK, case["id"]
+        assert take_string(lib, again) == text, case["id"]
+    for case in corpus["errors"]:
+        if case.get("default_nucleus") or case.get("format"):
+            continue
+        raw = bytes.fromhex(case["input_hex"]) if "input_hex" in case else case["input"].encode()
+        out = ctypes.c_void_p()
+        assert lib.nmr_measured_format(ctypes.byref(out), ctx, raw) == NMR_ERR_INPUT, case["id"]
+        assert not out.value
+        assert case["message"] in last_error(lib, ctx), case["id"]

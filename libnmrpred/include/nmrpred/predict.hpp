@@ -17,6 +17,7 @@
 /// except where a batch records a failure per record instead (predict_record,
 /// predict_all), so one bad record never stops the records after it.
 
+#include <algorithm>
 #include <cstddef>
 #include <optional>
 #include <string>
@@ -24,6 +25,7 @@
 #include <vector>
 
 #include <nmrpred/classes.hpp>
+#include <nmrpred/couplings.hpp>
 #include <nmrpred/error.hpp>
 #include <nmrpred/export.hpp>
 #include <nmrpred/hose.hpp>
@@ -31,6 +33,7 @@
 #include <nmrpred/molecule.hpp>
 #include <nmrpred/shifts.hpp>
 #include <nmrpred/solvents.hpp>
+#include <nmrpred/spin.hpp>
 #include <nmrpred/tables.hpp>
 #include <nmrpred/version.hpp>
 
@@ -58,9 +61,22 @@ struct PredictOptions {
   /// Predict 1H shifts and signals too (only when predict_shifts is on).
   /// Off: 13C only, as before 1H prediction existed.
   bool predict_h1 = true;
+  /// Estimate J couplings (predict_couplings() with default CouplingOptions)
+  /// and, with predict_h1, simulate the 1H spectrum at field_mhz, which gives
+  /// every 1H Signal its multiplicity, j_hz and lines (only when
+  /// predict_shifts is on). 13C signals split by fluorine, phosphorus or
+  /// deuterium get theirs too.
+  bool predict_couplings = true;
+  /// Spectrometer field as the 1H frequency, MHz (40..1200): decides which
+  /// couplings are strong (second order) and so the multiplets.
+  double field_mhz = 400;
+  /// Full width at half height of a line, Hz (0 < w <= 100): splittings
+  /// smaller than this are not resolved in multiplet labels.
+  double line_width_hz = 1.0;
 };
 
-/// Throws ArgumentError naming the member if `options` is out of range. Checks
+/// Throws ArgumentError naming the member if `options` is out of range
+/// (field_mhz and line_width_hz also when not finite). Checks
 /// what needs no tables (the solvent name is checked by the overload below).
 NMRPRED_API void validate(const PredictOptions &options);
 
@@ -92,10 +108,30 @@ struct Signal {
   /// 1H: false when the protons are exchanged for deuterium by the solvent
   /// (Shift::observed) and so give no signal.
   bool observed = true;
+  /// 1H: first-order multiplicity in the trade's letters ("s", "d", "t", "dd",
+  /// "td", "m", "br s", ...) of the simulated multiplet (Multiplet::label);
+  /// empty when couplings were not predicted and for protons exchanged for
+  /// deuterium. 13C (proton-decoupled): the splitting by fluorine,
+  /// phosphorus or deuterium ("d" for a C-F carbon), empty for a carbon that
+  /// none of them splits or when couplings were not predicted.
+  std::string multiplicity;
+  /// The resolved coupling constants behind `multiplicity`, Hz, largest
+  /// first (one value per splitting step, so a "dt" has two). Empty for a
+  /// singlet, an "m" or when couplings were not predicted.
+  std::vector<double> j_hz;
+  /// 1H: the simulated lines of this signal at PredictOptions::field_mhz, by
+  /// increasing ppm, intensities adding up to `count` (Multiplet::lines).
+  /// Empty where `multiplicity` is empty. 13C: empty.
+  std::vector<SpectralLine> lines;
   friend bool operator==(const Signal &a, const Signal &b) {
+    auto same_line = [](const SpectralLine &x, const SpectralLine &y) {
+      return x.ppm == y.ppm && x.hz == y.hz && x.intensity == y.intensity;
+    };
     return a.nucleus == b.nucleus && a.ppm == b.ppm && a.uncertainty_ppm == b.uncertainty_ppm &&
            a.atoms == b.atoms && a.attached_h == b.attached_h && a.method == b.method && a.count == b.count &&
-           a.exchangeable == b.exchangeable && a.observed == b.observed;
+           a.exchangeable == b.exchangeable && a.observed == b.observed && a.multiplicity == b.multiplicity &&
+           a.j_hz == b.j_hz && a.lines.size() == b.lines.size() &&
+           std::equal(a.lines.begin(), a.lines.end(), b.lines.begin(), same_line);
   }
 };
 
@@ -149,6 +185,19 @@ struct Prediction {
   /// canonical configuration, search limits reached, atoms only the shift
   /// engine's last resort could handle, ...). Never errors.
   std::vector<std::string> warnings;
+  /// Estimated couplings (predict_couplings(), sorted by atoms) when
+  /// PredictOptions::predict_couplings and predict_shifts are on; else empty.
+  std::vector<Coupling> couplings;
+  /// The simulated 1H spectrum (simulate(*this, couplings, Nucleus::H1) at
+  /// PredictOptions::field_mhz and line_width_hz, with
+  /// SimulationOptions::max_block_size 64 to bound the cost: larger strongly
+  /// coupled clusters, as in long alkyl chains, are split with a warning;
+  /// call simulate() for the full treatment) when couplings and 1H
+  /// shifts were predicted and the solvent leaves at least one proton
+  /// observed; its multiplets are those copied into h1_signals. Absent
+  /// otherwise, or when the coupling or simulation stage failed (then a
+  /// warning says why and the shifts are still given).
+  std::optional<Simulation> h1_simulation;
 
   /// The predicted shift of `atom` for `nucleus`, or null if there is none (the
   /// atom is not of that nucleus's element, is deuterium or tritium, or the
@@ -244,7 +293,14 @@ struct JsonOptions {
 /// counts of "1H" add up to the integrals a spectrum shows. Deuterated
 /// positions give no entry at all. "solvent" describes PredictOptions::solvent:
 /// its residual 1H and 13C signals and dissolved water (ppm from TMS), so that
-/// later stages can draw or ignore them. A failed record is
+/// later stages can draw or ignore them. When couplings were predicted
+/// (PredictOptions::predict_couplings and predict_shifts), every signal also
+/// has "multiplicity" (Signal::multiplicity; "" for an unsplit 13C signal and
+/// for exchanged protons) and "j_hz" (Hz, largest first), every 1H and
+/// 1H_exchanged signal "lines": [{"ppm", "hz", "intensity"}, ...], and the record
+/// ends with "field_mhz" and "line_width_hz" (the options of the simulation)
+/// and "couplings": [{"atoms": [a, b], "bonds", "j_hz", "uncertainty_hz",
+/// "rule", "source"}, ...] (Prediction::couplings; Hz). A failed record is
 ///   {"record", "error": {"code", "name", "message"}}
 /// with "code" the C status number and "name" its NMR_ERR_* constant. Keys are
 /// only ever added. Text that is not valid UTF-8 (titles) has the bad bytes

@@ -26,6 +26,7 @@ namespace detail {
 struct ReferenceIndex;
 struct C13IncrementTables;
 struct H1IncrementTables;
+struct CouplingTables;
 }
 
 /// One assignment of a reference record: `atoms` (heavy-atom indices in the
@@ -90,6 +91,8 @@ class NMRPRED_API Tables {
   const std::shared_ptr<const detail::C13IncrementTables> &c13_increments() const noexcept { return c13_increments_; }
   /// The 1H increment tables, parsed once (private to the library).
   const std::shared_ptr<const detail::H1IncrementTables> &h1_increments() const noexcept { return h1_increments_; }
+  /// The coupling tables of couplings/*.tsv, parsed once (private to the library).
+  const std::shared_ptr<const detail::CouplingTables> &coupling_tables() const noexcept { return coupling_tables_; }
 
   Tables(const Tables &) = delete;
   Tables &operator=(const Tables &) = delete;
@@ -105,6 +108,7 @@ class NMRPRED_API Tables {
   std::vector<std::pair<std::string, std::string>> files_;
   std::shared_ptr<const detail::C13IncrementTables> c13_increments_;
   std::shared_ptr<const detail::H1IncrementTables> h1_increments_;
+  std::shared_ptr<const detail::CouplingTables> coupling_tables_;
   std::shared_ptr<const detail::ReferenceIndex> index_;
   friend struct Private;
 };

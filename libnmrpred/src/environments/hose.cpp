@@ -32,9 +32,12 @@
 #include <memory>
 #include <type_traits>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include <fmt/format.h>
+
+#include "shifts/reference_index.hpp"
 
 namespace nmrpred {
 
@@ -371,8 +374,35 @@ class Engine {
     return text_off_[static_cast<std::size_t>(s)] - text_off_[static_cast<std::size_t>(s - 1)];
   }
 
-  std::string sphere_text(int s) const {
-    return std::string(text_.data() + text_off_[static_cast<std::size_t>(s - 1)], sphere_size(s));
+  std::string sphere_text(int s) const { return std::string(sphere_view(s)); }
+
+  std::string_view sphere_view(int s) const {
+    return std::string_view(text_.data() + text_off_[static_cast<std::size_t>(s - 1)], sphere_size(s));
+  }
+
+  // detail::hose_key() of every prefix of parts(centre) (see hose_keys()).
+  void keys(std::uint32_t centre, detail::HoseKeys &out) const {
+    char buf[kCentreTextMax];
+    std::uint64_t h = detail::hose_key_part(detail::kHoseKeySeed, std::string_view(buf, static_cast<std::size_t>(put_centre(buf, centre) - buf)));
+    out[0] = h;
+    for (std::size_t k = 1; k < out.size(); ++k) {
+      if (static_cast<int>(k) <= n_) h = detail::hose_key_part(h, sphere_view(static_cast<int>(k)));
+      out[k] = h;
+    }
+  }
+
+  // The same for hydrogen_parts(h, centre, bond).
+  void hydrogen_keys(std::uint32_t h, std::uint32_t centre, BondOrder bond, detail::HoseKeys &out) const {
+    char buf[kCentreTextMax];
+    std::uint64_t v = detail::hose_key_part(detail::kHoseKeySeed, std::string_view(buf, static_cast<std::size_t>(put_centre(buf, h) - buf)));
+    out[0] = v;
+    char first[kTokenTextMax];
+    v = detail::hose_key_part(v, std::string_view(first, static_cast<std::size_t>(put_token(first, bond_rank(bond) << 24 | atom_tok_[centre]) - first)));
+    out[1] = v;
+    for (std::size_t k = 2; k < out.size(); ++k) {
+      if (static_cast<int>(k) <= n_) v = detail::hose_key_part(v, sphere_view(static_cast<int>(k) - 1));
+      out[k] = v;
+    }
   }
 
   // Text of sphere `s` (1-based) from the last write_text().
@@ -1135,9 +1165,15 @@ namespace {
 // done. Atoms of one topological class are exchanged by an automorphism, so
 // their codes agree. Terminal hydrogens take their result from the run of
 // their heavy atom (see Engine::hydrogen_code).
+//
+// `needed` (may be null: all) flags the topological classes whose results are
+// wanted: the others are skipped, but the bookkeeping (which atom stands for
+// its class) stays the same, so a wanted result is made from the same run as
+// with every class wanted.
 template <class Centre, class Hydrogen, class Copy>
 void code_every_atom(const Molecule &molecule, const AtomClasses &classes, Engine &engine, Centre centre,
-                     Hydrogen hydrogen, Copy copy) {
+                     Hydrogen hydrogen, Copy copy, const std::vector<char> *needed = nullptr) {
+  auto wanted = [&](std::size_t a) { return !needed || (*needed)[classes.topological[a]]; };
   const std::size_t count = molecule.atom_count();
   std::uint32_t max_class = 0;
   for (auto c : classes.topological) max_class = std::max(max_class, c);
@@ -1180,23 +1216,27 @@ void code_every_atom(const Molecule &molecule, const AtomClasses &classes, Engin
       if (!take_class(h_list[i])) pending.push_back(h_list[i]);
     const bool heavy_done = take_class(a);
     if (heavy_done && pending.empty()) continue;
-    engine.run(static_cast<std::uint32_t>(a));
+    bool run = !heavy_done && wanted(a);
+    for (auto h : pending) run = run || wanted(h);
+    if (run) engine.run(static_cast<std::uint32_t>(a));
     if (!heavy_done) {
-      centre(a);
+      if (run && wanted(a)) centre(a);
       record(a);
     }
     for (auto h : pending) {
       if (take_class(h)) continue;
       // A terminal hydrogen's only bond is the one to `a`.
-      hydrogen(h, a, molecule.bond(*molecule.bond_ids_begin(h)).order);
+      if (run && wanted(h)) hydrogen(h, a, molecule.bond(*molecule.bond_ids_begin(h)).order);
       record(h);
     }
   }
   // Hydrogens bonded to no heavy atom, or to more than one atom.
   for (std::size_t h = heavy; h < count; ++h) {
     if (done[h] || take_class(h)) continue;
-    engine.run(static_cast<std::uint32_t>(h));
-    centre(h);
+    if (wanted(h)) {
+      engine.run(static_cast<std::uint32_t>(h));
+      centre(h);
+    }
     record(h);
   }
 }
@@ -1235,6 +1275,30 @@ std::vector<std::vector<std::string>> hose_spheres_all(const Molecule &molecule,
       [&](std::size_t to, std::size_t from) { parts[to] = parts[from]; });
   return parts;
 }
+
+namespace detail {
+
+std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &classes, const std::vector<bool> &wanted) {
+  check_request(molecule, classes, kMaxHoseSpheres);
+  std::vector<HoseKeys> keys(molecule.atom_count(), HoseKeys{});
+  if (keys.empty()) return keys;
+  std::uint32_t max_class = 0;
+  for (auto c : classes.topological) max_class = std::max(max_class, c);
+  std::vector<char> needed(static_cast<std::size_t>(max_class) + 1, 0);
+  for (std::size_t a = 0; a < wanted.size() && a < keys.size(); ++a)
+    if (wanted[a]) needed[classes.topological[a]] = 1;
+  const auto engine_ptr = std::make_unique<Engine>(molecule, kMaxHoseSpheres, classes.invariant_rank);
+  Engine &engine = *engine_ptr;
+  code_every_atom(
+      molecule, classes, engine, [&](std::size_t a) { engine.keys(static_cast<std::uint32_t>(a), keys[a]); },
+      [&](std::size_t h, std::size_t a, BondOrder bond) {
+        engine.hydrogen_keys(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, keys[h]);
+      },
+      [&](std::size_t to, std::size_t from) { keys[to] = keys[from]; }, &needed);
+  return keys;
+}
+
+}  // namespace detail
 
 std::string join_hose_spheres(const std::vector<std::string> &parts, int spheres) {
   if (spheres < 1 || spheres > kMaxHoseSpheres)

@@ -18,6 +18,7 @@
 
 #include <algorithm>
 #include <map>
+#include <memory>
 #include <numeric>
 #include <unordered_map>
 
@@ -255,8 +256,9 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
   return sm;
 }
 
-Graph build_graph(const Molecule &m, const std::vector<std::uint32_t> &atoms, const StereoModel &sm,
-                  std::vector<std::uint32_t> &local_of) {
+// The coloured graph of `atoms` without stereo (tetra_of and dbl_of empty
+// per atom); sets local_of for those atoms.
+Graph build_structure(const Molecule &m, const std::vector<std::uint32_t> &atoms, std::vector<std::uint32_t> &local_of) {
   Graph g;
   g.n = static_cast<std::uint32_t>(atoms.size());
   g.global = atoms;
@@ -285,7 +287,17 @@ Graph build_graph(const Molecule &m, const std::vector<std::uint32_t> &atoms, co
       g.order.push_back(t.second);
     }
   }
+  g.tetra_of.assign(g.n, -1);
+  g.dbl_of.assign(g.n, {});
+  return g;
+}
+
+// Gives g the configurations of `sm` that lie inside it (replacing any).
+void add_stereo(const StereoModel &sm, Graph &g, std::vector<std::uint32_t> &local_of) {
+  for (std::uint32_t i = 0; i < g.n; ++i) local_of[g.global[i]] = i;
   auto loc = [&](std::int32_t x) { return x < 0 ? -1 : static_cast<std::int32_t>(local_of[x]); };
+  g.tetra.clear();
+  g.dbl.clear();
   g.tetra_of.assign(g.n, -1);
   g.dbl_of.assign(g.n, {});
   for (const auto &t : sm.tetra) {
@@ -304,26 +316,64 @@ Graph build_graph(const Molecule &m, const std::vector<std::uint32_t> &atoms, co
     g.dbl_of[ld.v].push_back(idx);
     g.dbl.push_back(ld);
   }
+}
+
+Graph build_graph(const Molecule &m, const std::vector<std::uint32_t> &atoms, const StereoModel &sm,
+                  std::vector<std::uint32_t> &local_of) {
+  Graph g = build_structure(m, atoms, local_of);
+  add_stereo(sm, g, local_of);
   return g;
 }
+
+// The base partition of one graph individualised at single atoms, each made
+// once. Refinement looks only at the graph's structure (never at colours
+// after the start, nor at stereo), so the topological and the stereo graph
+// of one fragment share these, as do the searches of every sign.
+class Individualised {
+ public:
+  struct Entry {
+    Partition p;
+    std::uint64_t trace = 0;
+  };
+  Individualised(const Graph &g, const Partition &base) : g_(g), base_(base) { scratch_.reset(g.n); }
+  const Entry &at(std::uint32_t atom) {
+    auto &slot = made_[atom];
+    if (!slot) {
+      slot = std::make_unique<Entry>();
+      slot->p = base_;
+      slot->trace = detail::individualize(g_, slot->p, atom, scratch_);
+    }
+    return *slot;
+  }
+  const Partition &base() const { return base_; }
+  // Refinement buffers for further work on the same graph (left clean by
+  // every refinement, so users can take turns).
+  RefineScratch &scratch() { return scratch_; }
+
+ private:
+  const Graph &g_;
+  const Partition &base_;
+  RefineScratch scratch_;
+  std::unordered_map<std::uint32_t, std::unique_ptr<Entry>> made_;
+};
 
 // Searches for an automorphism mapping r to x. sign 0: graph only; +1: proper
 // symmetry (all configurations kept); -1: improper (tetrahedral ones inverted).
 class AutomorphismSearch {
  public:
-  AutomorphismSearch(const Graph &g, const Partition &base, int sign, long &budget)
-      : g_(g), base_(base), sign_(sign), budget_(budget) {
-    scratch_.reset(g.n);
-  }
+  // `start` holds the base partition of a graph with g's structure.
+  AutomorphismSearch(const Graph &g, Individualised &start, int sign, long &budget)
+      : g_(g), start_(start), sign_(sign), budget_(budget), scratch_(start.scratch()) {}
 
   bool find(std::uint32_t r, std::uint32_t x, std::vector<std::uint32_t> &sigma) {
-    Partition p1 = base_, p2 = base_;
-    const auto t1 = detail::individualize(g_, p1, r, scratch_);
-    const auto t2 = detail::individualize(g_, p2, x, scratch_);
-    if (t1 != t2) return false;
+    // Refinement is deterministic and leaves its scratch clean, so a
+    // partition individualised earlier is the one this call would make.
+    const auto &e1 = start_.at(r);
+    const auto &e2 = start_.at(x);
+    if (e1.trace != e2.trace) return false;
     local_budget_ = kNodesPerSearch;
     sigma.assign(g_.n, kUnset);
-    return search(p1, p2, sigma);
+    return search(e1.p, e2.p, sigma, 0);
   }
   bool exhausted() const { return exhausted_; }
 
@@ -384,7 +434,7 @@ class AutomorphismSearch {
     return true;
   }
 
-  bool search(const Partition &p1, const Partition &p2, std::vector<std::uint32_t> &sigma) {
+  bool search(const Partition &p1, const Partition &p2, std::vector<std::uint32_t> &sigma, std::size_t depth) {
     if (--local_budget_ < 0 || --budget_ < 0) {
       exhausted_ = true;
       return false;
@@ -400,14 +450,20 @@ class AutomorphismSearch {
         }
     }
     if (target == kUnset) return finish(p1, p2, sigma);
-    Partition q1 = p1;
+    // Partitions of this depth live in reused storage: copying into them
+    // keeps their capacity, where fresh copies cost an allocation each.
+    if (levels_.size() <= depth) levels_.push_back(std::make_unique<Level>());
+    Level &lv = *levels_[depth];
+    Partition &q1 = lv.q1;
+    q1 = p1;
     const std::uint32_t v = q1.elems[target];
     const auto t1 = detail::individualize(g_, q1, v, scratch_);
     for (std::uint32_t k = target; k < p2.end[target]; ++k) {
-      Partition q2 = p2;
+      Partition &q2 = lv.q2;
+      q2 = p2;
       const auto t2 = detail::individualize(g_, q2, p2.elems[k], scratch_);
       if (t1 != t2) continue;
-      if (search(q1, q2, sigma)) return true;
+      if (search(q1, q2, sigma, depth + 1)) return true;
       if (exhausted_) return false;
     }
     return false;
@@ -429,7 +485,8 @@ class AutomorphismSearch {
       const std::uint32_t e = p1.end[s];
       if (e - s == 1) continue;
       const std::uint32_t parent = g_.nbr[g_.off[p1.elems[s]]];
-      std::vector<std::uint32_t> images(p2.elems.begin() + s, p2.elems.begin() + e);
+      auto &images = images_;
+      images.assign(p2.elems.begin() + s, p2.elems.begin() + e);
       std::sort(images.begin(), images.end());
       const bool enumerate = sign_ != 0 && images.size() <= 6;
       bool placed = false;
@@ -463,13 +520,19 @@ class AutomorphismSearch {
     return true;
   }
 
+  struct Level {
+    Partition q1, q2;
+  };
+
   const Graph &g_;
-  const Partition &base_;
+  Individualised &start_;
   int sign_;
   long &budget_;
   long local_budget_ = 0;
   bool exhausted_ = false;
-  RefineScratch scratch_;
+  RefineScratch &scratch_;
+  std::vector<std::uint32_t> images_;           // finish(): one cell's images
+  std::vector<std::unique_ptr<Level>> levels_;  // by search depth
 };
 
 void unite_cycles(UnionFind &uf, const std::vector<std::uint32_t> &sigma) {
@@ -478,11 +541,11 @@ void unite_cycles(UnionFind &uf, const std::vector<std::uint32_t> &sigma) {
 
 // Orbits of one graph. `cells` are candidate groups (each orbit lies inside
 // one); signs are the kinds of automorphism allowed.
-void orbits(const Graph &g, const Partition &base, const std::vector<std::vector<std::uint32_t>> &cells,
+void orbits(const Graph &g, Individualised &start, const std::vector<std::vector<std::uint32_t>> &cells,
             std::initializer_list<int> signs, UnionFind &uf, long &budget, bool &exhausted) {
   std::vector<std::uint32_t> sigma;
   std::vector<AutomorphismSearch> searches;
-  for (int s : signs) searches.emplace_back(g, base, s, budget);
+  for (int s : signs) searches.emplace_back(g, start, s, budget);
   for (const auto &cell : cells) {
     if (cell.size() < 2) continue;
     std::vector<std::uint32_t> reps{cell[0]};
@@ -533,19 +596,21 @@ void unite_twins(const Graph &g, UnionFind &uf, std::size_t min_size) {
 // Atoms grouped by their `within` value (groups with one atom left out, as
 // they need no search), each group in atom order.
 std::vector<std::vector<std::uint32_t>> groups_of(std::uint32_t n, const std::vector<std::uint32_t> &within) {
-  std::vector<std::pair<std::uint32_t, std::uint32_t>> keyed(n);
-  for (std::uint32_t a = 0; a < n; ++a) keyed[a] = {within[a], a};
-  std::sort(keyed.begin(), keyed.end());
+  // Values are atom or cell indices: bucket them instead of sorting.
+  std::uint32_t top = 0;
+  for (std::uint32_t a = 0; a < n; ++a) top = std::max(top, within[a]);
+  std::vector<std::uint32_t> count(std::size_t{top} + 1, 0);
+  for (std::uint32_t a = 0; a < n; ++a) ++count[within[a]];
+  std::vector<std::uint32_t> slot(std::size_t{top} + 1, kUnset);
   std::vector<std::vector<std::uint32_t>> out;
-  for (std::uint32_t i = 0; i < n;) {
-    std::uint32_t j = i;
-    while (j < n && keyed[j].first == keyed[i].first) ++j;
-    if (j - i > 1) {
+  for (std::uint32_t v = 0; v <= top && n > 0; ++v)
+    if (count[v] > 1) {
+      slot[v] = static_cast<std::uint32_t>(out.size());
       out.emplace_back();
-      for (std::uint32_t q = i; q < j; ++q) out.back().push_back(keyed[q].second);
+      out.back().reserve(count[v]);
     }
-    i = j;
-  }
+  for (std::uint32_t a = 0; a < n; ++a)
+    if (slot[within[a]] != kUnset) out[slot[within[a]]].push_back(a);
   return out;
 }
 
@@ -590,7 +655,7 @@ AtomClasses compute_classes(const Molecule &m) {
   StereoModel none;
 
   // Invariant ranks over the whole molecule (order independent by construction).
-  Graph whole = build_graph(m, all, none, local_of);
+  Graph whole = build_structure(m, all, local_of);
   Partition pw;
   RefineScratch scratch;
   detail::initial_partition(whole, pw, scratch);
@@ -600,52 +665,61 @@ AtomClasses compute_classes(const Molecule &m) {
   // Fragments are separate molecules in solution: solve each on its own, then
   // merge fragments that are copies (or mirror images) of each other.
   std::vector<std::vector<std::uint32_t>> frag_atoms(m.fragment_count());
+  if (frag_atoms.size() == 1) frag_atoms[0].reserve(n);
   for (std::uint32_t a = 0; a < n; ++a) frag_atoms[m.fragments()[a]].push_back(a);
 
   UnionFind topo_uf(n), chem_uf(n);
-  std::vector<Graph> frag_graph;
-  std::vector<Partition> frag_part;
-  frag_graph.reserve(frag_atoms.size());
-  frag_part.reserve(frag_atoms.size());
+  // One fragment: the whole-molecule graph and partition serve as they are.
+  std::vector<Graph> own_graph;
+  std::vector<Partition> own_part;
+  std::vector<Graph *> frag_graph;
+  std::vector<const Partition *> frag_part;
+  std::vector<std::unique_ptr<Individualised>> frag_start;
+  own_graph.reserve(frag_atoms.size());
+  own_part.reserve(frag_atoms.size());
   // Topological orbits first: the stereo model reports only real stereo
   // elements, which needs them.
   for (const auto &atoms : frag_atoms) {
     if (frag_atoms.size() == 1) {
-      // One fragment: the whole-molecule graph and partition serve as they are.
-      frag_graph.push_back(whole);
-      frag_part.push_back(pw);
+      frag_graph.push_back(&whole);
+      frag_part.push_back(&pw);
     } else {
-      frag_graph.push_back(build_graph(m, atoms, none, local_of));
-      frag_part.emplace_back();
-      detail::initial_partition(frag_graph.back(), frag_part.back(), scratch);
+      own_graph.push_back(build_structure(m, atoms, local_of));
+      own_part.emplace_back();
+      detail::initial_partition(own_graph.back(), own_part.back(), scratch);
+      frag_graph.push_back(&own_graph.back());
+      frag_part.push_back(&own_part.back());
     }
-    const Graph &g = frag_graph.back();
+    const Graph &g = *frag_graph.back();
+    frag_start.push_back(std::make_unique<Individualised>(g, *frag_part.back()));
     UnionFind uf(g.n);
     unite_twins(g, uf, 2);
     std::vector<std::uint32_t> cellid(g.n);
-    for (std::uint32_t a = 0; a < g.n; ++a) cellid[a] = frag_part.back().cell[a];
-    orbits(g, frag_part.back(), groups_of(g.n, cellid), {0}, uf, budget, exhausted);
+    for (std::uint32_t a = 0; a < g.n; ++a) cellid[a] = frag_part.back()->cell[a];
+    orbits(g, *frag_start.back(), groups_of(g.n, cellid), {0}, uf, budget, exhausted);
     for (std::uint32_t a = 0; a < g.n; ++a) topo_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
 
   // Copies of one fragment: same signature; confirm with a search on the pair.
   std::map<std::vector<std::uint64_t>, std::vector<std::size_t>> by_sig;
-  for (std::size_t f = 0; f < frag_graph.size(); ++f) by_sig[fragment_signature(frag_graph[f], frag_part[f])].push_back(f);
+  if (frag_graph.size() > 1)
+    for (std::size_t f = 0; f < frag_graph.size(); ++f)
+      by_sig[fragment_signature(*frag_graph[f], *frag_part[f])].push_back(f);
 
   std::uint32_t tcount = 0;
   auto topo_pre = dense_ids(topo_uf, n, tcount);
   const StereoModel sm = build_stereo(m, canonical_positions(whole, pw), topo_pre);
 
-  std::vector<Graph> stereo_graph;
-  stereo_graph.reserve(frag_atoms.size());
+  // The topological searches are done: each fragment graph takes its
+  // configurations and serves as the stereo graph.
   for (std::size_t f = 0; f < frag_atoms.size(); ++f) {
-    stereo_graph.push_back(build_graph(m, frag_atoms[f], sm, local_of));
-    const Graph &g = stereo_graph.back();
+    Graph &g = *frag_graph[f];
+    add_stereo(sm, g, local_of);
     UnionFind uf(g.n);
     unite_twins(g, uf, 3);
     std::vector<std::uint32_t> within(g.n);
     for (std::uint32_t a = 0; a < g.n; ++a) within[a] = topo_uf.find(g.global[a]);
-    orbits(g, frag_part[f], groups_of(g.n, within), {+1, -1}, uf, budget, exhausted);
+    orbits(g, *frag_start[f], groups_of(g.n, within), {+1, -1}, uf, budget, exhausted);
     for (std::uint32_t a = 0; a < g.n; ++a) chem_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
 
@@ -664,8 +738,9 @@ AtomClasses compute_classes(const Molecule &m) {
         const std::uint32_t r = 0;
         const auto first_b = static_cast<std::uint32_t>(frag_atoms[fs[0]].size());
         bool found = false;
+        Individualised start(g, p);
         for (int sign : pass == 0 ? std::vector<int>{0} : std::vector<int>{+1, -1}) {
-          AutomorphismSearch search(g, p, sign, budget);
+          AutomorphismSearch search(g, start, sign, budget);
           for (std::uint32_t x = first_b; x < g.n && !found; ++x) {
             if (p.cell[x] != p.cell[r]) continue;
             if (search.find(r, x, sigma)) {

@@ -126,6 +126,10 @@ void RefineScratch::reset(std::uint32_t n) {
   touched_atoms.clear();
   touched_cells.clear();
   stack.clear();
+  // Each holds at most n entries; growing them push by push costs more
+  // allocations than a refinement does work on small molecules.
+  touched_atoms.reserve(n);
+  stack.reserve(n);
 }
 
 std::uint64_t initial_partition(const Graph &g, Partition &p, RefineScratch &s) {

@@ -6,6 +6,7 @@
 
 #include <algorithm>
 #include <cctype>
+#include <cstring>
 #include <map>
 #include <numeric>
 #include <set>
@@ -49,6 +50,29 @@ struct PatternBond {
   int expr = -1;  // root node; -1 = single or aromatic (nothing written)
 };
 
+// Depth-first order of the pattern atoms from one root (see search_order).
+struct SearchOrder {
+  std::vector<std::uint32_t> order, parent, rank;
+};
+
+// Properties a pattern atom's expression demands through '&' and ';' alone
+// (-1: left open). A necessary condition only: the expression still decides.
+struct AtomFilter {
+  int atomic_number = -1, aromatic = -1, hydrogens = -1, heavy_degree = -1, degree = -1;
+  bool has_charge = false;
+  int charge = 0;
+  bool never = false;  // two demands contradict each other
+  // The demands as a test on SmartsTarget::packed(): (packed & mask) == value.
+  std::uint64_t mask = 0, value = 0;
+};
+
+// Fields of SmartsTarget::packed(), 8 bits each. Counts above 254 are stored
+// as 255, and demands above 254 are left to the expression.
+constexpr int kPackAtomicNumber = 0, kPackAromatic = 8, kPackHydrogens = 16, kPackHeavyDegree = 24, kPackDegree = 32,
+              kPackCharge = 40;
+
+std::uint64_t pack_field(std::uint64_t v, int shift) { return (v & 0xFFu) << shift; }
+
 struct SmartsImpl {
   std::string text;
   std::vector<ExprNode> nodes;
@@ -56,8 +80,18 @@ struct SmartsImpl {
   std::vector<PatternBond> bonds;
   std::vector<std::vector<std::pair<std::uint32_t, std::uint32_t>>> adjacency;  // (atom, bond)
   std::vector<SmartsPattern> recursive;
-  // Search order for matches anchored at atom 0 (see search_order).
-  std::vector<std::uint32_t> order0, parent0, rank0;
+  // Search order per root atom, made once at compile time: anchored searches
+  // run for every carbon of every molecule, and building the order per search
+  // cost more than most searches themselves.
+  std::vector<SearchOrder> orders;
+  // Heavy atoms a molecule needs for any match: (atomic number * 4 +
+  // aromatic code 0 aliphatic / 1 aromatic / 2 either, count), from the
+  // element and aromaticity that each atom's expression demands outright.
+  // A molecule short of them is rejected without a search.
+  std::vector<std::pair<std::uint32_t, std::uint32_t>> needs;
+  // Per pattern atom, the plain properties its expression demands outright;
+  // a candidate failing them is rejected before the expression is walked.
+  std::vector<AtomFilter> filters;
 };
 
 namespace {
@@ -403,24 +437,34 @@ class Parser {
 
 bool eval(const SmartsImpl &p, int n, const SmartsTarget &t, std::size_t atom, std::int64_t bond);
 
+BondOrder bond_order(const SmartsTarget &t, std::int64_t bond) {
+  return t.molecule().bonds()[static_cast<std::size_t>(bond)].order;
+}
+
 bool eval_prim(const SmartsImpl &p, const ExprNode &e, const SmartsTarget &t, std::size_t atom, std::int64_t bond) {
-  const Molecule &m = t.molecule();
   switch (e.prim) {
     case Prim::True: return true;
-    case Prim::AtomicNumber: return m.atom(atom).atomic_number == e.value;
-    case Prim::Aromatic: return m.atom(atom).aromatic == (e.value != 0);
-    case Prim::TotalH: return static_cast<int>(m.hydrogen_count(atom)) == e.value;
+    case Prim::AtomicNumber: return t.facts(atom).atomic_number == e.value;
+    case Prim::Aromatic: return t.facts(atom).aromatic == (e.value != 0);
+    case Prim::TotalH: return static_cast<int>(t.facts(atom).hydrogens) == e.value;
     case Prim::HeavyDegree: return static_cast<int>(t.heavy_degree(atom)) == e.value;
-    case Prim::Connectivity: return static_cast<int>(m.degree(atom)) == e.value;
-    case Prim::Charge: return m.atom(atom).formal_charge == e.value;
+    case Prim::Connectivity: return static_cast<int>(t.facts(atom).degree) == e.value;
+    case Prim::Charge: return t.facts(atom).formal_charge == e.value;
     case Prim::RingCount: return e.value < 0 ? t.ring_count(atom) > 0 : t.ring_count(atom) == e.value;
     case Prim::RingSize: return e.value < 0 ? t.smallest_ring(atom) > 0 : t.smallest_ring(atom) == e.value;
-    case Prim::Isotope: return m.atom(atom).isotope == e.value;
-    case Prim::Recursive: return match_at(p.recursive[static_cast<std::size_t>(e.value)], t, atom) > 0;
-    case Prim::BondSingle: return m.bond(static_cast<std::size_t>(bond)).order == BondOrder::Single;
-    case Prim::BondDouble: return m.bond(static_cast<std::size_t>(bond)).order == BondOrder::Double;
-    case Prim::BondTriple: return m.bond(static_cast<std::size_t>(bond)).order == BondOrder::Triple;
-    case Prim::BondAromatic: return m.bond(static_cast<std::size_t>(bond)).order == BondOrder::Aromatic;
+    case Prim::Isotope: return t.facts(atom).isotope == e.value;
+    case Prim::Recursive: {
+      // The same parts are asked about the same atoms by many rows and
+      // carriers; the answer depends on the atom alone.
+      const auto &part = p.recursive[static_cast<std::size_t>(e.value)];
+      std::int8_t &known = t.recursive_memo(&part.impl())[atom];
+      if (known < 0) known = match_at(part, t, atom) > 0 ? 1 : 0;
+      return known != 0;
+    }
+    case Prim::BondSingle: return bond_order(t, bond) == BondOrder::Single;
+    case Prim::BondDouble: return bond_order(t, bond) == BondOrder::Double;
+    case Prim::BondTriple: return bond_order(t, bond) == BondOrder::Triple;
+    case Prim::BondAromatic: return bond_order(t, bond) == BondOrder::Aromatic;
     case Prim::BondRing: return t.bond_ring_count(static_cast<std::size_t>(bond)) > 0;
   }
   return false;
@@ -439,16 +483,95 @@ bool eval(const SmartsImpl &p, int n, const SmartsTarget &t, std::size_t atom, s
 
 bool bond_ok(const SmartsImpl &p, const PatternBond &pb, const SmartsTarget &t, std::int64_t bond) {
   if (pb.expr < 0) {
-    const auto o = t.molecule().bond(static_cast<std::size_t>(bond)).order;
+    const auto o = bond_order(t, bond);
     return o == BondOrder::Single || o == BondOrder::Aromatic;
   }
   return eval(p, pb.expr, t, 0, bond);
 }
 
+// Collects the demands of expression `n` into `f` (smarts.cpp AtomFilter).
+void demanded(const SmartsImpl &p, int n, AtomFilter &f) {
+  const ExprNode &e = p.nodes[static_cast<std::size_t>(n)];
+  if (e.op == Op::And) {
+    demanded(p, e.left, f);
+    demanded(p, e.right, f);
+    return;
+  }
+  if (e.op != Op::Prim) return;
+  auto demand = [&](int &slot, int value) {
+    if (slot >= 0 && slot != value) f.never = true;
+    slot = value;
+  };
+  switch (e.prim) {
+    case Prim::AtomicNumber: demand(f.atomic_number, e.value); break;
+    case Prim::Aromatic: demand(f.aromatic, e.value != 0 ? 1 : 0); break;
+    case Prim::TotalH: demand(f.hydrogens, e.value); break;
+    case Prim::HeavyDegree: demand(f.heavy_degree, e.value); break;
+    case Prim::Connectivity: demand(f.degree, e.value); break;
+    case Prim::Charge:
+      if (f.has_charge && f.charge != e.value) f.never = true;
+      f.has_charge = true;
+      f.charge = e.value;
+      break;
+    default: break;
+  }
+}
+
+inline bool passes(const AtomFilter &f, const SmartsTarget &t, std::size_t a) {
+  return !f.never && (t.packed(a) & f.mask) == f.value;
+}
+
+// Fills f.mask and f.value from the demands collected by demanded().
+void make_mask(AtomFilter &f) {
+  auto demand = [&](int v, int shift, int lo, int hi) {
+    if (v < lo || v > hi) return;  // left to the expression
+    f.mask |= pack_field(0xFF, shift);
+    f.value |= pack_field(static_cast<std::uint64_t>(v), shift);
+  };
+  if (f.atomic_number > 255) f.never = true;
+  demand(f.atomic_number, kPackAtomicNumber, 0, 255);
+  demand(f.aromatic, kPackAromatic, 0, 1);
+  demand(f.hydrogens, kPackHydrogens, 0, 254);
+  // eval compares the stored 8-bit heavy degree itself.
+  demand(f.heavy_degree, kPackHeavyDegree, 0, 255);
+  demand(f.degree, kPackDegree, 0, 254);
+  if (f.has_charge && f.charge >= -128 && f.charge <= 127) {
+    f.mask |= pack_field(0xFF, kPackCharge);
+    f.value |= pack_field(static_cast<std::uint8_t>(static_cast<std::int8_t>(f.charge)), kPackCharge);
+  }
+}
+
+void compute_filters(SmartsImpl &p) {
+  std::map<std::uint32_t, std::uint32_t> count;
+  for (int root : p.atom_expr) {
+    AtomFilter f;
+    demanded(p, root, f);
+    make_mask(f);
+    p.filters.push_back(f);
+    // A contradiction never matches; leaving it out of the element count
+    // only keeps that filter on the safe side.
+    if (f.never || f.atomic_number < 0 || f.atomic_number >= 128) continue;
+    ++count[static_cast<std::uint32_t>(f.atomic_number) * 4 + static_cast<std::uint32_t>(f.aromatic < 0 ? 2 : f.aromatic)];
+  }
+  p.needs.assign(count.begin(), count.end());
+}
+
+// False when the molecule lacks the heavy atoms some pattern atoms demand,
+// so that no match can exist.
+bool feasible(const SmartsImpl &p, const SmartsTarget &t) {
+  for (const auto &need : p.needs) {
+    const unsigned z = need.first / 4, code = need.first % 4;
+    const std::uint32_t have = code == 2 ? t.element_count(z, false) + t.element_count(z, true)
+                                         : t.element_count(z, code == 1);
+    if (have < need.second) return false;
+  }
+  return true;
+}
+
 // Depth-first order of the pattern atoms from `root`, so that each atom after
 // the first has an already placed neighbour (its parent) to draw candidates
 // from. Returns false for a disconnected pattern (the parser never builds one).
-bool search_order(const SmartsImpl &p, std::uint32_t root, std::vector<std::uint32_t> &order,
+bool make_search_order(const SmartsImpl &p, std::uint32_t root, std::vector<std::uint32_t> &order,
                   std::vector<std::uint32_t> &parent, std::vector<std::uint32_t> &rank) {
   const std::size_t n = p.atom_expr.size();
   order.clear();
@@ -473,27 +596,27 @@ bool search_order(const SmartsImpl &p, std::uint32_t root, std::vector<std::uint
   return order.size() == n;
 }
 
+using Visit = std::function<bool(const std::vector<std::uint32_t> &)>;
+
 class Search {
  public:
-  Search(const SmartsImpl &p, const SmartsTarget &t, const std::vector<std::int64_t> &fixed,
-         const std::vector<bool> &excluded, const std::function<bool(const std::vector<std::uint32_t> &)> &visit)
-      : p_(p), t_(t), fixed_(fixed), excluded_(excluded), visit_(visit) {}
+  // `root` is searched first; `root_atom` >= 0 puts it on that molecule atom
+  // (already known to satisfy its expression when `root_checked`), -1 tries
+  // every heavy atom. `fixed` (may be null) pins further pattern atoms;
+  // `visit` (may be null: stop at the first match) sees each mapping.
+  Search(const SmartsImpl &p, const SmartsTarget &t, std::uint32_t root, std::int64_t root_atom, bool root_checked,
+         const std::vector<std::int64_t> *fixed, const std::vector<bool> &excluded, const Visit *visit)
+      : p_(p), t_(t), root_(root), root_atom_(root_atom), root_checked_(root_checked), fixed_(fixed),
+        excluded_(excluded), visit_(visit), map_(t.take_buffer()) {}
+  ~Search() { t_.return_buffer(std::move(map_)); }
+  Search(const Search &) = delete;
+  Search &operator=(const Search &) = delete;
 
   bool run() {
     const std::size_t n = p_.atom_expr.size();
     if (n == 0) return false;
-    std::uint32_t root = 0;
-    for (std::size_t i = 0; i < fixed_.size() && i < n; ++i)
-      if (fixed_[i] >= 0) {
-        root = static_cast<std::uint32_t>(i);
-        break;
-      }
-    if (root == 0) {
-      order_ = &p_.order0, parent_ = &p_.parent0, rank_ = &p_.rank0;
-    } else {
-      if (!search_order(p_, root, own_order_, own_parent_, own_rank_)) return false;
-      order_ = &own_order_, parent_ = &own_parent_, rank_ = &own_rank_;
-    }
+    const SearchOrder &o = p_.orders[root_];
+    order_ = o.order.data(), parent_ = o.parent.data(), rank_ = o.rank.data();
     map_.assign(n, 0);
     step(0);
     return found_;
@@ -501,58 +624,65 @@ class Search {
 
  private:
   bool excluded(std::size_t a) const { return a < excluded_.size() && excluded_[a]; }
-  std::int64_t fixed(std::uint32_t q) const { return q < fixed_.size() ? fixed_[q] : -1; }
+  std::int64_t fixed(std::uint32_t q) const { return fixed_ && q < fixed_->size() ? (*fixed_)[q] : -1; }
 
-  // Pattern atom q at search depth i onto molecule atom a.
-  bool candidate_ok(std::size_t i, std::uint32_t q, std::size_t a) const {
-    const Molecule &m = t_.molecule();
-    if (m.atom(a).atomic_number == 1 || excluded(a)) return false;
+  // Pattern atom q at search depth i onto molecule atom a, reached through
+  // molecule bond `tree_bond` from the image of q's parent (-1 at the root).
+  bool candidate_ok(std::size_t i, std::uint32_t q, std::size_t a, std::int64_t tree_bond) const {
+    if (t_.facts(a).atomic_number == 1 || excluded(a)) return false;
+    if (!(i == 0 && root_checked_) && !passes(p_.filters[q], t_, a)) return false;
     for (std::size_t j = 0; j < i; ++j)
-      if (map_[(*order_)[j]] == a) return false;
+      if (map_[order_[j]] == a) return false;
     const auto f = fixed(q);
     if (f >= 0 && static_cast<std::size_t>(f) != a) return false;
     // Bonds to every placed neighbour (tree bond and ring closures) must exist and match.
     for (const auto &nb : p_.adjacency[q]) {
-      if ((*rank_)[nb.first] >= i) continue;
-      const auto b = m.bond_between(a, map_[nb.first]);
+      if (rank_[nb.first] >= i) continue;
+      const auto b = tree_bond >= 0 && nb.first == parent_[q] ? tree_bond : t_.molecule().bond_between(a, map_[nb.first]);
       if (b < 0 || !bond_ok(p_, p_.bonds[nb.second], t_, b)) return false;
     }
+    if (i == 0 && root_checked_) return true;
     return eval(p_, p_.atom_expr[q], t_, a, -1);
+  }
+
+  bool try_atom(std::size_t i, std::uint32_t q, std::size_t a, std::int64_t tree_bond) {
+    if (!candidate_ok(i, q, a, tree_bond)) return false;
+    map_[q] = static_cast<std::uint32_t>(a);
+    return step(i + 1);
   }
 
   // Returns true to stop the whole search.
   bool step(std::size_t i) {
-    if (i == order_->size()) {
+    if (i == p_.atom_expr.size()) {
       found_ = true;
-      return visit_ ? visit_(map_) : true;
+      return visit_ && *visit_ ? (*visit_)(map_) : true;
     }
-    const auto q = (*order_)[i];
+    const auto q = order_[i];
     const Molecule &m = t_.molecule();
-    auto try_atom = [&](std::size_t a) {
-      if (!candidate_ok(i, q, a)) return false;
-      map_[q] = static_cast<std::uint32_t>(a);
-      return step(i + 1);
-    };
     if (i == 0) {
-      const auto f = fixed(q);
-      if (f >= 0) return static_cast<std::size_t>(f) < m.atom_count() && try_atom(static_cast<std::size_t>(f));
+      if (root_atom_ >= 0)
+        return static_cast<std::size_t>(root_atom_) < m.atom_count() &&
+               try_atom(0, q, static_cast<std::size_t>(root_atom_), -1);
       for (std::size_t a = 0; a < m.heavy_atom_count(); ++a)
-        if (try_atom(a)) return true;
+        if (try_atom(0, q, a, -1)) return true;
       return false;
     }
-    const auto from = map_[(*parent_)[q]];
-    for (auto it = m.neighbours_begin(from); it != m.neighbours_end(from); ++it)
-      if (try_atom(*it)) return true;
+    const auto from = map_[parent_[q]];
+    const auto *bid = m.bond_ids_begin(from);
+    for (auto it = m.neighbours_begin(from); it != m.neighbours_end(from); ++it, ++bid)
+      if (try_atom(i, q, *it, *bid)) return true;
     return false;
   }
 
   const SmartsImpl &p_;
   const SmartsTarget &t_;
-  const std::vector<std::int64_t> &fixed_;
+  std::uint32_t root_;
+  std::int64_t root_atom_;
+  bool root_checked_;
+  const std::vector<std::int64_t> *fixed_;
   const std::vector<bool> &excluded_;
-  const std::function<bool(const std::vector<std::uint32_t> &)> &visit_;
-  const std::vector<std::uint32_t> *order_ = nullptr, *parent_ = nullptr, *rank_ = nullptr;
-  std::vector<std::uint32_t> own_order_, own_parent_, own_rank_;
+  const Visit *visit_;
+  const std::uint32_t *order_ = nullptr, *parent_ = nullptr, *rank_ = nullptr;
   std::vector<std::uint32_t> map_;
   bool found_ = false;
 };
@@ -563,8 +693,13 @@ SmartsPattern::SmartsPattern(std::string_view text) {
   auto impl = std::make_shared<SmartsImpl>();
   impl->text = std::string(text);
   Parser(impl->text, *impl).parse();
-  if (!search_order(*impl, 0, impl->order0, impl->parent0, impl->rank0))
-    throw InternalError(fmt::format("SMARTS '{}': disconnected pattern", impl->text));
+  impl->orders.resize(impl->atom_expr.size());
+  for (std::uint32_t root = 0; root < impl->orders.size(); ++root) {
+    auto &o = impl->orders[root];
+    if (!make_search_order(*impl, root, o.order, o.parent, o.rank))
+      throw InternalError(fmt::format("SMARTS '{}': disconnected pattern", impl->text));
+  }
+  compute_filters(*impl);
   impl_ = std::move(impl);
 }
 
@@ -574,13 +709,52 @@ std::string_view SmartsPattern::text() const noexcept {
 
 std::size_t SmartsPattern::atom_count() const noexcept { return impl_ ? impl_->atom_expr.size() : 0; }
 
-SmartsTarget::SmartsTarget(const Molecule &m) : m_(m), heavy_degree_(m.atom_count(), 0) {
+const std::vector<std::uint32_t> &SmartsPattern::search_order(std::size_t root) const {
+  return impl_->orders.at(root).order;
+}
+
+SmartsTarget::SmartsTarget(const Molecule &m)
+    : m_(m), heavy_degree_(m.atom_count(), 0), facts_(m.atom_count()), packed_(m.atom_count(), 0),
+      element_count_(256, 0) {
   for (const auto &b : m.bonds())
     if (m.atom(b.begin).atomic_number != 1 && m.atom(b.end).atomic_number != 1) {
       ++heavy_degree_[b.begin];
       ++heavy_degree_[b.end];
     }
+  for (std::size_t a = 0; a < m.atom_count(); ++a) {
+    const Atom &at = m.atoms()[a];
+    AtomFacts &f = facts_[a];
+    f.atomic_number = at.atomic_number;
+    f.aromatic = at.aromatic;
+    f.formal_charge = at.formal_charge;
+    f.isotope = at.isotope;
+    f.degree = static_cast<std::uint32_t>(m.degree(a));
+    f.hydrogens = static_cast<std::uint32_t>(m.hydrogen_count(a));
+    auto capped = [](std::uint32_t v) { return std::uint64_t{v < 255 ? v : 255}; };
+    packed_[a] = pack_field(f.atomic_number, kPackAtomicNumber) | pack_field(f.aromatic ? 1 : 0, kPackAromatic) |
+                 pack_field(capped(f.hydrogens), kPackHydrogens) | pack_field(heavy_degree_[a], kPackHeavyDegree) |
+                 pack_field(capped(f.degree), kPackDegree) |
+                 pack_field(static_cast<std::uint8_t>(f.formal_charge), kPackCharge);
+    if (at.atomic_number != 1 && at.atomic_number < 128) ++element_count_[at.atomic_number * 2u + (at.aromatic ? 1u : 0u)];
+  }
 }
+
+SmartsTarget::~SmartsTarget() = default;
+
+std::int8_t *SmartsTarget::recursive_memo(const SmartsImpl *part) const {
+  auto &memo = recursive_memo_[part];
+  if (memo.empty()) memo.assign(m_.atom_count() + 1, -1);
+  return memo.data();
+}
+
+std::vector<std::uint32_t> SmartsTarget::take_buffer() const {
+  if (buffers_.empty()) return {};
+  auto b = std::move(buffers_.back());
+  buffers_.pop_back();
+  return b;
+}
+
+void SmartsTarget::return_buffer(std::vector<std::uint32_t> &&buffer) const { buffers_.push_back(std::move(buffer)); }
 
 int SmartsTarget::ring_count(std::size_t atom) const {
   perceive_rings();
@@ -651,20 +825,27 @@ void SmartsTarget::perceive_rings() const {
   for (std::uint32_t a = 0; a < n; ++a) components += core[a] && find(a) == a;
   const std::size_t rank = edges.size() + components - vertices;
   const std::size_t words = (edges.size() + 63) / 64;
+  // Candidates in the order they are found, their atoms and bond bits in
+  // flat pools: a molecule yields many candidates, mostly copies of one ring
+  // found from each of its atoms.
   struct Cycle {
-    std::vector<std::uint64_t> bits;
-    std::vector<std::uint32_t> atoms;
+    std::uint32_t atoms_off, size, bits_off;
   };
   std::vector<Cycle> candidates;
+  std::vector<std::uint32_t> atom_pool;
+  std::vector<std::uint64_t> bit_pool;
   std::vector<int> dist(n), parent_edge(n), parent_atom(n);
   std::vector<std::uint32_t> mark(n, 0);
   std::uint32_t stamp = 0;
+  std::vector<std::uint32_t> bfs;
+  bfs.reserve(n);
   for (std::uint32_t r = 0; r < n; ++r) {
     if (!core[r]) continue;
     std::fill(dist.begin(), dist.end(), -1);
     dist[r] = 0;
     parent_edge[r] = -1;
-    std::vector<std::uint32_t> bfs{r};
+    bfs.clear();
+    bfs.push_back(r);
     for (std::size_t k = 0; k < bfs.size(); ++k) {
       const auto a = bfs[k];
       const auto *bid = m.bond_ids_begin(a);
@@ -680,40 +861,47 @@ void SmartsTarget::perceive_rings() const {
       const auto x = m.bond(edges[e]).begin, y = m.bond(edges[e]).end;
       if (dist[x] < 0 || dist[y] < 0) continue;
       if (parent_edge[x] == static_cast<int>(e) || parent_edge[y] == static_cast<int>(e)) continue;
-      auto path = [&](std::uint32_t v) {
-        std::vector<std::uint32_t> p{v};
-        while (v != r) v = static_cast<std::uint32_t>(parent_atom[v]), p.push_back(v);
-        return p;  // v ... r
-      };
-      const auto px = path(x), py = path(y);
+      // The tree paths x..r and y..r must share no atom but r.
       ++stamp;
-      for (std::size_t i = 0; i + 1 < px.size(); ++i) mark[px[i]] = stamp;
+      for (std::uint32_t v = x; v != r; v = static_cast<std::uint32_t>(parent_atom[v])) mark[v] = stamp;
       bool disjoint = true;
-      for (std::size_t i = 0; i + 1 < py.size() && disjoint; ++i) disjoint = mark[py[i]] != stamp;
+      for (std::uint32_t v = y; v != r && disjoint; v = static_cast<std::uint32_t>(parent_atom[v])) disjoint = mark[v] != stamp;
       if (!disjoint) continue;
-      Cycle c;
-      c.bits.assign(words, 0);
-      c.atoms.assign(px.rbegin(), px.rend());  // r ... x
-      for (std::size_t i = 0; i + 1 < py.size(); ++i) c.atoms.push_back(py[i]);  // y ... (before r)
-      for (std::size_t i = 0; i < c.atoms.size(); ++i) {
-        const auto b = m.bond_between(c.atoms[i], c.atoms[(i + 1) % c.atoms.size()]);
-        const auto ei = static_cast<std::size_t>(edge_of_bond[static_cast<std::size_t>(b)]);
-        c.bits[ei / 64] |= std::uint64_t{1} << (ei % 64);
+      // Atoms r ... x, then y ... (before r).
+      const auto off = static_cast<std::uint32_t>(atom_pool.size());
+      const auto dx = static_cast<std::uint32_t>(dist[x]);
+      const auto size = dx + 1 + static_cast<std::uint32_t>(dist[y]);
+      atom_pool.resize(off + size);
+      std::uint32_t v = x;
+      for (std::uint32_t i = dx;; --i) {
+        atom_pool[off + i] = v;
+        if (i == 0) break;
+        v = static_cast<std::uint32_t>(parent_atom[v]);
       }
-      candidates.push_back(std::move(c));
+      std::uint32_t at = off + dx + 1;
+      for (v = y; v != r; v = static_cast<std::uint32_t>(parent_atom[v])) atom_pool[at++] = v;
+      // Its bonds: e and the tree bonds of both paths.
+      const auto bits_off = static_cast<std::uint32_t>(bit_pool.size());
+      bit_pool.resize(bits_off + words, 0);
+      auto set_bit = [&](std::size_t ei) { bit_pool[bits_off + ei / 64] |= std::uint64_t{1} << (ei % 64); };
+      set_bit(e);
+      for (v = x; v != r; v = static_cast<std::uint32_t>(parent_atom[v])) set_bit(static_cast<std::size_t>(parent_edge[v]));
+      for (v = y; v != r; v = static_cast<std::uint32_t>(parent_atom[v])) set_bit(static_cast<std::size_t>(parent_edge[v]));
+      candidates.push_back(Cycle{off, size, bits_off});
     }
   }
-  std::stable_sort(candidates.begin(), candidates.end(),
-                   [](const Cycle &a, const Cycle &b) { return a.atoms.size() < b.atoms.size(); });
-  std::vector<std::vector<std::uint64_t>> basis;  // reduced rows, one pivot bit each
+  std::stable_sort(candidates.begin(), candidates.end(), [](const Cycle &a, const Cycle &b) { return a.size < b.size; });
+  auto bits_of = [&](const Cycle &c) { return bit_pool.data() + c.bits_off; };
+  std::vector<std::uint64_t> basis;  // reduced rows, words each, one pivot bit each
   std::vector<std::size_t> pivots;
-  auto reduce = [&](std::vector<std::uint64_t> v) {
-    for (std::size_t i = 0; i < basis.size(); ++i)
+  std::vector<std::uint64_t> v(words);
+  auto reduce = [&](const std::uint64_t *from) {
+    std::copy_n(from, words, v.begin());
+    for (std::size_t i = 0; i < pivots.size(); ++i)
       if (v[pivots[i] / 64] >> (pivots[i] % 64) & 1)
-        for (std::size_t w = 0; w < words; ++w) v[w] ^= basis[i][w];
-    return v;
+        for (std::size_t w = 0; w < words; ++w) v[w] ^= basis[i * words + w];
   };
-  auto first_bit = [&](const std::vector<std::uint64_t> &v) {
+  auto first_bit = [&]() {
     for (std::size_t w = 0; w < words; ++w)
       if (v[w]) {
         std::size_t bit = 0;
@@ -722,33 +910,49 @@ void SmartsTarget::perceive_rings() const {
       }
     return words * 64;
   };
-  auto add = [&](std::vector<std::uint64_t> v) {
-    v = reduce(std::move(v));
-    const auto pivot = first_bit(v);
+  auto add = [&](const std::uint64_t *from) {
+    reduce(from);
+    const auto pivot = first_bit();
     if (pivot == words * 64) return;
-    for (auto &row : basis)
-      if (row[pivot / 64] >> (pivot % 64) & 1)
-        for (std::size_t w = 0; w < words; ++w) row[w] ^= v[w];
-    basis.push_back(std::move(v));
+    for (std::size_t i = 0; i < pivots.size(); ++i)
+      if (basis[i * words + pivot / 64] >> (pivot % 64) & 1)
+        for (std::size_t w = 0; w < words; ++w) basis[i * words + w] ^= v[w];
+    basis.insert(basis.end(), v.begin(), v.end());
     pivots.push_back(pivot);
   };
   // A ring is kept when it is not a sum of strictly smaller rings (a relevant
   // cycle). Unlike a plain SSSR this keeps every one of equally small
   // alternatives (both six-rings of pinane, all four of adamantane), as RDKit's
-  // symmetrized SSSR does, so R<n> does not depend on atom order.
-  std::set<std::vector<std::uint64_t>> seen_bits;
+  // symmetrized SSSR does, so R<n> does not depend on atom order. A ring
+  // found again (same bonds) counts once, as first found; copies have the
+  // same size, so only candidates of one size need comparing.
+  std::vector<std::uint32_t> by_bits, group;
+  std::vector<char> copy;
   std::size_t i = 0;
-  while (i < candidates.size() && basis.size() < rank) {
+  while (i < candidates.size() && pivots.size() < rank) {
     std::size_t j = i;
-    while (j < candidates.size() && candidates[j].atoms.size() == candidates[i].atoms.size()) ++j;
-    std::vector<std::vector<std::uint64_t>> group;
+    while (j < candidates.size() && candidates[j].size == candidates[i].size) ++j;
+    by_bits.resize(j - i);
+    std::iota(by_bits.begin(), by_bits.end(), static_cast<std::uint32_t>(i));
+    std::sort(by_bits.begin(), by_bits.end(), [&](std::uint32_t a, std::uint32_t b) {
+      const int c = std::memcmp(bits_of(candidates[a]), bits_of(candidates[b]), words * sizeof(std::uint64_t));
+      return c != 0 ? c < 0 : a < b;
+    });
+    copy.assign(j - i, 0);
+    for (std::size_t q = 1; q < by_bits.size(); ++q)
+      if (std::equal(bits_of(candidates[by_bits[q]]), bits_of(candidates[by_bits[q]]) + words,
+                     bits_of(candidates[by_bits[q - 1]])))
+        copy[by_bits[q] - i] = 1;
+    group.clear();
     for (std::size_t k = i; k < j; ++k) {
-      if (!seen_bits.insert(candidates[k].bits).second) continue;
-      if (first_bit(reduce(candidates[k].bits)) == words * 64) continue;
-      rings_.push_back(candidates[k].atoms);
-      group.push_back(candidates[k].bits);
+      if (copy[k - i]) continue;
+      reduce(bits_of(candidates[k]));
+      if (first_bit() == words * 64) continue;
+      const auto &c = candidates[k];
+      rings_.emplace_back(atom_pool.begin() + c.atoms_off, atom_pool.begin() + c.atoms_off + c.size);
+      group.push_back(static_cast<std::uint32_t>(k));
     }
-    for (auto &v : group) add(std::move(v));
+    for (auto k : group) add(bits_of(candidates[k]));
     i = j;
   }
   for (const auto &ring : rings_) {
@@ -767,20 +971,68 @@ std::size_t match_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t 
   if (p.empty() || atom >= t.molecule().atom_count()) return 0;
   // Most table rows fail on the anchor atom itself: test it before setting up a search.
   const auto &impl = p.impl();
-  if (t.molecule().atom(atom).atomic_number == 1 || (atom < excluded.size() && excluded[atom]) ||
-      !eval(impl, impl.atom_expr[0], t, atom, -1))
+  if (t.facts(atom).atomic_number == 1 || (atom < excluded.size() && excluded[atom]) ||
+      !passes(impl.filters[0], t, atom) || !eval(impl, impl.atom_expr[0], t, atom, -1))
     return 0;
   if (impl.atom_expr.size() == 1) return 1;
-  std::vector<std::int64_t> fixed{static_cast<std::int64_t>(atom)};
-  const std::function<bool(const std::vector<std::uint32_t> &)> stop_at_first;
-  return Search(p.impl(), t, fixed, excluded, stop_at_first).run() ? p.atom_count() : 0;
+  if (!feasible(impl, t)) return 0;
+  return Search(impl, t, 0, static_cast<std::int64_t>(atom), true, nullptr, excluded, nullptr).run() ? p.atom_count()
+                                                                                                      : 0;
 }
 
 bool for_each_match(const SmartsPattern &p, const SmartsTarget &t, const std::vector<std::int64_t> &fixed,
                     const std::vector<bool> &excluded,
                     const std::function<bool(const std::vector<std::uint32_t> &)> &visit) {
   if (p.empty()) return false;
-  return Search(p.impl(), t, fixed, excluded, visit).run();
+  const auto &impl = p.impl();
+  std::uint32_t root = 0;
+  for (std::size_t i = 0; i < fixed.size() && i < impl.atom_expr.size(); ++i)
+    if (fixed[i] >= 0) {
+      root = static_cast<std::uint32_t>(i);
+      break;
+    }
+  const std::int64_t root_atom = root < fixed.size() ? fixed[root] : -1;
+  bool root_checked = false;
+  if (root_atom >= 0) {
+    // The pinned root fails on its own atom in most calls: the test the
+    // search would make first, without setting one up.
+    const auto a = static_cast<std::size_t>(root_atom);
+    if (a >= t.molecule().atom_count() || t.facts(a).atomic_number == 1 || (a < excluded.size() && excluded[a]) ||
+        !passes(impl.filters[root], t, a) || !eval(impl, impl.atom_expr[root], t, a, -1))
+      return false;
+    root_checked = true;
+  }
+  if (!feasible(impl, t)) return false;
+  return Search(impl, t, root, root_atom, root_checked, &fixed, excluded, &visit).run();
+}
+
+std::vector<std::vector<std::uint32_t>> all_matches(const SmartsPattern &p, const SmartsTarget &t) {
+  std::vector<std::vector<std::uint32_t>> out;
+  if (p.empty()) return out;
+  const auto &impl = p.impl();
+  if (!feasible(impl, t)) return out;
+  // Every root finds every mapping; the one with the rarest element tries
+  // the fewest starting atoms.
+  std::uint32_t root = 0;
+  std::size_t fewest = t.molecule().heavy_atom_count() + 1;
+  for (std::uint32_t q = 0; q < impl.filters.size(); ++q) {
+    const auto &f = impl.filters[q];
+    if (f.never) return out;
+    std::size_t candidates = t.molecule().heavy_atom_count();
+    if (f.atomic_number >= 0) {
+      const auto z = static_cast<unsigned>(f.atomic_number);
+      candidates = f.aromatic < 0 ? t.element_count(z, false) + t.element_count(z, true)
+                                  : t.element_count(z, f.aromatic != 0);
+    }
+    if (candidates < fewest) fewest = candidates, root = q;
+  }
+  const Visit keep = [&](const std::vector<std::uint32_t> &map) {
+    out.push_back(map);
+    return false;
+  };
+  const std::vector<bool> none;
+  Search(impl, t, root, -1, false, nullptr, none, &keep).run();
+  return out;
 }
 
 }  // namespace nmrpred::detail

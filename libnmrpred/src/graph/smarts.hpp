@@ -28,6 +28,7 @@
 #include <memory>
 #include <string>
 #include <string_view>
+#include <unordered_map>
 #include <vector>
 
 #include <nmrpred/molecule.hpp>
@@ -47,17 +48,27 @@ class SmartsPattern {
   // Number of atoms of the top-level pattern (recursive parts not counted).
   std::size_t atom_count() const noexcept;
   bool empty() const noexcept { return !impl_; }
+  // The order in which a search rooted at pattern atom `root` places the
+  // pattern atoms (root first). Neighbours are tried in ascending atom
+  // index, so for_each_match with only `root` fixed visits its mappings in
+  // ascending lexicographic order of (map[order[0]], map[order[1]], ...).
+  const std::vector<std::uint32_t> &search_order(std::size_t root) const;
   const SmartsImpl &impl() const noexcept { return *impl_; }
 
  private:
   std::shared_ptr<const SmartsImpl> impl_;
 };
 
-// Per-molecule facts that patterns ask about. Ring perception runs on first
-// use only. Not thread-safe: one target per thread.
+// Per-molecule facts that patterns ask about, read from the molecule once
+// because every pattern of every rule table asks them again. Ring perception
+// runs on first use only. Not thread-safe: one target per thread (it also
+// keeps scratch space and the results of recursive $(...) parts).
 class SmartsTarget {
  public:
   explicit SmartsTarget(const Molecule &m);
+  ~SmartsTarget();
+  SmartsTarget(const SmartsTarget &) = delete;
+  SmartsTarget &operator=(const SmartsTarget &) = delete;
   const Molecule &molecule() const noexcept { return m_; }
   std::size_t heavy_degree(std::size_t atom) const { return heavy_degree_[atom]; }
   // Number of smallest rings (smarts.hpp) that contain the atom / the bond.
@@ -68,13 +79,43 @@ class SmartsTarget {
   // The smallest rings as atom lists in ring order, smallest first.
   const std::vector<std::vector<std::uint32_t>> &rings() const;
 
+  // The atom properties patterns test, copied out of the molecule.
+  struct AtomFacts {
+    std::uint8_t atomic_number = 0;
+    bool aromatic = false;
+    std::int8_t formal_charge = 0;
+    std::uint16_t isotope = 0;
+    std::uint32_t hydrogens = 0;  // bonded hydrogens, any isotope
+    std::uint32_t degree = 0;     // all neighbours, hydrogens included
+  };
+  const AtomFacts &facts(std::size_t atom) const { return facts_[atom]; }
+  // The same facts packed into one word (smarts.cpp, kPack*), so that a
+  // pattern atom's plain demands are tested with one mask and compare.
+  std::uint64_t packed(std::size_t atom) const { return packed_[atom]; }
+  // Heavy atoms with this atomic number (0..127) and aromatic flag.
+  std::uint32_t element_count(unsigned atomic_number, bool aromatic) const {
+    return atomic_number < 128 ? element_count_[atomic_number * 2 + (aromatic ? 1 : 0)] : 0;
+  }
+
+  // Matcher internals (smarts.cpp): per atom, the memoised result of a
+  // recursive part (-1 not yet known, 0, 1), and search buffers reused
+  // between searches.
+  std::int8_t *recursive_memo(const SmartsImpl *part) const;
+  std::vector<std::uint32_t> take_buffer() const;
+  void return_buffer(std::vector<std::uint32_t> &&buffer) const;
+
  private:
   void perceive_rings() const;
   const Molecule &m_;
   std::vector<std::uint8_t> heavy_degree_;
+  std::vector<AtomFacts> facts_;
+  std::vector<std::uint64_t> packed_;
+  std::vector<std::uint32_t> element_count_;
   mutable bool rings_done_ = false;
   mutable std::vector<std::vector<std::uint32_t>> rings_;
   mutable std::vector<std::uint8_t> atom_rings_, bond_rings_, atom_smallest_;
+  mutable std::unordered_map<const SmartsImpl *, std::vector<std::int8_t>> recursive_memo_;
+  mutable std::vector<std::vector<std::uint32_t>> buffers_;
 };
 
 // Anchored match: does `p` match with its atom 0 on molecule atom `atom`,
@@ -91,6 +132,12 @@ std::size_t match_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t 
 bool for_each_match(const SmartsPattern &p, const SmartsTarget &t, const std::vector<std::int64_t> &fixed,
                     const std::vector<bool> &excluded,
                     const std::function<bool(const std::vector<std::uint32_t> &)> &visit);
+
+// Every mapping of `p` (what for_each_match with no fixed atom visits), in no
+// particular order: the search starts from the pattern atom with the rarest
+// element. Callers that need for_each_match's order for an anchored search
+// rebuild it with search_order() (see there).
+std::vector<std::vector<std::uint32_t>> all_matches(const SmartsPattern &p, const SmartsTarget &t);
 
 }  // namespace nmrpred::detail
 

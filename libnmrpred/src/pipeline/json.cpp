@@ -75,7 +75,17 @@ Json atoms_section(const Prediction &p) {
   return atoms;
 }
 
-Json signal_value(const Signal &g) {
+Json line_value(const SpectralLine &l) {
+  Json j;
+  j["ppm"] = l.ppm;
+  j["hz"] = l.hz;
+  j["intensity"] = l.intensity;
+  return j;
+}
+
+/// Multiplet keys exist only when couplings were predicted, so that their
+/// absence means "not computed" and an empty 13C multiplicity means "not split".
+Json signal_value(const Signal &g, bool coupled) {
   Json j;
   j["shift"] = g.ppm;
   j["atoms"] = g.atoms;
@@ -90,12 +100,23 @@ Json signal_value(const Signal &g) {
     j["observed"] = g.observed;
   }
   j["shift_method"] = g.method;
+  if (coupled) {
+    j["multiplicity"] = g.multiplicity;
+    j["j_hz"] = g.j_hz;
+    if (g.nucleus == Nucleus::H1) {
+      Json lines = Json::array();
+      for (const auto &l : g.lines) lines.push_back(line_value(l));
+      j["lines"] = std::move(lines);
+    }
+  }
   return j;
 }
 
-Json signal_list(const std::vector<Signal> &signals) {
+bool couplings_predicted(const Prediction &p) { return p.options.predict_shifts && p.options.predict_couplings; }
+
+Json signal_list(const std::vector<Signal> &signals, bool coupled) {
   Json list = Json::array();
-  for (const auto &g : signals) list.push_back(signal_value(g));
+  for (const auto &g : signals) list.push_back(signal_value(g, coupled));
   return list;
 }
 
@@ -104,10 +125,11 @@ Json signals_section(const Prediction &p) {
   // atoms of that nucleus", never "not computed".
   Json signals = Json::object();
   if (!p.options.predict_shifts) return signals;
-  signals[nucleus_label(Nucleus::C13)] = signal_list(p.c13_signals);
+  const bool coupled = couplings_predicted(p);
+  signals[nucleus_label(Nucleus::C13)] = signal_list(p.c13_signals, coupled);
   if (p.options.predict_h1) {
-    signals[nucleus_label(Nucleus::H1)] = signal_list(p.h1_signals);
-    signals["1H_exchanged"] = signal_list(p.h1_exchanged_signals);
+    signals[nucleus_label(Nucleus::H1)] = signal_list(p.h1_signals, coupled);
+    signals["1H_exchanged"] = signal_list(p.h1_exchanged_signals, coupled);
   }
   return signals;
 }
@@ -152,6 +174,21 @@ Json solvent_value(const Solvent &s) {
   return j;
 }
 
+Json couplings_section(const Prediction &p) {
+  Json out = Json::array();
+  for (const auto &c : p.couplings) {
+    Json j;
+    j["atoms"] = {c.a, c.b};
+    j["bonds"] = c.bonds;
+    j["j_hz"] = c.j_hz;
+    j["uncertainty_hz"] = c.uncertainty_hz;
+    j["rule"] = c.rule;
+    j["source"] = c.source;
+    out.push_back(std::move(j));
+  }
+  return out;
+}
+
 Json counts_section(const Prediction &p) {
   Json counts;
   counts["atoms"] = p.molecule.atom_count();
@@ -184,6 +221,11 @@ Json record_value(const RecordPrediction &r) {
   j["solvent"] = solvent_summary(p.solvent);
   j["warnings"] = p.warnings;
   j["counts"] = counts_section(p);
+  if (couplings_predicted(p)) {
+    j["field_mhz"] = p.options.field_mhz;
+    j["line_width_hz"] = p.options.line_width_hz;
+    j["couplings"] = couplings_section(p);
+  }
   return j;
 }
 

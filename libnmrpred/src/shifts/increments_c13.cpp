@@ -37,11 +37,13 @@
 
 #include <algorithm>
 #include <array>
+#include <charconv>
 #include <cmath>
 #include <map>
 #include <memory>
 #include <optional>
 #include <string>
+#include <unordered_map>
 #include <utility>
 #include <vector>
 
@@ -404,6 +406,16 @@ void read_classes(const Tables &tables, const char *path, C13Tables &out) {
   }
 }
 
+// v with two decimals, as fmt's "{:.2f}" writes it: std::to_chars rounds the
+// exact binary value the same way and costs a fraction of the formatter (a
+// method text holds a dozen of these).
+std::string fixed_2(double v) {
+  if (!std::isfinite(v)) return fmt::format("{:.2f}", v);
+  char buf[32];
+  const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
+  return std::string(buf, r.ptr);
+}
+
 // ---------------------------------------------------------------------------
 // A sum of increments, kept term by term for the method text.
 
@@ -453,13 +465,26 @@ class Sum {
   }
   bool in_scope() const { return outside_.empty(); }
   std::string method() const {
-    std::string s = fmt::format("{}: {}", scheme_, base_label_);
+    // Plain appends: every carbon's estimate writes one of these.
+    std::string s;
+    s.reserve(scheme_.size() + base_label_.size() + 16 + 40 * terms_.size());
+    s += scheme_;
+    s += ": ";
+    s += base_label_;
     for (const auto &t : terms_) {
       s += " + ";
-      if (t.count > 1) s += fmt::format("{} x ", t.count);
-      s += fmt::format("{} {} {}", t.role, t.id, fmt_ppm(t.ppm));
+      if (t.count > 1) {
+        s += std::to_string(t.count);
+        s += " x ";
+      }
+      s += t.role;
+      s += ' ';
+      s += t.id;
+      s += ' ';
+      s += fmt_ppm(t.ppm);
     }
-    s += fmt::format(" = {}", fmt_ppm(ppm()));
+    s += " = ";
+    s += fmt_ppm(ppm());
     if (unvalued_) s += fmt::format(" ({} delta position{} without a published value taken as 0)", unvalued_,
                                     unvalued_ == 1 ? "" : "s");
     if (!outside_.empty()) {
@@ -470,7 +495,7 @@ class Sum {
     return s;
   }
   static std::string fmt_ppm(double v) {
-    auto s = fmt::format("{:.2f}", v);
+    auto s = fixed_2(v);
     // Table values carry one or two decimals; print them as written.
     if (s.back() == '0') s.pop_back();
     if (s == "-0.0") s = "0.0";
@@ -635,8 +660,35 @@ class C13Increments final : public ShiftSource {
     if (query_ != &q || !target_ || &target_->molecule() != &q.molecule) {
       target_ = std::make_unique<SmartsTarget>(q.molecule);
       query_ = &q;
+      hetero_matches_.clear();
+      hetero_cover_.clear();
+      benzene_rows_.clear();
     }
     return *target_;
+  }
+
+  // Per parent ring of c13_heteroaromatic: every mapping of its pattern onto
+  // the molecule, and the atoms they cover, from one search per molecule
+  // rather than one per carbon and pattern atom. Most molecules contain few
+  // of the parents.
+  void find_hetero_matches(const SmartsTarget &t) const {
+    if (!hetero_matches_.empty() || tab_.hetero.empty()) return;
+    hetero_matches_.resize(tab_.hetero.size());
+    hetero_cover_.resize(tab_.hetero.size());
+    for (std::size_t i = 0; i < tab_.hetero.size(); ++i) {
+      hetero_matches_[i] = all_matches(tab_.hetero[i].ring, t);
+      hetero_cover_[i].assign(t.molecule().atom_count(), false);
+      for (const auto &map : hetero_matches_[i])
+        for (auto a : map) hetero_cover_[i][a] = true;
+    }
+  }
+  const std::vector<bool> &hetero_cover(const SmartsTarget &t, std::size_t ring) const {
+    find_hetero_matches(t);
+    return hetero_cover_[ring];
+  }
+  const std::vector<std::vector<std::uint32_t>> &hetero_matches(const SmartsTarget &t, std::size_t ring) const {
+    find_hetero_matches(t);
+    return hetero_matches_[ring];
   }
 
   // --- carbonyl and other sp/sp2 classes ---------------------------------
@@ -665,6 +717,7 @@ class C13Increments final : public ShiftSource {
     std::string last = "not in a benzene ring";
     for (const auto &ring : t.rings()) {
       if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
+      const auto ring_index = static_cast<std::size_t>(&ring - t.rings().data());
       bool benzenoid = true;
       for (std::size_t i = 0; i < 6 && benzenoid; ++i) {
         const auto &at = m.atom(ring[i]);
@@ -684,7 +737,7 @@ class C13Increments final : public ShiftSource {
         const int rel = std::min(std::abs(ir - ik), 6 - std::abs(ir - ik));
         for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
           if (!ok || skeleton[x]) return;
-          const auto *row = find_row(tab_.benzene, t, x, skeleton, [](const BenzeneRow &) { return true; });
+          const auto *row = benzene_row(t, ring_index, x, skeleton);
           if (!row) {
             ok = false;
             last = fmt::format("benzene substituent at {} has no row", atom_label(m, x));
@@ -707,6 +760,19 @@ class C13Increments final : public ShiftSource {
       if (ok) return s;
     }
     return fail(why, last);
+  }
+
+  // The benzene row of substituent x on smallest ring `ring_index` (the ring
+  // is the skeleton). The six carbons of a ring ask for the same rows, so
+  // each is looked up once per molecule.
+  const BenzeneRow *benzene_row(const SmartsTarget &t, std::size_t ring_index, std::size_t x,
+                                const std::vector<bool> &skeleton) const {
+    const auto key = static_cast<std::uint64_t>(ring_index) * t.molecule().atom_count() + x;
+    const auto it = benzene_rows_.find(key);
+    if (it != benzene_rows_.end()) return it->second;
+    const auto *row = find_row(tab_.benzene, t, x, skeleton, [](const BenzeneRow &) { return true; });
+    benzene_rows_.emplace(key, row);
+    return row;
   }
 
   // The ipso carbon of an O or N group with both ortho positions
@@ -743,20 +809,34 @@ class C13Increments final : public ShiftSource {
   Result hetero(const SmartsTarget &t, std::size_t k, std::string *why) const {
     const Molecule &m = t.molecule();
     std::string last = "no heteroaromatic parent ring matches";
-    for (const auto &ring : tab_.hetero) {
+    for (std::size_t ri = 0; ri < tab_.hetero.size(); ++ri) {
+      const auto &ring = tab_.hetero[ri];
+      if (!hetero_cover(t, ri)[k]) continue;  // no mapping contains k
       const std::size_t n = ring.ring.atom_count();
       // All mappings of the parent ring that contain k, grouped by atom set.
       std::map<std::vector<std::uint32_t>, std::vector<std::vector<std::uint32_t>>> by_set;
+      // The mappings with pattern atom p on k, in the order a search
+      // anchored there visits them (SmartsPattern::search_order), taken
+      // from the molecule's mappings found once.
+      const auto &all = hetero_matches(t, ri);
+      std::vector<const std::vector<std::uint32_t> *> anchored;
       for (std::size_t p = 0; p < n; ++p) {
-        std::vector<std::int64_t> fixed(n, -1);
-        fixed[p] = static_cast<std::int64_t>(k);
-        for_each_match(ring.ring, t, fixed, {}, [&](const std::vector<std::uint32_t> &map) {
+        anchored.clear();
+        for (const auto &map : all)
+          if (map[p] == k) anchored.push_back(&map);
+        const auto &order = ring.ring.search_order(p);
+        std::sort(anchored.begin(), anchored.end(), [&](const auto *x, const auto *y) {
+          for (auto q : order)
+            if ((*x)[q] != (*y)[q]) return (*x)[q] < (*y)[q];
+          return false;
+        });
+        for (const auto *mp : anchored) {
+          const auto &map = *mp;
           auto set = map;
           std::sort(set.begin(), set.end());
           auto &maps = by_set[set];
           if (std::find(maps.begin(), maps.end(), map) == maps.end()) maps.push_back(map);
-          return false;
-        });
+        }
       }
       for (const auto &entry : by_set) {
         const auto &maps = entry.second;
@@ -1323,6 +1403,9 @@ class C13Increments final : public ShiftSource {
   const C13Tables &tab_;
   mutable const ShiftQuery *query_ = nullptr;
   mutable std::unique_ptr<SmartsTarget> target_;
+  mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_matches_;  // per hetero ring
+  mutable std::vector<std::vector<bool>> hetero_cover_;                         // per hetero ring
+  mutable std::unordered_map<std::uint64_t, const BenzeneRow *> benzene_rows_;  // see benzene_row()
 };
 
 }  // namespace

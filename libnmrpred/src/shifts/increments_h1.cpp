@@ -19,10 +19,12 @@
 #include <algorithm>
 #include <array>
 #include <cctype>
+#include <charconv>
 #include <cmath>
 #include <initializer_list>
 #include <optional>
 #include <string>
+#include <unordered_map>
 #include <utility>
 #include <vector>
 
@@ -154,6 +156,8 @@ struct H1IncrementTables {
   std::vector<HeteroRow> hetero;
   std::vector<SpecialGroup> special;
   std::vector<SolventInfo> solvents;  // empty when the set has no solvents.tsv
+  std::vector<Solvent> full_solvents;  // the same, as solvents() gives them
+  bool has_solvents = false;           // the set has a solvents.tsv
 };
 
 namespace {
@@ -299,17 +303,28 @@ void read_special(const Tables &tables, std::vector<SpecialGroup> &out) {
   }
 }
 
-void read_solvents(const Tables &tables, std::vector<SolventInfo> &out) {
+void read_solvents(const Tables &tables, H1IncrementTables &out) {
   if (tables.file_text("solvents.tsv").empty()) return;
-  for (const auto &s : nmrpred::solvents(tables))
-    out.push_back(SolventInfo{s.id, s.name, s.aliases, s.water_h1_ppm, s.exchanges_labile_protons});
+  out.full_solvents = nmrpred::solvents(tables);
+  out.has_solvents = true;
+  for (const auto &s : out.full_solvents)
+    out.solvents.push_back(SolventInfo{s.id, s.name, s.aliases, s.water_h1_ppm, s.exchanges_labile_protons});
 }
 
 // ---------------------------------------------------------------------------
 // A sum of increments, kept term by term for the method text.
 
 std::string fmt_ppm(double v) {
-  auto s = fmt::format("{:.2f}", v);
+  // std::to_chars rounds the exact binary value as fmt's "{:.2f}" does, at a
+  // fraction of the cost; a method text holds several of these.
+  std::string s;
+  if (std::isfinite(v)) {
+    char buf[32];
+    const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
+    s.assign(buf, r.ptr);
+  } else {
+    s = fmt::format("{:.2f}", v);
+  }
   if (s == "-0.00") s = "0.00";
   return s;
 }
@@ -339,10 +354,27 @@ class Sum {
   }
   double uncertainty() const { return uncertainty(static_cast<int>(terms_.size())); }
   std::string method() const {
-    std::string s = fmt::format("{}: {}", scheme_, base_label_);
-    for (const auto &t : terms_) s += fmt::format(" + {}{}{} {}", t.role, t.role.empty() ? "" : " ", t.id, fmt_ppm(t.ppm));
-    s += fmt::format(" = {}", fmt_ppm(ppm()));
-    for (const auto &n : notes_) s += fmt::format(" ({})", n);
+    // Plain appends: every proton's estimate writes one of these.
+    std::string s;
+    s.reserve(scheme_.size() + base_label_.size() + 16 + 32 * terms_.size());
+    s += scheme_;
+    s += ": ";
+    s += base_label_;
+    for (const auto &t : terms_) {
+      s += " + ";
+      s += t.role;
+      if (!t.role.empty()) s += ' ';
+      s += t.id;
+      s += ' ';
+      s += fmt_ppm(t.ppm);
+    }
+    s += " = ";
+    s += fmt_ppm(ppm());
+    for (const auto &n : notes_) {
+      s += " (";
+      s += n;
+      s += ')';
+    }
     return s;
   }
 
@@ -501,6 +533,7 @@ class H1Increments final : public ShiftSource {
     if (query_ != &q || !target_ || &target_->molecule() != &q.molecule) {
       target_ = std::make_unique<SmartsTarget>(q.molecule);
       query_ = &q;
+      benzene_rows_.clear();
     }
     return *target_;
   }
@@ -577,6 +610,7 @@ class H1Increments final : public ShiftSource {
     if (!tab_.benzene.present) return std::nullopt;
     for (const auto &ring : t.rings()) {
       if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
+      const auto ring_index = static_cast<std::size_t>(&ring - t.rings().data());
       bool benzenoid = true;
       for (std::size_t i = 0; i < 6 && benzenoid; ++i) {
         const auto &at = m.atom(ring[i]);
@@ -603,7 +637,7 @@ class H1Increments final : public ShiftSource {
             ok = false;
             return;
           }
-          const auto *row = first_row(tab_.benzene.rows, t, x, skeleton);
+          const auto *row = benzene_row(t, ring_index, x, skeleton);
           if (!row) {
             ok = false;
             return;
@@ -614,6 +648,19 @@ class H1Increments final : public ShiftSource {
       if (ok) return from_sum(s);
     }
     return std::nullopt;
+  }
+
+  // The row of substituent x on smallest ring `ring_index` (the ring is the
+  // skeleton): every proton of the ring asks for the same rows, so each is
+  // looked up once per molecule.
+  const BenzeneRow *benzene_row(const SmartsTarget &t, std::size_t ring_index, std::size_t x,
+                                const std::vector<bool> &skeleton) const {
+    const auto key = static_cast<std::uint64_t>(ring_index) * t.molecule().atom_count() + x;
+    const auto it = benzene_rows_.find(key);
+    if (it != benzene_rows_.end()) return it->second;
+    const auto *row = first_row(tab_.benzene.rows, t, x, skeleton);
+    benzene_rows_.emplace(key, row);
+    return row;
   }
 
   // --- heteroaromatic base values -------------------------------------------
@@ -941,6 +988,7 @@ class H1Increments final : public ShiftSource {
   double water_ppm_ = 0;
   mutable const ShiftQuery *query_ = nullptr;
   mutable std::unique_ptr<SmartsTarget> target_;
+  mutable std::unordered_map<std::uint64_t, const BenzeneRow *> benzene_rows_;  // see benzene_row()
 };
 
 }  // namespace
@@ -952,8 +1000,12 @@ std::shared_ptr<const H1IncrementTables> parse_h1_increment_tables(const Tables 
   read_benzene(tables, out->benzene);
   read_hetero(tables, out->hetero);
   read_special(tables, out->special);
-  read_solvents(tables, out->solvents);
+  read_solvents(tables, *out);
   return out;
+}
+
+const std::vector<Solvent> *parsed_solvents(const H1IncrementTables &parsed) {
+  return parsed.has_solvents ? &parsed.full_solvents : nullptr;
 }
 
 std::unique_ptr<ShiftSource> make_h1_increments(std::shared_ptr<const H1IncrementTables> parsed,

@@ -7,6 +7,9 @@
 
 #include <memory>
 #include <string>
+#include <vector>
+
+#include <nmrpred/solvents.hpp>
 
 #include "sources.hpp"
 
@@ -25,6 +28,11 @@ struct H1IncrementTables;
 // unknown kind or variant, min > max) or a SMARTS the matcher does not
 // support. Thread rule: pure; call from any thread.
 std::shared_ptr<const H1IncrementTables> parse_h1_increment_tables(const Tables &tables);
+
+// The solvents of the tables' solvents.tsv as nmrpred::solvents() read them
+// when the tables were parsed, or null when the set has no solvents.tsv.
+// Lets solvents() and find_solvent() skip parsing the file on every call.
+const std::vector<Solvent> *parsed_solvents(const H1IncrementTables &parsed);
 
 // The 1H increment source for `solvent` (a name, id or alias of
 // tables/solvents.tsv, case-insensitive; empty means CDCl3). The solvent

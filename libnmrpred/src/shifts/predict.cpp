@@ -6,6 +6,7 @@
 #include <nmrpred/solvents.hpp>
 
 #include <algorithm>
+#include <charconv>
 #include <limits>
 #include <cmath>
 #include <map>
@@ -49,6 +50,17 @@ constexpr int kResidualMaxSphere = 6;
 constexpr double kC13ResidualPrior[kMaxHoseSpheres + 1] = {0, 2.2, 1.5, 0.9, 0.5, 0.4, 0.3};
 constexpr double kH1ResidualPrior[kMaxHoseSpheres + 1] = {0, 0.5, 0.22, 0.22, 0.11, 0.08, 0.05};
 
+// v as fmt's "{:+.1f}" writes it: std::to_chars rounds the exact binary
+// value the same way at a fraction of the cost (once per looked-up atom).
+std::string signed_1(double v) {
+  if (!std::isfinite(v)) return fmt::format("{:+.1f}", v);
+  char buf[32];
+  char *p = buf;
+  if (!std::signbit(v)) *p++ = '+';
+  const auto r = std::to_chars(p, buf + sizeof buf, v, std::chars_format::fixed, 1);
+  return std::string(buf, r.ptr);
+}
+
 class ReferenceLookup final : public ShiftSource {
  public:
   ReferenceLookup(bool user, const ShiftSource *increments) : user_(user), increments_(increments) {}
@@ -59,14 +71,14 @@ class ReferenceLookup final : public ShiftSource {
     const int nucleus = q.nucleus == Nucleus::C13 ? kIndexC13 : kIndexH1;
     const auto *levels = q.nucleus == Nucleus::C13 ? kC13Levels : kH1Levels;
     const auto &excluded = q.excluded_compounds();
-    const auto &parts = q.parts(atom);
+    const auto &keys = q.keys(atom);
     // The query's own increment value, computed only once a match needs it.
     bool inc_done = false;
     double inc_q = std::numeric_limits<double>::quiet_NaN();
     std::string inc_method;
     for (int k = kMaxHoseSpheres; k >= 1; --k) {
       const auto &map = index.levels[user_ ? kUser : kBuiltin][nucleus][k];
-      const auto it = map.find(hose_key(parts, k));
+      const auto it = map.find(keys[static_cast<std::size_t>(k)]);
       if (it == map.end()) continue;
       const Bucket &b = it->second;
       Summary shift = b.shift, residual = b.residual;
@@ -100,9 +112,9 @@ class ReferenceLookup final : public ShiftSource {
           out.ppm = inc_q + residual.median;
           const double prior = (q.nucleus == Nucleus::C13 ? kC13ResidualPrior : kH1ResidualPrior)[k];
           out.uncertainty_ppm = std::sqrt(prior * prior + residual.sd * residual.sd);
-          out.method = fmt::format("{}; corrected by {:+.1f} ppm, the median residual of {} {} reference "
+          out.method = fmt::format("{}; corrected by {} ppm, the median residual of {} {} reference "
                                    "compound{} at HOSE sphere {}",
-                                   inc_method, residual.median, residual.n, user_ ? "user" : "built-in",
+                                   inc_method, signed_1(residual.median), residual.n, user_ ? "user" : "built-in",
                                    residual.n == 1 ? "" : "s", k);
           fill_common(out, q, b, excluded, k);
           return true;
@@ -137,23 +149,42 @@ class ReferenceLookup final : public ShiftSource {
 
 }  // namespace
 
+std::uint64_t ShiftQuery::constitution() const {
+  if (!constitution_done_) {
+    constitution_ = constitution_key(molecule, classes);
+    constitution_done_ = true;
+  }
+  return constitution_;
+}
+
 const std::vector<std::uint32_t> &ShiftQuery::excluded_compounds() const {
   if (!excluded_done_) {
     if (options.blind) {
       const auto &con = tables.reference_index().constitution;
+      const auto key = constitution();
       for (std::uint32_t c = 0; c < con.size(); ++c)
-        if (con[c] == constitution) excluded_.push_back(c);
+        if (con[c] == key) excluded_.push_back(c);
     }
     excluded_done_ = true;
   }
   return excluded_;
 }
 
-const std::vector<std::string> &ShiftQuery::parts(std::size_t atom) const {
-  // One pass over the molecule computes every atom's code once per class,
-  // which costs less than a few single-atom calls.
-  if (parts_.empty()) parts_ = hose_spheres_all(molecule, classes, kMaxHoseSpheres);
-  return parts_.at(atom);
+const HoseKeys &ShiftQuery::keys(std::size_t atom) const {
+  // One pass over the molecule keys every atom of the nucleus once per
+  // class, which costs less than a few single-atom calls; the lookups need
+  // only the keys, not the text.
+  if (keyed_.empty()) {
+    keyed_.assign(molecule.atom_count(), false);
+    for (std::size_t a = 0; a < molecule.atom_count(); ++a)
+      keyed_[a] = nucleus == Nucleus::C13 ? molecule.atom(a).atomic_number == 6 : molecule.is_hydrogen(a);
+    keys_ = hose_keys(molecule, classes, keyed_);
+  }
+  if (!keyed_.at(atom)) {
+    keyed_.assign(molecule.atom_count(), true);
+    keys_ = hose_keys(molecule, classes, keyed_);
+  }
+  return keys_[atom];
 }
 
 std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const ShiftSource *> &sources,

@@ -16,15 +16,9 @@
 namespace nmrpred::detail {
 
 std::uint64_t hose_key(const std::vector<std::string> &parts, int spheres) {
-  std::uint64_t h = 0xCBF29CE484222325ull;
-  for (int k = 0; k <= spheres && k < static_cast<int>(parts.size()); ++k) {
-    for (unsigned char c : parts[static_cast<std::size_t>(k)]) {
-      h ^= c;
-      h *= 0x100000001B3ull;
-    }
-    h ^= 0x1F;  // sphere separator, not a character codes use
-    h *= 0x100000001B3ull;
-  }
+  std::uint64_t h = kHoseKeySeed;
+  for (int k = 0; k <= spheres && k < static_cast<int>(parts.size()); ++k)
+    h = hose_key_part(h, parts[static_cast<std::size_t>(k)]);
   return h;
 }
 
@@ -73,14 +67,18 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     const auto h1_increments = make_h1_increments(tables.h1_increments(), c.solvent);
     const int origin = c.user ? kUser : kBuiltin;
     index->has_user |= c.user;
-    const auto all_parts = hose_spheres_all(m, classes, kMaxHoseSpheres);
+    // Only carbons and hydrogens carry assigned shifts.
+    std::vector<bool> keyed(m.atom_count(), false);
+    for (std::size_t a = 0; a < m.atom_count(); ++a) keyed[a] = m.atom(a).atomic_number == 6 || m.is_hydrogen(a);
+    const auto all_keys = hose_keys(m, classes, keyed);
     auto add = [&](int nucleus, std::size_t centre, double value) {
-      const auto &parts = all_parts[centre];
+      const auto &keys = all_keys[centre];
       double inc = std::numeric_limits<double>::quiet_NaN();
       Shift s;
       if (nucleus == kIndexC13 && increments->estimate(q, centre, s)) inc = s.ppm;
       if (nucleus == kIndexH1 && h1_increments->estimate(qh, centre, s) && !s.exchangeable) inc = s.ppm;
-      for (int k = 1; k <= kMaxHoseSpheres; ++k) raw[origin][nucleus][k][hose_key(parts, k)].push_back({ci, value, inc});
+      for (int k = 1; k <= kMaxHoseSpheres; ++k)
+        raw[origin][nucleus][k][keys[static_cast<std::size_t>(k)]].push_back({ci, value, inc});
     };
     auto check_atom = [&](std::uint32_t a) {
       if (a >= m.heavy_atom_count())

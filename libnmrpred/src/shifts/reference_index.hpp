@@ -10,10 +10,13 @@
 #include <cstdint>
 #include <memory>
 #include <string>
+#include <string_view>
 #include <unordered_map>
 #include <vector>
 
+#include <nmrpred/classes.hpp>
 #include <nmrpred/hose.hpp>
+#include <nmrpred/molecule.hpp>
 #include <nmrpred/tables.hpp>
 
 namespace nmrpred::detail {
@@ -44,6 +47,27 @@ struct Bucket {
 // Hash of the code with `spheres` spheres, computed from its parts
 // (hose_spheres()/split_hose_code()) without building the text.
 std::uint64_t hose_key(const std::vector<std::string> &parts, int spheres);
+
+// hose_key() one part at a time: start from kHoseKeySeed and feed parts 0, 1,
+// ... in turn; after part k the value is hose_key(parts, k).
+inline constexpr std::uint64_t kHoseKeySeed = 0xCBF29CE484222325ull;
+inline std::uint64_t hose_key_part(std::uint64_t h, std::string_view part) {
+  for (unsigned char c : part) {
+    h ^= c;
+    h *= 0x100000001B3ull;
+  }
+  h ^= 0x1F;  // sphere separator, not a character codes use
+  h *= 0x100000001B3ull;
+  return h;
+}
+
+// Per atom, hose_key(hose_spheres(m, classes, atom, kMaxHoseSpheres), k) for
+// k = 0..kMaxHoseSpheres, for the atoms flagged in `wanted` (shorter means
+// false); other atoms get zeros. Made straight from the HOSE engine's text
+// without building the parts, one engine run per topological class that a
+// wanted atom belongs to. Defined in environments/hose.cpp. Thread rule: pure.
+using HoseKeys = std::array<std::uint64_t, kMaxHoseSpheres + 1>;
+std::vector<HoseKeys> hose_keys(const Molecule &m, const AtomClasses &classes, const std::vector<bool> &wanted);
 
 // Median and sample standard deviation about it.
 Summary summarise(std::vector<double> values);

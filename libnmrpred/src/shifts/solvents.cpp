@@ -6,6 +6,7 @@
 
 #include <fmt/format.h>
 
+#include "shifts/increments_h1.hpp"
 #include "tables/parse.hpp"
 
 namespace nmrpred {
@@ -38,9 +39,17 @@ std::vector<SolventSignal> signals(const std::string &where, std::string_view sh
   return out;
 }
 
+// The list read when the tables were parsed (shifts/increments_h1.cpp), or
+// null while they are being parsed or when the set has no solvents.tsv.
+const std::vector<Solvent> *parsed_list(const Tables &tables) {
+  const auto &h1 = tables.h1_increments();
+  return h1 ? detail::parsed_solvents(*h1) : nullptr;
+}
+
 }  // namespace
 
 std::vector<Solvent> solvents(const Tables &tables) {
+  if (const auto *parsed = parsed_list(tables)) return *parsed;
   const auto text = tables.file_text("solvents.tsv");
   if (text.empty()) throw TablesError("tables: solvents.tsv is missing");
   const auto t = detail::parse_tsv(text, "solvents.tsv", true);
@@ -74,11 +83,19 @@ std::vector<Solvent> solvents(const Tables &tables) {
 
 Solvent find_solvent(const Tables &tables, std::string_view name) {
   const auto key = lower_trimmed(name);
-  auto all = solvents(tables);
-  for (auto &s : all) {
+  // Every prediction looks its solvent up: use the list parsed with the
+  // tables rather than reading solvents.tsv again.
+  std::vector<Solvent> read;
+  const std::vector<Solvent> *parsed = parsed_list(tables);
+  if (!parsed) {
+    read = solvents(tables);
+    parsed = &read;
+  }
+  const auto &all = *parsed;
+  for (const auto &s : all) {
     if (lower_trimmed(s.name) == key || s.id == key ||
         std::find(s.aliases.begin(), s.aliases.end(), key) != s.aliases.end())
-      return std::move(s);
+      return s;
   }
   std::string known;
   for (const auto &s : all) known += (known.empty() ? "" : ", ") + s.name;

@@ -15,29 +15,38 @@
 #include <nmrpred/shifts.hpp>
 #include <nmrpred/tables.hpp>
 
+#include "reference_index.hpp"
+
 namespace nmrpred::detail {
 
 // Everything a source may look at for one molecule.
 class ShiftQuery {
  public:
   ShiftQuery(const Molecule &m, const AtomClasses &c, const Tables &t, const ShiftOptions &o, Nucleus n)
-      : molecule(m), classes(c), tables(t), options(o), nucleus(n), constitution(constitution_key(m, c)) {}
+      : molecule(m), classes(c), tables(t), options(o), nucleus(n) {}
   const Molecule &molecule;
   const AtomClasses &classes;
   const Tables &tables;
   const ShiftOptions &options;
   Nucleus nucleus;
-  std::uint64_t constitution;
-  // HOSE spheres (kMaxHoseSpheres) of an atom, computed once.
-  const std::vector<std::string> &parts(std::size_t atom) const;
+  // constitution_key() of the molecule, computed on first use (only blind
+  // mode needs it).
+  std::uint64_t constitution() const;
+  // hose_key() of the atom's HOSE code with 0..kMaxHoseSpheres spheres. The
+  // first call keys every atom of the query's nucleus at once (one engine run
+  // per topological class); an atom of another kind keys them all.
+  const HoseKeys &keys(std::size_t atom) const;
   // Blind mode: reference compounds with the query's constitution (sorted);
   // empty otherwise. Needs tables.reference_index().
   const std::vector<std::uint32_t> &excluded_compounds() const;
 
  private:
+  mutable bool constitution_done_ = false;
+  mutable std::uint64_t constitution_ = 0;
   mutable bool excluded_done_ = false;
   mutable std::vector<std::uint32_t> excluded_;
-  mutable std::vector<std::vector<std::string>> parts_;
+  mutable std::vector<bool> keyed_;
+  mutable std::vector<HoseKeys> keys_;
 };
 
 class ShiftSource {

@@ -8,6 +8,7 @@
 
 #include <fmt/format.h>
 
+#include "couplings/coupling_tables.hpp"
 #include "shifts/reference_index.hpp"
 #include "shifts/increments_h1.hpp"
 #include "shifts/sources.hpp"
@@ -212,6 +213,7 @@ struct Tables::Private {
     t->files_ = std::move(files);
     t->c13_increments_ = detail::parse_c13_increment_tables(*t);
     t->h1_increments_ = detail::parse_h1_increment_tables(*t);
+    t->coupling_tables_ = detail::parse_coupling_tables(*t);
     t->index_ = detail::build_reference_index(*t);
     return t;
   }
@@ -279,6 +281,7 @@ std::shared_ptr<const Tables> Tables::with_user_reference(std::string_view tsv_t
   t->version_ = fmt::format("{}+user-{:016x}", version_, detail::fnv1a(tsv_text, 0xCBF29CE484222325ull));
   t->c13_increments_ = c13_increments_;
   t->h1_increments_ = h1_increments_;
+  t->coupling_tables_ = coupling_tables_;
   t->index_ = detail::build_reference_index(*t);
   return t;
 }

@@ -1,0 +1,426 @@
+// Spin-system simulation (nmrpred/spin.hpp): closed forms of small spin
+// systems, first-order patterns, magnetic equivalence, the cap on exact
+// clusters, molecules, and bad input.
+//
+// Sources of the expected values:
+//  [AB]     The AB quartet: lines at centre +- (C + J)/2 and centre +- (C - J)/2
+//           with C = sqrt(dnu^2 + J^2); inner/outer intensity ratio
+//           (1 + sin 2theta)/(1 - sin 2theta) with sin 2theta = J/C.
+//           H. Gunther, "NMR Spectroscopy", 3rd ed., Wiley-VCH 2013, ch. 4;
+//           R. J. Abraham, J. Fisher, P. Loftus, "Introduction to NMR
+//           Spectroscopy", Wiley 1988, ch. 3 (from memory).
+//  [AAXX]   The A half of AA'XX' (Gunther, ch. 4; Abraham/Fisher/Loftus, ch. 3;
+//           from memory): with N = J_AX + J_AX', L = J_AX - J_AX',
+//           K = J_AA' + J_XX', M = J_AA' - J_XX' it is symmetric about nu_A
+//           with lines at +-N/2, +-(sqrt(K^2 + L^2) +- K)/2 and
+//           +-(sqrt(M^2 + L^2) +- M)/2: ten lines, the two N lines strongest.
+//  [CP]     Common practice (any NMR text): n equivalent spin-1/2 neighbours
+//           split a signal into n + 1 lines with binomial intensities
+//           (Pascal's triangle; 1:2:1 triplet, 1:3:3:1 quartet); one spin-1
+//           neighbour (2H) gives a 1:1:1 triplet (2I + 1 equally populated
+//           states); integrals are proportional to the number of nuclei;
+//           spins with no coupling give one line at their shift; chemically
+//           and magnetically equivalent spins give one line whatever their
+//           mutual coupling; first-order labels (s, d, t, q, ..., dd, br s);
+//           proton-decoupled 13C spectra show couplings to 19F; exchangeable
+//           OH protons appear as broad singlets.
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <memory>
+#include <numeric>
+#include <string>
+#include <vector>
+
+#include <doctest/doctest.h>
+
+#include <nmrpred/error.hpp>
+#include <nmrpred/io.hpp>
+#include <nmrpred/predict.hpp>
+#include <nmrpred/spin.hpp>
+
+#include "check.hpp"
+
+TEST_SUITE("spin") {
+  namespace {
+
+  using nmrpred::SimulationOptions;
+  using nmrpred::SpectralLine;
+  using nmrpred::Spin;
+  using nmrpred::SpinNucleus;
+  using nmrpred::SpinSystem;
+
+  Spin proton(double ppm) {
+    Spin s;
+    s.shift_ppm = ppm;
+    return s;
+  }
+
+  Spin of(SpinNucleus nucleus, double ppm) {
+    Spin s;
+    s.shift_ppm = ppm;
+    s.nucleus = nucleus;
+    return s;
+  }
+
+  double total(const std::vector<SpectralLine> &lines) {
+    double t = 0;
+    for (const auto &l : lines) t += l.intensity;
+    return t;
+  }
+
+  /// Lines of at least `floor` times the strongest line.
+  std::vector<SpectralLine> visible(const std::vector<SpectralLine> &lines, double floor = 1e-6) {
+    double top = 0;
+    for (const auto &l : lines) top = std::max(top, l.intensity);
+    std::vector<SpectralLine> out;
+    for (const auto &l : lines)
+      if (l.intensity >= floor * top) out.push_back(l);
+    return out;
+  }
+
+  const nmrpred::Multiplet &multiplet_of(const nmrpred::Simulation &sim, std::size_t spin) {
+    for (const auto &m : sim.multiplets)
+      if (std::find(m.atoms.begin(), m.atoms.end(), spin) != m.atoms.end()) return m;
+    throw std::runtime_error("no multiplet for spin " + std::to_string(spin));
+  }
+
+  const nmrpred::Tables &builtin_tables() {
+    static const std::shared_ptr<const nmrpred::Tables> tables = nmrpred::Tables::builtin();
+    return *tables;
+  }
+
+  }  // namespace
+
+  TEST_CASE("an AB quartet has the textbook line positions and roof effect at every dnu/J") {
+    struct Row {
+      double ratio;  // dnu / J
+      const char *source;
+    };
+    const Row rows[] = {{0.2, "[AB]"}, {0.5, "[AB]"}, {1, "[AB]"}, {2, "[AB]"}, {5, "[AB]"}, {10, "[AB]"}};
+    const double mhz = 400, j = 10, nu_a = 800;
+    for (const Row &row : rows) {
+      INFO("dnu/J = " << row.ratio << " " << row.source);
+      const double dnu = row.ratio * j;
+      SpinSystem sys{{proton(nu_a / mhz), proton((nu_a + dnu) / mhz)}, {{0, 1, j}}};
+      SimulationOptions opt;
+      opt.field_mhz = mhz;
+      const auto sim = nmrpred::simulate(sys, SpinNucleus::H1, opt);
+      const auto lines = visible(sim.lines);
+      REQUIRE(lines.size() == 4);
+      const double centre = nu_a + dnu / 2, c = std::sqrt(dnu * dnu + j * j);
+      const double want_hz[] = {centre - (c + j) / 2, centre - (c - j) / 2, centre + (c - j) / 2, centre + (c + j) / 2};
+      for (int k = 0; k < 4; ++k) check_close(lines[static_cast<std::size_t>(k)].hz, want_hz[k], 1e-6);
+      const double sin2theta = j / c;
+      check_close(lines[1].intensity / lines[0].intensity, (1 + sin2theta) / (1 - sin2theta), 1e-6);
+      check_close(lines[2].intensity / lines[3].intensity, (1 + sin2theta) / (1 - sin2theta), 1e-6);
+      check_close(total(sim.lines), 2.0, 1e-9);
+    }
+  }
+
+  TEST_CASE("first-order A2X3 gives a 1:3:3:1 quartet and a 1:2:1 triplet with areas 2:3") {
+    // Ethyl-like: X3 at 1.2 ppm, A2 at 3.6 ppm, J = 7 Hz at 400 MHz ([CP]).
+    SpinSystem sys;
+    for (int k = 0; k < 3; ++k) sys.spins.push_back(proton(1.2));
+    for (int k = 0; k < 2; ++k) sys.spins.push_back(proton(3.6));
+    for (std::size_t x = 0; x < 3; ++x)
+      for (std::size_t a = 3; a < 5; ++a) sys.couplings.push_back({x, a, 7.0});
+    const auto sim = nmrpred::simulate(sys, SpinNucleus::H1);
+    REQUIRE(sim.multiplets.size() == 2);
+    struct Row {
+      std::size_t spin;
+      const char *label;
+      std::vector<double> weights;  // Pascal's triangle
+      double integral;
+      double ppm;
+      const char *source;
+    };
+    const Row rows[] = {{3, "q", {1, 3, 3, 1}, 2, 3.6, "[CP] quartet from three equivalent neighbours"},
+                        {0, "t", {1, 2, 1}, 3, 1.2, "[CP] triplet from two equivalent neighbours"}};
+    for (const Row &row : rows) {
+      INFO(row.label << " " << row.source);
+      const auto &m = multiplet_of(sim, row.spin);
+      CHECK(m.label == row.label);
+      REQUIRE(m.j_hz.size() == 1);
+      check_close(m.j_hz[0], 7.0, 1e-9);
+      check_close(m.integral, row.integral, 1e-12);
+      check_close(total(m.lines), row.integral, 1e-9);
+      check_close(m.ppm, row.ppm, 1e-9);
+      REQUIRE(m.lines.size() == row.weights.size());
+      const double sum = std::accumulate(row.weights.begin(), row.weights.end(), 0.0);
+      const double first = row.ppm * 400 - 3.5 * (row.weights.size() - 1);
+      for (std::size_t k = 0; k < m.lines.size(); ++k) {
+        check_close(m.lines[k].intensity, row.integral * row.weights[k] / sum, 1e-9);
+        check_close(m.lines[k].hz, first + 7.0 * static_cast<double>(k), 1e-6);
+      }
+    }
+    CHECK(sim.multiplets[0].label == "q");  // downfield first
+  }
+
+  TEST_CASE("a proton coupled to one deuteron is a 1:1:1 triplet") {
+    // [CP] spin-1 neighbour; J(H,D) = 2.2 Hz is an invented demo value.
+    SpinSystem sys{{proton(5.3), of(SpinNucleus::H2, 5.3)}, {{0, 1, 2.2}}};
+    const auto sim = nmrpred::simulate(sys, SpinNucleus::H1);
+    REQUIRE(sim.lines.size() == 3);
+    for (int k = 0; k < 3; ++k) {
+      check_close(sim.lines[static_cast<std::size_t>(k)].intensity, 1.0 / 3.0, 1e-12);
+      check_close(sim.lines[static_cast<std::size_t>(k)].hz, 5.3 * 400 + 2.2 * (k - 1), 1e-9);
+    }
+    REQUIRE(sim.multiplets.size() == 1);
+    CHECK(sim.multiplets[0].label == "t");
+    // The 2H spectrum of the same pair: a doublet at the 2H frequency.
+    const auto d = nmrpred::simulate(sys, SpinNucleus::H2);
+    REQUIRE(d.lines.size() == 2);
+    check_close(d.lines[1].hz - d.lines[0].hz, 2.2, 1e-9);
+    check_close(d.observed_mhz, 400 * nmrpred::frequency_ratio(SpinNucleus::H2), 1e-12);
+    check_close(total(d.lines), 1.0, 1e-12);
+  }
+
+  TEST_CASE("as J goes to zero the lines go to the shifts, as dnu goes to zero they become one line") {
+    // [CP] and [AB] in the limits J -> 0 (two singlets) and dnu -> 0 (one line).
+    {
+      SpinSystem sys{{proton(2.000), proton(2.005)}, {{0, 1, 1e-4}}};
+      const auto sim = nmrpred::simulate(sys, SpinNucleus::H1);
+      const auto lines = visible(sim.lines, 1e-3);
+      REQUIRE(lines.size() == 2);
+      check_close(lines[0].ppm, 2.000, 1e-6);
+      check_close(lines[1].ppm, 2.005, 1e-6);
+      CHECK(sim.multiplets[0].label == "s");
+    }
+    {
+      SpinSystem sys{{proton(2.0), proton(2.0)}, {{0, 1, 7.0}}};
+      const auto sim = nmrpred::simulate(sys, SpinNucleus::H1);
+      REQUIRE(sim.lines.size() == 1);
+      check_close(sim.lines[0].ppm, 2.0, 1e-12);
+      check_close(sim.lines[0].intensity, 2.0, 1e-12);
+      REQUIRE(sim.multiplets.size() == 1);
+      CHECK(sim.multiplets[0].label == "s");
+      check_close(sim.multiplets[0].integral, 2.0, 1e-12);
+    }
+    {
+      // 0.01 Hz apart (not equivalent by the shift tolerance) and J = 7 Hz.
+      SpinSystem sys{{proton(2.0), proton(2.0 + 0.01 / 400)}, {{0, 1, 7.0}}};
+      const auto sim = nmrpred::simulate(sys, SpinNucleus::H1);
+      const auto lines = visible(sim.lines, 1e-4);
+      REQUIRE(lines.size() == 1);
+      check_close(lines[0].hz, 800.005, 1e-4);
+      check_close(lines[0].intensity, 2.0, 1e-5);
+    }
+  }
+
+  TEST_CASE("AA'XX' is kept apart from A2X2 and follows its closed form") {
+    const double mhz = 400, nu_a = 7.0 * mhz, nu_x = 7.6 * mhz;
+    const double jaa = 2.0, jxx = 9.0, jax = 8.0, jax2 = 1.5;
+    SpinSystem aaxx{{proton(7.0), proton(7.0), proton(7.6), proton(7.6)},
+                    {{0, 1, jaa}, {2, 3, jxx}, {0, 2, jax}, {1, 3, jax}, {0, 3, jax2}, {1, 2, jax2}}};
+    const auto sim = nmrpred::simulate(aaxx, SpinNucleus::H1);
+    std::vector<SpectralLine> a_lines;
+    for (const auto &l : visible(sim.lines))
+      if (std::fabs(l.hz - nu_a) < 60) a_lines.push_back(l);
+    const double n = jax + jax2, l = jax - jax2, k = jaa + jxx, m = jaa - jxx;
+    std::vector<double> want = {n / 2, (std::sqrt(k * k + l * l) + k) / 2, (std::sqrt(k * k + l * l) - k) / 2,
+                                (std::sqrt(m * m + l * l) + m) / 2, (std::sqrt(m * m + l * l) - m) / 2};
+    for (std::size_t i = 0, size = want.size(); i < size; ++i) want.push_back(-want[i]);
+    std::sort(want.begin(), want.end());
+    INFO("[AAXX]");
+    REQUIRE(a_lines.size() == 10);
+    for (std::size_t i = 0; i < 10; ++i) check_close(a_lines[i].hz - nu_a, want[i], 1e-6);
+    check_close(total(a_lines), 2.0, 1e-6);
+    // The N lines are the strongest of the A half.
+    const auto strongest = std::max_element(a_lines.begin(), a_lines.end(), [](const auto &x, const auto &y) {
+      return x.intensity < y.intensity;
+    });
+    check_close(std::fabs(strongest->hz - nu_a), n / 2, 1e-6);
+    CHECK(multiplet_of(sim, 0).label == "m");
+    CHECK(multiplet_of(sim, 0).atoms == std::vector<std::size_t>{0, 1});
+
+    // A2X2: the same shifts with equal couplings: magnetically equivalent,
+    // a 1:2:1 triplet ([CP]) whatever J_AA' and J_XX'.
+    SpinSystem a2x2 = aaxx;
+    for (auto &c : a2x2.couplings)
+      if (c.j_hz == jax2) c.j_hz = jax;
+    const auto sim2 = nmrpred::simulate(a2x2, SpinNucleus::H1);
+    const auto &t = multiplet_of(sim2, 0);
+    CHECK(t.label == "t");
+    REQUIRE(t.lines.size() == 3);
+    check_close(t.lines[1].intensity / t.lines[0].intensity, 2.0, 1e-9);
+    check_close(t.lines[2].hz - t.lines[1].hz, jax, 1e-9);
+    (void)nu_x;
+  }
+
+  TEST_CASE("thirty strongly coupled spins come back promptly through the documented cluster cap") {
+    // A chain of 30 protons 0.003 ppm apart, 7 Hz to each neighbour and
+    // -1.5 Hz to the next but one: every coupling strong at 400 MHz.
+    SpinSystem sys;
+    for (int k = 0; k < 30; ++k) sys.spins.push_back(proton(1.0 + 0.003 * k));
+    for (std::size_t k = 0; k + 1 < 30; ++k) sys.couplings.push_back({k, k + 1, 7.0});
+    for (std::size_t k = 0; k + 2 < 30; ++k) sys.couplings.push_back({k, k + 2, -1.5});
+    const auto start = std::chrono::steady_clock::now();
+    const auto sim = nmrpred::simulate(sys, SpinNucleus::H1);
+    const double seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+    MESSAGE("30 strongly coupled spins: " << seconds << " s, " << sim.lines.size() << " lines");
+    bool told = false;
+    for (const auto &w : sim.warnings) told |= w.find("max_block_size") != std::string::npos;
+    CHECK(told);
+    CHECK(sim.multiplets.size() == 30);
+    // [CP] the integral is still the number of spins (less the transitions
+    // below kMinLineIntensity that were dropped).
+    check_close(total(sim.lines), 30.0, 1e-4);
+    for (const auto &m : sim.multiplets) CHECK(m.label == "m");
+  }
+
+  TEST_CASE("a molecule's 1H spectrum: ethanol's triplet, quartet and broad OH singlet") {
+    // Couplings given by hand (3J(H,H) = 7.0 Hz, an invented demo value close
+    // to the typical ethyl coupling) so that this test does not depend on the
+    // coupling estimator; the shifts are the library's. [CP] labels.
+    const auto p = nmrpred::predict(nmrpred::read_molecule("CCO", nmrpred::Format::Smiles), builtin_tables());
+    std::vector<nmrpred::Coupling> couplings;
+    std::vector<std::size_t> methyl, methylene, hydroxyl;
+    for (std::size_t a = 0; a < p.molecule.atom_count(); ++a) {
+      if (!p.molecule.is_hydrogen(a)) continue;
+      const auto heavy = static_cast<std::size_t>(p.molecule.attached_to(a));
+      (heavy == 0 ? methyl : heavy == 1 ? methylene : hydroxyl).push_back(a);
+    }
+    for (std::size_t x : methyl)
+      for (std::size_t y : methylene) couplings.push_back({x, y, 3, 7.0, 0, "", "", ""});
+    for (std::size_t y : methylene) couplings.push_back({y, hydroxyl[0], 3, 5.0, 0, "", "", ""});
+    const auto sim = nmrpred::simulate(p, couplings, nmrpred::Nucleus::H1);
+    REQUIRE(sim.multiplets.size() == 3);
+    struct Row {
+      std::vector<std::size_t> atoms;
+      const char *label;
+      double integral;
+    };
+    const Row rows[] = {{methyl, "t", 3}, {methylene, "q", 2}, {hydroxyl, "br s", 1}};
+    for (const Row &row : rows) {
+      INFO(row.label << " [CP]");
+      const auto it = std::find_if(sim.multiplets.begin(), sim.multiplets.end(),
+                                   [&](const auto &m) { return m.atoms == row.atoms; });
+      REQUIRE(it != sim.multiplets.end());
+      CHECK(it->label == row.label);
+      check_close(it->integral, row.integral, 1e-12);
+      check_close(total(it->lines), row.integral, 1e-9);
+      CHECK(it->nucleus == nmrpred::Nucleus::H1);
+    }
+  }
+
+  TEST_CASE("a proton-decoupled 13C spectrum shows the CF3 quartet and nothing from protons") {
+    // [CP] one-bond J(C,F) of a CF3 group is near 270-285 Hz; 280 Hz and
+    // 2J(C,F) = 35 Hz are demo values. The C-H couplings given must not show.
+    const auto p = nmrpred::predict(nmrpred::read_molecule("FC(F)(F)CO", nmrpred::Format::Smiles), builtin_tables());
+    std::vector<nmrpred::Coupling> couplings;
+    for (std::size_t a = 0; a < p.molecule.atom_count(); ++a) {
+      if (p.molecule.atom(a).atomic_number == 9) {
+        couplings.push_back({std::min<std::size_t>(a, 1), std::max<std::size_t>(a, 1), 1, 280.0, 0, "", "", ""});
+        couplings.push_back({std::min<std::size_t>(a, 4), std::max<std::size_t>(a, 4), 2, 35.0, 0, "", "", ""});
+      }
+      if (p.molecule.is_hydrogen(a) && p.molecule.attached_to(a) == 4) couplings.push_back({4, a, 1, 140.0, 0, "", "", ""});
+    }
+    const auto sim = nmrpred::simulate(p, couplings, nmrpred::Nucleus::C13);
+    REQUIRE(sim.multiplets.size() == 2);
+    for (const auto &m : sim.multiplets) {
+      INFO("atoms " << m.atoms[0]);
+      CHECK(m.label == "q");
+      CHECK(m.nucleus == nmrpred::Nucleus::C13);
+      REQUIRE(m.lines.size() == 4);
+      check_close(m.lines[1].intensity / m.lines[0].intensity, 3.0, 1e-9);
+      check_close(m.j_hz[0], m.atoms[0] == 1 ? 280.0 : 35.0, 1e-9);
+    }
+  }
+
+  TEST_CASE("first-order labels name the resolved splittings, largest coupling first") {
+    // [CP] the trade's first-order notation. The observed proton sits at
+    // 5.0 ppm; its partners far away (8.0 ppm and beyond) at 400 MHz, so every
+    // coupling is first-order. Couplings below the line width (1 Hz) are not
+    // resolved.
+    struct Row {
+      std::vector<double> partner_j;  // one partner proton per entry
+      const char *label;
+      std::vector<double> j_hz;
+      const char *source;
+    };
+    const Row rows[] = {
+        {{}, "s", {}, "[CP]"},
+        {{7.0}, "d", {7.0}, "[CP]"},
+        {{7.0, 0.4}, "d", {7.0}, "[CP] 0.4 Hz is below the line width"},
+        {{10.0, 4.0}, "dd", {10.0, 4.0}, "[CP]"},
+        {{10.0, 4.0, 4.0}, "dt", {10.0, 4.0}, "[CP]"},
+        {{10.0, 10.0, 4.0}, "td", {10.0, 4.0}, "[CP]"},
+        {{12.0, 7.0, 2.5}, "ddd", {12.0, 7.0, 2.5}, "[CP]"},
+        {{8.0, 8.0, 2.0, 2.0}, "tt", {8.0, 2.0}, "[CP]"},
+        {{7.0, 7.0, 7.0, 7.0, 7.0, 7.0}, "sept", {7.0}, "[CP] isopropyl CH"},
+        {{7.0, 7.2, 6.9, 7.1}, "p", {7.05}, "[CP] couplings within a line width look equal"},
+        {{14.0, 9.0, 5.0, 2.0}, "m", {}, "[CP] four distinct splittings"},
+    };
+    for (const Row &row : rows) {
+      INFO(row.label << " " << row.source);
+      SpinSystem sys{{proton(5.0)}, {}};
+      for (std::size_t k = 0; k < row.partner_j.size(); ++k) {
+        sys.spins.push_back(proton(8.0 + 0.5 * static_cast<double>(k)));
+        sys.couplings.push_back({0, k + 1, row.partner_j[k]});
+      }
+      const auto sim = nmrpred::simulate(sys, SpinNucleus::H1);
+      const auto &m = multiplet_of(sim, 0);
+      CHECK(m.label == row.label);
+      REQUIRE(m.j_hz.size() == row.j_hz.size());
+      for (std::size_t k = 0; k < m.j_hz.size(); ++k) check_close(m.j_hz[k], row.j_hz[k], 1e-9);
+    }
+    // [CP] strongly coupled partners (dnu / J = 1) make a second-order "m".
+    const auto strong = nmrpred::simulate(SpinSystem{{proton(5.0), proton(5.0 + 7.0 / 400)}, {{0, 1, 7.0}}},
+                                          SpinNucleus::H1);
+    CHECK(multiplet_of(strong, 0).label == "m");
+  }
+
+  TEST_CASE("bad spin systems and options are refused with a message naming the problem") {
+    struct Row {
+      const char *what;
+      SpinSystem system;
+      SimulationOptions options;
+      const char *message;  // a part of the expected message
+    };
+    const double nan = std::nan("");
+    SimulationOptions field0, field2000, width0, block0, ratio_nan;
+    field0.field_mhz = 0;
+    field2000.field_mhz = 2000;
+    width0.line_width_hz = 0;
+    block0.max_block_size = 0;
+    ratio_nan.weak_coupling_ratio = nan;
+    const std::vector<Row> rows = {
+        {"no spins", {}, {}, "no spins"},
+        {"NaN shift", {{proton(nan)}, {}}, {}, "spin 0: shift is not a finite number"},
+        {"infinite J", {{proton(1), proton(2)}, {{0, 1, INFINITY}}}, {}, "J is not a finite number"},
+        {"index out of range", {{proton(1), proton(2)}, {{0, 2, 7}}}, {}, "out of range"},
+        {"self coupling", {{proton(1), proton(2)}, {{1, 1, 7}}}, {}, "coupled to itself"},
+        {"pair given twice", {{proton(1), proton(2)}, {{0, 1, 7}, {1, 0, 7}}}, {}, "repeats coupling 0"},
+        {"absurd J", {{proton(1), proton(2)}, {{0, 1, 1e6}}}, {}, "out of range"},
+        {"field 0", {{proton(1)}, {}}, field0, "field_mhz"},
+        {"field 2000", {{proton(1)}, {}}, field2000, "field_mhz"},
+        {"line width 0", {{proton(1)}, {}}, width0, "line_width_hz"},
+        {"block size 0", {{proton(1)}, {}}, block0, "max_block_size"},
+        {"NaN ratio", {{proton(1)}, {}}, ratio_nan, "weak_coupling_ratio"},
+        {"unknown isotope", {{of(static_cast<SpinNucleus>(7), 1)}, {}}, {}, "is not one of"},
+    };
+    for (const Row &row : rows) {
+      INFO(row.what);
+      try {
+        nmrpred::simulate(row.system, SpinNucleus::H1, row.options);
+        FAIL("no error");
+      } catch (const nmrpred::ArgumentError &e) {
+        INFO(e.what());
+        CHECK(std::string(e.what()).find(row.message) != std::string::npos);
+      }
+    }
+    CHECK_THROWS_AS(nmrpred::parse_spin_nucleus("15N"), nmrpred::ArgumentError);
+    CHECK(nmrpred::parse_spin_nucleus(" 19F ") == SpinNucleus::F19);
+    CHECK_THROWS_AS(nmrpred::simulate(SpinSystem{{proton(1)}, {}}, static_cast<SpinNucleus>(3)),
+                    nmrpred::ArgumentError);
+  }
+
+  TEST_CASE("a spectrum of an isotope the system lacks is empty and says so") {
+    const auto sim = nmrpred::simulate(SpinSystem{{proton(1)}, {}}, SpinNucleus::F19);
+    CHECK(sim.lines.empty());
+    CHECK(sim.multiplets.empty());
+    REQUIRE(sim.warnings.size() == 1);
+    CHECK(sim.warnings[0].find("19F") != std::string::npos);
+  }
+}
