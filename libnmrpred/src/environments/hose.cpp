@@ -296,11 +296,16 @@ struct Frame {
 class Engine {
  public:
   // `ranks` (may be empty) only guides the symmetry test; results never depend on it.
-  Engine(const Molecule &m, int spheres, const std::vector<std::uint32_t> &ranks)
-      : mol_(m), n_(spheres), ranks_(ranks.size() == m.atom_count() ? &ranks : nullptr) {
+  // Sets the engine up for `m`, forgetting the previous molecule but keeping
+  // every buffer's capacity, so one engine serves many calls without allocating.
+  void reset(const Molecule &m, int spheres, const std::vector<std::uint32_t> &ranks) {
+    mol_ = &m;
+    n_ = spheres;
+    ranks_ = ranks.size() == m.atom_count() ? &ranks : nullptr;
     const std::size_t count = m.atom_count();
     const std::size_t heavy = m.heavy_atom_count();
     adj_off_.assign(count + 1, 0);
+    adj_.clear();
     atom_tok_.resize(count);
     for (std::size_t i = 0; i < count; ++i) {
       const Atom &a = m.atom(i);
@@ -315,6 +320,7 @@ class Engine {
       adj_off_[i + 1] = static_cast<std::uint32_t>(adj_.size());
     }
     place_.assign(count, Place{0, 0, kOutside});
+    cur_ = 0;
   }
 
   // Computes the spheres of `centre` and their text; read them with code(),
@@ -334,10 +340,10 @@ class Engine {
   }
 
   char *put_centre(char *p, std::uint32_t atom) const {
-    const Atom &a = mol_.atom(atom);
+    const Atom &a = mol_->atom(atom);
     p = put_charge(put_symbol(p, a.atomic_number), a.formal_charge);
     *p++ = '-';
-    return std::to_chars(p, p + 10, mol_.degree(atom)).ptr;
+    return std::to_chars(p, p + 10, mol_->degree(atom)).ptr;
   }
 
   // Centre text ("C-4", "N+-4") of `atom`, the part before ';'.
@@ -1083,9 +1089,18 @@ class Engine {
     }
   }
 
-  const Molecule &mol_;
-  int n_;
-  const std::vector<std::uint32_t> *ranks_;
+ public:
+  // Scratch of code_every_atom(), kept here to keep its capacity.
+  struct EveryAtom {
+    std::vector<std::uint32_t> by_class, pending, h_start, h_list, fill;
+    std::vector<std::uint8_t> done;
+  };
+  EveryAtom every;
+
+ private:
+  const Molecule *mol_ = nullptr;
+  int n_ = 0;
+  const std::vector<std::uint32_t> *ranks_ = nullptr;
   // Per atom of the molecule.
   SmallVec<std::uint32_t, 64> adj_off_;
   SmallVec<Neighbour, 128> adj_;
@@ -1123,6 +1138,60 @@ class Engine {
   std::array<Frame, kMaxHoseSpheres + 1> frames_;
 };
 
+// The engine of one call, set up for its molecule. Each thread keeps one
+// engine (a single heap block holding its scratch inline) and lends it out,
+// so calls after the first allocate only their results: allocating that block
+// per call cost more than coding a small molecule. A nested call, which the
+// library does not make today, gets an engine of its own.
+class EngineLease {
+ public:
+  EngineLease(const Molecule &m, int spheres, const std::vector<std::uint32_t> &ranks) : atoms_(m.atom_count()) {
+    Slot &slot = thread_slot();
+    if (!slot.busy) {
+      if (!slot.engine) slot.engine = std::make_unique<Engine>();
+      slot.busy = true;
+      borrowed_ = &slot;
+      engine_ = slot.engine.get();
+    } else {
+      own_ = std::make_unique<Engine>();
+      engine_ = own_.get();
+    }
+    try {
+      engine_->reset(m, spheres, ranks);
+    } catch (...) {
+      // A destructor does not run for a constructor that throws.
+      if (borrowed_) borrowed_->busy = false;
+      throw;
+    }
+  }
+  EngineLease(const EngineLease &) = delete;
+  EngineLease &operator=(const EngineLease &) = delete;
+  ~EngineLease() {
+    if (!borrowed_) return;
+    // Keep the buffers a typical molecule needs, but give back what a large
+    // one took.
+    constexpr std::size_t kKeepAtoms = 4096;
+    if (atoms_ > kKeepAtoms) borrowed_->engine.reset();
+    borrowed_->busy = false;
+  }
+  Engine &operator*() const noexcept { return *engine_; }
+  Engine *operator->() const noexcept { return engine_; }
+
+ private:
+  struct Slot {
+    std::unique_ptr<Engine> engine;
+    bool busy = false;
+  };
+  static Slot &thread_slot() {
+    thread_local Slot slot;
+    return slot;
+  }
+  std::size_t atoms_;
+  Slot *borrowed_ = nullptr;
+  Engine *engine_ = nullptr;
+  std::unique_ptr<Engine> own_;
+};
+
 void check_request(const Molecule &m, const AtomClasses &classes, int spheres) {
   if (spheres < 1 || spheres > kMaxHoseSpheres)
     throw ArgumentError(fmt::format("HOSE code: {} spheres requested; allowed are 1 to {}", spheres, kMaxHoseSpheres));
@@ -1142,8 +1211,7 @@ void check_atom(const Molecule &m, std::size_t atom) {
 std::string hose_code(const Molecule &molecule, const AtomClasses &classes, std::size_t atom, int spheres) {
   check_request(molecule, classes, spheres);
   check_atom(molecule, atom);
-  // One heap block (the engine keeps its scratch inline), not one per buffer.
-  const auto engine = std::make_unique<Engine>(molecule, spheres, classes.invariant_rank);
+  const EngineLease engine(molecule, spheres, classes.invariant_rank);
   engine->run(static_cast<std::uint32_t>(atom));
   return engine->code(static_cast<std::uint32_t>(atom));
 }
@@ -1152,7 +1220,7 @@ std::vector<std::string> hose_spheres(const Molecule &molecule, const AtomClasse
                                       int spheres) {
   check_request(molecule, classes, spheres);
   check_atom(molecule, atom);
-  const auto engine = std::make_unique<Engine>(molecule, spheres, classes.invariant_rank);
+  const EngineLease engine(molecule, spheres, classes.invariant_rank);
   engine->run(static_cast<std::uint32_t>(atom));
   return engine->parts(static_cast<std::uint32_t>(atom));
 }
@@ -1177,12 +1245,18 @@ void code_every_atom(const Molecule &molecule, const AtomClasses &classes, Engin
   const std::size_t count = molecule.atom_count();
   std::uint32_t max_class = 0;
   for (auto c : classes.topological) max_class = std::max(max_class, c);
-  std::vector<std::uint32_t> by_class(static_cast<std::size_t>(max_class) + 1, kNone);
-  std::vector<std::uint32_t> pending;  // hydrogens on the current heavy atom
-  std::vector<std::uint8_t> done(count, 0);
+  // Bookkeeping lives in the engine, which keeps its capacity between calls.
+  auto &by_class = engine.every.by_class;
+  by_class.assign(static_cast<std::size_t>(max_class) + 1, kNone);
+  auto &pending = engine.every.pending;  // hydrogens on the current heavy atom
+  pending.clear();
+  auto &done = engine.every.done;
+  done.assign(count, 0);
   const std::size_t heavy = molecule.heavy_atom_count();
   // Terminal hydrogens of each heavy atom, in index order (counting sort).
-  std::vector<std::uint32_t> h_start(heavy + 2, 0), h_list;
+  auto &h_start = engine.every.h_start;
+  auto &h_list = engine.every.h_list;
+  h_start.assign(heavy + 2, 0);
   auto terminal_parent = [&](std::size_t h) -> std::size_t {
     const std::int64_t parent = molecule.attached_to(h);
     if (molecule.degree(h) == 1 && parent >= 0 && static_cast<std::size_t>(parent) < heavy)
@@ -1193,7 +1267,8 @@ void code_every_atom(const Molecule &molecule, const AtomClasses &classes, Engin
   for (std::size_t a = 0; a < heavy; ++a) h_start[a + 1] += h_start[a];
   h_list.resize(h_start[heavy]);
   {
-    std::vector<std::uint32_t> fill(h_start.begin(), h_start.begin() + static_cast<std::ptrdiff_t>(heavy));
+    auto &fill = engine.every.fill;
+    fill.assign(h_start.begin(), h_start.begin() + static_cast<std::ptrdiff_t>(heavy));
     for (std::size_t h = heavy; h < count; ++h) {
       const std::size_t parent = terminal_parent(h);
       if (parent < heavy) h_list[fill[parent]++] = static_cast<std::uint32_t>(h);
@@ -1247,8 +1322,7 @@ std::vector<std::string> hose_codes(const Molecule &molecule, const AtomClasses 
   check_request(molecule, classes, spheres);
   std::vector<std::string> codes(molecule.atom_count());
   if (codes.empty()) return codes;
-  // One heap block (the engine keeps its scratch inline), not one per buffer.
-  const auto engine_ptr = std::make_unique<Engine>(molecule, spheres, classes.invariant_rank);
+  const EngineLease engine_ptr(molecule, spheres, classes.invariant_rank);
   Engine &engine = *engine_ptr;
   code_every_atom(
       molecule, classes, engine,
@@ -1265,7 +1339,7 @@ std::vector<std::vector<std::string>> hose_spheres_all(const Molecule &molecule,
   check_request(molecule, classes, spheres);
   std::vector<std::vector<std::string>> parts(molecule.atom_count());
   if (parts.empty()) return parts;
-  const auto engine_ptr = std::make_unique<Engine>(molecule, spheres, classes.invariant_rank);
+  const EngineLease engine_ptr(molecule, spheres, classes.invariant_rank);
   Engine &engine = *engine_ptr;
   code_every_atom(
       molecule, classes, engine, [&](std::size_t a) { parts[a] = engine.parts(static_cast<std::uint32_t>(a)); },
@@ -1287,7 +1361,7 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
   std::vector<char> needed(static_cast<std::size_t>(max_class) + 1, 0);
   for (std::size_t a = 0; a < wanted.size() && a < keys.size(); ++a)
     if (wanted[a]) needed[classes.topological[a]] = 1;
-  const auto engine_ptr = std::make_unique<Engine>(molecule, kMaxHoseSpheres, classes.invariant_rank);
+  const EngineLease engine_ptr(molecule, kMaxHoseSpheres, classes.invariant_rank);
   Engine &engine = *engine_ptr;
   code_every_atom(
       molecule, classes, engine, [&](std::size_t a) { engine.keys(static_cast<std::uint32_t>(a), keys[a]); },

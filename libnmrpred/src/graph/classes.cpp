@@ -117,13 +117,36 @@ bool even_permutation(std::array<std::int32_t, 4> from, const std::array<std::in
 // cell is a singleton. Whichever atom of a cell is picked, the orderings
 // obtained differ by a symmetry of the graph, so configurations derived from
 // this order relate to each other the same way for every input atom order.
-std::vector<std::uint32_t> canonical_positions(const Graph &g, Partition p) {
-  RefineScratch s;
+// `p` and `s` are the caller's buffers: p starts as the refined partition of g.
+std::vector<std::uint32_t> canonical_positions(const Graph &g, Partition &p, RefineScratch &s) {
   s.reset(g.n);
   std::uint32_t first = 0;
   while (true) {
     while (first < g.n && p.end[first] - first == 1) ++first;
     if (first >= g.n) break;
+    // A cell of leaves on one singleton parent (the hydrogens of a CH2 or
+    // CH3, after the parent was fixed): individualising a member refines
+    // nothing, as the only cell it touches is that parent's, so the whole
+    // cell falls apart into singletons in its present order. Doing that
+    // directly gives the same partition without the refinement passes.
+    const std::uint32_t e = p.end[first];
+    bool twin_leaves = true;
+    for (std::uint32_t k = first; k < e && twin_leaves; ++k) {
+      const std::uint32_t a = p.elems[k];
+      if (!g.leaf[a]) {
+        twin_leaves = false;
+        break;
+      }
+      const std::uint32_t parent_cell = p.cell[g.nbr[g.off[a]]];
+      twin_leaves = p.end[parent_cell] - parent_cell == 1;
+    }
+    if (twin_leaves) {
+      for (std::uint32_t k = first; k < e; ++k) {
+        p.end[k] = k + 1;
+        p.cell[p.elems[k]] = k;
+      }
+      continue;
+    }
     detail::individualize(g, p, p.elems[first], s);
   }
   std::vector<std::uint32_t> pos(g.n);
@@ -147,7 +170,7 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
   // ring, pseudo-asymmetric atoms). Reported when another stereo element exists.
   std::vector<std::uint32_t> pseudo;
   int stereo_elements = 0;
-  auto pseudo_centre = [&](const std::array<std::int32_t, 4> &l, std::vector<std::int64_t> cls) {
+  auto pseudo_centre = [&](const std::array<std::int32_t, 4> &l, const std::array<std::int64_t, 4> &cls) {
     // cls is sorted; exactly one equal pair, and those ligands are not leaves.
     int pairs = 0;
     std::int64_t tied = -2;
@@ -161,6 +184,7 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
       if (x >= 0 && static_cast<std::int64_t>(topo[x]) == tied && m.degree(x) < 2) return false;
     return true;
   };
+  sm.tetra.reserve(n);
   std::vector<std::int32_t> given(n, -1);
   for (std::size_t i = 0; i < m.tetrahedral_stereo().size(); ++i) given[m.tetrahedral_stereo()[i].centre] = static_cast<std::int32_t>(i);
   auto by_rank = [&](std::int32_t a, std::int32_t b) {
@@ -187,8 +211,8 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
       std::sort(l.begin(), l.end(), by_rank);
       t.lig = l;
       // Report only real stereocentres: four ligands of distinct topological class.
-      std::vector<std::int64_t> cls;
-      for (auto x : l) cls.push_back(x < 0 ? -1 : static_cast<std::int64_t>(topo[x]));
+      std::array<std::int64_t, 4> cls;
+      for (int q = 0; q < 4; ++q) cls[q] = l[q] < 0 ? -1 : static_cast<std::int64_t>(topo[l[q]]);
       std::sort(cls.begin(), cls.end());
       if (std::adjacent_find(cls.begin(), cls.end()) == cls.end()) {
         sm.notes.push_back(fmt::format(
@@ -257,20 +281,26 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
 }
 
 // The coloured graph of `atoms` without stereo (tetra_of and dbl_of empty
-// per atom); sets local_of for those atoms.
-Graph build_structure(const Molecule &m, const std::vector<std::uint32_t> &atoms, std::vector<std::uint32_t> &local_of) {
-  Graph g;
+// per atom), written over `g` (whose buffers keep their capacity); sets
+// local_of for those atoms.
+void build_structure(const Molecule &m, const std::vector<std::uint32_t> &atoms, std::vector<std::uint32_t> &local_of,
+                     Graph &g) {
   g.n = static_cast<std::uint32_t>(atoms.size());
-  g.global = atoms;
+  g.global.assign(atoms.begin(), atoms.end());
   for (std::uint32_t i = 0; i < g.n; ++i) local_of[atoms[i]] = i;
   g.off.assign(g.n + 1, 0);
   g.colour.resize(g.n);
   g.leaf.assign(g.n, 0);
   std::size_t edges = 0;
   for (auto a : atoms) edges += m.degree(a);
+  g.nbr.clear();
+  g.order.clear();
   g.nbr.reserve(edges);
   g.order.reserve(edges);
-  std::vector<std::pair<std::uint32_t, std::uint8_t>> tmp;
+  g.tetra.clear();
+  g.dbl.clear();
+  std::pair<std::uint32_t, std::uint8_t> tmp_inline[8];
+  std::vector<std::pair<std::uint32_t, std::uint8_t>> tmp_heap;
   for (std::uint32_t i = 0; i < g.n; ++i) {
     const auto a = atoms[i];
     const auto deg = static_cast<std::uint32_t>(m.degree(a));
@@ -278,17 +308,29 @@ Graph build_structure(const Molecule &m, const std::vector<std::uint32_t> &atoms
     g.leaf[i] = deg == 1;
     g.off[i + 1] = g.off[i] + deg;
     const auto *bid = m.bond_ids_begin(a);
-    tmp.clear();
+    // Degrees above 8 are rare: only they pay for a heap buffer.
+    auto *tmp = tmp_inline;
+    if (deg > 8) {
+      tmp_heap.resize(deg);
+      tmp = tmp_heap.data();
+    }
+    std::uint32_t k = 0;
     for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid)
-      tmp.emplace_back(local_of[*it], order_code(m.bond(*bid).order));
-    std::sort(tmp.begin(), tmp.end());
-    for (auto &t : tmp) {
-      g.nbr.push_back(t.first);
-      g.order.push_back(t.second);
+      tmp[k++] = {local_of[*it], order_code(m.bond(*bid).order)};
+    std::sort(tmp, tmp + deg);
+    for (std::uint32_t q = 0; q < deg; ++q) {
+      g.nbr.push_back(tmp[q].first);
+      g.order.push_back(tmp[q].second);
     }
   }
   g.tetra_of.assign(g.n, -1);
-  g.dbl_of.assign(g.n, {});
+  g.dbl_of.resize(g.n);
+  for (auto &d : g.dbl_of) d.clear();
+}
+
+Graph build_structure(const Molecule &m, const std::vector<std::uint32_t> &atoms, std::vector<std::uint32_t> &local_of) {
+  Graph g;
+  build_structure(m, atoms, local_of, g);
   return g;
 }
 
@@ -299,7 +341,8 @@ void add_stereo(const StereoModel &sm, Graph &g, std::vector<std::uint32_t> &loc
   g.tetra.clear();
   g.dbl.clear();
   g.tetra_of.assign(g.n, -1);
-  g.dbl_of.assign(g.n, {});
+  g.dbl_of.resize(g.n);
+  for (auto &d : g.dbl_of) d.clear();
   for (const auto &t : sm.tetra) {
     if (local_of[t.centre] >= g.n || g.global[local_of[t.centre]] != t.centre) continue;
     TetraConfig lt;
@@ -329,17 +372,34 @@ Graph build_graph(const Molecule &m, const std::vector<std::uint32_t> &atoms, co
 // once. Refinement looks only at the graph's structure (never at colours
 // after the start, nor at stereo), so the topological and the stereo graph
 // of one fragment share these, as do the searches of every sign.
+struct IndividualisedEntry {
+  Partition p;
+  std::uint64_t trace = 0;
+};
+
+// Partitions and search levels outlive one molecule in a per-thread
+// Workspace, so copying into them reuses their capacity: a fresh partition
+// costs four allocations, more than refining a small molecule.
+struct EntryPool {
+  std::vector<std::unique_ptr<IndividualisedEntry>> entries;  // stable addresses
+  std::size_t used = 0;
+  IndividualisedEntry &take() {
+    if (used == entries.size()) entries.push_back(std::make_unique<IndividualisedEntry>());
+    return *entries[used++];
+  }
+};
+
 class Individualised {
  public:
-  struct Entry {
-    Partition p;
-    std::uint64_t trace = 0;
-  };
-  Individualised(const Graph &g, const Partition &base) : g_(g), base_(base) { scratch_.reset(g.n); }
+  using Entry = IndividualisedEntry;
+  // `scratch` is clean and sized for at least g.n atoms; it may be shared
+  // with other Individualised objects, as refinements never interleave.
+  Individualised(const Graph &g, const Partition &base, EntryPool &pool, RefineScratch &scratch)
+      : g_(g), base_(base), pool_(pool), scratch_(scratch), made_(g.n, nullptr) {}
   const Entry &at(std::uint32_t atom) {
     auto &slot = made_[atom];
     if (!slot) {
-      slot = std::make_unique<Entry>();
+      slot = &pool_.take();
       slot->p = base_;
       slot->trace = detail::individualize(g_, slot->p, atom, scratch_);
     }
@@ -353,17 +413,37 @@ class Individualised {
  private:
   const Graph &g_;
   const Partition &base_;
-  RefineScratch scratch_;
-  std::unordered_map<std::uint32_t, std::unique_ptr<Entry>> made_;
+  EntryPool &pool_;
+  RefineScratch &scratch_;
+  std::vector<Entry *> made_;  // per atom, null until made
+};
+
+struct SearchLevel {
+  Partition q1, q2;
+};
+// Storage of automorphism searches that never run at the same time: the
+// partitions of each depth and the stamps of the final check.
+struct SearchLevels {
+  std::vector<std::unique_ptr<SearchLevel>> by_depth;
+  std::vector<std::uint32_t> seen;
+  std::vector<std::uint8_t> seen_order;
+  std::uint32_t stamp = 0;
 };
 
 // Searches for an automorphism mapping r to x. sign 0: graph only; +1: proper
 // symmetry (all configurations kept); -1: improper (tetrahedral ones inverted).
+// With stereo, one search looks for both kinds at once: the two share the
+// search tree and differ only in which branches the configurations prune, so
+// walking it once saves the second walk when no proper symmetry exists.
 class AutomorphismSearch {
  public:
+  // `stereo`: false, graph automorphisms only; true, proper or improper
+  // symmetries (at a leaf of the search a proper one is tried first).
   // `start` holds the base partition of a graph with g's structure.
-  AutomorphismSearch(const Graph &g, Individualised &start, int sign, long &budget)
-      : g_(g), start_(start), sign_(sign), budget_(budget), scratch_(start.scratch()) {}
+  // `levels` holds the partitions of each search depth; searches that never
+  // run at the same time may share it.
+  AutomorphismSearch(const Graph &g, Individualised &start, bool stereo, long &budget, SearchLevels &levels)
+      : g_(g), start_(start), stereo_(stereo), budget_(budget), scratch_(start.scratch()), levels_(levels) {}
 
   bool find(std::uint32_t r, std::uint32_t x, std::vector<std::uint32_t> &sigma) {
     // Refinement is deterministic and leaves its scratch clean, so a
@@ -373,7 +453,7 @@ class AutomorphismSearch {
     if (e1.trace != e2.trace) return false;
     local_budget_ = kNodesPerSearch;
     sigma.assign(g_.n, kUnset);
-    return search(e1.p, e2.p, sigma, 0);
+    return search(e1.p, e2.p, sigma, 0, stereo_ ? kBothSigns : 0u);
   }
   bool exhausted() const { return exhausted_; }
 
@@ -392,8 +472,11 @@ class AutomorphismSearch {
   }
 
   // -2 in an image means "not yet known"; a check with unknowns passes.
+  // Sign masks: which kinds of symmetry a branch may still yield.
+  static constexpr unsigned kProper = 1, kImproper = 2, kBothSigns = 3;
+
   template <class Map>
-  bool tetra_ok(const TetraConfig &t, Map &&map) const {
+  bool tetra_ok(const TetraConfig &t, Map &&map, int sign) const {
     const auto c = map(static_cast<std::int32_t>(t.centre));
     if (c == -2) return true;
     const auto ti = g_.tetra_of[static_cast<std::uint32_t>(c)];
@@ -404,7 +487,7 @@ class AutomorphismSearch {
       if (img[k] == -2) return true;
     }
     const bool even = even_permutation(img, g_.tetra[ti].lig);
-    return even == (sign_ > 0);
+    return even == (sign > 0);
   }
 
   template <class Map>
@@ -424,22 +507,32 @@ class AutomorphismSearch {
     return false;
   }
 
-  bool stereo_ok_partial(const Partition &p1, const Partition &p2) const {
-    if (sign_ == 0) return true;
+  // The signs of `mask` that the configurations mapped so far allow.
+  unsigned stereo_ok_partial(const Partition &p1, const Partition &p2, unsigned mask) const {
+    if (mask == 0) return 0;
     auto map = [&](std::int32_t a) { return image_of(p1, p2, a); };
-    for (const auto &t : g_.tetra)
-      if (!tetra_ok(t, map)) return false;
     for (const auto &d : g_.dbl)
-      if (!double_ok(d, map)) return false;
-    return true;
+      if (!double_ok(d, map)) return 0;
+    for (const auto &t : g_.tetra) {
+      if ((mask & kProper) && !tetra_ok(t, map, +1)) mask &= ~kProper;
+      if ((mask & kImproper) && !tetra_ok(t, map, -1)) mask &= ~kImproper;
+      if (mask == 0) return 0;
+    }
+    return mask;
   }
 
-  bool search(const Partition &p1, const Partition &p2, std::vector<std::uint32_t> &sigma, std::size_t depth) {
+  // `mask`: the signs still possible (0 for a search without stereo).
+  bool search(const Partition &p1, const Partition &p2, std::vector<std::uint32_t> &sigma, std::size_t depth,
+              unsigned mask) {
     if (--local_budget_ < 0 || --budget_ < 0) {
       exhausted_ = true;
       return false;
     }
-    if (!same_structure(p1, p2) || !stereo_ok_partial(p1, p2)) return false;
+    if (!same_structure(p1, p2)) return false;
+    if (stereo_) {
+      mask = stereo_ok_partial(p1, p2, mask);
+      if (mask == 0) return false;
+    }
     std::uint32_t target = kUnset;
     for (std::uint32_t s = 0; s < g_.n && target == kUnset; s = p1.end[s]) {
       if (p1.end[s] - s < 2) continue;
@@ -449,11 +542,14 @@ class AutomorphismSearch {
           break;
         }
     }
-    if (target == kUnset) return finish(p1, p2, sigma);
+    if (target == kUnset) {
+      if (!stereo_) return finish(p1, p2, sigma, 0);
+      return ((mask & kProper) && finish(p1, p2, sigma, +1)) || ((mask & kImproper) && finish(p1, p2, sigma, -1));
+    }
     // Partitions of this depth live in reused storage: copying into them
     // keeps their capacity, where fresh copies cost an allocation each.
-    if (levels_.size() <= depth) levels_.push_back(std::make_unique<Level>());
-    Level &lv = *levels_[depth];
+    if (levels_.by_depth.size() <= depth) levels_.by_depth.push_back(std::make_unique<SearchLevel>());
+    SearchLevel &lv = *levels_.by_depth[depth];
     Partition &q1 = lv.q1;
     q1 = p1;
     const std::uint32_t v = q1.elems[target];
@@ -463,7 +559,7 @@ class AutomorphismSearch {
       q2 = p2;
       const auto t2 = detail::individualize(g_, q2, p2.elems[k], scratch_);
       if (t1 != t2) continue;
-      if (search(q1, q2, sigma, depth + 1)) return true;
+      if (search(q1, q2, sigma, depth + 1, mask)) return true;
       if (exhausted_) return false;
     }
     return false;
@@ -472,7 +568,8 @@ class AutomorphismSearch {
   // All non-leaf atoms are mapped; the remaining cells are sets of equal
   // leaves on one parent. Pick for each set a bijection that suits the local
   // stereo, then verify the whole map.
-  bool finish(const Partition &p1, const Partition &p2, std::vector<std::uint32_t> &sigma) {
+  // `sign` as for the search: 0, +1 or -1.
+  bool finish(const Partition &p1, const Partition &p2, std::vector<std::uint32_t> &sigma, int sign) {
     std::fill(sigma.begin(), sigma.end(), kUnset);
     for (std::uint32_t s = 0; s < g_.n; s = p1.end[s])
       if (p1.end[s] - s == 1) sigma[p1.elems[s]] = p2.elems[s];
@@ -488,7 +585,7 @@ class AutomorphismSearch {
       auto &images = images_;
       images.assign(p2.elems.begin() + s, p2.elems.begin() + e);
       std::sort(images.begin(), images.end());
-      const bool enumerate = sign_ != 0 && images.size() <= 6;
+      const bool enumerate = sign != 0 && images.size() <= 6;
       bool placed = false;
       do {
         for (std::uint32_t k = s; k < e; ++k) sigma[p1.elems[k]] = images[k - s];
@@ -497,7 +594,7 @@ class AutomorphismSearch {
           break;
         }
         bool ok = true;
-        if (g_.tetra_of[parent] >= 0) ok = tetra_ok(g_.tetra[g_.tetra_of[parent]], map);
+        if (g_.tetra_of[parent] >= 0) ok = tetra_ok(g_.tetra[g_.tetra_of[parent]], map, sign);
         for (auto di : g_.dbl_of[parent]) ok = ok && double_ok(g_.dbl[di], map);
         if (ok) {
           placed = true;
@@ -506,50 +603,73 @@ class AutomorphismSearch {
       } while (std::next_permutation(images.begin(), images.end()));
       if (!placed) return false;
     }
+    // Every bond a-b must map to a bond sigma(a)-sigma(b) of the same order:
+    // stamp sigma(a)'s neighbours with their orders, then look each image up
+    // (a search per bond cost more than the rest of this check).
+    auto &seen = levels_.seen;
+    auto &seen_order = levels_.seen_order;
+    if (seen.size() < g_.n) {
+      seen.assign(g_.n, 0);
+      seen_order.assign(g_.n, 0);
+    }
     for (std::uint32_t a = 0; a < g_.n; ++a) {
       if (sigma[a] == kUnset || g_.colour[a] != g_.colour[sigma[a]]) return false;
-      for (std::uint32_t k = g_.off[a]; k < g_.off[a + 1]; ++k)
-        if (g_.bond(sigma[a], sigma[g_.nbr[k]]) != g_.order[k]) return false;
+      if (++levels_.stamp == 0) {
+        std::fill(seen.begin(), seen.end(), 0);
+        levels_.stamp = 1;
+      }
+      const std::uint32_t stamp = levels_.stamp, y = sigma[a];
+      for (std::uint32_t k = g_.off[y]; k < g_.off[y + 1]; ++k) {
+        seen[g_.nbr[k]] = stamp;
+        seen_order[g_.nbr[k]] = g_.order[k];
+      }
+      for (std::uint32_t k = g_.off[a]; k < g_.off[a + 1]; ++k) {
+        const std::uint32_t b = sigma[g_.nbr[k]];
+        if (b == kUnset || seen[b] != stamp || seen_order[b] != g_.order[k]) return false;
+      }
     }
-    if (sign_ != 0) {
+    if (sign != 0) {
       for (const auto &t : g_.tetra)
-        if (!tetra_ok(t, map)) return false;
+        if (!tetra_ok(t, map, sign)) return false;
       for (const auto &d : g_.dbl)
         if (!double_ok(d, map)) return false;
     }
     return true;
   }
 
-  struct Level {
-    Partition q1, q2;
-  };
-
   const Graph &g_;
   Individualised &start_;
-  int sign_;
+  bool stereo_;
   long &budget_;
   long local_budget_ = 0;
   bool exhausted_ = false;
   RefineScratch &scratch_;
   std::vector<std::uint32_t> images_;           // finish(): one cell's images
-  std::vector<std::unique_ptr<Level>> levels_;  // by search depth
+  SearchLevels &levels_;                        // by search depth
 };
 
 void unite_cycles(UnionFind &uf, const std::vector<std::uint32_t> &sigma) {
   for (std::uint32_t a = 0; a < sigma.size(); ++a) uf.unite(a, sigma[a]);
 }
 
+// Groups of atoms kept flat: group k is atoms[start[k]..start[k + 1]).
+struct Groups {
+  std::vector<std::uint32_t> atoms, start;
+  std::size_t size() const { return start.empty() ? 0 : start.size() - 1; }
+};
+
 // Orbits of one graph. `cells` are candidate groups (each orbit lies inside
-// one); signs are the kinds of automorphism allowed.
-void orbits(const Graph &g, Individualised &start, const std::vector<std::vector<std::uint32_t>> &cells,
-            std::initializer_list<int> signs, UnionFind &uf, long &budget, bool &exhausted) {
-  std::vector<std::uint32_t> sigma;
-  std::vector<AutomorphismSearch> searches;
-  for (int s : signs) searches.emplace_back(g, start, s, budget);
-  for (const auto &cell : cells) {
-    if (cell.size() < 2) continue;
-    std::vector<std::uint32_t> reps{cell[0]};
-    for (std::size_t i = 1; i < cell.size(); ++i) {
+// one); signs are the kinds of automorphism allowed. `sigma` and `reps` are
+// scratch.
+void orbits(const Graph &g, Individualised &start, const Groups &cells, bool stereo, UnionFind &uf, long &budget,
+            bool &exhausted, SearchLevels &levels, std::vector<std::uint32_t> &sigma, std::vector<std::uint32_t> &reps) {
+  AutomorphismSearch search(g, start, stereo, budget, levels);
+  for (std::size_t c = 0; c < cells.size(); ++c) {
+    const std::uint32_t *cell = cells.atoms.data() + cells.start[c];
+    const std::size_t cell_size = cells.start[c + 1] - cells.start[c];
+    if (cell_size < 2) continue;
+    reps.assign(1, cell[0]);
+    for (std::size_t i = 1; i < cell_size; ++i) {
       const auto x = cell[i];
       bool merged = false;
       for (auto r : reps) {
@@ -557,15 +677,12 @@ void orbits(const Graph &g, Individualised &start, const std::vector<std::vector
           merged = true;
           break;
         }
-        for (auto &search : searches) {
-          if (search.find(r, x, sigma)) {
-            unite_cycles(uf, sigma);
-            merged = true;
-            break;
-          }
-          exhausted |= search.exhausted();
+        if (search.find(r, x, sigma)) {
+          unite_cycles(uf, sigma);
+          merged = true;
+          break;
         }
-        if (merged) break;
+        exhausted |= search.exhausted();
       }
       if (!merged) reps.push_back(x);
     }
@@ -594,24 +711,30 @@ void unite_twins(const Graph &g, UnionFind &uf, std::size_t min_size) {
 }
 
 // Atoms grouped by their `within` value (groups with one atom left out, as
-// they need no search), each group in atom order.
-std::vector<std::vector<std::uint32_t>> groups_of(std::uint32_t n, const std::vector<std::uint32_t> &within) {
+// they need no search), groups by increasing value, each in atom order.
+// Written over `out`; `count` and `fill` are scratch.
+void groups_of(std::uint32_t n, const std::vector<std::uint32_t> &within, Groups &out,
+               std::vector<std::uint32_t> &count, std::vector<std::uint32_t> &fill) {
   // Values are atom or cell indices: bucket them instead of sorting.
+  out.atoms.clear();
+  out.start.assign(1, 0);
+  if (n == 0) return;
   std::uint32_t top = 0;
   for (std::uint32_t a = 0; a < n; ++a) top = std::max(top, within[a]);
-  std::vector<std::uint32_t> count(std::size_t{top} + 1, 0);
+  count.assign(std::size_t{top} + 1, 0);
   for (std::uint32_t a = 0; a < n; ++a) ++count[within[a]];
-  std::vector<std::uint32_t> slot(std::size_t{top} + 1, kUnset);
-  std::vector<std::vector<std::uint32_t>> out;
-  for (std::uint32_t v = 0; v <= top && n > 0; ++v)
+  // fill[v]: next free place of value v's group, kUnset for values left out.
+  fill.assign(std::size_t{top} + 1, kUnset);
+  std::uint32_t total = 0;
+  for (std::uint32_t v = 0; v <= top; ++v)
     if (count[v] > 1) {
-      slot[v] = static_cast<std::uint32_t>(out.size());
-      out.emplace_back();
-      out.back().reserve(count[v]);
+      fill[v] = total;
+      total += count[v];
+      out.start.push_back(total);
     }
+  out.atoms.resize(total);
   for (std::uint32_t a = 0; a < n; ++a)
-    if (slot[within[a]] != kUnset) out[slot[within[a]]].push_back(a);
-  return out;
+    if (fill[within[a]] != kUnset) out.atoms[fill[within[a]]++] = a;
 }
 
 std::vector<std::uint32_t> dense_ids(UnionFind &uf, std::uint32_t n, std::uint32_t &count) {
@@ -640,6 +763,63 @@ std::vector<std::uint64_t> fragment_signature(const Graph &g, const Partition &p
   return sig;
 }
 
+// Buffers of compute_classes() that keep their capacity from one molecule to
+// the next on the same thread (allocating them per molecule cost about as
+// much as the searches on a typical one).
+struct Workspace {
+  Graph whole;
+  Partition pw, canon;
+  RefineScratch scratch, canon_scratch, search_scratch;
+  EntryPool entries;
+  SearchLevels levels;
+  Groups groups;
+  std::vector<std::uint32_t> all, local_of, sigma, reps, count, fill, within;
+};
+
+// Lends the calling thread's Workspace for one compute_classes() call; a
+// nested call (none is made today) gets a fresh one.
+class WorkspaceLease {
+ public:
+  WorkspaceLease() {
+    Slot &slot = thread_slot();
+    if (!slot.busy) {
+      slot.busy = true;
+      borrowed_ = &slot;
+      ws_ = &slot.ws;
+    } else {
+      own_ = std::make_unique<Workspace>();
+      ws_ = own_.get();
+    }
+    ws_->entries.used = 0;
+  }
+  WorkspaceLease(const WorkspaceLease &) = delete;
+  WorkspaceLease &operator=(const WorkspaceLease &) = delete;
+  ~WorkspaceLease() {
+    if (!borrowed_) return;
+    // Keep the buffers a typical molecule needs, but give back what a large
+    // one took (the pooled partitions grow with atoms x searches).
+    constexpr std::size_t kKeepAtoms = 4096, kKeepPooledSlots = std::size_t{1} << 18;
+    const std::size_t atoms = ws_->whole.n;
+    if (atoms > kKeepAtoms || atoms * (ws_->entries.entries.size() + 2 * ws_->levels.by_depth.size()) > kKeepPooledSlots)
+      borrowed_->ws = Workspace();
+    borrowed_->busy = false;
+  }
+  Workspace &operator*() const noexcept { return *ws_; }
+
+ private:
+  struct Slot {
+    Workspace ws;
+    bool busy = false;
+  };
+  static Slot &thread_slot() {
+    thread_local Slot slot;
+    return slot;
+  }
+  Slot *borrowed_ = nullptr;
+  Workspace *ws_ = nullptr;
+  std::unique_ptr<Workspace> own_;
+};
+
 }  // namespace
 
 AtomClasses compute_classes(const Molecule &m) {
@@ -648,17 +828,24 @@ AtomClasses compute_classes(const Molecule &m) {
   if (n == 0) return out;
   long budget = kNodesPerMolecule;
   bool exhausted = false;
+  const WorkspaceLease lease;
+  Workspace &ws = *lease;
 
-  std::vector<std::uint32_t> all(n);
+  std::vector<std::uint32_t> &all = ws.all;
+  all.resize(n);
   std::iota(all.begin(), all.end(), 0u);
-  std::vector<std::uint32_t> local_of(n, kUnset);
+  std::vector<std::uint32_t> &local_of = ws.local_of;
+  local_of.assign(n, kUnset);
   StereoModel none;
 
   // Invariant ranks over the whole molecule (order independent by construction).
-  Graph whole = build_structure(m, all, local_of);
-  Partition pw;
-  RefineScratch scratch;
+  Graph &whole = ws.whole;
+  build_structure(m, all, local_of, whole);
+  Partition &pw = ws.pw;
+  RefineScratch &scratch = ws.scratch;
   detail::initial_partition(whole, pw, scratch);
+  // Sized for the whole molecule, so it serves every fragment and pair of fragments.
+  ws.search_scratch.reset(n);
   out.invariant_rank.resize(n);
   for (std::uint32_t a = 0; a < n; ++a) out.invariant_rank[a] = pw.cell[a];
 
@@ -691,12 +878,11 @@ AtomClasses compute_classes(const Molecule &m) {
       frag_part.push_back(&own_part.back());
     }
     const Graph &g = *frag_graph.back();
-    frag_start.push_back(std::make_unique<Individualised>(g, *frag_part.back()));
+    frag_start.push_back(std::make_unique<Individualised>(g, *frag_part.back(), ws.entries, ws.search_scratch));
     UnionFind uf(g.n);
     unite_twins(g, uf, 2);
-    std::vector<std::uint32_t> cellid(g.n);
-    for (std::uint32_t a = 0; a < g.n; ++a) cellid[a] = frag_part.back()->cell[a];
-    orbits(g, *frag_start.back(), groups_of(g.n, cellid), {0}, uf, budget, exhausted);
+    groups_of(g.n, frag_part.back()->cell, ws.groups, ws.count, ws.fill);
+    orbits(g, *frag_start.back(), ws.groups, false, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps);
     for (std::uint32_t a = 0; a < g.n; ++a) topo_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
 
@@ -708,7 +894,8 @@ AtomClasses compute_classes(const Molecule &m) {
 
   std::uint32_t tcount = 0;
   auto topo_pre = dense_ids(topo_uf, n, tcount);
-  const StereoModel sm = build_stereo(m, canonical_positions(whole, pw), topo_pre);
+  ws.canon = pw;
+  const StereoModel sm = build_stereo(m, canonical_positions(whole, ws.canon, ws.canon_scratch), topo_pre);
 
   // The topological searches are done: each fragment graph takes its
   // configurations and serves as the stereo graph.
@@ -717,9 +904,11 @@ AtomClasses compute_classes(const Molecule &m) {
     add_stereo(sm, g, local_of);
     UnionFind uf(g.n);
     unite_twins(g, uf, 3);
-    std::vector<std::uint32_t> within(g.n);
+    std::vector<std::uint32_t> &within = ws.within;
+    within.resize(g.n);
     for (std::uint32_t a = 0; a < g.n; ++a) within[a] = topo_uf.find(g.global[a]);
-    orbits(g, *frag_start[f], groups_of(g.n, within), {+1, -1}, uf, budget, exhausted);
+    groups_of(g.n, within, ws.groups, ws.count, ws.fill);
+    orbits(g, *frag_start[f], ws.groups, true, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps);
     for (std::uint32_t a = 0; a < g.n; ++a) chem_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
 
@@ -738,18 +927,17 @@ AtomClasses compute_classes(const Molecule &m) {
         const std::uint32_t r = 0;
         const auto first_b = static_cast<std::uint32_t>(frag_atoms[fs[0]].size());
         bool found = false;
-        Individualised start(g, p);
-        for (int sign : pass == 0 ? std::vector<int>{0} : std::vector<int>{+1, -1}) {
-          AutomorphismSearch search(g, start, sign, budget);
-          for (std::uint32_t x = first_b; x < g.n && !found; ++x) {
-            if (p.cell[x] != p.cell[r]) continue;
-            if (search.find(r, x, sigma)) {
-              for (std::uint32_t a = 0; a < g.n; ++a) target.unite(g.global[a], g.global[sigma[a]]);
-              found = true;
-            }
-            exhausted |= search.exhausted();
+        Individualised start(g, p, ws.entries, ws.search_scratch);
+        // Any symmetry found will do: with the orbits inside each copy
+        // known, a proper and an improper one merge the same classes.
+        AutomorphismSearch search(g, start, pass != 0, budget, ws.levels);
+        for (std::uint32_t x = first_b; x < g.n && !found; ++x) {
+          if (p.cell[x] != p.cell[r]) continue;
+          if (search.find(r, x, sigma)) {
+            for (std::uint32_t a = 0; a < g.n; ++a) target.unite(g.global[a], g.global[sigma[a]]);
+            found = true;
           }
-          if (found) break;
+          exhausted |= search.exhausted();
         }
       }
     }

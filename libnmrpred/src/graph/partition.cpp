@@ -1,7 +1,6 @@
 #include "graph/partition.hpp"
 
 #include <algorithm>
-#include <functional>
 #include <numeric>
 
 namespace nmrpred::detail {
@@ -18,27 +17,79 @@ inline std::uint64_t mix(std::uint64_t h, std::uint64_t v) {
 }
 
 void push(RefineScratch &s, std::uint32_t start) {
-  if (!s.in_stack[start]) {
-    s.in_stack[start] = 1;
-    s.stack.push_back(start);
-    std::push_heap(s.stack.begin(), s.stack.end(), std::greater<std::uint32_t>());
+  const std::uint32_t w = start >> 6;
+  const std::uint64_t bit = std::uint64_t{1} << (start & 63);
+  if (!(s.pending[w] & bit)) {
+    s.pending[w] |= bit;
+    ++s.pending_count;
+    if (w < s.pending_low) s.pending_low = w;
   }
+}
+
+// Index of the lowest set bit of a non-zero word.
+inline std::uint32_t lowest_bit(std::uint64_t x) noexcept {
+#if defined(__GNUC__) || defined(__clang__)
+  return static_cast<std::uint32_t>(__builtin_ctzll(x));
+#else
+  std::uint32_t b = 0;
+  while (!(x & 1u)) {
+    x >>= 1;
+    ++b;
+  }
+  return b;
+#endif
+}
+
+// Removes and returns the lowest pending cell start (there is one).
+std::uint32_t pop_lowest(RefineScratch &s) {
+  std::uint32_t w = s.pending_low;
+  while (s.pending[w] == 0) ++w;
+  s.pending_low = w;
+  const auto b = lowest_bit(s.pending[w]);
+  s.pending[w] &= s.pending[w] - 1;
+  --s.pending_count;
+  return w * 64 + b;
+}
+
+// Sorts the touched atoms by (cell, key, atom). The three go into one
+// 128-bit record first, so comparisons read no other array.
+void sort_touched(const Partition &p, RefineScratch &s) {
+  const std::size_t t = s.touched_atoms.size();
+  if (t < 2) return;
+  s.sort_buf.resize(t);
+  RefineScratch::SortItem *v = s.sort_buf.data();
+  for (std::size_t i = 0; i < t; ++i) {
+    const std::uint32_t b = s.touched_atoms[i];
+    const std::uint64_t key = s.key[b];
+    v[i].hi = std::uint64_t{p.cell[b]} << 32 | key >> 32;
+    v[i].lo = key << 32 | b;
+  }
+  auto less = [](const RefineScratch::SortItem &x, const RefineScratch::SortItem &y) {
+    return x.hi != y.hi ? x.hi < y.hi : x.lo < y.lo;
+  };
+  if (t <= 16) {
+    for (std::size_t i = 1; i < t; ++i) {
+      const RefineScratch::SortItem x = v[i];
+      std::size_t j = i;
+      for (; j > 0 && less(x, v[j - 1]); --j) v[j] = v[j - 1];
+      v[j] = x;
+    }
+  } else {
+    std::sort(v, v + t, less);
+  }
+  for (std::size_t i = 0; i < t; ++i) s.touched_atoms[i] = static_cast<std::uint32_t>(v[i].lo);
 }
 
 // Coarsest equitable refinement (Hopcroft-style: after a cell has served as a
 // splitter, only the smaller pieces of its later splits need to serve again).
 std::uint64_t refine(const Graph &g, Partition &p, RefineScratch &s) {
   std::uint64_t trace = 0xCBF29CE484222325ull;
-  while (!s.stack.empty()) {
+  while (s.pending_count > 0) {
     // Lowest start first keeps the sequence a function of the partition alone.
-    std::pop_heap(s.stack.begin(), s.stack.end(), std::greater<std::uint32_t>());
-    const std::uint32_t w = s.stack.back();
-    s.stack.pop_back();
-    s.in_stack[w] = 0;
+    const std::uint32_t w = pop_lowest(s);
     const std::uint32_t wend = p.end[w];
 
     s.touched_atoms.clear();
-    s.touched_cells.clear();
     for (std::uint32_t k = w; k < wend; ++k) {
       const std::uint32_t a = p.elems[k];
       for (std::uint32_t e = g.off[a]; e < g.off[a + 1]; ++e) {
@@ -47,14 +98,26 @@ std::uint64_t refine(const Graph &g, Partition &p, RefineScratch &s) {
         s.key[b] += kOrderWeight[g.order[e]];
       }
     }
+    // Atoms of singleton cells cannot split. They leave the list before the
+    // sort (late in a refinement most touched atoms are such) and enter the
+    // trace as a sum, which needs no order and so stays an invariant.
+    std::uint64_t singles = 0;
+    std::size_t kept = 0;
+    for (std::uint32_t b : s.touched_atoms) {
+      const std::uint32_t c = p.cell[b];
+      if (p.end[c] - c == 1) {
+        singles += mix(c, s.key[b]);
+        s.key[b] = 0;
+      } else {
+        s.touched_atoms[kept++] = b;
+      }
+    }
+    s.touched_atoms.resize(kept);
+    trace = mix(trace, singles);
     // Group the touched atoms by cell, in key order within a cell; atoms of a
     // cell that were not touched keep key 0 and stay where they are, so a
     // split costs the touched atoms only, not the whole cell.
-    std::sort(s.touched_atoms.begin(), s.touched_atoms.end(), [&](std::uint32_t a, std::uint32_t b) {
-      if (p.cell[a] != p.cell[b]) return p.cell[a] < p.cell[b];
-      if (s.key[a] != s.key[b]) return s.key[a] < s.key[b];
-      return a < b;
-    });
+    sort_touched(p, s);
     trace = mix(trace, w);
     for (std::size_t g0 = 0; g0 < s.touched_atoms.size();) {
       const std::uint32_t c = p.cell[s.touched_atoms[g0]];
@@ -80,7 +143,7 @@ std::uint64_t refine(const Graph &g, Partition &p, RefineScratch &s) {
         p.elems[q] = b;
         p.pos[b] = q;
       }
-      const bool was_pending = s.in_stack[c] != 0;
+      const bool was_pending = s.is_pending(c);
       std::uint32_t largest_start = c, largest_size = 0;
       auto close_run = [&](std::uint32_t run, std::uint32_t k, std::uint64_t key) {
         p.end[run] = k;
@@ -121,15 +184,14 @@ std::uint8_t Graph::bond(std::uint32_t a, std::uint32_t b) const {
 
 void RefineScratch::reset(std::uint32_t n) {
   key.assign(n, 0);
-  cell_mark.assign(n, 0);
-  in_stack.assign(n, 0);
+  pending.assign(n / 64 + 1, 0);
+  pending_count = 0;
+  pending_low = 0;
   touched_atoms.clear();
-  touched_cells.clear();
-  stack.clear();
   // Each holds at most n entries; growing them push by push costs more
   // allocations than a refinement does work on small molecules.
   touched_atoms.reserve(n);
-  stack.reserve(n);
+  sort_buf.reserve(n);
 }
 
 std::uint64_t initial_partition(const Graph &g, Partition &p, RefineScratch &s) {
@@ -172,7 +234,7 @@ std::uint64_t individualize(const Graph &g, Partition &p, std::uint32_t atom, Re
   p.end[c] = c + 1;
   p.end[c + 1] = e;
   for (std::uint32_t q = c + 1; q < e; ++q) p.cell[p.elems[q]] = c + 1;
-  if (s.in_stack[c]) push(s, c + 1);
+  if (s.is_pending(c)) push(s, c + 1);
   push(s, c);
   return mix(c, refine(g, p, s));
 }

@@ -59,9 +59,17 @@ struct Partition {
 // Reusable buffers for refine(); one per thread of work.
 struct RefineScratch {
   std::vector<std::uint64_t> key;
-  std::vector<char> cell_mark;
-  std::vector<char> in_stack;
-  std::vector<std::uint32_t> touched_atoms, touched_cells, stack;
+  std::vector<std::uint32_t> touched_atoms;
+  struct SortItem {
+    std::uint64_t hi, lo;
+  };
+  std::vector<SortItem> sort_buf;  // touched atoms with their sort keys
+  // Cell starts waiting to serve as splitters, one bit each: taking the
+  // lowest is a scan of a word or two, cheaper than a heap.
+  std::vector<std::uint64_t> pending;
+  std::uint32_t pending_count = 0;
+  std::uint32_t pending_low = 0;  // no bit set in words below this one
+  bool is_pending(std::uint32_t start) const { return (pending[start >> 6] >> (start & 63)) & 1u; }
   void reset(std::uint32_t n);
 };
 
