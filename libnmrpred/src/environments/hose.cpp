@@ -29,6 +29,7 @@
 #include <array>
 #include <charconv>
 #include <cstdint>
+#include <cstring>
 #include <memory>
 #include <type_traits>
 #include <string>
@@ -138,6 +139,51 @@ inline char *put_token(char *p, std::uint32_t token) noexcept {
   }
   const std::uint32_t charge = token & 0xFFFu;
   return charge ? put_charge(p, rank_charge(charge)) : p;
+}
+
+// Text of the tokens most entries are: any bond with an uncharged element of
+// kPriorityElements, or a ring closure. write_text() copies four bytes and
+// advances by the length instead of branching per character.
+struct ShortTokenText {
+  char text[4];
+  std::uint8_t len;
+};
+constexpr std::size_t kShortKinds = kPrioritySymbols.size() + 1;  // the last one is '&'
+
+constexpr std::array<ShortTokenText, 4 * kShortKinds> make_short_tokens() {
+  std::array<ShortTokenText, 4 * kShortKinds> t{};
+  for (std::size_t bond = 0; bond < 4; ++bond) {
+    for (std::size_t kind = 0; kind < kShortKinds; ++kind) {
+      ShortTokenText &e = t[bond * kShortKinds + kind];
+      std::uint8_t n = 0;
+      if (bond < 3) e.text[n++] = kBondSymbols[bond];
+      if (kind + 1 == kShortKinds) {
+        e.text[n++] = '&';
+      } else {
+        const char *sym = kPrioritySymbols[kind];
+        for (std::size_t i = 0; sym[i] != 0; ++i) e.text[n++] = sym[i];
+      }
+      e.len = n;
+    }
+  }
+  return t;
+}
+constexpr std::array<ShortTokenText, 4 * kShortKinds> kShortTokens = make_short_tokens();
+
+// put_token() for a buffer with at least four bytes of room after `p`.
+inline char *put_token_padded(char *p, std::uint32_t token) noexcept {
+  const std::uint32_t bond = token >> 24;
+  const std::uint32_t kind = (token >> 12) & 0xFFFu;
+  const std::uint32_t charge = token & 0xFFFu;
+  std::uint32_t slot = kShortKinds;  // none
+  if (kind == kRingClosureKind)
+    slot = kShortKinds - 1;
+  else if (kind < kPrioritySymbols.size() && charge == 0)
+    slot = kind;
+  if (slot == kShortKinds || bond > 3) return put_token(p, token);
+  const ShortTokenText &e = kShortTokens[bond * kShortKinds + slot];
+  std::memcpy(p, e.text, 4);
+  return p + e.len;
 }
 
 bool is_real(std::uint32_t token) noexcept { return ((token >> 12) & 0xFFFu) != kRingClosureKind; }
@@ -358,7 +404,8 @@ class Engine {
   // allocation.
   void write_text() {
     const Frame &f = frames_[0];
-    text_.resize(f.out.size() * kTokenTextMax + 1);
+    // Room for every token at its longest, plus the over-write of put_token_padded().
+    text_.resize(f.out.size() * kTokenTextMax + 4);
     char *const begin = text_.data();
     char *p = begin;
     text_off_[0] = 0;
@@ -369,7 +416,7 @@ class Engine {
         if (f.out[i] == kEndOfGroup) {
           if (i + 1 < e) *p++ = ',';
         } else {
-          p = put_token(p, f.out[i]);
+          p = put_token_padded(p, f.out[i]);
         }
       }
       text_off_[static_cast<std::size_t>(s)] = static_cast<std::uint32_t>(p - begin);
@@ -411,38 +458,40 @@ class Engine {
     }
   }
 
-  // Text of sphere `s` (1-based) from the last write_text().
-  void append_sphere(std::string &out, int s) const {
-    out.append(text_.data() + text_off_[static_cast<std::size_t>(s - 1)], sphere_size(s));
-  }
-
   // `head`, then sphere `outer` unless it is 0, then spheres `first`..`last`
   // in brackets separated by '/' (no brackets if first > last).
-  std::string assemble(const char *head, std::size_t head_len, int outer, int first, int last) const {
+  std::string assemble(const char *head, std::size_t head_len, int outer, int first, int last) {
     std::size_t total = head_len + (outer > 0 ? sphere_size(outer) : 0);
     if (first <= last)
       total += 2 + static_cast<std::size_t>(last - first) +
                (text_off_[static_cast<std::size_t>(last)] - text_off_[static_cast<std::size_t>(first - 1)]);
-    std::string s;
-    s.reserve(total);
-    s.append(head, head_len);
-    if (outer > 0) append_sphere(s, outer);
+    // Written into scratch first, so the result costs one allocation and one
+    // copy rather than a string append per piece.
+    code_buf_.reserve(total);
+    char *const begin = code_buf_.data();
+    char *p = begin;
+    auto put = [&p](const char *src, std::size_t n) {
+      std::memcpy(p, src, n);
+      p += n;
+    };
+    put(head, head_len);
+    if (outer > 0) put(text_.data() + text_off_[static_cast<std::size_t>(outer - 1)], sphere_size(outer));
     if (first <= last) {
-      s += '(';
+      *p++ = '(';
       for (int k = first; k <= last; ++k) {
-        if (k > first) s += '/';
-        append_sphere(s, k);
+        if (k > first) *p++ = '/';
+        put(text_.data() + text_off_[static_cast<std::size_t>(k - 1)], sphere_size(k));
       }
-      s += ')';
+      *p++ = ')';
     }
-    return s;
+    return std::string(begin, p);
   }
 
   // For a hydrogen bonded to the last centre X by `bond`: its code. Seen from
   // the hydrogen, sphere 1 is X and sphere k+1 is X's sphere k, because
   // hydrogens are never written; codes being prefix-stable, X's first n-1
   // spheres are those of its own (n-1)-sphere code.
-  std::string hydrogen_code(std::uint32_t h, std::uint32_t centre, BondOrder bond) const {
+  std::string hydrogen_code(std::uint32_t h, std::uint32_t centre, BondOrder bond) {
     char head[kCentreTextMax + 1 + kTokenTextMax];
     char *p = put_centre(head, h);
     *p++ = ';';
@@ -472,7 +521,7 @@ class Engine {
   }
 
   // Code of the last centre, from write_text().
-  std::string code(std::uint32_t centre) const {
+  std::string code(std::uint32_t centre) {
     char head[kCentreTextMax + 1];
     char *p = put_centre(head, centre);
     *p++ = ';';
@@ -496,27 +545,40 @@ class Engine {
       for (Place &pl : place_) pl.stamp = 0;
       cur_ = 1;
     }
-    region_.clear();
-    region_.push_back(centre);
-    place_[centre].stamp = cur_;
-    place_[centre].level = 0;
-    place_[centre].local = 0;
+    // The region holds each atom at most once, so it fits in atom_count()
+    // slots; plain pointers in the walk keep the compiler from reloading the
+    // buffers after every store.
+    region_.reserve(place_.size());
+    std::uint32_t *const region = region_.data();
+    Place *const place = place_.data();
+    const Neighbour *const adj = adj_.data();
+    const std::uint32_t *const adj_off = adj_off_.data();
+    const std::uint32_t stamp = cur_;
+    std::uint32_t size = 0;
+    region[size++] = centre;
+    place[centre].stamp = stamp;
+    place[centre].level = 0;
+    place[centre].local = 0;
     level_start_[0] = 0;
     level_start_[1] = 1;
     for (int d = 0; d < n_; ++d) {
-      for (std::uint32_t i = level_start_[d]; i < level_start_[d + 1]; ++i) {
-        const std::uint32_t a = region_[i];
-        for (std::uint32_t k = adj_off_[a]; k < adj_off_[a + 1]; ++k) {
-          const std::uint32_t z = adj_[k].atom;
-          if (place_[z].stamp == cur_) continue;
-          place_[z].stamp = cur_;
-          place_[z].level = static_cast<std::uint8_t>(d + 1);
-          place_[z].local = static_cast<std::uint32_t>(region_.size());
-          region_.push_back(z);
+      const std::uint32_t end = level_start_[d + 1];
+      const auto level = static_cast<std::uint8_t>(d + 1);
+      for (std::uint32_t i = level_start_[d]; i < end; ++i) {
+        const std::uint32_t a = region[i];
+        for (std::uint32_t k = adj_off[a]; k < adj_off[a + 1]; ++k) {
+          const std::uint32_t z = adj[k].atom;
+          Place &pz = place[z];
+          if (pz.stamp == stamp) continue;
+          pz.stamp = stamp;
+          pz.level = level;
+          pz.local = size;
+          region[size++] = z;
         }
       }
-      level_start_[d + 2] = static_cast<std::uint32_t>(region_.size());
+      level_start_[d + 2] = size;
     }
+    region_.set_size(size);
   }
 
   // A branch with nothing to write after its own (empty) group.
@@ -1121,6 +1183,7 @@ class Engine {
   SmallVec<std::uint32_t, 64> block_off_;
   SmallVec<std::uint32_t, 256> pool_;
   SmallVec<char, 512> text_;
+  SmallVec<char, 256> code_buf_;  // one code being assembled
   std::array<std::uint32_t, kMaxHoseSpheres + 1> text_off_{};
   SmallVec<std::uint32_t, 64> member_stamp_;
   SmallVec<std::uint32_t, 64> mark_;  // stamps of step_fixed(): expanded or written
