@@ -3,7 +3,10 @@
 // same constitution left out of the lookup) and compared with its assigned
 // shifts. Prints overall and per-class figures; asserts nothing.
 //
-//   build/bin/nmrpred_loo_shifts [--increments-only] [--1h]
+//   build/bin/nmrpred_loo_shifts [--increments-only] [--1h] [--worst N]
+//
+// --worst N lists the N largest errors (default 10), each with its sign
+// (prediction minus reference value) in brackets.
 
 #include <nmrpred/classes.hpp>
 #include <nmrpred/io.hpp>
@@ -13,6 +16,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <cstdlib>
 #include <cstring>
 #include <map>
 #include <string>
@@ -79,7 +83,7 @@ std::string proton_type(const nmrpred::Molecule &m, std::size_t heavy) {
   return hetero ? "alkyl next to heteroatom" : "alkyl";
 }
 
-int run_h1(const nmrpred::Tables &tables, const nmrpred::ShiftOptions &opt) {
+int run_h1(const nmrpred::Tables &tables, const nmrpred::ShiftOptions &opt, std::size_t n_worst) {
   Stats all;
   std::map<std::string, Stats> by_type, by_source;
   std::vector<std::pair<double, std::string>> worst;
@@ -125,7 +129,10 @@ int run_h1(const nmrpred::Tables &tables, const nmrpred::ShiftOptions &opt) {
                               (s->method.find("corrected") != std::string::npos ? " corrected" : " direct")
                         : (s->source == nmrpred::ShiftSourceKind::Increments ? "increments" : "class average")]
               .add(e, s->uncertainty_ppm);
-          worst.emplace_back(std::fabs(e), rc.id + " H on atom " + std::to_string(heavy) + " (" + s->method + ")");
+          char signed_e[32];
+          std::snprintf(signed_e, sizeof signed_e, "%+.2f", e);
+          worst.emplace_back(std::fabs(e), rc.id + " H on atom " + std::to_string(heavy) + " [" + signed_e + "] (" +
+                                               s->method + ")");
         }
       }
     }
@@ -137,7 +144,7 @@ int run_h1(const nmrpred::Tables &tables, const nmrpred::ShiftOptions &opt) {
   for (const auto &kv : by_source) kv.second.print(kv.first.c_str(), 0.5);
   std::sort(worst.rbegin(), worst.rend());
   std::printf("largest errors:\n");
-  for (std::size_t i = 0; i < 10 && i < worst.size(); ++i) std::printf("  %6.2f  %s\n", worst[i].first, worst[i].second.c_str());
+  for (std::size_t i = 0; i < n_worst && i < worst.size(); ++i) std::printf("  %6.2f  %s\n", worst[i].first, worst[i].second.c_str());
   return 0;
 }
 
@@ -145,12 +152,14 @@ int main(int argc, char **argv) {
   nmrpred::ShiftOptions opt;
   opt.blind = true;
   bool h1 = false;
+  std::size_t n_worst = 10;
   for (int i = 1; i < argc; ++i) {
     if (std::strcmp(argv[i], "--increments-only") == 0) opt.use_reference = false;
     if (std::strcmp(argv[i], "--1h") == 0) h1 = true;
+    if (std::strcmp(argv[i], "--worst") == 0 && i + 1 < argc) n_worst = std::strtoul(argv[++i], nullptr, 10);
   }
   const auto tables = nmrpred::Tables::builtin();
-  if (h1) return run_h1(*tables, opt);
+  if (h1) return run_h1(*tables, opt, n_worst);
   Stats all;
   std::map<std::string, Stats> by_type, by_h, by_source;
   std::vector<std::pair<double, std::string>> worst;
@@ -179,7 +188,9 @@ int main(int argc, char **argv) {
                             (s->method.find("corrected") != std::string::npos ? " corrected" : " direct")
                       : (s->source == nmrpred::ShiftSourceKind::Increments ? "increments" : "class average")]
             .add(e, s->uncertainty_ppm);
-        worst.emplace_back(std::fabs(e), rc.id + " atom " + std::to_string(a) + " (" + s->method + ")");
+        char signed_e[32];
+        std::snprintf(signed_e, sizeof signed_e, "%+.1f", e);
+        worst.emplace_back(std::fabs(e), rc.id + " atom " + std::to_string(a) + " [" + signed_e + "] (" + s->method + ")");
       }
     }
   }
@@ -191,6 +202,6 @@ int main(int argc, char **argv) {
   for (const auto &kv : by_source) kv.second.print(kv.first.c_str(), 5.0);
   std::sort(worst.rbegin(), worst.rend());
   std::printf("largest errors:\n");
-  for (std::size_t i = 0; i < 10 && i < worst.size(); ++i) std::printf("  %6.1f  %s\n", worst[i].first, worst[i].second.c_str());
+  for (std::size_t i = 0; i < n_worst && i < worst.size(); ++i) std::printf("  %6.1f  %s\n", worst[i].first, worst[i].second.c_str());
   return 0;
 }

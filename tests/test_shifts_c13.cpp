@@ -182,6 +182,33 @@ TEST_SUITE("shifts") {
     });
   }
 
+  TEST_CASE("carbonyl subclasses, tert-alkyl classes and alkyne substituent rows give their published values") {
+    check_rows({
+        {"O=C1C=CC(=O)C=C1", 1, 187.0, 3.0, "PRETSCH-2009 (from memory), 1,4-benzoquinone", {"quinone"}},
+        {"CCOC(=O)CC(=O)OCC", 3, 166.9, 3.0, "PRETSCH-2009 (from memory), diethyl malonate",
+         {"ester-alpha-acceptor"}},
+        {"O=C1CCCC1", 1, 219.6, 3.0, "PRETSCH-2009 (from memory), cyclopentanone", {"ketone-cyclopentanone"}},
+        {"O=Cc1ccco1", 1, 177.9, 3.0, "PRETSCH-2009 (from memory), furfural", {"aldehyde-heteroaryl5"}},
+        {"CC(=O)OC(C)(C)C", 4, 80.3, 3.0, "PRETSCH-2009 (from memory), tert-butyl acetate", {"tert-alkyl-ocor"}},
+        {"c1ccc(cc1)C#Cc1ccccc1", 6, 89.4, 2.0, "PRETSCH-2009 (from memory), diphenylacetylene",
+         {"alkyne increments", "ipso alkyne-phenyl 11.8", "partner alkyne-phenyl 5.3"}},
+    });
+  }
+
+  TEST_CASE("2-substituent rows of furan and thiophene add up for the 2,5-disubstituted rings") {
+    // The rows are 2-methylfuran and 2-methylthiophene minus the parent; the
+    // 5-methyl group uses them mirrored (tables/FORMAT.md).
+    check_rows({
+        {"Cc1ccc(C)o1", 1, 150.2, 1.0, "PRETSCH-2009 (from memory), 2,5-dimethylfuran C2",
+         {"furan-2-ch3-c2 9.2", "furan-2-ch3-c5 -1.8"}},
+        {"Cc1ccc(C)o1", 2, 105.9, 1.0, "PRETSCH-2009 (from memory), 2,5-dimethylfuran C3", {"furan-2-ch3-c3"}},
+        {"Cc1ccc(C)s1", 1, 137.3, 1.0, "PRETSCH-2009 (from memory), 2,5-dimethylthiophene C2",
+         {"thiophene-2-ch3-c2"}},
+        {"Cc1ccc(C)s1", 2, 125.0, 1.0, "PRETSCH-2009 (from memory), 2,5-dimethylthiophene C3",
+         {"thiophene-2-ch3-c3"}},
+    });
+  }
+
   TEST_CASE("carbons outside every scheme are passed on to the class average") {
     // tables/FORMAT.md: an alkene with one substituent on each carbon needs
     // its E/Z configuration; a benzene substituent without a row is not
@@ -255,7 +282,8 @@ TEST_SUITE("shifts") {
     check_rows({
         {"ClC(Cl)Cl", 1, 77.2, 3.0, "GOTTLIEB-1997 (from memory)", {"chloroform", "chcl3 77.2"}},
         {"ClCCl", 1, 53.5, 3.0, "GOTTLIEB-1997 (from memory)", {"ch2cl2 53.8"}},
-        {"CC1(C)OCCO1", 1, 108.7, 3.0, "PRETSCH-2009 (from memory); 2,2-dimethyl-1,3-dioxolane C2", {"ketal 107"}},
+        {"CC1(C)OCCO1", 1, 108.7, 3.0, "PRETSCH-2009 (from memory); 2,2-dimethyl-1,3-dioxolane C2", {"ketal 108.5"}},
+        {"CC(C)(OC)OC", 1, 99.9, 3.0, "PRETSCH-2009 (from memory); 2,2-dimethoxypropane C2", {"ketal-acyclic 100.5"}},
         {"FC(F)(F)c1ccccc1", 1, 124.3, 3.0, "PRETSCH-2009 (from memory)", {"cf3-c 124"}},
     });
   }

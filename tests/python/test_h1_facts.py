@@ -50,6 +50,8 @@ REASONS = [
     ("[c;!H0](:c[OX2,NX3]):c[OX2,NX3]", "aromatic protons between two donors lie near 6 ppm"),
     ("[c;!H0](:c-[NX3,OX2]):c:c:c-[NX3,OX2]", "aromatic protons ortho to one amino/hydroxy group and para to "
                                               "another lie at 5.7-6.2 ppm (benzene-1,3-diamines)"),
+    ("[c;!H0]:c(-[NX3,OX2]):n:c-[NX3,OX2]", "pyrimidine H5 ortho to one amino/alkoxy group and para to another "
+                                            "(2,4-diaminopyrimidines, cytosines) lies at 5.6-6.0 ppm"),
     ("[c;!H0](:c-C(=O)[OX2]):c-C(=O)[OX2]", "protons between two carboxy or ester groups (isophthalates, "
                                             "trimesic acid) lie at 8.6-9.0 ppm"),
     ("[c;!H0;r5]", "five-membered heteroaromatic protons lie at 6-7.5 ppm, pyrrole/furan beta down to 6"),

@@ -685,6 +685,10 @@ SPECIAL_CASES = [
     ("CCOC=O", 3, "CDCl3", 8.03, "formyl-ester", "PRETSCH-2009 (from memory)"),
     ("C#Cc1ccccc1", 0, "CDCl3", 3.07, "alkyne-aryl", "PRETSCH-2009 (from memory)"),
     ("C#CCCCC", 0, "CDCl3", 1.94, "alkyne-alkyl", "PRETSCH-2009 (from memory)"),
+    ("C[Si](C)(C)O[Si](C)(C)C", 0, "CDCl3", 0.07, "si-methyl", "FULMER-2010 (from memory)"),
+    ("C1CC1", 0, "CDCl3", 0.22, "cyclopropane-ch2", "PRETSCH-2009 (from memory)"),
+    ("C1CO1", 0, "CDCl3", 2.54, "oxirane-ch2", "PRETSCH-2009 (from memory)"),
+    ("CC1CO1", 1, "CDCl3", 2.97, "oxirane-ch", "PRETSCH-2009 (from memory)"),
 ]
 
 

@@ -54,6 +54,11 @@ constexpr Spread kBenzeneSpread{0.08, 0.06};
 // Heteroaromatic base values: the parent itself, then per ring substituent
 // the table gives no increment for.
 constexpr Spread kHeteroSpread{0.06, 0.28};
+// Added in quadrature per benzene increment carried over to a heteroaromatic
+// or fused parent ring (tables/FORMAT.md, h1_heteroaromatic): calibrated with
+// the leave-one-out benchmark (benchmarks/loo_shifts.cpp --1h
+// --increments-only) on the substituted heteroaromatic reference protons.
+constexpr double kCarriedOverPpm = 0.15;
 // Added in quadrature when an alkene's geometry had to be assumed.
 constexpr double kAssumedGeometryPpm = 0.3;
 // Added in quadrature for a C=C in a five-membered ring (cyclopentenes,
@@ -701,12 +706,51 @@ class H1Increments final : public ShiftSource {
       if (nitrogens >= 2 && n_substituted) return std::nullopt;
       Sum s(fmt::format("heteroaromatic base value ({}, position {})", row.ring, row.position), kHeteroSpread);
       s.base(fmt::format("{} {}", row.id, fmt_ppm(row.ppm)), row.ppm);
-      if (substituents > 0)
+      // Substituents on ring carbons take the benzene increment for their
+      // relation to the proton, counted in bonds inside the parent
+      // (tables/FORMAT.md, h1_heteroaromatic); the rest are not accounted for.
+      const int unaccounted = substituents - carry_benzene_terms(t, k, map, in_ring, s);
+      if (unaccounted > 0)
         s.note(fmt::format("{} ring substituent{} not accounted for: the table gives no increments for this ring",
-                           substituents, substituents == 1 ? "" : "s"));
-      return from_sum(s, substituents);
+                           unaccounted, unaccounted == 1 ? "" : "s"));
+      return from_sum(s, unaccounted);
     }
     return std::nullopt;
+  }
+
+  // Adds to `s` the benzene increments of the groups on the aromatic ring
+  // carbons of parent match `map` (ring atoms flagged in `in_ring`) that lie
+  // one to three bonds from the proton's carbon k inside the parent, and
+  // returns how many groups it accounted for. Each carried-over term widens
+  // the uncertainty by kCarriedOverPpm. A group without a benzene row, one
+  // closing another ring, or one farther away is left out (the caller says so).
+  int carry_benzene_terms(const SmartsTarget &t, std::size_t k, const std::vector<std::uint32_t> &map,
+                          const std::vector<bool> &in_ring, Sum &s) const {
+    const Molecule &m = t.molecule();
+    if (!tab_.benzene.present) return 0;
+    std::vector<int> dist(m.atom_count(), -1);
+    dist[k] = 0;
+    std::vector<std::size_t> queue{k};
+    for (std::size_t i = 0; i < queue.size(); ++i)
+      for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
+        if (in_ring[z] && dist[z] < 0) dist[z] = dist[queue[i]] + 1, queue.push_back(z);
+      });
+    const char *const relation[] = {"", "ortho", "meta", "para"};
+    int carried = 0;
+    for (auto a : map) {
+      const auto &at = m.atom(a);
+      if (at.atomic_number != 6 || !at.aromatic || dist[a] < 1 || dist[a] > 3) continue;
+      for_heavy_neighbours(m, a, [&](std::size_t x, BondOrder) {
+        if (in_ring[x] || in_one_ring(t, {a, x})) return;
+        const auto *b = first_row(tab_.benzene.rows, t, x, in_ring);
+        if (!b) return;
+        const auto rel = static_cast<std::size_t>(dist[a]);
+        s.add(fmt::format("{} (carried over)", relation[rel]), b->id, b->by_relation[rel]);
+        s.widen(kCarriedOverPpm);
+        ++carried;
+      });
+    }
+    return carried;
   }
 
   // --- alkenes (Pascual-Meier-Simon) -----------------------------------------
