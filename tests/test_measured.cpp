@@ -21,6 +21,7 @@
 #include <nmrpred/io.hpp>
 #include <nmrpred/measured.hpp>
 #include <nmrpred/predict.hpp>
+#include <nmrpred/spin.hpp>
 #include <nmrpred/tables.hpp>
 
 #include <nlohmann/json.hpp>
@@ -201,6 +202,39 @@ TEST_SUITE("measured") {
           CHECK(p.position < input.size());
           CHECK(input.compare(p.position, p.text.size(), p.text) == 0);
         }
+    }
+  }
+
+  TEST_CASE("issue 5: a quintet is written \"p\" as simulated multiplets are, and read in every spelling") {
+    // Common practice: "p", "quint", "quin", "pent" and the words "quintet" /
+    // "pentet" all name a 1:4:6:4:1 quintet; the library writes one letter,
+    // the one its simulated multiplets use.
+    nmrpred::SpinSystem sys{{nmrpred::Spin{}}, {}};
+    sys.spins[0].shift_ppm = 1.6;
+    for (std::size_t k = 1; k <= 4; ++k) {
+      nmrpred::Spin partner;
+      partner.shift_ppm = 3.4;
+      partner.equivalence_class = 1;
+      sys.spins.push_back(partner);
+      sys.couplings.push_back({0, k, 7.4});
+    }
+    const auto sim = nmrpred::simulate(sys, nmrpred::SpinNucleus::H1);
+    std::string simulated;
+    for (const auto &m : sim.multiplets)
+      if (m.atoms == std::vector<std::size_t>{0}) simulated = m.label;
+    CHECK(simulated == "p");
+    for (const char *written : {"p", "quint", "quin", "pent", "quintet", "pentet", "dquint", "quintd"}) {
+      INFO(written << " [common practice]");
+      const std::string text = std::string("1H NMR (CDCl3) δ 1.62 (") + written + ", J = 7.4 Hz, 2H).";
+      const auto got = nmrpred::parse_measured(text);
+      REQUIRE(got.size() == 1);
+      REQUIRE(got[0].peaks.size() == 1);
+      const std::string want = std::string(written).find('d') == 0   ? "dp"
+                               : std::string(written).back() == 'd' ? "pd"
+                                                                   : "p";
+      CHECK(got[0].peaks[0].multiplicity == want);
+      // Written back in the library's spelling.
+      CHECK(nmrpred::format_measured(got[0]).find("(" + want + ",") != std::string::npos);
     }
   }
 

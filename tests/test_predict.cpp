@@ -894,8 +894,11 @@ TEST_SUITE("predict") {
 
     // At 40 MHz the two halves are about 50 Hz apart, some six J: each half
     // leans towards the other (roof effect [CP-J]), so the lines nearer the
-    // partner carry more intensity than those farther away, and the pattern
-    // is second order, written "m" [CP-J].
+    // partner carry more intensity than those farther away. The pattern is
+    // second order; the halves are as far apart (in J) as those of
+    // 4-chlorotoluene at 400 MHz, which papers write as doublets, so the
+    // label may read "d" as well as "m" (issue 5: the label describes how
+    // the signal looks) but nothing else [CP-J].
     PredictOptions low;
     low.field_mhz = 40;
     const auto lo = predict_smiles("COc1ccc(cc1)[N+](=O)[O-]", builtin_tables(), low);
@@ -906,7 +909,7 @@ TEST_SUITE("predict") {
     const double mid = (ring40[0]->ppm + ring40[1]->ppm) / 2;
     for (const auto *g : ring40) {
       INFO("ring signal at ", g->ppm, " (40 MHz)");
-      CHECK(g->multiplicity == "m");
+      CHECK((g->multiplicity == "m" || g->multiplicity == "d"));
       double inner = 0, outer = 0;
       for (const auto &l : g->lines) (std::abs(l.ppm - mid) < std::abs(g->ppm - mid) ? inner : outer) += l.intensity;
       CHECK(inner > outer * 1.1);

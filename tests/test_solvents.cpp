@@ -29,12 +29,12 @@ TEST_SUITE("solvents") {
     const auto tables = nmrpred::Tables::builtin();
     const Row rows[] = {
         {"CDCl3", 7.26, 77.16, 1.56, "s", "t", "FULMER-2010 (from memory)"},
-        {"DMSO-d6", 2.50, 39.52, 3.33, "quint", "sept", "FULMER-2010 (from memory)"},
-        {"CD3OD", 3.31, 49.00, 4.87, "quint", "sept", "FULMER-2010 (from memory)"},
+        {"DMSO-d6", 2.50, 39.52, 3.33, "p", "sept", "FULMER-2010 (from memory)"},
+        {"CD3OD", 3.31, 49.00, 4.87, "p", "sept", "FULMER-2010 (from memory)"},
         {"D2O", 4.79, -1, 4.79, "s", "", "FULMER-2010 (from memory)"},
-        {"acetone-d6", 2.05, 29.84, 2.84, "quint", "sept", "FULMER-2010 (from memory)"},
+        {"acetone-d6", 2.05, 29.84, 2.84, "p", "sept", "FULMER-2010 (from memory)"},
         {"C6D6", 7.16, 128.06, 0.40, "s", "t", "FULMER-2010 (from memory)"},
-        {"CD3CN", 1.94, 1.32, 2.13, "quint", "sept", "FULMER-2010 (from memory)"},
+        {"CD3CN", 1.94, 1.32, 2.13, "p", "sept", "FULMER-2010 (from memory)"},
     };
     for (const auto &r : rows) {
       const std::string where = std::string(r.name) + "  " + r.source;

@@ -2,7 +2,7 @@
 // records, and the nmr_spectrum accessors (lines, multiplets, sampling,
 // JCAMP-DX, SVG, JSON).
 #include "internal.hpp"
-#include "spin_json.hpp"
+#include "sampling_defaults.hpp"
 
 #include <algorithm>
 #include <cmath>
@@ -95,7 +95,7 @@ int nmr_simulate_json(nmr_spectrum **out, nmr_context *ctx, const char *spin_sys
     nmrpred::SimulationOptions defaults;
     defaults.field_mhz = ctx->options.field_mhz;
     defaults.line_width_hz = ctx->options.line_width_hz;
-    const nmrpred::capi::SpinInput in = nmrpred::capi::parse_spin_system_json(spin_system_json, defaults);
+    const nmrpred::SpinSystemInput in = nmrpred::parse_spin_system_json(spin_system_json, defaults);
     auto spec = std::make_unique<nmr_spectrum>();
     spec->simulation = nmrpred::simulate(in.system, in.observe, in.options);
     spec->sampling = sampling_for(spec->simulation, ctx->spectrum, in.options.line_width_hz, spec->file_nucleus);

@@ -720,16 +720,16 @@ SOLVENT_VALUES = {
     "CD3CN": ([1.94], [1.32, 118.26], 2.13),
 }
 # Line counts from the 2nI+1 rule with I(2H) = 1 (common practice): residual
-# CHD2 groups give a 1:2:3:2:1 quintet in 1H; a carbon bearing n D gives
+# CHD2 groups give a 1:2:3:2:1 quintet ("p", the letter the library writes) in 1H; a carbon bearing n D gives
 # 2n+1 lines in 13C{1H}; carbons without D are singlets.
 SOLVENT_MULTIPLICITIES = {
     "CDCl3": (["s"], ["t"]),
-    "DMSO-d6": (["quint"], ["sept"]),
-    "CD3OD": (["quint"], ["sept"]),
-    "acetone-d6": (["quint"], ["sept", "s"]),
+    "DMSO-d6": (["p"], ["sept"]),
+    "CD3OD": (["p"], ["sept"]),
+    "acetone-d6": (["p"], ["sept", "s"]),
     "C6D6": (["br s"], ["t"]),
-    "CD3CN": (["quint"], ["sept", "s"]),
-    "CD2Cl2": (["t"], ["quint"]),
+    "CD3CN": (["p"], ["sept", "s"]),
+    "CD2Cl2": (["t"], ["p"]),
 }
 
 
@@ -760,7 +760,7 @@ def test_solvent_multiplicities(tables, name):
 
 
 def test_solvent_lists_line_up(tables):
-    mults = {"s", "br s", "t", "quint", "sept", "m"}
+    mults = {"s", "br s", "t", "p", "sept", "m"}
     for r in tables["solvents"].rows:
         for shifts, mult, j in (("h1_residual_ppm", "h1_multiplicity", "j_hd_hz"),
                                 ("c13_ppm", "c13_multiplicity", "j_cd_hz")):

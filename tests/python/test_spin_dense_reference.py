@@ -104,11 +104,13 @@ def compare(got, want, context):
         # Lines kept on one side are looked up among the other side's lines
         # down to half the threshold, so a line sitting on the threshold
         # cannot make the comparison flaky.
-        pool = np.array([x for x in theirs if x[1] >= 0.5 * DROP * top])
+        pool = np.array(sorted(x for x in theirs if x[1] >= 0.5 * DROP * top))
         for hz, inten in ours:
             if inten < DROP * top:
                 continue
-            k = int(np.argmin(np.abs(pool[:, 0] - hz)))
+            # Nearest line of the sorted pool: one of the two around hz.
+            k = int(np.searchsorted(pool[:, 0], hz))
+            k = min((c for c in (k - 1, k) if 0 <= c < len(pool)), key=lambda c: abs(pool[c, 0] - hz))
             assert abs(pool[k, 0] - hz) <= 0.01, f"{context}: {label}: line at {hz:.6f} Hz (nearest {pool[k, 0]:.6f})"
             assert abs(pool[k, 1] - inten) <= 1e-6 * inten, (
                 f"{context}: line at {hz:.6f} Hz: intensity {pool[k, 1]!r} vs {inten!r}")

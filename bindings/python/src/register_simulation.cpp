@@ -15,7 +15,7 @@
 #include <nmrpred/spectrum.hpp>
 #include <nmrpred/spin.hpp>
 
-#include "../../../capi/src/spin_json.hpp"
+#include "../../../capi/src/sampling_defaults.hpp"
 #include "register.hpp"
 
 namespace py = pybind11;
@@ -182,7 +182,7 @@ void register_simulation(py::module_ &m) {
         defaults.field_mhz = field_mhz;
         defaults.line_width_hz = line_width_hz;
         py::gil_scoped_release release;
-        const capi::SpinInput in = capi::parse_spin_system_json(text, defaults);
+        const SpinSystemInput in = parse_spin_system_json(text, defaults);
         return make(simulate(in.system, in.observe, in.options), in.options.line_width_hz, "");
       },
       py::arg("text"), py::arg("field_mhz"), py::arg("line_width_hz"),

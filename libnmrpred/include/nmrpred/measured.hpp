@@ -32,8 +32,9 @@ struct MeasuredPeak {
   std::optional<double> integral;
   /// Multiplicity as written, normalised to the trade's letters ("s", "d",
   /// "dd", "td", "m", "br s", ...); empty when not given. Long forms become
-  /// letters ("doublet of doublets" -> "dd"), "p"/"pentet"/"quintet" become
-  /// "quint", "hept"/"heptet"/"septet" become "sept", "bs"/"brs"/"br. s"/
+  /// letters ("doublet of doublets" -> "dd"), "quint"/"quin"/"pent"/"pentet"/
+  /// "quintet" become "p" (as in simulated multiplets), "hept"/"heptet"/
+  /// "septet" become "sept", "bs"/"brs"/"br. s"/
   /// "broad singlet" become "br s", "apparent t"/"app. t"/"pseudo-t" become
   /// "app t", "2 x d" (two overlapping doublets) stays "2 x d".
   std::string multiplicity;

@@ -22,7 +22,7 @@ namespace nmrpred {
 /// One residual signal of a solvent. Plain value.
 struct SolventSignal {
   double shift_ppm = 0;       ///< ppm from TMS
-  std::string multiplicity;   ///< "s", "br s", "m", "t" (1:1:1), "quint", "sept"
+  std::string multiplicity;   ///< "s", "br s", "m", "t" (1:1:1), "p" (quintet), "sept"
   double coupling_hz = 0;     ///< H-D or C-D coupling spacing the lines; 0 when none is given
 };
 

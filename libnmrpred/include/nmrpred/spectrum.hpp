@@ -151,7 +151,7 @@ struct SolventPeakOptions {
 ///
 /// The splitting comes from coupling to n equivalent deuterons (spin 1):
 /// n is read from the table's multiplicity as its 2n+1 lines ("s" 0, "t" 1,
-/// "quint"/"p" 2, "sept" 3) and the line intensities are the coefficients of
+/// "p" or "quint" 2, "sept" 3) and the line intensities are the coefficients of
 /// (1 + x + x^2)^n (1:1:1, 1:2:3:2:1, 1:3:6:7:6:3:1), spaced by the table's J
 /// in Hz. "br s" and "m" (a pattern the table does not resolve) become one
 /// line labelled "br s" / "br m". Water is one "br s" line; when it lies

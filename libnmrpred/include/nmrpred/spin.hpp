@@ -33,8 +33,29 @@
 ///     couplings to outside spins split the lines first-order (binomial or
 ///     multinomial patterns for groups, 1:1:1 for one spin-1 partner).
 ///  4. Lines closer than SimulationOptions::merge_tolerance_hz are merged.
+///     To bound time and memory, a list that would grow past a few million
+///     lines (a large exact cluster, or first-order splitting of many lines)
+///     is pooled instead on a grid of a tenth of the line width or coarser,
+///     with a warning; spectra drawn at that line width look the same.
 ///     Intensities are normalised so that the lines of the observed isotope add
 ///     up to the number of observed spins (each spin contributes 1).
+///  5. Multiplets: each line belongs to the spin whose polarisation changes
+///     most in the transition (a line that changes several spins equally,
+///     such as those of two spins of one shift in different signals, is
+///     shared equally), so every signal gets its lines and they add up to its
+///     number of spins. Its label describes the signal as drawn at
+///     SimulationOptions::line_width_hz (Lorentzian lines). The first-order
+///     pattern of its resolved couplings to weakly coupled partners
+///     (|delta nu| >= 3 |J|; couplings within a line width of each other
+///     count as equal), the same without its smallest splittings, and a
+///     singlet are drawn the same way; the one most like the signal gives the
+///     label if their cosine similarity is at least 0.95, or else a pattern
+///     whose peaks are the signal's highest ones (spacings within 15 % or
+///     half a line width, heights within a factor 1.6) while every other
+///     peak is below 45 % of the highest; otherwise "m". So the AA' half of
+///     a para-disubstituted benzene reads "d" at 400 MHz, while an ABC, an
+///     AB with |delta nu / J| below 3 or another strongly coupled signal
+///     reads "m".
 ///
 /// Conventions: frequencies in Hz from the reference (TMS for 1H, 2H and 13C)
 /// are shift_ppm times the observed isotope's frequency in MHz; a positive J
@@ -76,10 +97,14 @@ struct Multiplet {
   double ppm = 0;       ///< centre (intensity-weighted), ppm
   double ppm_low = 0;   ///< lowest line, ppm
   double ppm_high = 0;  ///< highest line, ppm
-  /// The trade's letters: "s", "d", "t", "q", "p", "sext", "sept", "dd", "dt",
-  /// "td", "ddd", "tt", "m", "br s".
+  /// The trade's letters: "s", "d", "t", "q", "p" (quintet), "sext", "sept",
+  /// "dd", "dt", "td", "ddd", "tt", "m", "br s"; simulate() writes the pattern
+  /// the signal looks like at the line width (see the file comment).
   std::string label;
-  std::vector<double> j_hz;  ///< resolved couplings behind the label, Hz, largest first
+  /// Couplings behind the label, Hz, largest first (one per splitting step:
+  /// the mean of the couplings that step stands for); empty for "s", "m" and
+  /// "br s".
+  std::vector<double> j_hz;
   double integral = 0;       ///< nuclei the signal stands for
   std::vector<std::size_t> atoms;  ///< atoms (molecule simulations) or spin indices (direct spin systems)
   std::vector<SpectralLine> lines; ///< the lines of this signal, by increasing ppm
@@ -219,6 +244,39 @@ struct Simulation {
 /// gives an empty spectrum and a warning. Thread rule: pure.
 NMRPRED_API Simulation simulate(const SpinSystem &system, SpinNucleus observe,
                                 const SimulationOptions &options = {});
+
+/// A spin system read from text, with the isotope to observe and the
+/// simulation settings. Plain value.
+struct SpinSystemInput {
+  SpinSystem system;
+  SpinNucleus observe = SpinNucleus::H1;
+  SimulationOptions options;
+};
+
+/// Reads a spin system written as JSON (UTF-8), the one format every interface
+/// accepts (`nmrpred simulate`, nmr_simulate_json(), Python simulate_json()):
+///   {"mhz": 400, "spins": [{"shift": 2.1, "nucleus": "1H"}, ...],
+///    "couplings": [[i, j, J_Hz], ...]}
+/// "mhz" is SimulationOptions::field_mhz and is required; optional keys
+/// "observe" (default "1H"), "line_width_hz", "weak_coupling_ratio",
+/// "max_block_size", "merge_tolerance_hz", "equivalent_shift_tolerance_ppm"
+/// set the other options (left out: SimulationOptions' defaults).
+/// A spin is {"shift": ppm} with optional "nucleus" (a spin_nucleus_name()),
+/// "class" (Spin::equivalence_class, integer >= 0) and "exchangeable"
+/// (boolean), or a bare number (a 1H shift); "couplings" may be left out.
+/// Throws ArgumentError whose message starts "spin system JSON:" and names the
+/// key, spin or coupling at fault: text that is not JSON, unknown keys, wrong
+/// types, negative indices, more than kMaxSpins spins. Ranges, indices and
+/// duplicates are checked by validate() (simulate() calls it), not here; a
+/// missing "mhz" is an error too.
+/// Thread rule: pure.
+NMRPRED_API SpinSystemInput parse_spin_system_json(std::string_view text);
+
+/// The same, for callers with settings of their own (a C context, Python
+/// keyword arguments): every key left out, "mhz" included, keeps its value
+/// in `defaults`. Throws as the other overload, except for a missing "mhz".
+/// Thread rule: pure.
+NMRPRED_API SpinSystemInput parse_spin_system_json(std::string_view text, const SimulationOptions &defaults);
 
 /// A spin system built from a molecule, with the atom behind each spin.
 struct MoleculeSpinSystem {

@@ -249,8 +249,14 @@ void heteronuclear_couplings(Engine &e, std::vector<Coupling> &out) {
                 "{} path {}: cis {} {} and trans {} {} averaged (the structure does not place "
                 "them): {}",
                 atom_label(m, x), rows[gc].path, rows[gc].id, hz(a), rows[gt].id, hz(b), hz(c.j_hz));
-            e.warn(fmt::format("{} and {}: cis/trans across the C=C not defined by the structure; J averaged",
-                               atom_label(m, x), atom_label(m, t)));
+            for (const auto &p : paths)
+              if (p.text == rows[gc].path) {
+                e.warn(fmt::format("C=C {}={}: cis/trans of {} to the protons across it not defined by the "
+                                   "structure; cis and trans J averaged",
+                                   atom_label(m, p.atoms[1]), atom_label(m, p.atoms[2]),
+                                   Molecule::element_symbol(zx)));
+                break;
+              }
           }
         }
         if (std::fabs(c.j_hz) < e.opt.min_abs_hz) continue;

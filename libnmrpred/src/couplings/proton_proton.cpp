@@ -433,7 +433,8 @@ std::optional<JEstimate> aromatic(Engine &e, int r, std::size_t c1, std::size_t 
     return std::nullopt;
   const auto *v = need(e, rule);
   if (!v) return std::nullopt;
-  e.warn(fmt::format("no couplings/hh_aromatic.tsv row for the ring {}: general aromatic values used", ring.text));
+  e.warn(fmt::format("no couplings/hh_aromatic.tsv row for {}-bond pairs of the aromatic ring {}: general values used",
+                     gap + 2, ring.text));
   return value(*v, fmt::format("aromatic ring {} without a row, {} bonds", ring.text, gap + 2));
 }
 

@@ -272,19 +272,20 @@ struct Step {
 };
 
 // Common practice: the trade's abbreviations for first-order multiplets.
-// "p"/"pent"/"quin" are written for a quintet and "hept" for a septet; they
-// are normalised to one spelling so that lists from different authors compare.
+// "quint"/"quin"/"pent" are written for a quintet and "hept" for a septet;
+// they are normalised to one spelling (the one simulated multiplets use: "p",
+// "sept") so that lists from different authors compare.
 constexpr Step kLetterSteps[] = {
-    {"quint", "quint"}, {"quin", "quint"}, {"pent", "quint"}, {"sext", "sext"}, {"sept", "sept"},
-    {"hept", "sept"},   {"d", "d"},        {"t", "t"},        {"q", "q"},       {"p", "quint"},
+    {"quint", "p"}, {"quin", "p"}, {"pent", "p"}, {"sext", "sext"}, {"sept", "sept"},
+    {"hept", "sept"}, {"d", "d"},  {"t", "t"},    {"q", "q"},       {"p", "p"},
 };
 
 constexpr Step kWordSteps[] = {
-    {"doublet", "d"},  {"triplet", "t"}, {"quartet", "q"}, {"quintet", "quint"}, {"pentet", "quint"},
+    {"doublet", "d"},  {"triplet", "t"}, {"quartet", "q"}, {"quintet", "p"}, {"pentet", "p"},
     {"sextet", "sext"}, {"septet", "sept"}, {"heptet", "sept"},
 };
 
-// "dd", "dtd", "dquint": a sequence of splitting steps written as letters.
+// "dd", "dtd", "dquint" (read as "dp"): a sequence of splitting steps written as letters.
 std::optional<std::string> letters_core(std::string_view w) {
   if (w == "s" || w == "m") return std::string(w);
   std::string out;

@@ -71,7 +71,7 @@ std::optional<Number> scan_number(const Source &src, std::size_t i, bool allow_s
 void reject_decimal_comma(const Source &src, std::size_t start, const Number &num);
 
 // The trade's multiplicity in normalised letters ("dd", "br s", "app t",
-// "quint", "2 x d", "ABq"), or nothing if `text` is not one.
+// "p", "2 x d", "ABq"), or nothing if `text` is not one.
 std::optional<std::string> normalize_multiplicity(std::string_view text);
 
 // A nucleus label such as "1H", "13C", "¹³C" (already normalised) as a

@@ -260,7 +260,7 @@ class CsvReader {
         }
         case Column::Multiplicity: {
           const auto m = normalize_multiplicity(c.value);
-          if (!m) fail(src_, c.b, "expected a multiplicity (s, d, t, q, quint, dd, m, br s, ...)");
+          if (!m) fail(src_, c.b, "expected a multiplicity (s, d, t, q, p, dd, m, br s, ...)");
           p.multiplicity = *m;
           break;
         }
@@ -636,7 +636,7 @@ class JsonReader {
       const std::string text(trim(normalize(v.get<std::string>()).s));
       if (!text.empty()) {
         const auto m = normalize_multiplicity(text);
-        if (!m) fail_path(child(path, "multiplicity"), "expected a multiplicity (s, d, t, q, quint, dd, m, br s, ...)");
+        if (!m) fail_path(child(path, "multiplicity"), "expected a multiplicity (s, d, t, q, p, dd, m, br s, ...)");
         p.multiplicity = *m;
       }
     }

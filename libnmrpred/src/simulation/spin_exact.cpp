@@ -18,6 +18,11 @@ namespace nmrpred::simulation::detail {
 
 namespace {
 
+/// Polarisation changes (of the total 1 a line carries) closer than this are
+/// equal: far above rounding (about 1e-15) and far below any real difference
+/// between spins (a shift difference of 1e-5 ppm against J = 10 Hz gives 1e-4).
+constexpr double kTiedChange = 1e-9;
+
 /// Coefficients of (1 + x + ... + x^twice_spin)^count / (twice_spin + 1)^count:
 /// the fraction of the product states of `count` spins with each total
 /// K = M + count*twice_spin/2. Normalised at every step, so that large groups
@@ -200,22 +205,28 @@ void solve_combination(const ExactProblem &problem, const std::vector<int> &f2, 
       lower.setFromTriplets(triplets.begin(), triplets.end());
       const Eigen::MatrixXd moved = lower * current.vectors;
       const Eigen::MatrixXd amplitude = previous.vectors.transpose() * moved;
+      std::vector<std::uint32_t> tied;
       for (Eigen::Index i = 0; i < n; ++i) {
         for (Eigen::Index f = 0; f < nf; ++f) {
           const double a = amplitude(f, i);
           const double intensity = a * a * weight;
           if (intensity < min_intensity) continue;
-          std::uint32_t best = 0;
           double best_change = -std::numeric_limits<double>::infinity();
-          for (std::size_t o = 0; o < observed.size(); ++o) {
-            const double change = current.polarisation(i, static_cast<Eigen::Index>(o)) -
-                                  previous.polarisation(f, static_cast<Eigen::Index>(o));
-            if (change > best_change) {
-              best_change = change;
-              best = static_cast<std::uint32_t>(observed[o]);
-            }
-          }
-          out.push_back({current.energy(i) - previous.energy(f), intensity, best});
+          for (std::size_t o = 0; o < observed.size(); ++o)
+            best_change = std::max(best_change, current.polarisation(i, static_cast<Eigen::Index>(o)) -
+                                                    previous.polarisation(f, static_cast<Eigen::Index>(o)));
+          // Groups whose polarisation changes equally (two spins of one shift
+          // but different signals, such as a diastereotopic CH2 predicted at
+          // one shift) share the line: giving it to the first would leave the
+          // other signal without lines (issue 5).
+          tied.clear();
+          for (std::size_t o = 0; o < observed.size(); ++o)
+            if (current.polarisation(i, static_cast<Eigen::Index>(o)) -
+                    previous.polarisation(f, static_cast<Eigen::Index>(o)) >=
+                best_change - kTiedChange)
+              tied.push_back(static_cast<std::uint32_t>(observed[o]));
+          const double share = intensity / static_cast<double>(tied.size());
+          for (std::uint32_t g : tied) out.push_back({current.energy(i) - previous.energy(f), share, g});
         }
       }
     }

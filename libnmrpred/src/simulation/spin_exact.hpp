@@ -26,7 +26,9 @@ struct ExactProblem {
 };
 
 /// One transition. `group` is the observed group whose polarisation changes
-/// most between the two states (the spin the line belongs to).
+/// most between the two states (the spin the line belongs to); a transition
+/// that changes several groups equally comes once per group, its intensity
+/// shared equally.
 struct RawLine {
   double hz = 0;
   double intensity = 0;  ///< normalised: the lines of each observed spin add up to 1

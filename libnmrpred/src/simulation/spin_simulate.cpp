@@ -16,6 +16,7 @@
 
 #include <nmrpred/error.hpp>
 
+#include "simulation/multiplet_reading.hpp"
 #include "simulation/spin_exact.hpp"
 
 namespace nmrpred {
@@ -39,13 +40,16 @@ constexpr double kMaxStates = 1 << 20;
 /// it) up to this cost (sum of block sizes cubed: about a 10-spin cluster), or
 /// 16 times the cost of the cluster alone, whichever is larger.
 constexpr double kPartnerCost = 4e7;
-/// First-order patterns (and the lines they split) are capped at this many
-/// lines; beyond it lines are pooled on a grid of a tenth of the line width.
+/// First-order patterns are capped at this many lines, and a cluster's lines
+/// times their patterns at kMaxSplitLines; beyond, lines are pooled on a grid
+/// of a tenth of the line width (coarser if needed), with a warning.
 constexpr std::size_t kMaxPatternLines = 20000;
-/// A resolved coupling partner of the same isotope closer than this many
-/// couplings in frequency makes a signal second-order ("m"). Common practice:
-/// at |delta nu / J| below about 3 lines move and change intensity too much for
-/// a first-order reading.
+constexpr std::size_t kMaxSplitLines = 4000000;
+/// A coupling partner of the same isotope closer than this many couplings in
+/// frequency is strongly coupled: its splitting is not read as a first-order
+/// step (the label then comes from how the signal looks). Common practice: at
+/// |delta nu / J| below about 3 lines move and change intensity too much for a
+/// first-order reading.
 constexpr double kSecondOrderRatio = 3.0;
 
 using Line = std::pair<double, double>;  // (Hz, intensity)
@@ -132,25 +136,6 @@ std::vector<double> multiply_sizes(const std::vector<double> &a, const std::vect
   for (std::size_t i = 0; i < a.size(); ++i)
     for (std::size_t j = 0; j < b.size(); ++j) out[i + j] += a[i] * b[j];
   return out;
-}
-
-struct Description {
-  std::string label;
-  std::vector<double> j_hz;
-};
-
-/// Letters for a splitting by `steps` spin-1/2 equivalents (a spin-1 partner
-/// counts 2): 2 lines "d", 3 "t", ... 7 "sept"; empty beyond.
-const char *letters(int steps) {
-  switch (steps) {
-    case 1: return "d";
-    case 2: return "t";
-    case 3: return "q";
-    case 4: return "p";
-    case 5: return "sext";
-    case 6: return "sept";
-    default: return "";
-  }
 }
 
 }  // namespace
@@ -484,7 +469,9 @@ Simulation simulate(const SpinSystem &system, SpinNucleus observe, const Simulat
       for (std::size_t g : cluster_groups[static_cast<std::size_t>(cand.second)])
         trial.push_back({groups[g].twice, static_cast<int>(groups[g].spins.size()), groups[g].hz, next_cluster});
       const ExactSize size = simulation::detail::exact_size(trial);
-      if (size.max_block > cap || size.states > kMaxStates || size.cost > budget) continue;
+      if (size.max_block > cap || size.states > kMaxStates || size.cost > budget ||
+          total_cost + size.cost > total_budget)
+        continue;
       problem.groups = std::move(trial);
       for (std::size_t g : cluster_groups[static_cast<std::size_t>(cand.second)]) problem_groups.push_back(g);
       ++next_cluster;
@@ -494,7 +481,9 @@ Simulation simulate(const SpinSystem &system, SpinNucleus observe, const Simulat
     for (std::size_t p = 0; p < np; ++p)
       for (std::size_t q = 0; q < np; ++q)
         if (p != q) problem.j_hz[p * np + q] = jg[problem_groups[p] * ng + problem_groups[q]];
-    const std::vector<RawLine> raw = simulation::detail::solve_exact(problem, kMinIntensity);
+    // Partners add to the total cost the caps bound.
+    total_cost += simulation::detail::exact_size(problem.groups).cost - cluster_cost[clusters.find(focal[0])];
+    std::vector<RawLine> raw = simulation::detail::solve_exact(problem, kMinIntensity);
 
     // Remaining outside groups split the lines first-order: all lines alike
     // where the coupling is equal across the cluster (exact), else by the
@@ -520,6 +509,26 @@ Simulation simulate(const SpinSystem &system, SpinNucleus observe, const Simulat
       own[f] = convolve(own[f], common);
       pooled |= cap_lines(own[f], options.merge_tolerance_hz, options.line_width_hz);
     }
+    // Bound the work of splitting: pool the lines of each group, then the
+    // patterns, on ever coarser grids until lines x patterns fits.
+    const auto split_size = [&] {
+      std::size_t total = 0;
+      for (const RawLine &r : raw) total += own[r.group].size();
+      return total;
+    };
+    for (double grid = options.line_width_hz / 10; split_size() > kMaxSplitLines; grid *= 2) {
+      pooled = true;
+      std::vector<RawLine> merged;
+      for (std::size_t f = 0; f < focal.size(); ++f) {
+        std::vector<Line> lines;
+        for (const RawLine &r : raw)
+          if (r.group == f) lines.emplace_back(r.hz, r.intensity);
+        merge_lines(lines, grid);
+        for (const Line &l : lines) merged.push_back({l.first, l.second, static_cast<std::uint32_t>(f)});
+        merge_lines(own[f], grid);
+      }
+      raw = std::move(merged);
+    }
     std::map<std::size_t, std::vector<Line>> cluster_lines;
     for (const RawLine &r : raw) {
       const std::size_t f = r.group;  // observed groups come first in the problem
@@ -541,8 +550,9 @@ Simulation simulate(const SpinSystem &system, SpinNucleus observe, const Simulat
         approximated));
   if (pooled)
     out.warnings.push_back(fmt::format(
-        "first-order patterns had more than {} lines: lines were pooled on a grid of a tenth of the line width",
-        kMaxPatternLines));
+        "first-order splitting would have made too many lines (over {} per pattern or {} per cluster): lines were "
+        "pooled on a grid of a tenth of the line width or coarser",
+        kMaxPatternLines, kMaxSplitLines));
 
   // Multiplets, one per chemical set of the observed isotope.
   std::vector<std::vector<std::size_t>> set_spins(*std::max_element(chem.begin(), chem.end()) + 1);
@@ -599,64 +609,43 @@ Simulation simulate(const SpinSystem &system, SpinNucleus observe, const Simulat
         m.ppm_high = std::max(m.ppm_high, l.first / mhz);
       }
 
-    // First-order description from the couplings of a representative spin.
+    // The label describes the signal as drawn at the line width: the
+    // first-order pattern of the representative spin's couplings to partners
+    // it is weakly coupled to (a strongly coupled partner's splitting does
+    // not show as such) is compared with it (multiplet_reading.hpp).
+    // Chemically equivalent spins that couple differently (AA'XX') and strong
+    // coupling thus read "m" only when the signal looks it.
     const double resolution = options.line_width_hz;
     const std::size_t rep = members[0];
-    const auto in_set = [&](std::size_t k) { return chem[k] == set; };
-    bool multiplet_m = false;
     if (std::all_of(members.begin(), members.end(), [&](std::size_t s) { return spins[s].exchangeable; })) {
       m.label = "br s";
     } else {
-      std::vector<std::pair<double, int>> partners;  // (|J|, 2I)
-      for (std::size_t k = 0; k < n && !multiplet_m; ++k) {
-        if (in_set(k)) continue;
-        const double j = jt[rep * n + k];
-        // Members of the set that couple differently (AA'XX'): no first-order reading.
-        for (std::size_t s : members)
-          if (std::fabs(jt[s * n + k] - j) >= resolution) multiplet_m = true;
-        if (std::fabs(j) < resolution) continue;
-        if (spins[k].nucleus == spins[rep].nucleus && std::fabs(hz[rep] - hz[k]) < kSecondOrderRatio * std::fabs(j))
-          multiplet_m = true;
-        partners.emplace_back(std::fabs(j), twice_spin(spins[k].nucleus));
+      std::vector<std::pair<double, int>> partners;  // (|J|, 2I) of weakly coupled partners
+      for (std::size_t k = 0; k < n; ++k) {
+        if (chem[k] == set) continue;
+        const double j = std::fabs(jt[rep * n + k]);
+        if (j < resolution) continue;
+        if (spins[k].nucleus == spins[rep].nucleus && std::fabs(hz[rep] - hz[k]) < kSecondOrderRatio * j) continue;
+        partners.emplace_back(j, twice_spin(spins[k].nucleus));
       }
-      std::sort(partners.begin(), partners.end(), [](const auto &a, const auto &b) { return a.first > b.first; });
-      // Couplings within one line width of each other look equal.
-      std::vector<std::pair<double, int>> steps;  // (mean |J|, spin-1/2 equivalents)
-      std::vector<double> sums;
-      std::vector<int> counts;
-      for (const auto &p : partners) {
-        if (steps.empty() || steps.back().first - p.first >= resolution) {
-          steps.emplace_back(p.first, 0);
-          sums.push_back(0);
-          counts.push_back(0);
+      std::stable_sort(partners.begin(), partners.end(), [](const auto &a, const auto &b) { return a.first > b.first; });
+      // Couplings within one line width of the step's largest look equal.
+      std::vector<simulation::detail::SplitStep> steps;
+      double first = 0, sum = 0;
+      for (const auto &[j, twice] : partners) {
+        if (steps.empty() || first - j >= resolution) {
+          if (!steps.empty()) steps.back().j_hz = sum / static_cast<double>(steps.back().partner_twice.size());
+          steps.emplace_back();
+          first = j;
+          sum = 0;
         }
-        steps.back().second += p.second;
-        sums.back() += p.first;
-        ++counts.back();
+        steps.back().partner_twice.push_back(twice);
+        sum += j;
       }
-      for (std::size_t s = 0; s < steps.size(); ++s) steps[s].first = sums[s] / counts[s];
-      std::string label;
-      if (!multiplet_m) {
-        if (steps.empty()) {
-          label = "s";
-        } else if (steps.size() == 1) {
-          label = letters(steps[0].second);
-        } else if (steps.size() <= 3) {
-          for (const auto &s : steps) {
-            if (s.second > 3) {
-              label.clear();
-              break;
-            }
-            label += letters(s.second);
-          }
-        }
-      }
-      if (label.empty()) {
-        m.label = "m";
-      } else {
-        m.label = label;
-        for (const auto &s : steps) m.j_hz.push_back(s.first);
-      }
+      if (!steps.empty()) steps.back().j_hz = sum / static_cast<double>(steps.back().partner_twice.size());
+      simulation::detail::Reading reading = simulation::detail::read_multiplet(lines, {steps}, resolution);
+      m.label = std::move(reading.label);
+      m.j_hz = std::move(reading.j_hz);
     }
     out.multiplets.push_back(std::move(m));
   }

@@ -1,15 +1,14 @@
-#include "spin_json.hpp"
-
-#include <algorithm>
-#include <cmath>
+// The spin-system JSON read by `nmrpred simulate`, nmr_simulate_json() and
+// the Python module (nmrpred/spin.hpp: parse_spin_system_json()).
 #include <cstdint>
 #include <string>
 
 #include <nlohmann/json.hpp>
 
 #include <nmrpred/error.hpp>
+#include <nmrpred/spin.hpp>
 
-namespace nmrpred::capi {
+namespace nmrpred {
 
 namespace {
 
@@ -31,7 +30,11 @@ std::size_t index(const json &v, const std::string &what) {
 
 SpinNucleus nucleus(const json &v, const std::string &what) {
   if (!v.is_string()) bad(what + " must be a string such as \"1H\"");
-  return parse_spin_nucleus(v.get<std::string>());
+  try {
+    return parse_spin_nucleus(v.get<std::string>());
+  } catch (const ArgumentError &e) {
+    bad(what + ": " + e.what());
+  }
 }
 
 Spin read_spin(const json &s, std::size_t i) {
@@ -60,9 +63,10 @@ Spin read_spin(const json &s, std::size_t i) {
   return spin;
 }
 
-}  // namespace
-
-SpinInput parse_spin_system_json(std::string_view text, const SimulationOptions &defaults) {
+/// Reads `text`; keys left out keep `defaults`, except "mhz" when
+/// `require_field` (the field places every line, so a reader with no context
+/// of its own must not guess it).
+SpinSystemInput parse(std::string_view text, const SimulationOptions &defaults, bool require_field) {
   json doc;
   try {
     doc = json::parse(text.begin(), text.end());
@@ -84,9 +88,12 @@ SpinInput parse_spin_system_json(std::string_view text, const SimulationOptions 
     for (const char *k : known) ok = ok || item.key() == k;
     if (!ok) bad("unknown key \"" + item.key() + "\"");
   }
-  SpinInput in;
+  SpinSystemInput in;
   in.options = defaults;
-  if (doc.contains("mhz")) in.options.field_mhz = number(doc["mhz"], "\"mhz\"");
+  if (doc.contains("mhz"))
+    in.options.field_mhz = number(doc["mhz"], "\"mhz\"");
+  else if (require_field)
+    bad("\"mhz\" (1H frequency of the spectrometer, MHz) is missing");
   if (doc.contains("observe")) in.observe = nucleus(doc["observe"], "\"observe\"");
   if (doc.contains("line_width_hz")) in.options.line_width_hz = number(doc["line_width_hz"], "\"line_width_hz\"");
   if (doc.contains("weak_coupling_ratio"))
@@ -117,37 +124,12 @@ SpinInput parse_spin_system_json(std::string_view text, const SimulationOptions 
   return in;
 }
 
-std::size_t default_points(double ppm_low, double ppm_high, double observe_mhz, double width_hz) {
-  const double needed = 4.0 * (ppm_high - ppm_low) * observe_mhz / width_hz + 1.0;
-  std::size_t points = 65536;
-  while (points < 4194304 && static_cast<double>(points) < needed) points *= 2;
-  return points;
+}  // namespace
+
+SpinSystemInput parse_spin_system_json(std::string_view text) { return parse(text, SimulationOptions{}, true); }
+
+SpinSystemInput parse_spin_system_json(std::string_view text, const SimulationOptions &defaults) {
+  return parse(text, defaults, false);
 }
 
-SamplingOptions default_sampling(const Simulation &sim, double line_width_hz, bool &file_nucleus) {
-  if (!std::isfinite(line_width_hz) || line_width_hz <= 0)
-    throw ArgumentError("line width must be a finite number of Hz > 0, got " + std::to_string(line_width_hz));
-  SamplingOptions o;
-  file_nucleus = sim.observed == SpinNucleus::H1 || sim.observed == SpinNucleus::C13;
-  if (file_nucleus) {
-    o = sampling_defaults(sim.observed == SpinNucleus::H1 ? Nucleus::H1 : Nucleus::C13, sim.observed_mhz);
-  } else {
-    o.field_mhz = sim.observed_mhz;
-    double lo = -1, hi = 1;
-    if (!sim.lines.empty()) {
-      lo = sim.lines.front().ppm;
-      hi = sim.lines.back().ppm;
-      const double pad = std::max(1.0, 0.1 * (hi - lo));
-      lo -= pad;
-      hi += pad;
-    }
-    o.ppm_low = lo;
-    o.ppm_high = hi;
-  }
-  o.line_width_hz = line_width_hz;
-  o.broad_line_width_hz = std::max(o.broad_line_width_hz, line_width_hz);
-  o.points = default_points(o.ppm_low, o.ppm_high, o.field_mhz, o.line_width_hz);
-  return o;
-}
-
-}  // namespace nmrpred::capi
+}  // namespace nmrpred
