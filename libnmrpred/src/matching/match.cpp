@@ -156,6 +156,54 @@ bool multiplicity_compatible(const std::vector<int> &observed, const std::vector
   return fits(merged, merged_j);
 }
 
+// The geminal coupling a predicted 1H signal hides: its protons share a carbon
+// with the protons of another signal (a diastereotopic CH2) predicted so
+// close that, at `mhz`, the pair is strongly coupled and the simulated pattern
+// shows no geminal splitting. Measured pairs usually do differ (common
+// practice: the two protons of a CH2 next to a stereocentre mostly give an
+// ABX "dd" each), so the geminal step may be seen where the prediction has
+// none. Returns |2J| in Hz, or nothing.
+std::optional<double> hidden_geminal_j(const Prediction &pred, const std::vector<Signal> &signals, std::size_t i,
+                                       double mhz) {
+  const Molecule &mol = pred.molecule;
+  for (std::size_t k = 0; k < signals.size(); ++k) {
+    if (k == i) continue;
+    for (std::size_t h : signals[i].atoms)
+      for (std::size_t g : signals[k].atoms) {
+        const auto c = mol.attached_to(h);
+        if (c < 0 || c != mol.attached_to(g)) continue;
+        double j = 14.0;  // a typical sp3 geminal |2J| when no coupling was predicted (common practice)
+        for (const auto &cp : pred.couplings)
+          if ((cp.a == std::min(h, g) && cp.b == std::max(h, g))) j = std::fabs(cp.j_hz);
+        if (std::fabs(signals[i].ppm - signals[k].ppm) * mhz < 3 * j) return j;
+      }
+  }
+  return std::nullopt;
+}
+
+// multiplicity_compatible(), also accepting the prediction with its hidden
+// geminal step (see hidden_geminal_j()) put back in coupling order.
+bool multiplicity_compatible_geminal(const std::vector<int> &observed, const std::vector<int> &predicted,
+                                     const std::vector<double> &j_hz, std::optional<double> geminal) {
+  if (multiplicity_compatible(observed, predicted, j_hz)) return true;
+  if (!geminal || j_hz.size() != predicted.size()) return false;
+  std::vector<int> steps;
+  std::vector<double> js;
+  bool placed = false;
+  for (std::size_t k = 0; k <= predicted.size(); ++k) {
+    if (!placed && (k == predicted.size() || j_hz[k] < *geminal)) {
+      steps.push_back(2);
+      js.push_back(*geminal);
+      placed = true;
+    }
+    if (k < predicted.size()) {
+      steps.push_back(predicted[k]);
+      js.push_back(j_hz[k]);
+    }
+  }
+  return multiplicity_compatible(observed, steps, js);
+}
+
 std::string format_ppm(Nucleus n, double v) { return n == Nucleus::H1 ? fmt::format("{:.2f}", v) : fmt::format("{:.1f}", v); }
 
 std::string format_peak(Nucleus n, const MeasuredPeak &p) {
@@ -333,13 +381,15 @@ SpectrumMatch match_spectrum(const Prediction &pred, const MeasuredSpectrum &sp,
     prob.missing[i] = signals[i].exchangeable ? 0.0 : opt.missing_cost;
   }
   std::vector<char> mult_bad(n * m, 0), dept_bad(n * m, 0);
+  const double mhz = sp.mhz && *sp.mhz > 0 ? *sp.mhz : pred.options.field_mhz;
   for (std::size_t i = 0; i < n; ++i) {
     const auto pm = multiplet_steps(normalized_multiplicity(signals[i].multiplicity));
+    const auto geminal = h1 && pm ? hidden_geminal_j(pred, signals, i, mhz) : std::nullopt;
     for (std::size_t j = 0; j < m; ++j) {
       double c = robust(residual_to(peaks[j], signals[i].ppm) / sd[i], opt.robust_nu);
       if (h1) {
         const auto om = multiplet_steps(normalized_multiplicity(peaks[j].multiplicity));
-        if (pm && om && !multiplicity_compatible(*om, *pm, signals[i].j_hz)) {
+        if (pm && om && !multiplicity_compatible_geminal(*om, *pm, signals[i].j_hz, geminal)) {
           c += opt.multiplicity_cost;
           mult_bad[i * m + j] = 1;
         }
