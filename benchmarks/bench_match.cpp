@@ -26,16 +26,13 @@
 #include <vector>
 
 
-#ifndef NMRPRED_BENCH_VERSION
-#define NMRPRED_BENCH_VERSION "unknown"
-#endif
-#ifndef NMRPRED_BENCH_BUILD_TYPE
-#define NMRPRED_BENCH_BUILD_TYPE "unknown"
-#endif
+#include "bench_common.hpp"
 
 namespace {
 
-using Clock = std::chrono::steady_clock;
+using nmrpred_bench::Clock;
+using nmrpred_bench::compiler;
+using nmrpred_bench::cpu_model;
 
 const char *const kCandidates[] = {
     "C(COC1=C(C=CC=C1)C2=CC=CC=C2)OC3=CC=CC=C3C4=CC=CC=C4",
@@ -49,17 +46,6 @@ const char *const kCandidates[] = {
     "CCCCCCCCCCCC(=O)OOC(=O)CCCCCCCCCCC",
     "CCN(CC)CCOC1=CC=C(NC(=S)NC2=CC=C(OCC(C)C)C=C2)C=C1",
 };
-
-std::string cpu_model() {
-  std::ifstream in("/proc/cpuinfo");
-  std::string line;
-  while (std::getline(in, line))
-    if (line.rfind("model name", 0) == 0) {
-      const auto colon = line.find(':');
-      if (colon != std::string::npos) return line.substr(colon + 2);
-    }
-  return "unknown CPU";
-}
 
 struct Timing {
   double median_ms = 0, min_ms = 0, max_ms = 0;

@@ -34,42 +34,18 @@
 
 #include <fmt/format.h>
 
-#ifndef NMRPRED_BENCH_VERSION
-#define NMRPRED_BENCH_VERSION "unknown"
-#endif
-#ifndef NMRPRED_BENCH_BUILD_TYPE
-#define NMRPRED_BENCH_BUILD_TYPE "unknown"
-#endif
+#include "bench_common.hpp"
 
 namespace {
 
-using Clock = std::chrono::steady_clock;
+using nmrpred_bench::Clock;
+using nmrpred_bench::compiler;
+using nmrpred_bench::cpu_model;
 
 std::string read_file(const char *path) {
   std::ifstream in(path, std::ios::binary);
   if (!in) throw std::runtime_error(fmt::format("cannot open {}", path));
   return std::string(std::istreambuf_iterator<char>(in), std::istreambuf_iterator<char>());
-}
-
-std::string cpu_model() {
-  std::ifstream in("/proc/cpuinfo");
-  std::string line;
-  while (std::getline(in, line))
-    if (line.rfind("model name", 0) == 0) {
-      const auto colon = line.find(':');
-      if (colon != std::string::npos) return line.substr(colon + 2);
-    }
-  return "unknown CPU";
-}
-
-std::string compiler() {
-#if defined(__clang__)
-  return fmt::format("clang {}", __clang_version__);
-#elif defined(__GNUC__)
-  return fmt::format("gcc {}", __VERSION__);
-#else
-  return "unknown compiler";
-#endif
 }
 
 struct Timing {

@@ -26,37 +26,13 @@
 
 #include <fmt/format.h>
 
-#ifndef NMRPRED_BENCH_VERSION
-#define NMRPRED_BENCH_VERSION "unknown"
-#endif
-#ifndef NMRPRED_BENCH_BUILD_TYPE
-#define NMRPRED_BENCH_BUILD_TYPE "unknown"
-#endif
+#include "bench_common.hpp"
 
 namespace {
 
-using Clock = std::chrono::steady_clock;
-
-std::string cpu_model() {
-  std::ifstream in("/proc/cpuinfo");
-  std::string line;
-  while (std::getline(in, line))
-    if (line.rfind("model name", 0) == 0) {
-      const auto colon = line.find(':');
-      if (colon != std::string::npos) return line.substr(colon + 2);
-    }
-  return "unknown CPU";
-}
-
-std::string compiler() {
-#if defined(__clang__)
-  return fmt::format("clang {}", __clang_version__);
-#elif defined(__GNUC__)
-  return fmt::format("gcc {}", __VERSION__);
-#else
-  return "unknown compiler";
-#endif
-}
+using nmrpred_bench::Clock;
+using nmrpred_bench::compiler;
+using nmrpred_bench::cpu_model;
 
 // A fixed 64-bit linear congruential generator (Knuth's MMIX constants), so
 // that the input is the same on every platform.

@@ -40,6 +40,7 @@
 #include <vector>
 
 #include <doctest/doctest.h>
+#include <nlohmann/json.hpp>
 
 #include <nmrpred/error.hpp>
 #include <nmrpred/io.hpp>
@@ -658,5 +659,27 @@ TEST_SUITE("spin") {
         CHECK(std::string(e.what()).find(row.message) != std::string::npos);
       }
     }
+  }
+  TEST_CASE("a simulation written as JSON carries its lines and multiplets") {
+    // AX at 400 MHz, J = 7 Hz, shifts 1.2 and 3.6 ppm: two first-order doublets
+    // of equal area (any NMR textbook), one line pair each.
+    const auto in = nmrpred::parse_spin_system_json(
+        R"({"mhz": 400, "spins": [{"shift": 1.2}, {"shift": 3.6}], "couplings": [[0, 1, 7.0]]})");
+    const auto sim = nmrpred::simulate(in.system, in.observe, in.options);
+    const auto j = nlohmann::json::parse(nmrpred::to_json(sim));
+    CHECK(j["observe"] == "1H");
+    check_close(j["mhz"].get<double>(), 400, 0);
+    REQUIRE(j["lines"].size() == 4);
+    double total = 0;
+    for (const auto &l : j["lines"]) total += l["intensity"].get<double>();
+    check_close(total, 2, 1e-9);
+    REQUIRE(j["multiplets"].size() == 2);
+    for (const auto &m : j["multiplets"]) {
+      CHECK(m["label"] == "d");
+      check_close(m["j_hz"][0].get<double>(), 7, 1e-9);
+      CHECK(m["atoms"].size() == 1);
+      CHECK(m["lines"].size() == 2);
+    }
+    CHECK(j["warnings"].is_array());
   }
 }

@@ -3,11 +3,12 @@
 //   {"mhz": 400, "spins": [{"shift": 2.1, "nucleus": "1H"}, ...],
 //    "couplings": [[i, j, J_Hz], ...]}
 // with optional "observe" (default "1H") and SimulationOptions keys; options
-// left out keep SimulationOptions' defaults ("mhz" is required). Output: one JSON object
+// left out keep SimulationOptions' defaults ("mhz" is required). Output: one
+// JSON object, written by nmrpred::to_json(const Simulation &):
 //   {"observe", "mhz", "observe_mhz",
 //    "lines": [{"ppm", "hz", "intensity"}, ...],
 //    "multiplets": [{"ppm", "ppm_low", "ppm_high", "label", "j_hz", "integral",
-//                    "spins", "lines"}, ...],
+//                    "atoms" (here: spin indices), "lines"}, ...],
 //    "warnings": [...]}
 // Input that is not such JSON, or a spin system the library rejects
 // (ArgumentError), exits 2 with a message naming the problem.
@@ -15,8 +16,7 @@
 #include <iterator>
 #include <string>
 
-#include <nlohmann/json.hpp>
-
+#include <nmrpred/predict.hpp>
 #include <nmrpred/spin.hpp>
 
 #include "common.hpp"
@@ -25,14 +25,10 @@ namespace nmrpred_cli {
 
 namespace {
 
-using json = nlohmann::ordered_json;
-
 struct SimulateArgs {
   std::string file;
   int indent = -1;
 };
-
-json line_json(const nmrpred::SpectralLine &l) { return {{"ppm", l.ppm}, {"hz", l.hz}, {"intensity", l.intensity}}; }
 
 int run_simulate(const SimulateArgs &args) {
   std::string text;
@@ -43,31 +39,9 @@ int run_simulate(const SimulateArgs &args) {
   }
   const nmrpred::SpinSystemInput in = nmrpred::parse_spin_system_json(text);
   const nmrpred::Simulation sim = nmrpred::simulate(in.system, in.observe, in.options);
-  json out;
-  out["observe"] = nmrpred::spin_nucleus_name(sim.observed);
-  out["mhz"] = sim.field_mhz;
-  out["observe_mhz"] = sim.observed_mhz;
-  json lines = json::array();
-  for (const auto &l : sim.lines) lines.push_back(line_json(l));
-  out["lines"] = std::move(lines);
-  json multiplets = json::array();
-  for (const auto &m : sim.multiplets) {
-    json mj;
-    mj["ppm"] = m.ppm;
-    mj["ppm_low"] = m.ppm_low;
-    mj["ppm_high"] = m.ppm_high;
-    mj["label"] = m.label;
-    mj["j_hz"] = m.j_hz;
-    mj["integral"] = m.integral;
-    mj["spins"] = m.atoms;
-    json ml = json::array();
-    for (const auto &l : m.lines) ml.push_back(line_json(l));
-    mj["lines"] = std::move(ml);
-    multiplets.push_back(std::move(mj));
-  }
-  out["multiplets"] = std::move(multiplets);
-  out["warnings"] = sim.warnings;
-  std::cout << out.dump(args.indent) << '\n';
+  nmrpred::JsonOptions json_options;
+  json_options.indent = args.indent;
+  std::cout << nmrpred::to_json(sim, json_options) << '\n';
   return kExitOk;
 }
 

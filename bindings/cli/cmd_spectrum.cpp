@@ -92,23 +92,6 @@ void write_text(const std::string &path, const std::string &text) {
   if (!out) throw SetupError{"error while writing '" + path + "'"};
 }
 
-json line_json(const nmrpred::SpectralLine &l) { return {{"ppm", l.ppm}, {"hz", l.hz}, {"intensity", l.intensity}}; }
-
-json multiplet_json(const nmrpred::Multiplet &m) {
-  json j;
-  j["ppm"] = m.ppm;
-  j["ppm_low"] = m.ppm_low;
-  j["ppm_high"] = m.ppm_high;
-  j["label"] = m.label;
-  j["j_hz"] = m.j_hz;
-  j["integral"] = m.integral;
-  j["atoms"] = m.atoms;
-  json lines = json::array();
-  for (const auto &l : m.lines) lines.push_back(line_json(l));
-  j["lines"] = std::move(lines);
-  return j;
-}
-
 /// The one record the command works on; SetupError when the input holds
 /// none, or several and no --record chose one.
 nmrpred::ReadRecord pick_record(const SpectrumArgs &args) {
@@ -232,9 +215,8 @@ int run_spectrum(const SpectrumArgs &args) {
   out["observe_mhz"] = observe_mhz;
   out["solvent"] = p.solvent.name;
   out["line_width_hz"] = sampling.line_width_hz;
-  json multiplets = json::array();
-  for (const auto &m : sim.multiplets) multiplets.push_back(multiplet_json(m));
-  out["multiplets"] = std::move(multiplets);
+  // The library's layout of multiplets (nmrpred::to_json(const Simulation &)).
+  out["multiplets"] = json::parse(nmrpred::to_json(sim))["multiplets"];
   if (args.solvent_signals) {
     json list = json::array();
     for (const auto &s : solvent) {

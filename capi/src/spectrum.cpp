@@ -13,7 +13,6 @@
 #include <string_view>
 
 #include <fmt/format.h>
-#include <nlohmann/json.hpp>
 
 using nmrpred::capi::fail;
 using nmrpred::capi::guarded;
@@ -76,10 +75,6 @@ int quiet(Body &&body) noexcept {
 const nmrpred::Multiplet *multiplet_at(const nmr_spectrum *spec, size_t i) noexcept {
   if (!spec || i >= spec->simulation.multiplets.size()) return nullptr;
   return &spec->simulation.multiplets[i];
-}
-
-nlohmann::ordered_json line_json(const nmrpred::SpectralLine &l) {
-  return {{"ppm", l.ppm}, {"hz", l.hz}, {"intensity", l.intensity}};
 }
 
 }  // namespace
@@ -264,35 +259,7 @@ int nmr_spectrum_to_svg(const nmr_spectrum *spec, char **text_out) {
 
 int nmr_spectrum_to_json(const nmr_spectrum *spec, char **json_out) {
   if (!spec || !json_out) return NMR_ERR_ARGUMENT;
-  return quiet([&] {
-    const nmrpred::Simulation &sim = spec->simulation;
-    nlohmann::ordered_json out;
-    out["observe"] = nmrpred::spin_nucleus_name(sim.observed);
-    out["mhz"] = sim.field_mhz;
-    out["observe_mhz"] = sim.observed_mhz;
-    auto lines = nlohmann::ordered_json::array();
-    for (const auto &l : sim.lines) lines.push_back(line_json(l));
-    out["lines"] = std::move(lines);
-    auto multiplets = nlohmann::ordered_json::array();
-    for (const auto &m : sim.multiplets) {
-      nlohmann::ordered_json mj;
-      mj["ppm"] = m.ppm;
-      mj["ppm_low"] = m.ppm_low;
-      mj["ppm_high"] = m.ppm_high;
-      mj["label"] = m.label;
-      mj["j_hz"] = m.j_hz;
-      mj["integral"] = m.integral;
-      mj["atoms"] = m.atoms;
-      auto ml = nlohmann::ordered_json::array();
-      for (const auto &l : m.lines) ml.push_back(line_json(l));
-      mj["lines"] = std::move(ml);
-      multiplets.push_back(std::move(mj));
-    }
-    out["multiplets"] = std::move(multiplets);
-    out["warnings"] = sim.warnings;
-    // Replacing bad UTF-8 keeps dump() from throwing on odd warning text.
-    return copy_text(out.dump(-1, ' ', false, nlohmann::ordered_json::error_handler_t::replace), json_out);
-  });
+  return quiet([&] { return copy_text(nmrpred::to_json(spec->simulation), json_out); });
 }
 
 }  // extern "C"

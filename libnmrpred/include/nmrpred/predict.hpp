@@ -329,6 +329,19 @@ NMRPRED_API std::string to_json(const ReferenceCompound &compound, const JsonOpt
 /// only std::bad_alloc.
 NMRPRED_API std::string to_json(const Solvent &solvent, const JsonOptions &options = {});
 
+/// Serializes a simulation (simulate()) as
+///   {"observe", "mhz", "observe_mhz",
+///    "lines": [{"ppm", "hz", "intensity"}, ...],
+///    "multiplets": [{"ppm", "ppm_low", "ppm_high", "label", "j_hz", "integral",
+///                    "atoms", "lines"}, ...],
+///    "warnings": [...]}
+/// with "observe" the observed isotope ("1H", "13C", ...), "mhz" the field as
+/// the 1H frequency and "observe_mhz" that of the observed isotope, both MHz;
+/// "atoms" of a multiplet are the indices Multiplet::atoms holds (atoms of a
+/// molecule, spins of a spin system given directly). The layout of
+/// `nmrpred simulate` and nmr_spectrum_to_json(). Throws only std::bad_alloc.
+NMRPRED_API std::string to_json(const Simulation &simulation, const JsonOptions &options = {});
+
 /// Name of the C constant for a status ("NMR_OK", "NMR_ERR_INPUT", ...), as used
 /// in the JSON "name" key. Static text; never null.
 NMRPRED_API const char *status_constant_name(Status status) noexcept;

@@ -168,15 +168,17 @@ std::optional<double> hidden_geminal_j(const Prediction &pred, const std::vector
   const Molecule &mol = pred.molecule;
   for (std::size_t k = 0; k < signals.size(); ++k) {
     if (k == i) continue;
-    for (std::size_t h : signals[i].atoms)
+    for (std::size_t h : signals[i].atoms) {
+      const auto c = mol.attached_to(h);
+      if (c < 0) continue;
       for (std::size_t g : signals[k].atoms) {
-        const auto c = mol.attached_to(h);
-        if (c < 0 || c != mol.attached_to(g)) continue;
+        if (mol.attached_to(g) != c) continue;
         double j = 14.0;  // a typical sp3 geminal |2J| when no coupling was predicted (common practice)
         for (const auto &cp : pred.couplings)
-          if ((cp.a == std::min(h, g) && cp.b == std::max(h, g))) j = std::fabs(cp.j_hz);
+          if (cp.a == std::min(h, g) && cp.b == std::max(h, g)) j = std::fabs(cp.j_hz);
         if (std::fabs(signals[i].ppm - signals[k].ppm) * mhz < 3 * j) return j;
       }
+    }
   }
   return std::nullopt;
 }

@@ -312,6 +312,24 @@ class TextReader {
     }
   }
 
+  // Moves to the end of one item inside parentheses: the next ',' or ';' or
+  // the closing ')' at this depth (nested parentheses belong to the item), or
+  // the end of the text.
+  void skip_item() {
+    int depth = 0;
+    for (; i_ < n_; ++i_) {
+      const char c = s_[i_];
+      if (c == '(') {
+        ++depth;
+      } else if (c == ')') {
+        if (depth == 0) return;
+        --depth;
+      } else if ((c == ',' || c == ';') && depth == 0) {
+        return;
+      }
+    }
+  }
+
   // "(400 MHz, CDCl3)", "(CDCl3, 101 MHz, 298 K)", "(ppm)".
   void parse_header_group(MeasuredSpectrum &sp, HeaderState &h) {
     const std::size_t open = i_;
@@ -319,19 +337,7 @@ class TextReader {
     for (;;) {
       skip_blank();
       const std::size_t item = i_;
-      int depth = 0;
-      while (i_ < n_) {
-        const char c = s_[i_];
-        if (c == '(') {
-          ++depth;
-        } else if (c == ')') {
-          if (depth == 0) break;
-          --depth;
-        } else if ((c == ',' || c == ';') && depth == 0) {
-          break;
-        }
-        ++i_;
-      }
+      skip_item();
       if (i_ >= n_)
         fail(src_, i_, fmt::format("expected ')' to close the '(' of {}", where(src_.original, src_.at[open])));
       header_item(sp, h, item, trim(std::string_view(s_).substr(item, i_ - item)));
@@ -510,19 +516,7 @@ class TextReader {
       }
       const std::size_t item = i_;
       if (!parse_coupling(p, nucleus)) {
-        int depth = 0;
-        while (i_ < n_) {
-          const char c = s_[i_];
-          if (c == '(') {
-            ++depth;
-          } else if (c == ')') {
-            if (depth == 0) break;
-            --depth;
-          } else if ((c == ',' || c == ';') && depth == 0) {
-            break;
-          }
-          ++i_;
-        }
+        skip_item();
         if (i_ >= n_) fail_unclosed(open);
         description_item(p, nucleus, item, std::string_view(s_).substr(item, i_ - item), each);
       }

@@ -83,6 +83,12 @@ Json line_value(const SpectralLine &l) {
   return j;
 }
 
+Json lines_value(const std::vector<SpectralLine> &lines) {
+  Json out = Json::array();
+  for (const auto &l : lines) out.push_back(line_value(l));
+  return out;
+}
+
 /// Multiplet keys exist only when couplings were predicted, so that their
 /// absence means "not computed" and an empty 13C multiplicity means "not split".
 Json signal_value(const Signal &g, bool coupled) {
@@ -103,16 +109,38 @@ Json signal_value(const Signal &g, bool coupled) {
   if (coupled) {
     j["multiplicity"] = g.multiplicity;
     j["j_hz"] = g.j_hz;
-    if (g.nucleus == Nucleus::H1) {
-      Json lines = Json::array();
-      for (const auto &l : g.lines) lines.push_back(line_value(l));
-      j["lines"] = std::move(lines);
-    }
+    if (g.nucleus == Nucleus::H1) j["lines"] = lines_value(g.lines);
   }
   return j;
 }
 
 bool couplings_predicted(const Prediction &p) { return p.options.predict_shifts && p.options.predict_couplings; }
+
+Json multiplet_value(const Multiplet &m) {
+  Json j;
+  j["ppm"] = m.ppm;
+  j["ppm_low"] = m.ppm_low;
+  j["ppm_high"] = m.ppm_high;
+  j["label"] = m.label;
+  j["j_hz"] = m.j_hz;
+  j["integral"] = m.integral;
+  j["atoms"] = m.atoms;
+  j["lines"] = lines_value(m.lines);
+  return j;
+}
+
+Json simulation_value(const Simulation &sim) {
+  Json j;
+  j["observe"] = spin_nucleus_name(sim.observed);
+  j["mhz"] = sim.field_mhz;
+  j["observe_mhz"] = sim.observed_mhz;
+  j["lines"] = lines_value(sim.lines);
+  Json multiplets = Json::array();
+  for (const auto &m : sim.multiplets) multiplets.push_back(multiplet_value(m));
+  j["multiplets"] = std::move(multiplets);
+  j["warnings"] = sim.warnings;
+  return j;
+}
 
 Json signal_list(const std::vector<Signal> &signals, bool coupled) {
   Json list = Json::array();
@@ -284,6 +312,10 @@ std::string to_json(const Solvent &solvent, const JsonOptions &options) {
 
 std::string to_json(const ReferenceCompound &compound, const JsonOptions &options) {
   return dump(reference_value(compound), options);
+}
+
+std::string to_json(const Simulation &simulation, const JsonOptions &options) {
+  return dump(simulation_value(simulation), options);
 }
 
 std::string to_json(const std::vector<RecordPrediction> &records, const JsonOptions &options) {

@@ -128,17 +128,16 @@ class ReferenceLookup final : public ShiftSource {
           out.ppm = inc_q + correction;
           const double prior = (q.nucleus == Nucleus::C13 ? kC13ResidualPrior : kH1ResidualPrior)[k];
           out.uncertainty_ppm = std::sqrt(prior * prior + residual.sd * residual.sd);
+          const std::string compounds = fmt::format("{} {} reference compound{} at HOSE sphere {}", residual.n,
+                                                    user_ ? "user" : "built-in", residual.n == 1 ? "" : "s", k);
           if (correction == residual.median)
-            out.method = fmt::format("{}; corrected by {} ppm, the median residual of {} {} reference "
-                                     "compound{} at HOSE sphere {}",
-                                     inc_method, signed_1(correction), residual.n, user_ ? "user" : "built-in",
-                                     residual.n == 1 ? "" : "s", k);
+            out.method = fmt::format("{}; corrected by {} ppm, the median residual of {}", inc_method,
+                                     signed_1(correction), compounds);
           else
-            out.method = fmt::format("{}; corrected by {} ppm: the median residual of {} {} reference "
-                                     "compound{} at HOSE sphere {} ({} ppm), shrunk and capped as at every "
-                                     "sphere up to {}",
-                                     inc_method, signed_1(correction), residual.n, user_ ? "user" : "built-in",
-                                     residual.n == 1 ? "" : "s", k, signed_1(residual.median), kShallowSphere);
+            out.method = fmt::format("{}; corrected by {} ppm: the median residual of {} ({} ppm), shrunk and "
+                                     "capped as at every sphere up to {}",
+                                     inc_method, signed_1(correction), compounds, signed_1(residual.median),
+                                     kShallowSphere);
           fill_common(out, q, b, excluded, k);
           return true;
         }

@@ -206,25 +206,25 @@ void solve_combination(const ExactProblem &problem, const std::vector<int> &f2, 
       const Eigen::MatrixXd moved = lower * current.vectors;
       const Eigen::MatrixXd amplitude = previous.vectors.transpose() * moved;
       std::vector<std::uint32_t> tied;
+      std::vector<double> change(observed.size());
       for (Eigen::Index i = 0; i < n; ++i) {
         for (Eigen::Index f = 0; f < nf; ++f) {
           const double a = amplitude(f, i);
           const double intensity = a * a * weight;
           if (intensity < min_intensity) continue;
           double best_change = -std::numeric_limits<double>::infinity();
-          for (std::size_t o = 0; o < observed.size(); ++o)
-            best_change = std::max(best_change, current.polarisation(i, static_cast<Eigen::Index>(o)) -
-                                                    previous.polarisation(f, static_cast<Eigen::Index>(o)));
+          for (std::size_t o = 0; o < observed.size(); ++o) {
+            change[o] = current.polarisation(i, static_cast<Eigen::Index>(o)) -
+                        previous.polarisation(f, static_cast<Eigen::Index>(o));
+            best_change = std::max(best_change, change[o]);
+          }
           // Groups whose polarisation changes equally (two spins of one shift
           // but different signals, such as a diastereotopic CH2 predicted at
           // one shift) share the line: giving it to the first would leave the
           // other signal without lines (issue 5).
           tied.clear();
           for (std::size_t o = 0; o < observed.size(); ++o)
-            if (current.polarisation(i, static_cast<Eigen::Index>(o)) -
-                    previous.polarisation(f, static_cast<Eigen::Index>(o)) >=
-                best_change - kTiedChange)
-              tied.push_back(static_cast<std::uint32_t>(observed[o]));
+            if (change[o] >= best_change - kTiedChange) tied.push_back(static_cast<std::uint32_t>(observed[o]));
           const double share = intensity / static_cast<double>(tied.size());
           for (std::uint32_t g : tied) out.push_back({current.energy(i) - previous.energy(f), share, g});
         }
