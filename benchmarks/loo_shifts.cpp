@@ -101,10 +101,11 @@ int run_h1(const nmrpred::Tables &tables, const nmrpred::ShiftOptions &opt, std:
         const auto &hs = on_heavy[heavy];
         if (hs.empty()) continue;
         std::vector<double> truth;
-        if (as.atoms.size() == 1 && as.values.size() == 2) {
+        if (!as.pair_atoms && as.values.size() == 2) {
+          // i=a|b or i,j=a|b: the two protons of each listed atom.
           truth.push_back(as.values[0]);
           truth.push_back(as.values[1]);
-        } else if (as.atoms.size() == 2 && as.values.size() == 2) {
+        } else if (as.pair_atoms) {
           truth.push_back(0.5 * (as.values[0] + as.values[1]));
         } else {
           truth.push_back(as.values[0]);
@@ -119,9 +120,19 @@ int run_h1(const nmrpred::Tables &tables, const nmrpred::ShiftOptions &opt, std:
         for (std::size_t i = 0; i < n; ++i) {
           const auto *s = pair ? ps[i == 0 ? 0 : ps.size() - 1] : ps[0];
           const double t = pair ? truth[i] : (truth.size() == 2 ? 0.5 * (truth[0] + truth[1]) : truth[0]);
-          const double e = s->ppm - t;
+          // One value for all protons of the atom: compared with the mean of
+          // their predictions (a diastereotopic pair may be predicted apart).
+          double predicted = s->ppm;
+          if (!pair) {
+            predicted = 0;
+            for (const auto *p : ps) predicted += p->ppm;
+            predicted /= static_cast<double>(ps.size());
+          }
+          const double e = predicted - t;
           const auto type = proton_type(m, heavy);
           by_type[type].add(e, s->uncertainty_ppm);
+          if (pair && (type == "alkyl" || type == "alkyl next to heteroatom"))
+            by_type["sp3 CH2 pair (both listed)"].add(e, s->uncertainty_ppm);
           if (s->exchangeable) continue;
           all.add(e, s->uncertainty_ppm);
           by_source[s->source == nmrpred::ShiftSourceKind::Reference

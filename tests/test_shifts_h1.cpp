@@ -260,6 +260,35 @@ TEST_SUITE("shifts_h1") {
     CHECK(picoline[0]->uncertainty_ppm > parent[0]->uncertainty_ppm);
   }
 
+  TEST_CASE("1-alkylazoles, isoxazole and thiazole take the base values of their ring positions") {
+    // Parents in CDCl3 (PRETSCH-2009, from memory): 1-methylimidazole H2 7.42,
+    // H4 7.04, H5 6.89; 1-methylpyrazole H3 7.48, H4 6.22, H5 7.33; isoxazole
+    // H3 8.31, H4 6.39, H5 8.46; thiazole H2 8.77, H4 7.86, H5 7.27. The
+    // N-alkyl carbon is part of the 1-alkyl parents: 1-ethylimidazole takes
+    // the same values with nothing "not accounted for".
+    check_rows({
+        {"Cn1ccnc1", 5, 7.42, 0.005, "PRETSCH-2009 (from memory)", {"1-alkylimidazole", "alkylimidazole-h2"}},
+        {"Cn1ccnc1", 3, 7.04, 0.005, "PRETSCH-2009 (from memory)", {"alkylimidazole-h4"}},
+        {"Cn1ccnc1", 2, 6.89, 0.005, "PRETSCH-2009 (from memory)", {"alkylimidazole-h5"}},
+        {"CCn1ccnc1", 6, 7.42, 0.005, "PRETSCH-2009 (from memory)", {"alkylimidazole-h2"}},
+        {"Cn1cccn1", 4, 7.48, 0.005, "PRETSCH-2009 (from memory)", {"alkylpyrazole-h3"}},
+        {"Cn1cccn1", 3, 6.22, 0.005, "PRETSCH-2009 (from memory)", {"alkylpyrazole-h4"}},
+        {"Cn1cccn1", 2, 7.33, 0.005, "PRETSCH-2009 (from memory)", {"alkylpyrazole-h5"}},
+        {"c1cnoc1", 1, 8.31, 0.005, "PRETSCH-2009 (from memory)", {"isoxazole-h3"}},
+        {"c1cnoc1", 0, 6.39, 0.005, "PRETSCH-2009 (from memory)", {"isoxazole-h4"}},
+        {"c1cnoc1", 4, 8.46, 0.005, "PRETSCH-2009 (from memory)", {"isoxazole-h5"}},
+        {"c1cscn1", 3, 8.77, 0.005, "PRETSCH-2009 (from memory)", {"thiazole-h2"}},
+        {"c1cscn1", 0, 7.86, 0.005, "PRETSCH-2009 (from memory)", {"thiazole-h4"}},
+        {"c1cscn1", 1, 7.27, 0.005, "PRETSCH-2009 (from memory)", {"thiazole-h5"}},
+    });
+    const auto ethyl = estimate_on("CCn1ccnc1", 6);
+    REQUIRE(ethyl.size() == 1);
+    REQUIRE(ethyl[0].has_value());
+    CHECK(ethyl[0]->method.find("not accounted") == std::string::npos);
+    // NH imidazole keeps its tautomer-averaged rows.
+    check_rows({{"c1c[nH]cn1", 3, 7.71, 0.005, "PRETSCH-2009 (from memory)", {"imidazole-h2"}}});
+  }
+
   TEST_CASE("aldehyde, formyl and alkyne protons take the typical value of their group") {
     check_rows({
         {"CC=O", 1, 9.79, 0.1, "PRETSCH-2009 (from memory)",
@@ -319,7 +348,8 @@ TEST_SUITE("shifts_h1") {
         {"CS(C)=O", 0, "CDCl3", "sulfoxide has no row"},
         {"OB(O)c1ccccc1", 4, "CDCl3", "boronic acid substituent has no benzene row"},
         {"C=C=C", 0, "CDCl3", "allene (tables/FORMAT.md)"},
-        {"Cn1ccnc1", 2, "CDCl3", "N-substituted imidazole (the rows average NH tautomers)"},
+        {"c1ccccc1n1ccnc1", 7, "CDCl3", "N-aryl imidazole (the rows cover NH tautomers and 1-alkyl only)"},
+        {"CC(=O)n1cccn1", 4, "CDCl3", "N-acyl pyrazole (the rows cover NH tautomers and 1-alkyl only)"},
         {"C#CCCCC", 0, "DMSO-d6", "alkyl alkyne C-H has no DMSO-d6 row"},
         {"C[NH3+]", 1, "D2O", "ammonium NH has no row"},
     };

@@ -36,6 +36,10 @@ struct CouplingTables;
 struct ReferenceAssignment {
   std::vector<std::uint32_t> atoms;
   std::vector<double> values;
+  /// The `i|j=a|b` form: two atoms, one value each, which is which not
+  /// stated. False for `i=a|b` and `i,j=a|b`, where every listed atom carries
+  /// both values (its two diastereotopic protons).
+  bool pair_atoms = false;
 };
 
 /// One assigned compound.

@@ -690,6 +690,9 @@ class H1Increments final : public ShiftSource {
       for (auto a : map) {
         const auto &at = m.atom(a);
         if (at.formal_charge != 0) return std::nullopt;  // ring cation or N-oxide
+        // The N-alkyl carbon of a 1-alkylazole row is part of that parent:
+        // neither a substituent nor a carrier of any.
+        if (!at.aromatic) continue;
         if (at.atomic_number == 7) ++nitrogens;
         bool bad = false;
         for_heavy_neighbours(m, a, [&](std::size_t x, BondOrder o) {
@@ -702,7 +705,8 @@ class H1Increments final : public ShiftSource {
         if (bad) return std::nullopt;
       }
       // FORMAT.md: the imidazole and pyrazole rows average the NH
-      // tautomers, so N-substituted azoles are not covered.
+      // tautomers, so N-substituted azoles without a row of their own
+      // (1-alkylimidazole, 1-alkylpyrazole) are not covered.
       if (nitrogens >= 2 && n_substituted) return std::nullopt;
       Sum s(fmt::format("heteroaromatic base value ({}, position {})", row.ring, row.position), kHeteroSpread);
       s.base(fmt::format("{} {}", row.id, fmt_ppm(row.ppm)), row.ppm);

@@ -59,6 +59,12 @@ constexpr double kH1ResidualPrior[kMaxHoseSpheres + 1] = {0, 0.5, 0.15, 0.15, 0.
 constexpr int kShallowSphere = 3;
 constexpr double kC13ShallowCapPpm = 3.0;
 constexpr double kH1ShallowCapPpm = 0.2;
+// Diastereotopic CH2 protons take the spread of their pair only from
+// compounds that share the environment to sphere 4 or deeper. At sphere 3 a
+// single compound with a pair (propylene carbonate, 4.56/4.03) spread the
+// OCH2 of sugars, dioxolanes and glycidyl ethers by the same 0.53 ppm and put
+// 91 NCI protons above 4.5 ppm (tests/python/test_h1_facts.py).
+constexpr int kPairMinSphere = 4;
 
 // v as fmt's "{:+.1f}" writes it: std::to_chars rounds the exact binary
 // value the same way at a fraction of the cost (once per looked-up atom).
@@ -96,7 +102,7 @@ class ReferenceLookup final : public ShiftSource {
       // Blind mode: recompute without the query's own compound(s), if present.
       bool touched = false;
       for (auto c : excluded)
-        touched |= std::binary_search(b.compounds.begin(), b.compounds.end(), CompoundValue{c, 0, 0},
+        touched |= std::binary_search(b.compounds.begin(), b.compounds.end(), CompoundValue{c, 0, 0, 0},
                                       [](const CompoundValue &x, const CompoundValue &y) { return x.compound < y.compound; });
       if (touched) {
         std::vector<double> sv, rv;
@@ -139,6 +145,7 @@ class ReferenceLookup final : public ShiftSource {
                                      inc_method, signed_1(correction), compounds, signed_1(residual.median),
                                      kShallowSphere);
           fill_common(out, q, b, excluded, k);
+          split_pair(out, q, atom, k, excluded);
           return true;
         }
       }
@@ -147,9 +154,59 @@ class ReferenceLookup final : public ShiftSource {
       out.method = fmt::format("{} reference lookup, HOSE sphere {}, {} compound{}", user_ ? "user" : "built-in",
                                k, shift.n, shift.n == 1 ? "" : "s");
       fill_common(out, q, b, excluded, k);
+      split_pair(out, q, atom, k, excluded);
       return true;
     }
     return false;
+  }
+
+  // The two protons of a diastereotopic sp3 CH2 share the environment code,
+  // so the lookup alone gives them one value. Where matched reference
+  // compounds list such a CH2 (with a pair of values, or one value for both),
+  // the pair is spread about that value by the median half-difference; where
+  // none at the matched sphere does, the next smaller sphere down to
+  // kPairMinSphere that has some is used. No published rule says which
+  // proton of a general CH2 is the lower one: the proton whose chemical class
+  // comes first (lower lowest atom index) gets the lower value, the
+  // convention the coupling tables use for =CH2 (tables/FORMAT.md), and the
+  // uncertainty grows by the half-difference in quadrature, the error of the
+  // opposite assignment.
+  void split_pair(Shift &out, const ShiftQuery &q, std::size_t atom, int k,
+                  const std::vector<std::uint32_t> &excluded) const {
+    if (q.nucleus != Nucleus::H1) return;
+    const auto partner = diastereotopic_partner(q.molecule, q.classes, atom);
+    if (partner < 0) return;
+    Summary pair;
+    int from = k;
+    const auto &index = q.tables.reference_index();
+    for (int j = k; pair.n == 0 && j >= kPairMinSphere; --j) {
+      const auto &map = index.levels[user_ ? kUser : kBuiltin][kIndexH1][j];
+      const auto it = map.find(q.keys(atom)[static_cast<std::size_t>(j)]);
+      if (it == map.end()) continue;
+      std::vector<double> hv;
+      for (const auto &cv : it->second.compounds)
+        if (std::isfinite(cv.pair_half_ppm) &&
+            std::find(excluded.begin(), excluded.end(), cv.compound) == excluded.end())
+          hv.push_back(cv.pair_half_ppm);
+      pair = summarise(std::move(hv));
+      from = j;
+    }
+    if (pair.n == 0 || pair.median <= 0) {
+      out.method += pair.n == 0 ? "; diastereotopic CH2: no matched reference lists such a pair, both protons share "
+                                  "the value"
+                                : fmt::format("; diastereotopic CH2: the references matched at HOSE sphere {} give "
+                                              "one value for both protons (median of {} compound{}), both share it",
+                                              from, pair.n, pair.n == 1 ? "" : "s");
+      return;
+    }
+    const bool lower = q.classes.chemical[atom] < q.classes.chemical[static_cast<std::size_t>(partner)];
+    out.ppm += lower ? -pair.median : pair.median;
+    out.uncertainty_ppm = std::hypot(out.uncertainty_ppm, pair.median);
+    out.method += fmt::format("; diastereotopic CH2: {}{:.2f} ppm, half the median difference of the pair over {} "
+                              "reference compound{} matched at HOSE sphere {}; the {} value by class order (which "
+                              "proton is which is not known)",
+                              lower ? "-" : "+", pair.median, pair.n, pair.n == 1 ? "" : "s", from,
+                              lower ? "lower" : "higher");
   }
 
  private:
@@ -309,6 +366,10 @@ std::vector<Shift> predict_h1(const Molecule &molecule, const AtomClasses &class
   if (increments) sources.push_back(increments.get());
   sources.push_back(fallback.get());
   auto out = detail::run_sources(q, sources, carbon_bound, warnings);
+  for (auto &s : out)
+    if (s.source != ShiftSourceKind::Reference && s.source != ShiftSourceKind::UserReference &&
+        detail::diastereotopic_partner(molecule, classes, s.atom) >= 0)
+      s.method += "; diastereotopic CH2: no reference lookup, both protons share the value";
   // Exchangeable protons: reference values from other solvents and
   // concentrations do not carry over; the solvent-specific typical values of
   // the special-proton table (or a class average) with a wide uncertainty.

@@ -37,14 +37,30 @@ Summary summarise(std::vector<double> v) {
   return s;
 }
 
+std::int64_t diastereotopic_partner(const Molecule &m, const AtomClasses &classes, std::size_t h) {
+  const auto c = m.attached_to(h);
+  if (c < 0) return -1;
+  const auto carbon = static_cast<std::size_t>(c);
+  if (m.atom(carbon).atomic_number != 6 || m.atom(carbon).aromatic || m.degree(carbon) != 4) return -1;
+  std::int64_t partner = -1;
+  for (auto it = m.neighbours_begin(carbon); it != m.neighbours_end(carbon); ++it) {
+    if (*it == h || !m.is_hydrogen(*it)) continue;
+    if (partner >= 0) return -1;  // CH3: a rotor, never diastereotopic
+    partner = *it;
+  }
+  if (partner < 0 || classes.chemical[static_cast<std::size_t>(partner)] == classes.chemical[h]) return -1;
+  return partner;
+}
+
 std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables) {
   const auto &compounds = tables.reference();
   auto index = std::make_shared<ReferenceIndex>();
   // Raw atoms per bucket first; averaged per compound at the end.
   struct Raw {
     std::uint32_t compound;
-    double shift, increment;
+    double shift, increment, half;
   };
+  constexpr double nan = std::numeric_limits<double>::quiet_NaN();
   std::array<std::array<std::array<std::unordered_map<std::uint64_t, std::vector<Raw>>, kMaxHoseSpheres + 1>, 2>, 2> raw;
   const ShiftOptions plain;
   index->constitution.resize(compounds.size());
@@ -71,14 +87,16 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     std::vector<bool> keyed(m.atom_count(), false);
     for (std::size_t a = 0; a < m.atom_count(); ++a) keyed[a] = m.atom(a).atomic_number == 6 || m.is_hydrogen(a);
     const auto all_keys = hose_keys(m, classes, keyed);
-    auto add = [&](int nucleus, std::size_t centre, double value) {
-      const auto &keys = all_keys[centre];
-      double inc = std::numeric_limits<double>::quiet_NaN();
+    auto increment_of = [&](int nucleus, std::size_t centre) {
       Shift s;
-      if (nucleus == kIndexC13 && increments->estimate(q, centre, s)) inc = s.ppm;
-      if (nucleus == kIndexH1 && h1_increments->estimate(qh, centre, s) && !s.exchangeable) inc = s.ppm;
+      if (nucleus == kIndexC13 && increments->estimate(q, centre, s)) return s.ppm;
+      if (nucleus == kIndexH1 && h1_increments->estimate(qh, centre, s) && !s.exchangeable) return s.ppm;
+      return std::numeric_limits<double>::quiet_NaN();
+    };
+    auto add = [&](int nucleus, std::size_t centre, double value, double increment, double half) {
+      const auto &keys = all_keys[centre];
       for (int k = 1; k <= kMaxHoseSpheres; ++k)
-        raw[origin][nucleus][k][keys[static_cast<std::size_t>(k)]].push_back({ci, value, inc});
+        raw[origin][nucleus][k][keys[static_cast<std::size_t>(k)]].push_back({ci, value, increment, half});
     };
     auto check_atom = [&](std::uint32_t a) {
       if (a >= m.heavy_atom_count())
@@ -89,25 +107,32 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
         check_atom(as.atoms[k]);
         if (m.atom(as.atoms[k]).atomic_number != 6)
           throw TablesError(fmt::format("{}:{}: reference '{}': 13C shift on atom {}, which is not carbon", c.file, c.line, c.id, as.atoms[k]));
-        add(kIndexC13, as.atoms[k], as.values.size() == as.atoms.size() ? as.values[k] : as.values[0]);
+        add(kIndexC13, as.atoms[k], as.values.size() == as.atoms.size() ? as.values[k] : as.values[0],
+            increment_of(kIndexC13, as.atoms[k]), nan);
       }
     for (const auto &as : c.h1)
       for (std::size_t k = 0; k < as.atoms.size(); ++k) {
         check_atom(as.atoms[k]);
-        std::int64_t h = -1;
+        std::vector<std::size_t> hs;
         for (auto it = m.neighbours_begin(as.atoms[k]); it != m.neighbours_end(as.atoms[k]); ++it)
-          if (m.is_hydrogen(*it)) {
-            h = *it;
-            break;
-          }
-        if (h < 0)
+          if (m.is_hydrogen(*it)) hs.push_back(*it);
+        if (hs.empty())
           throw TablesError(fmt::format("{}:{}: reference '{}': 1H shift on atom {}, which carries no hydrogen", c.file, c.line, c.id, as.atoms[k]));
-        if (as.atoms.size() == 1 && as.values.size() == 2) {
-          // A diastereotopic pair: both protons share the topological code.
-          add(kIndexH1, static_cast<std::size_t>(h), as.values[0]);
-          add(kIndexH1, static_cast<std::size_t>(h), as.values[1]);
+        const bool diastereotopic = diastereotopic_partner(m, classes, hs[0]) >= 0;
+        if (!as.pair_atoms && as.values.size() == 2) {
+          // A pair on one atom: both protons share the topological code. The
+          // lower value goes with the proton the rules put lower, so that the
+          // residuals of a terminal =CH2 compare like with like.
+          double inc0 = increment_of(kIndexH1, hs[0]);
+          double inc1 = hs.size() > 1 ? increment_of(kIndexH1, hs[1]) : inc0;
+          if (inc1 < inc0) std::swap(inc0, inc1);
+          const double lo = std::min(as.values[0], as.values[1]), hi = std::max(as.values[0], as.values[1]);
+          const double half = diastereotopic ? 0.5 * (hi - lo) : nan;
+          add(kIndexH1, hs[0], lo, inc0, half);
+          add(kIndexH1, hs[0], hi, inc1, half);
         } else {
-          add(kIndexH1, static_cast<std::size_t>(h), as.values.size() == as.atoms.size() ? as.values[k] : as.values[0]);
+          add(kIndexH1, hs[0], as.values.size() == as.atoms.size() ? as.values[k] : as.values[0],
+              increment_of(kIndexH1, hs[0]), diastereotopic ? 0.0 : nan);
         }
       }
   }
@@ -121,17 +146,21 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
           std::vector<double> shifts, residuals;
           for (std::size_t i = 0; i < atoms.size();) {
             std::size_t j = i;
-            double sum = 0, rsum = 0;
-            int rn = 0;
+            double sum = 0, rsum = 0, hsum = 0;
+            int rn = 0, hn = 0;
             for (; j < atoms.size() && atoms[j].compound == atoms[i].compound; ++j) {
               sum += atoms[j].shift;
               if (std::isfinite(atoms[j].increment)) {
                 rsum += atoms[j].shift - atoms[j].increment;
                 ++rn;
               }
+              if (std::isfinite(atoms[j].half)) {
+                hsum += atoms[j].half;
+                ++hn;
+              }
             }
             const CompoundValue v{atoms[i].compound, sum / static_cast<double>(j - i),
-                                  rn ? rsum / rn : std::numeric_limits<double>::quiet_NaN()};
+                                  rn ? rsum / rn : nan, hn ? hsum / hn : nan};
             b.compounds.push_back(v);
             shifts.push_back(v.shift_ppm);
             if (rn) residuals.push_back(v.residual_ppm);

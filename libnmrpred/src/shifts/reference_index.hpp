@@ -32,6 +32,10 @@ struct CompoundValue {
   // the rules do not apply. Lookups use it to correct the rules for the
   // query's own environment.
   double residual_ppm;
+  // Half the difference of the two values the compound gives the protons of
+  // a diastereotopic sp3 CH2 with this code (0 where it gives one value for
+  // both); NaN where the atom is no such CH2. See diastereotopic_partner().
+  double pair_half_ppm;
 };
 
 struct Summary {
@@ -43,6 +47,12 @@ struct Bucket {
   std::vector<CompoundValue> compounds;  // sorted by compound
   Summary shift, residual;               // over all compounds (residual: those that have one)
 };
+
+// The other proton of a diastereotopic CH2 on an sp3 carbon: the carbon's
+// second hydrogen when the two fall into different chemical classes (a CH2
+// next to a stereocentre, a ring CH2 cis/trans to a substituent); -1 for any
+// other atom. Thread rule: pure.
+std::int64_t diastereotopic_partner(const Molecule &m, const AtomClasses &classes, std::size_t h);
 
 // Hash of the code with `spheres` spheres, computed from its parts
 // (hose_spheres()/split_hose_code()) without building the text.

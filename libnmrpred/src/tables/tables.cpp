@@ -137,6 +137,7 @@ std::vector<ReferenceAssignment> parse_assignments(std::string_view field, bool 
     const auto lhs = entry.substr(0, eq), rhs = entry.substr(eq + 1);
     ReferenceAssignment a;
     const bool pair_atoms = lhs.find('|') != std::string_view::npos;
+    a.pair_atoms = pair_atoms;
     for (auto idx : split(lhs, pair_atoms ? '|' : ',')) {
       std::uint32_t i = 0;
       if (!parse_index(idx, i)) throw TablesError(fmt::format("{}: bad atom index '{}'", where, idx));
