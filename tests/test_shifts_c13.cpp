@@ -288,6 +288,34 @@ TEST_SUITE("shifts") {
     });
   }
 
+  TEST_CASE("alpha-quaternary acids and esters and di-ortho aryl methoxy groups have classes of their own") {
+    // c13_carbonyl.tsv and c13_sp3_class.tsv; tolerance 3.0 ppm as for the other classes.
+    check_rows({
+        {"CC(C)(C)C(=O)O", 4, 185.5, 3.0, "PRETSCH-2009 (from memory); pivalic acid", {"acid-alpha-quaternary 184.5"}},
+        {"CC(C)(C)C(=O)OC", 4, 178.6, 3.0, "PRETSCH-2009 (from memory); methyl pivalate",
+         {"ester-alpha-quaternary 177.5"}},
+        {"COc1c(C)cccc1C", 0, 59.8, 3.0, "PRETSCH-2009 (from memory); 2,6-dimethylanisole",
+         {"aryl-och3-diortho 60.5"}},
+        {"COc1cccc(OC)c1OC", 11, 60.8, 3.0, "PRETSCH-2009 (from memory); 1,2,3-trimethoxybenzene 2-OCH3",
+         {"aryl-och3-diortho 60.5"}},
+    });
+  }
+
+  TEST_CASE("push-pull and cis-allylic terms follow their worked examples") {
+    // alkene-corr-acceptor-alkyl (KALINOWSKI-1988, from memory) and
+    // gp-cis-allylic (DORMAN-JAUTELAT-ROBERTS-1971, from memory).
+    check_rows({
+        {"C/C=C/C(=O)OC", 1, 144.8, 2.0, "PRETSCH-2009 (from memory); methyl (E)-crotonate C3",
+         {"ipso acceptor-alkyl alkene-corr-acceptor-alkyl 3.8"}},
+        {"C/C=C/C(C)=O", 1, 143.0, 2.0, "KALINOWSKI-1988 (from memory); (E)-3-penten-2-one C4",
+         {"ipso acceptor-alkyl alkene-corr-acceptor-alkyl 3.8"}},
+        {"C/C=C\\C", 0, 12.0, 2.0, "DORMAN-JAUTELAT-ROBERTS-1971 (from memory); (Z)-2-butene CH3",
+         {"cis-allylic gp-cis-allylic -5.6"}},
+        {"C/C=C\\CC", 3, 20.3, 2.0, "DORMAN-JAUTELAT-ROBERTS-1971 (from memory); (Z)-2-pentene C4",
+         {"cis-allylic gp-cis-allylic -5.6"}},
+    });
+  }
+
   TEST_CASE("the cis correction separates (Z)- from (E)-2-pentene by the table's value") {
     // DORMAN-JAUTELAT-ROBERTS-1971 (from memory): the cis correction of
     // c13_alkene.tsv (alkene-corr-cis, -1.1 ppm) applies once per cis pair.

@@ -49,6 +49,9 @@ REASONS = [
     ("[c;r5;!$(c~[n,o,s])]", "beta carbons of five-membered heteroaromatics lie at 95-112 ppm"),
     ("[CX3](=O)([#6]=,:[#6])[#6]=,:[#6]", "cross-conjugated carbonyls (quinones, dienones) lie at 180-190 ppm"),
     ("[CX3](=O)[CX3]=O", "1,2-dicarbonyl carbons lie at 180-200 ppm"),
+    ("[CX3](=O)([OX2H1])[CX4H0]([CX4])([CX4])[CX4]",
+     "carboxylic acids on a quaternary sp3 carbon lie at 184-187 ppm (pivalic acid 185.5, abietic acid 185.5; "
+     "PRETSCH-2009, from memory)"),
     ("[CX3](=O)[CX4]([F,Cl,Br])[F,Cl,Br]", "polyhalogenated ketones lie below 190 ppm"),
     ("[CX4][N+](=O)[O-]", "sp3 carbon bearing a nitro group lies at 75-95 ppm (tertiary nitroalkanes above 90)"),
     ("[CX3](=O)[c;r5]", "carbonyls on five-membered heteroaromatics (furfural 178, thiophene-2-carbaldehyde 183) "
