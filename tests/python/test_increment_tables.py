@@ -1217,6 +1217,8 @@ CARBONYL_EXAMPLES = [
     ("acetic anhydride", "CC(=O)OC(C)=O", 1, 166.6, "PRETSCH-2009 (from memory)"),
     ("acetyl chloride", "CC(Cl)=O", 1, 170.4, "PRETSCH-2009 (from memory)"),
     ("acetonitrile", "CC#N", 1, 116.4, "GOTTLIEB-1997 (from memory)"),
+    ("pivalonitrile", "CC(C)(C)C#N", 4, 125.0, "PRETSCH-2009 (from memory)"),
+    ("ethyl cyanoacetate", "CCOC(=O)CC#N", 6, 113.1, "PRETSCH-2009 (from memory)"),
     ("benzonitrile", "N#Cc1ccccc1", 1, 118.8, "PRETSCH-2009 (from memory)"),
     ("allene", "C=C=C", 1, 213.5, "PRETSCH-2009 (from memory)"),
 ]
