@@ -1206,6 +1206,8 @@ CARBONYL_EXAMPLES = [
     ("p-benzoquinone", "O=C1C=CC(=O)C=C1", 1, 187.0, "PRETSCH-2009 (from memory)"),
     ("propanal", "CCC=O", 2, 203.0, "PRETSCH-2009 (from memory)"),
     ("benzaldehyde", "O=Cc1ccccc1", 1, 192.4, "PRETSCH-2009 (from memory)"),
+    ("salicylaldehyde", "O=Cc1ccccc1O", 1, 196.6, "PRETSCH-2009 (from memory)"),
+    ("2-hydroxyacetophenone", "CC(=O)c1ccccc1O", 1, 204.5, "PRETSCH-2009 (from memory)"),
     ("acetic acid", "CC(=O)O", 1, 176.0, "GOTTLIEB-1997 (from memory)"),
     ("pivalic acid", "CC(C)(C)C(=O)O", 4, 185.5, "PRETSCH-2009 (from memory)"),
     ("methyl pivalate", "CC(C)(C)C(=O)OC", 4, 178.6, "PRETSCH-2009 (from memory)"),
