@@ -288,7 +288,7 @@ TEST_SUITE("shifts") {
     });
   }
 
-  TEST_CASE("alpha-quaternary acids, esters and nitriles, alpha-acyl nitriles, imide N-CH3, chelated aryl carbonyls and di-ortho aryl methoxy groups have classes of their own") {
+  TEST_CASE("alpha-quaternary acids, esters and nitriles, alpha-acyl nitriles, imide N-CH3, chelated aryl carbonyls, propargylic and furfuryl alcohols and di-ortho aryl methoxy groups have classes of their own") {
     // c13_carbonyl.tsv and c13_sp3_class.tsv; tolerance 3.0 ppm as for the other classes.
     check_rows({
         {"CC(C)(C)C(=O)O", 4, 185.5, 3.0, "PRETSCH-2009 (from memory); pivalic acid", {"acid-alpha-quaternary 184.5"}},
@@ -301,6 +301,10 @@ TEST_SUITE("shifts") {
         {"CN1C(=O)CCC1=O", 0, 24.9, 3.0, "PRETSCH-2009 (from memory); N-methylsuccinimide", {"imide-n-ch3 24.5"}},
         {"O=Cc1ccccc1O", 1, 196.6, 3.0, "PRETSCH-2009 (from memory); salicylaldehyde", {"aldehyde-chelated 196"}},
         {"CC(=O)c1ccccc1O", 1, 204.5, 3.0, "PRETSCH-2009 (from memory); 2-hydroxyacetophenone", {"ketone-chelated 204"}},
+        {"OCC#C", 1, 50.6, 3.0, "PRETSCH-2009 (from memory); propargyl alcohol", {"propargyl-ch2oh 51"}},
+        {"CC(C)(O)C#C", 1, 65.2, 3.0, "PRETSCH-2009 (from memory); 2-methyl-3-butyn-2-ol", {"propargyl-c-oh 66.5"}},
+        {"OC1(C#C)CCCCC1", 1, 68.6, 3.0, "PRETSCH-2009 (from memory); 1-ethynylcyclohexanol", {"propargyl-c-oh 66.5"}},
+        {"OCc1ccco1", 1, 57.4, 3.0, "PRETSCH-2009 (from memory); furfuryl alcohol", {"furfuryl-ch2o 57.5"}},
         {"COc1cccc(OC)c1OC", 11, 60.8, 3.0, "PRETSCH-2009 (from memory); 1,2,3-trimethoxybenzene 2-OCH3",
          {"aryl-och3-diortho 60.5"}},
     });
