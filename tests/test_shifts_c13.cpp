@@ -288,7 +288,7 @@ TEST_SUITE("shifts") {
     });
   }
 
-  TEST_CASE("alpha-quaternary acids, esters and nitriles, alpha-acyl nitriles, imide N-CH3, chelated aryl carbonyls, propargylic and furfuryl alcohols and di-ortho aryl methoxy groups have classes of their own") {
+  TEST_CASE("alpha-quaternary acids, esters and nitriles, alpha-acyl nitriles, imide N-CH3, chelated aryl carbonyls, propargylic, furfuryl and diarylmethyl O-carbons and di-ortho aryl methoxy groups have classes of their own") {
     // c13_carbonyl.tsv and c13_sp3_class.tsv; tolerance 3.0 ppm as for the other classes.
     check_rows({
         {"CC(C)(C)C(=O)O", 4, 185.5, 3.0, "PRETSCH-2009 (from memory); pivalic acid", {"acid-alpha-quaternary 184.5"}},
@@ -305,6 +305,9 @@ TEST_SUITE("shifts") {
         {"CC(C)(O)C#C", 1, 65.2, 3.0, "PRETSCH-2009 (from memory); 2-methyl-3-butyn-2-ol", {"propargyl-c-oh 66.5"}},
         {"OC1(C#C)CCCCC1", 1, 68.6, 3.0, "PRETSCH-2009 (from memory); 1-ethynylcyclohexanol", {"propargyl-c-oh 66.5"}},
         {"OCc1ccco1", 1, 57.4, 3.0, "PRETSCH-2009 (from memory); furfuryl alcohol", {"furfuryl-ch2o 57.5"}},
+        {"OC(c1ccccc1)c1ccccc1", 1, 76.3, 3.0, "PRETSCH-2009 (from memory); benzhydrol", {"diaryl-carbinol-ch 76"}},
+        {"COC(c1ccccc1)c1ccccc1", 2, 85.5, 3.0, "PRETSCH-2009 (from memory); benzhydryl methyl ether",
+         {"diaryl-ether-ch 84"}},
         {"COc1cccc(OC)c1OC", 11, 60.8, 3.0, "PRETSCH-2009 (from memory); 1,2,3-trimethoxybenzene 2-OCH3",
          {"aryl-och3-diortho 60.5"}},
     });
