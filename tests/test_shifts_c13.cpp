@@ -288,7 +288,7 @@ TEST_SUITE("shifts") {
     });
   }
 
-  TEST_CASE("alpha-quaternary acids, esters and nitriles, alpha-acyl nitriles, imide N-CH3, chelated aryl carbonyls, propargylic, furfuryl and diarylmethyl O-carbons and di-ortho aryl methoxy groups have classes of their own") {
+  TEST_CASE("alpha-quaternary acids, esters and nitriles, alpha-acyl nitriles, imide N-CH3, chelated aryl carbonyls, propargylic, furfuryl and diarylmethyl O-carbons di-ortho aryl methoxy, 2-methylthiazole and haloacetyl carbons have classes of their own") {
     // c13_carbonyl.tsv and c13_sp3_class.tsv; tolerance 3.0 ppm as for the other classes.
     check_rows({
         {"CC(C)(C)C(=O)O", 4, 185.5, 3.0, "PRETSCH-2009 (from memory); pivalic acid", {"acid-alpha-quaternary 184.5"}},
@@ -308,6 +308,9 @@ TEST_SUITE("shifts") {
         {"OC(c1ccccc1)c1ccccc1", 1, 76.3, 3.0, "PRETSCH-2009 (from memory); benzhydrol", {"diaryl-carbinol-ch 76"}},
         {"COC(c1ccccc1)c1ccccc1", 2, 85.5, 3.0, "PRETSCH-2009 (from memory); benzhydryl methyl ether",
          {"diaryl-ether-ch 84"}},
+        {"Cc1nccs1", 0, 19.2, 3.0, "PRETSCH-2009 (from memory); 2-methylthiazole", {"ch3-thiazole-c2 19.7"}},
+        {"BrCC(=O)OC", 1, 25.6, 3.0, "PRETSCH-2009 (from memory); methyl bromoacetate", {"haloacetyl-ch2br 26.5"}},
+        {"ClCC(=O)O", 1, 40.7, 3.0, "PRETSCH-2009 (from memory); chloroacetic acid", {"haloacetyl-ch2cl 41.5"}},
         {"COc1cccc(OC)c1OC", 11, 60.8, 3.0, "PRETSCH-2009 (from memory); 1,2,3-trimethoxybenzene 2-OCH3",
          {"aryl-och3-diortho 60.5"}},
     });
