@@ -64,6 +64,9 @@ struct AtomFilter {
   bool never = false;  // two demands contradict each other
   // The demands as a test on SmartsTarget::packed(): (packed & mask) == value.
   std::uint64_t mask = 0, value = 0;
+  // The expression is a conjunction of demands the mask holds in full, so
+  // passing the mask test is matching it: the expression is not walked.
+  bool exact = false;
 };
 
 // Fields of SmartsTarget::packed(), 8 bits each. Counts above 254 are stored
@@ -490,14 +493,16 @@ bool bond_ok(const SmartsImpl &p, const PatternBond &pb, const SmartsTarget &t, 
 }
 
 // Collects the demands of expression `n` into `f` (smarts.cpp AtomFilter).
-void demanded(const SmartsImpl &p, int n, AtomFilter &f) {
+// Returns false when some part of the expression is not such a demand (a
+// '!', ',', ring, isotope or recursive part), which the mask cannot decide.
+bool demanded(const SmartsImpl &p, int n, AtomFilter &f) {
   const ExprNode &e = p.nodes[static_cast<std::size_t>(n)];
   if (e.op == Op::And) {
-    demanded(p, e.left, f);
-    demanded(p, e.right, f);
-    return;
+    const bool left = demanded(p, e.left, f);
+    const bool right = demanded(p, e.right, f);
+    return left && right;
   }
-  if (e.op != Op::Prim) return;
+  if (e.op != Op::Prim) return false;
   auto demand = [&](int &slot, int value) {
     if (slot >= 0 && slot != value) f.never = true;
     slot = value;
@@ -513,8 +518,10 @@ void demanded(const SmartsImpl &p, int n, AtomFilter &f) {
       f.has_charge = true;
       f.charge = e.value;
       break;
-    default: break;
+    case Prim::True: break;
+    default: return false;
   }
+  return true;
 }
 
 inline bool passes(const AtomFilter &f, const SmartsTarget &t, std::size_t a) {
@@ -541,12 +548,23 @@ void make_mask(AtomFilter &f) {
   }
 }
 
+// Does the mask test every demand of `f` (none left to the expression)?
+bool mask_holds_all(const AtomFilter &f) {
+  auto in_mask = [&](int v, int shift) {
+    return v < 0 || (f.mask & pack_field(0xFF, shift)) != 0;
+  };
+  return in_mask(f.atomic_number, kPackAtomicNumber) && in_mask(f.aromatic, kPackAromatic) &&
+         in_mask(f.hydrogens, kPackHydrogens) && in_mask(f.heavy_degree, kPackHeavyDegree) &&
+         in_mask(f.degree, kPackDegree) && (!f.has_charge || (f.mask & pack_field(0xFF, kPackCharge)) != 0);
+}
+
 void compute_filters(SmartsImpl &p) {
   std::map<std::uint32_t, std::uint32_t> count;
   for (int root : p.atom_expr) {
     AtomFilter f;
-    demanded(p, root, f);
+    const bool plain = demanded(p, root, f);
     make_mask(f);
+    f.exact = plain && !f.never && mask_holds_all(f);
     p.filters.push_back(f);
     // A contradiction never matches; leaving it out of the element count
     // only keeps that filter on the safe side.
@@ -641,7 +659,7 @@ class Search {
       const auto b = tree_bond >= 0 && nb.first == parent_[q] ? tree_bond : t_.molecule().bond_between(a, map_[nb.first]);
       if (b < 0 || !bond_ok(p_, p_.bonds[nb.second], t_, b)) return false;
     }
-    if (i == 0 && root_checked_) return true;
+    if ((i == 0 && root_checked_) || p_.filters[q].exact) return true;
     return eval(p_, p_.atom_expr[q], t_, a, -1);
   }
 
@@ -972,7 +990,7 @@ std::size_t match_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t 
   // Most table rows fail on the anchor atom itself: test it before setting up a search.
   const auto &impl = p.impl();
   if (t.facts(atom).atomic_number == 1 || (atom < excluded.size() && excluded[atom]) ||
-      !passes(impl.filters[0], t, atom) || !eval(impl, impl.atom_expr[0], t, atom, -1))
+      !passes(impl.filters[0], t, atom) || (!impl.filters[0].exact && !eval(impl, impl.atom_expr[0], t, atom, -1)))
     return 0;
   if (impl.atom_expr.size() == 1) return 1;
   if (!feasible(impl, t)) return 0;
@@ -998,7 +1016,8 @@ bool for_each_match(const SmartsPattern &p, const SmartsTarget &t, const std::ve
     // search would make first, without setting one up.
     const auto a = static_cast<std::size_t>(root_atom);
     if (a >= t.molecule().atom_count() || t.facts(a).atomic_number == 1 || (a < excluded.size() && excluded[a]) ||
-        !passes(impl.filters[root], t, a) || !eval(impl, impl.atom_expr[root], t, a, -1))
+        !passes(impl.filters[root], t, a) ||
+        (!impl.filters[root].exact && !eval(impl, impl.atom_expr[root], t, a, -1)))
       return false;
     root_checked = true;
   }
