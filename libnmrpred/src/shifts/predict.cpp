@@ -192,6 +192,12 @@ const std::vector<std::uint32_t> &ShiftQuery::excluded_compounds() const {
   return excluded_;
 }
 
+const SmartsTarget &ShiftQuery::smarts_target() const {
+  if (shared_target_) return *shared_target_;
+  if (!own_target_) own_target_ = std::make_unique<SmartsTarget>(molecule);
+  return *own_target_;
+}
+
 const HoseKeys &ShiftQuery::keys(std::size_t atom) const {
   // One pass over the molecule keys every atom of the nucleus once per
   // class, which costs less than a few single-atom calls; the lookups need
@@ -247,13 +253,12 @@ std::unique_ptr<ShiftSource> make_reference_lookup(bool user, const ShiftSource 
   return std::make_unique<ReferenceLookup>(user, increments);
 }
 
-}  // namespace detail
-
-std::vector<Shift> predict_c13(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
-                               const ShiftOptions &options, std::vector<std::string> *warnings) {
+std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                                  const ShiftOptions &options, std::vector<std::string> *warnings,
+                                  const SmartsTarget *shared) {
   if (classes.chemical.size() != molecule.atom_count())
     throw ArgumentError("predict_c13: classes belong to another molecule");
-  detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::C13);
+  detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::C13, shared);
   std::unique_ptr<detail::ShiftSource> increments;
   if (options.use_increments) increments = detail::make_c13_increments(tables.c13_increments());
   const auto user = detail::make_reference_lookup(true, increments.get());
@@ -282,12 +287,13 @@ std::vector<Shift> predict_c13(const Molecule &molecule, const AtomClasses &clas
   return detail::run_sources(q, sources, atoms, warnings);
 }
 
-std::vector<Shift> predict_h1(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
-                              const ShiftOptions &options, std::vector<std::string> *warnings) {
+std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                                 const ShiftOptions &options, std::vector<std::string> *warnings,
+                                 const SmartsTarget *shared) {
   if (classes.chemical.size() != molecule.atom_count())
     throw ArgumentError("predict_h1: classes belong to another molecule");
   const Solvent solvent = find_solvent(tables, options.solvent);
-  detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::H1);
+  detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::H1, shared);
   std::unique_ptr<detail::ShiftSource> increments;
   if (options.use_increments) increments = detail::make_h1_increments(tables.h1_increments(), solvent.name);
   const auto user = detail::make_reference_lookup(true, increments.get());
@@ -330,6 +336,18 @@ std::vector<Shift> predict_h1(const Molecule &molecule, const AtomClasses &class
   }
   std::sort(out.begin(), out.end(), [](const Shift &a, const Shift &b) { return a.atom < b.atom; });
   return out;
+}
+
+}  // namespace detail
+
+std::vector<Shift> predict_c13(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                               const ShiftOptions &options, std::vector<std::string> *warnings) {
+  return detail::predict_c13_on(molecule, classes, tables, options, warnings, nullptr);
+}
+
+std::vector<Shift> predict_h1(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                              const ShiftOptions &options, std::vector<std::string> *warnings) {
+  return detail::predict_h1_on(molecule, classes, tables, options, warnings, nullptr);
 }
 
 }  // namespace nmrpred

@@ -15,6 +15,7 @@
 #include <nmrpred/shifts.hpp>
 #include <nmrpred/tables.hpp>
 
+#include "graph/smarts.hpp"
 #include "reference_index.hpp"
 
 namespace nmrpred::detail {
@@ -22,8 +23,11 @@ namespace nmrpred::detail {
 // Everything a source may look at for one molecule.
 class ShiftQuery {
  public:
-  ShiftQuery(const Molecule &m, const AtomClasses &c, const Tables &t, const ShiftOptions &o, Nucleus n)
-      : molecule(m), classes(c), tables(t), options(o), nucleus(n) {}
+  // `shared` (may be null) is a SmartsTarget of `m` that outlives the query,
+  // for callers that predict both nuclei of one molecule.
+  ShiftQuery(const Molecule &m, const AtomClasses &c, const Tables &t, const ShiftOptions &o, Nucleus n,
+             const SmartsTarget *shared = nullptr)
+      : molecule(m), classes(c), tables(t), options(o), nucleus(n), shared_target_(shared) {}
   const Molecule &molecule;
   const AtomClasses &classes;
   const Tables &tables;
@@ -39,8 +43,15 @@ class ShiftQuery {
   // Blind mode: reference compounds with the query's constitution (sorted);
   // empty otherwise. Needs tables.reference_index().
   const std::vector<std::uint32_t> &excluded_compounds() const;
+  // What the increment rules match their patterns against: the shared
+  // target given to the constructor, else one made on first use. Ring
+  // perception and recursive-pattern results are its costly parts, so the
+  // 13C and 1H runs on one molecule share it.
+  const SmartsTarget &smarts_target() const;
 
  private:
+  const SmartsTarget *shared_target_ = nullptr;
+  mutable std::unique_ptr<SmartsTarget> own_target_;
   mutable bool constitution_done_ = false;
   mutable std::uint64_t constitution_ = 0;
   mutable bool excluded_done_ = false;
@@ -73,6 +84,15 @@ std::shared_ptr<const C13IncrementTables> parse_c13_increment_tables(const Table
 std::unique_ptr<ShiftSource> make_c13_increments(std::shared_ptr<const C13IncrementTables> parsed);
 // Parses `tables` anew (convenience for callers that have no parsed copy).
 std::unique_ptr<ShiftSource> make_c13_increments(const Tables &tables);
+
+// predict_c13 / predict_h1 (nmrpred/shifts.hpp) with a SmartsTarget of the
+// molecule shared by both (null: each makes its own).
+std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                                  const ShiftOptions &options, std::vector<std::string> *warnings,
+                                  const SmartsTarget *shared);
+std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                                 const ShiftOptions &options, std::vector<std::string> *warnings,
+                                 const SmartsTarget *shared);
 
 std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const ShiftSource *> &sources,
                                const std::vector<std::size_t> &atoms, std::vector<std::string> *warnings);
