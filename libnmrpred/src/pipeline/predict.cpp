@@ -219,14 +219,14 @@ Prediction predict(Molecule &&molecule, const Tables &tables, const PredictOptio
     ShiftOptions so;
     so.blind = options.blind;
     so.solvent = p.solvent.name;
-    // One SmartsTarget for both nuclei: ring perception and the results of
-    // recursive patterns are facts of the molecule, not of the nucleus.
-    const detail::SmartsTarget target(p.molecule);
-    p.c13 = detail::predict_c13_on(p.molecule, p.classes, tables, so, &p.warnings, &target);
+    // Ring perception, recursive-pattern results and HOSE keys are facts of
+    // the molecule, not of the nucleus: made once for both.
+    const detail::MoleculeFacts facts(p.molecule, p.classes, options.predict_h1);
+    p.c13 = detail::predict_c13_on(p.molecule, p.classes, tables, so, &p.warnings, &facts);
     check_order(p.c13, "predict_c13");
     p.c13_signals = group_signals(p.molecule, p.classes, p.c13);
     if (options.predict_h1) {
-      p.h1 = detail::predict_h1_on(p.molecule, p.classes, tables, so, &p.warnings, &target);
+      p.h1 = detail::predict_h1_on(p.molecule, p.classes, tables, so, &p.warnings, &facts);
       check_order(p.h1, "predict_h1");
       for (auto &g : group_signals(p.molecule, p.classes, p.h1))
         (g.observed ? p.h1_signals : p.h1_exchanged_signals).push_back(std::move(g));

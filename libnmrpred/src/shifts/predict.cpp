@@ -192,25 +192,26 @@ const std::vector<std::uint32_t> &ShiftQuery::excluded_compounds() const {
   return excluded_;
 }
 
-const SmartsTarget &ShiftQuery::smarts_target() const {
-  if (shared_target_) return *shared_target_;
-  if (!own_target_) own_target_ = std::make_unique<SmartsTarget>(molecule);
-  return *own_target_;
+const SmartsTarget &MoleculeFacts::smarts_target() const {
+  if (!target_) target_ = std::make_unique<SmartsTarget>(molecule_);
+  return *target_;
 }
 
-const HoseKeys &ShiftQuery::keys(std::size_t atom) const {
-  // One pass over the molecule keys every atom of the nucleus once per
-  // class, which costs less than a few single-atom calls; the lookups need
-  // only the keys, not the text.
+const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking) const {
+  // One pass over the molecule keys every wanted atom once per class, which
+  // costs less than a few single-atom calls; the lookups need only the keys,
+  // not the text. An atom's keys do not depend on which others are wanted.
   if (keyed_.empty()) {
-    keyed_.assign(molecule.atom_count(), false);
-    for (std::size_t a = 0; a < molecule.atom_count(); ++a)
-      keyed_[a] = nucleus == Nucleus::C13 ? molecule.atom(a).atomic_number == 6 : molecule.is_hydrogen(a);
-    keys_ = hose_keys(molecule, classes, keyed_);
+    keyed_.assign(molecule_.atom_count(), false);
+    for (std::size_t a = 0; a < molecule_.atom_count(); ++a) {
+      const bool carbon = molecule_.atom(a).atomic_number == 6, hydrogen = molecule_.is_hydrogen(a);
+      keyed_[a] = both_nuclei_ ? carbon || hydrogen : asking == Nucleus::C13 ? carbon : hydrogen;
+    }
+    keys_ = hose_keys(molecule_, classes_, keyed_);
   }
   if (!keyed_.at(atom)) {
-    keyed_.assign(molecule.atom_count(), true);
-    keys_ = hose_keys(molecule, classes, keyed_);
+    keyed_.assign(molecule_.atom_count(), true);
+    keys_ = hose_keys(molecule_, classes_, keyed_);
   }
   return keys_[atom];
 }
@@ -255,7 +256,7 @@ std::unique_ptr<ShiftSource> make_reference_lookup(bool user, const ShiftSource 
 
 std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
                                   const ShiftOptions &options, std::vector<std::string> *warnings,
-                                  const SmartsTarget *shared) {
+                                  const MoleculeFacts *shared) {
   if (classes.chemical.size() != molecule.atom_count())
     throw ArgumentError("predict_c13: classes belong to another molecule");
   detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::C13, shared);
@@ -289,7 +290,7 @@ std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &c
 
 std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
                                  const ShiftOptions &options, std::vector<std::string> *warnings,
-                                 const SmartsTarget *shared) {
+                                 const MoleculeFacts *shared) {
   if (classes.chemical.size() != molecule.atom_count())
     throw ArgumentError("predict_h1: classes belong to another molecule");
   const Solvent solvent = find_solvent(tables, options.solvent);
