@@ -718,6 +718,8 @@ SmartsPattern::SmartsPattern(std::string_view text) {
       throw InternalError(fmt::format("SMARTS '{}': disconnected pattern", impl->text));
   }
   compute_filters(*impl);
+  if (!impl->filters.empty() && !impl->filters[0].never)
+    root_mask_ = impl->filters[0].mask, root_value_ = impl->filters[0].value;
   impl_ = std::move(impl);
 }
 
@@ -984,8 +986,9 @@ void SmartsTarget::perceive_rings() const {
   }
 }
 
-std::size_t match_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom,
-                     const std::vector<bool> &excluded) {
+// match_at() after its inline test of the root's packed demands.
+std::size_t match_at_unscreened(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom,
+                                const std::vector<bool> &excluded) {
   if (p.empty() || atom >= t.molecule().atom_count()) return 0;
   // Most table rows fail on the anchor atom itself: test it before setting up a search.
   const auto &impl = p.impl();
