@@ -197,16 +197,21 @@ const SmartsTarget &MoleculeFacts::smarts_target() const {
   return *target_;
 }
 
+void MoleculeFacts::set_all_keys(std::vector<HoseKeys> keys) {
+  if (keys.size() != molecule_.atom_count())
+    throw InternalError(fmt::format("{} HOSE keys for {} atoms", keys.size(), molecule_.atom_count()));
+  keys_ = std::move(keys);
+  keyed_.assign(molecule_.atom_count(), true);
+}
+
 const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking) const {
   // One pass over the molecule keys every wanted atom once per class, which
   // costs less than a few single-atom calls; the lookups need only the keys,
   // not the text. An atom's keys do not depend on which others are wanted.
   if (keyed_.empty()) {
     keyed_.assign(molecule_.atom_count(), false);
-    for (std::size_t a = 0; a < molecule_.atom_count(); ++a) {
-      const bool carbon = molecule_.atom(a).atomic_number == 6, hydrogen = molecule_.is_hydrogen(a);
-      keyed_[a] = both_nuclei_ ? carbon || hydrogen : asking == Nucleus::C13 ? carbon : hydrogen;
-    }
+    for (std::size_t a = 0; a < molecule_.atom_count(); ++a)
+      keyed_[a] = asking == Nucleus::C13 ? molecule_.atom(a).atomic_number == 6 : molecule_.is_hydrogen(a);
     keys_ = hose_keys(molecule_, classes_, keyed_);
   }
   if (!keyed_.at(atom)) {

@@ -27,20 +27,18 @@ namespace nmrpred::detail {
 // thread at a time. The molecule and classes must outlive it.
 class MoleculeFacts {
  public:
-  // `both_nuclei`: the first keys() call keys every carbon and hydrogen in
-  // one pass (one engine run per topological class serves a carbon and its
-  // hydrogens), else only the atoms of the asking nucleus.
-  MoleculeFacts(const Molecule &m, const AtomClasses &c, bool both_nuclei)
-      : molecule_(m), classes_(c), both_nuclei_(both_nuclei) {}
+  MoleculeFacts(const Molecule &m, const AtomClasses &c) : molecule_(m), classes_(c) {}
   const SmartsTarget &smarts_target() const;
-  // hose_key() of the atom's HOSE code with 0..kMaxHoseSpheres spheres. An
-  // atom outside the first pass keys them all.
+  // hose_key() of the atom's HOSE code with 0..kMaxHoseSpheres spheres. The
+  // first call keys the atoms of the asking nucleus in one pass (unless
+  // set_all_keys() came first); an atom outside that pass keys them all.
   const HoseKeys &keys(std::size_t atom, Nucleus asking) const;
+  // Takes the keys of every atom, made by the caller (hose_codes_and_keys).
+  void set_all_keys(std::vector<HoseKeys> keys);
 
  private:
   const Molecule &molecule_;
   const AtomClasses &classes_;
-  bool both_nuclei_;
   mutable std::unique_ptr<SmartsTarget> target_;
   mutable std::vector<bool> keyed_;
   mutable std::vector<HoseKeys> keys_;
@@ -74,7 +72,7 @@ class ShiftQuery {
  private:
   const MoleculeFacts &facts() const {
     if (shared_) return *shared_;
-    if (!own_) own_ = std::make_unique<MoleculeFacts>(molecule, classes, false);
+    if (!own_) own_ = std::make_unique<MoleculeFacts>(molecule, classes);
     return *own_;
   }
   const MoleculeFacts *shared_ = nullptr;
