@@ -11,6 +11,7 @@
 #include <cmath>
 #include <map>
 #include <memory>
+#include <string>
 
 #include <fmt/format.h>
 
@@ -114,7 +115,7 @@ class ReferenceLookup final : public ShiftSource {
           Shift s;
           if (increments_->estimate(q, atom, s)) {
             inc_q = s.ppm;
-            inc_method = s.method;
+            inc_method = std::move(s.method);
           }
           inc_done = true;
         }
@@ -128,16 +129,27 @@ class ReferenceLookup final : public ShiftSource {
           out.ppm = inc_q + correction;
           const double prior = (q.nucleus == Nucleus::C13 ? kC13ResidualPrior : kH1ResidualPrior)[k];
           out.uncertainty_ppm = std::sqrt(prior * prior + residual.sd * residual.sd);
-          const std::string compounds = fmt::format("{} {} reference compound{} at HOSE sphere {}", residual.n,
-                                                    user_ ? "user" : "built-in", residual.n == 1 ? "" : "s", k);
-          if (correction == residual.median)
-            out.method = fmt::format("{}; corrected by {} ppm, the median residual of {}", inc_method,
-                                     signed_1(correction), compounds);
-          else
-            out.method = fmt::format("{}; corrected by {} ppm: the median residual of {} ({} ppm), shrunk and "
-                                     "capped as at every sphere up to {}",
-                                     inc_method, signed_1(correction), compounds, signed_1(residual.median),
-                                     kShallowSphere);
+          // Plain appends rather than the formatter: one of these per looked-up atom.
+          std::string compounds = std::to_string(residual.n);
+          compounds += user_ ? " user" : " built-in";
+          compounds += residual.n == 1 ? " reference compound" : " reference compounds";
+          compounds += " at HOSE sphere ";
+          compounds += std::to_string(k);
+          std::string &m = out.method;
+          m = inc_method;
+          m += "; corrected by ";
+          m += signed_1(correction);
+          if (correction == residual.median) {
+            m += " ppm, the median residual of ";
+            m += compounds;
+          } else {
+            m += " ppm: the median residual of ";
+            m += compounds;
+            m += " (";
+            m += signed_1(residual.median);
+            m += " ppm), shrunk and capped as at every sphere up to ";
+            m += std::to_string(kShallowSphere);
+          }
           fill_common(out, q, b, excluded, k);
           return true;
         }
@@ -158,6 +170,7 @@ class ReferenceLookup final : public ShiftSource {
     out.source = user_ ? ShiftSourceKind::UserReference : ShiftSourceKind::Reference;
     out.sphere = k;
     out.references.clear();
+    out.references.reserve(std::min<std::size_t>(10, b.compounds.size()));
     for (const auto &cv : b.compounds) {
       if (out.references.size() == 10) break;
       if (std::find(excluded.begin(), excluded.end(), cv.compound) != excluded.end()) continue;
