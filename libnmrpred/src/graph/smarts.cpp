@@ -460,8 +460,13 @@ bool eval_prim(const SmartsImpl &p, const ExprNode &e, const SmartsTarget &t, st
       // The same parts are asked about the same atoms by many rows and
       // carriers; the answer depends on the atom alone.
       const auto &part = p.recursive[static_cast<std::size_t>(e.value)];
-      std::int8_t &known = t.recursive_memo(&part.impl())[atom];
-      if (known < 0) known = match_at(part, t, atom) > 0 ? 1 : 0;
+      const std::size_t slot = t.recursive_slot(&part.impl());
+      std::int8_t known = t.recursive_value(slot, atom);
+      if (known < 0) {
+        known = match_at(part, t, atom) > 0 ? 1 : 0;
+        // Fetched again: nested parts may have grown the pool meanwhile.
+        t.recursive_value(slot, atom) = known;
+      }
       return known != 0;
     }
     case Prim::BondSingle: return bond_order(t, bond) == BondOrder::Single;
@@ -761,10 +766,32 @@ SmartsTarget::SmartsTarget(const Molecule &m)
 
 SmartsTarget::~SmartsTarget() = default;
 
-std::int8_t *SmartsTarget::recursive_memo(const SmartsImpl *part) const {
-  auto &memo = recursive_memo_[part];
-  if (memo.empty()) memo.assign(m_.atom_count() + 1, -1);
-  return memo.data();
+std::size_t SmartsTarget::recursive_slot(const SmartsImpl *part) const {
+  auto hash = [&](const SmartsImpl *key) {
+    return static_cast<std::size_t>((reinterpret_cast<std::uintptr_t>(key) >> 4) * 0x9E3779B97F4A7C15ull) &
+           (memo_slots_.size() - 1);
+  };
+  if (2 * (memo_used_ + 1) > memo_slots_.size()) {
+    std::vector<std::pair<const SmartsImpl *, std::size_t>> old(std::max<std::size_t>(64, 2 * memo_slots_.size()),
+                                                                 {nullptr, 0});
+    old.swap(memo_slots_);
+    for (const auto &e : old)
+      if (e.first) {
+        std::size_t i = hash(e.first);
+        while (memo_slots_[i].first) i = (i + 1) & (memo_slots_.size() - 1);
+        memo_slots_[i] = e;
+      }
+  }
+  std::size_t i = hash(part);
+  while (memo_slots_[i].first) {
+    if (memo_slots_[i].first == part) return memo_slots_[i].second;
+    i = (i + 1) & (memo_slots_.size() - 1);
+  }
+  const std::size_t offset = memo_pool_.size();
+  memo_pool_.resize(offset + m_.atom_count(), -1);
+  memo_slots_[i] = {part, offset};
+  ++memo_used_;
+  return offset;
 }
 
 std::vector<std::uint32_t> SmartsTarget::take_buffer() const {

@@ -107,8 +107,11 @@ class SmartsTarget {
 
   // Matcher internals (smarts.cpp): per atom, the memoised result of a
   // recursive part (-1 not yet known, 0, 1), and search buffers reused
-  // between searches.
-  std::int8_t *recursive_memo(const SmartsImpl *part) const;
+  // between searches. recursive_slot() finds or opens the part's row of
+  // the memo; the reference recursive_value() returns is invalidated by the
+  // next recursive_slot() call.
+  std::size_t recursive_slot(const SmartsImpl *part) const;
+  std::int8_t &recursive_value(std::size_t slot, std::size_t atom) const { return memo_pool_[slot + atom]; }
   std::vector<std::uint32_t> take_buffer() const;
   void return_buffer(std::vector<std::uint32_t> &&buffer) const;
 
@@ -122,7 +125,13 @@ class SmartsTarget {
   mutable bool rings_done_ = false;
   mutable std::vector<std::vector<std::uint32_t>> rings_;
   mutable std::vector<std::uint8_t> atom_rings_, bond_rings_, atom_smallest_;
-  mutable std::unordered_map<const SmartsImpl *, std::vector<std::int8_t>> recursive_memo_;
+  // Memo rows one after another in one pool; an open-addressing table
+  // (power-of-two size, linear probing) maps a part to its row's offset.
+  // A molecule asks about some dozens of parts: a node-based map cost an
+  // allocation per part and per node.
+  mutable std::vector<std::int8_t> memo_pool_;
+  mutable std::vector<std::pair<const SmartsImpl *, std::size_t>> memo_slots_;
+  mutable std::size_t memo_used_ = 0;
   mutable std::vector<std::vector<std::uint32_t>> buffers_;
 };
 
