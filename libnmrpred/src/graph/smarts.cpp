@@ -67,6 +67,9 @@ struct AtomFilter {
   // The expression is a conjunction of demands the mask holds in full, so
   // passing the mask test is matching it: the expression is not walked.
   bool exact = false;
+  // The expression holds a recursive part: a search of its own, so worth
+  // testing after cheaper tests have had their chance to fail.
+  bool costly = false;
 };
 
 // Fields of SmartsTarget::packed(), 8 bits each. Counts above 254 are stored
@@ -563,6 +566,12 @@ bool mask_holds_all(const AtomFilter &f) {
          in_mask(f.degree, kPackDegree) && (!f.has_charge || (f.mask & pack_field(0xFF, kPackCharge)) != 0);
 }
 
+bool has_recursive(const SmartsImpl &p, int n) {
+  const ExprNode &e = p.nodes[static_cast<std::size_t>(n)];
+  if (e.op == Op::Prim) return e.prim == Prim::Recursive;
+  return has_recursive(p, e.left) || (e.right >= 0 && has_recursive(p, e.right));
+}
+
 void compute_filters(SmartsImpl &p) {
   std::map<std::uint32_t, std::uint32_t> count;
   for (int root : p.atom_expr) {
@@ -570,6 +579,7 @@ void compute_filters(SmartsImpl &p) {
     const bool plain = demanded(p, root, f);
     make_mask(f);
     f.exact = plain && !f.never && mask_holds_all(f);
+    f.costly = has_recursive(p, root);
     p.filters.push_back(f);
     // A contradiction never matches; leaving it out of the element count
     // only keeps that filter on the safe side.
@@ -1019,13 +1029,20 @@ std::size_t match_at_unscreened(const SmartsPattern &p, const SmartsTarget &t, s
   if (p.empty() || atom >= t.molecule().atom_count()) return 0;
   // Most table rows fail on the anchor atom itself: test it before setting up a search.
   const auto &impl = p.impl();
-  if (t.facts(atom).atomic_number == 1 || (atom < excluded.size() && excluded[atom]) ||
-      !passes(impl.filters[0], t, atom) || (!impl.filters[0].exact && !eval(impl, impl.atom_expr[0], t, atom, -1)))
+  const AtomFilter &root = impl.filters[0];
+  if (t.facts(atom).atomic_number == 1 || (atom < excluded.size() && excluded[atom]) || !passes(root, t, atom))
     return 0;
-  if (impl.atom_expr.size() == 1) return 1;
-  if (!feasible(impl, t)) return 0;
-  return Search(impl, t, 0, static_cast<std::int64_t>(atom), true, nullptr, excluded, nullptr).run() ? p.atom_count()
-                                                                                                      : 0;
+  auto root_holds = [&] { return root.exact || eval(impl, impl.atom_expr[0], t, atom, -1); };
+  // The root's expression depends on the root atom alone, not on how the
+  // rest maps, so it may be tested before or after the search. A recursive
+  // part in it is a search of its own, while the rest of a row mostly
+  // fails at the first neighbour: such a root is tested last.
+  if (!root.costly && !root_holds()) return 0;
+  if (impl.atom_expr.size() > 1 &&
+      (!feasible(impl, t) || !Search(impl, t, 0, static_cast<std::int64_t>(atom), true, nullptr, excluded, nullptr).run()))
+    return 0;
+  if (root.costly && !root_holds()) return 0;
+  return p.atom_count();
 }
 
 bool for_each_match(const SmartsPattern &p, const SmartsTarget &t, const std::vector<std::int64_t> &fixed,
