@@ -491,12 +491,14 @@ class Engine {
   // the hydrogen, sphere 1 is X and sphere k+1 is X's sphere k, because
   // hydrogens are never written; codes being prefix-stable, X's first n-1
   // spheres are those of its own (n-1)-sphere code.
-  std::string hydrogen_code(std::uint32_t h, std::uint32_t centre, BondOrder bond) {
+  // `spheres` (1..the engine's) picks a shorter code of the same run, as
+  // codes are prefix-stable.
+  std::string hydrogen_code(std::uint32_t h, std::uint32_t centre, BondOrder bond, int spheres = 0) {
     char head[kCentreTextMax + 1 + kTokenTextMax];
     char *p = put_centre(head, h);
     *p++ = ';';
     p = put_token(p, bond_rank(bond) << 24 | atom_tok_[centre]);
-    return assemble(head, static_cast<std::size_t>(p - head), 0, 1, n_ - 1);
+    return assemble(head, static_cast<std::size_t>(p - head), 0, 1, (spheres > 0 ? spheres : n_) - 1);
   }
 
   // hose_spheres() parts of the last centre.
@@ -520,12 +522,13 @@ class Engine {
     return out;
   }
 
-  // Code of the last centre, from write_text().
-  std::string code(std::uint32_t centre) {
+  // Code of the last centre, from write_text(); `spheres` as for
+  // hydrogen_code().
+  std::string code(std::uint32_t centre, int spheres = 0) {
     char head[kCentreTextMax + 1];
     char *p = put_centre(head, centre);
     *p++ = ';';
-    return assemble(head, static_cast<std::size_t>(p - head), 1, 2, n_);
+    return assemble(head, static_cast<std::size_t>(p - head), 1, 2, spheres > 0 ? spheres : n_);
   }
 
  private:
@@ -1433,6 +1436,33 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
       },
       [&](std::size_t to, std::size_t from) { keys[to] = keys[from]; }, &needed);
   return keys;
+}
+
+std::vector<std::string> hose_codes_and_keys(const Molecule &molecule, const AtomClasses &classes, int spheres,
+                                             std::vector<HoseKeys> &keys) {
+  check_request(molecule, classes, spheres);
+  std::vector<std::string> codes(molecule.atom_count());
+  keys.assign(molecule.atom_count(), HoseKeys{});
+  if (codes.empty()) return codes;
+  // The keys need every sphere; the codes, being prefix-stable, are read
+  // from the same runs.
+  const EngineLease engine_ptr(molecule, kMaxHoseSpheres, classes.invariant_rank);
+  Engine &engine = *engine_ptr;
+  code_every_atom(
+      molecule, classes, engine,
+      [&](std::size_t a) {
+        codes[a] = engine.code(static_cast<std::uint32_t>(a), spheres);
+        engine.keys(static_cast<std::uint32_t>(a), keys[a]);
+      },
+      [&](std::size_t h, std::size_t a, BondOrder bond) {
+        codes[h] = engine.hydrogen_code(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, spheres);
+        engine.hydrogen_keys(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, keys[h]);
+      },
+      [&](std::size_t to, std::size_t from) {
+        codes[to] = codes[from];
+        keys[to] = keys[from];
+      });
+  return codes;
 }
 
 }  // namespace detail

@@ -64,6 +64,12 @@ struct AtomFilter {
   bool never = false;  // two demands contradict each other
   // The demands as a test on SmartsTarget::packed(): (packed & mask) == value.
   std::uint64_t mask = 0, value = 0;
+  // The expression is a conjunction of demands the mask holds in full, so
+  // passing the mask test is matching it: the expression is not walked.
+  bool exact = false;
+  // The expression holds a recursive part: a search of its own, so worth
+  // testing after cheaper tests have had their chance to fail.
+  bool costly = false;
 };
 
 // Fields of SmartsTarget::packed(), 8 bits each. Counts above 254 are stored
@@ -457,8 +463,13 @@ bool eval_prim(const SmartsImpl &p, const ExprNode &e, const SmartsTarget &t, st
       // The same parts are asked about the same atoms by many rows and
       // carriers; the answer depends on the atom alone.
       const auto &part = p.recursive[static_cast<std::size_t>(e.value)];
-      std::int8_t &known = t.recursive_memo(&part.impl())[atom];
-      if (known < 0) known = match_at(part, t, atom) > 0 ? 1 : 0;
+      const std::size_t slot = t.recursive_slot(&part.impl());
+      std::int8_t known = t.recursive_value(slot, atom);
+      if (known < 0) {
+        known = match_at(part, t, atom) > 0 ? 1 : 0;
+        // Fetched again: nested parts may have grown the pool meanwhile.
+        t.recursive_value(slot, atom) = known;
+      }
       return known != 0;
     }
     case Prim::BondSingle: return bond_order(t, bond) == BondOrder::Single;
@@ -490,14 +501,16 @@ bool bond_ok(const SmartsImpl &p, const PatternBond &pb, const SmartsTarget &t, 
 }
 
 // Collects the demands of expression `n` into `f` (smarts.cpp AtomFilter).
-void demanded(const SmartsImpl &p, int n, AtomFilter &f) {
+// Returns false when some part of the expression is not such a demand (a
+// '!', ',', ring, isotope or recursive part), which the mask cannot decide.
+bool demanded(const SmartsImpl &p, int n, AtomFilter &f) {
   const ExprNode &e = p.nodes[static_cast<std::size_t>(n)];
   if (e.op == Op::And) {
-    demanded(p, e.left, f);
-    demanded(p, e.right, f);
-    return;
+    const bool left = demanded(p, e.left, f);
+    const bool right = demanded(p, e.right, f);
+    return left && right;
   }
-  if (e.op != Op::Prim) return;
+  if (e.op != Op::Prim) return false;
   auto demand = [&](int &slot, int value) {
     if (slot >= 0 && slot != value) f.never = true;
     slot = value;
@@ -513,8 +526,10 @@ void demanded(const SmartsImpl &p, int n, AtomFilter &f) {
       f.has_charge = true;
       f.charge = e.value;
       break;
-    default: break;
+    case Prim::True: break;
+    default: return false;
   }
+  return true;
 }
 
 inline bool passes(const AtomFilter &f, const SmartsTarget &t, std::size_t a) {
@@ -541,12 +556,30 @@ void make_mask(AtomFilter &f) {
   }
 }
 
+// Does the mask test every demand of `f` (none left to the expression)?
+bool mask_holds_all(const AtomFilter &f) {
+  auto in_mask = [&](int v, int shift) {
+    return v < 0 || (f.mask & pack_field(0xFF, shift)) != 0;
+  };
+  return in_mask(f.atomic_number, kPackAtomicNumber) && in_mask(f.aromatic, kPackAromatic) &&
+         in_mask(f.hydrogens, kPackHydrogens) && in_mask(f.heavy_degree, kPackHeavyDegree) &&
+         in_mask(f.degree, kPackDegree) && (!f.has_charge || (f.mask & pack_field(0xFF, kPackCharge)) != 0);
+}
+
+bool has_recursive(const SmartsImpl &p, int n) {
+  const ExprNode &e = p.nodes[static_cast<std::size_t>(n)];
+  if (e.op == Op::Prim) return e.prim == Prim::Recursive;
+  return has_recursive(p, e.left) || (e.right >= 0 && has_recursive(p, e.right));
+}
+
 void compute_filters(SmartsImpl &p) {
   std::map<std::uint32_t, std::uint32_t> count;
   for (int root : p.atom_expr) {
     AtomFilter f;
-    demanded(p, root, f);
+    const bool plain = demanded(p, root, f);
     make_mask(f);
+    f.exact = plain && !f.never && mask_holds_all(f);
+    f.costly = has_recursive(p, root);
     p.filters.push_back(f);
     // A contradiction never matches; leaving it out of the element count
     // only keeps that filter on the safe side.
@@ -641,7 +674,7 @@ class Search {
       const auto b = tree_bond >= 0 && nb.first == parent_[q] ? tree_bond : t_.molecule().bond_between(a, map_[nb.first]);
       if (b < 0 || !bond_ok(p_, p_.bonds[nb.second], t_, b)) return false;
     }
-    if (i == 0 && root_checked_) return true;
+    if ((i == 0 && root_checked_) || p_.filters[q].exact) return true;
     return eval(p_, p_.atom_expr[q], t_, a, -1);
   }
 
@@ -700,6 +733,8 @@ SmartsPattern::SmartsPattern(std::string_view text) {
       throw InternalError(fmt::format("SMARTS '{}': disconnected pattern", impl->text));
   }
   compute_filters(*impl);
+  if (!impl->filters.empty() && !impl->filters[0].never)
+    root_mask_ = impl->filters[0].mask, root_value_ = impl->filters[0].value;
   impl_ = std::move(impl);
 }
 
@@ -741,10 +776,32 @@ SmartsTarget::SmartsTarget(const Molecule &m)
 
 SmartsTarget::~SmartsTarget() = default;
 
-std::int8_t *SmartsTarget::recursive_memo(const SmartsImpl *part) const {
-  auto &memo = recursive_memo_[part];
-  if (memo.empty()) memo.assign(m_.atom_count() + 1, -1);
-  return memo.data();
+std::size_t SmartsTarget::recursive_slot(const SmartsImpl *part) const {
+  auto hash = [&](const SmartsImpl *key) {
+    return static_cast<std::size_t>((reinterpret_cast<std::uintptr_t>(key) >> 4) * 0x9E3779B97F4A7C15ull) &
+           (memo_slots_.size() - 1);
+  };
+  if (2 * (memo_used_ + 1) > memo_slots_.size()) {
+    std::vector<std::pair<const SmartsImpl *, std::size_t>> old(std::max<std::size_t>(64, 2 * memo_slots_.size()),
+                                                                 {nullptr, 0});
+    old.swap(memo_slots_);
+    for (const auto &e : old)
+      if (e.first) {
+        std::size_t i = hash(e.first);
+        while (memo_slots_[i].first) i = (i + 1) & (memo_slots_.size() - 1);
+        memo_slots_[i] = e;
+      }
+  }
+  std::size_t i = hash(part);
+  while (memo_slots_[i].first) {
+    if (memo_slots_[i].first == part) return memo_slots_[i].second;
+    i = (i + 1) & (memo_slots_.size() - 1);
+  }
+  const std::size_t offset = memo_pool_.size();
+  memo_pool_.resize(offset + m_.atom_count(), -1);
+  memo_slots_[i] = {part, offset};
+  ++memo_used_;
+  return offset;
 }
 
 std::vector<std::uint32_t> SmartsTarget::take_buffer() const {
@@ -966,18 +1023,26 @@ void SmartsTarget::perceive_rings() const {
   }
 }
 
-std::size_t match_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom,
-                     const std::vector<bool> &excluded) {
+// match_at() after its inline test of the root's packed demands.
+std::size_t match_at_unscreened(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom,
+                                const std::vector<bool> &excluded) {
   if (p.empty() || atom >= t.molecule().atom_count()) return 0;
   // Most table rows fail on the anchor atom itself: test it before setting up a search.
   const auto &impl = p.impl();
-  if (t.facts(atom).atomic_number == 1 || (atom < excluded.size() && excluded[atom]) ||
-      !passes(impl.filters[0], t, atom) || !eval(impl, impl.atom_expr[0], t, atom, -1))
+  const AtomFilter &root = impl.filters[0];
+  if (t.facts(atom).atomic_number == 1 || (atom < excluded.size() && excluded[atom]) || !passes(root, t, atom))
     return 0;
-  if (impl.atom_expr.size() == 1) return 1;
-  if (!feasible(impl, t)) return 0;
-  return Search(impl, t, 0, static_cast<std::int64_t>(atom), true, nullptr, excluded, nullptr).run() ? p.atom_count()
-                                                                                                      : 0;
+  auto root_holds = [&] { return root.exact || eval(impl, impl.atom_expr[0], t, atom, -1); };
+  // The root's expression depends on the root atom alone, not on how the
+  // rest maps, so it may be tested before or after the search. A recursive
+  // part in it is a search of its own, while the rest of a row mostly
+  // fails at the first neighbour: such a root is tested last.
+  if (!root.costly && !root_holds()) return 0;
+  if (impl.atom_expr.size() > 1 &&
+      (!feasible(impl, t) || !Search(impl, t, 0, static_cast<std::int64_t>(atom), true, nullptr, excluded, nullptr).run()))
+    return 0;
+  if (root.costly && !root_holds()) return 0;
+  return p.atom_count();
 }
 
 bool for_each_match(const SmartsPattern &p, const SmartsTarget &t, const std::vector<std::int64_t> &fixed,
@@ -998,7 +1063,8 @@ bool for_each_match(const SmartsPattern &p, const SmartsTarget &t, const std::ve
     // search would make first, without setting one up.
     const auto a = static_cast<std::size_t>(root_atom);
     if (a >= t.molecule().atom_count() || t.facts(a).atomic_number == 1 || (a < excluded.size() && excluded[a]) ||
-        !passes(impl.filters[root], t, a) || !eval(impl, impl.atom_expr[root], t, a, -1))
+        !passes(impl.filters[root], t, a) ||
+        (!impl.filters[root].exact && !eval(impl, impl.atom_expr[root], t, a, -1)))
       return false;
     root_checked = true;
   }

@@ -54,9 +54,16 @@ class SmartsPattern {
   // ascending lexicographic order of (map[order[0]], map[order[1]], ...).
   const std::vector<std::uint32_t> &search_order(std::size_t root) const;
   const SmartsImpl &impl() const noexcept { return *impl_; }
+  // The plain demands of pattern atom 0 (element, aromaticity, hydrogen
+  // count, degrees, charge) as a test on SmartsTarget::packed(): false when
+  // an anchored match on `packed` cannot exist. Kept in the pattern itself
+  // because rule tables try every row on every atom and most rows fail here.
+  bool root_may_match(std::uint64_t packed) const noexcept { return (packed & root_mask_) == root_value_; }
 
  private:
   std::shared_ptr<const SmartsImpl> impl_;
+  // An empty pattern matches nothing: all bits demanded, none given.
+  std::uint64_t root_mask_ = ~std::uint64_t{0}, root_value_ = 0;
 };
 
 // Per-molecule facts that patterns ask about, read from the molecule once
@@ -92,6 +99,7 @@ class SmartsTarget {
   // The same facts packed into one word (smarts.cpp, kPack*), so that a
   // pattern atom's plain demands are tested with one mask and compare.
   std::uint64_t packed(std::size_t atom) const { return packed_[atom]; }
+  std::size_t atom_count() const noexcept { return packed_.size(); }
   // Heavy atoms with this atomic number (0..127) and aromatic flag.
   std::uint32_t element_count(unsigned atomic_number, bool aromatic) const {
     return atomic_number < 128 ? element_count_[atomic_number * 2 + (aromatic ? 1 : 0)] : 0;
@@ -99,8 +107,11 @@ class SmartsTarget {
 
   // Matcher internals (smarts.cpp): per atom, the memoised result of a
   // recursive part (-1 not yet known, 0, 1), and search buffers reused
-  // between searches.
-  std::int8_t *recursive_memo(const SmartsImpl *part) const;
+  // between searches. recursive_slot() finds or opens the part's row of
+  // the memo; the reference recursive_value() returns is invalidated by the
+  // next recursive_slot() call.
+  std::size_t recursive_slot(const SmartsImpl *part) const;
+  std::int8_t &recursive_value(std::size_t slot, std::size_t atom) const { return memo_pool_[slot + atom]; }
   std::vector<std::uint32_t> take_buffer() const;
   void return_buffer(std::vector<std::uint32_t> &&buffer) const;
 
@@ -114,7 +125,13 @@ class SmartsTarget {
   mutable bool rings_done_ = false;
   mutable std::vector<std::vector<std::uint32_t>> rings_;
   mutable std::vector<std::uint8_t> atom_rings_, bond_rings_, atom_smallest_;
-  mutable std::unordered_map<const SmartsImpl *, std::vector<std::int8_t>> recursive_memo_;
+  // Memo rows one after another in one pool; an open-addressing table
+  // (power-of-two size, linear probing) maps a part to its row's offset.
+  // A molecule asks about some dozens of parts: a node-based map cost an
+  // allocation per part and per node.
+  mutable std::vector<std::int8_t> memo_pool_;
+  mutable std::vector<std::pair<const SmartsImpl *, std::size_t>> memo_slots_;
+  mutable std::size_t memo_used_ = 0;
   mutable std::vector<std::vector<std::uint32_t>> buffers_;
 };
 
@@ -122,8 +139,13 @@ class SmartsTarget {
 // using no atom whose flag in `excluded` is set (`excluded` may be empty or
 // shorter than the atom count: missing flags are false)? Returns the number of
 // pattern atoms matched (p.atom_count()), or 0 when there is no match.
-std::size_t match_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom,
-                     const std::vector<bool> &excluded = {});
+std::size_t match_at_unscreened(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom,
+                                const std::vector<bool> &excluded);
+inline std::size_t match_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom,
+                            const std::vector<bool> &excluded = {}) {
+  if (atom >= t.atom_count() || !p.root_may_match(t.packed(atom))) return 0;
+  return match_at_unscreened(p, t, atom, excluded);
+}
 
 // Every mapping (pattern atom -> molecule atom) in which pattern atom i sits on
 // `fixed[i]` when fixed[i] >= 0 (fixed may be empty), using no excluded atom.

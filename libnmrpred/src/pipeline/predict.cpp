@@ -8,6 +8,8 @@
 
 #include <fmt/format.h>
 
+#include "shifts/sources.hpp"
+
 namespace nmrpred {
 
 void validate(const PredictOptions &options) {
@@ -198,7 +200,11 @@ Prediction predict(Molecule &&molecule, const Tables &tables, const PredictOptio
   Prediction p;
   p.molecule = std::move(molecule);
   p.classes = compute_classes(p.molecule);
-  p.hose = hose_codes(p.molecule, p.classes, options.hose_spheres);
+  // The shift lookups key every carbon and hydrogen by its HOSE code of up
+  // to six spheres; the codes come from the same engine runs.
+  std::vector<detail::HoseKeys> keys;
+  p.hose = options.predict_shifts ? detail::hose_codes_and_keys(p.molecule, p.classes, options.hose_spheres, keys)
+                                  : hose_codes(p.molecule, p.classes, options.hose_spheres);
   if (p.hose.size() != p.molecule.atom_count())
     throw InternalError(fmt::format("hose_codes returned {} codes for {} atoms", p.hose.size(),
                                     p.molecule.atom_count()));
@@ -217,11 +223,15 @@ Prediction predict(Molecule &&molecule, const Tables &tables, const PredictOptio
     ShiftOptions so;
     so.blind = options.blind;
     so.solvent = p.solvent.name;
-    p.c13 = predict_c13(p.molecule, p.classes, tables, so, &p.warnings);
+    // Ring perception, recursive-pattern results and HOSE keys are facts of
+    // the molecule, not of the nucleus: made once for both.
+    detail::MoleculeFacts facts(p.molecule, p.classes);
+    facts.set_all_keys(std::move(keys));
+    p.c13 = detail::predict_c13_on(p.molecule, p.classes, tables, so, &p.warnings, &facts);
     check_order(p.c13, "predict_c13");
     p.c13_signals = group_signals(p.molecule, p.classes, p.c13);
     if (options.predict_h1) {
-      p.h1 = predict_h1(p.molecule, p.classes, tables, so, &p.warnings);
+      p.h1 = detail::predict_h1_on(p.molecule, p.classes, tables, so, &p.warnings, &facts);
       check_order(p.h1, "predict_h1");
       for (auto &g : group_signals(p.molecule, p.classes, p.h1))
         (g.observed ? p.h1_signals : p.h1_exchanged_signals).push_back(std::move(g));

@@ -661,18 +661,20 @@ class C13Increments final : public ShiftSource {
     return std::nullopt;
   }
 
-  // One SmartsTarget per query: ring perception is the costly part and is
-  // shared by all carbons of the molecule. This source serves one
-  // predict_c13 call (predict.cpp makes it per call), used from one thread.
+  // The query's SmartsTarget (ShiftQuery::smarts_target), shared by all
+  // carbons of the molecule; the per-molecule results below belong to it.
+  // This source serves one predict_c13 call (predict.cpp makes it per
+  // call), used from one thread.
   const SmartsTarget &target(const ShiftQuery &q) const {
-    if (query_ != &q || !target_ || &target_->molecule() != &q.molecule) {
-      target_ = std::make_unique<SmartsTarget>(q.molecule);
+    const SmartsTarget &t = q.smarts_target();
+    if (query_ != &q || target_ != &t) {
+      target_ = &t;
       query_ = &q;
       hetero_matches_.clear();
       hetero_cover_.clear();
       benzene_rows_.clear();
     }
-    return *target_;
+    return t;
   }
 
   // Per parent ring of c13_heteroaromatic: every mapping of its pattern onto
@@ -1446,7 +1448,7 @@ class C13Increments final : public ShiftSource {
   std::shared_ptr<const C13IncrementTables> parsed_;
   const C13Tables &tab_;
   mutable const ShiftQuery *query_ = nullptr;
-  mutable std::unique_ptr<SmartsTarget> target_;
+  mutable const SmartsTarget *target_ = nullptr;
   mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_matches_;  // per hetero ring
   mutable std::vector<std::vector<bool>> hetero_cover_;                         // per hetero ring
   mutable std::unordered_map<std::uint64_t, const BenzeneRow *> benzene_rows_;  // see benzene_row()

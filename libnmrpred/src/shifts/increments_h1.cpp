@@ -532,15 +532,17 @@ class H1Increments final : public ShiftSource {
   }
 
  private:
-  // One SmartsTarget per query: ring perception is shared by all protons of
-  // the molecule. Not thread-safe (header: one thread per source object).
+  // The query's SmartsTarget (ShiftQuery::smarts_target), shared by all
+  // protons of the molecule; the rows found below belong to it. Not
+  // thread-safe (header: one thread per source object).
   const SmartsTarget &target(const ShiftQuery &q) const {
-    if (query_ != &q || !target_ || &target_->molecule() != &q.molecule) {
-      target_ = std::make_unique<SmartsTarget>(q.molecule);
+    const SmartsTarget &t = q.smarts_target();
+    if (query_ != &q || target_ != &t) {
+      target_ = &t;
       query_ = &q;
       benzene_rows_.clear();
     }
-    return *target_;
+    return t;
   }
 
   // --- h1_special -----------------------------------------------------------
@@ -1035,7 +1037,7 @@ class H1Increments final : public ShiftSource {
   bool known_ = false;
   double water_ppm_ = 0;
   mutable const ShiftQuery *query_ = nullptr;
-  mutable std::unique_ptr<SmartsTarget> target_;
+  mutable const SmartsTarget *target_ = nullptr;
   mutable std::unordered_map<std::uint64_t, const BenzeneRow *> benzene_rows_;  // see benzene_row()
 };
 

@@ -11,6 +11,7 @@
 #include <cmath>
 #include <map>
 #include <memory>
+#include <string>
 
 #include <fmt/format.h>
 
@@ -120,7 +121,7 @@ class ReferenceLookup final : public ShiftSource {
           Shift s;
           if (increments_->estimate(q, atom, s)) {
             inc_q = s.ppm;
-            inc_method = s.method;
+            inc_method = std::move(s.method);
           }
           inc_done = true;
         }
@@ -134,16 +135,27 @@ class ReferenceLookup final : public ShiftSource {
           out.ppm = inc_q + correction;
           const double prior = (q.nucleus == Nucleus::C13 ? kC13ResidualPrior : kH1ResidualPrior)[k];
           out.uncertainty_ppm = std::sqrt(prior * prior + residual.sd * residual.sd);
-          const std::string compounds = fmt::format("{} {} reference compound{} at HOSE sphere {}", residual.n,
-                                                    user_ ? "user" : "built-in", residual.n == 1 ? "" : "s", k);
-          if (correction == residual.median)
-            out.method = fmt::format("{}; corrected by {} ppm, the median residual of {}", inc_method,
-                                     signed_1(correction), compounds);
-          else
-            out.method = fmt::format("{}; corrected by {} ppm: the median residual of {} ({} ppm), shrunk and "
-                                     "capped as at every sphere up to {}",
-                                     inc_method, signed_1(correction), compounds, signed_1(residual.median),
-                                     kShallowSphere);
+          // Plain appends rather than the formatter: one of these per looked-up atom.
+          std::string compounds = std::to_string(residual.n);
+          compounds += user_ ? " user" : " built-in";
+          compounds += residual.n == 1 ? " reference compound" : " reference compounds";
+          compounds += " at HOSE sphere ";
+          compounds += std::to_string(k);
+          std::string &m = out.method;
+          m = inc_method;
+          m += "; corrected by ";
+          m += signed_1(correction);
+          if (correction == residual.median) {
+            m += " ppm, the median residual of ";
+            m += compounds;
+          } else {
+            m += " ppm: the median residual of ";
+            m += compounds;
+            m += " (";
+            m += signed_1(residual.median);
+            m += " ppm), shrunk and capped as at every sphere up to ";
+            m += std::to_string(kShallowSphere);
+          }
           fill_common(out, q, b, excluded, k);
           split_pair(out, q, atom, k, excluded);
           return true;
@@ -215,6 +227,7 @@ class ReferenceLookup final : public ShiftSource {
     out.source = user_ ? ShiftSourceKind::UserReference : ShiftSourceKind::Reference;
     out.sphere = k;
     out.references.clear();
+    out.references.reserve(std::min<std::size_t>(10, b.compounds.size()));
     for (const auto &cv : b.compounds) {
       if (out.references.size() == 10) break;
       if (std::find(excluded.begin(), excluded.end(), cv.compound) != excluded.end()) continue;
@@ -249,19 +262,31 @@ const std::vector<std::uint32_t> &ShiftQuery::excluded_compounds() const {
   return excluded_;
 }
 
-const HoseKeys &ShiftQuery::keys(std::size_t atom) const {
-  // One pass over the molecule keys every atom of the nucleus once per
-  // class, which costs less than a few single-atom calls; the lookups need
-  // only the keys, not the text.
+const SmartsTarget &MoleculeFacts::smarts_target() const {
+  if (!target_) target_ = std::make_unique<SmartsTarget>(molecule_);
+  return *target_;
+}
+
+void MoleculeFacts::set_all_keys(std::vector<HoseKeys> keys) {
+  if (keys.size() != molecule_.atom_count())
+    throw InternalError(fmt::format("{} HOSE keys for {} atoms", keys.size(), molecule_.atom_count()));
+  keys_ = std::move(keys);
+  keyed_.assign(molecule_.atom_count(), true);
+}
+
+const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking) const {
+  // One pass over the molecule keys every wanted atom once per class, which
+  // costs less than a few single-atom calls; the lookups need only the keys,
+  // not the text. An atom's keys do not depend on which others are wanted.
   if (keyed_.empty()) {
-    keyed_.assign(molecule.atom_count(), false);
-    for (std::size_t a = 0; a < molecule.atom_count(); ++a)
-      keyed_[a] = nucleus == Nucleus::C13 ? molecule.atom(a).atomic_number == 6 : molecule.is_hydrogen(a);
-    keys_ = hose_keys(molecule, classes, keyed_);
+    keyed_.assign(molecule_.atom_count(), false);
+    for (std::size_t a = 0; a < molecule_.atom_count(); ++a)
+      keyed_[a] = asking == Nucleus::C13 ? molecule_.atom(a).atomic_number == 6 : molecule_.is_hydrogen(a);
+    keys_ = hose_keys(molecule_, classes_, keyed_);
   }
   if (!keyed_.at(atom)) {
-    keyed_.assign(molecule.atom_count(), true);
-    keys_ = hose_keys(molecule, classes, keyed_);
+    keyed_.assign(molecule_.atom_count(), true);
+    keys_ = hose_keys(molecule_, classes_, keyed_);
   }
   return keys_[atom];
 }
@@ -304,13 +329,12 @@ std::unique_ptr<ShiftSource> make_reference_lookup(bool user, const ShiftSource 
   return std::make_unique<ReferenceLookup>(user, increments);
 }
 
-}  // namespace detail
-
-std::vector<Shift> predict_c13(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
-                               const ShiftOptions &options, std::vector<std::string> *warnings) {
+std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                                  const ShiftOptions &options, std::vector<std::string> *warnings,
+                                  const MoleculeFacts *shared) {
   if (classes.chemical.size() != molecule.atom_count())
     throw ArgumentError("predict_c13: classes belong to another molecule");
-  detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::C13);
+  detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::C13, shared);
   std::unique_ptr<detail::ShiftSource> increments;
   if (options.use_increments) increments = detail::make_c13_increments(tables.c13_increments());
   const auto user = detail::make_reference_lookup(true, increments.get());
@@ -339,12 +363,13 @@ std::vector<Shift> predict_c13(const Molecule &molecule, const AtomClasses &clas
   return detail::run_sources(q, sources, atoms, warnings);
 }
 
-std::vector<Shift> predict_h1(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
-                              const ShiftOptions &options, std::vector<std::string> *warnings) {
+std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                                 const ShiftOptions &options, std::vector<std::string> *warnings,
+                                 const MoleculeFacts *shared) {
   if (classes.chemical.size() != molecule.atom_count())
     throw ArgumentError("predict_h1: classes belong to another molecule");
   const Solvent solvent = find_solvent(tables, options.solvent);
-  detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::H1);
+  detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::H1, shared);
   std::unique_ptr<detail::ShiftSource> increments;
   if (options.use_increments) increments = detail::make_h1_increments(tables.h1_increments(), solvent.name);
   const auto user = detail::make_reference_lookup(true, increments.get());
@@ -391,6 +416,18 @@ std::vector<Shift> predict_h1(const Molecule &molecule, const AtomClasses &class
   }
   std::sort(out.begin(), out.end(), [](const Shift &a, const Shift &b) { return a.atom < b.atom; });
   return out;
+}
+
+}  // namespace detail
+
+std::vector<Shift> predict_c13(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                               const ShiftOptions &options, std::vector<std::string> *warnings) {
+  return detail::predict_c13_on(molecule, classes, tables, options, warnings, nullptr);
+}
+
+std::vector<Shift> predict_h1(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                              const ShiftOptions &options, std::vector<std::string> *warnings) {
+  return detail::predict_h1_on(molecule, classes, tables, options, warnings, nullptr);
 }
 
 }  // namespace nmrpred

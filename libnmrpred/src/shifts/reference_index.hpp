@@ -78,6 +78,11 @@ inline std::uint64_t hose_key_part(std::uint64_t h, std::string_view part) {
 // wanted atom belongs to. Defined in environments/hose.cpp. Thread rule: pure.
 using HoseKeys = std::array<std::uint64_t, kMaxHoseSpheres + 1>;
 std::vector<HoseKeys> hose_keys(const Molecule &m, const AtomClasses &classes, const std::vector<bool> &wanted);
+// hose_codes(m, classes, spheres) (nmrpred/hose.hpp), and in `keys` the
+// hose_keys() of every atom, from one engine run per topological class.
+// Errors as hose_codes().
+std::vector<std::string> hose_codes_and_keys(const Molecule &m, const AtomClasses &classes, int spheres,
+                                             std::vector<HoseKeys> &keys);
 
 // Median and sample standard deviation about it.
 Summary summarise(std::vector<double> values);

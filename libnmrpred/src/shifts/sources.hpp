@@ -15,15 +15,43 @@
 #include <nmrpred/shifts.hpp>
 #include <nmrpred/tables.hpp>
 
+#include "graph/smarts.hpp"
 #include "reference_index.hpp"
 
 namespace nmrpred::detail {
 
+// Facts of one molecule that its 13C and 1H predictions share (predict()
+// makes one per molecule and passes it to both): the SmartsTarget the
+// increment rules match against (ring perception and recursive-pattern
+// results are its costly parts) and the HOSE keys. Made on first use; one
+// thread at a time. The molecule and classes must outlive it.
+class MoleculeFacts {
+ public:
+  MoleculeFacts(const Molecule &m, const AtomClasses &c) : molecule_(m), classes_(c) {}
+  const SmartsTarget &smarts_target() const;
+  // hose_key() of the atom's HOSE code with 0..kMaxHoseSpheres spheres. The
+  // first call keys the atoms of the asking nucleus in one pass (unless
+  // set_all_keys() came first); an atom outside that pass keys them all.
+  const HoseKeys &keys(std::size_t atom, Nucleus asking) const;
+  // Takes the keys of every atom, made by the caller (hose_codes_and_keys).
+  void set_all_keys(std::vector<HoseKeys> keys);
+
+ private:
+  const Molecule &molecule_;
+  const AtomClasses &classes_;
+  mutable std::unique_ptr<SmartsTarget> target_;
+  mutable std::vector<bool> keyed_;
+  mutable std::vector<HoseKeys> keys_;
+};
+
 // Everything a source may look at for one molecule.
 class ShiftQuery {
  public:
-  ShiftQuery(const Molecule &m, const AtomClasses &c, const Tables &t, const ShiftOptions &o, Nucleus n)
-      : molecule(m), classes(c), tables(t), options(o), nucleus(n) {}
+  // `shared` (may be null: the query makes its own) are the facts of `m`
+  // shared with another query on the same molecule; they outlive the query.
+  ShiftQuery(const Molecule &m, const AtomClasses &c, const Tables &t, const ShiftOptions &o, Nucleus n,
+             const MoleculeFacts *shared = nullptr)
+      : molecule(m), classes(c), tables(t), options(o), nucleus(n), shared_(shared) {}
   const Molecule &molecule;
   const AtomClasses &classes;
   const Tables &tables;
@@ -32,21 +60,27 @@ class ShiftQuery {
   // constitution_key() of the molecule, computed on first use (only blind
   // mode needs it).
   std::uint64_t constitution() const;
-  // hose_key() of the atom's HOSE code with 0..kMaxHoseSpheres spheres. The
-  // first call keys every atom of the query's nucleus at once (one engine run
-  // per topological class); an atom of another kind keys them all.
-  const HoseKeys &keys(std::size_t atom) const;
+  // hose_key() of the atom's HOSE code with 0..kMaxHoseSpheres spheres
+  // (MoleculeFacts::keys).
+  const HoseKeys &keys(std::size_t atom) const { return facts().keys(atom, nucleus); }
   // Blind mode: reference compounds with the query's constitution (sorted);
   // empty otherwise. Needs tables.reference_index().
   const std::vector<std::uint32_t> &excluded_compounds() const;
+  // What the increment rules match their patterns against.
+  const SmartsTarget &smarts_target() const { return facts().smarts_target(); }
 
  private:
+  const MoleculeFacts &facts() const {
+    if (shared_) return *shared_;
+    if (!own_) own_ = std::make_unique<MoleculeFacts>(molecule, classes);
+    return *own_;
+  }
+  const MoleculeFacts *shared_ = nullptr;
+  mutable std::unique_ptr<MoleculeFacts> own_;
   mutable bool constitution_done_ = false;
   mutable std::uint64_t constitution_ = 0;
   mutable bool excluded_done_ = false;
   mutable std::vector<std::uint32_t> excluded_;
-  mutable std::vector<bool> keyed_;
-  mutable std::vector<HoseKeys> keys_;
 };
 
 class ShiftSource {
@@ -73,6 +107,15 @@ std::shared_ptr<const C13IncrementTables> parse_c13_increment_tables(const Table
 std::unique_ptr<ShiftSource> make_c13_increments(std::shared_ptr<const C13IncrementTables> parsed);
 // Parses `tables` anew (convenience for callers that have no parsed copy).
 std::unique_ptr<ShiftSource> make_c13_increments(const Tables &tables);
+
+// predict_c13 / predict_h1 (nmrpred/shifts.hpp) with facts of the molecule
+// shared by both (null: each makes its own).
+std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                                  const ShiftOptions &options, std::vector<std::string> *warnings,
+                                  const MoleculeFacts *shared);
+std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                                 const ShiftOptions &options, std::vector<std::string> *warnings,
+                                 const MoleculeFacts *shared);
 
 std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const ShiftSource *> &sources,
                                const std::vector<std::size_t> &atoms, std::vector<std::string> *warnings);
