@@ -77,6 +77,10 @@ REASONS = [
 KNOWN_ERRORS = {
     ("CO[CH](C)CC(O)=O", 2): "a one-compound lookup at HOSE sphere 3 takes an ester CH value for a methyl ether CH",
     ("BrC1=CC2=CC=CC=C2S1(=O)=O", 2): "Pascual-Meier-Simon applied to a five-membered ring C=C outside its scope",
+    ("[O-][N+](=O)C(Br)(Br)CCC(Br)(Br)[N+]([O-])=O", 6): "additive beta increments of three groups on one carbon "
+                                                          "(NO2, Br, Br) give 3.2 ppm for a CH2 with no group of "
+                                                          "its own",
+    ("[O-][N+](=O)C(Br)(Br)CCC(Br)(Br)[N+]([O-])=O", 7): "the same CH2 as atom 6",
 }
 
 _REGIONS = [(n, Chem.MolFromSmarts(s), lo, hi) for n, s, lo, hi in REGIONS]
