@@ -180,6 +180,9 @@ TEST_SUITE("shifts_h1") {
         {"CCCCCC", 0, 0.88, 0.15, "GOTTLIEB-1997 (from memory)",
          {"position table (CH3 with no group within two bonds): alkane-ch3 0.90"}},
         {"CCCCCC", 2, 1.26, 0.15, "GOTTLIEB-1997 (from memory)", {"alkane-ch2 1.30"}},
+        {"CC(Cl)=O", 0, 2.66, 0.15, "PRETSCH-2009 (from memory)", {"alpha-ch3-acyl-chloride 2.66"}},
+        {"CCCC(Cl)=O", 2, 2.88, 0.15, "PRETSCH-2009 (from memory)", {"alpha-ch2-acyl-chloride 2.88"}},
+        {"[O-][N+](=O)C1CCCCC1", 3, 4.38, 0.15, "PRETSCH-2009 (from memory)", {"alpha-ch-nitro 4.44"}},
     });
   }
 
