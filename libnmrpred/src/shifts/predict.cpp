@@ -65,7 +65,7 @@ constexpr double kH1ShallowCapPpm = 0.2;
 // OCH2 of sugars, dioxolanes and glycidyl ethers by the same 0.53 ppm and put
 // 91 NCI protons above 4.5 ppm (tests/python/test_h1_facts.py).
 constexpr int kPairMinSphere = 4;
-// A proton matched no deeper than sphere 2, by reference atoms no increment
+// A proton matched no deeper than sphere 2, by built-in reference atoms no increment
 // rule covers (so no residual correction), takes its own rule's value where
 // one applies rather than the raw median of such unlike compounds.
 // Leave-one-out (benchmarks/loo_shifts.cpp --1h): at sphere 2 the one such
@@ -100,6 +100,15 @@ class ReferenceLookup final : public ShiftSource {
     bool inc_done = false;
     double inc_q = std::numeric_limits<double>::quiet_NaN();
     std::string inc_method;
+    auto query_increments = [&] {
+      if (inc_done) return;
+      Shift s;
+      if (increments_->estimate(q, atom, s)) {
+        inc_q = s.ppm;
+        inc_method = s.method;
+      }
+      inc_done = true;
+    };
     for (int k = kMaxHoseSpheres; k >= 1; --k) {
       const auto &map = index.levels[user_ ? kUser : kBuiltin][nucleus][k];
       const auto it = map.find(keys[static_cast<std::size_t>(k)]);
@@ -124,14 +133,7 @@ class ReferenceLookup final : public ShiftSource {
       }
       if (shift.n < (user_ ? 1 : levels[k].min_support)) continue;
       if (k <= kResidualMaxSphere && increments_ && residual.n > 0) {
-        if (!inc_done) {
-          Shift s;
-          if (increments_->estimate(q, atom, s)) {
-            inc_q = s.ppm;
-            inc_method = s.method;
-          }
-          inc_done = true;
-        }
+        query_increments();
         if (std::isfinite(inc_q)) {
           double correction = residual.median;
           if (k <= kShallowSphere) {
@@ -157,15 +159,8 @@ class ReferenceLookup final : public ShiftSource {
           return true;
         }
       }
-      if (k <= kWeakSphere && q.nucleus == Nucleus::H1 && increments_) {
-        if (!inc_done) {
-          Shift s;
-          if (increments_->estimate(q, atom, s)) {
-            inc_q = s.ppm;
-            inc_method = s.method;
-          }
-          inc_done = true;
-        }
+      if (k <= kWeakSphere && !user_ && q.nucleus == Nucleus::H1 && increments_) {
+        query_increments();
         if (std::isfinite(inc_q)) return false;
       }
       out.ppm = shift.median;
