@@ -288,6 +288,49 @@ TEST_SUITE("shifts") {
     });
   }
 
+  TEST_CASE("alpha-quaternary acids, esters and nitriles, alpha-acyl nitriles, imide N-CH3, chelated aryl carbonyls, propargylic, furfuryl and diarylmethyl O-carbons di-ortho aryl methoxy, 2-methylthiazole and haloacetyl carbons have classes of their own") {
+    // c13_carbonyl.tsv and c13_sp3_class.tsv; tolerance 3.0 ppm as for the other classes.
+    check_rows({
+        {"CC(C)(C)C(=O)O", 4, 185.5, 3.0, "PRETSCH-2009 (from memory); pivalic acid", {"acid-alpha-quaternary 184.5"}},
+        {"CC(C)(C)C(=O)OC", 4, 178.6, 3.0, "PRETSCH-2009 (from memory); methyl pivalate",
+         {"ester-alpha-quaternary 177.5"}},
+        {"COc1c(C)cccc1C", 0, 59.8, 3.0, "PRETSCH-2009 (from memory); 2,6-dimethylanisole",
+         {"aryl-och3-diortho 60.5"}},
+        {"CC(C)(C)C#N", 4, 125.0, 3.0, "PRETSCH-2009 (from memory); pivalonitrile", {"nitrile-tertiary-alkyl 124.5"}},
+        {"CCOC(=O)CC#N", 6, 113.1, 3.0, "PRETSCH-2009 (from memory); ethyl cyanoacetate", {"nitrile-alpha-acyl 114"}},
+        {"CN1C(=O)CCC1=O", 0, 24.9, 3.0, "PRETSCH-2009 (from memory); N-methylsuccinimide", {"imide-n-ch3 24.5"}},
+        {"O=Cc1ccccc1O", 1, 196.6, 3.0, "PRETSCH-2009 (from memory); salicylaldehyde", {"aldehyde-chelated 196"}},
+        {"CC(=O)c1ccccc1O", 1, 204.5, 3.0, "PRETSCH-2009 (from memory); 2-hydroxyacetophenone", {"ketone-chelated 204"}},
+        {"OCC#C", 1, 50.6, 3.0, "PRETSCH-2009 (from memory); propargyl alcohol", {"propargyl-ch2oh 51"}},
+        {"CC(C)(O)C#C", 1, 65.2, 3.0, "PRETSCH-2009 (from memory); 2-methyl-3-butyn-2-ol", {"propargyl-c-oh 66.5"}},
+        {"OC1(C#C)CCCCC1", 1, 68.6, 3.0, "PRETSCH-2009 (from memory); 1-ethynylcyclohexanol", {"propargyl-c-oh 66.5"}},
+        {"OCc1ccco1", 1, 57.4, 3.0, "PRETSCH-2009 (from memory); furfuryl alcohol", {"furfuryl-ch2o 57.5"}},
+        {"OC(c1ccccc1)c1ccccc1", 1, 76.3, 3.0, "PRETSCH-2009 (from memory); benzhydrol", {"diaryl-carbinol-ch 76"}},
+        {"COC(c1ccccc1)c1ccccc1", 2, 85.5, 3.0, "PRETSCH-2009 (from memory); benzhydryl methyl ether",
+         {"diaryl-ether-ch 84"}},
+        {"Cc1nccs1", 0, 19.2, 3.0, "PRETSCH-2009 (from memory); 2-methylthiazole", {"ch3-thiazole-c2 19.7"}},
+        {"BrCC(=O)OC", 1, 25.6, 3.0, "PRETSCH-2009 (from memory); methyl bromoacetate", {"haloacetyl-ch2br 26.5"}},
+        {"ClCC(=O)O", 1, 40.7, 3.0, "PRETSCH-2009 (from memory); chloroacetic acid", {"haloacetyl-ch2cl 41.5"}},
+        {"COc1cccc(OC)c1OC", 11, 60.8, 3.0, "PRETSCH-2009 (from memory); 1,2,3-trimethoxybenzene 2-OCH3",
+         {"aryl-och3-diortho 60.5"}},
+    });
+  }
+
+  TEST_CASE("push-pull and cis-allylic terms follow their worked examples") {
+    // alkene-corr-acceptor-alkyl (KALINOWSKI-1988, from memory) and
+    // gp-cis-allylic (DORMAN-JAUTELAT-ROBERTS-1971, from memory).
+    check_rows({
+        {"C/C=C/C(=O)OC", 1, 144.8, 2.0, "PRETSCH-2009 (from memory); methyl (E)-crotonate C3",
+         {"ipso acceptor-alkyl alkene-corr-acceptor-alkyl 3.8"}},
+        {"C/C=C/C(C)=O", 1, 143.0, 2.0, "KALINOWSKI-1988 (from memory); (E)-3-penten-2-one C4",
+         {"ipso acceptor-alkyl alkene-corr-acceptor-alkyl 3.8"}},
+        {"C/C=C\\C", 0, 12.0, 2.0, "DORMAN-JAUTELAT-ROBERTS-1971 (from memory); (Z)-2-butene CH3",
+         {"cis-allylic gp-cis-allylic -5.6"}},
+        {"C/C=C\\CC", 3, 20.3, 2.0, "DORMAN-JAUTELAT-ROBERTS-1971 (from memory); (Z)-2-pentene C4",
+         {"cis-allylic gp-cis-allylic -5.6"}},
+    });
+  }
+
   TEST_CASE("the cis correction separates (Z)- from (E)-2-pentene by the table's value") {
     // DORMAN-JAUTELAT-ROBERTS-1971 (from memory): the cis correction of
     // c13_alkene.tsv (alkene-corr-cis, -1.1 ppm) applies once per cis pair.
