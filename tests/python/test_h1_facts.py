@@ -63,6 +63,9 @@ REASONS = [
                              "4.6-5.2 ppm"),
     ("[CX4;!H0]([OX2,NX3])[$([#6]=,#*),a]", "CH2 between a heteroatom and a pi system (OCH2C=O, allyl and benzyl "
                                             "ethers) lies at 4.3-5.2 ppm"),
+    ("[CX4;!H0]([Cl,Br,I])[CX3]=O", "CH bearing a halogen next to a carbonyl group lies at 4.2-5.3 ppm (ethyl "
+                                    "2-bromobutanoate 4.2, 2-bromopropanoic acid 4.4, 2-bromopropiophenone 5.3; "
+                                    "PRETSCH-2009, from memory)"),
     ("[CX4;!H0]([OX2])[CX4](F)F", "OCH2 next to a fluoroalkyl group lies at 4.3-4.7 ppm"),
     ("[CX3;!H0](C=O)=[CX3]a", "alpha protons of chalcones and cinnamoyl ketones lie at 7.4-7.6 ppm"),
     ("[CX3;!H0](a)=[CX3]S(=O)=O", "beta protons of styryl sulfones lie at 7.5-7.7 ppm"),
@@ -74,6 +77,10 @@ REASONS = [
 KNOWN_ERRORS = {
     ("CO[CH](C)CC(O)=O", 2): "a one-compound lookup at HOSE sphere 3 takes an ester CH value for a methyl ether CH",
     ("BrC1=CC2=CC=CC=C2S1(=O)=O", 2): "Pascual-Meier-Simon applied to a five-membered ring C=C outside its scope",
+    ("[O-][N+](=O)C(Br)(Br)CCC(Br)(Br)[N+]([O-])=O", 6): "additive beta increments of three groups on one carbon "
+                                                          "(NO2, Br, Br) give 3.2 ppm for a CH2 with no group of "
+                                                          "its own",
+    ("[O-][N+](=O)C(Br)(Br)CCC(Br)(Br)[N+]([O-])=O", 7): "the same CH2 as atom 6",
 }
 
 _REGIONS = [(n, Chem.MolFromSmarts(s), lo, hi) for n, s, lo, hi in REGIONS]
