@@ -203,8 +203,17 @@ void solve_combination(const ExactProblem &problem, const std::vector<int> &f2, 
       }
       Eigen::SparseMatrix<double> lower(nf, n);
       lower.setFromTriplets(triplets.begin(), triplets.end());
-      const Eigen::MatrixXd moved = lower * current.vectors;
-      const Eigen::MatrixXd amplitude = previous.vectors.transpose() * moved;
+      // amplitude(f, i) = <f|F-|i> = V_f^T (L V_i) = (L^T V_f)^T V_i: one
+      // sparse product and one GEMM, whose cost is nf * nf * n or nf * n * n;
+      // take the cheaper orientation.
+      Eigen::MatrixXd amplitude;
+      if (nf <= n) {
+        const Eigen::MatrixXd moved = lower * current.vectors;
+        transposed_product(previous.vectors, moved, amplitude);
+      } else {
+        const Eigen::MatrixXd moved = lower.transpose() * previous.vectors;
+        transposed_product(moved, current.vectors, amplitude);
+      }
       std::vector<std::uint32_t> tied;
       std::vector<double> change(observed.size());
       for (Eigen::Index i = 0; i < n; ++i) {
