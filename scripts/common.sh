@@ -9,12 +9,13 @@ NMRPRED_DEBIAN_PACKAGES=(
   libopenbabel-dev openbabel libeigen3-dev libfmt-dev doctest-dev
   pybind11-dev python3-dev python3-numpy python3-pytest python3-scipy
   python3-rdkit rdkit-data nlohmann-json3-dev libcli11-dev
+  liblapack-dev libblas-dev libopenblas0-pthread
 )
-
-# Only for the benchmarks (benchmarks/spin_numpy_reference.py): Debian's
-# OpenBLAS, so that the NumPy reference runs on an optimised BLAS/LAPACK
-# rather than the reference one. Not needed to build or test.
-NMRPRED_BENCH_DEBIAN_PACKAGES=(libopenblas0-pthread)
+# liblapack-dev and libblas-dev: the generic LAPACK and BLAS the library links
+# (exact spin simulation). libopenblas0-pthread: Debian's alternatives then
+# run those calls, and NumPy's, on OpenBLAS's kernels for the processor rather
+# than on the reference implementation (several times slower); the library
+# works with either.
 
 # Debian's interpreter: the python3 first on PATH may be a different one
 # without the packages above.

@@ -82,7 +82,7 @@ struct Eigensystem {
   std::size_t label = std::numeric_limits<std::size_t>::max();
   Eigen::VectorXd energy;
   Eigen::MatrixXd vectors;  // columns: eigenvectors in the block's product basis
-  Eigen::MatrixXd polarisation;  // eigenstate x observed group: <F_gz>
+  Eigen::MatrixXd polarisation;  // observed group x eigenstate: <F_gz> (a state's values contiguous)
 };
 
 /// One combination of total spins: every group a single composite spin 2F = f2[g].
@@ -183,7 +183,7 @@ void solve_combination(const ExactProblem &problem, const std::vector<int> &f2, 
       for (std::size_t o = 0; o < observed.size(); ++o)
         mz(row, static_cast<Eigen::Index>(o)) = 0.5 * (2 * k[observed[o]] - f2[observed[o]]);
     }
-    current.polarisation.noalias() = current.vectors.cwiseAbs2().transpose() * mz;
+    current.polarisation.noalias() = mz.transpose() * current.vectors.cwiseAbs2();
 
     const std::size_t k0 = label % (kmax[0] + 1);
     if (k0 > 0 && previous.label == label - 1) {
@@ -203,8 +203,17 @@ void solve_combination(const ExactProblem &problem, const std::vector<int> &f2, 
       }
       Eigen::SparseMatrix<double> lower(nf, n);
       lower.setFromTriplets(triplets.begin(), triplets.end());
-      const Eigen::MatrixXd moved = lower * current.vectors;
-      const Eigen::MatrixXd amplitude = previous.vectors.transpose() * moved;
+      // amplitude(f, i) = <f|F-|i> = V_f^T (L V_i) = (L^T V_f)^T V_i: one
+      // sparse product and one GEMM, whose cost is nf * nf * n or nf * n * n;
+      // take the cheaper orientation.
+      Eigen::MatrixXd amplitude;
+      if (nf <= n) {
+        const Eigen::MatrixXd moved = lower * current.vectors;
+        transposed_product(previous.vectors, moved, amplitude);
+      } else {
+        const Eigen::MatrixXd moved = lower.transpose() * previous.vectors;
+        transposed_product(moved, current.vectors, amplitude);
+      }
       std::vector<std::uint32_t> tied;
       std::vector<double> change(observed.size());
       for (Eigen::Index i = 0; i < n; ++i) {
@@ -214,8 +223,8 @@ void solve_combination(const ExactProblem &problem, const std::vector<int> &f2, 
           if (intensity < min_intensity) continue;
           double best_change = -std::numeric_limits<double>::infinity();
           for (std::size_t o = 0; o < observed.size(); ++o) {
-            change[o] = current.polarisation(i, static_cast<Eigen::Index>(o)) -
-                        previous.polarisation(f, static_cast<Eigen::Index>(o));
+            change[o] = current.polarisation(static_cast<Eigen::Index>(o), i) -
+                        previous.polarisation(static_cast<Eigen::Index>(o), f);
             best_change = std::max(best_change, change[o]);
           }
           // Groups whose polarisation changes equally (two spins of one shift

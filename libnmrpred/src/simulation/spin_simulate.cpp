@@ -530,9 +530,13 @@ Simulation simulate(const SpinSystem &system, SpinNucleus observe, const Simulat
       raw = std::move(merged);
     }
     std::map<std::size_t, std::vector<Line>> cluster_lines;
+    // Destination of each observed group's lines, looked up once: exact
+    // clusters give millions of lines.
+    std::vector<std::vector<Line> *> dest_of(focal.size());
+    for (std::size_t f = 0; f < focal.size(); ++f) dest_of[f] = &cluster_lines[groups[focal[f]].chem];
     for (const RawLine &r : raw) {
       const std::size_t f = r.group;  // observed groups come first in the problem
-      auto &dest = cluster_lines[groups[focal[f]].chem];
+      auto &dest = *dest_of[f];
       for (const Line &p : own[f]) {
         const double intensity = r.intensity * p.second;
         if (intensity >= kMinIntensity) dest.emplace_back(r.hz + p.first, intensity);
@@ -540,7 +544,10 @@ Simulation simulate(const SpinSystem &system, SpinNucleus observe, const Simulat
     }
     for (auto &[set, lines] : cluster_lines) {
       auto &dest = signal_lines[set];
-      dest.insert(dest.end(), lines.begin(), lines.end());
+      if (dest.empty())
+        dest = std::move(lines);
+      else
+        dest.insert(dest.end(), lines.begin(), lines.end());
     }
   }
   if (approximated > 0)
@@ -566,6 +573,9 @@ Simulation simulate(const SpinSystem &system, SpinNucleus observe, const Simulat
     std::size_t set;
   };
   std::vector<Tagged> tagged;
+  std::size_t total = 0;
+  for (const auto &[set, lines] : signal_lines) total += lines.size();
+  tagged.reserve(total);
   for (const auto &[set, lines] : signal_lines)
     for (const Line &l : lines) tagged.push_back({l.first, l.second, set});
   std::sort(tagged.begin(), tagged.end(), [](const Tagged &a, const Tagged &b) { return a.hz < b.hz; });
