@@ -143,6 +143,14 @@ TEST_SUITE("shifts_h1") {
     });
   }
 
+  TEST_CASE("Shoolery's rule takes the -COR constant for an aldehyde group on CH2XY") {
+    // sigma-aldehyde: SILVERSTEIN-2014's -COR constant read for R = H (common practice).
+    check_rows({
+        {"O=CCc1ccccc1", 2, 3.69, 0.2, "PRETSCH-2009 (from memory)",
+         {"Shoolery's rule: base shoolery-base 0.23", "sigma-aldehyde 1.70", "sigma-aryl 1.85", "= 3.78"}},
+    });
+  }
+
   TEST_CASE("Shoolery's sum gives CH protons with two or three groups, at most one through a heteroatom") {
     // tables/FORMAT.md step 1a: the sum overshoots; 0.5 ppm is its documented
     // spread, and benzhydrol (6.49 against 5.84) shows the overshoot with an OH.

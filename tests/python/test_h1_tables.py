@@ -358,6 +358,8 @@ SHOOLERY_CASES = [
     ("CC(=O)CC(=O)OCC", 3, 3.44, "PRETSCH-2009 (from memory)"),
     ("CC(=O)CC(C)=O", 3, 3.60, "PRETSCH-2009 (from memory)"),
     ("C=CCBr", 2, 3.94, "PRETSCH-2009 (from memory)"),
+    # sigma-aldehyde (the -COR constant read for R = H, common practice): phenylacetaldehyde
+    ("O=CCc1ccccc1", 2, 3.69, "PRETSCH-2009 (from memory)"),
 ]
 # Shoolery's rule is usually good to about 0.2 ppm for CH2XY with at most one
 # heteroatom substituent (SILVERSTEIN-2014, from memory; common practice).
