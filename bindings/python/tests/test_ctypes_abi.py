@@ -20,6 +20,7 @@ References outside the project:
 Records with "demo-" ids are demo data with invented values, not published.
 """
 
+import contextlib
 import ctypes
 import json
 import math
@@ -177,13 +178,22 @@ def lib():
     return dll
 
 
-@pytest.fixture
-def ctx(lib):
+@contextlib.contextmanager
+def fresh_context(lib):
+    """A context on the built-in tables, freed on leaving the block."""
     handle = ctypes.c_void_p()
     assert lib.nmr_context_new(ctypes.byref(handle), None) == NMR_OK
     assert handle.value
-    yield handle
-    lib.nmr_context_free(handle)
+    try:
+        yield handle
+    finally:
+        lib.nmr_context_free(handle)
+
+
+@pytest.fixture
+def ctx(lib):
+    with fresh_context(lib) as handle:
+        yield handle
 
 
 def predict(lib, ctx, text, fmt=None):
@@ -619,17 +629,13 @@ def test_contexts_in_parallel_threads_give_the_sequential_results(lib):
     texts = ["CC(O)CC\nc1ccc2ccccc2c1\n", "OC(=O)C(N)Cc1ccccc1\nCCOC(=O)C\n"] * 3
 
     def run(text):
-        handle = ctypes.c_void_p()
-        assert lib.nmr_context_new(ctypes.byref(handle), None) == NMR_OK
-        try:
+        with fresh_context(lib) as handle:
             rc, res = predict(lib, handle, text)
             assert rc == NMR_OK
             try:
                 return result_json(lib, res)
             finally:
                 lib.nmr_result_free(res)
-        finally:
-            lib.nmr_context_free(handle)
 
     assert_parallel_runs_match_sequential(run, texts)
 
@@ -758,17 +764,13 @@ def test_exact_simulations_in_parallel_threads_give_the_sequential_lines(lib):
     texts = [json.dumps(ten), json.dumps(chain)] * 3
 
     def run(text):
-        handle = ctypes.c_void_p()
-        assert lib.nmr_context_new(ctypes.byref(handle), None) == NMR_OK
-        try:
+        with fresh_context(lib) as handle:
             rc, spec = simulate_json(lib, handle, text)
             assert rc == NMR_OK, last_error(lib, handle)
             try:
                 return spectrum_lines(lib, spec)
             finally:
                 lib.nmr_spectrum_free(spec)
-        finally:
-            lib.nmr_context_free(handle)
 
     assert len(run(texts[0])[1]) > 1000
     assert_parallel_runs_match_sequential(run, texts)
