@@ -174,6 +174,37 @@ TEST_SUITE("shifts_h1") {
     });
   }
 
+  TEST_CASE("a group alpha and another beta add as the position table's steps") {
+    // tables/FORMAT.md step 3b: alpha row plus (beta row - alkane value);
+    // step 3c: a CH one bond from a group takes the CH2 row's step.
+    check_rows({
+        {"COCCOC", 2, 3.55, 0.2, "GOTTLIEB-1997 (from memory)",
+         {"position table (CH2 alpha to a group, beta to others, additive): alpha-ch2-alkoxy 3.37",
+          "beta-ch2-alkoxy 0.23", "= 3.60"}},
+        {"ClCCCl", 1, 3.73, 0.3, "GOTTLIEB-1997 (from memory)", {"alpha-ch2-chloro 3.47", "beta-ch2-chloro 0.51"}},
+        {"CC(C)CO", 1, 1.77, 0.2, "PRETSCH-2009 (from memory)",
+         {"position table (CH beta to a group, additive): alkane-ch 1.50",
+          "(carried over from CH2) beta-ch2-hydroxy 0.23"}},
+    });
+  }
+
+  TEST_CASE("an amine nitrogen on an aromatic ring takes the arylamino rows") {
+    // Rows derived from Shoolery's constants (tables/FORMAT.md step 2a).
+    check_rows({
+        {"CNc1ccccc1", 0, 2.84, 0.2, "PRETSCH-2009 (from memory)", {"alpha-ch3-arylamino 2.67"}},
+        {"CCN(CC)c1ccccc1", 1, 3.35, 0.5, "PRETSCH-2009 (from memory)", {"alpha-ch2-arylamino 2.87"}},
+    });
+  }
+
+  TEST_CASE("the ring C=C of a 2-pyridone is read as an enamide by Pascual-Meier-Simon") {
+    check_rows({
+        {"O=c1cccc[nH]1", 2, 6.59, 0.2, "PRETSCH-2009 (from memory)",
+         {"gem amide 1.37", "trans alkenyl-conj -0.05", "ring C=C of a pyridone-type ring"}},
+        {"O=c1cccc[nH]1", 5, 7.34, 0.2, "PRETSCH-2009 (from memory)",
+         {"gem acylamino 2.08", "trans alkenyl-conj -0.05"}},
+    });
+  }
+
   TEST_CASE("the position table gives CH3, CH2 and CH next to one group or one bond further away") {
     check_rows({
         {"CC(C)=O", 0, 2.17, 0.15, "GOTTLIEB-1997 (from memory)",
@@ -381,7 +412,10 @@ TEST_SUITE("shifts_h1") {
         {"CCOC(=O)C(C)C(=O)OCC", 5, "CDCl3", "CH with two carbonyl groups (tables/FORMAT.md step 1a)"},
         {"C1CN1", 0, "CDCl3", "aziridine ring strain (tables/FORMAT.md)"},
         {"C1CCC1", 0, "CDCl3", "four-membered ring (measured misses of 0.6-1.4 ppm)"},
-        {"ClCCCl", 1, "CDCl3", "alpha and beta groups on one carbon (no published combination)"},
+        {"OCC(Br)(Br)Br", 1, "CDCl3", "a group alpha and three beta: more than two groups within two bonds (step 3b)"},
+        {"CC(Br)C(C)Br", 1, "CDCl3", "CH with two groups through a heteroatom: no carried-over beta step (step 3c)"},
+        {"O=c1cc[nH]cc1", 2, "CDCl3", "4-pyridone C=C: push-pull, outside the alkene rule's scope"},
+        {"O=c1ccc2ccccc2o1", 2, "CDCl3", "coumarin: only lactam rings are read as open enones"},
         {"CS(C)=O", 0, "CDCl3", "sulfoxide has no row"},
         {"OB(O)c1ccccc1", 4, "CDCl3", "boronic acid substituent has no benzene row"},
         {"C=C=C", 0, "CDCl3", "allene (tables/FORMAT.md)"},
