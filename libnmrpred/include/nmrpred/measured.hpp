@@ -134,7 +134,10 @@ NMRPRED_API std::string format_measured(const MeasuredSpectrum &spectrum);
 /// Signal's (empty until couplings are predicted); for 1H the integral is
 /// Signal::count; for 13C attached_h is Signal::attached_h and the integral
 /// is Signal::count only where several carbons coincide (count > 1), as
-/// chemists write "128.5 (2C)". Exchanged protons (Prediction::
+/// chemists write "128.5 (2C)". Signals that would be written alike (same
+/// shift, multiplicity and J values at the written precision; for 13C also
+/// the same attached_h) are one peak with the summed integral, as a spectrum
+/// shows them, so there may be fewer peaks than signals. Exchanged protons (Prediction::
 /// h1_exchanged_signals) are left out, as a spectrum shows them. `mhz` is
 /// copied into the result; the solvent is Prediction::solvent.name. text is
 /// the peak as format_measured writes it; position is 0. Never throws except

@@ -1,6 +1,7 @@
 // Entry points of measured peak lists: format dispatch, writing a list in the
 // trade's prose style, and predictions as peak lists.
 
+#include <algorithm>
 #include <cmath>
 #include <string>
 
@@ -208,24 +209,37 @@ MeasuredSpectrum as_measured(const Prediction &prediction, Nucleus nucleus, std:
   sp.nucleus = nucleus;
   sp.mhz = mhz;
   sp.solvent = prediction.solvent.name;
+  // Signals of different classes that would be written alike (same shift,
+  // multiplicity and J values at the written precision, and for 13C the same
+  // attached-H count) are one peak in a spectrum, and a chemist writes them
+  // once with the summed integral: two diastereotopic OCH2 protons predicted
+  // at one shift read "4.15 (q, J = 7.0 Hz, 2H)", not two 1H entries.
+  std::vector<std::string> keys;  // per peak: its written form without the integral, empty if unwritable
+  std::vector<double> counts;     // per peak: atoms it stands for
   for (const auto &s : prediction.signals(nucleus)) {
     MeasuredPeak p;
     p.ppm = p.ppm_low = p.ppm_high = s.ppm;
     p.multiplicity = s.multiplicity;
     p.j_hz = s.j_hz;
     p.j_partner.assign(p.j_hz.size(), std::string());
-    if (nucleus == Nucleus::C13) {
-      p.attached_h = s.attached_h;
-      if (s.count > 1) p.integral = s.count;
-    } else {
-      p.integral = s.count;
-    }
+    if (nucleus == Nucleus::C13) p.attached_h = s.attached_h;
+    std::string key;
     try {
-      p.text = format_peak(p, nucleus, false);
+      key = format_peak(p, nucleus, false);
     } catch (const InputError &) {
       // A non-finite predicted value has no written form; the peak keeps its numbers.
     }
-    sp.peaks.push_back(std::move(p));
+    const auto same = key.empty() ? keys.end() : std::find(keys.begin(), keys.end(), key);
+    const std::size_t at = same == keys.end() ? sp.peaks.size() : static_cast<std::size_t>(same - keys.begin());
+    if (same == keys.end()) {
+      sp.peaks.push_back(std::move(p));
+      keys.push_back(std::move(key));
+      counts.push_back(0);
+    }
+    counts[at] += static_cast<double>(s.count);
+    MeasuredPeak &peak = sp.peaks[at];
+    if (nucleus == Nucleus::H1 || counts[at] > 1) peak.integral = counts[at];
+    if (!keys[at].empty()) peak.text = format_peak(peak, nucleus, false);
   }
   return sp;
 }
