@@ -35,6 +35,7 @@
 // and cis-allylic terms, more classes) 3818 covered, MAE 1.21, 76%.
 
 #include <nmrpred/error.hpp>
+#include <nmrpred/solvents.hpp>
 
 #include <algorithm>
 #include <array>
@@ -44,6 +45,7 @@
 #include <memory>
 #include <optional>
 #include <string>
+#include <string_view>
 #include <unordered_map>
 #include <utility>
 #include <vector>
@@ -178,6 +180,14 @@ struct RingTables {
   std::vector<RingRow> bases, members, substituents;
 };
 
+// c13_solvent.tsv: a term added to the rule value of a carbon the pattern
+// matches when the sample is in `solvent` (a name of solvents.tsv).
+struct SolventRow {
+  std::string id, solvent;
+  SmartsPattern smarts;
+  double ppm = 0;
+};
+
 struct C13Tables {
   Param gp_base;
   std::array<Param, 6> gp_position;        // 1..5
@@ -193,6 +203,7 @@ struct C13Tables {
   std::vector<HetRing> hetero;  // largest ring pattern first
   std::vector<ClassRow> classes;
   RingTables ring;
+  std::vector<SolventRow> solvent;
 };
 
 }  // namespace
@@ -414,6 +425,16 @@ void read_classes(const Tables &tables, const char *path, C13Tables &out) {
   }
 }
 
+void read_solvent(const Tables &tables, C13Tables &out) {
+  TableReader r(tables, "increments/c13_solvent.tsv");
+  if (!r.present()) return;
+  const auto c_id = r.col("id"), c_solvent = r.col("solvent"), c_smarts = r.col("smarts"),
+             c_shift = r.col("shift_ppm");
+  for (const auto &row : r.table().rows)
+    out.solvent.push_back(
+        SolventRow{row.fields[c_id], row.fields[c_solvent], r.smarts(row, c_smarts), r.need_ppm(row, c_shift)});
+}
+
 // v with two decimals, as fmt's "{:.2f}" writes it: std::to_chars rounds the
 // exact binary value the same way and costs a fraction of the formatter (a
 // method text holds a dozen of these).
@@ -596,14 +617,21 @@ using Result = std::optional<Sum>;
 
 class C13Increments final : public ShiftSource {
  public:
-  explicit C13Increments(std::shared_ptr<const C13IncrementTables> parsed)
-      : parsed_(std::move(parsed)), tab_(parsed_->tables) {}
+  // `solvent`: the sample's solvent as solvents.tsv names it (find_solvent),
+  // empty for none; only the c13_solvent rows of that solvent apply.
+  C13Increments(std::shared_ptr<const C13IncrementTables> parsed, const std::string &solvent)
+      : parsed_(std::move(parsed)), tab_(parsed_->tables) {
+    for (const auto &row : tab_.solvent)
+      if (row.solvent == solvent) solvent_rows_.push_back(&row);
+  }
 
   bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
     if (q.nucleus != Nucleus::C13) return false;
     std::string why;
-    const auto r = evaluate(q, atom, &why);
+    auto r = evaluate(q, atom, &why);
     if (!r) return false;
+    for (const auto *row : solvent_rows_)
+      if (match_at(row->smarts, target(q), atom)) r->add("solvent", row->id, row->ppm);
     out.ppm = r->ppm();
     out.uncertainty_ppm = r->uncertainty();
     out.source = ShiftSourceKind::Increments;
@@ -1468,6 +1496,7 @@ class C13Increments final : public ShiftSource {
 
   std::shared_ptr<const C13IncrementTables> parsed_;
   const C13Tables &tab_;
+  std::vector<const SolventRow *> solvent_rows_;
   mutable const ShiftQuery *query_ = nullptr;
   mutable const SmartsTarget *target_ = nullptr;
   mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_matches_;  // per hetero ring
@@ -1488,16 +1517,22 @@ std::shared_ptr<const C13IncrementTables> parse_c13_increment_tables(const Table
   read_classes(tables, "increments/c13_carbonyl.tsv", out->tables);
   read_classes(tables, "increments/c13_sp3_class.tsv", out->tables);
   read_ring(tables, out->tables);
+  read_solvent(tables, out->tables);
   return out;
 }
 
-std::unique_ptr<ShiftSource> make_c13_increments(std::shared_ptr<const C13IncrementTables> parsed) {
+std::unique_ptr<ShiftSource> make_c13_increments(std::shared_ptr<const C13IncrementTables> parsed,
+                                                 const Tables &tables, std::string_view solvent) {
   if (!parsed) throw InternalError("make_c13_increments: no parsed tables");
-  return std::make_unique<C13Increments>(std::move(parsed));
+  // Resolved only when some row depends on the solvent, so a table set
+  // without solvents.tsv or c13_solvent.tsv predicts as before.
+  std::string name;
+  if (!parsed->tables.solvent.empty()) name = find_solvent(tables, solvent).name;
+  return std::make_unique<C13Increments>(std::move(parsed), name);
 }
 
-std::unique_ptr<ShiftSource> make_c13_increments(const Tables &tables) {
-  return make_c13_increments(parse_c13_increment_tables(tables));
+std::unique_ptr<ShiftSource> make_c13_increments(const Tables &tables, std::string_view solvent) {
+  return make_c13_increments(parse_c13_increment_tables(tables), tables, solvent);
 }
 
 }  // namespace nmrpred::detail

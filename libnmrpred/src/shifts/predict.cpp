@@ -366,7 +366,8 @@ std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &c
     throw ArgumentError("predict_c13: classes belong to another molecule");
   detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::C13, shared);
   std::unique_ptr<detail::ShiftSource> increments;
-  if (options.use_increments) increments = detail::make_c13_increments(tables.c13_increments());
+  if (options.use_increments)
+    increments = detail::make_c13_increments(tables.c13_increments(), tables, options.solvent);
   const auto user = detail::make_reference_lookup(true, increments.get());
   const auto builtin = detail::make_reference_lookup(false, increments.get());
   const auto fallback = detail::make_c13_class_average();

@@ -76,7 +76,7 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     const auto classes = compute_classes(m);
     index->constitution[ci] = constitution_key(m, classes);
     const ShiftQuery q(m, classes, tables, plain, Nucleus::C13);
-    const auto increments = make_c13_increments(tables.c13_increments());
+    const auto increments = make_c13_increments(tables.c13_increments(), tables, c.solvent);
     ShiftOptions in_solvent;
     in_solvent.solvent = c.solvent;
     const ShiftQuery qh(m, classes, tables, in_solvent, Nucleus::H1);
