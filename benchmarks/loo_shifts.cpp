@@ -42,8 +42,8 @@ struct Stats {
       off += std::fabs(e) > far;
     }
     const double n = static_cast<double>(err.size());
-    std::printf("%-28s n=%5zu  MAE %6.2f  RMSE %6.2f  max %6.1f  >%.1f: %5.1f%%  within +/-1u: %5.1f%%\n", name,
-                err.size(), abs / n, std::sqrt(sq / n), mx, far, 100.0 * off / n, 100.0 * within / n);
+    std::printf("%-28s n=%5zu  MAE %6.2f  RMSE %6.2f  max %6.1f  >%.1f: %5.1f%% (%4d)  within +/-1u: %5.1f%%\n",
+                name, err.size(), abs / n, std::sqrt(sq / n), mx, far, 100.0 * off / n, off, 100.0 * within / n);
   }
 };
 
