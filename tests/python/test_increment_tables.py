@@ -101,7 +101,7 @@ SPECS = {
         "columns": ["id", "kind", "ring_size", "branch", "substituent", "smarts", "example", "alpha_ppm", "beta_ppm",
                     "gamma_ppm", "delta_ppm", "source", "comment"],
         "numeric": ["alpha_ppm", "beta_ppm", "gamma_ppm", "delta_ppm"],
-        "enums": {"kind": {"base", "member", "substituent"}, "ring_size": {"-", "3", "4", "5", "6", "7", "8"},
+        "enums": {"kind": {"base", "member", "substituent", "bridge"}, "ring_size": {"-", "3", "4", "5", "6", "7", "8"},
                   "branch": {"-", "atom", "group"}},
     },
     "c13_solvent.tsv": {
@@ -298,6 +298,10 @@ def check_semantics(t):
             need = ["alpha_ppm"]
             if row["kind"] == "substituent":
                 need = ["alpha_ppm", "beta_ppm", "gamma_ppm", "delta_ppm"]
+            if row["kind"] == "bridge":
+                need = ["alpha_ppm", "beta_ppm", "gamma_ppm"]
+                if row["ring_size"] == "-":
+                    errors.append(f"{where}: a bridge row names its ring size")
             if (row["kind"] == "member") != (row["branch"] in ("atom", "group")):
                 errors.append(f"{where}: member rows (and only they) name a branch, 'atom' or 'group'")
         elif name == "c13-solvent":
