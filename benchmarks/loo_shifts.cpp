@@ -42,8 +42,8 @@ struct Stats {
       off += std::fabs(e) > far;
     }
     const double n = static_cast<double>(err.size());
-    std::printf("%-28s n=%5zu  MAE %6.2f  RMSE %6.2f  max %6.1f  >%.1f: %5.1f%%  within +/-1u: %5.1f%%\n", name,
-                err.size(), abs / n, std::sqrt(sq / n), mx, far, 100.0 * off / n, 100.0 * within / n);
+    std::printf("%-28s n=%5zu  MAE %6.2f  RMSE %6.2f  max %6.1f  >%.1f: %5.1f%% (%4d)  within +/-1u: %5.1f%%\n",
+                name, err.size(), abs / n, std::sqrt(sq / n), mx, far, 100.0 * off / n, off, 100.0 * within / n);
   }
 };
 
@@ -177,7 +177,11 @@ int main(int argc, char **argv) {
   for (const auto &rc : tables->reference()) {
     const auto m = nmrpred::read_molecule(rc.smiles, nmrpred::Format::Smiles);
     const auto cls = nmrpred::compute_classes(m);
-    const auto shifts = nmrpred::predict_c13(m, cls, *tables, opt);
+    // Each compound in the solvent it was measured in (13C terms of
+    // tables/increments/c13_solvent.tsv).
+    nmrpred::ShiftOptions o = opt;
+    o.solvent = rc.solvent;
+    const auto shifts = nmrpred::predict_c13(m, cls, *tables, o);
     std::map<std::size_t, const nmrpred::Shift *> by_atom;
     for (const auto &s : shifts) by_atom[s.atom] = &s;
     for (const auto &as : rc.c13) {

@@ -101,8 +101,14 @@ SPECS = {
         "columns": ["id", "kind", "ring_size", "branch", "substituent", "smarts", "example", "alpha_ppm", "beta_ppm",
                     "gamma_ppm", "delta_ppm", "source", "comment"],
         "numeric": ["alpha_ppm", "beta_ppm", "gamma_ppm", "delta_ppm"],
-        "enums": {"kind": {"base", "member", "substituent"}, "ring_size": {"-", "3", "4", "5", "6", "7", "8"},
+        "enums": {"kind": {"base", "member", "substituent", "bridge"}, "ring_size": {"-", "3", "4", "5", "6", "7", "8"},
                   "branch": {"-", "atom", "group"}},
+    },
+    "c13_solvent.tsv": {
+        "table": "c13-solvent",
+        "columns": ["id", "solvent", "group", "smarts", "example", "shift_ppm", "source", "comment"],
+        "numeric": ["shift_ppm"],
+        "enums": {},
     },
 }
 # Loose physical bounds that catch a slipped digit: base and typical shifts
@@ -292,8 +298,14 @@ def check_semantics(t):
             need = ["alpha_ppm"]
             if row["kind"] == "substituent":
                 need = ["alpha_ppm", "beta_ppm", "gamma_ppm", "delta_ppm"]
+            if row["kind"] == "bridge":
+                need = ["alpha_ppm", "beta_ppm", "gamma_ppm"]
+                if row["ring_size"] == "-":
+                    errors.append(f"{where}: a bridge row names its ring size")
             if (row["kind"] == "member") != (row["branch"] in ("atom", "group")):
                 errors.append(f"{where}: member rows (and only they) name a branch, 'atom' or 'group'")
+        elif name == "c13-solvent":
+            need = ["shift_ppm"]
         elif name in ("c13-carbonyl", "c13-sp3-class"):
             need = ["typical_ppm", "low_ppm", "high_ppm"]
             if None not in values.values() and not values["low_ppm"] <= values["typical_ppm"] <= values["high_ppm"]:
@@ -505,6 +517,31 @@ def test_smarts_and_examples_parse(tables):
     fail_with(errors)
 
 
+def test_solvent_rows_name_listed_solvents(tables):
+    """Each c13_solvent row names a solvent by its name in tables/solvents.tsv
+    (the predictor compares names exactly), matches atom 0 of its example,
+    and no solvent lists two rows for the same carbon of an example (basis:
+    tables/FORMAT.md, "13C solvent terms")."""
+    solvents = Table(REPO_ROOT / "tables" / "solvents.tsv", spec={})
+    names = {r["name"] for r in solvents.rows}
+    rows = tables["c13_solvent.tsv"].rows
+    errors = []
+    for row in rows:
+        where = tables["c13_solvent.tsv"].where(row)
+        if row["solvent"] not in names:
+            errors.append(f"{where}: solvent {row['solvent']!r} is not a name of solvents.tsv")
+        mol = Chem.MolFromSmiles(row["example"])
+        if mol is None:
+            continue
+        if not matches_at(mol, row["smarts"], 0, set()):
+            errors.append(f"{where}: the SMARTS does not match atom 0 of the example")
+        twins = [r["id"] for r in rows
+                 if r["solvent"] == row["solvent"] and matches_at(mol, r["smarts"], 0, set())]
+        if len(twins) > 1:
+            errors.append(f"{where}: {twins} all apply to atom 0 of the example")
+    fail_with(errors)
+
+
 def test_alkane_tables_complete(tables):
     """Grant-Paul has its base, alpha..epsilon terms and all 16 steric
     corrections (and may have the cis-allylic term); Lindeman-Adams has base, gamma and delta for classes 1-4
@@ -547,7 +584,8 @@ def example_sites(t, row):
 
 
 def test_examples_show_the_substituent_at_atom_0(tables):
-    """For every substituent row, the SMARTS matches its example molecule at
+    """For every substituent row (class and solvent rows match the carbon
+    itself and are checked elsewhere), the SMARTS matches its example molecule at
     a neighbour of atom 0 (the skeleton atom carrying it) without touching
     the skeleton, and no other row of the same scheme matches there (basis:
     RDKit substructure matching)."""
@@ -556,7 +594,7 @@ def test_examples_show_the_substituent_at_atom_0(tables):
     for t in tables.values():
         name = t.spec["table"]
         for row in well_formed(t):
-            if row.get("smarts", "-") == "-" or name in ("c13-carbonyl", "c13-sp3-class"):
+            if row.get("smarts", "-") == "-" or name in ("c13-carbonyl", "c13-sp3-class", "c13-solvent"):
                 continue
             if name == "c13-ring-sp3" and row["kind"] == "member":
                 mol = Chem.MolFromSmiles(row["example"])

@@ -66,8 +66,9 @@ struct ShiftOptions {
   /// Use increment rules before the last resort.
   bool use_increments = true;
   /// Solvent (name or alias from tables/solvents.tsv). Matters for
-  /// exchangeable protons; other values are for CDCl3 unless a method says
-  /// otherwise.
+  /// exchangeable protons and for the 13C carbons that
+  /// tables/increments/c13_solvent.tsv lists (carboxylic acid C=O in
+  /// DMSO-d6); other values are for CDCl3 unless a method says otherwise.
   std::string solvent = "CDCl3";
 };
 
@@ -75,7 +76,8 @@ struct ShiftOptions {
 /// chemical class) get identical values. `classes` must come from
 /// compute_classes(molecule). Warnings (atoms only the last resort could
 /// handle, unusual elements) are appended to `warnings` when it is not null.
-/// Throws ArgumentError if `classes` belongs to another molecule.
+/// Throws ArgumentError if `classes` belongs to another molecule, or for an
+/// unknown solvent when the 13C tables hold solvent terms.
 NMRPRED_API std::vector<Shift> predict_c13(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
                                            const ShiftOptions &options = {},
                                            std::vector<std::string> *warnings = nullptr);

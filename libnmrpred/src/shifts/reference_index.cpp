@@ -52,6 +52,11 @@ std::int64_t diastereotopic_partner(const Molecule &m, const AtomClasses &classe
   return partner;
 }
 
+std::uint64_t scheme_key(std::string_view method) {
+  const auto colon = method.find(':');
+  return hose_key_part(kHoseKeySeed, method.substr(0, colon));
+}
+
 std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables) {
   const auto &compounds = tables.reference();
   auto index = std::make_shared<ReferenceIndex>();
@@ -59,6 +64,7 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
   struct Raw {
     std::uint32_t compound;
     double shift, increment, half;
+    std::uint64_t scheme;
   };
   constexpr double nan = std::numeric_limits<double>::quiet_NaN();
   std::array<std::array<std::array<std::unordered_map<std::uint64_t, std::vector<Raw>>, kMaxHoseSpheres + 1>, 2>, 2> raw;
@@ -76,7 +82,7 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     const auto classes = compute_classes(m);
     index->constitution[ci] = constitution_key(m, classes);
     const ShiftQuery q(m, classes, tables, plain, Nucleus::C13);
-    const auto increments = make_c13_increments(tables.c13_increments());
+    const auto increments = make_c13_increments(tables.c13_increments(), tables, c.solvent);
     ShiftOptions in_solvent;
     in_solvent.solvent = c.solvent;
     const ShiftQuery qh(m, classes, tables, in_solvent, Nucleus::H1);
@@ -87,16 +93,21 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     std::vector<bool> keyed(m.atom_count(), false);
     for (std::size_t a = 0; a < m.atom_count(); ++a) keyed[a] = m.atom(a).atomic_number == 6 || m.is_hydrogen(a);
     const auto all_keys = hose_keys(m, classes, keyed);
+    std::uint64_t last_scheme = 0;
     auto increment_of = [&](int nucleus, std::size_t centre) {
       Shift s;
-      if (nucleus == kIndexC13 && increments->estimate(q, centre, s)) return s.ppm;
+      last_scheme = 0;
+      if (nucleus == kIndexC13 && increments->estimate(q, centre, s)) {
+        last_scheme = scheme_key(s.method);
+        return s.ppm;
+      }
       if (nucleus == kIndexH1 && h1_increments->estimate(qh, centre, s) && !s.exchangeable) return s.ppm;
       return std::numeric_limits<double>::quiet_NaN();
     };
     auto add = [&](int nucleus, std::size_t centre, double value, double increment, double half) {
       const auto &keys = all_keys[centre];
       for (int k = 1; k <= kMaxHoseSpheres; ++k)
-        raw[origin][nucleus][k][keys[static_cast<std::size_t>(k)]].push_back({ci, value, increment, half});
+        raw[origin][nucleus][k][keys[static_cast<std::size_t>(k)]].push_back({ci, value, increment, half, last_scheme});
     };
     auto check_atom = [&](std::uint32_t a) {
       if (a >= m.heavy_atom_count())
@@ -107,8 +118,8 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
         check_atom(as.atoms[k]);
         if (m.atom(as.atoms[k]).atomic_number != 6)
           throw TablesError(fmt::format("{}:{}: reference '{}': 13C shift on atom {}, which is not carbon", c.file, c.line, c.id, as.atoms[k]));
-        add(kIndexC13, as.atoms[k], as.values.size() == as.atoms.size() ? as.values[k] : as.values[0],
-            increment_of(kIndexC13, as.atoms[k]), nan);
+        const double inc = increment_of(kIndexC13, as.atoms[k]);
+        add(kIndexC13, as.atoms[k], as.values.size() == as.atoms.size() ? as.values[k] : as.values[0], inc, nan);
       }
     for (const auto &as : c.h1)
       for (std::size_t k = 0; k < as.atoms.size(); ++k) {
@@ -160,7 +171,7 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
               }
             }
             const CompoundValue v{atoms[i].compound, sum / static_cast<double>(j - i),
-                                  rn ? rsum / rn : nan, hn ? hsum / hn : nan};
+                                  rn ? rsum / rn : nan, hn ? hsum / hn : nan, atoms[i].scheme};
             b.compounds.push_back(v);
             shifts.push_back(v.shift_ppm);
             if (rn) residuals.push_back(v.residual_ppm);

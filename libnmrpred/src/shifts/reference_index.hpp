@@ -36,7 +36,15 @@ struct CompoundValue {
   // a diastereotopic sp3 CH2 with this code (0 where it gives one value for
   // both); NaN where the atom is no such CH2. See diastereotopic_partner().
   double pair_half_ppm;
+  // Which 13C rule scheme gave the residual (scheme_key() of its method
+  // text); 0 where there is none.
+  std::uint64_t scheme;
 };
+
+// A key for the scheme a rule value comes from: its method text up to the
+// first ':' (the scheme's name, with the ring size or class name where the
+// text gives one). Thread rule: pure.
+std::uint64_t scheme_key(std::string_view method);
 
 struct Summary {
   int n = 0;  // compounds

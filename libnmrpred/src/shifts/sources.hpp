@@ -7,6 +7,7 @@
 #include <cstdint>
 #include <memory>
 #include <string>
+#include <string_view>
 #include <unordered_map>
 #include <vector>
 
@@ -104,9 +105,13 @@ std::unique_ptr<ShiftSource> make_h1_class_average();
 // threads. A source object serves one predict_c13 call, from one thread.
 struct C13IncrementTables;
 std::shared_ptr<const C13IncrementTables> parse_c13_increment_tables(const Tables &tables);
-std::unique_ptr<ShiftSource> make_c13_increments(std::shared_ptr<const C13IncrementTables> parsed);
+// `solvent` is the sample's solvent, a name or alias of solvents.tsv; it
+// selects the rows of c13_solvent.tsv and is looked up (ArgumentError if
+// unknown) only when that table has rows.
+std::unique_ptr<ShiftSource> make_c13_increments(std::shared_ptr<const C13IncrementTables> parsed,
+                                                 const Tables &tables, std::string_view solvent);
 // Parses `tables` anew (convenience for callers that have no parsed copy).
-std::unique_ptr<ShiftSource> make_c13_increments(const Tables &tables);
+std::unique_ptr<ShiftSource> make_c13_increments(const Tables &tables, std::string_view solvent = "CDCl3");
 
 // predict_c13 / predict_h1 (nmrpred/shifts.hpp) with facts of the molecule
 // shared by both (null: each makes its own).
