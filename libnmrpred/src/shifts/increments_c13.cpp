@@ -27,9 +27,10 @@
 // Passed on because the sums overshoot by 5-25 ppm on the NCI sample
 // (tests/python/test_c13_facts.py): an sp3 carbon with two or more groups of
 // which one is bonded through a heteroatom, an sp3 carbon next to a carbon
-// with two or more halogens, ring carbons with vicinal heteroatom groups,
-// the ipso carbon of a crowded O/N donor on benzene, carried-over ipso terms
-// next to a ring heteroatom (except CH3) and OH/SH on rings with a ring N.
+// with two or more halogens (unless it carries no group itself), ring carbons
+// with vicinal heteroatom groups, the ipso carbon of a crowded O/N donor on
+// benzene, carried-over ipso terms next to a ring heteroatom (except CH3)
+// and OH/SH on rings with a ring N.
 // Measured after these decisions: 3809 of 3953 reference carbons covered,
 // MAE 1.25 ppm, 76% within one sigma; with the rows added since (push-pull
 // and cis-allylic terms, more classes) 3818 covered, MAE 1.21, 76%.
@@ -1308,7 +1309,16 @@ class C13Increments final : public ShiftSource {
     if (hetero_on_k >= 2) return fail(why, "two or more heteroatoms on the sp3 carbon");
     if (ring) s.outside("ring carbons in the chain");
     if (groups_on_k >= 2 && hetero_on_k >= 1) return fail(why, kCrowdedHetero);
-    if (polyhalo_neighbour(m, k)) return fail(why, kPolyhaloNeighbour);
+    // Next to a CX2/CX3 carbon the sums overshoot when k carries a group of
+    // its own (NCI sample); a carbon with none (the CH3 of CH3CCl3 and
+    // CH3CHCl2) keeps the sum, flagged, since the sphere-1 lookup it fell to
+    // takes the median of every CH3-C (leave-one-out: 26.5 -> 12.1 and
+    // 12.2 -> 5.5 ppm off, no other carbon changes; the beta terms of
+    // several halogens on one carbon do not add up, hence the flag).
+    if (polyhalo_neighbour(m, k)) {
+      if (groups_on_k > 0) return fail(why, kPolyhaloNeighbour);
+      s.outside(kPolyhaloNeighbour);
+    }
     if (groups_on_k >= 2) s.outside("two or more functional groups on the carbon");
     return s;
   }
