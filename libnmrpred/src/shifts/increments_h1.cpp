@@ -69,6 +69,10 @@ constexpr Spread kAlphaBetaSpread{0.18, 0.06};
 // Added in quadrature per CH2 beta step carried over to a CH (step 3c).
 constexpr double kBetaCarriedPpm = 0.15;
 constexpr Spread kAlkaneSpread{0.10, 0.0};
+// Added in quadrature for the four-membered ring term (row ring4-ch2): one
+// parent (cyclobutane) fixes it, so how well it carries over to rings with
+// groups is untested; 0.3 ppm is half the term.
+constexpr double kRing4Ppm = 0.3;
 constexpr Spread kAlkeneSpread{0.10, 0.08};
 constexpr Spread kBenzeneSpread{0.08, 0.06};
 // Heteroaromatic base values: the parent itself, then per ring substituent
@@ -112,6 +116,7 @@ struct ShooleryTable {
   bool present = false;
   Param shoolery_base;
   std::array<Param, 4> alkane;                    // by H count 1..3
+  Param ring4;                                    // four-membered ring term
   std::vector<ValueRow> sigma;
   std::array<std::vector<ValueRow>, 4> alpha;     // by H count 1..3
   std::array<std::vector<ValueRow>, 4> beta;      // by H count 1..3
@@ -208,6 +213,7 @@ void read_shoolery(const Tables &tables, ShooleryTable &out) {
     if (kind == "base") {
       bool known = false;
       if (id == "shoolery-base") out.shoolery_base = Param{id, v, true}, known = true;
+      if (id == "ring4-ch2") out.ring4 = Param{id, v, true}, known = true;
       for (std::size_t h = 1; h <= 3; ++h)
         if (id == fmt::format("alkane-{}", types[h])) out.alkane[h] = Param{id, v, true}, known = true;
       if (!known) r.fail(row, fmt::format("unknown base row '{}'", id));
@@ -1117,14 +1123,25 @@ class H1Increments final : public ShiftSource {
 
   // --- sp3 C-H: Shoolery's rule and the position table -----------------------
   std::optional<Estimate> sp3(const SmartsTarget &t, std::size_t c) const {
-    const Molecule &m = t.molecule();
     const ShooleryTable &tab = tab_.shoolery;
     if (!tab.present) return std::nullopt;
-    // Ring strain (cyclopropanes, epoxides, aziridines) is not covered
-    // (FORMAT.md); four-membered rings neither: on tables/reference the rule
-    // misses cyclobutane, cyclobutanone and oxetane by 0.6-1.4 ppm.
+    // Ring strain in three-membered rings (cyclopropanes, epoxides,
+    // aziridines) is not covered (FORMAT.md). A carbon of a four-membered
+    // ring takes the open-chain value plus the ring term of row ring4-ch2
+    // (FORMAT.md, h1_shoolery step 4); without that row it is not covered.
     const int ring = t.smallest_ring(c);
-    if (ring == 3 || ring == 4) return std::nullopt;
+    if (ring == 3 || (ring == 4 && !tab.ring4.set)) return std::nullopt;
+    auto est = sp3_chain(t, c);
+    if (!est || ring != 4) return est;
+    est->ppm += tab.ring4.ppm;
+    est->uncertainty_ppm = std::hypot(est->uncertainty_ppm, kRing4Ppm);
+    est->method += fmt::format(" + four-membered ring {} {} = {}", tab.ring4.id, fmt_ppm(tab.ring4.ppm), fmt_ppm(est->ppm));
+    return est;
+  }
+
+  std::optional<Estimate> sp3_chain(const SmartsTarget &t, std::size_t c) const {
+    const Molecule &m = t.molecule();
+    const ShooleryTable &tab = tab_.shoolery;
     const std::size_t n_h = m.hydrogen_count(c);
     const auto nbrs = heavy_neighbours(m, c);
     if (n_h == 4) {
