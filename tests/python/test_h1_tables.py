@@ -198,10 +198,16 @@ def test_kinds_and_base_rows(tables):
     sh = tables["h1_shoolery"]
     kinds = {"base", "sigma", "alpha-ch3", "alpha-ch2", "alpha-ch", "beta-ch3", "beta-ch2"}
     assert {r["kind"] for r in sh.rows} <= kinds
-    assert {r["id"] for r in rows_of(sh, "base")} == {"shoolery-base", "alkane-ch3", "alkane-ch2", "alkane-ch"}
+    assert {r["id"] for r in rows_of(sh, "base")} == {"shoolery-base", "alkane-ch3", "alkane-ch2", "alkane-ch",
+                                                      "ring4-ch2"}
+    assert {r["kind"] for r in tables["h1_benzene"].rows} == {"base", "substituent"}
+    assert {r["kind"] for r in tables["h1_alkene"].rows} == {"base", "substituent", "ring-correction"}
+    for r in rows_of(tables["h1_alkene"], "ring-correction"):
+        # Only z_trans_ppm is read (tables/FORMAT.md, h1_alkene).
+        assert [r[c] for c in ("base_ppm", "z_gem_ppm", "z_cis_ppm")] == ["-", "-", "-"], r["id"]
+        assert num(r["z_trans_ppm"]) is not None and abs(num(r["z_trans_ppm"])) < 1.5, r["id"]
     for key in ("h1_alkene", "h1_benzene"):
         t = tables[key]
-        assert {r["kind"] for r in t.rows} == {"base", "substituent"}
         base = rows_of(t, "base")
         assert len(base) == 1 and num(base[0]["base_ppm"]) is not None
         for r in rows_of(t, "substituent"):

@@ -78,17 +78,22 @@ constexpr double kH1ShallowCapPpm = 0.2;
 // OCH2 of sugars, dioxolanes and glycidyl ethers by the same 0.53 ppm and put
 // 91 NCI protons above 4.5 ppm (tests/python/test_h1_facts.py).
 constexpr int kPairMinSphere = 4;
-// A proton matched no deeper than sphere 3, by built-in reference atoms no increment
-// rule covers (so no residual correction), takes its own rule's value where
-// one applies rather than the raw median of such unlike compounds.
+// A proton matched by built-in reference atoms no increment rule covers (so
+// no residual correction) takes its own rule's value where one applies
+// rather than the raw median of such unlike compounds.
 // Leave-one-out (benchmarks/loo_shifts.cpp --1h): at sphere 2 the one such
 // proton, 2-nitropropane CH, 0.90 -> 0.23 ppm off. Sphere 3 was a wash
 // (14 protons, summed absolute error 1.41 ppm better and 1.44 worse) until
 // the lactam-ring, alpha-plus-beta and arylamino rules covered more
 // protons; now the protons it changes gain 1.73 ppm and lose 1.44, and
 // thioanisole's ortho protons leave the > 0.5 ppm tail (0.54 -> 0.09), none
-// enters it. Deeper lookups keep their median.
-constexpr int kWeakSphere = 3;
+// enters it. At spheres 4-5 such matches are mostly a single compound that
+// differs just beyond the code (quinoxaline and benzimidazole matching each
+// other, thioanisole matching methyl phenyl sulfone): the rule wins there
+// too; 17 protons change, 13 closer and 4 further, summed absolute error
+// 5.53 -> 1.56 ppm, 5 leave the > 0.5 ppm tail (4 of them quinoxaline, whose
+// parent rows are its own values), none enters it. No sphere-6 match of
+// this kind has a rule.
 // 13C: a lookup whose matched reference atoms no rule covers cannot be
 // corrected; up to sphere 4 such a match gives way to the query's own rule
 // value where one applies. Leave-one-out (benchmarks/loo_shifts.cpp): five
@@ -215,7 +220,7 @@ class ReferenceLookup final : public ShiftSource {
           return true;
         }
       }
-      if (k <= kWeakSphere && !user_ && q.nucleus == Nucleus::H1 && increments_) {
+      if (!user_ && q.nucleus == Nucleus::H1 && increments_) {
         query_increments();
         if (std::isfinite(inc_q)) return false;
       }
