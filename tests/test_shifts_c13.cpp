@@ -271,7 +271,8 @@ TEST_SUITE("shifts") {
     const auto tables = nmrpred::Tables::builtin();
     for (const auto &c : cases) {
       INFO(c.smiles, " atom ", c.atom);
-      const auto &s = shift_of(increments_only(c.smiles, *tables), c.atom);
+      const auto shifts = increments_only(c.smiles, *tables);  // kept alive: s refers into it
+      const auto &s = shift_of(shifts, c.atom);
       INFO("method: ", s.method);
       CHECK(s.source == ShiftSourceKind::Increments);
       CHECK(s.method.find(std::string("outside the rule's tested scope: ") + c.why) != std::string::npos);
