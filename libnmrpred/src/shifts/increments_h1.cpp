@@ -527,7 +527,7 @@ class H1Increments final : public ShiftSource {
 
   bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
     if (q.nucleus != Nucleus::H1) return false;
-    const auto r = evaluate(q, atom);
+    const auto &r = evaluate(q, atom);
     if (!r) return false;
     out.ppm = r->ppm;
     out.uncertainty_ppm = r->uncertainty_ppm;
@@ -541,15 +541,45 @@ class H1Increments final : public ShiftSource {
   }
 
   // The rule estimate for hydrogen `atom`, or nothing when no rule covers it.
-  std::optional<Estimate> evaluate(const ShiftQuery &q, std::size_t atom) const {
+  // Remembered per molecule: the reference lookup asks for it before this
+  // source is asked in its own turn, and only the alkene rule looks at more
+  // than the carrier, so the protons of one carbon share the rest.
+  const std::optional<Estimate> &evaluate(const ShiftQuery &q, std::size_t atom) const {
+    static const std::optional<Estimate> kNone;
     const Molecule &m = q.molecule;
-    if (atom >= m.atom_count() || !m.is_hydrogen(atom) || m.atom(atom).isotope > 1) return std::nullopt;
+    if (atom >= m.atom_count() || !m.is_hydrogen(atom) || m.atom(atom).isotope > 1) return kNone;
     const auto carrier = m.attached_to(atom);
-    if (carrier < 0 || m.degree(atom) != 1) return std::nullopt;
+    if (carrier < 0 || m.degree(atom) != 1) return kNone;
     const auto c = static_cast<std::size_t>(carrier);
+    const SmartsTarget &t = target(q);
+    if (by_proton_.empty()) {
+      by_proton_.resize(m.atom_count());
+      by_carrier_.resize(m.heavy_atom_count());
+    }
+    Memo &proton = by_proton_[atom];
+    if (proton.done) return proton.value;
+    if (c < by_carrier_.size() && by_carrier_[c].done) return by_carrier_[c].value;
+    bool per_proton = false;
+    auto value = evaluate_uncached(q, t, atom, c, per_proton);
+    Memo &slot = per_proton || c >= by_carrier_.size() ? proton : by_carrier_[c];
+    slot.value = std::move(value);
+    slot.done = true;
+    return slot.value;
+  }
+
+ private:
+  struct Memo {
+    bool done = false;
+    std::optional<Estimate> value;
+  };
+
+  // evaluate() for proton `atom` on carrier `c`; sets `per_proton` when the
+  // answer depends on the proton, not only on its carrier.
+  std::optional<Estimate> evaluate_uncached(const ShiftQuery &q, const SmartsTarget &t, std::size_t atom,
+                                            std::size_t c, bool &per_proton) const {
+    const Molecule &m = q.molecule;
     const auto &a = m.atom(c);
     if (a.formal_charge != 0 || a.radical_electrons != 0) return std::nullopt;
-    const SmartsTarget &t = target(q);
     const SpecialGroup *group = special_group(t, c);
     if (a.atomic_number != 6) {
       if (a.atomic_number == 7 || a.atomic_number == 8 || a.atomic_number == 16) return labile(group);
@@ -567,12 +597,14 @@ class H1Increments final : public ShiftSource {
       if (o == BondOrder::Double && m.atom(b).atomic_number == 6) ++doubles, partner = b;
       else if (o != BondOrder::Single) ++multiple_other;
     });
-    if (doubles == 1 && multiple_other == 0) return alkene(q, t, atom, c, partner);
+    if (doubles == 1 && multiple_other == 0) {
+      per_proton = true;
+      return alkene(q, t, atom, c, partner);
+    }
     if (is_sp3_carbon(m, c)) return sp3(t, c);
     return std::nullopt;
   }
 
- private:
   // The query's SmartsTarget (ShiftQuery::smarts_target), shared by all
   // protons of the molecule; the rows found below belong to it. Not
   // thread-safe (header: one thread per source object).
@@ -582,6 +614,8 @@ class H1Increments final : public ShiftSource {
       target_ = &t;
       query_ = &q;
       benzene_rows_.clear();
+      by_proton_.clear();
+      by_carrier_.clear();
     }
     return t;
   }
@@ -714,11 +748,14 @@ class H1Increments final : public ShiftSource {
   // --- heteroaromatic base values -------------------------------------------
   std::optional<Estimate> hetero(const SmartsTarget &t, std::size_t k) const {
     const Molecule &m = t.molecule();
+    // One buffer for every row: most rows fail, and their searches cost
+    // little more than the allocation would.
+    std::vector<std::int64_t> fixed;
+    std::vector<std::uint32_t> map;
     for (const auto &row : tab_.hetero) {
-      std::vector<std::int64_t> fixed(row.smarts.atom_count(), -1);
+      fixed.assign(row.smarts.atom_count(), -1);
       if (fixed.empty()) continue;
       fixed[0] = static_cast<std::int64_t>(k);
-      std::vector<std::uint32_t> map;
       for_each_match(row.smarts, t, fixed, {}, [&](const std::vector<std::uint32_t> &mp) {
         map = mp;
         return true;
@@ -1337,6 +1374,7 @@ class H1Increments final : public ShiftSource {
   mutable const ShiftQuery *query_ = nullptr;
   mutable const SmartsTarget *target_ = nullptr;
   mutable std::unordered_map<std::uint64_t, const BenzeneRow *> benzene_rows_;  // see benzene_row()
+  mutable std::vector<Memo> by_proton_, by_carrier_;  // see evaluate()
 };
 
 }  // namespace
