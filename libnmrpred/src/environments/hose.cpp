@@ -453,7 +453,7 @@ class Engine {
     v = detail::hose_key_part(v, std::string_view(first, static_cast<std::size_t>(put_token(first, bond_rank(bond) << 24 | atom_tok_[centre]) - first)));
     out[1] = v;
     for (std::size_t k = 2; k < out.size(); ++k) {
-      if (static_cast<int>(k) <= n_) v = detail::hose_key_part(v, sphere_view(static_cast<int>(k) - 1));
+      if (static_cast<int>(k) - 1 <= n_) v = detail::hose_key_part(v, sphere_view(static_cast<int>(k) - 1));
       out[k] = v;
     }
   }
@@ -1425,9 +1425,21 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
   std::uint32_t max_class = 0;
   for (auto c : classes.topological) max_class = std::max(max_class, c);
   std::vector<char> needed(static_cast<std::size_t>(max_class) + 1, 0);
-  for (std::size_t a = 0; a < wanted.size() && a < keys.size(); ++a)
-    if (wanted[a]) needed[classes.topological[a]] = 1;
-  const EngineLease engine_ptr(molecule, kMaxHoseSpheres, classes.invariant_rank);
+  // A terminal hydrogen's sphere k is its heavy atom's sphere k - 1: when
+  // only such hydrogens are wanted (1H shifts on their own), the heavy atoms'
+  // last sphere, the costliest, is never read and, codes being prefix-stable,
+  // need not be made.
+  const std::size_t heavy = molecule.heavy_atom_count();
+  bool only_terminal_h = true;
+  for (std::size_t a = 0; a < wanted.size() && a < keys.size(); ++a) {
+    if (!wanted[a]) continue;
+    needed[classes.topological[a]] = 1;
+    const std::int64_t parent = molecule.attached_to(a);
+    only_terminal_h = only_terminal_h && a >= heavy && molecule.degree(a) == 1 && parent >= 0 &&
+                      static_cast<std::size_t>(parent) < heavy;
+  }
+  const EngineLease engine_ptr(molecule, only_terminal_h ? kMaxHoseSpheres - 1 : kMaxHoseSpheres,
+                               classes.invariant_rank);
   Engine &engine = *engine_ptr;
   code_every_atom(
       molecule, classes, engine, [&](std::size_t a) { engine.keys(static_cast<std::uint32_t>(a), keys[a]); },
