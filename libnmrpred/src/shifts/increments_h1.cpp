@@ -748,14 +748,13 @@ class H1Increments final : public ShiftSource {
   // --- heteroaromatic base values -------------------------------------------
   std::optional<Estimate> hetero(const SmartsTarget &t, std::size_t k) const {
     const Molecule &m = t.molecule();
-    // One buffer for every row: most rows fail, and their searches cost
-    // little more than the allocation would.
-    std::vector<std::int64_t> fixed;
-    std::vector<std::uint32_t> map;
     for (const auto &row : tab_.hetero) {
-      fixed.assign(row.smarts.atom_count(), -1);
-      if (fixed.empty()) continue;
+      // Most rows fail: the plain anchored test costs less than setting up
+      // the search that reports the mapping, which only the first hit needs.
+      if (!match_at(row.smarts, t, k)) continue;
+      std::vector<std::int64_t> fixed(row.smarts.atom_count(), -1);
       fixed[0] = static_cast<std::int64_t>(k);
+      std::vector<std::uint32_t> map;
       for_each_match(row.smarts, t, fixed, {}, [&](const std::vector<std::uint32_t> &mp) {
         map = mp;
         return true;
