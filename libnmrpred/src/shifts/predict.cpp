@@ -306,6 +306,17 @@ class ReferenceLookup final : public ShiftSource {
   const ShiftSource *increments_;
 };
 
+// Protons whose shifts the lookups and rules estimate: deuterium and
+// tritium give no 1H signal, and protons on O, N and S exchange, so they
+// take typical values and are never looked up.
+enum class ProtonKind { Silent, CarbonBound, Labile };
+ProtonKind proton_kind(const Molecule &m, std::size_t h) {
+  if (m.atom(h).isotope > 1) return ProtonKind::Silent;
+  const auto heavy = m.attached_to(h);
+  const auto z = heavy >= 0 ? m.atom(static_cast<std::size_t>(heavy)).atomic_number : 0;
+  return z == 8 || z == 7 || z == 16 ? ProtonKind::Labile : ProtonKind::CarbonBound;
+}
+
 }  // namespace
 
 std::uint64_t ShiftQuery::constitution() const {
@@ -345,10 +356,12 @@ const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking) const {
   // One pass over the molecule keys every wanted atom once per class, which
   // costs less than a few single-atom calls; the lookups need only the keys,
   // not the text. An atom's keys do not depend on which others are wanted.
+  // Of the protons only those the 1H lookup is asked about are keyed.
   if (keyed_.empty()) {
     keyed_.assign(molecule_.atom_count(), false);
     for (std::size_t a = 0; a < molecule_.atom_count(); ++a)
-      keyed_[a] = asking == Nucleus::C13 ? molecule_.atom(a).atomic_number == 6 : molecule_.is_hydrogen(a);
+      keyed_[a] = asking == Nucleus::C13 ? molecule_.atom(a).atomic_number == 6
+                                         : molecule_.is_hydrogen(a) && proton_kind(molecule_, a) == ProtonKind::CarbonBound;
     keys_ = hose_keys(molecule_, classes_, keyed_);
   }
   if (!keyed_.at(atom)) {
@@ -446,11 +459,8 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   std::vector<const detail::ShiftSource *> sources;
   std::vector<std::size_t> carbon_bound, labile;
   for (std::size_t a = molecule.heavy_atom_count(); a < molecule.atom_count(); ++a) {
-    const auto iso = molecule.atom(a).isotope;
-    if (iso > 1) continue;  // deuterium and tritium give no 1H signal
-    const auto heavy = molecule.attached_to(a);
-    const auto z = heavy >= 0 ? molecule.atom(static_cast<std::size_t>(heavy)).atomic_number : 0;
-    (z == 8 || z == 7 || z == 16 ? labile : carbon_bound).push_back(a);
+    const auto kind = proton_kind(molecule, a);
+    if (kind != ProtonKind::Silent) (kind == ProtonKind::Labile ? labile : carbon_bound).push_back(a);
   }
   if (options.use_reference) {
     sources.push_back(user.get());
