@@ -97,6 +97,25 @@ constexpr double kFiveRingAlkenePpm = 0.7;
 // --increments-only).
 constexpr double kRingEnonePpm = 0.4;
 
+std::string fmt_ppm(double v) {
+  // std::to_chars rounds the exact binary value as fmt's "{:.2f}" does, at a
+  // fraction of the cost; a method text holds several of these.
+  std::string s;
+  if (std::isfinite(v)) {
+    char buf[32];
+    const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
+    s.assign(buf, r.ptr);
+  } else {
+    s = fmt::format("{:.2f}", v);
+  }
+  if (s == "-0.00") s = "0.00";
+  return s;
+}
+
+// "id value" as the method texts name a row's value; made once when the
+// tables are parsed rather than for every proton.
+std::string labelled(const std::string &id, double ppm) { return id + ' ' + fmt_ppm(ppm); }
+
 // ---------------------------------------------------------------------------
 // Parsed tables
 
@@ -104,12 +123,14 @@ struct ValueRow {
   std::string id;
   SmartsPattern smarts;
   double ppm = 0;
+  std::string label;  // labelled(id, ppm)
 };
 
 struct Param {
   std::string id;
   double ppm = 0;
   bool set = false;
+  std::string label;  // labelled(id, ppm)
 };
 
 struct ShooleryTable {
@@ -154,6 +175,7 @@ struct HeteroRow {
   std::string id, ring, position;
   SmartsPattern smarts;
   double ppm = 0;
+  std::string scheme, label;  // the method text's scheme name and labelled(id, ppm)
 };
 
 struct SpecialRow {
@@ -212,14 +234,14 @@ void read_shoolery(const Tables &tables, ShooleryTable &out) {
     const double v = r.need_ppm(row, c_value);
     if (kind == "base") {
       bool known = false;
-      if (id == "shoolery-base") out.shoolery_base = Param{id, v, true}, known = true;
-      if (id == "ring4-ch2") out.ring4 = Param{id, v, true}, known = true;
+      if (id == "shoolery-base") out.shoolery_base = Param{id, v, true, labelled(id, v)}, known = true;
+      if (id == "ring4-ch2") out.ring4 = Param{id, v, true, labelled(id, v)}, known = true;
       for (std::size_t h = 1; h <= 3; ++h)
-        if (id == fmt::format("alkane-{}", types[h])) out.alkane[h] = Param{id, v, true}, known = true;
+        if (id == fmt::format("alkane-{}", types[h])) out.alkane[h] = Param{id, v, true, labelled(id, v)}, known = true;
       if (!known) r.fail(row, fmt::format("unknown base row '{}'", id));
       continue;
     }
-    ValueRow vr{id, r.smarts(row, c_smarts), v};
+    ValueRow vr{id, r.smarts(row, c_smarts), v, labelled(id, v)};
     if (kind == "sigma") {
       out.sigma.push_back(std::move(vr));
       continue;
@@ -244,7 +266,8 @@ void read_alkene(const Tables &tables, AlkeneTable &out) {
   for (const auto &row : r.table().rows) {
     const auto &kind = row.fields[c_kind];
     if (kind == "base") {
-      out.base = Param{row.fields[c_id], r.need_ppm(row, c_base), true};
+      const double v = r.need_ppm(row, c_base);
+      out.base = Param{row.fields[c_id], v, true, labelled(row.fields[c_id], v)};
     } else if (kind == "substituent") {
       AlkeneRow a;
       a.id = row.fields[c_id];
@@ -280,7 +303,8 @@ void read_benzene(const Tables &tables, BenzeneTable &out) {
   for (const auto &row : r.table().rows) {
     const auto &kind = row.fields[c_kind];
     if (kind == "base") {
-      out.base = Param{row.fields[c_id], r.need_ppm(row, c_base), true};
+      const double v = r.need_ppm(row, c_base);
+      out.base = Param{row.fields[c_id], v, true, labelled(row.fields[c_id], v)};
     } else if (kind == "substituent") {
       BenzeneRow b;
       b.id = row.fields[c_id];
@@ -308,6 +332,8 @@ void read_hetero(const Tables &tables, std::vector<HeteroRow> &out) {
     h.position = row.fields[c_pos];
     h.smarts = r.smarts(row, c_smarts);
     h.ppm = r.need_ppm(row, c_shift);
+    h.scheme = fmt::format("heteroaromatic base value ({}, position {})", h.ring, h.position);
+    h.label = labelled(h.id, h.ppm);
     out.push_back(std::move(h));
   }
 }
@@ -359,26 +385,11 @@ void read_solvents(const Tables &tables, H1IncrementTables &out) {
 // ---------------------------------------------------------------------------
 // A sum of increments, kept term by term for the method text.
 
-std::string fmt_ppm(double v) {
-  // std::to_chars rounds the exact binary value as fmt's "{:.2f}" does, at a
-  // fraction of the cost; a method text holds several of these.
-  std::string s;
-  if (std::isfinite(v)) {
-    char buf[32];
-    const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
-    s.assign(buf, r.ptr);
-  } else {
-    s = fmt::format("{:.2f}", v);
-  }
-  if (s == "-0.00") s = "0.00";
-  return s;
-}
-
 class Sum {
  public:
   Sum(std::string scheme, Spread spread) : scheme_(std::move(scheme)), spread_(spread) {}
-  void base(const std::string &label, double ppm) {
-    base_label_ = label;
+  void base(std::string label, double ppm) {
+    base_label_ = std::move(label);
     base_ppm_ = ppm;
   }
   void add(const std::string &role, const std::string &id, double ppm) {
@@ -706,7 +717,7 @@ class H1Increments final : public ShiftSource {
       const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
       const char *const relation[] = {"", "ortho", "meta", "para"};
       Sum s("benzene increments", kBenzeneSpread);
-      s.base(fmt::format("base {}", fmt_ppm(tab_.benzene.base.ppm)), tab_.benzene.base.ppm);
+      s.base("base " + fmt_ppm(tab_.benzene.base.ppm), tab_.benzene.base.ppm);
       bool ok = true;
       for (int ir = 0; ir < 6 && ok; ++ir) {
         const auto r = ring[static_cast<std::size_t>(ir)];
@@ -787,8 +798,8 @@ class H1Increments final : public ShiftSource {
       // tautomers, so N-substituted azoles without a row of their own
       // (1-alkylimidazole, 1-alkylpyrazole) are not covered.
       if (nitrogens >= 2 && n_substituted) return std::nullopt;
-      Sum s(fmt::format("heteroaromatic base value ({}, position {})", row.ring, row.position), kHeteroSpread);
-      s.base(fmt::format("{} {}", row.id, fmt_ppm(row.ppm)), row.ppm);
+      Sum s(row.scheme, kHeteroSpread);
+      s.base(row.label, row.ppm);
       // Substituents on ring carbons take the benzene increment for their
       // relation to the proton, counted in bonds inside the parent
       // (tables/FORMAT.md, h1_heteroaromatic); the rest are not accounted for.
@@ -960,7 +971,7 @@ class H1Increments final : public ShiftSource {
     }
 
     Sum s("alkene increments (Pascual-Meier-Simon)", kAlkeneSpread);
-    s.base(fmt::format("base {}", fmt_ppm(tab.base.ppm)), tab.base.ppm);
+    s.base("base " + fmt_ppm(tab.base.ppm), tab.base.ppm);
     int count = 0;
     auto term = [&](std::size_t x, const char *role) -> bool {
       if (m.is_hydrogen(x)) return true;
@@ -1074,7 +1085,7 @@ class H1Increments final : public ShiftSource {
       std::vector<bool> skeleton(m.atom_count(), false);
       skeleton[ca] = skeleton[cb] = true;
       Sum s("alkene increments (Pascual-Meier-Simon)", kAlkeneSpread);
-      s.base(fmt::format("base {}", fmt_ppm(tab_.alkene.base.ppm)), tab_.alkene.base.ppm);
+      s.base("base " + fmt_ppm(tab_.alkene.base.ppm), tab_.alkene.base.ppm);
       int count = 0;
       bool donor = false, acceptor = false;
       auto term = [&](std::size_t x, const char *role) -> bool {
@@ -1183,8 +1194,7 @@ class H1Increments final : public ShiftSource {
     if (n_h == 4) {
       if (!tab.shoolery_base.set) return std::nullopt;
       Sum s("Shoolery's rule", kShoolerySpread);
-      s.base(fmt::format("base {} {}", tab.shoolery_base.id, fmt_ppm(tab.shoolery_base.ppm)),
-             tab.shoolery_base.ppm);
+      s.base("base " + tab.shoolery_base.label, tab.shoolery_base.ppm);
       return from_sum(s);
     }
     if (n_h < 1 || n_h > 3) return std::nullopt;
@@ -1238,7 +1248,7 @@ class H1Increments final : public ShiftSource {
       // takes the sigma of row sigma-alkyl (FORMAT.md, h1_shoolery step 1).
       if (!tab.shoolery_base.set) return std::nullopt;
       Sum s("Shoolery's rule", spread);
-      s.base(fmt::format("base {} {}", tab.shoolery_base.id, fmt_ppm(tab.shoolery_base.ppm)), tab.shoolery_base.ppm);
+      s.base("base " + tab.shoolery_base.label, tab.shoolery_base.ppm);
       for (auto n : nbrs) {
         const auto *row = first_row(tab.sigma, t, n, skeleton);
         if (!row) return std::nullopt;
@@ -1281,7 +1291,7 @@ class H1Increments final : public ShiftSource {
         // plus each beta row's step above the plain alkane, as in step 3a.
         Sum s(fmt::format("position table ({} alpha to a group, beta to others, additive)", type[n_h]),
               kAlphaBetaSpread);
-        s.base(fmt::format("{} {}", row->id, fmt_ppm(row->ppm)), row->ppm);
+        s.base(row->label, row->ppm);
         if (!add_beta_steps(t, c, n_h, beta, s)) return std::nullopt;
         return from_sum(s);
       }
@@ -1289,7 +1299,7 @@ class H1Increments final : public ShiftSource {
       const bool derived = row->id.size() > kDerived.size() &&
                            row->id.compare(row->id.size() - kDerived.size(), kDerived.size(), kDerived) == 0;
       Sum s(fmt::format("position table ({} alpha to a group)", type[n_h]), derived ? kDerivedAlphaSpread : kAlphaSpread);
-      s.base(fmt::format("{} {}", row->id, fmt_ppm(row->ppm)), row->ppm);
+      s.base(row->label, row->ppm);
       return from_sum(s, 0);
     }
     if (n_groups > 1) return std::nullopt;  // CH2XY with three heavy neighbours
@@ -1299,7 +1309,7 @@ class H1Increments final : public ShiftSource {
         const auto *row = first_row(tab.beta[n_h], t, beta[0], skeleton);
         if (!row) return std::nullopt;
         Sum s(fmt::format("position table ({} beta to a group)", type[n_h]), kBetaSpread);
-        s.base(fmt::format("{} {}", row->id, fmt_ppm(row->ppm)), row->ppm);
+        s.base(row->label, row->ppm);
         return from_sum(s, 0);
       }
       return beta_sum(t, c, n_h, beta);
@@ -1307,7 +1317,7 @@ class H1Increments final : public ShiftSource {
     const auto &alk = tab.alkane[n_h];
     if (!alk.set) return std::nullopt;
     Sum s(fmt::format("position table ({} with no group within two bonds)", type[n_h]), kAlkaneSpread);
-    s.base(fmt::format("{} {}", alk.id, fmt_ppm(alk.ppm)), alk.ppm);
+    s.base(alk.label, alk.ppm);
     return from_sum(s, 0);
   }
 
@@ -1327,7 +1337,7 @@ class H1Increments final : public ShiftSource {
     Sum s(fmt::format("position table ({} beta to {}, additive)", type[n_h],
                       groups == 1 ? "a group" : "several groups"),
           kBetaSumSpread);
-    s.base(fmt::format("{} {}", alk.id, fmt_ppm(alk.ppm)), alk.ppm);
+    s.base(alk.label, alk.ppm);
     if (!add_beta_steps(t, c, n_h, beta, s)) return std::nullopt;
     return from_sum(s);
   }
