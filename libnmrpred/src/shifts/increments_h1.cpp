@@ -97,18 +97,24 @@ constexpr double kFiveRingAlkenePpm = 0.7;
 // --increments-only).
 constexpr double kRingEnonePpm = 0.4;
 
-std::string fmt_ppm(double v) {
+// Appends v as fmt's "{:.2f}" writes it, except that -0.00 is written 0.00.
+void append_ppm(std::string &out, double v) {
   // std::to_chars rounds the exact binary value as fmt's "{:.2f}" does, at a
-  // fraction of the cost; a method text holds several of these.
-  std::string s;
-  if (std::isfinite(v)) {
-    char buf[32];
-    const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
-    s.assign(buf, r.ptr);
-  } else {
-    s = fmt::format("{:.2f}", v);
+  // fraction of the cost; a method text holds several of these, written in
+  // place rather than through a temporary.
+  if (!std::isfinite(v)) {
+    out += fmt::format("{:.2f}", v);
+    return;
   }
-  if (s == "-0.00") s = "0.00";
+  char buf[32];
+  const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
+  const std::string_view text(buf, static_cast<std::size_t>(r.ptr - buf));
+  out += text == "-0.00" ? std::string_view("0.00") : text;
+}
+
+std::string fmt_ppm(double v) {
+  std::string s;
+  append_ppm(s, v);
   return s;
 }
 
@@ -422,10 +428,10 @@ class Sum {
       if (!t.role.empty()) s += ' ';
       s += t.id;
       s += ' ';
-      s += fmt_ppm(t.ppm);
+      append_ppm(s, t.ppm);
     }
     s += " = ";
-    s += fmt_ppm(ppm());
+    append_ppm(s, ppm());
     for (const auto &n : notes_) {
       s += " (";
       s += n;
