@@ -200,11 +200,17 @@ Prediction predict(Molecule &&molecule, const Tables &tables, const PredictOptio
   Prediction p;
   p.molecule = std::move(molecule);
   p.classes = compute_classes(p.molecule);
-  // The shift lookups key every carbon and hydrogen by its HOSE code of up
-  // to six spheres; the codes come from the same engine runs.
+  // The shift lookups key carbons and carbon-bound protons by their HOSE
+  // codes of up to six spheres; the codes come from the same engine runs.
   std::vector<detail::HoseKeys> keys;
-  p.hose = options.predict_shifts ? detail::hose_codes_and_keys(p.molecule, p.classes, options.hose_spheres, keys)
-                                  : hose_codes(p.molecule, p.classes, options.hose_spheres);
+  std::vector<bool> keyed;
+  if (options.predict_shifts) {
+    keyed.resize(p.molecule.atom_count());
+    for (std::size_t a = 0; a < keyed.size(); ++a) keyed[a] = detail::lookup_keyed(p.molecule, a);
+  }
+  p.hose = options.predict_shifts
+               ? detail::hose_codes_and_keys(p.molecule, p.classes, options.hose_spheres, keyed, keys)
+               : hose_codes(p.molecule, p.classes, options.hose_spheres);
   if (p.hose.size() != p.molecule.atom_count())
     throw InternalError(fmt::format("hose_codes returned {} codes for {} atoms", p.hose.size(),
                                     p.molecule.atom_count()));
@@ -226,7 +232,7 @@ Prediction predict(Molecule &&molecule, const Tables &tables, const PredictOptio
     // Ring perception, recursive-pattern results and HOSE keys are facts of
     // the molecule, not of the nucleus: made once for both.
     detail::MoleculeFacts facts(p.molecule, p.classes);
-    facts.set_all_keys(std::move(keys));
+    facts.set_all_keys(std::move(keys), std::move(keyed));
     p.c13 = detail::predict_c13_on(p.molecule, p.classes, tables, so, &p.warnings, &facts);
     check_order(p.c13, "predict_c13");
     p.c13_signals = group_signals(p.molecule, p.classes, p.c13);

@@ -345,11 +345,12 @@ const SmartsTarget &MoleculeFacts::smarts_target() const {
   return *target_;
 }
 
-void MoleculeFacts::set_all_keys(std::vector<HoseKeys> keys) {
-  if (keys.size() != molecule_.atom_count())
+void MoleculeFacts::set_all_keys(std::vector<HoseKeys> keys, std::vector<bool> keyed) {
+  if (keys.size() != molecule_.atom_count() || (!keyed.empty() && keyed.size() != keys.size()))
     throw InternalError(fmt::format("{} HOSE keys for {} atoms", keys.size(), molecule_.atom_count()));
   keys_ = std::move(keys);
-  keyed_.assign(molecule_.atom_count(), true);
+  if (keyed.empty()) keyed.assign(molecule_.atom_count(), true);
+  keyed_ = std::move(keyed);
 }
 
 const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking) const {
@@ -369,6 +370,10 @@ const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking) const {
     keys_ = hose_keys(molecule_, classes_, keyed_);
   }
   return keys_[atom];
+}
+
+bool lookup_keyed(const Molecule &m, std::size_t atom) {
+  return m.atom(atom).atomic_number == 6 || (m.is_hydrogen(atom) && proton_kind(m, atom) == ProtonKind::CarbonBound);
 }
 
 std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const ShiftSource *> &sources,
