@@ -148,6 +148,7 @@ std::vector<Signal> group_signals(const Molecule &molecule, const AtomClasses &c
   }
   std::stable_sort(by_atom.begin(), by_atom.end(), [](const Shift *a, const Shift *b) { return a->atom < b->atom; });
   std::vector<Signal> out;
+  out.reserve(by_atom.size());
   std::map<std::uint32_t, std::size_t> by_class;  // chemical class -> position in out
   for (const Shift *s : by_atom) {
     const auto [it, added] = by_class.emplace(classes.chemical[s->atom], out.size());
@@ -166,12 +167,23 @@ std::vector<Signal> group_signals(const Molecule &molecule, const AtomClasses &c
     g.observed = s->observed;
     out.push_back(std::move(g));
   }
-  std::sort(out.begin(), out.end(), [](const Signal &a, const Signal &b) {
+  // Sorted by position, then moved once: a Signal is several strings and
+  // vectors, and sorting them in place moves each many times. No two
+  // signals share a first atom, so the order is the same for any sort.
+  std::vector<std::size_t> order(out.size());
+  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
+  std::sort(order.begin(), order.end(), [&out](std::size_t i, std::size_t j) {
+    const Signal &a = out[i], &b = out[j];
     if (a.ppm != b.ppm) return a.ppm > b.ppm;
     return a.atoms[0] < b.atoms[0];
   });
-  for (auto &g : out) g.count = static_cast<int>(g.atoms.size());
-  return out;
+  std::vector<Signal> sorted;
+  sorted.reserve(out.size());
+  for (auto i : order) {
+    sorted.push_back(std::move(out[i]));
+    sorted.back().count = static_cast<int>(sorted.back().atoms.size());
+  }
+  return sorted;
 }
 
 const Shift *Prediction::shift(std::size_t atom, Nucleus nucleus) const noexcept {
