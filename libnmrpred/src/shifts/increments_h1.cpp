@@ -25,7 +25,6 @@
 #include <initializer_list>
 #include <optional>
 #include <string>
-#include <unordered_map>
 #include <utility>
 #include <vector>
 
@@ -630,7 +629,7 @@ class H1Increments final : public ShiftSource {
     if (query_ != &q || target_ != &t) {
       target_ = &t;
       query_ = &q;
-      benzene_rows_.clear();
+      benzene_rings_.clear();
       by_proton_.clear();
       by_carrier_.clear();
     }
@@ -705,61 +704,72 @@ class H1Increments final : public ShiftSource {
 
   // --- benzene ----------------------------------------------------------------
   std::optional<Estimate> benzene(const SmartsTarget &t, std::size_t k) const {
-    const Molecule &m = t.molecule();
     if (!tab_.benzene.present) return std::nullopt;
     for (const auto &ring : t.rings()) {
       if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
-      const auto ring_index = static_cast<std::size_t>(&ring - t.rings().data());
-      bool benzenoid = true;
-      for (std::size_t i = 0; i < 6 && benzenoid; ++i) {
-        const auto &at = m.atom(ring[i]);
-        const auto b = m.bond_between(ring[i], ring[(i + 1) % 6]);
-        benzenoid = at.atomic_number == 6 && at.aromatic && at.formal_charge == 0 && b >= 0 &&
-                    m.bond(static_cast<std::size_t>(b)).order == BondOrder::Aromatic;
-      }
-      if (!benzenoid) continue;
-      std::vector<bool> skeleton(m.atom_count(), false);
-      for (auto a : ring) skeleton[a] = true;
+      const BenzeneRing &br = benzene_ring(t, static_cast<std::size_t>(&ring - t.rings().data()));
+      if (!br.benzenoid) continue;
       const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
       const char *const relation[] = {"", "ortho", "meta", "para"};
       Sum s("benzene increments", kBenzeneSpread);
       s.base("base " + fmt_ppm(tab_.benzene.base.ppm), tab_.benzene.base.ppm);
       bool ok = true;
-      for (int ir = 0; ir < 6 && ok; ++ir) {
-        const auto r = ring[static_cast<std::size_t>(ir)];
-        const int rel = std::min(std::abs(ir - ik), 6 - std::abs(ir - ik));
-        for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
-          if (!ok || skeleton[x]) return;
-          // FORMAT.md: fused rings and groups bonded to two ring atoms are
-          // not covered (the heteroaromatic table has the fused parents).
-          if (rel == 0 || in_one_ring(t, {r, x})) {
-            ok = false;
-            return;
-          }
-          const auto *row = benzene_row(t, ring_index, x, skeleton);
-          if (!row) {
-            ok = false;
-            return;
-          }
-          s.add(relation[rel], row->id, row->by_relation[static_cast<std::size_t>(rel)]);
-        });
+      for (const auto &g : br.groups) {
+        const int rel = std::min(std::abs(g.position - ik), 6 - std::abs(g.position - ik));
+        // A group on the proton's own carbon is not a substituent the table
+        // describes.
+        if (rel == 0 || !g.row) {
+          ok = false;
+          break;
+        }
+        s.add(relation[rel], g.row->id, g.row->by_relation[static_cast<std::size_t>(rel)]);
       }
       if (ok) return from_sum(s);
     }
     return std::nullopt;
   }
 
-  // The row of substituent x on smallest ring `ring_index` (the ring is the
-  // skeleton): every proton of the ring asks for the same rows, so each is
-  // looked up once per molecule.
-  const BenzeneRow *benzene_row(const SmartsTarget &t, std::size_t ring_index, std::size_t x,
-                                const std::vector<bool> &skeleton) const {
-    const auto key = static_cast<std::uint64_t>(ring_index) * t.molecule().atom_count() + x;
-    const auto it = benzene_rows_.find(key);
-    if (it != benzene_rows_.end()) return it->second;
-    const auto *row = first_row(tab_.benzene.rows, t, x, skeleton);
-    benzene_rows_.emplace(key, row);
-    return row;
+  // What benzene() needs of six-membered ring `ring_index`, the same for
+  // every proton of the ring, so made once per molecule: whether it is a
+  // benzene ring, and its groups in the order the sum adds them, each with
+  // its ring position and row (null when no row applies, or when the group
+  // closes another ring: FORMAT.md leaves fused rings and groups bonded to
+  // two ring atoms to the heteroaromatic table).
+  struct BenzeneRing {
+    struct Group {
+      int position;
+      const BenzeneRow *row;
+    };
+    bool benzenoid = false;
+    std::vector<Group> groups;
+  };
+  const BenzeneRing &benzene_ring(const SmartsTarget &t, std::size_t ring_index) const {
+    if (benzene_rings_.empty()) benzene_rings_.resize(t.rings().size());
+    auto &slot = benzene_rings_[ring_index];
+    if (slot) return *slot;
+    slot.emplace();
+    const Molecule &m = t.molecule();
+    const auto &ring = t.rings()[ring_index];
+    bool benzenoid = true;
+    for (std::size_t i = 0; i < 6 && benzenoid; ++i) {
+      const auto &at = m.atom(ring[i]);
+      const auto b = m.bond_between(ring[i], ring[(i + 1) % 6]);
+      benzenoid = at.atomic_number == 6 && at.aromatic && at.formal_charge == 0 && b >= 0 &&
+                  m.bond(static_cast<std::size_t>(b)).order == BondOrder::Aromatic;
+    }
+    if (!benzenoid) return *slot;
+    slot->benzenoid = true;
+    std::vector<bool> skeleton(m.atom_count(), false);
+    for (auto a : ring) skeleton[a] = true;
+    for (int ir = 0; ir < 6; ++ir) {
+      const auto r = ring[static_cast<std::size_t>(ir)];
+      for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
+        if (skeleton[x]) return;
+        const BenzeneRow *row = in_one_ring(t, {r, x}) ? nullptr : first_row(tab_.benzene.rows, t, x, skeleton);
+        slot->groups.push_back(BenzeneRing::Group{ir, row});
+      });
+    }
+    return *slot;
   }
 
   // --- heteroaromatic base values -------------------------------------------
@@ -1388,7 +1398,7 @@ class H1Increments final : public ShiftSource {
   double water_ppm_ = 0;
   mutable const ShiftQuery *query_ = nullptr;
   mutable const SmartsTarget *target_ = nullptr;
-  mutable std::unordered_map<std::uint64_t, const BenzeneRow *> benzene_rows_;  // see benzene_row()
+  mutable std::vector<std::optional<BenzeneRing>> benzene_rings_;  // see benzene_ring()
   mutable std::vector<Memo> by_proton_, by_carrier_;  // see evaluate()
 };
 
