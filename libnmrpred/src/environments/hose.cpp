@@ -30,6 +30,7 @@
 #include <charconv>
 #include <cstdint>
 #include <cstring>
+#include <functional>
 #include <memory>
 #include <type_traits>
 #include <string>
@@ -346,7 +347,7 @@ class Engine {
   // every buffer's capacity, so one engine serves many calls without allocating.
   void reset(const Molecule &m, int spheres, const std::vector<std::uint32_t> &ranks) {
     mol_ = &m;
-    n_ = spheres;
+    n_ = max_n_ = spheres;
     ranks_ = ranks.size() == m.atom_count() ? &ranks : nullptr;
     const std::size_t count = m.atom_count();
     const std::size_t heavy = m.heavy_atom_count();
@@ -370,8 +371,11 @@ class Engine {
   }
 
   // Computes the spheres of `centre` and their text; read them with code(),
-  // hydrogen_code(), parts() or sphere_text().
-  void run(std::uint32_t centre) {
+  // hydrogen_code(), parts() or sphere_text(). `spheres` (1..the count given
+  // to reset(); 0 means that count) makes only the first spheres, which
+  // codes being prefix-stable are those of the full run.
+  void run(std::uint32_t centre, int spheres = 0) {
+    n_ = spheres > 0 ? std::min(spheres, max_n_) : max_n_;
     build_region(centre);
     const std::size_t r = region_.size();
     closed_.assign(r, -1);
@@ -453,7 +457,7 @@ class Engine {
     v = detail::hose_key_part(v, std::string_view(first, static_cast<std::size_t>(put_token(first, bond_rank(bond) << 24 | atom_tok_[centre]) - first)));
     out[1] = v;
     for (std::size_t k = 2; k < out.size(); ++k) {
-      if (static_cast<int>(k) <= n_) v = detail::hose_key_part(v, sphere_view(static_cast<int>(k) - 1));
+      if (static_cast<int>(k) - 1 <= n_) v = detail::hose_key_part(v, sphere_view(static_cast<int>(k) - 1));
       out[k] = v;
     }
   }
@@ -1164,7 +1168,8 @@ class Engine {
 
  private:
   const Molecule *mol_ = nullptr;
-  int n_ = 0;
+  int n_ = 0;      // spheres of the current run
+  int max_n_ = 0;  // spheres given to reset()
   const std::vector<std::uint32_t> *ranks_ = nullptr;
   // Per atom of the molecule.
   SmallVec<std::uint32_t, 64> adj_off_;
@@ -1304,9 +1309,14 @@ namespace {
 // wanted: the others are skipped, but the bookkeeping (which atom stands for
 // its class) stays the same, so a wanted result is made from the same run as
 // with every class wanted.
+//
+// `depth(a)` (may be null: the engine's full count) gives the spheres the run
+// on atom a must make for what the callbacks read of a and its hydrogens.
 template <class Centre, class Hydrogen, class Copy>
 void code_every_atom(const Molecule &molecule, const AtomClasses &classes, Engine &engine, Centre centre,
-                     Hydrogen hydrogen, Copy copy, const std::vector<char> *needed = nullptr) {
+                     Hydrogen hydrogen, Copy copy, const std::vector<char> *needed = nullptr,
+                     const std::function<int(std::size_t)> &depth = nullptr) {
+  auto spheres_for = [&](std::size_t a) { return depth ? depth(a) : 0; };
   auto wanted = [&](std::size_t a) { return !needed || (*needed)[classes.topological[a]]; };
   const std::size_t count = molecule.atom_count();
   std::uint32_t max_class = 0;
@@ -1359,7 +1369,7 @@ void code_every_atom(const Molecule &molecule, const AtomClasses &classes, Engin
     if (heavy_done && pending.empty()) continue;
     bool run = !heavy_done && wanted(a);
     for (auto h : pending) run = run || wanted(h);
-    if (run) engine.run(static_cast<std::uint32_t>(a));
+    if (run) engine.run(static_cast<std::uint32_t>(a), spheres_for(a));
     if (!heavy_done) {
       if (run && wanted(a)) centre(a);
       record(a);
@@ -1375,7 +1385,7 @@ void code_every_atom(const Molecule &molecule, const AtomClasses &classes, Engin
   for (std::size_t h = heavy; h < count; ++h) {
     if (done[h] || take_class(h)) continue;
     if (wanted(h)) {
-      engine.run(static_cast<std::uint32_t>(h));
+      engine.run(static_cast<std::uint32_t>(h), spheres_for(h));
       centre(h);
     }
     record(h);
@@ -1425,9 +1435,21 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
   std::uint32_t max_class = 0;
   for (auto c : classes.topological) max_class = std::max(max_class, c);
   std::vector<char> needed(static_cast<std::size_t>(max_class) + 1, 0);
-  for (std::size_t a = 0; a < wanted.size() && a < keys.size(); ++a)
-    if (wanted[a]) needed[classes.topological[a]] = 1;
-  const EngineLease engine_ptr(molecule, kMaxHoseSpheres, classes.invariant_rank);
+  // A terminal hydrogen's sphere k is its heavy atom's sphere k - 1: when
+  // only such hydrogens are wanted (1H shifts on their own), the heavy atoms'
+  // last sphere, the costliest, is never read and, codes being prefix-stable,
+  // need not be made.
+  const std::size_t heavy = molecule.heavy_atom_count();
+  bool only_terminal_h = true;
+  for (std::size_t a = 0; a < wanted.size() && a < keys.size(); ++a) {
+    if (!wanted[a]) continue;
+    needed[classes.topological[a]] = 1;
+    const std::int64_t parent = molecule.attached_to(a);
+    only_terminal_h = only_terminal_h && a >= heavy && molecule.degree(a) == 1 && parent >= 0 &&
+                      static_cast<std::size_t>(parent) < heavy;
+  }
+  const EngineLease engine_ptr(molecule, only_terminal_h ? kMaxHoseSpheres - 1 : kMaxHoseSpheres,
+                               classes.invariant_rank);
   Engine &engine = *engine_ptr;
   code_every_atom(
       molecule, classes, engine, [&](std::size_t a) { engine.keys(static_cast<std::uint32_t>(a), keys[a]); },
@@ -1439,29 +1461,50 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
 }
 
 std::vector<std::string> hose_codes_and_keys(const Molecule &molecule, const AtomClasses &classes, int spheres,
-                                             std::vector<HoseKeys> &keys) {
+                                             const std::vector<bool> &keyed, std::vector<HoseKeys> &keys) {
   check_request(molecule, classes, spheres);
-  std::vector<std::string> codes(molecule.atom_count());
-  keys.assign(molecule.atom_count(), HoseKeys{});
+  const std::size_t count = molecule.atom_count();
+  std::vector<std::string> codes(count);
+  keys.assign(count, HoseKeys{});
   if (codes.empty()) return codes;
-  // The keys need every sphere; the codes, being prefix-stable, are read
-  // from the same runs.
+  // An atom takes its result from its class's first atom: a class is keyed
+  // whole or not at all.
+  std::uint32_t max_class = 0;
+  for (auto c : classes.topological) max_class = std::max(max_class, c);
+  std::vector<char> class_keyed(static_cast<std::size_t>(max_class) + 1, 0);
+  for (std::size_t a = 0; a < count && a < keyed.size(); ++a)
+    if (keyed[a]) class_keyed[classes.topological[a]] = 1;
+  auto is_keyed = [&](std::size_t a) { return class_keyed[classes.topological[a]] != 0; };
+  // The keys need six spheres (a terminal hydrogen's, five of its heavy
+  // atom's); the codes, being prefix-stable, are read from the same runs,
+  // which for atoms without keys stop at the codes' own spheres.
+  const std::size_t heavy = molecule.heavy_atom_count();
+  auto depth = [&](std::size_t a) {
+    if (is_keyed(a)) return kMaxHoseSpheres;
+    int d = spheres;
+    if (a < heavy)
+      for (auto it = molecule.neighbours_begin(a); it != molecule.neighbours_end(a); ++it)
+        if (*it >= heavy && molecule.degree(*it) == 1 && is_keyed(*it)) d = std::max(d, kMaxHoseSpheres - 1);
+    return d;
+  };
   const EngineLease engine_ptr(molecule, kMaxHoseSpheres, classes.invariant_rank);
   Engine &engine = *engine_ptr;
   code_every_atom(
       molecule, classes, engine,
       [&](std::size_t a) {
         codes[a] = engine.code(static_cast<std::uint32_t>(a), spheres);
-        engine.keys(static_cast<std::uint32_t>(a), keys[a]);
+        if (is_keyed(a)) engine.keys(static_cast<std::uint32_t>(a), keys[a]);
       },
       [&](std::size_t h, std::size_t a, BondOrder bond) {
         codes[h] = engine.hydrogen_code(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, spheres);
-        engine.hydrogen_keys(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, keys[h]);
+        if (is_keyed(h))
+          engine.hydrogen_keys(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, keys[h]);
       },
       [&](std::size_t to, std::size_t from) {
         codes[to] = codes[from];
         keys[to] = keys[from];
-      });
+      },
+      nullptr, depth);
   return codes;
 }
 

@@ -148,6 +148,7 @@ std::vector<Signal> group_signals(const Molecule &molecule, const AtomClasses &c
   }
   std::stable_sort(by_atom.begin(), by_atom.end(), [](const Shift *a, const Shift *b) { return a->atom < b->atom; });
   std::vector<Signal> out;
+  out.reserve(by_atom.size());
   std::map<std::uint32_t, std::size_t> by_class;  // chemical class -> position in out
   for (const Shift *s : by_atom) {
     const auto [it, added] = by_class.emplace(classes.chemical[s->atom], out.size());
@@ -166,12 +167,23 @@ std::vector<Signal> group_signals(const Molecule &molecule, const AtomClasses &c
     g.observed = s->observed;
     out.push_back(std::move(g));
   }
-  std::sort(out.begin(), out.end(), [](const Signal &a, const Signal &b) {
+  // Sorted by position, then moved once: a Signal is several strings and
+  // vectors, and sorting them in place moves each many times. No two
+  // signals share a first atom, so the order is the same for any sort.
+  std::vector<std::size_t> order(out.size());
+  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
+  std::sort(order.begin(), order.end(), [&out](std::size_t i, std::size_t j) {
+    const Signal &a = out[i], &b = out[j];
     if (a.ppm != b.ppm) return a.ppm > b.ppm;
     return a.atoms[0] < b.atoms[0];
   });
-  for (auto &g : out) g.count = static_cast<int>(g.atoms.size());
-  return out;
+  std::vector<Signal> sorted;
+  sorted.reserve(out.size());
+  for (auto i : order) {
+    sorted.push_back(std::move(out[i]));
+    sorted.back().count = static_cast<int>(sorted.back().atoms.size());
+  }
+  return sorted;
 }
 
 const Shift *Prediction::shift(std::size_t atom, Nucleus nucleus) const noexcept {
@@ -200,11 +212,17 @@ Prediction predict(Molecule &&molecule, const Tables &tables, const PredictOptio
   Prediction p;
   p.molecule = std::move(molecule);
   p.classes = compute_classes(p.molecule);
-  // The shift lookups key every carbon and hydrogen by its HOSE code of up
-  // to six spheres; the codes come from the same engine runs.
+  // The shift lookups key carbons and carbon-bound protons by their HOSE
+  // codes of up to six spheres; the codes come from the same engine runs.
   std::vector<detail::HoseKeys> keys;
-  p.hose = options.predict_shifts ? detail::hose_codes_and_keys(p.molecule, p.classes, options.hose_spheres, keys)
-                                  : hose_codes(p.molecule, p.classes, options.hose_spheres);
+  std::vector<bool> keyed;
+  if (options.predict_shifts) {
+    keyed.resize(p.molecule.atom_count());
+    for (std::size_t a = 0; a < keyed.size(); ++a) keyed[a] = detail::lookup_keyed(p.molecule, a);
+  }
+  p.hose = options.predict_shifts
+               ? detail::hose_codes_and_keys(p.molecule, p.classes, options.hose_spheres, keyed, keys)
+               : hose_codes(p.molecule, p.classes, options.hose_spheres);
   if (p.hose.size() != p.molecule.atom_count())
     throw InternalError(fmt::format("hose_codes returned {} codes for {} atoms", p.hose.size(),
                                     p.molecule.atom_count()));
@@ -226,7 +244,7 @@ Prediction predict(Molecule &&molecule, const Tables &tables, const PredictOptio
     // Ring perception, recursive-pattern results and HOSE keys are facts of
     // the molecule, not of the nucleus: made once for both.
     detail::MoleculeFacts facts(p.molecule, p.classes);
-    facts.set_all_keys(std::move(keys));
+    facts.set_all_keys(std::move(keys), std::move(keyed));
     p.c13 = detail::predict_c13_on(p.molecule, p.classes, tables, so, &p.warnings, &facts);
     check_order(p.c13, "predict_c13");
     p.c13_signals = group_signals(p.molecule, p.classes, p.c13);

@@ -25,7 +25,6 @@
 #include <initializer_list>
 #include <optional>
 #include <string>
-#include <unordered_map>
 #include <utility>
 #include <vector>
 
@@ -97,6 +96,31 @@ constexpr double kFiveRingAlkenePpm = 0.7;
 // --increments-only).
 constexpr double kRingEnonePpm = 0.4;
 
+// Appends v as fmt's "{:.2f}" writes it, except that -0.00 is written 0.00.
+void append_ppm(std::string &out, double v) {
+  // std::to_chars rounds the exact binary value as fmt's "{:.2f}" does, at a
+  // fraction of the cost; a method text holds several of these, written in
+  // place rather than through a temporary.
+  if (!std::isfinite(v)) {
+    out += fmt::format("{:.2f}", v);
+    return;
+  }
+  char buf[32];
+  const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
+  const std::string_view text(buf, static_cast<std::size_t>(r.ptr - buf));
+  out += text == "-0.00" ? std::string_view("0.00") : text;
+}
+
+std::string fmt_ppm(double v) {
+  std::string s;
+  append_ppm(s, v);
+  return s;
+}
+
+// "id value" as the method texts name a row's value; made once when the
+// tables are parsed rather than for every proton.
+std::string labelled(const std::string &id, double ppm) { return id + ' ' + fmt_ppm(ppm); }
+
 // ---------------------------------------------------------------------------
 // Parsed tables
 
@@ -104,12 +128,14 @@ struct ValueRow {
   std::string id;
   SmartsPattern smarts;
   double ppm = 0;
+  std::string label;  // labelled(id, ppm)
 };
 
 struct Param {
   std::string id;
   double ppm = 0;
   bool set = false;
+  std::string label;  // labelled(id, ppm)
 };
 
 struct ShooleryTable {
@@ -154,6 +180,7 @@ struct HeteroRow {
   std::string id, ring, position;
   SmartsPattern smarts;
   double ppm = 0;
+  std::string scheme, label;  // the method text's scheme name and labelled(id, ppm)
 };
 
 struct SpecialRow {
@@ -212,14 +239,14 @@ void read_shoolery(const Tables &tables, ShooleryTable &out) {
     const double v = r.need_ppm(row, c_value);
     if (kind == "base") {
       bool known = false;
-      if (id == "shoolery-base") out.shoolery_base = Param{id, v, true}, known = true;
-      if (id == "ring4-ch2") out.ring4 = Param{id, v, true}, known = true;
+      if (id == "shoolery-base") out.shoolery_base = Param{id, v, true, labelled(id, v)}, known = true;
+      if (id == "ring4-ch2") out.ring4 = Param{id, v, true, labelled(id, v)}, known = true;
       for (std::size_t h = 1; h <= 3; ++h)
-        if (id == fmt::format("alkane-{}", types[h])) out.alkane[h] = Param{id, v, true}, known = true;
+        if (id == fmt::format("alkane-{}", types[h])) out.alkane[h] = Param{id, v, true, labelled(id, v)}, known = true;
       if (!known) r.fail(row, fmt::format("unknown base row '{}'", id));
       continue;
     }
-    ValueRow vr{id, r.smarts(row, c_smarts), v};
+    ValueRow vr{id, r.smarts(row, c_smarts), v, labelled(id, v)};
     if (kind == "sigma") {
       out.sigma.push_back(std::move(vr));
       continue;
@@ -244,7 +271,8 @@ void read_alkene(const Tables &tables, AlkeneTable &out) {
   for (const auto &row : r.table().rows) {
     const auto &kind = row.fields[c_kind];
     if (kind == "base") {
-      out.base = Param{row.fields[c_id], r.need_ppm(row, c_base), true};
+      const double v = r.need_ppm(row, c_base);
+      out.base = Param{row.fields[c_id], v, true, labelled(row.fields[c_id], v)};
     } else if (kind == "substituent") {
       AlkeneRow a;
       a.id = row.fields[c_id];
@@ -280,7 +308,8 @@ void read_benzene(const Tables &tables, BenzeneTable &out) {
   for (const auto &row : r.table().rows) {
     const auto &kind = row.fields[c_kind];
     if (kind == "base") {
-      out.base = Param{row.fields[c_id], r.need_ppm(row, c_base), true};
+      const double v = r.need_ppm(row, c_base);
+      out.base = Param{row.fields[c_id], v, true, labelled(row.fields[c_id], v)};
     } else if (kind == "substituent") {
       BenzeneRow b;
       b.id = row.fields[c_id];
@@ -308,6 +337,8 @@ void read_hetero(const Tables &tables, std::vector<HeteroRow> &out) {
     h.position = row.fields[c_pos];
     h.smarts = r.smarts(row, c_smarts);
     h.ppm = r.need_ppm(row, c_shift);
+    h.scheme = fmt::format("heteroaromatic base value ({}, position {})", h.ring, h.position);
+    h.label = labelled(h.id, h.ppm);
     out.push_back(std::move(h));
   }
 }
@@ -359,26 +390,11 @@ void read_solvents(const Tables &tables, H1IncrementTables &out) {
 // ---------------------------------------------------------------------------
 // A sum of increments, kept term by term for the method text.
 
-std::string fmt_ppm(double v) {
-  // std::to_chars rounds the exact binary value as fmt's "{:.2f}" does, at a
-  // fraction of the cost; a method text holds several of these.
-  std::string s;
-  if (std::isfinite(v)) {
-    char buf[32];
-    const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
-    s.assign(buf, r.ptr);
-  } else {
-    s = fmt::format("{:.2f}", v);
-  }
-  if (s == "-0.00") s = "0.00";
-  return s;
-}
-
 class Sum {
  public:
   Sum(std::string scheme, Spread spread) : scheme_(std::move(scheme)), spread_(spread) {}
-  void base(const std::string &label, double ppm) {
-    base_label_ = label;
+  void base(std::string label, double ppm) {
+    base_label_ = std::move(label);
     base_ppm_ = ppm;
   }
   void add(const std::string &role, const std::string &id, double ppm) {
@@ -411,10 +427,10 @@ class Sum {
       if (!t.role.empty()) s += ' ';
       s += t.id;
       s += ' ';
-      s += fmt_ppm(t.ppm);
+      append_ppm(s, t.ppm);
     }
     s += " = ";
-    s += fmt_ppm(ppm());
+    append_ppm(s, ppm());
     for (const auto &n : notes_) {
       s += " (";
       s += n;
@@ -527,7 +543,7 @@ class H1Increments final : public ShiftSource {
 
   bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
     if (q.nucleus != Nucleus::H1) return false;
-    const auto r = evaluate(q, atom);
+    const auto &r = evaluate(q, atom);
     if (!r) return false;
     out.ppm = r->ppm;
     out.uncertainty_ppm = r->uncertainty_ppm;
@@ -541,15 +557,45 @@ class H1Increments final : public ShiftSource {
   }
 
   // The rule estimate for hydrogen `atom`, or nothing when no rule covers it.
-  std::optional<Estimate> evaluate(const ShiftQuery &q, std::size_t atom) const {
+  // Remembered per molecule: the reference lookup asks for it before this
+  // source is asked in its own turn, and only the alkene rule looks at more
+  // than the carrier, so the protons of one carbon share the rest.
+  const std::optional<Estimate> &evaluate(const ShiftQuery &q, std::size_t atom) const {
+    static const std::optional<Estimate> kNone;
     const Molecule &m = q.molecule;
-    if (atom >= m.atom_count() || !m.is_hydrogen(atom) || m.atom(atom).isotope > 1) return std::nullopt;
+    if (atom >= m.atom_count() || !m.is_hydrogen(atom) || m.atom(atom).isotope > 1) return kNone;
     const auto carrier = m.attached_to(atom);
-    if (carrier < 0 || m.degree(atom) != 1) return std::nullopt;
+    if (carrier < 0 || m.degree(atom) != 1) return kNone;
     const auto c = static_cast<std::size_t>(carrier);
+    const SmartsTarget &t = target(q);
+    if (by_proton_.empty()) {
+      by_proton_.resize(m.atom_count());
+      by_carrier_.resize(m.heavy_atom_count());
+    }
+    Memo &proton = by_proton_[atom];
+    if (proton.done) return proton.value;
+    if (c < by_carrier_.size() && by_carrier_[c].done) return by_carrier_[c].value;
+    bool per_proton = false;
+    auto value = evaluate_uncached(q, t, atom, c, per_proton);
+    Memo &slot = per_proton || c >= by_carrier_.size() ? proton : by_carrier_[c];
+    slot.value = std::move(value);
+    slot.done = true;
+    return slot.value;
+  }
+
+ private:
+  struct Memo {
+    bool done = false;
+    std::optional<Estimate> value;
+  };
+
+  // evaluate() for proton `atom` on carrier `c`; sets `per_proton` when the
+  // answer depends on the proton, not only on its carrier.
+  std::optional<Estimate> evaluate_uncached(const ShiftQuery &q, const SmartsTarget &t, std::size_t atom,
+                                            std::size_t c, bool &per_proton) const {
+    const Molecule &m = q.molecule;
     const auto &a = m.atom(c);
     if (a.formal_charge != 0 || a.radical_electrons != 0) return std::nullopt;
-    const SmartsTarget &t = target(q);
     const SpecialGroup *group = special_group(t, c);
     if (a.atomic_number != 6) {
       if (a.atomic_number == 7 || a.atomic_number == 8 || a.atomic_number == 16) return labile(group);
@@ -567,12 +613,14 @@ class H1Increments final : public ShiftSource {
       if (o == BondOrder::Double && m.atom(b).atomic_number == 6) ++doubles, partner = b;
       else if (o != BondOrder::Single) ++multiple_other;
     });
-    if (doubles == 1 && multiple_other == 0) return alkene(q, t, atom, c, partner);
+    if (doubles == 1 && multiple_other == 0) {
+      per_proton = true;
+      return alkene(q, t, atom, c, partner);
+    }
     if (is_sp3_carbon(m, c)) return sp3(t, c);
     return std::nullopt;
   }
 
- private:
   // The query's SmartsTarget (ShiftQuery::smarts_target), shared by all
   // protons of the molecule; the rows found below belong to it. Not
   // thread-safe (header: one thread per source object).
@@ -581,7 +629,9 @@ class H1Increments final : public ShiftSource {
     if (query_ != &q || target_ != &t) {
       target_ = &t;
       query_ = &q;
-      benzene_rows_.clear();
+      benzene_rings_.clear();
+      by_proton_.clear();
+      by_carrier_.clear();
     }
     return t;
   }
@@ -654,69 +704,82 @@ class H1Increments final : public ShiftSource {
 
   // --- benzene ----------------------------------------------------------------
   std::optional<Estimate> benzene(const SmartsTarget &t, std::size_t k) const {
-    const Molecule &m = t.molecule();
     if (!tab_.benzene.present) return std::nullopt;
     for (const auto &ring : t.rings()) {
       if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
-      const auto ring_index = static_cast<std::size_t>(&ring - t.rings().data());
-      bool benzenoid = true;
-      for (std::size_t i = 0; i < 6 && benzenoid; ++i) {
-        const auto &at = m.atom(ring[i]);
-        const auto b = m.bond_between(ring[i], ring[(i + 1) % 6]);
-        benzenoid = at.atomic_number == 6 && at.aromatic && at.formal_charge == 0 && b >= 0 &&
-                    m.bond(static_cast<std::size_t>(b)).order == BondOrder::Aromatic;
-      }
-      if (!benzenoid) continue;
-      std::vector<bool> skeleton(m.atom_count(), false);
-      for (auto a : ring) skeleton[a] = true;
+      const BenzeneRing &br = benzene_ring(t, static_cast<std::size_t>(&ring - t.rings().data()));
+      if (!br.benzenoid) continue;
       const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
       const char *const relation[] = {"", "ortho", "meta", "para"};
       Sum s("benzene increments", kBenzeneSpread);
-      s.base(fmt::format("base {}", fmt_ppm(tab_.benzene.base.ppm)), tab_.benzene.base.ppm);
+      s.base("base " + fmt_ppm(tab_.benzene.base.ppm), tab_.benzene.base.ppm);
       bool ok = true;
-      for (int ir = 0; ir < 6 && ok; ++ir) {
-        const auto r = ring[static_cast<std::size_t>(ir)];
-        const int rel = std::min(std::abs(ir - ik), 6 - std::abs(ir - ik));
-        for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
-          if (!ok || skeleton[x]) return;
-          // FORMAT.md: fused rings and groups bonded to two ring atoms are
-          // not covered (the heteroaromatic table has the fused parents).
-          if (rel == 0 || in_one_ring(t, {r, x})) {
-            ok = false;
-            return;
-          }
-          const auto *row = benzene_row(t, ring_index, x, skeleton);
-          if (!row) {
-            ok = false;
-            return;
-          }
-          s.add(relation[rel], row->id, row->by_relation[static_cast<std::size_t>(rel)]);
-        });
+      for (const auto &g : br.groups) {
+        const int rel = std::min(std::abs(g.position - ik), 6 - std::abs(g.position - ik));
+        // A group on the proton's own carbon is not a substituent the table
+        // describes.
+        if (rel == 0 || !g.row) {
+          ok = false;
+          break;
+        }
+        s.add(relation[rel], g.row->id, g.row->by_relation[static_cast<std::size_t>(rel)]);
       }
       if (ok) return from_sum(s);
     }
     return std::nullopt;
   }
 
-  // The row of substituent x on smallest ring `ring_index` (the ring is the
-  // skeleton): every proton of the ring asks for the same rows, so each is
-  // looked up once per molecule.
-  const BenzeneRow *benzene_row(const SmartsTarget &t, std::size_t ring_index, std::size_t x,
-                                const std::vector<bool> &skeleton) const {
-    const auto key = static_cast<std::uint64_t>(ring_index) * t.molecule().atom_count() + x;
-    const auto it = benzene_rows_.find(key);
-    if (it != benzene_rows_.end()) return it->second;
-    const auto *row = first_row(tab_.benzene.rows, t, x, skeleton);
-    benzene_rows_.emplace(key, row);
-    return row;
+  // What benzene() needs of six-membered ring `ring_index`, the same for
+  // every proton of the ring, so made once per molecule: whether it is a
+  // benzene ring, and its groups in the order the sum adds them, each with
+  // its ring position and row (null when no row applies, or when the group
+  // closes another ring: FORMAT.md leaves fused rings and groups bonded to
+  // two ring atoms to the heteroaromatic table).
+  struct BenzeneRing {
+    struct Group {
+      int position;
+      const BenzeneRow *row;
+    };
+    bool benzenoid = false;
+    std::vector<Group> groups;
+  };
+  const BenzeneRing &benzene_ring(const SmartsTarget &t, std::size_t ring_index) const {
+    if (benzene_rings_.empty()) benzene_rings_.resize(t.rings().size());
+    auto &slot = benzene_rings_[ring_index];
+    if (slot) return *slot;
+    slot.emplace();
+    const Molecule &m = t.molecule();
+    const auto &ring = t.rings()[ring_index];
+    bool benzenoid = true;
+    for (std::size_t i = 0; i < 6 && benzenoid; ++i) {
+      const auto &at = m.atom(ring[i]);
+      const auto b = m.bond_between(ring[i], ring[(i + 1) % 6]);
+      benzenoid = at.atomic_number == 6 && at.aromatic && at.formal_charge == 0 && b >= 0 &&
+                  m.bond(static_cast<std::size_t>(b)).order == BondOrder::Aromatic;
+    }
+    if (!benzenoid) return *slot;
+    slot->benzenoid = true;
+    std::vector<bool> skeleton(m.atom_count(), false);
+    for (auto a : ring) skeleton[a] = true;
+    for (int ir = 0; ir < 6; ++ir) {
+      const auto r = ring[static_cast<std::size_t>(ir)];
+      for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
+        if (skeleton[x]) return;
+        const BenzeneRow *row = in_one_ring(t, {r, x}) ? nullptr : first_row(tab_.benzene.rows, t, x, skeleton);
+        slot->groups.push_back(BenzeneRing::Group{ir, row});
+      });
+    }
+    return *slot;
   }
 
   // --- heteroaromatic base values -------------------------------------------
   std::optional<Estimate> hetero(const SmartsTarget &t, std::size_t k) const {
     const Molecule &m = t.molecule();
     for (const auto &row : tab_.hetero) {
+      // Most rows fail: the plain anchored test costs less than setting up
+      // the search that reports the mapping, which only the first hit needs.
+      if (!match_at(row.smarts, t, k)) continue;
       std::vector<std::int64_t> fixed(row.smarts.atom_count(), -1);
-      if (fixed.empty()) continue;
       fixed[0] = static_cast<std::int64_t>(k);
       std::vector<std::uint32_t> map;
       for_each_match(row.smarts, t, fixed, {}, [&](const std::vector<std::uint32_t> &mp) {
@@ -751,8 +814,8 @@ class H1Increments final : public ShiftSource {
       // tautomers, so N-substituted azoles without a row of their own
       // (1-alkylimidazole, 1-alkylpyrazole) are not covered.
       if (nitrogens >= 2 && n_substituted) return std::nullopt;
-      Sum s(fmt::format("heteroaromatic base value ({}, position {})", row.ring, row.position), kHeteroSpread);
-      s.base(fmt::format("{} {}", row.id, fmt_ppm(row.ppm)), row.ppm);
+      Sum s(row.scheme, kHeteroSpread);
+      s.base(row.label, row.ppm);
       // Substituents on ring carbons take the benzene increment for their
       // relation to the proton, counted in bonds inside the parent
       // (tables/FORMAT.md, h1_heteroaromatic); the rest are not accounted for.
@@ -924,7 +987,7 @@ class H1Increments final : public ShiftSource {
     }
 
     Sum s("alkene increments (Pascual-Meier-Simon)", kAlkeneSpread);
-    s.base(fmt::format("base {}", fmt_ppm(tab.base.ppm)), tab.base.ppm);
+    s.base("base " + fmt_ppm(tab.base.ppm), tab.base.ppm);
     int count = 0;
     auto term = [&](std::size_t x, const char *role) -> bool {
       if (m.is_hydrogen(x)) return true;
@@ -1038,7 +1101,7 @@ class H1Increments final : public ShiftSource {
       std::vector<bool> skeleton(m.atom_count(), false);
       skeleton[ca] = skeleton[cb] = true;
       Sum s("alkene increments (Pascual-Meier-Simon)", kAlkeneSpread);
-      s.base(fmt::format("base {}", fmt_ppm(tab_.alkene.base.ppm)), tab_.alkene.base.ppm);
+      s.base("base " + fmt_ppm(tab_.alkene.base.ppm), tab_.alkene.base.ppm);
       int count = 0;
       bool donor = false, acceptor = false;
       auto term = [&](std::size_t x, const char *role) -> bool {
@@ -1147,8 +1210,7 @@ class H1Increments final : public ShiftSource {
     if (n_h == 4) {
       if (!tab.shoolery_base.set) return std::nullopt;
       Sum s("Shoolery's rule", kShoolerySpread);
-      s.base(fmt::format("base {} {}", tab.shoolery_base.id, fmt_ppm(tab.shoolery_base.ppm)),
-             tab.shoolery_base.ppm);
+      s.base("base " + tab.shoolery_base.label, tab.shoolery_base.ppm);
       return from_sum(s);
     }
     if (n_h < 1 || n_h > 3) return std::nullopt;
@@ -1202,7 +1264,7 @@ class H1Increments final : public ShiftSource {
       // takes the sigma of row sigma-alkyl (FORMAT.md, h1_shoolery step 1).
       if (!tab.shoolery_base.set) return std::nullopt;
       Sum s("Shoolery's rule", spread);
-      s.base(fmt::format("base {} {}", tab.shoolery_base.id, fmt_ppm(tab.shoolery_base.ppm)), tab.shoolery_base.ppm);
+      s.base("base " + tab.shoolery_base.label, tab.shoolery_base.ppm);
       for (auto n : nbrs) {
         const auto *row = first_row(tab.sigma, t, n, skeleton);
         if (!row) return std::nullopt;
@@ -1245,7 +1307,7 @@ class H1Increments final : public ShiftSource {
         // plus each beta row's step above the plain alkane, as in step 3a.
         Sum s(fmt::format("position table ({} alpha to a group, beta to others, additive)", type[n_h]),
               kAlphaBetaSpread);
-        s.base(fmt::format("{} {}", row->id, fmt_ppm(row->ppm)), row->ppm);
+        s.base(row->label, row->ppm);
         if (!add_beta_steps(t, c, n_h, beta, s)) return std::nullopt;
         return from_sum(s);
       }
@@ -1253,7 +1315,7 @@ class H1Increments final : public ShiftSource {
       const bool derived = row->id.size() > kDerived.size() &&
                            row->id.compare(row->id.size() - kDerived.size(), kDerived.size(), kDerived) == 0;
       Sum s(fmt::format("position table ({} alpha to a group)", type[n_h]), derived ? kDerivedAlphaSpread : kAlphaSpread);
-      s.base(fmt::format("{} {}", row->id, fmt_ppm(row->ppm)), row->ppm);
+      s.base(row->label, row->ppm);
       return from_sum(s, 0);
     }
     if (n_groups > 1) return std::nullopt;  // CH2XY with three heavy neighbours
@@ -1263,7 +1325,7 @@ class H1Increments final : public ShiftSource {
         const auto *row = first_row(tab.beta[n_h], t, beta[0], skeleton);
         if (!row) return std::nullopt;
         Sum s(fmt::format("position table ({} beta to a group)", type[n_h]), kBetaSpread);
-        s.base(fmt::format("{} {}", row->id, fmt_ppm(row->ppm)), row->ppm);
+        s.base(row->label, row->ppm);
         return from_sum(s, 0);
       }
       return beta_sum(t, c, n_h, beta);
@@ -1271,7 +1333,7 @@ class H1Increments final : public ShiftSource {
     const auto &alk = tab.alkane[n_h];
     if (!alk.set) return std::nullopt;
     Sum s(fmt::format("position table ({} with no group within two bonds)", type[n_h]), kAlkaneSpread);
-    s.base(fmt::format("{} {}", alk.id, fmt_ppm(alk.ppm)), alk.ppm);
+    s.base(alk.label, alk.ppm);
     return from_sum(s, 0);
   }
 
@@ -1291,7 +1353,7 @@ class H1Increments final : public ShiftSource {
     Sum s(fmt::format("position table ({} beta to {}, additive)", type[n_h],
                       groups == 1 ? "a group" : "several groups"),
           kBetaSumSpread);
-    s.base(fmt::format("{} {}", alk.id, fmt_ppm(alk.ppm)), alk.ppm);
+    s.base(alk.label, alk.ppm);
     if (!add_beta_steps(t, c, n_h, beta, s)) return std::nullopt;
     return from_sum(s);
   }
@@ -1336,7 +1398,8 @@ class H1Increments final : public ShiftSource {
   double water_ppm_ = 0;
   mutable const ShiftQuery *query_ = nullptr;
   mutable const SmartsTarget *target_ = nullptr;
-  mutable std::unordered_map<std::uint64_t, const BenzeneRow *> benzene_rows_;  // see benzene_row()
+  mutable std::vector<std::optional<BenzeneRing>> benzene_rings_;  // see benzene_ring()
+  mutable std::vector<Memo> by_proton_, by_carrier_;  // see evaluate()
 };
 
 }  // namespace

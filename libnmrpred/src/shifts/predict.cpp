@@ -306,6 +306,17 @@ class ReferenceLookup final : public ShiftSource {
   const ShiftSource *increments_;
 };
 
+// Protons whose shifts the lookups and rules estimate: deuterium and
+// tritium give no 1H signal, and protons on O, N and S exchange, so they
+// take typical values and are never looked up.
+enum class ProtonKind { Silent, CarbonBound, Labile };
+ProtonKind proton_kind(const Molecule &m, std::size_t h) {
+  if (m.atom(h).isotope > 1) return ProtonKind::Silent;
+  const auto heavy = m.attached_to(h);
+  const auto z = heavy >= 0 ? m.atom(static_cast<std::size_t>(heavy)).atomic_number : 0;
+  return z == 8 || z == 7 || z == 16 ? ProtonKind::Labile : ProtonKind::CarbonBound;
+}
+
 }  // namespace
 
 std::uint64_t ShiftQuery::constitution() const {
@@ -334,21 +345,24 @@ const SmartsTarget &MoleculeFacts::smarts_target() const {
   return *target_;
 }
 
-void MoleculeFacts::set_all_keys(std::vector<HoseKeys> keys) {
-  if (keys.size() != molecule_.atom_count())
+void MoleculeFacts::set_all_keys(std::vector<HoseKeys> keys, std::vector<bool> keyed) {
+  if (keys.size() != molecule_.atom_count() || (!keyed.empty() && keyed.size() != keys.size()))
     throw InternalError(fmt::format("{} HOSE keys for {} atoms", keys.size(), molecule_.atom_count()));
   keys_ = std::move(keys);
-  keyed_.assign(molecule_.atom_count(), true);
+  if (keyed.empty()) keyed.assign(molecule_.atom_count(), true);
+  keyed_ = std::move(keyed);
 }
 
 const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking) const {
   // One pass over the molecule keys every wanted atom once per class, which
   // costs less than a few single-atom calls; the lookups need only the keys,
   // not the text. An atom's keys do not depend on which others are wanted.
+  // Of the protons only those the 1H lookup is asked about are keyed.
   if (keyed_.empty()) {
     keyed_.assign(molecule_.atom_count(), false);
     for (std::size_t a = 0; a < molecule_.atom_count(); ++a)
-      keyed_[a] = asking == Nucleus::C13 ? molecule_.atom(a).atomic_number == 6 : molecule_.is_hydrogen(a);
+      keyed_[a] = asking == Nucleus::C13 ? molecule_.atom(a).atomic_number == 6
+                                         : molecule_.is_hydrogen(a) && proton_kind(molecule_, a) == ProtonKind::CarbonBound;
     keys_ = hose_keys(molecule_, classes_, keyed_);
   }
   if (!keyed_.at(atom)) {
@@ -356,6 +370,10 @@ const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking) const {
     keys_ = hose_keys(molecule_, classes_, keyed_);
   }
   return keys_[atom];
+}
+
+bool lookup_keyed(const Molecule &m, std::size_t atom) {
+  return m.atom(atom).atomic_number == 6 || (m.is_hydrogen(atom) && proton_kind(m, atom) == ProtonKind::CarbonBound);
 }
 
 std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const ShiftSource *> &sources,
@@ -446,11 +464,8 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   std::vector<const detail::ShiftSource *> sources;
   std::vector<std::size_t> carbon_bound, labile;
   for (std::size_t a = molecule.heavy_atom_count(); a < molecule.atom_count(); ++a) {
-    const auto iso = molecule.atom(a).isotope;
-    if (iso > 1) continue;  // deuterium and tritium give no 1H signal
-    const auto heavy = molecule.attached_to(a);
-    const auto z = heavy >= 0 ? molecule.atom(static_cast<std::size_t>(heavy)).atomic_number : 0;
-    (z == 8 || z == 7 || z == 16 ? labile : carbon_bound).push_back(a);
+    const auto kind = proton_kind(molecule, a);
+    if (kind != ProtonKind::Silent) (kind == ProtonKind::Labile ? labile : carbon_bound).push_back(a);
   }
   if (options.use_reference) {
     sources.push_back(user.get());

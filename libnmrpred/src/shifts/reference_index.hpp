@@ -87,10 +87,11 @@ inline std::uint64_t hose_key_part(std::uint64_t h, std::string_view part) {
 using HoseKeys = std::array<std::uint64_t, kMaxHoseSpheres + 1>;
 std::vector<HoseKeys> hose_keys(const Molecule &m, const AtomClasses &classes, const std::vector<bool> &wanted);
 // hose_codes(m, classes, spheres) (nmrpred/hose.hpp), and in `keys` the
-// hose_keys() of every atom, from one engine run per topological class.
-// Errors as hose_codes().
+// hose_keys() of the atoms flagged in `keyed` and of every atom of their
+// topological classes (others get zeros), from one engine run per
+// topological class. Errors as hose_codes().
 std::vector<std::string> hose_codes_and_keys(const Molecule &m, const AtomClasses &classes, int spheres,
-                                             std::vector<HoseKeys> &keys);
+                                             const std::vector<bool> &keyed, std::vector<HoseKeys> &keys);
 
 // Median and sample standard deviation about it.
 Summary summarise(std::vector<double> values);

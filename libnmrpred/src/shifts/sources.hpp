@@ -34,8 +34,9 @@ class MoleculeFacts {
   // first call keys the atoms of the asking nucleus in one pass (unless
   // set_all_keys() came first); an atom outside that pass keys them all.
   const HoseKeys &keys(std::size_t atom, Nucleus asking) const;
-  // Takes the keys of every atom, made by the caller (hose_codes_and_keys).
-  void set_all_keys(std::vector<HoseKeys> keys);
+  // Takes the keys made by the caller (hose_codes_and_keys) of the atoms
+  // flagged in `keyed` (all atoms when it is empty).
+  void set_all_keys(std::vector<HoseKeys> keys, std::vector<bool> keyed = {});
 
  private:
   const Molecule &molecule_;
@@ -121,6 +122,11 @@ std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &c
 std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
                                  const ShiftOptions &options, std::vector<std::string> *warnings,
                                  const MoleculeFacts *shared);
+
+// Whether the reference lookups of predict_c13_on / predict_h1_on may ask
+// for the HOSE keys of `atom`: carbons, and protons that are neither on O, N
+// or S nor deuterium or tritium.
+bool lookup_keyed(const Molecule &m, std::size_t atom);
 
 std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const ShiftSource *> &sources,
                                const std::vector<std::size_t> &atoms, std::vector<std::string> *warnings);
