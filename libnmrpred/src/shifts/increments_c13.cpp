@@ -637,6 +637,24 @@ class C13Increments final : public ShiftSource {
 
   bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
     if (q.nucleus != Nucleus::C13) return false;
+    // The lookups ask for the rule value of a carbon and, when they give
+    // way, the engine asks again: the answer is kept per atom of the query.
+    target(q);
+    if (atom >= answered_.size()) return estimate_anew(q, atom, out);
+    if (answered_[atom] < 0) answered_[atom] = estimate_anew(q, atom, answers_[atom]) ? 1 : 0;
+    if (answered_[atom] == 0) return false;
+    const Shift &s = answers_[atom];
+    out.ppm = s.ppm;
+    out.uncertainty_ppm = s.uncertainty_ppm;
+    out.source = s.source;
+    out.sphere = 0;
+    out.method = s.method;
+    out.references.clear();
+    return true;
+  }
+
+  // estimate() without the kept answers.
+  bool estimate_anew(const ShiftQuery &q, std::size_t atom, Shift &out) const {
     std::string why;
     auto r = evaluate(q, atom, &why);
     if (!r) return false;
@@ -721,6 +739,8 @@ class C13Increments final : public ShiftSource {
       hetero_matches_.clear();
       hetero_cover_.clear();
       benzene_rows_.clear();
+      answered_.assign(t.molecule().heavy_atom_count(), -1);
+      answers_.assign(t.molecule().heavy_atom_count(), Shift{});
     }
     return t;
   }
@@ -1628,6 +1648,8 @@ class C13Increments final : public ShiftSource {
   mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_matches_;  // per hetero ring
   mutable std::vector<std::vector<bool>> hetero_cover_;                         // per hetero ring
   mutable std::unordered_map<std::uint64_t, const BenzeneRow *> benzene_rows_;  // see benzene_row()
+  mutable std::vector<std::int8_t> answered_;  // per atom: -1 not asked yet, 0 no answer, 1 in answers_
+  mutable std::vector<Shift> answers_;
 };
 
 }  // namespace
