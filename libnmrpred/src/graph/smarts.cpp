@@ -48,6 +48,10 @@ struct ExprNode {
 struct PatternBond {
   std::uint32_t a = 0, b = 0;
   int expr = -1;  // root node; -1 = single or aromatic (nothing written)
+  // Bit o set: a bond of BondOrder o matches. Valid when by_order, that is
+  // when the expression asks about the bond order alone (not '@').
+  std::uint8_t orders = 0;
+  bool by_order = false;
 };
 
 // Depth-first order of the pattern atoms from one root (see search_order).
@@ -98,6 +102,11 @@ struct SmartsImpl {
   // Per pattern atom, the plain properties its expression demands outright;
   // a candidate failing them is rejected before the expression is walked.
   std::vector<AtomFilter> filters;
+  // The pattern atoms bonded to atom 0 with the bond between (index into
+  // bonds). An anchored match needs, for each, a heavy neighbour of the
+  // anchor that passes its filter over a matching bond; most anchored
+  // searches fail there, and the test costs less than setting one up.
+  std::vector<std::pair<std::uint32_t, std::uint32_t>> root_neighbours;
 };
 
 namespace {
@@ -493,11 +502,49 @@ bool eval(const SmartsImpl &p, int n, const SmartsTarget &t, std::size_t atom, s
 }
 
 bool bond_ok(const SmartsImpl &p, const PatternBond &pb, const SmartsTarget &t, std::int64_t bond) {
-  if (pb.expr < 0) {
-    const auto o = bond_order(t, bond);
-    return o == BondOrder::Single || o == BondOrder::Aromatic;
-  }
+  if (pb.by_order) return pb.orders >> static_cast<unsigned>(bond_order(t, bond)) & 1u;
   return eval(p, pb.expr, t, 0, bond);
+}
+
+// The bond orders expression `n` accepts as a mask (PatternBond::orders);
+// false when it asks about something else.
+bool order_mask(const SmartsImpl &p, int n, std::uint8_t &mask) {
+  constexpr std::uint8_t kAll = (1u << 1) | (1u << 2) | (1u << 3) | (1u << 4);
+  auto bit = [](BondOrder o) { return static_cast<std::uint8_t>(1u << static_cast<unsigned>(o)); };
+  const ExprNode &e = p.nodes[static_cast<std::size_t>(n)];
+  std::uint8_t l = 0, r = 0;
+  switch (e.op) {
+    case Op::Not:
+      if (!order_mask(p, e.left, l)) return false;
+      mask = static_cast<std::uint8_t>(kAll & ~l);
+      return true;
+    case Op::And:
+    case Op::Or:
+      if (!order_mask(p, e.left, l) || !order_mask(p, e.right, r)) return false;
+      mask = static_cast<std::uint8_t>(e.op == Op::And ? l & r : l | r);
+      return true;
+    case Op::Prim: break;
+  }
+  switch (e.prim) {
+    case Prim::True: mask = kAll; return true;
+    case Prim::BondSingle: mask = bit(BondOrder::Single); return true;
+    case Prim::BondDouble: mask = bit(BondOrder::Double); return true;
+    case Prim::BondTriple: mask = bit(BondOrder::Triple); return true;
+    case Prim::BondAromatic: mask = bit(BondOrder::Aromatic); return true;
+    default: return false;
+  }
+}
+
+void compute_bond_orders(SmartsImpl &p) {
+  for (auto &pb : p.bonds) {
+    if (pb.expr < 0) {
+      pb.orders = static_cast<std::uint8_t>((1u << static_cast<unsigned>(BondOrder::Single)) |
+                                            (1u << static_cast<unsigned>(BondOrder::Aromatic)));
+      pb.by_order = true;
+    } else {
+      pb.by_order = order_mask(p, pb.expr, pb.orders);
+    }
+  }
 }
 
 // Collects the demands of expression `n` into `f` (smarts.cpp AtomFilter).
@@ -702,7 +749,9 @@ class Search {
     }
     const auto from = map_[parent_[q]];
     const auto *bid = m.bond_ids_begin(from);
-    for (auto it = m.neighbours_begin(from); it != m.neighbours_end(from); ++it, ++bid)
+    // Hydrogens, never a candidate, come last in the sorted neighbour list.
+    const auto heavy = m.heavy_atom_count();
+    for (auto it = m.neighbours_begin(from); it != m.neighbours_end(from) && *it < heavy; ++it, ++bid)
       if (try_atom(i, q, *it, *bid)) return true;
     return false;
   }
@@ -733,6 +782,9 @@ SmartsPattern::SmartsPattern(std::string_view text) {
       throw InternalError(fmt::format("SMARTS '{}': disconnected pattern", impl->text));
   }
   compute_filters(*impl);
+  compute_bond_orders(*impl);
+  if (!impl->adjacency.empty())
+    for (const auto &nb : impl->adjacency[0]) impl->root_neighbours.push_back(nb);
   if (!impl->filters.empty() && !impl->filters[0].never)
     root_mask_ = impl->filters[0].mask, root_value_ = impl->filters[0].value;
   impl_ = std::move(impl);
@@ -1023,14 +1075,39 @@ void SmartsTarget::perceive_rings() const {
   }
 }
 
+// Does every pattern neighbour of atom 0 find a candidate among the heavy
+// neighbours of `atom` (SmartsImpl::root_neighbours)? Each is tested on its
+// own, so two pattern neighbours may name the same atom: a necessary
+// condition only, which the search then decides.
+bool root_neighbours_possible(const SmartsImpl &p, const SmartsTarget &t, std::size_t atom,
+                              const std::vector<bool> &excluded) {
+  const Molecule &m = t.molecule();
+  // Hydrogens come last in the sorted neighbour list (molecule.hpp), and
+  // patterns never place an atom on one.
+  const std::size_t degree = m.degree(atom), heavy_atoms = m.heavy_atom_count();
+  const auto *nbs = m.neighbours_begin(atom);
+  const auto *bids = m.bond_ids_begin(atom);
+  for (const auto &nb : p.root_neighbours) {
+    const AtomFilter &f = p.filters[nb.first];
+    const PatternBond &pb = p.bonds[nb.second];
+    bool found = false;
+    for (std::size_t i = 0; i < degree && nbs[i] < heavy_atoms && !found; ++i)
+      found = passes(f, t, nbs[i]) && !(nbs[i] < excluded.size() && excluded[nbs[i]]) && bond_ok(p, pb, t, bids[i]);
+    if (!found) return false;
+  }
+  return true;
+}
+
 // match_at() after its inline test of the root's packed demands.
 std::size_t match_at_unscreened(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom,
                                 const std::vector<bool> &excluded) {
   if (p.empty() || atom >= t.molecule().atom_count()) return 0;
-  // Most table rows fail on the anchor atom itself: test it before setting up a search.
+  // Most table rows fail on the anchor atom itself or its neighbours: test
+  // them before setting up a search.
   const auto &impl = p.impl();
   const AtomFilter &root = impl.filters[0];
-  if (t.facts(atom).atomic_number == 1 || (atom < excluded.size() && excluded[atom]) || !passes(root, t, atom))
+  if (t.facts(atom).atomic_number == 1 || (atom < excluded.size() && excluded[atom]) || !passes(root, t, atom) ||
+      !root_neighbours_possible(impl, t, atom, excluded))
     return 0;
   auto root_holds = [&] { return root.exact || eval(impl, impl.atom_expr[0], t, atom, -1); };
   // The root's expression depends on the root atom alone, not on how the
