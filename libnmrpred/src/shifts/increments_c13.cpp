@@ -97,6 +97,20 @@ constexpr const char *kPolyhaloNeighbour = "a neighbour carries two or more halo
 
 const char *const kPositionName[] = {"", "alpha", "beta", "gamma", "delta", "epsilon"};
 const char *const kRingRelation[] = {"ipso", "ortho", "meta", "para"};
+// Roles of composed terms, spelt out once (Sum keeps views of its roles).
+const char *const kCarriedRelation[] = {"ipso (carried over)", "ortho (carried over)", "meta (carried over)",
+                                        "para (carried over)"};
+const char *const kCarriedPosition[] = {"alpha (carried over)", "beta (carried over)", "gamma (carried over)",
+                                        "delta (carried over)"};
+const char *const kEneChainRole[2][5] = {{"", "ipso alpha", "ipso beta", "ipso gamma", "ipso delta"},
+                                         {"", "partner alpha", "partner beta", "partner gamma", "partner delta"}};
+const char *const kRingMemberRole[] = {"ring member alpha", "ring member beta", "ring member gamma"};
+// Parent scheme: [position 1..4][internal].
+const char *const kParentRole[5][2] = {{"", ""},
+                                       {"alpha (terminal)", "alpha (internal)"},
+                                       {"beta (terminal)", "beta (internal)"},
+                                       {"gamma", "gamma"},
+                                       {"delta", "delta"}};
 
 // ---------------------------------------------------------------------------
 // Parsed tables
@@ -124,6 +138,7 @@ struct EneRow {
 struct EneTable {
   bool present = false;
   Param base;
+  std::string base_label;  // as method texts print it
   std::array<std::optional<EneRow>, 5> alkyl;  // by position 1..4
   std::optional<EneRow> cis, geminal;
   // Alkyl groups on the carbon across from a carbonyl (push-pull pair);
@@ -142,6 +157,7 @@ struct HetBase {
   std::string id;
   std::vector<int> atoms;
   double ppm = 0;
+  std::string label;  // as method texts print it
 };
 
 struct HetIncrement {
@@ -154,6 +170,7 @@ struct HetIncrement {
 
 struct HetRing {
   std::string name;
+  std::string scheme;  // as method texts print it
   SmartsPattern ring;
   std::vector<HetBase> bases;
   std::vector<HetIncrement> increments;
@@ -164,6 +181,7 @@ struct ClassRow {
   std::string name;
   SmartsPattern smarts;
   double typical_ppm = 0, low_ppm = 0, high_ppm = 0;
+  std::string scheme, base_label;  // as method texts print them
 };
 
 // c13_ring_sp3.tsv: one row of the ring scheme. ring_size 0 stands for "-"
@@ -174,6 +192,7 @@ struct RingRow {
   bool group = false;  // member rows: the member's atoms outside the ring belong to it
   SmartsPattern smarts;
   std::array<Opt, 4> by_distance;  // alpha, beta, gamma, delta
+  std::string base_label;          // base rows: as method texts print it
 };
 
 struct RingTables {
@@ -194,6 +213,7 @@ struct SolventRow {
 
 struct C13Tables {
   Param gp_base;
+  std::string gp_base_label;  // as method texts print it
   std::array<Param, 6> gp_position;        // 1..5
   std::array<std::array<Param, 5>, 5> gp_steric;  // [observed class][partner class], 1..4
   Param gp_cis_allylic;  // per group cis to the observed carbon across a C=C it hangs on
@@ -203,6 +223,7 @@ struct C13Tables {
   EneTable alkene, alkyne;
   bool benzene_present = false;
   Param benzene_base;
+  std::string benzene_base_label;  // as method texts print it
   std::vector<BenzeneRow> benzene;
   std::vector<HetRing> hetero;  // largest ring pattern first
   std::vector<ClassRow> classes;
@@ -218,6 +239,44 @@ struct C13IncrementTables {
 };
 
 namespace {
+
+// v with two decimals, as fmt's "{:.2f}" writes it: std::to_chars rounds the
+// exact binary value the same way and costs a fraction of the formatter (a
+// method text holds a dozen of these).
+std::string fixed_2(double v) {
+  if (!std::isfinite(v)) return fmt::format("{:.2f}", v);
+  char buf[32];
+  char *p = buf;
+  // Even to_chars costs hundreds of instructions. y = |v| * 100 is within
+  // |y| * 2^-53 (< 1e-6 below 2^31) of the exact product, so unless its
+  // fraction lies within 1e-6 of one half (a tie, or too close to tell)
+  // rounding y to the nearest integer rounds the exact value as to_chars
+  // does; the sign is written for every negative v, as to_chars writes
+  // "-0.00". Checked against to_chars on 54 million values (random, k/100,
+  // k/1000, ties k/200 and their neighbours, signed zeros) when written.
+  const double y = std::fabs(v) * 100.0;
+  const double whole = std::floor(y), fraction = y - whole;
+  if (y < 2147483648.0 && std::fabs(fraction - 0.5) > 1e-6) {
+    const auto cents = static_cast<std::uint64_t>(whole) + (fraction > 0.5 ? 1u : 0u);
+    if (std::signbit(v)) *p++ = '-';
+    p = std::to_chars(p, buf + sizeof buf, cents / 100).ptr;
+    *p++ = '.';
+    *p++ = static_cast<char>('0' + cents % 100 / 10);
+    *p++ = static_cast<char>('0' + cents % 10);
+    return std::string(buf, p);
+  }
+  const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
+  return std::string(buf, r.ptr);
+}
+
+// A table value or sum as method texts print it: two decimals, one where the
+// second is 0 (table values carry one or two and are printed as written).
+std::string ppm_text(double v) {
+  auto s = fixed_2(v);
+  if (s.back() == '0') s.pop_back();
+  if (s == "-0.0") s = "0.0";
+  return s;
+}
 
 bool ends_with(const std::string &s, const char *suffix) {
   const std::string x(suffix);
@@ -236,6 +295,7 @@ void read_alkane(const Tables &tables, C13Tables &out) {
     if (scheme == "grant-paul") {
       if (term == "base") {
         out.gp_base = p;
+        out.gp_base_label = fmt::format("base {} {}", p.id, ppm_text(p.ppm));
       } else if (term == "cis-allylic") {
         out.gp_cis_allylic = p;
       } else if (term == "steric") {
@@ -296,6 +356,7 @@ void read_ene(const Tables &tables, const char *path, EneTable &out) {
     e.partner = r.ppm(row, c_partner);
     if (kind == "base") {
       out.base = Param{r.need_ppm(row, c_ipso), e.id, true};
+      out.base_label = fmt::format("base {}", ppm_text(out.base.ppm));
     } else if (kind == "alkyl") {
       bool known = false;
       for (std::size_t d = 1; d <= 4; ++d)
@@ -325,6 +386,7 @@ void read_benzene(const Tables &tables, C13Tables &out) {
     const auto &kind = row.fields[c_kind];
     if (kind == "base") {
       out.benzene_base = Param{r.need_ppm(row, c_rel[0]), row.fields[c_id], true};
+      out.benzene_base_label = fmt::format("base {}", ppm_text(out.benzene_base.ppm));
     } else if (kind == "substituent") {
       BenzeneRow b;
       b.id = row.fields[c_id];
@@ -352,6 +414,7 @@ void read_hetero(const Tables &tables, C13Tables &out) {
     if (it == out.hetero.end()) {
       HetRing h;
       h.name = row.fields[c_ring];
+      h.scheme = fmt::format("heteroaromatic ring increments ({})", h.name);
       h.ring = r.smarts(row, c_ring_smarts);
       out.hetero.push_back(std::move(h));
       it = out.hetero.end() - 1;
@@ -362,7 +425,8 @@ void read_hetero(const Tables &tables, C13Tables &out) {
       if (a >= n) r.fail(row, fmt::format("atom index {} is outside the ring pattern", a));
     const auto &kind = row.fields[c_kind];
     if (kind == "base") {
-      it->bases.push_back(HetBase{row.fields[c_id], atoms, r.need_ppm(row, c_value)});
+      const double ppm = r.need_ppm(row, c_value);
+      it->bases.push_back(HetBase{row.fields[c_id], atoms, ppm, fmt::format("base {} {}", row.fields[c_id], ppm_text(ppm))});
     } else if (kind == "increment") {
       HetIncrement inc;
       inc.id = row.fields[c_id];
@@ -400,6 +464,7 @@ void read_ring(const Tables &tables, C13Tables &out) {
     const auto &kind = row.fields[c_kind];
     if (kind == "base") {
       if (!e.by_distance[0]) r.fail(row, "a base row needs alpha_ppm (the ring carbon's shift)");
+      e.base_label = fmt::format("base {} {}", e.id, ppm_text(*e.by_distance[0]));
       out.ring.bases.push_back(std::move(e));
     } else if (kind == "bridge") {
       if (e.ring_size == 0) r.fail(row, "a bridge row needs a ring size");
@@ -428,6 +493,9 @@ void read_classes(const Tables &tables, const char *path, C13Tables &out) {
     c.high_ppm = r.need_ppm(row, c_high);
     if (!(c.low_ppm <= c.typical_ppm && c.typical_ppm <= c.high_ppm))
       r.fail(row, "typical_ppm must lie within low_ppm..high_ppm");
+    c.scheme = fmt::format("typical value of the class '{}' (range {}-{})", c.name, ppm_text(c.low_ppm),
+                           ppm_text(c.high_ppm));
+    c.base_label = fmt::format("{} {}", c.id, ppm_text(c.typical_ppm));
     out.classes.push_back(std::move(c));
   }
 }
@@ -442,46 +510,25 @@ void read_solvent(const Tables &tables, C13Tables &out) {
         SolventRow{row.fields[c_id], row.fields[c_solvent], r.smarts(row, c_smarts), r.need_ppm(row, c_shift)});
 }
 
-// v with two decimals, as fmt's "{:.2f}" writes it: std::to_chars rounds the
-// exact binary value the same way and costs a fraction of the formatter (a
-// method text holds a dozen of these).
-std::string fixed_2(double v) {
-  if (!std::isfinite(v)) return fmt::format("{:.2f}", v);
-  char buf[32];
-  char *p = buf;
-  // Even to_chars costs hundreds of instructions. y = |v| * 100 is within
-  // |y| * 2^-53 (< 1e-6 below 2^31) of the exact product, so unless its
-  // fraction lies within 1e-6 of one half (a tie, or too close to tell)
-  // rounding y to the nearest integer rounds the exact value as to_chars
-  // does; the sign is written for every negative v, as to_chars writes
-  // "-0.00". Checked against to_chars on 54 million values (random, k/100,
-  // k/1000, ties k/200 and their neighbours, signed zeros) when written.
-  const double y = std::fabs(v) * 100.0;
-  const double whole = std::floor(y), fraction = y - whole;
-  if (y < 2147483648.0 && std::fabs(fraction - 0.5) > 1e-6) {
-    const auto cents = static_cast<std::uint64_t>(whole) + (fraction > 0.5 ? 1u : 0u);
-    if (std::signbit(v)) *p++ = '-';
-    p = std::to_chars(p, buf + sizeof buf, cents / 100).ptr;
-    *p++ = '.';
-    *p++ = static_cast<char>('0' + cents % 100 / 10);
-    *p++ = static_cast<char>('0' + cents % 10);
-    return std::string(buf, p);
-  }
-  const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
-  return std::string(buf, r.ptr);
-}
-
 // ---------------------------------------------------------------------------
-// A sum of increments, kept term by term for the method text.
+// A sum of increments, kept term by term for the method text. Every carbon
+// builds one, so its texts are views, not copies: the scheme, base label,
+// roles, ids and reasons given to it are literals or live in the parsed
+// tables and outlive it; a scheme text made for the carbon is kept in it
+// (scheme_text()).
 
 class Sum {
  public:
-  Sum(std::string scheme, Spread spread) : scheme_(std::move(scheme)), spread_(spread) {}
-  void base(const std::string &label, double ppm) {
+  Sum(std::string_view scheme, Spread spread) : scheme_(scheme), spread_(spread) { terms_.reserve(12); }
+  void scheme_text(std::string text) {
+    own_scheme_ = std::move(text);
+    scheme_ = {};
+  }
+  void base(std::string_view label, double ppm) {
     base_label_ = label;
     base_ppm_ = ppm;
   }
-  void add(const std::string &role, const std::string &id, double ppm, int count = 1) {
+  void add(std::string_view role, std::string_view id, double ppm, int count = 1) {
     if (count == 0) return;
     for (auto &t : terms_)
       if (t.role == role && t.id == id && t.ppm == ppm) {
@@ -492,12 +539,13 @@ class Sum {
   }
   void unvalued() { ++unvalued_; }
   // An increment borrowed from another scheme: counted apart because its
-  // error is larger than that of the scheme's own rows.
-  void carried(const std::string &role, const std::string &id, double ppm) {
-    add(role + " (carried over)", id, ppm);
+  // error is larger than that of the scheme's own rows. The role names the
+  // position with " (carried over)".
+  void carried(std::string_view role, std::string_view id, double ppm) {
+    add(role, id, ppm);
     ++carried_;
   }
-  void outside(const std::string &why) {
+  void outside(std::string_view why) {
     if (std::find(outside_.begin(), outside_.end(), why) == outside_.end()) outside_.push_back(why);
   }
   double ppm() const {
@@ -520,10 +568,10 @@ class Sum {
   }
   bool in_scope() const { return outside_.empty(); }
   std::string method() const {
-    // Plain appends: every carbon's estimate writes one of these.
+    const std::string_view scheme = own_scheme_.empty() ? scheme_ : std::string_view(own_scheme_);
     std::string s;
-    s.reserve(scheme_.size() + base_label_.size() + 16 + 40 * terms_.size());
-    s += scheme_;
+    s.reserve(scheme.size() + base_label_.size() + 16 + 48 * terms_.size());
+    s += scheme;
     s += ": ";
     s += base_label_;
     for (const auto &t : terms_) {
@@ -536,41 +584,38 @@ class Sum {
       s += ' ';
       s += t.id;
       s += ' ';
-      s += fmt_ppm(t.ppm);
+      s += ppm_text(t.ppm);
     }
     s += " = ";
-    s += fmt_ppm(ppm());
+    s += ppm_text(ppm());
     if (unvalued_) s += fmt::format(" ({} delta position{} without a published value taken as 0)", unvalued_,
                                     unvalued_ == 1 ? "" : "s");
     if (!outside_.empty()) {
       s += " (outside the rule's tested scope: ";
-      for (std::size_t i = 0; i < outside_.size(); ++i) s += (i ? "; " : "") + outside_[i];
+      for (std::size_t i = 0; i < outside_.size(); ++i) {
+        if (i) s += "; ";
+        s += outside_[i];
+      }
       s += ")";
     }
-    return s;
-  }
-  static std::string fmt_ppm(double v) {
-    auto s = fixed_2(v);
-    // Table values carry one or two decimals; print them as written.
-    if (s.back() == '0') s.pop_back();
-    if (s == "-0.0") s = "0.0";
     return s;
   }
 
  private:
   struct Term {
-    std::string role, id;
+    std::string_view role, id;
     double ppm;
     int count;
   };
-  std::string scheme_;
+  std::string_view scheme_;
+  std::string own_scheme_;
   Spread spread_;
-  std::string base_label_;
+  std::string_view base_label_;
   double base_ppm_ = 0;
   std::vector<Term> terms_;
   int unvalued_ = 0;
   int carried_ = 0;
-  std::vector<std::string> outside_;
+  std::vector<std::string_view> outside_;
 };
 
 // ---------------------------------------------------------------------------
@@ -800,10 +845,8 @@ class C13Increments final : public ShiftSource {
     // tables/FORMAT.md: half of the larger distance from the typical value
     // to a limit of the usual range.
     const double half = 0.5 * std::max(best->typical_ppm - best->low_ppm, best->high_ppm - best->typical_ppm);
-    Sum s(fmt::format("typical value of the class '{}' (range {}-{})", best->name, Sum::fmt_ppm(best->low_ppm),
-                      Sum::fmt_ppm(best->high_ppm)),
-          Spread{std::max(half, 1.0), 0.0});
-    s.base(fmt::format("{} {}", best->id, Sum::fmt_ppm(best->typical_ppm)), best->typical_ppm);
+    Sum s(best->scheme, Spread{std::max(half, 1.0), 0.0});
+    s.base(best->base_label, best->typical_ppm);
     return s;
   }
 
@@ -827,7 +870,7 @@ class C13Increments final : public ShiftSource {
       for (auto a : ring) skeleton[a] = true;
       const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
       Sum s("benzene increments", kBenzeneSpread);
-      s.base(fmt::format("base {}", Sum::fmt_ppm(tab_.benzene_base.ppm)), tab_.benzene_base.ppm);
+      s.base(tab_.benzene_base_label, tab_.benzene_base.ppm);
       bool ok = true;
       for (int ir = 0; ir < 6 && ok; ++ir) {
         const auto r = ring[static_cast<std::size_t>(ir)];
@@ -1010,8 +1053,8 @@ class C13Increments final : public ShiftSource {
         }
         bool ring_has_nitrogen = false;
         for (auto a : entry.first) ring_has_nitrogen = ring_has_nitrogen || m.atom(a).atomic_number == 7;
-        Sum s(fmt::format("heteroaromatic ring increments ({})", ring.name), kHeteroSpread);
-        s.base(fmt::format("base {} {}", base->id, Sum::fmt_ppm(base->ppm)), base->ppm);
+        Sum s(ring.scheme, kHeteroSpread);
+        s.base(base->label, base->ppm);
         bool ok = true;
         for (auto r : entry.first) {
           if (m.atom(r).formal_charge != 0) {
@@ -1087,7 +1130,7 @@ class C13Increments final : public ShiftSource {
               last = fmt::format("row {} gives no {} value", row->id, kRingRelation[rel]);
               return;
             }
-            s.carried(kRingRelation[rel], row->id, *v);
+            s.carried(kCarriedRelation[rel], row->id, *v);
             if (share_ring(t, r, x)) s.outside("substituent bonded to two ring atoms");
           });
           if (!ok) break;
@@ -1113,7 +1156,7 @@ class C13Increments final : public ShiftSource {
     std::vector<bool> skeleton(m.atom_count(), false);
     skeleton[k] = skeleton[p] = true;
     Sum s(alkyne ? "alkyne increments" : "alkene increments", alkyne ? kAlkyneSpread : kAlkeneSpread);
-    s.base(fmt::format("base {}", Sum::fmt_ppm(tab.base.ppm)), tab.base.ppm);
+    s.base(tab.base_label, tab.base.ppm);
     const int max_pos = alkyne ? 4 : 3;
     std::array<std::vector<std::size_t>, 2> subs;
     bool ring = false;
@@ -1138,7 +1181,7 @@ class C13Increments final : public ShiftSource {
               break;
             }
             const Opt v = side == 0 ? row->ipso : row->partner;
-            if (v) s.add(fmt::format("{} {}", role, kPositionName[d[y]]), row->id, *v);
+            if (v) s.add(kEneChainRole[side][d[y]], row->id, *v);
             else s.unvalued();
             if (d[y] == max_pos) continue;
             for_heavy_neighbours(m, y, [&](std::size_t z, BondOrder) {
@@ -1152,7 +1195,7 @@ class C13Increments final : public ShiftSource {
                 const auto &row2 = tab.alkyl[static_cast<std::size_t>(d[z])];
                 if (row2) {
                   const Opt v2 = side == 0 ? row2->ipso : row2->partner;
-                  if (v2) s.add(fmt::format("{} {}", role, kPositionName[d[z]]), row2->id, *v2);
+                  if (v2) s.add(kEneChainRole[side][d[z]], row2->id, *v2);
                 }
                 return;
               }
@@ -1279,7 +1322,7 @@ class C13Increments final : public ShiftSource {
         });
     }
     Sum s("sp3 additive increments (Grant-Paul)", kAdditiveSpread);
-    s.base(fmt::format("base {} {}", tab_.gp_base.id, Sum::fmt_ppm(tab_.gp_base.ppm)), tab_.gp_base.ppm);
+    s.base(tab_.gp_base_label, tab_.gp_base.ppm);
     skeleton[k] = taken[k] = true;
     bucket[0].push_back(k);
     const bool k_in_ring = t.ring_count(k) > 0;
@@ -1403,8 +1446,9 @@ class C13Increments final : public ShiftSource {
     };
     const auto *base = sized(rt.bases, [](const RingRow &) { return true; });
     if (!base) return fail(why, fmt::format("no base value for a {}-membered ring", n));
-    Sum s(fmt::format("sp3 ring increments ({}-membered ring)", n), kRingSpread);
-    s.base(fmt::format("base {} {}", base->id, Sum::fmt_ppm(*base->by_distance[0])), *base->by_distance[0]);
+    Sum s({}, kRingSpread);
+    s.scheme_text("sp3 ring increments (" + std::to_string(n) + "-membered ring)");
+    s.base(base->base_label, *base->by_distance[0]);
     std::vector<bool> skeleton(m.atom_count(), false), taken(m.atom_count(), false);
     for (auto a : *ring) skeleton[a] = taken[a] = true;
     const auto ik = static_cast<int>(std::find(ring->begin(), ring->end(), k) - ring->begin());
@@ -1420,7 +1464,7 @@ class C13Increments final : public ShiftSource {
         for_heavy_neighbours(m, a, [&](std::size_t x, BondOrder) { taken[x] = true; });
       const int d = ring_distance(i);
       const Opt v = d <= 3 ? row->by_distance[static_cast<std::size_t>(d - 1)] : std::nullopt;
-      if (v) s.add(fmt::format("ring member {}", position[d - 1]), row->id, *v);
+      if (v) s.add(kRingMemberRole[d - 1], row->id, *v);
       else s.unvalued();
     }
     // Two groups on k, one of them bonded through a heteroatom (tertiary
@@ -1482,7 +1526,7 @@ class C13Increments final : public ShiftSource {
         // where the group closes another ring (fused, bridged, spiro), they
         // are carried over.
         if (m.atom(r).atomic_number != 6 || (t.ring_count(x) > 0 && t.ring_count(r) > 1 && share_ring_other(t, r, x, *ring)))
-          s.carried(position[d], row->id, *v);
+          s.carried(kCarriedPosition[d], row->id, *v);
         else
           s.add(position[d], row->id, *v);
       });
@@ -1603,7 +1647,7 @@ class C13Increments final : public ShiftSource {
       return c;
     };
     Sum s("sp3 parent-alkane increments (Grant-Paul parent)", kParentSpread);
-    s.base(fmt::format("base {} {}", tab_.gp_base.id, Sum::fmt_ppm(tab_.gp_base.ppm)), tab_.gp_base.ppm);
+    s.base(tab_.gp_base_label, tab_.gp_base.ppm);
     bool ring = false;
     for (auto c : order) {
       if (c == k || d[c] > 5) continue;
@@ -1644,8 +1688,7 @@ class C13Increments final : public ShiftSource {
           else s.unvalued();
           return;
         }
-        s.add(fmt::format("{}{}", kPositionName[pos], pos <= 2 ? (internal ? " (internal)" : " (terminal)") : ""),
-              row->id, *v);
+        s.add(kParentRole[pos][internal ? 1 : 0], row->id, *v);
         if (pos == 1) ++groups_on_k, hetero_on_k += m.atom(x).atomic_number != 6;
       });
     }
