@@ -145,6 +145,7 @@ struct EneTable {
   // smarts names the carbonyl substituent atom.
   std::optional<EneRow> acceptor_alkyl;
   std::vector<EneRow> substituents;
+  std::vector<std::uint32_t> substituent_order;  // largest_first(substituents)
 };
 
 struct BenzeneRow {
@@ -198,6 +199,7 @@ struct RingRow {
 struct RingTables {
   bool present = false;
   std::vector<RingRow> bases, members, substituents;
+  std::vector<std::uint32_t> substituent_order;  // largest_first(substituents)
   // Terms for an sp3 carbon bridging the ring to another ring of the same
   // size (kind "bridge"; ring_size given); see ring_sp3().
   std::vector<RingRow> bridges;
@@ -220,13 +222,16 @@ struct C13Tables {
   std::array<Param, 5> la_base, la_gamma, la_delta;
   std::array<std::array<Param, 5>, 5> la_alpha;
   std::vector<Sp3Row> sp3;
+  std::vector<std::uint32_t> sp3_order;  // largest_first(sp3)
   EneTable alkene, alkyne;
   bool benzene_present = false;
   Param benzene_base;
   std::string benzene_base_label;  // as method texts print it
   std::vector<BenzeneRow> benzene;
+  std::vector<std::uint32_t> benzene_order;  // largest_first(benzene)
   std::vector<HetRing> hetero;  // largest ring pattern first
   std::vector<ClassRow> classes;
+  std::vector<std::uint32_t> class_order;  // largest_first(classes)
   RingTables ring;
   std::vector<SolventRow> solvent;
 };
@@ -276,6 +281,19 @@ std::string ppm_text(double v) {
   if (s.back() == '0') s.pop_back();
   if (s == "-0.0") s = "0.0";
   return s;
+}
+
+// Row indices by pattern size, largest first, then in table order: the
+// order in which find_row() and class_value() try rows (a match counts the
+// pattern's atoms, and the larger match wins, then the earlier row).
+template <class Row>
+std::vector<std::uint32_t> largest_first(const std::vector<Row> &rows) {
+  std::vector<std::uint32_t> order(rows.size());
+  for (std::uint32_t i = 0; i < order.size(); ++i) order[i] = i;
+  std::stable_sort(order.begin(), order.end(), [&](std::uint32_t a, std::uint32_t b) {
+    return rows[a].smarts.atom_count() > rows[b].smarts.atom_count();
+  });
+  return order;
 }
 
 bool ends_with(const std::string &s, const char *suffix) {
@@ -654,18 +672,16 @@ bool share_ring(const SmartsTarget &t, std::size_t a, std::size_t b) {
 // The applicable row of a scheme for substituent atom `x`: a match with its
 // first atom on x and no atom on the skeleton. Rows within a scheme are
 // mutually exclusive (tables/FORMAT.md); should two apply, the one with more
-// pattern atoms wins, then the earlier row.
+// pattern atoms wins, then the earlier row. `order` is largest_first(rows),
+// so the first row that matches is that one and the rest need no search.
 template <class Row, class Keep>
-const Row *find_row(const std::vector<Row> &rows, const SmartsTarget &t, std::size_t x,
-                    const std::vector<bool> &skeleton, Keep keep) {
-  const Row *best = nullptr;
-  std::size_t best_atoms = 0;
-  for (const auto &row : rows) {
-    if (!keep(row)) continue;
-    const auto n = match_at(row.smarts, t, x, skeleton);
-    if (n > best_atoms) best = &row, best_atoms = n;
+const Row *find_row(const std::vector<Row> &rows, const std::vector<std::uint32_t> &order, const SmartsTarget &t,
+                    std::size_t x, const std::vector<bool> &skeleton, Keep keep) {
+  for (const auto i : order) {
+    const Row &row = rows[i];
+    if (keep(row) && match_at(row.smarts, t, x, skeleton)) return &row;
   }
-  return best;
+  return nullptr;
 }
 
 // Atoms of one match of `p` anchored at x avoiding the skeleton.
@@ -835,12 +851,13 @@ class C13Increments final : public ShiftSource {
 
   // --- carbonyl and other sp/sp2 classes ---------------------------------
   Result class_value(const SmartsTarget &t, std::size_t k, std::string *) const {
+    // The row with the largest match, then the earliest (largest_first).
     const ClassRow *best = nullptr;
-    std::size_t best_atoms = 0;
-    for (const auto &row : tab_.classes) {
-      const auto n = match_at(row.smarts, t, k);
-      if (n > best_atoms) best = &row, best_atoms = n;
-    }
+    for (const auto i : tab_.class_order)
+      if (match_at(tab_.classes[i].smarts, t, k)) {
+        best = &tab_.classes[i];
+        break;
+      }
     if (!best) return std::nullopt;
     // tables/FORMAT.md: half of the larger distance from the typical value
     // to a limit of the usual range.
@@ -917,7 +934,7 @@ class C13Increments final : public ShiftSource {
     if (it != benzene_rows_.end()) return it->second;
     const auto *row = fused_six(t, ring_index, x) && methyl_row_
                           ? methyl_row_
-                          : find_row(tab_.benzene, t, x, skeleton, [](const BenzeneRow &) { return true; });
+                          : find_row(tab_.benzene, tab_.benzene_order, t, x, skeleton, [](const BenzeneRow &) { return true; });
     benzene_rows_.emplace(key, row);
     return row;
   }
@@ -1091,7 +1108,7 @@ class C13Increments final : public ShiftSource {
             }
             // No row of the ring's own: the benzene increment for the same
             // ring relation, carried over (tables/FORMAT.md).
-            const auto *row = find_row(tab_.benzene, t, x, skeleton, [](const BenzeneRow &) { return true; });
+            const auto *row = find_row(tab_.benzene, tab_.benzene_order, t, x, skeleton, [](const BenzeneRow &) { return true; });
             const int rel = ring_dist[r];
             if (!row || rel < 0) {
               ok = false;
@@ -1205,7 +1222,7 @@ class C13Increments final : public ShiftSource {
           }
           return;
         }
-        const auto *row = find_row(tab.substituents, t, x, skeleton, [](const EneRow &) { return true; });
+        const auto *row = find_row(tab.substituents, tab.substituent_order, t, x, skeleton, [](const EneRow &) { return true; });
         if (!row) {
           problem = fmt::format("{} substituent at {} has no row", what, atom_label(m, x));
           return;
@@ -1348,7 +1365,7 @@ class C13Increments final : public ShiftSource {
             return;
           }
           if (dx > 4) return;  // beyond delta nothing counts
-          const auto *row = find_row(tab_.sp3, t, x, skeleton, [](const Sp3Row &r) { return r.additive; });
+          const auto *row = find_row(tab_.sp3, tab_.sp3_order, t, x, skeleton, [](const Sp3Row &r) { return r.additive; });
           if (!row) {
             problem = fmt::format("no additive row for the substituent at {}", atom_label(m, x));
             return;
@@ -1511,7 +1528,7 @@ class C13Increments final : public ShiftSource {
           return;
         }
         const auto *row =
-            bridge ? bridge : find_row(rt.substituents, t, x, skeleton, [](const RingRow &) { return true; });
+            bridge ? bridge : find_row(rt.substituents, rt.substituent_order, t, x, skeleton, [](const RingRow &) { return true; });
         if (!row) {
           if (d <= 2) problem = fmt::format("ring substituent at {} has no row", atom_label(m, x));
           else s.unvalued();
@@ -1670,7 +1687,7 @@ class C13Increments final : public ShiftSource {
       const bool internal = carbon_neighbours(c) >= 2;
       for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) {
         if (parent[x] || !problem.empty()) return;
-        const auto *row = find_row(tab_.sp3, t, x, parent, [](const Sp3Row &r) { return !r.additive; });
+        const auto *row = find_row(tab_.sp3, tab_.sp3_order, t, x, parent, [](const Sp3Row &r) { return !r.additive; });
         if (!row) {
           if (pos <= 3) problem = fmt::format("no parent row for the substituent at {}", atom_label(m, x));
           else s.unvalued();
@@ -1728,6 +1745,13 @@ std::shared_ptr<const C13IncrementTables> parse_c13_increment_tables(const Table
   read_classes(tables, "increments/c13_sp3_class.tsv", out->tables);
   read_ring(tables, out->tables);
   read_solvent(tables, out->tables);
+  auto &t = out->tables;
+  t.sp3_order = largest_first(t.sp3);
+  t.alkene.substituent_order = largest_first(t.alkene.substituents);
+  t.alkyne.substituent_order = largest_first(t.alkyne.substituents);
+  t.benzene_order = largest_first(t.benzene);
+  t.class_order = largest_first(t.classes);
+  t.ring.substituent_order = largest_first(t.ring.substituents);
   return out;
 }
 
