@@ -817,16 +817,19 @@ SmartsTarget::SmartsTarget(const Molecule &m)
     f.isotope = at.isotope;
     f.degree = static_cast<std::uint32_t>(m.degree(a));
     f.hydrogens = static_cast<std::uint32_t>(m.hydrogen_count(a));
-    auto capped = [](std::uint32_t v) { return std::uint64_t{v < 255 ? v : 255}; };
-    packed_[a] = pack_field(f.atomic_number, kPackAtomicNumber) | pack_field(f.aromatic ? 1 : 0, kPackAromatic) |
-                 pack_field(capped(f.hydrogens), kPackHydrogens) | pack_field(heavy_degree_[a], kPackHeavyDegree) |
-                 pack_field(capped(f.degree), kPackDegree) |
-                 pack_field(static_cast<std::uint8_t>(f.formal_charge), kPackCharge);
+    packed_[a] = pack(f, heavy_degree_[a]);
     if (at.atomic_number != 1 && at.atomic_number < 128) ++element_count_[at.atomic_number * 2u + (at.aromatic ? 1u : 0u)];
   }
 }
 
 SmartsTarget::~SmartsTarget() = default;
+
+std::uint64_t SmartsTarget::pack(const AtomFacts &f, std::uint8_t heavy_degree) {
+  auto capped = [](std::uint32_t v) { return std::uint64_t{v < 255 ? v : 255}; };
+  return pack_field(f.atomic_number, kPackAtomicNumber) | pack_field(f.aromatic ? 1 : 0, kPackAromatic) |
+         pack_field(capped(f.hydrogens), kPackHydrogens) | pack_field(heavy_degree, kPackHeavyDegree) |
+         pack_field(capped(f.degree), kPackDegree) | pack_field(static_cast<std::uint8_t>(f.formal_charge), kPackCharge);
+}
 
 std::size_t SmartsTarget::recursive_slot(const SmartsImpl *part) const {
   auto hash = [&](const SmartsImpl *key) {

@@ -99,6 +99,8 @@ class SmartsTarget {
   // The same facts packed into one word (smarts.cpp, kPack*), so that a
   // pattern atom's plain demands are tested with one mask and compare.
   std::uint64_t packed(std::size_t atom) const { return packed_[atom]; }
+  // packed() of an atom with these facts and this many heavy neighbours.
+  static std::uint64_t pack(const AtomFacts &facts, std::uint8_t heavy_degree);
   std::size_t atom_count() const noexcept { return packed_.size(); }
   // Heavy atoms with this atomic number (0..127) and aromatic flag.
   std::uint32_t element_count(unsigned atomic_number, bool aromatic) const {

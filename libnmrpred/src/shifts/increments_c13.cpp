@@ -232,6 +232,16 @@ struct C13Tables {
   std::vector<HetRing> hetero;  // largest ring pattern first
   std::vector<ClassRow> classes;
   std::vector<std::uint32_t> class_order;  // largest_first(classes)
+  // Every carbon is tried against the class rows, and most rows fail on the
+  // root atom alone: class_order narrowed, per kind of neutral carbon
+  // ([aromatic][hydrogens][heavy neighbours], four bonds at most), to the
+  // rows whose root may match it (SmartsPattern::root_may_match of
+  // `packed`, the carbon's SmartsTarget::packed()).
+  struct CarbonRows {
+    std::uint64_t packed = 0;
+    std::vector<std::uint32_t> rows;
+  };
+  std::array<std::array<std::array<CarbonRows, 5>, 5>, 2> class_rows_by_carbon;
   RingTables ring;
   std::vector<SolventRow> solvent;
 };
@@ -852,8 +862,15 @@ class C13Increments final : public ShiftSource {
   // --- carbonyl and other sp/sp2 classes ---------------------------------
   Result class_value(const SmartsTarget &t, std::size_t k, std::string *) const {
     // The row with the largest match, then the earliest (largest_first).
+    const std::vector<std::uint32_t> *rows = &tab_.class_order;
+    const auto &f = t.facts(k);
+    const auto heavy = t.heavy_degree(k);
+    if (f.atomic_number == 6 && f.formal_charge == 0 && f.hydrogens + heavy <= 4) {
+      const auto &c = tab_.class_rows_by_carbon[f.aromatic ? 1 : 0][f.hydrogens][heavy];
+      if (c.packed == t.packed(k)) rows = &c.rows;
+    }
     const ClassRow *best = nullptr;
-    for (const auto i : tab_.class_order)
+    for (const auto i : *rows)
       if (match_at(tab_.classes[i].smarts, t, k)) {
         best = &tab_.classes[i];
         break;
@@ -1751,6 +1768,19 @@ std::shared_ptr<const C13IncrementTables> parse_c13_increment_tables(const Table
   t.alkyne.substituent_order = largest_first(t.alkyne.substituents);
   t.benzene_order = largest_first(t.benzene);
   t.class_order = largest_first(t.classes);
+  for (std::uint32_t aromatic = 0; aromatic < 2; ++aromatic)
+    for (std::uint32_t h = 0; h <= 4; ++h)
+      for (std::uint32_t d = 0; h + d <= 4; ++d) {
+        SmartsTarget::AtomFacts carbon;
+        carbon.atomic_number = 6;
+        carbon.aromatic = aromatic != 0;
+        carbon.hydrogens = h;
+        carbon.degree = h + d;
+        auto &c = t.class_rows_by_carbon[aromatic][h][d];
+        c.packed = SmartsTarget::pack(carbon, static_cast<std::uint8_t>(d));
+        for (const auto i : t.class_order)
+          if (t.classes[i].smarts.root_may_match(c.packed)) c.rows.push_back(i);
+      }
   t.ring.substituent_order = largest_first(t.ring.substituents);
   return out;
 }
