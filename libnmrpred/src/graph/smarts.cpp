@@ -99,6 +99,10 @@ struct SmartsImpl {
   // element and aromaticity that each atom's expression demands outright.
   // A molecule short of them is rejected without a search.
   std::vector<std::pair<std::uint32_t, std::uint32_t>> needs;
+  // The same per ring system of the pattern (atoms joined by bonds that lie
+  // on a cycle of the pattern): a cycle maps onto a cycle, so each system
+  // lies within one ring system of the molecule, which must hold its atoms.
+  std::vector<std::vector<std::pair<std::uint32_t, std::uint32_t>>> ring_system_needs;
   // Per pattern atom, the plain properties its expression demands outright;
   // a candidate failing them is rejected before the expression is walked.
   std::vector<AtomFilter> filters;
@@ -636,6 +640,45 @@ void compute_filters(SmartsImpl &p) {
   p.needs.assign(count.begin(), count.end());
 }
 
+// SmartsImpl::ring_system_needs.
+void compute_ring_system_needs(SmartsImpl &p) {
+  const std::size_t n = p.atom_expr.size();
+  // A bond lies on a cycle when its ends stay connected without it.
+  auto on_cycle = [&](std::uint32_t bond) {
+    std::vector<bool> seen(n, false);
+    std::vector<std::uint32_t> stack{p.bonds[bond].a};
+    seen[p.bonds[bond].a] = true;
+    while (!stack.empty()) {
+      const auto q = stack.back();
+      stack.pop_back();
+      for (const auto &nb : p.adjacency[q])
+        if (nb.second != bond && !seen[nb.first]) seen[nb.first] = true, stack.push_back(nb.first);
+    }
+    return static_cast<bool>(seen[p.bonds[bond].b]);
+  };
+  std::vector<std::uint32_t> system(n);
+  std::iota(system.begin(), system.end(), 0u);
+  std::function<std::uint32_t(std::uint32_t)> find = [&](std::uint32_t x) {
+    return system[x] == x ? x : system[x] = find(system[x]);
+  };
+  std::vector<bool> in_ring(n, false);
+  for (std::uint32_t b = 0; b < p.bonds.size(); ++b)
+    if (on_cycle(b)) {
+      in_ring[p.bonds[b].a] = in_ring[p.bonds[b].b] = true;
+      system[find(p.bonds[b].a)] = find(p.bonds[b].b);
+    }
+  std::map<std::uint32_t, std::map<std::uint32_t, std::uint32_t>> counts;  // system root -> needs
+  for (std::uint32_t q = 0; q < n; ++q) {
+    if (!in_ring[q]) continue;
+    auto &count = counts[find(q)];
+    const auto &f = p.filters[q];
+    if (f.never || f.atomic_number < 0 || f.atomic_number >= 128) continue;
+    ++count[static_cast<std::uint32_t>(f.atomic_number) * 4 + static_cast<std::uint32_t>(f.aromatic < 0 ? 2 : f.aromatic)];
+  }
+  for (const auto &c : counts)
+    if (!c.second.empty()) p.ring_system_needs.emplace_back(c.second.begin(), c.second.end());
+}
+
 // False when the molecule lacks the heavy atoms some pattern atoms demand,
 // so that no match can exist.
 bool feasible(const SmartsImpl &p, const SmartsTarget &t) {
@@ -644,6 +687,29 @@ bool feasible(const SmartsImpl &p, const SmartsTarget &t) {
     const std::uint32_t have = code == 2 ? t.element_count(z, false) + t.element_count(z, true)
                                          : t.element_count(z, code == 1);
     if (have < need.second) return false;
+  }
+  return true;
+}
+
+// False when some ring system of the pattern fits in no ring system of the
+// molecule (SmartsImpl::ring_system_needs). Asks for ring perception.
+bool rings_feasible(const SmartsImpl &p, const SmartsTarget &t) {
+  for (const auto &needs : p.ring_system_needs) {
+    bool fits = false;
+    for (std::size_t sys = 0; sys < t.ring_system_count() && !fits; ++sys) {
+      fits = true;
+      for (const auto &need : needs) {
+        const unsigned z = need.first / 4, code = need.first % 4;
+        const std::uint32_t have = code == 2 ? t.ring_system_element_count(sys, z, false) +
+                                                   t.ring_system_element_count(sys, z, true)
+                                             : t.ring_system_element_count(sys, z, code == 1);
+        if (have < need.second) {
+          fits = false;
+          break;
+        }
+      }
+    }
+    if (!fits) return false;
   }
   return true;
 }
@@ -782,6 +848,7 @@ SmartsPattern::SmartsPattern(std::string_view text) {
       throw InternalError(fmt::format("SMARTS '{}': disconnected pattern", impl->text));
   }
   compute_filters(*impl);
+  compute_ring_system_needs(*impl);
   compute_bond_orders(*impl);
   if (!impl->adjacency.empty())
     for (const auto &nb : impl->adjacency[0]) impl->root_neighbours.push_back(nb);
@@ -883,6 +950,45 @@ int SmartsTarget::smallest_ring(std::size_t atom) const {
 const std::vector<std::vector<std::uint32_t>> &SmartsTarget::rings() const {
   perceive_rings();
   return rings_;
+}
+
+std::size_t SmartsTarget::ring_system_count() const {
+  perceive_ring_systems();
+  return system_counts_.size() / kSystemCountSize;
+}
+
+std::uint32_t SmartsTarget::ring_system_element_count(std::size_t system, unsigned atomic_number,
+                                                      bool aromatic) const {
+  perceive_ring_systems();
+  return atomic_number < 128 ? system_counts_[system * kSystemCountSize + atomic_number * 2 + (aromatic ? 1 : 0)]
+                             : 0;
+}
+
+// Ring systems: atoms joined by ring bonds, numbered in order of their
+// lowest atom, with heavy-atom counts as element_count() keeps them.
+void SmartsTarget::perceive_ring_systems() const {
+  if (systems_done_) return;
+  systems_done_ = true;
+  perceive_rings();
+  const std::size_t n = m_.heavy_atom_count();
+  std::vector<std::uint32_t> root(n);
+  std::iota(root.begin(), root.end(), 0u);
+  std::function<std::uint32_t(std::uint32_t)> find = [&](std::uint32_t x) {
+    return root[x] == x ? x : root[x] = find(root[x]);
+  };
+  for (std::uint32_t b = 0; b < m_.bond_count(); ++b)
+    if (bond_rings_[b] > 0) root[find(m_.bond(b).begin)] = find(m_.bond(b).end);
+  std::vector<std::int32_t> number(n, -1);
+  for (std::uint32_t a = 0; a < n; ++a) {
+    if (atom_rings_[a] == 0) continue;
+    auto &sys = number[find(a)];
+    if (sys < 0) {
+      sys = static_cast<std::int32_t>(system_counts_.size() / kSystemCountSize);
+      system_counts_.resize(system_counts_.size() + kSystemCountSize, 0);
+    }
+    const auto z = m_.atom(a).atomic_number;
+    if (z < 128) ++system_counts_[static_cast<std::size_t>(sys) * kSystemCountSize + z * 2u + (m_.atom(a).aromatic ? 1u : 0u)];
+  }
 }
 
 // Rings: Horton's candidate cycles (shortest paths from a root to both ends of
@@ -1156,7 +1262,7 @@ std::vector<std::vector<std::uint32_t>> all_matches(const SmartsPattern &p, cons
   std::vector<std::vector<std::uint32_t>> out;
   if (p.empty()) return out;
   const auto &impl = p.impl();
-  if (!feasible(impl, t)) return out;
+  if (!feasible(impl, t) || !rings_feasible(impl, t)) return out;
   // Every root finds every mapping; the one with the rarest element tries
   // the fewest starting atoms.
   std::uint32_t root = 0;
