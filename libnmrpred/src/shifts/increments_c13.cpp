@@ -830,6 +830,7 @@ class C13Increments final : public ShiftSource {
       hetero_cover_.clear();
       benzene_rows_.clear();
       answered_.assign(t.molecule().heavy_atom_count(), -1);
+      sp3_chains_.clear();
       answers_.assign(t.molecule().heavy_atom_count(), Shift{});
     }
     return t;
@@ -1335,26 +1336,46 @@ class C13Increments final : public ShiftSource {
     return count;
   }
 
+  // Per heavy atom of the molecule, the number of its chain (the sp3
+  // carbons joined through sp3 carbons), -1 for other atoms; found once per
+  // molecule rather than walked from every sp3 carbon.
+  const std::vector<std::int32_t> &sp3_chains(const SmartsTarget &t) const {
+    if (!sp3_chains_.empty()) return sp3_chains_;
+    const Molecule &m = t.molecule();
+    sp3_chains_.assign(m.heavy_atom_count(), -1);
+    std::int32_t chains = 0;
+    std::vector<std::size_t> queue;
+    for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) {
+      if (sp3_chains_[a] >= 0 || !is_sp3_carbon(m, a)) continue;
+      sp3_chains_[a] = chains;
+      queue.assign(1, a);
+      for (std::size_t i = 0; i < queue.size(); ++i)
+        for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
+          if (sp3_chains_[z] < 0 && is_sp3_carbon(m, z)) sp3_chains_[z] = chains, queue.push_back(z);
+        });
+      ++chains;
+    }
+    return sp3_chains_;
+  }
+
   // --- sp3: additive scheme -----------------------------------------------
   Result sp3_additive(const SmartsTarget &t, std::size_t k, std::string *why) const {
     const Molecule &m = t.molecule();
     if (!tab_.gp_base.set) return fail(why, "no Grant-Paul parameters");
     const std::size_t n = m.heavy_atom_count();
-    const auto dist = heavy_distances(m, k, static_cast<int>(n));
+    // Bond distances from k, needed for chain groups only.
+    std::vector<int> dist;
+    auto distance = [&](std::size_t z) {
+      if (dist.empty()) dist = heavy_distances(m, k, static_cast<int>(n));
+      return dist[z];
+    };
     std::vector<bool> skeleton(m.atom_count(), false);  // walked sp3 carbons
     std::vector<bool> taken(n, false);                  // walked, or part of a substituent
     std::array<std::vector<std::size_t>, 6> bucket;
     // sp3 carbons connected to k through sp3 carbons are chain positions; a
     // group branch never swallows them (it would in a ring).
-    std::vector<bool> chain(n, false);
-    {
-      std::vector<std::size_t> queue{k};
-      chain[k] = true;
-      for (std::size_t i = 0; i < queue.size(); ++i)
-        for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
-          if (!chain[z] && is_sp3_carbon(m, z)) chain[z] = true, queue.push_back(z);
-        });
-    }
+    const auto &chain_of = sp3_chains(t);
+    const auto chain_k = chain_of[k];
     Sum s("sp3 additive increments (Grant-Paul)", kAdditiveSpread);
     s.base(tab_.gp_base_label, tab_.gp_base.ppm);
     skeleton[k] = taken[k] = true;
@@ -1400,7 +1421,7 @@ class C13Increments final : public ShiftSource {
             taken[x] = true;
             for (std::size_t i = 0; i < queue.size(); ++i)
               for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
-                if (!taken[z] && !skeleton[z] && !chain[z]) taken[z] = true, queue.push_back(z);
+                if (!taken[z] && !skeleton[z] && chain_of[z] != chain_k) taken[z] = true, queue.push_back(z);
               });
             return;
           }
@@ -1412,8 +1433,8 @@ class C13Increments final : public ShiftSource {
             for_heavy_neighbours(m, a, [&](std::size_t z, BondOrder) {
               if (taken[z] || !problem.empty()) return;
               if (is_sp3_carbon(m, z)) {
-                chain_carbon(z, dist[z], std::max(dist[z], dx));
-              } else if (dist[z] >= 0 && dist[z] <= 4) {
+                chain_carbon(z, distance(z), std::max(distance(z), dx));
+              } else if (distance(z) >= 0 && distance(z) <= 4) {
                 problem = fmt::format("{} beyond the group {} is not an sp3 carbon", atom_label(m, z), row->id);
               }
             });
@@ -1744,6 +1765,7 @@ class C13Increments final : public ShiftSource {
   mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_matches_;  // per hetero ring
   mutable std::vector<std::vector<bool>> hetero_cover_;                         // per hetero ring
   mutable std::unordered_map<std::uint64_t, const BenzeneRow *> benzene_rows_;  // see benzene_row()
+  mutable std::vector<std::int32_t> sp3_chains_;  // see sp3_chains()
   mutable std::vector<std::int8_t> answered_;  // per atom: -1 not asked yet, 0 no answer, 1 in answers_
   mutable std::vector<Shift> answers_;
 };
