@@ -1043,6 +1043,54 @@ void SmartsTarget::perceive_rings() const {
   for (std::uint32_t a = 0; a < n; ++a) components += core[a] && find(a) == a;
   const std::size_t rank = edges.size() + components - vertices;
   const std::size_t words = (edges.size() + 63) / 64;
+  // Bridges of the core (bonds on no cycle, such as a chain between two
+  // ring systems), by Tarjan's low-link search. From a root the two tree
+  // paths to the ends of any edge beyond a bridge both cross it, so such an
+  // edge never closes a candidate; searching within the root's part left
+  // by the bridges finds the same candidates, in the same order (the part
+  // is reached only from within itself), at a fraction of the cost in
+  // molecules with several ring systems.
+  std::vector<char> bridge(edges.size(), 0), on_cycle(n, 0);
+  {
+    std::vector<int> found(n, -1), low(n, 0);
+    int counter = 0;
+    struct Frame {
+      std::uint32_t atom;
+      int via;  // edge from the parent, -1 at a root
+      std::size_t next;
+    };
+    std::vector<Frame> stack;
+    for (std::uint32_t s0 = 0; s0 < n; ++s0) {
+      if (!core[s0] || found[s0] >= 0) continue;
+      found[s0] = low[s0] = counter++;
+      stack.push_back(Frame{s0, -1, 0});
+      while (!stack.empty()) {
+        Frame &f = stack.back();
+        const auto a = f.atom;
+        if (f.next < m.degree(a)) {
+          const auto i = f.next++;
+          const auto b = m.neighbours_begin(a)[i];
+          const int e = edge_of_bond[m.bond_ids_begin(a)[i]];
+          if (e < 0 || e == f.via) continue;
+          if (found[b] < 0) {
+            found[b] = low[b] = counter++;
+            stack.push_back(Frame{b, e, 0});
+          } else {
+            low[a] = std::min(low[a], found[b]);
+          }
+          continue;
+        }
+        const Frame done = f;
+        stack.pop_back();
+        if (stack.empty()) continue;
+        const auto parent = stack.back().atom;
+        low[parent] = std::min(low[parent], low[done.atom]);
+        if (low[done.atom] > found[parent]) bridge[static_cast<std::size_t>(done.via)] = 1;
+      }
+    }
+    for (std::size_t e = 0; e < edges.size(); ++e)
+      if (!bridge[e]) on_cycle[m.bond(edges[e]).begin] = on_cycle[m.bond(edges[e]).end] = 1;
+  }
   // Candidates in the order they are found, their atoms and bond bits in
   // flat pools: a molecule yields many candidates, mostly copies of one ring
   // found from each of its atoms.
@@ -1058,7 +1106,7 @@ void SmartsTarget::perceive_rings() const {
   std::vector<std::uint32_t> bfs;
   bfs.reserve(n);
   for (std::uint32_t r = 0; r < n; ++r) {
-    if (!core[r]) continue;
+    if (!on_cycle[r]) continue;
     std::fill(dist.begin(), dist.end(), -1);
     dist[r] = 0;
     parent_edge[r] = -1;
@@ -1068,7 +1116,7 @@ void SmartsTarget::perceive_rings() const {
       const auto a = bfs[k];
       const auto *bid = m.bond_ids_begin(a);
       for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid) {
-        if (*it >= n || !core[*it] || dist[*it] >= 0) continue;
+        if (*it >= n || !core[*it] || dist[*it] >= 0 || bridge[static_cast<std::size_t>(edge_of_bond[*bid])]) continue;
         dist[*it] = dist[a] + 1;
         parent_edge[*it] = edge_of_bond[*bid];
         parent_atom[*it] = static_cast<int>(a);
