@@ -828,7 +828,7 @@ class C13Increments final : public ShiftSource {
       query_ = &q;
       hetero_matches_.clear();
       hetero_cover_.clear();
-      benzene_rows_.clear();
+      benzene_rings_.clear();
       answered_.assign(t.molecule().heavy_atom_count(), -1);
       sp3_chains_.clear();
       answers_.assign(t.molecule().heavy_atom_count(), Shift{});
@@ -892,44 +892,30 @@ class C13Increments final : public ShiftSource {
     std::string last = "not in a benzene ring";
     for (const auto &ring : t.rings()) {
       if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
-      const auto ring_index = static_cast<std::size_t>(&ring - t.rings().data());
-      bool benzenoid = true;
-      for (std::size_t i = 0; i < 6 && benzenoid; ++i) {
-        const auto &at = m.atom(ring[i]);
-        benzenoid = at.atomic_number == 6 && at.aromatic && at.formal_charge == 0 &&
-                    m.bond(static_cast<std::size_t>(m.bond_between(ring[i], ring[(i + 1) % 6]))).order ==
-                        BondOrder::Aromatic;
-      }
-      if (!benzenoid) continue;
-      std::vector<bool> skeleton(m.atom_count(), false);
-      for (auto a : ring) skeleton[a] = true;
+      const auto &b = benzene_ring(t, static_cast<std::size_t>(&ring - t.rings().data()));
+      if (!b.benzenoid) continue;
       const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
       Sum s("benzene increments", kBenzeneSpread);
       s.base(tab_.benzene_base_label, tab_.benzene_base.ppm);
       bool ok = true;
-      for (int ir = 0; ir < 6 && ok; ++ir) {
-        const auto r = ring[static_cast<std::size_t>(ir)];
-        const int rel = std::min(std::abs(ir - ik), 6 - std::abs(ir - ik));
-        for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
-          if (!ok || skeleton[x]) return;
-          const auto *row = benzene_row(t, ring_index, x, skeleton);
-          if (!row) {
-            ok = false;
-            last = fmt::format("benzene substituent at {} has no row", atom_label(m, x));
-            return;
-          }
-          const auto v = row->by_relation[static_cast<std::size_t>(rel)];
-          if (!v) {
-            ok = false;
-            last = fmt::format("row {} gives no {} value", row->id, kRingRelation[rel]);
-            return;
-          }
-          s.add(kRingRelation[rel], row->id, *v);
-          if (share_ring(t, r, x)) s.outside("substituent bonded to two ring atoms");
-        });
+      for (const auto &sub : b.substituents) {
+        const int rel = std::min(std::abs(sub.position - ik), 6 - std::abs(sub.position - ik));
+        if (!sub.row) {
+          ok = false;
+          last = fmt::format("benzene substituent at {} has no row", atom_label(m, sub.atom));
+          break;
+        }
+        const auto v = sub.row->by_relation[static_cast<std::size_t>(rel)];
+        if (!v) {
+          ok = false;
+          last = fmt::format("row {} gives no {} value", sub.row->id, kRingRelation[rel]);
+          break;
+        }
+        s.add(kRingRelation[rel], sub.row->id, *v);
+        if (sub.bridging) s.outside("substituent bonded to two ring atoms");
       }
       if (ok) {
-        const auto crowd = crowded_donor(t, k, ring, skeleton);
+        const auto crowd = crowded_donor(t, k, ring, b.skeleton);
         if (crowd == Crowding::HeavyHalogen) {
           ok = false;
           last = "O- or N-substituted ring carbon next to Br or I";
@@ -942,19 +928,52 @@ class C13Increments final : public ShiftSource {
     return fail(why, last);
   }
 
-  // The benzene row of substituent x on smallest ring `ring_index` (the ring
-  // is the skeleton). The six carbons of a ring ask for the same rows, so
-  // each is looked up once per molecule.
-  const BenzeneRow *benzene_row(const SmartsTarget &t, std::size_t ring_index, std::size_t x,
-                                const std::vector<bool> &skeleton) const {
-    const auto key = static_cast<std::uint64_t>(ring_index) * t.molecule().atom_count() + x;
-    const auto it = benzene_rows_.find(key);
-    if (it != benzene_rows_.end()) return it->second;
-    const auto *row = fused_six(t, ring_index, x) && methyl_row_
-                          ? methyl_row_
-                          : find_row(tab_.benzene, tab_.benzene_order, t, x, skeleton, [](const BenzeneRow &) { return true; });
-    benzene_rows_.emplace(key, row);
-    return row;
+  // A six-membered smallest ring as benzene() sees it: whether it is a
+  // benzene ring (six neutral aromatic carbons joined by aromatic bonds)
+  // and, if so, its substituents in ring order with their benzene rows.
+  // The six carbons of a ring ask the same, so it is found once per
+  // molecule.
+  struct BenzeneRing {
+    bool benzenoid = false;
+    std::vector<bool> skeleton;  // the ring's atoms
+    struct Substituent {
+      int position;  // in the ring's atom list
+      std::size_t atom;
+      const BenzeneRow *row;  // null: no row
+      bool bridging;          // shares a smallest ring with its ring atom
+    };
+    std::vector<Substituent> substituents;
+  };
+  const BenzeneRing &benzene_ring(const SmartsTarget &t, std::size_t ring_index) const {
+    if (benzene_rings_.empty()) benzene_rings_.resize(t.rings().size());
+    auto &b = benzene_rings_[ring_index];
+    if (b) return *b;
+    b = std::make_unique<BenzeneRing>();
+    const Molecule &m = t.molecule();
+    const auto &ring = t.rings()[ring_index];
+    bool benzenoid = ring.size() == 6;
+    for (std::size_t i = 0; i < ring.size() && benzenoid; ++i) {
+      const auto &at = m.atom(ring[i]);
+      benzenoid = at.atomic_number == 6 && at.aromatic && at.formal_charge == 0 &&
+                  m.bond(static_cast<std::size_t>(m.bond_between(ring[i], ring[(i + 1) % 6]))).order ==
+                      BondOrder::Aromatic;
+    }
+    if (!benzenoid) return *b;
+    b->benzenoid = true;
+    b->skeleton.assign(m.atom_count(), false);
+    for (auto a : ring) b->skeleton[a] = true;
+    for (int ir = 0; ir < 6; ++ir) {
+      const auto r = ring[static_cast<std::size_t>(ir)];
+      for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
+        if (b->skeleton[x]) return;
+        const auto *row = fused_six(t, ring_index, x) && methyl_row_
+                              ? methyl_row_
+                              : find_row(tab_.benzene, tab_.benzene_order, t, x, b->skeleton,
+                                         [](const BenzeneRow &) { return true; });
+        b->substituents.push_back(BenzeneRing::Substituent{ir, x, row, share_ring(t, r, x)});
+      });
+    }
+    return *b;
   }
 
   // x is an sp3 carbon of a saturated six-membered ring fused to benzene
@@ -1764,7 +1783,7 @@ class C13Increments final : public ShiftSource {
   mutable const SmartsTarget *target_ = nullptr;
   mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_matches_;  // per hetero ring
   mutable std::vector<std::vector<bool>> hetero_cover_;                         // per hetero ring
-  mutable std::unordered_map<std::uint64_t, const BenzeneRow *> benzene_rows_;  // see benzene_row()
+  mutable std::vector<std::unique_ptr<BenzeneRing>> benzene_rings_;  // per smallest ring, see benzene_ring()
   mutable std::vector<std::int32_t> sp3_chains_;  // see sp3_chains()
   mutable std::vector<std::int8_t> answered_;  // per atom: -1 not asked yet, 0 no answer, 1 in answers_
   mutable std::vector<Shift> answers_;
