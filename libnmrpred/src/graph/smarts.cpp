@@ -895,7 +895,8 @@ std::uint64_t SmartsTarget::pack(const AtomFacts &f, std::uint8_t heavy_degree) 
   auto capped = [](std::uint32_t v) { return std::uint64_t{v < 255 ? v : 255}; };
   return pack_field(f.atomic_number, kPackAtomicNumber) | pack_field(f.aromatic ? 1 : 0, kPackAromatic) |
          pack_field(capped(f.hydrogens), kPackHydrogens) | pack_field(heavy_degree, kPackHeavyDegree) |
-         pack_field(capped(f.degree), kPackDegree) | pack_field(static_cast<std::uint8_t>(f.formal_charge), kPackCharge);
+         pack_field(capped(f.degree), kPackDegree) |
+         pack_field(static_cast<std::uint8_t>(f.formal_charge), kPackCharge);
 }
 
 std::size_t SmartsTarget::recursive_slot(const SmartsImpl *part) const {
@@ -987,7 +988,8 @@ void SmartsTarget::perceive_ring_systems() const {
       system_counts_.resize(system_counts_.size() + kSystemCountSize, 0);
     }
     const auto z = m_.atom(a).atomic_number;
-    if (z < 128) ++system_counts_[static_cast<std::size_t>(sys) * kSystemCountSize + z * 2u + (m_.atom(a).aromatic ? 1u : 0u)];
+    if (z < 128)
+      ++system_counts_[static_cast<std::size_t>(sys) * kSystemCountSize + z * 2u + (m_.atom(a).aromatic ? 1u : 0u)];
   }
 }
 

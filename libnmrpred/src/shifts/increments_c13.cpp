@@ -454,7 +454,8 @@ void read_hetero(const Tables &tables, C13Tables &out) {
     const auto &kind = row.fields[c_kind];
     if (kind == "base") {
       const double ppm = r.need_ppm(row, c_value);
-      it->bases.push_back(HetBase{row.fields[c_id], atoms, ppm, fmt::format("base {} {}", row.fields[c_id], ppm_text(ppm))});
+      it->bases.push_back(
+          HetBase{row.fields[c_id], atoms, ppm, fmt::format("base {} {}", row.fields[c_id], ppm_text(ppm))});
     } else if (kind == "increment") {
       HetIncrement inc;
       inc.id = row.fields[c_id];
@@ -745,8 +746,9 @@ class C13Increments final : public ShiftSource {
 
   // estimate() without the kept answers.
   bool estimate_anew(const ShiftQuery &q, std::size_t atom, Shift &out) const {
-    std::string why;
-    auto r = evaluate(q, atom, &why);
+    // No reason asked for: it serves debugging, and the carbons a scheme
+    // passes on are many.
+    auto r = evaluate(q, atom, nullptr);
     if (!r) return false;
     for (const auto *row : solvent_rows_)
       if (match_at(row->smarts, target(q), atom)) r->add("solvent", row->id, row->ppm);
@@ -779,7 +781,7 @@ class C13Increments final : public ShiftSource {
       // parent (naphthalene, indole, ...) than by substituent increments
       // used outside their scope.
       std::string why_benzene;
-      auto rb = benzene(t, atom, &why_benzene);
+      auto rb = benzene(t, atom, why ? &why_benzene : nullptr);
       if (rb && rb->in_scope()) return rb;
       auto rh = hetero(t, atom, why);
       if (rh && (!rb || rh->in_scope())) return rh;
@@ -803,7 +805,7 @@ class C13Increments final : public ShiftSource {
       if (internal_heavy_halide(m, atom))
         if (auto r = sp3_parent(t, atom, nullptr)) return r;
       std::string why_additive;
-      if (auto r = sp3_additive(t, atom, &why_additive)) return r;
+      if (auto r = sp3_additive(t, atom, why ? &why_additive : nullptr)) return r;
       if (auto r = sp3_parent(t, atom, why)) return r;
       if (why) *why = why_additive + "; " + *why;
       return std::nullopt;
@@ -812,7 +814,7 @@ class C13Increments final : public ShiftSource {
   }
 
  private:
-  static Result fail(std::string *why, const std::string &text) {
+  static Result fail(std::string *why, std::string_view text) {
     if (why) *why = text;
     return std::nullopt;
   }
@@ -889,7 +891,7 @@ class C13Increments final : public ShiftSource {
   Result benzene(const SmartsTarget &t, std::size_t k, std::string *why) const {
     const Molecule &m = t.molecule();
     if (!tab_.benzene_present) return fail(why, "no benzene table");
-    std::string last = "not in a benzene ring";
+    std::string last;  // why the last ring failed, when a reason is asked for
     for (const auto &ring : t.rings()) {
       if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
       const auto &b = benzene_ring(t, static_cast<std::size_t>(&ring - t.rings().data()));
@@ -902,13 +904,13 @@ class C13Increments final : public ShiftSource {
         const int rel = std::min(std::abs(sub.position - ik), 6 - std::abs(sub.position - ik));
         if (!sub.row) {
           ok = false;
-          last = fmt::format("benzene substituent at {} has no row", atom_label(m, sub.atom));
+          if (why) last = fmt::format("benzene substituent at {} has no row", atom_label(m, sub.atom));
           break;
         }
         const auto v = sub.row->by_relation[static_cast<std::size_t>(rel)];
         if (!v) {
           ok = false;
-          last = fmt::format("row {} gives no {} value", sub.row->id, kRingRelation[rel]);
+          if (why) last = fmt::format("row {} gives no {} value", sub.row->id, kRingRelation[rel]);
           break;
         }
         s.add(kRingRelation[rel], sub.row->id, *v);
@@ -918,14 +920,14 @@ class C13Increments final : public ShiftSource {
         const auto crowd = crowded_donor(t, k, ring, b.skeleton);
         if (crowd == Crowding::HeavyHalogen) {
           ok = false;
-          last = "O- or N-substituted ring carbon next to Br or I";
+          if (why) last = "O- or N-substituted ring carbon next to Br or I";
         } else if (crowd == Crowding::BothOrtho) {
           s.outside("O- or N-substituted ring carbon between two substituted ring carbons");
         }
       }
       if (ok) return s;
     }
-    return fail(why, last);
+    return fail(why, last.empty() ? std::string_view("not in a benzene ring") : std::string_view(last));
   }
 
   // A six-membered smallest ring as benzene() sees it: whether it is a
@@ -1047,7 +1049,7 @@ class C13Increments final : public ShiftSource {
   // --- heteroaromatic rings ----------------------------------------------
   Result hetero(const SmartsTarget &t, std::size_t k, std::string *why) const {
     const Molecule &m = t.molecule();
-    std::string last = "no heteroaromatic parent ring matches";
+    std::string last;  // why the last parent failed, when a reason is asked for
     for (std::size_t ri = 0; ri < tab_.hetero.size(); ++ri) {
       const auto &ring = tab_.hetero[ri];
       if (!hetero_cover(t, ri)[k]) continue;  // no mapping contains k
@@ -1088,7 +1090,7 @@ class C13Increments final : public ShiftSource {
         for (const auto &b : ring.bases)
           if (std::find(b.atoms.begin(), b.atoms.end(), index_of(maps[0], k)) != b.atoms.end()) base = &b;
         if (!base) {
-          last = fmt::format("{} gives no base value for this position", ring.name);
+          if (why) last = fmt::format("{} gives no base value for this position", ring.name);
           continue;
         }
         // Bonds between k and each parent atom, counted inside the parent:
@@ -1113,7 +1115,7 @@ class C13Increments final : public ShiftSource {
         for (auto r : entry.first) {
           if (m.atom(r).formal_charge != 0) {
             ok = false;
-            last = "charged ring atom (protonated ring or N-oxide)";
+            if (why) last = "charged ring atom (protonated ring or N-oxide)";
             break;
           }
           for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
@@ -1145,11 +1147,13 @@ class C13Increments final : public ShiftSource {
             }
             // No row of the ring's own: the benzene increment for the same
             // ring relation, carried over (tables/FORMAT.md).
-            const auto *row = find_row(tab_.benzene, tab_.benzene_order, t, x, skeleton, [](const BenzeneRow &) { return true; });
+            const auto *row =
+                find_row(tab_.benzene, tab_.benzene_order, t, x, skeleton, [](const BenzeneRow &) { return true; });
             const int rel = ring_dist[r];
             if (!row || rel < 0) {
               ok = false;
-              last = fmt::format("{} ring substituent at {} has no increment row", ring.name, atom_label(m, x));
+              if (why)
+                last = fmt::format("{} ring substituent at {} has no increment row", ring.name, atom_label(m, x));
               return;
             }
             if (rel > 3) {
@@ -1169,19 +1173,21 @@ class C13Increments final : public ShiftSource {
             if ((m.atom(x).atomic_number == 8 || m.atom(x).atomic_number == 16) && m.hydrogen_count(x) == 1 &&
                 ring_has_nitrogen) {
               ok = false;
-              last = fmt::format("OH or SH at {} on a ring with a ring nitrogen (tautomers)", atom_label(m, x));
+              if (why)
+                last = fmt::format("OH or SH at {} on a ring with a ring nitrogen (tautomers)", atom_label(m, x));
               return;
             }
             if (rel == 0 && !methyl && next_to_ring_heteroatom(m, r, skeleton)) {
               ok = false;
-              last = fmt::format("no {} increment row for the substituent at {} next to a ring heteroatom", ring.name,
-                                 atom_label(m, x));
+              if (why)
+                last = fmt::format("no {} increment row for the substituent at {} next to a ring heteroatom",
+                                   ring.name, atom_label(m, x));
               return;
             }
             const auto v = row->by_relation[static_cast<std::size_t>(rel)];
             if (!v) {
               ok = false;
-              last = fmt::format("row {} gives no {} value", row->id, kRingRelation[rel]);
+              if (why) last = fmt::format("row {} gives no {} value", row->id, kRingRelation[rel]);
               return;
             }
             s.carried(kCarriedRelation[rel], row->id, *v);
@@ -1192,7 +1198,7 @@ class C13Increments final : public ShiftSource {
         if (ok) return s;
       }
     }
-    return fail(why, last);
+    return fail(why, last.empty() ? std::string_view("no heteroaromatic parent ring matches") : std::string_view(last));
   }
 
   // --- alkenes and alkynes ------------------------------------------------
@@ -1259,7 +1265,8 @@ class C13Increments final : public ShiftSource {
           }
           return;
         }
-        const auto *row = find_row(tab.substituents, tab.substituent_order, t, x, skeleton, [](const EneRow &) { return true; });
+        const auto *row =
+            find_row(tab.substituents, tab.substituent_order, t, x, skeleton, [](const EneRow &) { return true; });
         if (!row) {
           problem = fmt::format("{} substituent at {} has no row", what, atom_label(m, x));
           return;
@@ -1422,7 +1429,8 @@ class C13Increments final : public ShiftSource {
             return;
           }
           if (dx > 4) return;  // beyond delta nothing counts
-          const auto *row = find_row(tab_.sp3, tab_.sp3_order, t, x, skeleton, [](const Sp3Row &r) { return r.additive; });
+          const auto *row =
+              find_row(tab_.sp3, tab_.sp3_order, t, x, skeleton, [](const Sp3Row &r) { return r.additive; });
           if (!row) {
             problem = fmt::format("no additive row for the substituent at {}", atom_label(m, x));
             return;
@@ -1585,7 +1593,9 @@ class C13Increments final : public ShiftSource {
           return;
         }
         const auto *row =
-            bridge ? bridge : find_row(rt.substituents, rt.substituent_order, t, x, skeleton, [](const RingRow &) { return true; });
+            bridge ? bridge
+                   : find_row(rt.substituents, rt.substituent_order, t, x, skeleton,
+                              [](const RingRow &) { return true; });
         if (!row) {
           if (d <= 2) problem = fmt::format("ring substituent at {} has no row", atom_label(m, x));
           else s.unvalued();
