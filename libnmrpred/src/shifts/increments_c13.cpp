@@ -1096,15 +1096,15 @@ class C13Increments final : public ShiftSource {
         // Bonds between k and each parent atom, counted inside the parent:
         // the ring relation (ipso, ortho, meta, para) of carried-over
         // benzene increments.
-        std::map<std::size_t, int> ring_dist;
+        // -2 marks atoms outside the parent, -1 parent atoms not reached yet.
+        std::vector<int> ring_dist(m.atom_count(), -2);
         {
           for (auto a : entry.first) ring_dist[a] = -1;
           ring_dist[k] = 0;
           std::vector<std::size_t> queue{k};
           for (std::size_t i = 0; i < queue.size(); ++i)
             for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
-              const auto it = ring_dist.find(z);
-              if (it != ring_dist.end() && it->second < 0) it->second = ring_dist[queue[i]] + 1, queue.push_back(z);
+              if (ring_dist[z] == -1) ring_dist[z] = ring_dist[queue[i]] + 1, queue.push_back(z);
             });
         }
         bool ring_has_nitrogen = false;
