@@ -48,6 +48,10 @@ struct ExprNode {
 struct PatternBond {
   std::uint32_t a = 0, b = 0;
   int expr = -1;  // root node; -1 = single or aromatic (nothing written)
+  // Bit o set: a bond of BondOrder o matches. Valid when by_order, that is
+  // when the expression asks about the bond order alone (not '@').
+  std::uint8_t orders = 0;
+  bool by_order = false;
 };
 
 // Depth-first order of the pattern atoms from one root (see search_order).
@@ -95,9 +99,18 @@ struct SmartsImpl {
   // element and aromaticity that each atom's expression demands outright.
   // A molecule short of them is rejected without a search.
   std::vector<std::pair<std::uint32_t, std::uint32_t>> needs;
+  // The same per ring system of the pattern (atoms joined by bonds that lie
+  // on a cycle of the pattern): a cycle maps onto a cycle, so each system
+  // lies within one ring system of the molecule, which must hold its atoms.
+  std::vector<std::vector<std::pair<std::uint32_t, std::uint32_t>>> ring_system_needs;
   // Per pattern atom, the plain properties its expression demands outright;
   // a candidate failing them is rejected before the expression is walked.
   std::vector<AtomFilter> filters;
+  // The pattern atoms bonded to atom 0 with the bond between (index into
+  // bonds). An anchored match needs, for each, a heavy neighbour of the
+  // anchor that passes its filter over a matching bond; most anchored
+  // searches fail there, and the test costs less than setting one up.
+  std::vector<std::pair<std::uint32_t, std::uint32_t>> root_neighbours;
 };
 
 namespace {
@@ -493,11 +506,49 @@ bool eval(const SmartsImpl &p, int n, const SmartsTarget &t, std::size_t atom, s
 }
 
 bool bond_ok(const SmartsImpl &p, const PatternBond &pb, const SmartsTarget &t, std::int64_t bond) {
-  if (pb.expr < 0) {
-    const auto o = bond_order(t, bond);
-    return o == BondOrder::Single || o == BondOrder::Aromatic;
-  }
+  if (pb.by_order) return pb.orders >> static_cast<unsigned>(bond_order(t, bond)) & 1u;
   return eval(p, pb.expr, t, 0, bond);
+}
+
+// The bond orders expression `n` accepts as a mask (PatternBond::orders);
+// false when it asks about something else.
+bool order_mask(const SmartsImpl &p, int n, std::uint8_t &mask) {
+  constexpr std::uint8_t kAll = (1u << 1) | (1u << 2) | (1u << 3) | (1u << 4);
+  auto bit = [](BondOrder o) { return static_cast<std::uint8_t>(1u << static_cast<unsigned>(o)); };
+  const ExprNode &e = p.nodes[static_cast<std::size_t>(n)];
+  std::uint8_t l = 0, r = 0;
+  switch (e.op) {
+    case Op::Not:
+      if (!order_mask(p, e.left, l)) return false;
+      mask = static_cast<std::uint8_t>(kAll & ~l);
+      return true;
+    case Op::And:
+    case Op::Or:
+      if (!order_mask(p, e.left, l) || !order_mask(p, e.right, r)) return false;
+      mask = static_cast<std::uint8_t>(e.op == Op::And ? l & r : l | r);
+      return true;
+    case Op::Prim: break;
+  }
+  switch (e.prim) {
+    case Prim::True: mask = kAll; return true;
+    case Prim::BondSingle: mask = bit(BondOrder::Single); return true;
+    case Prim::BondDouble: mask = bit(BondOrder::Double); return true;
+    case Prim::BondTriple: mask = bit(BondOrder::Triple); return true;
+    case Prim::BondAromatic: mask = bit(BondOrder::Aromatic); return true;
+    default: return false;
+  }
+}
+
+void compute_bond_orders(SmartsImpl &p) {
+  for (auto &pb : p.bonds) {
+    if (pb.expr < 0) {
+      pb.orders = static_cast<std::uint8_t>((1u << static_cast<unsigned>(BondOrder::Single)) |
+                                            (1u << static_cast<unsigned>(BondOrder::Aromatic)));
+      pb.by_order = true;
+    } else {
+      pb.by_order = order_mask(p, pb.expr, pb.orders);
+    }
+  }
 }
 
 // Collects the demands of expression `n` into `f` (smarts.cpp AtomFilter).
@@ -589,6 +640,45 @@ void compute_filters(SmartsImpl &p) {
   p.needs.assign(count.begin(), count.end());
 }
 
+// SmartsImpl::ring_system_needs.
+void compute_ring_system_needs(SmartsImpl &p) {
+  const std::size_t n = p.atom_expr.size();
+  // A bond lies on a cycle when its ends stay connected without it.
+  auto on_cycle = [&](std::uint32_t bond) {
+    std::vector<bool> seen(n, false);
+    std::vector<std::uint32_t> stack{p.bonds[bond].a};
+    seen[p.bonds[bond].a] = true;
+    while (!stack.empty()) {
+      const auto q = stack.back();
+      stack.pop_back();
+      for (const auto &nb : p.adjacency[q])
+        if (nb.second != bond && !seen[nb.first]) seen[nb.first] = true, stack.push_back(nb.first);
+    }
+    return static_cast<bool>(seen[p.bonds[bond].b]);
+  };
+  std::vector<std::uint32_t> system(n);
+  std::iota(system.begin(), system.end(), 0u);
+  std::function<std::uint32_t(std::uint32_t)> find = [&](std::uint32_t x) {
+    return system[x] == x ? x : system[x] = find(system[x]);
+  };
+  std::vector<bool> in_ring(n, false);
+  for (std::uint32_t b = 0; b < p.bonds.size(); ++b)
+    if (on_cycle(b)) {
+      in_ring[p.bonds[b].a] = in_ring[p.bonds[b].b] = true;
+      system[find(p.bonds[b].a)] = find(p.bonds[b].b);
+    }
+  std::map<std::uint32_t, std::map<std::uint32_t, std::uint32_t>> counts;  // system root -> needs
+  for (std::uint32_t q = 0; q < n; ++q) {
+    if (!in_ring[q]) continue;
+    auto &count = counts[find(q)];
+    const auto &f = p.filters[q];
+    if (f.never || f.atomic_number < 0 || f.atomic_number >= 128) continue;
+    ++count[static_cast<std::uint32_t>(f.atomic_number) * 4 + static_cast<std::uint32_t>(f.aromatic < 0 ? 2 : f.aromatic)];
+  }
+  for (const auto &c : counts)
+    if (!c.second.empty()) p.ring_system_needs.emplace_back(c.second.begin(), c.second.end());
+}
+
 // False when the molecule lacks the heavy atoms some pattern atoms demand,
 // so that no match can exist.
 bool feasible(const SmartsImpl &p, const SmartsTarget &t) {
@@ -597,6 +687,29 @@ bool feasible(const SmartsImpl &p, const SmartsTarget &t) {
     const std::uint32_t have = code == 2 ? t.element_count(z, false) + t.element_count(z, true)
                                          : t.element_count(z, code == 1);
     if (have < need.second) return false;
+  }
+  return true;
+}
+
+// False when some ring system of the pattern fits in no ring system of the
+// molecule (SmartsImpl::ring_system_needs). Asks for ring perception.
+bool rings_feasible(const SmartsImpl &p, const SmartsTarget &t) {
+  for (const auto &needs : p.ring_system_needs) {
+    bool fits = false;
+    for (std::size_t sys = 0; sys < t.ring_system_count() && !fits; ++sys) {
+      fits = true;
+      for (const auto &need : needs) {
+        const unsigned z = need.first / 4, code = need.first % 4;
+        const std::uint32_t have = code == 2 ? t.ring_system_element_count(sys, z, false) +
+                                                   t.ring_system_element_count(sys, z, true)
+                                             : t.ring_system_element_count(sys, z, code == 1);
+        if (have < need.second) {
+          fits = false;
+          break;
+        }
+      }
+    }
+    if (!fits) return false;
   }
   return true;
 }
@@ -702,7 +815,9 @@ class Search {
     }
     const auto from = map_[parent_[q]];
     const auto *bid = m.bond_ids_begin(from);
-    for (auto it = m.neighbours_begin(from); it != m.neighbours_end(from); ++it, ++bid)
+    // Hydrogens, never a candidate, come last in the sorted neighbour list.
+    const auto heavy = m.heavy_atom_count();
+    for (auto it = m.neighbours_begin(from); it != m.neighbours_end(from) && *it < heavy; ++it, ++bid)
       if (try_atom(i, q, *it, *bid)) return true;
     return false;
   }
@@ -733,6 +848,10 @@ SmartsPattern::SmartsPattern(std::string_view text) {
       throw InternalError(fmt::format("SMARTS '{}': disconnected pattern", impl->text));
   }
   compute_filters(*impl);
+  compute_ring_system_needs(*impl);
+  compute_bond_orders(*impl);
+  if (!impl->adjacency.empty())
+    for (const auto &nb : impl->adjacency[0]) impl->root_neighbours.push_back(nb);
   if (!impl->filters.empty() && !impl->filters[0].never)
     root_mask_ = impl->filters[0].mask, root_value_ = impl->filters[0].value;
   impl_ = std::move(impl);
@@ -765,16 +884,20 @@ SmartsTarget::SmartsTarget(const Molecule &m)
     f.isotope = at.isotope;
     f.degree = static_cast<std::uint32_t>(m.degree(a));
     f.hydrogens = static_cast<std::uint32_t>(m.hydrogen_count(a));
-    auto capped = [](std::uint32_t v) { return std::uint64_t{v < 255 ? v : 255}; };
-    packed_[a] = pack_field(f.atomic_number, kPackAtomicNumber) | pack_field(f.aromatic ? 1 : 0, kPackAromatic) |
-                 pack_field(capped(f.hydrogens), kPackHydrogens) | pack_field(heavy_degree_[a], kPackHeavyDegree) |
-                 pack_field(capped(f.degree), kPackDegree) |
-                 pack_field(static_cast<std::uint8_t>(f.formal_charge), kPackCharge);
+    packed_[a] = pack(f, heavy_degree_[a]);
     if (at.atomic_number != 1 && at.atomic_number < 128) ++element_count_[at.atomic_number * 2u + (at.aromatic ? 1u : 0u)];
   }
 }
 
 SmartsTarget::~SmartsTarget() = default;
+
+std::uint64_t SmartsTarget::pack(const AtomFacts &f, std::uint8_t heavy_degree) {
+  auto capped = [](std::uint32_t v) { return std::uint64_t{v < 255 ? v : 255}; };
+  return pack_field(f.atomic_number, kPackAtomicNumber) | pack_field(f.aromatic ? 1 : 0, kPackAromatic) |
+         pack_field(capped(f.hydrogens), kPackHydrogens) | pack_field(heavy_degree, kPackHeavyDegree) |
+         pack_field(capped(f.degree), kPackDegree) |
+         pack_field(static_cast<std::uint8_t>(f.formal_charge), kPackCharge);
+}
 
 std::size_t SmartsTarget::recursive_slot(const SmartsImpl *part) const {
   auto hash = [&](const SmartsImpl *key) {
@@ -830,6 +953,46 @@ const std::vector<std::vector<std::uint32_t>> &SmartsTarget::rings() const {
   return rings_;
 }
 
+std::size_t SmartsTarget::ring_system_count() const {
+  perceive_ring_systems();
+  return system_counts_.size() / kSystemCountSize;
+}
+
+std::uint32_t SmartsTarget::ring_system_element_count(std::size_t system, unsigned atomic_number,
+                                                      bool aromatic) const {
+  perceive_ring_systems();
+  return atomic_number < 128 ? system_counts_[system * kSystemCountSize + atomic_number * 2 + (aromatic ? 1 : 0)]
+                             : 0;
+}
+
+// Ring systems: atoms joined by ring bonds, numbered in order of their
+// lowest atom, with heavy-atom counts as element_count() keeps them.
+void SmartsTarget::perceive_ring_systems() const {
+  if (systems_done_) return;
+  systems_done_ = true;
+  perceive_rings();
+  const std::size_t n = m_.heavy_atom_count();
+  std::vector<std::uint32_t> root(n);
+  std::iota(root.begin(), root.end(), 0u);
+  std::function<std::uint32_t(std::uint32_t)> find = [&](std::uint32_t x) {
+    return root[x] == x ? x : root[x] = find(root[x]);
+  };
+  for (std::uint32_t b = 0; b < m_.bond_count(); ++b)
+    if (bond_rings_[b] > 0) root[find(m_.bond(b).begin)] = find(m_.bond(b).end);
+  std::vector<std::int32_t> number(n, -1);
+  for (std::uint32_t a = 0; a < n; ++a) {
+    if (atom_rings_[a] == 0) continue;
+    auto &sys = number[find(a)];
+    if (sys < 0) {
+      sys = static_cast<std::int32_t>(system_counts_.size() / kSystemCountSize);
+      system_counts_.resize(system_counts_.size() + kSystemCountSize, 0);
+    }
+    const auto z = m_.atom(a).atomic_number;
+    if (z < 128)
+      ++system_counts_[static_cast<std::size_t>(sys) * kSystemCountSize + z * 2u + (m_.atom(a).aromatic ? 1u : 0u)];
+  }
+}
+
 // Rings: Horton's candidate cycles (shortest paths from a root to both ends of
 // an edge), shortest first, tested for independence by Gaussian elimination
 // over GF(2) on bond sets.
@@ -882,6 +1045,54 @@ void SmartsTarget::perceive_rings() const {
   for (std::uint32_t a = 0; a < n; ++a) components += core[a] && find(a) == a;
   const std::size_t rank = edges.size() + components - vertices;
   const std::size_t words = (edges.size() + 63) / 64;
+  // Bridges of the core (bonds on no cycle, such as a chain between two
+  // ring systems), by Tarjan's low-link search. From a root the two tree
+  // paths to the ends of any edge beyond a bridge both cross it, so such an
+  // edge never closes a candidate; searching within the root's part left
+  // by the bridges finds the same candidates, in the same order (the part
+  // is reached only from within itself), at a fraction of the cost in
+  // molecules with several ring systems.
+  std::vector<char> bridge(edges.size(), 0), on_cycle(n, 0);
+  {
+    std::vector<int> found(n, -1), low(n, 0);
+    int counter = 0;
+    struct Frame {
+      std::uint32_t atom;
+      int via;  // edge from the parent, -1 at a root
+      std::size_t next;
+    };
+    std::vector<Frame> stack;
+    for (std::uint32_t s0 = 0; s0 < n; ++s0) {
+      if (!core[s0] || found[s0] >= 0) continue;
+      found[s0] = low[s0] = counter++;
+      stack.push_back(Frame{s0, -1, 0});
+      while (!stack.empty()) {
+        Frame &f = stack.back();
+        const auto a = f.atom;
+        if (f.next < m.degree(a)) {
+          const auto i = f.next++;
+          const auto b = m.neighbours_begin(a)[i];
+          const int e = edge_of_bond[m.bond_ids_begin(a)[i]];
+          if (e < 0 || e == f.via) continue;
+          if (found[b] < 0) {
+            found[b] = low[b] = counter++;
+            stack.push_back(Frame{b, e, 0});
+          } else {
+            low[a] = std::min(low[a], found[b]);
+          }
+          continue;
+        }
+        const Frame done = f;
+        stack.pop_back();
+        if (stack.empty()) continue;
+        const auto parent = stack.back().atom;
+        low[parent] = std::min(low[parent], low[done.atom]);
+        if (low[done.atom] > found[parent]) bridge[static_cast<std::size_t>(done.via)] = 1;
+      }
+    }
+    for (std::size_t e = 0; e < edges.size(); ++e)
+      if (!bridge[e]) on_cycle[m.bond(edges[e]).begin] = on_cycle[m.bond(edges[e]).end] = 1;
+  }
   // Candidates in the order they are found, their atoms and bond bits in
   // flat pools: a molecule yields many candidates, mostly copies of one ring
   // found from each of its atoms.
@@ -897,7 +1108,7 @@ void SmartsTarget::perceive_rings() const {
   std::vector<std::uint32_t> bfs;
   bfs.reserve(n);
   for (std::uint32_t r = 0; r < n; ++r) {
-    if (!core[r]) continue;
+    if (!on_cycle[r]) continue;
     std::fill(dist.begin(), dist.end(), -1);
     dist[r] = 0;
     parent_edge[r] = -1;
@@ -907,7 +1118,7 @@ void SmartsTarget::perceive_rings() const {
       const auto a = bfs[k];
       const auto *bid = m.bond_ids_begin(a);
       for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid) {
-        if (*it >= n || !core[*it] || dist[*it] >= 0) continue;
+        if (*it >= n || !core[*it] || dist[*it] >= 0 || bridge[static_cast<std::size_t>(edge_of_bond[*bid])]) continue;
         dist[*it] = dist[a] + 1;
         parent_edge[*it] = edge_of_bond[*bid];
         parent_atom[*it] = static_cast<int>(a);
@@ -1023,14 +1234,39 @@ void SmartsTarget::perceive_rings() const {
   }
 }
 
+// Does every pattern neighbour of atom 0 find a candidate among the heavy
+// neighbours of `atom` (SmartsImpl::root_neighbours)? Each is tested on its
+// own, so two pattern neighbours may name the same atom: a necessary
+// condition only, which the search then decides.
+bool root_neighbours_possible(const SmartsImpl &p, const SmartsTarget &t, std::size_t atom,
+                              const std::vector<bool> &excluded) {
+  const Molecule &m = t.molecule();
+  // Hydrogens come last in the sorted neighbour list (molecule.hpp), and
+  // patterns never place an atom on one.
+  const std::size_t degree = m.degree(atom), heavy_atoms = m.heavy_atom_count();
+  const auto *nbs = m.neighbours_begin(atom);
+  const auto *bids = m.bond_ids_begin(atom);
+  for (const auto &nb : p.root_neighbours) {
+    const AtomFilter &f = p.filters[nb.first];
+    const PatternBond &pb = p.bonds[nb.second];
+    bool found = false;
+    for (std::size_t i = 0; i < degree && nbs[i] < heavy_atoms && !found; ++i)
+      found = passes(f, t, nbs[i]) && !(nbs[i] < excluded.size() && excluded[nbs[i]]) && bond_ok(p, pb, t, bids[i]);
+    if (!found) return false;
+  }
+  return true;
+}
+
 // match_at() after its inline test of the root's packed demands.
 std::size_t match_at_unscreened(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom,
                                 const std::vector<bool> &excluded) {
   if (p.empty() || atom >= t.molecule().atom_count()) return 0;
-  // Most table rows fail on the anchor atom itself: test it before setting up a search.
+  // Most table rows fail on the anchor atom itself or its neighbours: test
+  // them before setting up a search.
   const auto &impl = p.impl();
   const AtomFilter &root = impl.filters[0];
-  if (t.facts(atom).atomic_number == 1 || (atom < excluded.size() && excluded[atom]) || !passes(root, t, atom))
+  if (t.facts(atom).atomic_number == 1 || (atom < excluded.size() && excluded[atom]) || !passes(root, t, atom) ||
+      !root_neighbours_possible(impl, t, atom, excluded))
     return 0;
   auto root_holds = [&] { return root.exact || eval(impl, impl.atom_expr[0], t, atom, -1); };
   // The root's expression depends on the root atom alone, not on how the
@@ -1076,7 +1312,7 @@ std::vector<std::vector<std::uint32_t>> all_matches(const SmartsPattern &p, cons
   std::vector<std::vector<std::uint32_t>> out;
   if (p.empty()) return out;
   const auto &impl = p.impl();
-  if (!feasible(impl, t)) return out;
+  if (!feasible(impl, t) || !rings_feasible(impl, t)) return out;
   // Every root finds every mapping; the one with the rarest element tries
   // the fewest starting atoms.
   std::uint32_t root = 0;

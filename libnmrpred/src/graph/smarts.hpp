@@ -99,6 +99,8 @@ class SmartsTarget {
   // The same facts packed into one word (smarts.cpp, kPack*), so that a
   // pattern atom's plain demands are tested with one mask and compare.
   std::uint64_t packed(std::size_t atom) const { return packed_[atom]; }
+  // packed() of an atom with these facts and this many heavy neighbours.
+  static std::uint64_t pack(const AtomFacts &facts, std::uint8_t heavy_degree);
   std::size_t atom_count() const noexcept { return packed_.size(); }
   // Heavy atoms with this atomic number (0..127) and aromatic flag.
   std::uint32_t element_count(unsigned atomic_number, bool aromatic) const {
@@ -114,9 +116,14 @@ class SmartsTarget {
   std::int8_t &recursive_value(std::size_t slot, std::size_t atom) const { return memo_pool_[slot + atom]; }
   std::vector<std::uint32_t> take_buffer() const;
   void return_buffer(std::vector<std::uint32_t> &&buffer) const;
+  // Ring systems (atoms joined by bonds in smallest rings) and their heavy
+  // atoms by atomic number (0..127) and aromatic flag, as element_count().
+  std::size_t ring_system_count() const;
+  std::uint32_t ring_system_element_count(std::size_t system, unsigned atomic_number, bool aromatic) const;
 
  private:
   void perceive_rings() const;
+  void perceive_ring_systems() const;
   const Molecule &m_;
   std::vector<std::uint8_t> heavy_degree_;
   std::vector<AtomFacts> facts_;
@@ -125,6 +132,9 @@ class SmartsTarget {
   mutable bool rings_done_ = false;
   mutable std::vector<std::vector<std::uint32_t>> rings_;
   mutable std::vector<std::uint8_t> atom_rings_, bond_rings_, atom_smallest_;
+  static constexpr std::size_t kSystemCountSize = 256;  // per ring system: counts as element_count_
+  mutable bool systems_done_ = false;
+  mutable std::vector<std::uint32_t> system_counts_;
   // Memo rows one after another in one pool; an open-addressing table
   // (power-of-two size, linear probing) maps a part to its row's offset.
   // A molecule asks about some dozens of parts: a node-based map cost an

@@ -97,6 +97,20 @@ constexpr const char *kPolyhaloNeighbour = "a neighbour carries two or more halo
 
 const char *const kPositionName[] = {"", "alpha", "beta", "gamma", "delta", "epsilon"};
 const char *const kRingRelation[] = {"ipso", "ortho", "meta", "para"};
+// Roles of composed terms, spelt out once (Sum keeps views of its roles).
+const char *const kCarriedRelation[] = {"ipso (carried over)", "ortho (carried over)", "meta (carried over)",
+                                        "para (carried over)"};
+const char *const kCarriedPosition[] = {"alpha (carried over)", "beta (carried over)", "gamma (carried over)",
+                                        "delta (carried over)"};
+const char *const kEneChainRole[2][5] = {{"", "ipso alpha", "ipso beta", "ipso gamma", "ipso delta"},
+                                         {"", "partner alpha", "partner beta", "partner gamma", "partner delta"}};
+const char *const kRingMemberRole[] = {"ring member alpha", "ring member beta", "ring member gamma"};
+// Parent scheme: [position 1..4][internal].
+const char *const kParentRole[5][2] = {{"", ""},
+                                       {"alpha (terminal)", "alpha (internal)"},
+                                       {"beta (terminal)", "beta (internal)"},
+                                       {"gamma", "gamma"},
+                                       {"delta", "delta"}};
 
 // ---------------------------------------------------------------------------
 // Parsed tables
@@ -124,12 +138,14 @@ struct EneRow {
 struct EneTable {
   bool present = false;
   Param base;
+  std::string base_label;  // as method texts print it
   std::array<std::optional<EneRow>, 5> alkyl;  // by position 1..4
   std::optional<EneRow> cis, geminal;
   // Alkyl groups on the carbon across from a carbonyl (push-pull pair);
   // smarts names the carbonyl substituent atom.
   std::optional<EneRow> acceptor_alkyl;
   std::vector<EneRow> substituents;
+  std::vector<std::uint32_t> substituent_order;  // largest_first(substituents)
 };
 
 struct BenzeneRow {
@@ -142,6 +158,7 @@ struct HetBase {
   std::string id;
   std::vector<int> atoms;
   double ppm = 0;
+  std::string label;  // as method texts print it
 };
 
 struct HetIncrement {
@@ -154,6 +171,7 @@ struct HetIncrement {
 
 struct HetRing {
   std::string name;
+  std::string scheme;  // as method texts print it
   SmartsPattern ring;
   std::vector<HetBase> bases;
   std::vector<HetIncrement> increments;
@@ -164,6 +182,7 @@ struct ClassRow {
   std::string name;
   SmartsPattern smarts;
   double typical_ppm = 0, low_ppm = 0, high_ppm = 0;
+  std::string scheme, base_label;  // as method texts print them
 };
 
 // c13_ring_sp3.tsv: one row of the ring scheme. ring_size 0 stands for "-"
@@ -174,11 +193,13 @@ struct RingRow {
   bool group = false;  // member rows: the member's atoms outside the ring belong to it
   SmartsPattern smarts;
   std::array<Opt, 4> by_distance;  // alpha, beta, gamma, delta
+  std::string base_label;          // base rows: as method texts print it
 };
 
 struct RingTables {
   bool present = false;
   std::vector<RingRow> bases, members, substituents;
+  std::vector<std::uint32_t> substituent_order;  // largest_first(substituents)
   // Terms for an sp3 carbon bridging the ring to another ring of the same
   // size (kind "bridge"; ring_size given); see ring_sp3().
   std::vector<RingRow> bridges;
@@ -194,18 +215,33 @@ struct SolventRow {
 
 struct C13Tables {
   Param gp_base;
+  std::string gp_base_label;  // as method texts print it
   std::array<Param, 6> gp_position;        // 1..5
   std::array<std::array<Param, 5>, 5> gp_steric;  // [observed class][partner class], 1..4
   Param gp_cis_allylic;  // per group cis to the observed carbon across a C=C it hangs on
   std::array<Param, 5> la_base, la_gamma, la_delta;
   std::array<std::array<Param, 5>, 5> la_alpha;
   std::vector<Sp3Row> sp3;
+  std::vector<std::uint32_t> sp3_order;  // largest_first(sp3)
   EneTable alkene, alkyne;
   bool benzene_present = false;
   Param benzene_base;
+  std::string benzene_base_label;  // as method texts print it
   std::vector<BenzeneRow> benzene;
+  std::vector<std::uint32_t> benzene_order;  // largest_first(benzene)
   std::vector<HetRing> hetero;  // largest ring pattern first
   std::vector<ClassRow> classes;
+  std::vector<std::uint32_t> class_order;  // largest_first(classes)
+  // Every carbon is tried against the class rows, and most rows fail on the
+  // root atom alone: class_order narrowed, per kind of neutral carbon
+  // ([aromatic][hydrogens][heavy neighbours], four bonds at most), to the
+  // rows whose root may match it (SmartsPattern::root_may_match of
+  // `packed`, the carbon's SmartsTarget::packed()).
+  struct CarbonRows {
+    std::uint64_t packed = 0;
+    std::vector<std::uint32_t> rows;
+  };
+  std::array<std::array<std::array<CarbonRows, 5>, 5>, 2> class_rows_by_carbon;
   RingTables ring;
   std::vector<SolventRow> solvent;
 };
@@ -218,6 +254,57 @@ struct C13IncrementTables {
 };
 
 namespace {
+
+// v with two decimals, as fmt's "{:.2f}" writes it: std::to_chars rounds the
+// exact binary value the same way and costs a fraction of the formatter (a
+// method text holds a dozen of these).
+std::string fixed_2(double v) {
+  if (!std::isfinite(v)) return fmt::format("{:.2f}", v);
+  char buf[32];
+  char *p = buf;
+  // Even to_chars costs hundreds of instructions. y = |v| * 100 is within
+  // |y| * 2^-53 (< 1e-6 below 2^31) of the exact product, so unless its
+  // fraction lies within 1e-6 of one half (a tie, or too close to tell)
+  // rounding y to the nearest integer rounds the exact value as to_chars
+  // does; the sign is written for every negative v, as to_chars writes
+  // "-0.00". Checked against to_chars on 54 million values (random, k/100,
+  // k/1000, ties k/200 and their neighbours, signed zeros) when written.
+  const double y = std::fabs(v) * 100.0;
+  const double whole = std::floor(y), fraction = y - whole;
+  if (y < 2147483648.0 && std::fabs(fraction - 0.5) > 1e-6) {
+    const auto cents = static_cast<std::uint64_t>(whole) + (fraction > 0.5 ? 1u : 0u);
+    if (std::signbit(v)) *p++ = '-';
+    p = std::to_chars(p, buf + sizeof buf, cents / 100).ptr;
+    *p++ = '.';
+    *p++ = static_cast<char>('0' + cents % 100 / 10);
+    *p++ = static_cast<char>('0' + cents % 10);
+    return std::string(buf, p);
+  }
+  const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
+  return std::string(buf, r.ptr);
+}
+
+// A table value or sum as method texts print it: two decimals, one where the
+// second is 0 (table values carry one or two and are printed as written).
+std::string ppm_text(double v) {
+  auto s = fixed_2(v);
+  if (s.back() == '0') s.pop_back();
+  if (s == "-0.0") s = "0.0";
+  return s;
+}
+
+// Row indices by pattern size, largest first, then in table order: the
+// order in which find_row() and class_value() try rows (a match counts the
+// pattern's atoms, and the larger match wins, then the earlier row).
+template <class Row>
+std::vector<std::uint32_t> largest_first(const std::vector<Row> &rows) {
+  std::vector<std::uint32_t> order(rows.size());
+  for (std::uint32_t i = 0; i < order.size(); ++i) order[i] = i;
+  std::stable_sort(order.begin(), order.end(), [&](std::uint32_t a, std::uint32_t b) {
+    return rows[a].smarts.atom_count() > rows[b].smarts.atom_count();
+  });
+  return order;
+}
 
 bool ends_with(const std::string &s, const char *suffix) {
   const std::string x(suffix);
@@ -236,6 +323,7 @@ void read_alkane(const Tables &tables, C13Tables &out) {
     if (scheme == "grant-paul") {
       if (term == "base") {
         out.gp_base = p;
+        out.gp_base_label = fmt::format("base {} {}", p.id, ppm_text(p.ppm));
       } else if (term == "cis-allylic") {
         out.gp_cis_allylic = p;
       } else if (term == "steric") {
@@ -296,6 +384,7 @@ void read_ene(const Tables &tables, const char *path, EneTable &out) {
     e.partner = r.ppm(row, c_partner);
     if (kind == "base") {
       out.base = Param{r.need_ppm(row, c_ipso), e.id, true};
+      out.base_label = fmt::format("base {}", ppm_text(out.base.ppm));
     } else if (kind == "alkyl") {
       bool known = false;
       for (std::size_t d = 1; d <= 4; ++d)
@@ -325,6 +414,7 @@ void read_benzene(const Tables &tables, C13Tables &out) {
     const auto &kind = row.fields[c_kind];
     if (kind == "base") {
       out.benzene_base = Param{r.need_ppm(row, c_rel[0]), row.fields[c_id], true};
+      out.benzene_base_label = fmt::format("base {}", ppm_text(out.benzene_base.ppm));
     } else if (kind == "substituent") {
       BenzeneRow b;
       b.id = row.fields[c_id];
@@ -352,6 +442,7 @@ void read_hetero(const Tables &tables, C13Tables &out) {
     if (it == out.hetero.end()) {
       HetRing h;
       h.name = row.fields[c_ring];
+      h.scheme = fmt::format("heteroaromatic ring increments ({})", h.name);
       h.ring = r.smarts(row, c_ring_smarts);
       out.hetero.push_back(std::move(h));
       it = out.hetero.end() - 1;
@@ -362,7 +453,9 @@ void read_hetero(const Tables &tables, C13Tables &out) {
       if (a >= n) r.fail(row, fmt::format("atom index {} is outside the ring pattern", a));
     const auto &kind = row.fields[c_kind];
     if (kind == "base") {
-      it->bases.push_back(HetBase{row.fields[c_id], atoms, r.need_ppm(row, c_value)});
+      const double ppm = r.need_ppm(row, c_value);
+      it->bases.push_back(
+          HetBase{row.fields[c_id], atoms, ppm, fmt::format("base {} {}", row.fields[c_id], ppm_text(ppm))});
     } else if (kind == "increment") {
       HetIncrement inc;
       inc.id = row.fields[c_id];
@@ -400,6 +493,7 @@ void read_ring(const Tables &tables, C13Tables &out) {
     const auto &kind = row.fields[c_kind];
     if (kind == "base") {
       if (!e.by_distance[0]) r.fail(row, "a base row needs alpha_ppm (the ring carbon's shift)");
+      e.base_label = fmt::format("base {} {}", e.id, ppm_text(*e.by_distance[0]));
       out.ring.bases.push_back(std::move(e));
     } else if (kind == "bridge") {
       if (e.ring_size == 0) r.fail(row, "a bridge row needs a ring size");
@@ -428,6 +522,9 @@ void read_classes(const Tables &tables, const char *path, C13Tables &out) {
     c.high_ppm = r.need_ppm(row, c_high);
     if (!(c.low_ppm <= c.typical_ppm && c.typical_ppm <= c.high_ppm))
       r.fail(row, "typical_ppm must lie within low_ppm..high_ppm");
+    c.scheme = fmt::format("typical value of the class '{}' (range {}-{})", c.name, ppm_text(c.low_ppm),
+                           ppm_text(c.high_ppm));
+    c.base_label = fmt::format("{} {}", c.id, ppm_text(c.typical_ppm));
     out.classes.push_back(std::move(c));
   }
 }
@@ -442,27 +539,25 @@ void read_solvent(const Tables &tables, C13Tables &out) {
         SolventRow{row.fields[c_id], row.fields[c_solvent], r.smarts(row, c_smarts), r.need_ppm(row, c_shift)});
 }
 
-// v with two decimals, as fmt's "{:.2f}" writes it: std::to_chars rounds the
-// exact binary value the same way and costs a fraction of the formatter (a
-// method text holds a dozen of these).
-std::string fixed_2(double v) {
-  if (!std::isfinite(v)) return fmt::format("{:.2f}", v);
-  char buf[32];
-  const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
-  return std::string(buf, r.ptr);
-}
-
 // ---------------------------------------------------------------------------
-// A sum of increments, kept term by term for the method text.
+// A sum of increments, kept term by term for the method text. Every carbon
+// builds one, so its texts are views, not copies: the scheme, base label,
+// roles, ids and reasons given to it are literals or live in the parsed
+// tables and outlive it; a scheme text made for the carbon is kept in it
+// (scheme_text()).
 
 class Sum {
  public:
-  Sum(std::string scheme, Spread spread) : scheme_(std::move(scheme)), spread_(spread) {}
-  void base(const std::string &label, double ppm) {
+  Sum(std::string_view scheme, Spread spread) : scheme_(scheme), spread_(spread) { terms_.reserve(12); }
+  void scheme_text(std::string text) {
+    own_scheme_ = std::move(text);
+    scheme_ = {};
+  }
+  void base(std::string_view label, double ppm) {
     base_label_ = label;
     base_ppm_ = ppm;
   }
-  void add(const std::string &role, const std::string &id, double ppm, int count = 1) {
+  void add(std::string_view role, std::string_view id, double ppm, int count = 1) {
     if (count == 0) return;
     for (auto &t : terms_)
       if (t.role == role && t.id == id && t.ppm == ppm) {
@@ -473,12 +568,13 @@ class Sum {
   }
   void unvalued() { ++unvalued_; }
   // An increment borrowed from another scheme: counted apart because its
-  // error is larger than that of the scheme's own rows.
-  void carried(const std::string &role, const std::string &id, double ppm) {
-    add(role + " (carried over)", id, ppm);
+  // error is larger than that of the scheme's own rows. The role names the
+  // position with " (carried over)".
+  void carried(std::string_view role, std::string_view id, double ppm) {
+    add(role, id, ppm);
     ++carried_;
   }
-  void outside(const std::string &why) {
+  void outside(std::string_view why) {
     if (std::find(outside_.begin(), outside_.end(), why) == outside_.end()) outside_.push_back(why);
   }
   double ppm() const {
@@ -501,10 +597,10 @@ class Sum {
   }
   bool in_scope() const { return outside_.empty(); }
   std::string method() const {
-    // Plain appends: every carbon's estimate writes one of these.
+    const std::string_view scheme = own_scheme_.empty() ? scheme_ : std::string_view(own_scheme_);
     std::string s;
-    s.reserve(scheme_.size() + base_label_.size() + 16 + 40 * terms_.size());
-    s += scheme_;
+    s.reserve(scheme.size() + base_label_.size() + 16 + 48 * terms_.size());
+    s += scheme;
     s += ": ";
     s += base_label_;
     for (const auto &t : terms_) {
@@ -517,41 +613,38 @@ class Sum {
       s += ' ';
       s += t.id;
       s += ' ';
-      s += fmt_ppm(t.ppm);
+      s += ppm_text(t.ppm);
     }
     s += " = ";
-    s += fmt_ppm(ppm());
+    s += ppm_text(ppm());
     if (unvalued_) s += fmt::format(" ({} delta position{} without a published value taken as 0)", unvalued_,
                                     unvalued_ == 1 ? "" : "s");
     if (!outside_.empty()) {
       s += " (outside the rule's tested scope: ";
-      for (std::size_t i = 0; i < outside_.size(); ++i) s += (i ? "; " : "") + outside_[i];
+      for (std::size_t i = 0; i < outside_.size(); ++i) {
+        if (i) s += "; ";
+        s += outside_[i];
+      }
       s += ")";
     }
-    return s;
-  }
-  static std::string fmt_ppm(double v) {
-    auto s = fixed_2(v);
-    // Table values carry one or two decimals; print them as written.
-    if (s.back() == '0') s.pop_back();
-    if (s == "-0.0") s = "0.0";
     return s;
   }
 
  private:
   struct Term {
-    std::string role, id;
+    std::string_view role, id;
     double ppm;
     int count;
   };
-  std::string scheme_;
+  std::string_view scheme_;
+  std::string own_scheme_;
   Spread spread_;
-  std::string base_label_;
+  std::string_view base_label_;
   double base_ppm_ = 0;
   std::vector<Term> terms_;
   int unvalued_ = 0;
   int carried_ = 0;
-  std::vector<std::string> outside_;
+  std::vector<std::string_view> outside_;
 };
 
 // ---------------------------------------------------------------------------
@@ -590,18 +683,16 @@ bool share_ring(const SmartsTarget &t, std::size_t a, std::size_t b) {
 // The applicable row of a scheme for substituent atom `x`: a match with its
 // first atom on x and no atom on the skeleton. Rows within a scheme are
 // mutually exclusive (tables/FORMAT.md); should two apply, the one with more
-// pattern atoms wins, then the earlier row.
+// pattern atoms wins, then the earlier row. `order` is largest_first(rows),
+// so the first row that matches is that one and the rest need no search.
 template <class Row, class Keep>
-const Row *find_row(const std::vector<Row> &rows, const SmartsTarget &t, std::size_t x,
-                    const std::vector<bool> &skeleton, Keep keep) {
-  const Row *best = nullptr;
-  std::size_t best_atoms = 0;
-  for (const auto &row : rows) {
-    if (!keep(row)) continue;
-    const auto n = match_at(row.smarts, t, x, skeleton);
-    if (n > best_atoms) best = &row, best_atoms = n;
+const Row *find_row(const std::vector<Row> &rows, const std::vector<std::uint32_t> &order, const SmartsTarget &t,
+                    std::size_t x, const std::vector<bool> &skeleton, Keep keep) {
+  for (const auto i : order) {
+    const Row &row = rows[i];
+    if (keep(row) && match_at(row.smarts, t, x, skeleton)) return &row;
   }
-  return best;
+  return nullptr;
 }
 
 // Atoms of one match of `p` anchored at x avoiding the skeleton.
@@ -637,8 +728,27 @@ class C13Increments final : public ShiftSource {
 
   bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
     if (q.nucleus != Nucleus::C13) return false;
-    std::string why;
-    auto r = evaluate(q, atom, &why);
+    // The lookups ask for the rule value of a carbon and, when they give
+    // way, the engine asks again: the answer is kept per atom of the query.
+    target(q);
+    if (atom >= answered_.size()) return estimate_anew(q, atom, out);
+    if (answered_[atom] < 0) answered_[atom] = estimate_anew(q, atom, answers_[atom]) ? 1 : 0;
+    if (answered_[atom] == 0) return false;
+    const Shift &s = answers_[atom];
+    out.ppm = s.ppm;
+    out.uncertainty_ppm = s.uncertainty_ppm;
+    out.source = s.source;
+    out.sphere = 0;
+    out.method = s.method;
+    out.references.clear();
+    return true;
+  }
+
+  // estimate() without the kept answers.
+  bool estimate_anew(const ShiftQuery &q, std::size_t atom, Shift &out) const {
+    // No reason asked for: it serves debugging, and the carbons a scheme
+    // passes on are many.
+    auto r = evaluate(q, atom, nullptr);
     if (!r) return false;
     for (const auto *row : solvent_rows_)
       if (match_at(row->smarts, target(q), atom)) r->add("solvent", row->id, row->ppm);
@@ -671,7 +781,7 @@ class C13Increments final : public ShiftSource {
       // parent (naphthalene, indole, ...) than by substituent increments
       // used outside their scope.
       std::string why_benzene;
-      auto rb = benzene(t, atom, &why_benzene);
+      auto rb = benzene(t, atom, why ? &why_benzene : nullptr);
       if (rb && rb->in_scope()) return rb;
       auto rh = hetero(t, atom, why);
       if (rh && (!rb || rh->in_scope())) return rh;
@@ -695,7 +805,7 @@ class C13Increments final : public ShiftSource {
       if (internal_heavy_halide(m, atom))
         if (auto r = sp3_parent(t, atom, nullptr)) return r;
       std::string why_additive;
-      if (auto r = sp3_additive(t, atom, &why_additive)) return r;
+      if (auto r = sp3_additive(t, atom, why ? &why_additive : nullptr)) return r;
       if (auto r = sp3_parent(t, atom, why)) return r;
       if (why) *why = why_additive + "; " + *why;
       return std::nullopt;
@@ -704,7 +814,7 @@ class C13Increments final : public ShiftSource {
   }
 
  private:
-  static Result fail(std::string *why, const std::string &text) {
+  static Result fail(std::string *why, std::string_view text) {
     if (why) *why = text;
     return std::nullopt;
   }
@@ -720,7 +830,10 @@ class C13Increments final : public ShiftSource {
       query_ = &q;
       hetero_matches_.clear();
       hetero_cover_.clear();
-      benzene_rows_.clear();
+      benzene_rings_.clear();
+      answered_.assign(t.molecule().heavy_atom_count(), -1);
+      sp3_chains_.clear();
+      answers_.assign(t.molecule().heavy_atom_count(), Shift{});
     }
     return t;
   }
@@ -751,20 +864,26 @@ class C13Increments final : public ShiftSource {
 
   // --- carbonyl and other sp/sp2 classes ---------------------------------
   Result class_value(const SmartsTarget &t, std::size_t k, std::string *) const {
-    const ClassRow *best = nullptr;
-    std::size_t best_atoms = 0;
-    for (const auto &row : tab_.classes) {
-      const auto n = match_at(row.smarts, t, k);
-      if (n > best_atoms) best = &row, best_atoms = n;
+    // The row with the largest match, then the earliest (largest_first).
+    const std::vector<std::uint32_t> *rows = &tab_.class_order;
+    const auto &f = t.facts(k);
+    const auto heavy = t.heavy_degree(k);
+    if (f.atomic_number == 6 && f.formal_charge == 0 && f.hydrogens + heavy <= 4) {
+      const auto &c = tab_.class_rows_by_carbon[f.aromatic ? 1 : 0][f.hydrogens][heavy];
+      if (c.packed == t.packed(k)) rows = &c.rows;
     }
+    const ClassRow *best = nullptr;
+    for (const auto i : *rows)
+      if (match_at(tab_.classes[i].smarts, t, k)) {
+        best = &tab_.classes[i];
+        break;
+      }
     if (!best) return std::nullopt;
     // tables/FORMAT.md: half of the larger distance from the typical value
     // to a limit of the usual range.
     const double half = 0.5 * std::max(best->typical_ppm - best->low_ppm, best->high_ppm - best->typical_ppm);
-    Sum s(fmt::format("typical value of the class '{}' (range {}-{})", best->name, Sum::fmt_ppm(best->low_ppm),
-                      Sum::fmt_ppm(best->high_ppm)),
-          Spread{std::max(half, 1.0), 0.0});
-    s.base(fmt::format("{} {}", best->id, Sum::fmt_ppm(best->typical_ppm)), best->typical_ppm);
+    Sum s(best->scheme, Spread{std::max(half, 1.0), 0.0});
+    s.base(best->base_label, best->typical_ppm);
     return s;
   }
 
@@ -772,72 +891,91 @@ class C13Increments final : public ShiftSource {
   Result benzene(const SmartsTarget &t, std::size_t k, std::string *why) const {
     const Molecule &m = t.molecule();
     if (!tab_.benzene_present) return fail(why, "no benzene table");
-    std::string last = "not in a benzene ring";
+    std::string last;  // why the last ring failed, when a reason is asked for
     for (const auto &ring : t.rings()) {
       if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
-      const auto ring_index = static_cast<std::size_t>(&ring - t.rings().data());
-      bool benzenoid = true;
-      for (std::size_t i = 0; i < 6 && benzenoid; ++i) {
-        const auto &at = m.atom(ring[i]);
-        benzenoid = at.atomic_number == 6 && at.aromatic && at.formal_charge == 0 &&
-                    m.bond(static_cast<std::size_t>(m.bond_between(ring[i], ring[(i + 1) % 6]))).order ==
-                        BondOrder::Aromatic;
-      }
-      if (!benzenoid) continue;
-      std::vector<bool> skeleton(m.atom_count(), false);
-      for (auto a : ring) skeleton[a] = true;
+      const auto &b = benzene_ring(t, static_cast<std::size_t>(&ring - t.rings().data()));
+      if (!b.benzenoid) continue;
       const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
       Sum s("benzene increments", kBenzeneSpread);
-      s.base(fmt::format("base {}", Sum::fmt_ppm(tab_.benzene_base.ppm)), tab_.benzene_base.ppm);
+      s.base(tab_.benzene_base_label, tab_.benzene_base.ppm);
       bool ok = true;
-      for (int ir = 0; ir < 6 && ok; ++ir) {
-        const auto r = ring[static_cast<std::size_t>(ir)];
-        const int rel = std::min(std::abs(ir - ik), 6 - std::abs(ir - ik));
-        for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
-          if (!ok || skeleton[x]) return;
-          const auto *row = benzene_row(t, ring_index, x, skeleton);
-          if (!row) {
-            ok = false;
-            last = fmt::format("benzene substituent at {} has no row", atom_label(m, x));
-            return;
-          }
-          const auto v = row->by_relation[static_cast<std::size_t>(rel)];
-          if (!v) {
-            ok = false;
-            last = fmt::format("row {} gives no {} value", row->id, kRingRelation[rel]);
-            return;
-          }
-          s.add(kRingRelation[rel], row->id, *v);
-          if (share_ring(t, r, x)) s.outside("substituent bonded to two ring atoms");
-        });
+      for (const auto &sub : b.substituents) {
+        const int rel = std::min(std::abs(sub.position - ik), 6 - std::abs(sub.position - ik));
+        if (!sub.row) {
+          ok = false;
+          if (why) last = fmt::format("benzene substituent at {} has no row", atom_label(m, sub.atom));
+          break;
+        }
+        const auto v = sub.row->by_relation[static_cast<std::size_t>(rel)];
+        if (!v) {
+          ok = false;
+          if (why) last = fmt::format("row {} gives no {} value", sub.row->id, kRingRelation[rel]);
+          break;
+        }
+        s.add(kRingRelation[rel], sub.row->id, *v);
+        if (sub.bridging) s.outside("substituent bonded to two ring atoms");
       }
       if (ok) {
-        const auto crowd = crowded_donor(t, k, ring, skeleton);
+        const auto crowd = crowded_donor(t, k, ring, b.skeleton);
         if (crowd == Crowding::HeavyHalogen) {
           ok = false;
-          last = "O- or N-substituted ring carbon next to Br or I";
+          if (why) last = "O- or N-substituted ring carbon next to Br or I";
         } else if (crowd == Crowding::BothOrtho) {
           s.outside("O- or N-substituted ring carbon between two substituted ring carbons");
         }
       }
       if (ok) return s;
     }
-    return fail(why, last);
+    return fail(why, last.empty() ? std::string_view("not in a benzene ring") : std::string_view(last));
   }
 
-  // The benzene row of substituent x on smallest ring `ring_index` (the ring
-  // is the skeleton). The six carbons of a ring ask for the same rows, so
-  // each is looked up once per molecule.
-  const BenzeneRow *benzene_row(const SmartsTarget &t, std::size_t ring_index, std::size_t x,
-                                const std::vector<bool> &skeleton) const {
-    const auto key = static_cast<std::uint64_t>(ring_index) * t.molecule().atom_count() + x;
-    const auto it = benzene_rows_.find(key);
-    if (it != benzene_rows_.end()) return it->second;
-    const auto *row = fused_six(t, ring_index, x) && methyl_row_
-                          ? methyl_row_
-                          : find_row(tab_.benzene, t, x, skeleton, [](const BenzeneRow &) { return true; });
-    benzene_rows_.emplace(key, row);
-    return row;
+  // A six-membered smallest ring as benzene() sees it: whether it is a
+  // benzene ring (six neutral aromatic carbons joined by aromatic bonds)
+  // and, if so, its substituents in ring order with their benzene rows.
+  // The six carbons of a ring ask the same, so it is found once per
+  // molecule.
+  struct BenzeneRing {
+    bool benzenoid = false;
+    std::vector<bool> skeleton;  // the ring's atoms
+    struct Substituent {
+      int position;  // in the ring's atom list
+      std::size_t atom;
+      const BenzeneRow *row;  // null: no row
+      bool bridging;          // shares a smallest ring with its ring atom
+    };
+    std::vector<Substituent> substituents;
+  };
+  const BenzeneRing &benzene_ring(const SmartsTarget &t, std::size_t ring_index) const {
+    if (benzene_rings_.empty()) benzene_rings_.resize(t.rings().size());
+    auto &b = benzene_rings_[ring_index];
+    if (b) return *b;
+    b = std::make_unique<BenzeneRing>();
+    const Molecule &m = t.molecule();
+    const auto &ring = t.rings()[ring_index];
+    bool benzenoid = ring.size() == 6;
+    for (std::size_t i = 0; i < ring.size() && benzenoid; ++i) {
+      const auto &at = m.atom(ring[i]);
+      benzenoid = at.atomic_number == 6 && at.aromatic && at.formal_charge == 0 &&
+                  m.bond(static_cast<std::size_t>(m.bond_between(ring[i], ring[(i + 1) % 6]))).order ==
+                      BondOrder::Aromatic;
+    }
+    if (!benzenoid) return *b;
+    b->benzenoid = true;
+    b->skeleton.assign(m.atom_count(), false);
+    for (auto a : ring) b->skeleton[a] = true;
+    for (int ir = 0; ir < 6; ++ir) {
+      const auto r = ring[static_cast<std::size_t>(ir)];
+      for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
+        if (b->skeleton[x]) return;
+        const auto *row = fused_six(t, ring_index, x) && methyl_row_
+                              ? methyl_row_
+                              : find_row(tab_.benzene, tab_.benzene_order, t, x, b->skeleton,
+                                         [](const BenzeneRow &) { return true; });
+        b->substituents.push_back(BenzeneRing::Substituent{ir, x, row, share_ring(t, r, x)});
+      });
+    }
+    return *b;
   }
 
   // x is an sp3 carbon of a saturated six-membered ring fused to benzene
@@ -911,7 +1049,7 @@ class C13Increments final : public ShiftSource {
   // --- heteroaromatic rings ----------------------------------------------
   Result hetero(const SmartsTarget &t, std::size_t k, std::string *why) const {
     const Molecule &m = t.molecule();
-    std::string last = "no heteroaromatic parent ring matches";
+    std::string last;  // why the last parent failed, when a reason is asked for
     for (std::size_t ri = 0; ri < tab_.hetero.size(); ++ri) {
       const auto &ring = tab_.hetero[ri];
       if (!hetero_cover(t, ri)[k]) continue;  // no mapping contains k
@@ -952,32 +1090,32 @@ class C13Increments final : public ShiftSource {
         for (const auto &b : ring.bases)
           if (std::find(b.atoms.begin(), b.atoms.end(), index_of(maps[0], k)) != b.atoms.end()) base = &b;
         if (!base) {
-          last = fmt::format("{} gives no base value for this position", ring.name);
+          if (why) last = fmt::format("{} gives no base value for this position", ring.name);
           continue;
         }
         // Bonds between k and each parent atom, counted inside the parent:
         // the ring relation (ipso, ortho, meta, para) of carried-over
         // benzene increments.
-        std::map<std::size_t, int> ring_dist;
+        // -2 marks atoms outside the parent, -1 parent atoms not reached yet.
+        std::vector<int> ring_dist(m.atom_count(), -2);
         {
           for (auto a : entry.first) ring_dist[a] = -1;
           ring_dist[k] = 0;
           std::vector<std::size_t> queue{k};
           for (std::size_t i = 0; i < queue.size(); ++i)
             for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
-              const auto it = ring_dist.find(z);
-              if (it != ring_dist.end() && it->second < 0) it->second = ring_dist[queue[i]] + 1, queue.push_back(z);
+              if (ring_dist[z] == -1) ring_dist[z] = ring_dist[queue[i]] + 1, queue.push_back(z);
             });
         }
         bool ring_has_nitrogen = false;
         for (auto a : entry.first) ring_has_nitrogen = ring_has_nitrogen || m.atom(a).atomic_number == 7;
-        Sum s(fmt::format("heteroaromatic ring increments ({})", ring.name), kHeteroSpread);
-        s.base(fmt::format("base {} {}", base->id, Sum::fmt_ppm(base->ppm)), base->ppm);
+        Sum s(ring.scheme, kHeteroSpread);
+        s.base(base->label, base->ppm);
         bool ok = true;
         for (auto r : entry.first) {
           if (m.atom(r).formal_charge != 0) {
             ok = false;
-            last = "charged ring atom (protonated ring or N-oxide)";
+            if (why) last = "charged ring atom (protonated ring or N-oxide)";
             break;
           }
           for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
@@ -1009,11 +1147,13 @@ class C13Increments final : public ShiftSource {
             }
             // No row of the ring's own: the benzene increment for the same
             // ring relation, carried over (tables/FORMAT.md).
-            const auto *row = find_row(tab_.benzene, t, x, skeleton, [](const BenzeneRow &) { return true; });
+            const auto *row =
+                find_row(tab_.benzene, tab_.benzene_order, t, x, skeleton, [](const BenzeneRow &) { return true; });
             const int rel = ring_dist[r];
             if (!row || rel < 0) {
               ok = false;
-              last = fmt::format("{} ring substituent at {} has no increment row", ring.name, atom_label(m, x));
+              if (why)
+                last = fmt::format("{} ring substituent at {} has no increment row", ring.name, atom_label(m, x));
               return;
             }
             if (rel > 3) {
@@ -1033,22 +1173,24 @@ class C13Increments final : public ShiftSource {
             if ((m.atom(x).atomic_number == 8 || m.atom(x).atomic_number == 16) && m.hydrogen_count(x) == 1 &&
                 ring_has_nitrogen) {
               ok = false;
-              last = fmt::format("OH or SH at {} on a ring with a ring nitrogen (tautomers)", atom_label(m, x));
+              if (why)
+                last = fmt::format("OH or SH at {} on a ring with a ring nitrogen (tautomers)", atom_label(m, x));
               return;
             }
             if (rel == 0 && !methyl && next_to_ring_heteroatom(m, r, skeleton)) {
               ok = false;
-              last = fmt::format("no {} increment row for the substituent at {} next to a ring heteroatom", ring.name,
-                                 atom_label(m, x));
+              if (why)
+                last = fmt::format("no {} increment row for the substituent at {} next to a ring heteroatom",
+                                   ring.name, atom_label(m, x));
               return;
             }
             const auto v = row->by_relation[static_cast<std::size_t>(rel)];
             if (!v) {
               ok = false;
-              last = fmt::format("row {} gives no {} value", row->id, kRingRelation[rel]);
+              if (why) last = fmt::format("row {} gives no {} value", row->id, kRingRelation[rel]);
               return;
             }
-            s.carried(kRingRelation[rel], row->id, *v);
+            s.carried(kCarriedRelation[rel], row->id, *v);
             if (share_ring(t, r, x)) s.outside("substituent bonded to two ring atoms");
           });
           if (!ok) break;
@@ -1056,7 +1198,7 @@ class C13Increments final : public ShiftSource {
         if (ok) return s;
       }
     }
-    return fail(why, last);
+    return fail(why, last.empty() ? std::string_view("no heteroaromatic parent ring matches") : std::string_view(last));
   }
 
   // --- alkenes and alkynes ------------------------------------------------
@@ -1074,7 +1216,7 @@ class C13Increments final : public ShiftSource {
     std::vector<bool> skeleton(m.atom_count(), false);
     skeleton[k] = skeleton[p] = true;
     Sum s(alkyne ? "alkyne increments" : "alkene increments", alkyne ? kAlkyneSpread : kAlkeneSpread);
-    s.base(fmt::format("base {}", Sum::fmt_ppm(tab.base.ppm)), tab.base.ppm);
+    s.base(tab.base_label, tab.base.ppm);
     const int max_pos = alkyne ? 4 : 3;
     std::array<std::vector<std::size_t>, 2> subs;
     bool ring = false;
@@ -1099,7 +1241,7 @@ class C13Increments final : public ShiftSource {
               break;
             }
             const Opt v = side == 0 ? row->ipso : row->partner;
-            if (v) s.add(fmt::format("{} {}", role, kPositionName[d[y]]), row->id, *v);
+            if (v) s.add(kEneChainRole[side][d[y]], row->id, *v);
             else s.unvalued();
             if (d[y] == max_pos) continue;
             for_heavy_neighbours(m, y, [&](std::size_t z, BondOrder) {
@@ -1113,7 +1255,7 @@ class C13Increments final : public ShiftSource {
                 const auto &row2 = tab.alkyl[static_cast<std::size_t>(d[z])];
                 if (row2) {
                   const Opt v2 = side == 0 ? row2->ipso : row2->partner;
-                  if (v2) s.add(fmt::format("{} {}", role, kPositionName[d[z]]), row2->id, *v2);
+                  if (v2) s.add(kEneChainRole[side][d[z]], row2->id, *v2);
                 }
                 return;
               }
@@ -1123,7 +1265,8 @@ class C13Increments final : public ShiftSource {
           }
           return;
         }
-        const auto *row = find_row(tab.substituents, t, x, skeleton, [](const EneRow &) { return true; });
+        const auto *row =
+            find_row(tab.substituents, tab.substituent_order, t, x, skeleton, [](const EneRow &) { return true; });
         if (!row) {
           problem = fmt::format("{} substituent at {} has no row", what, atom_label(m, x));
           return;
@@ -1219,28 +1362,48 @@ class C13Increments final : public ShiftSource {
     return count;
   }
 
+  // Per heavy atom of the molecule, the number of its chain (the sp3
+  // carbons joined through sp3 carbons), -1 for other atoms; found once per
+  // molecule rather than walked from every sp3 carbon.
+  const std::vector<std::int32_t> &sp3_chains(const SmartsTarget &t) const {
+    if (!sp3_chains_.empty()) return sp3_chains_;
+    const Molecule &m = t.molecule();
+    sp3_chains_.assign(m.heavy_atom_count(), -1);
+    std::int32_t chains = 0;
+    std::vector<std::size_t> queue;
+    for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) {
+      if (sp3_chains_[a] >= 0 || !is_sp3_carbon(m, a)) continue;
+      sp3_chains_[a] = chains;
+      queue.assign(1, a);
+      for (std::size_t i = 0; i < queue.size(); ++i)
+        for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
+          if (sp3_chains_[z] < 0 && is_sp3_carbon(m, z)) sp3_chains_[z] = chains, queue.push_back(z);
+        });
+      ++chains;
+    }
+    return sp3_chains_;
+  }
+
   // --- sp3: additive scheme -----------------------------------------------
   Result sp3_additive(const SmartsTarget &t, std::size_t k, std::string *why) const {
     const Molecule &m = t.molecule();
     if (!tab_.gp_base.set) return fail(why, "no Grant-Paul parameters");
     const std::size_t n = m.heavy_atom_count();
-    const auto dist = heavy_distances(m, k, static_cast<int>(n));
+    // Bond distances from k, needed for chain groups only.
+    std::vector<int> dist;
+    auto distance = [&](std::size_t z) {
+      if (dist.empty()) dist = heavy_distances(m, k, static_cast<int>(n));
+      return dist[z];
+    };
     std::vector<bool> skeleton(m.atom_count(), false);  // walked sp3 carbons
     std::vector<bool> taken(n, false);                  // walked, or part of a substituent
     std::array<std::vector<std::size_t>, 6> bucket;
     // sp3 carbons connected to k through sp3 carbons are chain positions; a
     // group branch never swallows them (it would in a ring).
-    std::vector<bool> chain(n, false);
-    {
-      std::vector<std::size_t> queue{k};
-      chain[k] = true;
-      for (std::size_t i = 0; i < queue.size(); ++i)
-        for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
-          if (!chain[z] && is_sp3_carbon(m, z)) chain[z] = true, queue.push_back(z);
-        });
-    }
+    const auto &chain_of = sp3_chains(t);
+    const auto chain_k = chain_of[k];
     Sum s("sp3 additive increments (Grant-Paul)", kAdditiveSpread);
-    s.base(fmt::format("base {} {}", tab_.gp_base.id, Sum::fmt_ppm(tab_.gp_base.ppm)), tab_.gp_base.ppm);
+    s.base(tab_.gp_base_label, tab_.gp_base.ppm);
     skeleton[k] = taken[k] = true;
     bucket[0].push_back(k);
     const bool k_in_ring = t.ring_count(k) > 0;
@@ -1266,7 +1429,8 @@ class C13Increments final : public ShiftSource {
             return;
           }
           if (dx > 4) return;  // beyond delta nothing counts
-          const auto *row = find_row(tab_.sp3, t, x, skeleton, [](const Sp3Row &r) { return r.additive; });
+          const auto *row =
+              find_row(tab_.sp3, tab_.sp3_order, t, x, skeleton, [](const Sp3Row &r) { return r.additive; });
           if (!row) {
             problem = fmt::format("no additive row for the substituent at {}", atom_label(m, x));
             return;
@@ -1284,7 +1448,7 @@ class C13Increments final : public ShiftSource {
             taken[x] = true;
             for (std::size_t i = 0; i < queue.size(); ++i)
               for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
-                if (!taken[z] && !skeleton[z] && !chain[z]) taken[z] = true, queue.push_back(z);
+                if (!taken[z] && !skeleton[z] && chain_of[z] != chain_k) taken[z] = true, queue.push_back(z);
               });
             return;
           }
@@ -1296,8 +1460,8 @@ class C13Increments final : public ShiftSource {
             for_heavy_neighbours(m, a, [&](std::size_t z, BondOrder) {
               if (taken[z] || !problem.empty()) return;
               if (is_sp3_carbon(m, z)) {
-                chain_carbon(z, dist[z], std::max(dist[z], dx));
-              } else if (dist[z] >= 0 && dist[z] <= 4) {
+                chain_carbon(z, distance(z), std::max(distance(z), dx));
+              } else if (distance(z) >= 0 && distance(z) <= 4) {
                 problem = fmt::format("{} beyond the group {} is not an sp3 carbon", atom_label(m, z), row->id);
               }
             });
@@ -1364,8 +1528,9 @@ class C13Increments final : public ShiftSource {
     };
     const auto *base = sized(rt.bases, [](const RingRow &) { return true; });
     if (!base) return fail(why, fmt::format("no base value for a {}-membered ring", n));
-    Sum s(fmt::format("sp3 ring increments ({}-membered ring)", n), kRingSpread);
-    s.base(fmt::format("base {} {}", base->id, Sum::fmt_ppm(*base->by_distance[0])), *base->by_distance[0]);
+    Sum s({}, kRingSpread);
+    s.scheme_text("sp3 ring increments (" + std::to_string(n) + "-membered ring)");
+    s.base(base->base_label, *base->by_distance[0]);
     std::vector<bool> skeleton(m.atom_count(), false), taken(m.atom_count(), false);
     for (auto a : *ring) skeleton[a] = taken[a] = true;
     const auto ik = static_cast<int>(std::find(ring->begin(), ring->end(), k) - ring->begin());
@@ -1381,7 +1546,7 @@ class C13Increments final : public ShiftSource {
         for_heavy_neighbours(m, a, [&](std::size_t x, BondOrder) { taken[x] = true; });
       const int d = ring_distance(i);
       const Opt v = d <= 3 ? row->by_distance[static_cast<std::size_t>(d - 1)] : std::nullopt;
-      if (v) s.add(fmt::format("ring member {}", position[d - 1]), row->id, *v);
+      if (v) s.add(kRingMemberRole[d - 1], row->id, *v);
       else s.unvalued();
     }
     // Two groups on k, one of them bonded through a heteroatom (tertiary
@@ -1428,7 +1593,9 @@ class C13Increments final : public ShiftSource {
           return;
         }
         const auto *row =
-            bridge ? bridge : find_row(rt.substituents, t, x, skeleton, [](const RingRow &) { return true; });
+            bridge ? bridge
+                   : find_row(rt.substituents, rt.substituent_order, t, x, skeleton,
+                              [](const RingRow &) { return true; });
         if (!row) {
           if (d <= 2) problem = fmt::format("ring substituent at {} has no row", atom_label(m, x));
           else s.unvalued();
@@ -1443,7 +1610,7 @@ class C13Increments final : public ShiftSource {
         // where the group closes another ring (fused, bridged, spiro), they
         // are carried over.
         if (m.atom(r).atomic_number != 6 || (t.ring_count(x) > 0 && t.ring_count(r) > 1 && share_ring_other(t, r, x, *ring)))
-          s.carried(position[d], row->id, *v);
+          s.carried(kCarriedPosition[d], row->id, *v);
         else
           s.add(position[d], row->id, *v);
       });
@@ -1564,7 +1731,7 @@ class C13Increments final : public ShiftSource {
       return c;
     };
     Sum s("sp3 parent-alkane increments (Grant-Paul parent)", kParentSpread);
-    s.base(fmt::format("base {} {}", tab_.gp_base.id, Sum::fmt_ppm(tab_.gp_base.ppm)), tab_.gp_base.ppm);
+    s.base(tab_.gp_base_label, tab_.gp_base.ppm);
     bool ring = false;
     for (auto c : order) {
       if (c == k || d[c] > 5) continue;
@@ -1587,7 +1754,7 @@ class C13Increments final : public ShiftSource {
       const bool internal = carbon_neighbours(c) >= 2;
       for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) {
         if (parent[x] || !problem.empty()) return;
-        const auto *row = find_row(tab_.sp3, t, x, parent, [](const Sp3Row &r) { return !r.additive; });
+        const auto *row = find_row(tab_.sp3, tab_.sp3_order, t, x, parent, [](const Sp3Row &r) { return !r.additive; });
         if (!row) {
           if (pos <= 3) problem = fmt::format("no parent row for the substituent at {}", atom_label(m, x));
           else s.unvalued();
@@ -1605,8 +1772,7 @@ class C13Increments final : public ShiftSource {
           else s.unvalued();
           return;
         }
-        s.add(fmt::format("{}{}", kPositionName[pos], pos <= 2 ? (internal ? " (internal)" : " (terminal)") : ""),
-              row->id, *v);
+        s.add(kParentRole[pos][internal ? 1 : 0], row->id, *v);
         if (pos == 1) ++groups_on_k, hetero_on_k += m.atom(x).atomic_number != 6;
       });
     }
@@ -1627,7 +1793,10 @@ class C13Increments final : public ShiftSource {
   mutable const SmartsTarget *target_ = nullptr;
   mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_matches_;  // per hetero ring
   mutable std::vector<std::vector<bool>> hetero_cover_;                         // per hetero ring
-  mutable std::unordered_map<std::uint64_t, const BenzeneRow *> benzene_rows_;  // see benzene_row()
+  mutable std::vector<std::unique_ptr<BenzeneRing>> benzene_rings_;  // per smallest ring, see benzene_ring()
+  mutable std::vector<std::int32_t> sp3_chains_;  // see sp3_chains()
+  mutable std::vector<std::int8_t> answered_;  // per atom: -1 not asked yet, 0 no answer, 1 in answers_
+  mutable std::vector<Shift> answers_;
 };
 
 }  // namespace
@@ -1644,6 +1813,26 @@ std::shared_ptr<const C13IncrementTables> parse_c13_increment_tables(const Table
   read_classes(tables, "increments/c13_sp3_class.tsv", out->tables);
   read_ring(tables, out->tables);
   read_solvent(tables, out->tables);
+  auto &t = out->tables;
+  t.sp3_order = largest_first(t.sp3);
+  t.alkene.substituent_order = largest_first(t.alkene.substituents);
+  t.alkyne.substituent_order = largest_first(t.alkyne.substituents);
+  t.benzene_order = largest_first(t.benzene);
+  t.class_order = largest_first(t.classes);
+  for (std::uint32_t aromatic = 0; aromatic < 2; ++aromatic)
+    for (std::uint32_t h = 0; h <= 4; ++h)
+      for (std::uint32_t d = 0; h + d <= 4; ++d) {
+        SmartsTarget::AtomFacts carbon;
+        carbon.atomic_number = 6;
+        carbon.aromatic = aromatic != 0;
+        carbon.hydrogens = h;
+        carbon.degree = h + d;
+        auto &c = t.class_rows_by_carbon[aromatic][h][d];
+        c.packed = SmartsTarget::pack(carbon, static_cast<std::uint8_t>(d));
+        for (const auto i : t.class_order)
+          if (t.classes[i].smarts.root_may_match(c.packed)) c.rows.push_back(i);
+      }
+  t.ring.substituent_order = largest_first(t.ring.substituents);
   return out;
 }
 
