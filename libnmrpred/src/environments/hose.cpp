@@ -1428,13 +1428,26 @@ std::vector<std::vector<std::string>> hose_spheres_all(const Molecule &molecule,
 
 namespace detail {
 
+namespace {
+
+// Per topological class, 1 if any atom flagged in `atoms` (shorter means
+// false) belongs to it: the HOSE engine runs once per class.
+std::vector<char> flagged_classes(const AtomClasses &classes, const std::vector<bool> &atoms) {
+  std::uint32_t max_class = 0;
+  for (auto c : classes.topological) max_class = std::max(max_class, c);
+  std::vector<char> flagged(static_cast<std::size_t>(max_class) + 1, 0);
+  for (std::size_t a = 0; a < atoms.size() && a < classes.topological.size(); ++a)
+    if (atoms[a]) flagged[classes.topological[a]] = 1;
+  return flagged;
+}
+
+}  // namespace
+
 std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &classes, const std::vector<bool> &wanted) {
   check_request(molecule, classes, kMaxHoseSpheres);
   std::vector<HoseKeys> keys(molecule.atom_count(), HoseKeys{});
   if (keys.empty()) return keys;
-  std::uint32_t max_class = 0;
-  for (auto c : classes.topological) max_class = std::max(max_class, c);
-  std::vector<char> needed(static_cast<std::size_t>(max_class) + 1, 0);
+  const std::vector<char> needed = flagged_classes(classes, wanted);
   // A terminal hydrogen's sphere k is its heavy atom's sphere k - 1: when
   // only such hydrogens are wanted (1H shifts on their own), the heavy atoms'
   // last sphere, the costliest, is never read and, codes being prefix-stable,
@@ -1443,7 +1456,6 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
   bool only_terminal_h = true;
   for (std::size_t a = 0; a < wanted.size() && a < keys.size(); ++a) {
     if (!wanted[a]) continue;
-    needed[classes.topological[a]] = 1;
     const std::int64_t parent = molecule.attached_to(a);
     only_terminal_h = only_terminal_h && a >= heavy && molecule.degree(a) == 1 && parent >= 0 &&
                       static_cast<std::size_t>(parent) < heavy;
@@ -1469,11 +1481,7 @@ std::vector<std::string> hose_codes_and_keys(const Molecule &molecule, const Ato
   if (codes.empty()) return codes;
   // An atom takes its result from its class's first atom: a class is keyed
   // whole or not at all.
-  std::uint32_t max_class = 0;
-  for (auto c : classes.topological) max_class = std::max(max_class, c);
-  std::vector<char> class_keyed(static_cast<std::size_t>(max_class) + 1, 0);
-  for (std::size_t a = 0; a < count && a < keyed.size(); ++a)
-    if (keyed[a]) class_keyed[classes.topological[a]] = 1;
+  const std::vector<char> class_keyed = flagged_classes(classes, keyed);
   auto is_keyed = [&](std::size_t a) { return class_keyed[classes.topological[a]] != 0; };
   // The keys need six spheres (a terminal hydrogen's, five of its heavy
   // atom's); the codes, being prefix-stable, are read from the same runs,

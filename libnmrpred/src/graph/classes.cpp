@@ -25,6 +25,7 @@
 #include <fmt/format.h>
 
 #include "graph/partition.hpp"
+#include "graph/union_find.hpp"
 
 namespace nmrpred {
 
@@ -40,19 +41,7 @@ using detail::TetraConfig;
 constexpr long kNodesPerSearch = 20000;
 constexpr long kNodesPerMolecule = 400000;
 
-struct UnionFind {
-  std::vector<std::uint32_t> parent;
-  explicit UnionFind(std::uint32_t n) : parent(n) { std::iota(parent.begin(), parent.end(), 0u); }
-  std::uint32_t find(std::uint32_t a) {
-    while (parent[a] != a) a = parent[a] = parent[parent[a]];
-    return a;
-  }
-  void unite(std::uint32_t a, std::uint32_t b) {
-    a = find(a);
-    b = find(b);
-    if (a != b) parent[std::max(a, b)] = std::min(a, b);
-  }
-};
+using detail::UnionFind;
 
 std::uint8_t order_code(BondOrder o) { return static_cast<std::uint8_t>(o); }
 

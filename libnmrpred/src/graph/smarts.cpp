@@ -1,6 +1,7 @@
 // SMARTS subset for the rule tables; semantics in smarts.hpp.
 
 #include "graph/smarts.hpp"
+#include "graph/union_find.hpp"
 
 #include <nmrpred/error.hpp>
 
@@ -656,21 +657,17 @@ void compute_ring_system_needs(SmartsImpl &p) {
     }
     return static_cast<bool>(seen[p.bonds[bond].b]);
   };
-  std::vector<std::uint32_t> system(n);
-  std::iota(system.begin(), system.end(), 0u);
-  std::function<std::uint32_t(std::uint32_t)> find = [&](std::uint32_t x) {
-    return system[x] == x ? x : system[x] = find(system[x]);
-  };
+  UnionFind system(static_cast<std::uint32_t>(n));
   std::vector<bool> in_ring(n, false);
   for (std::uint32_t b = 0; b < p.bonds.size(); ++b)
     if (on_cycle(b)) {
       in_ring[p.bonds[b].a] = in_ring[p.bonds[b].b] = true;
-      system[find(p.bonds[b].a)] = find(p.bonds[b].b);
+      system.unite(p.bonds[b].a, p.bonds[b].b);
     }
   std::map<std::uint32_t, std::map<std::uint32_t, std::uint32_t>> counts;  // system root -> needs
   for (std::uint32_t q = 0; q < n; ++q) {
     if (!in_ring[q]) continue;
-    auto &count = counts[find(q)];
+    auto &count = counts[system.find(q)];
     const auto &f = p.filters[q];
     if (f.never || f.atomic_number < 0 || f.atomic_number >= 128) continue;
     ++count[static_cast<std::uint32_t>(f.atomic_number) * 4 + static_cast<std::uint32_t>(f.aromatic < 0 ? 2 : f.aromatic)];
@@ -972,17 +969,13 @@ void SmartsTarget::perceive_ring_systems() const {
   systems_done_ = true;
   perceive_rings();
   const std::size_t n = m_.heavy_atom_count();
-  std::vector<std::uint32_t> root(n);
-  std::iota(root.begin(), root.end(), 0u);
-  std::function<std::uint32_t(std::uint32_t)> find = [&](std::uint32_t x) {
-    return root[x] == x ? x : root[x] = find(root[x]);
-  };
+  UnionFind root(static_cast<std::uint32_t>(n));
   for (std::uint32_t b = 0; b < m_.bond_count(); ++b)
-    if (bond_rings_[b] > 0) root[find(m_.bond(b).begin)] = find(m_.bond(b).end);
+    if (bond_rings_[b] > 0) root.unite(m_.bond(b).begin, m_.bond(b).end);
   std::vector<std::int32_t> number(n, -1);
   for (std::uint32_t a = 0; a < n; ++a) {
     if (atom_rings_[a] == 0) continue;
-    auto &sys = number[find(a)];
+    auto &sys = number[root.find(a)];
     if (sys < 0) {
       sys = static_cast<std::int32_t>(system_counts_.size() / kSystemCountSize);
       system_counts_.resize(system_counts_.size() + kSystemCountSize, 0);
@@ -1034,15 +1027,11 @@ void SmartsTarget::perceive_rings() const {
     }
   if (edges.empty()) return;
   // Cycle rank = E - V + components over the core.
-  std::vector<std::uint32_t> comp(n);
-  std::iota(comp.begin(), comp.end(), 0u);
-  std::function<std::uint32_t(std::uint32_t)> find = [&](std::uint32_t x) {
-    return comp[x] == x ? x : comp[x] = find(comp[x]);
-  };
+  UnionFind comp(static_cast<std::uint32_t>(n));
   std::size_t vertices = 0, components = 0;
   for (std::uint32_t a = 0; a < n; ++a) vertices += core[a];
-  for (auto b : edges) comp[find(m.bond(b).begin)] = find(m.bond(b).end);
-  for (std::uint32_t a = 0; a < n; ++a) components += core[a] && find(a) == a;
+  for (auto b : edges) comp.unite(m.bond(b).begin, m.bond(b).end);
+  for (std::uint32_t a = 0; a < n; ++a) components += core[a] && comp.find(a) == a;
   const std::size_t rank = edges.size() + components - vertices;
   const std::size_t words = (edges.size() + 63) / 64;
   // Bridges of the core (bonds on no cycle, such as a chain between two

@@ -220,11 +220,9 @@ class ReferenceLookup final : public ShiftSource {
           return true;
         }
       }
-      if (!user_ && q.nucleus == Nucleus::H1 && increments_) {
-        query_increments();
-        if (std::isfinite(inc_q)) return false;
-      }
-      if (k <= kC13WeakSphere && !user_ && q.nucleus == Nucleus::C13 && increments_) {
+      // An uncorrectable built-in match gives way to the query's own rule
+      // (1H at any sphere, 13C up to kC13WeakSphere).
+      if (!user_ && increments_ && (q.nucleus == Nucleus::H1 || k <= kC13WeakSphere)) {
         query_increments();
         if (std::isfinite(inc_q)) return false;
       }
@@ -361,8 +359,7 @@ const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking) const {
   if (keyed_.empty()) {
     keyed_.assign(molecule_.atom_count(), false);
     for (std::size_t a = 0; a < molecule_.atom_count(); ++a)
-      keyed_[a] = asking == Nucleus::C13 ? molecule_.atom(a).atomic_number == 6
-                                         : molecule_.is_hydrogen(a) && proton_kind(molecule_, a) == ProtonKind::CarbonBound;
+      keyed_[a] = lookup_keyed(molecule_, a) && (molecule_.atom(a).atomic_number == 6) == (asking == Nucleus::C13);
     keys_ = hose_keys(molecule_, classes_, keyed_);
   }
   if (!keyed_.at(atom)) {
