@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <utility>
 
 #include "shifts/increments_h1.hpp"
 #include "shifts/sources.hpp"
@@ -93,21 +94,21 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     std::vector<bool> keyed(m.atom_count(), false);
     for (std::size_t a = 0; a < m.atom_count(); ++a) keyed[a] = m.atom(a).atomic_number == 6 || m.is_hydrogen(a);
     const auto all_keys = hose_keys(m, classes, keyed);
-    std::uint64_t last_scheme = 0;
-    auto increment_of = [&](int nucleus, std::size_t centre) {
+    // The 13C rule value of `centre` and the scheme it comes from (0: none).
+    auto c13_rule = [&](std::size_t centre) -> std::pair<double, std::uint64_t> {
       Shift s;
-      last_scheme = 0;
-      if (nucleus == kIndexC13 && increments->estimate(q, centre, s)) {
-        last_scheme = scheme_key(s.method);
-        return s.ppm;
-      }
-      if (nucleus == kIndexH1 && h1_increments->estimate(qh, centre, s) && !s.exchangeable) return s.ppm;
-      return std::numeric_limits<double>::quiet_NaN();
+      if (increments->estimate(q, centre, s)) return {s.ppm, scheme_key(s.method)};
+      return {nan, 0};
     };
-    auto add = [&](int nucleus, std::size_t centre, double value, double increment, double half) {
+    auto h1_rule = [&](std::size_t centre) {
+      Shift s;
+      return h1_increments->estimate(qh, centre, s) && !s.exchangeable ? s.ppm : nan;
+    };
+    auto add = [&](int nucleus, std::size_t centre, double value, double increment, double half,
+                   std::uint64_t scheme = 0) {
       const auto &keys = all_keys[centre];
       for (int k = 1; k <= kMaxHoseSpheres; ++k)
-        raw[origin][nucleus][k][keys[static_cast<std::size_t>(k)]].push_back({ci, value, increment, half, last_scheme});
+        raw[origin][nucleus][k][keys[static_cast<std::size_t>(k)]].push_back({ci, value, increment, half, scheme});
     };
     auto check_atom = [&](std::uint32_t a) {
       if (a >= m.heavy_atom_count())
@@ -118,8 +119,9 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
         check_atom(as.atoms[k]);
         if (m.atom(as.atoms[k]).atomic_number != 6)
           throw TablesError(fmt::format("{}:{}: reference '{}': 13C shift on atom {}, which is not carbon", c.file, c.line, c.id, as.atoms[k]));
-        const double inc = increment_of(kIndexC13, as.atoms[k]);
-        add(kIndexC13, as.atoms[k], as.values.size() == as.atoms.size() ? as.values[k] : as.values[0], inc, nan);
+        const auto [inc, scheme] = c13_rule(as.atoms[k]);
+        add(kIndexC13, as.atoms[k], as.values.size() == as.atoms.size() ? as.values[k] : as.values[0], inc, nan,
+            scheme);
       }
     for (const auto &as : c.h1)
       for (std::size_t k = 0; k < as.atoms.size(); ++k) {
@@ -134,8 +136,8 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
           // A pair on one atom: both protons share the topological code. The
           // lower value goes with the proton the rules put lower, so that the
           // residuals of a terminal =CH2 compare like with like.
-          double inc0 = increment_of(kIndexH1, hs[0]);
-          double inc1 = hs.size() > 1 ? increment_of(kIndexH1, hs[1]) : inc0;
+          double inc0 = h1_rule(hs[0]);
+          double inc1 = hs.size() > 1 ? h1_rule(hs[1]) : inc0;
           if (inc1 < inc0) std::swap(inc0, inc1);
           const double lo = std::min(as.values[0], as.values[1]), hi = std::max(as.values[0], as.values[1]);
           const double half = diastereotopic ? 0.5 * (hi - lo) : nan;
@@ -143,7 +145,7 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
           add(kIndexH1, hs[0], hi, inc1, half);
         } else {
           add(kIndexH1, hs[0], as.values.size() == as.atoms.size() ? as.values[k] : as.values[0],
-              increment_of(kIndexH1, hs[0]), diastereotopic ? 0.0 : nan);
+              h1_rule(hs[0]), diastereotopic ? 0.0 : nan);
         }
       }
   }
