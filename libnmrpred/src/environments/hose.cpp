@@ -143,7 +143,7 @@ inline char *put_token(char *p, std::uint32_t token) noexcept {
 }
 
 // Text of the tokens most entries are: any bond with an uncharged element of
-// kPriorityElements, or a ring closure. write_text() copies four bytes and
+// kPriorityElements, or a ring closure. make() copies four bytes and
 // advances by the length instead of branching per character.
 struct ShortTokenText {
   char text[4];
@@ -370,10 +370,12 @@ class Engine {
     cur_ = 0;
   }
 
-  // Computes the spheres of `centre` and their text; read them with code(),
-  // hydrogen_code(), parts() or sphere_text(). `spheres` (1..the count given
-  // to reset(); 0 means that count) makes only the first spheres, which
-  // codes being prefix-stable are those of the full run.
+  // Sets up the spheres of `centre`; read them with code(), hydrogen_code(),
+  // parts(), keys() or hydrogen_keys(), which make each sphere when it is
+  // first read, so a reader that stops early (keys() with an index) leaves
+  // the outer spheres, the costliest, unmade. `spheres` (1..the count given
+  // to reset(); 0 means that count) bounds the run to the first spheres,
+  // which codes being prefix-stable are those of the full run.
   void run(std::uint32_t centre, int spheres = 0) {
     n_ = spheres > 0 ? std::min(spheres, max_n_) : max_n_;
     build_region(centre);
@@ -385,8 +387,10 @@ class Engine {
       for (auto *v : {&member_stamp_, &mark_, &pi_, &pi_stamp_, &image_stamp_, &role_, &role_stamp_}) v->resize(r, 0);
     }
     pool_.clear();
-    generate(0, 0, centre);
-    write_text();
+    begin_pass(frames_[0], centre);
+    made_ = 0;
+    text_.clear();
+    text_off_[0] = 0;
   }
 
   char *put_centre(char *p, std::uint32_t atom) const {
@@ -402,20 +406,22 @@ class Engine {
     return std::string(buf, put_centre(buf, atom));
   }
 
-  // Writes the text of every sphere of the last run() into text_; sphere s
-  // (1-based) is text_[text_off_[s - 1], text_off_[s]). Done once per run so
-  // a code, a hydrogen's code and the parts are each copied out with a single
-  // allocation.
-  void write_text() {
-    const Frame &f = frames_[0];
-    // Room for every token at its longest, plus the over-write of put_token_padded().
-    text_.resize(f.out.size() * kTokenTextMax + 4);
-    char *const begin = text_.data();
-    char *p = begin;
-    text_off_[0] = 0;
-    for (int s = 1; s <= n_; ++s) {
-      const std::uint32_t b = f.out_off[static_cast<std::size_t>(s - 1)];
-      const std::uint32_t e = f.out_off[static_cast<std::size_t>(s)];
+  // Makes the spheres of the last run() up to `spheres` (at most the run's
+  // count) that are not made yet, with their text: sphere s (1-based) is
+  // text_[text_off_[s - 1], text_off_[s]), kept so that a code, a hydrogen's
+  // code and the parts are each copied out with a single allocation.
+  void make(int spheres) {
+    Frame &f = frames_[0];
+    for (; made_ < spheres; ++made_) {
+      step(f, 0, made_);
+      f.out_off.push_back(static_cast<std::uint32_t>(f.out.size()));
+      const std::uint32_t b = f.out_off[static_cast<std::size_t>(made_)];
+      const std::uint32_t e = f.out_off[static_cast<std::size_t>(made_ + 1)];
+      // Room for every token at its longest, plus the over-write of put_token_padded().
+      const std::size_t at = text_.size();
+      text_.reserve(at + (e - b) * kTokenTextMax + 4);
+      char *const begin = text_.data();
+      char *p = begin + at;
       for (std::uint32_t i = b; i < e; ++i) {
         if (f.out[i] == kEndOfGroup) {
           if (i + 1 < e) *p++ = ',';
@@ -423,7 +429,8 @@ class Engine {
           p = put_token_padded(p, f.out[i]);
         }
       }
-      text_off_[static_cast<std::size_t>(s)] = static_cast<std::uint32_t>(p - begin);
+      text_.set_size(static_cast<std::size_t>(p - begin));
+      text_off_[static_cast<std::size_t>(made_ + 1)] = static_cast<std::uint32_t>(text_.size());
     }
   }
 
@@ -437,28 +444,54 @@ class Engine {
     return std::string_view(text_.data() + text_off_[static_cast<std::size_t>(s - 1)], sphere_size(s));
   }
 
-  // detail::hose_key() of every prefix of parts(centre) (see hose_keys()).
-  void keys(std::uint32_t centre, detail::HoseKeys &out) const {
+  // detail::hose_key() of every prefix of parts(centre) (see hose_keys()),
+  // with `index` only as deep as it can match.
+  void keys(std::uint32_t centre, detail::HoseKeys &out, const detail::ReferenceIndex *index) {
     char buf[kCentreTextMax];
-    std::uint64_t h = detail::hose_key_part(detail::kHoseKeySeed, std::string_view(buf, static_cast<std::size_t>(put_centre(buf, centre) - buf)));
-    out[0] = h;
-    for (std::size_t k = 1; k < out.size(); ++k) {
-      if (static_cast<int>(k) <= n_) h = detail::hose_key_part(h, sphere_view(static_cast<int>(k)));
-      out[k] = h;
-    }
+    out = detail::HoseKeys{};
+    out.key[0] = detail::hose_key_part(detail::kHoseKeySeed, std::string_view(buf, static_cast<std::size_t>(put_centre(buf, centre) - buf)));
+    chain_keys(out, 1, index);
   }
 
   // The same for hydrogen_parts(h, centre, bond).
-  void hydrogen_keys(std::uint32_t h, std::uint32_t centre, BondOrder bond, detail::HoseKeys &out) const {
+  void hydrogen_keys(std::uint32_t h, std::uint32_t centre, BondOrder bond, detail::HoseKeys &out,
+                     const detail::ReferenceIndex *index) {
     char buf[kCentreTextMax];
-    std::uint64_t v = detail::hose_key_part(detail::kHoseKeySeed, std::string_view(buf, static_cast<std::size_t>(put_centre(buf, h) - buf)));
-    out[0] = v;
+    out = detail::HoseKeys{};
+    out.key[0] = detail::hose_key_part(detail::kHoseKeySeed, std::string_view(buf, static_cast<std::size_t>(put_centre(buf, h) - buf)));
     char first[kTokenTextMax];
-    v = detail::hose_key_part(v, std::string_view(first, static_cast<std::size_t>(put_token(first, bond_rank(bond) << 24 | atom_tok_[centre]) - first)));
-    out[1] = v;
-    for (std::size_t k = 2; k < out.size(); ++k) {
-      if (static_cast<int>(k) - 1 <= n_) v = detail::hose_key_part(v, sphere_view(static_cast<int>(k) - 1));
-      out[k] = v;
+    out.key[1] = detail::hose_key_part(out.key[0], std::string_view(first, static_cast<std::size_t>(put_token(first, bond_rank(bond) << 24 | atom_tok_[centre]) - first)));
+    if (index && !index->may_match(1, out.key[1])) {
+      out.key[1] = 0;
+      out.depth = 0;
+      return;
+    }
+    chain_keys(out, 2, index);
+  }
+
+  // Fills out.key[k] for k = first..kMaxHoseSpheres from out.key[first - 1]
+  // and spheres 1, 2, ... of the last run (sphere s is part first - 1 + s
+  // of the code being keyed); beyond the run's spheres the key stays that of
+  // its last one.
+  void chain_keys(detail::HoseKeys &out, int first, const detail::ReferenceIndex *index) {
+    std::uint64_t h = out.key[static_cast<std::size_t>(first - 1)];
+    for (int k = first; k <= kMaxHoseSpheres; ++k) {
+      const int s = k - first + 1;
+      if (s <= n_) {
+        make(s);
+        h = detail::hose_key_part(h, sphere_view(s));
+      }
+      // Stopping here is exact: build_reference_index() enters every
+      // reference atom under its keys at all spheres, so a reference atom
+      // whose key at a deeper sphere equals ours has our key at sphere k too,
+      // unless two different code texts hash alike, a 64-bit collision that
+      // would mislead the full-depth lookup just the same. The deeper
+      // spheres, the costliest to make, are left unmade.
+      if (index && !index->may_match(k, h)) {
+        out.depth = k - 1;
+        return;
+      }
+      out.key[static_cast<std::size_t>(k)] = h;
     }
   }
 
@@ -498,6 +531,7 @@ class Engine {
   // `spheres` (1..the engine's) picks a shorter code of the same run, as
   // codes are prefix-stable.
   std::string hydrogen_code(std::uint32_t h, std::uint32_t centre, BondOrder bond, int spheres = 0) {
+    make((spheres > 0 ? spheres : n_) - 1);
     char head[kCentreTextMax + 1 + kTokenTextMax];
     char *p = put_centre(head, h);
     *p++ = ';';
@@ -506,7 +540,8 @@ class Engine {
   }
 
   // hose_spheres() parts of the last centre.
-  std::vector<std::string> parts(std::uint32_t centre) const {
+  std::vector<std::string> parts(std::uint32_t centre) {
+    make(n_);
     std::vector<std::string> out;
     out.reserve(static_cast<std::size_t>(n_) + 1);
     out.push_back(centre_text(centre));
@@ -516,7 +551,8 @@ class Engine {
 
   // hose_spheres() parts of a terminal hydrogen on the last centre (see
   // hydrogen_code()).
-  std::vector<std::string> hydrogen_parts(std::uint32_t h, std::uint32_t centre, BondOrder bond) const {
+  std::vector<std::string> hydrogen_parts(std::uint32_t h, std::uint32_t centre, BondOrder bond) {
+    make(n_ - 1);
     std::vector<std::string> out;
     out.reserve(static_cast<std::size_t>(n_) + 1);
     out.push_back(centre_text(h));
@@ -526,9 +562,9 @@ class Engine {
     return out;
   }
 
-  // Code of the last centre, from write_text(); `spheres` as for
-  // hydrogen_code().
+  // Code of the last centre; `spheres` as for hydrogen_code().
   std::string code(std::uint32_t centre, int spheres = 0) {
+    make(spheres > 0 ? spheres : n_);
     char head[kCentreTextMax + 1];
     char *p = put_centre(head, centre);
     *p++ = ';';
@@ -675,10 +711,8 @@ class Engine {
     return 0;
   }
 
-  // Writes spheres k0+1..n of the branch starting at atom `start` (level k0)
-  // into frames_[fi].out.
-  void generate(int fi, int k0, std::uint32_t start) {
-    Frame &f = frames_[static_cast<std::size_t>(fi)];
+  // Readies `f` to write the spheres after atom `start` with step().
+  static void begin_pass(Frame &f, std::uint32_t start) {
     f.seqs.assign(1, start);
     f.states = 1;
     f.len = 1;
@@ -686,6 +720,13 @@ class Engine {
     f.run_at.assign(1, -1);
     f.out.clear();
     f.out_off.assign(1, 0);
+  }
+
+  // Writes spheres k0+1..n of the branch starting at atom `start` (level k0)
+  // into frames_[fi].out.
+  void generate(int fi, int k0, std::uint32_t start) {
+    Frame &f = frames_[static_cast<std::size_t>(fi)];
+    begin_pass(f, start);
     for (int k = k0; k < n_; ++k) {
       step(f, fi, k);
       f.out_off.push_back(static_cast<std::uint32_t>(f.out.size()));
@@ -1169,6 +1210,7 @@ class Engine {
  private:
   const Molecule *mol_ = nullptr;
   int n_ = 0;      // spheres of the current run
+  int made_ = 0;   // of which made so far (make())
   int max_n_ = 0;  // spheres given to reset()
   const std::vector<std::uint32_t> *ranks_ = nullptr;
   // Per atom of the molecule.
@@ -1443,7 +1485,8 @@ std::vector<char> flagged_classes(const AtomClasses &classes, const std::vector<
 
 }  // namespace
 
-std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &classes, const std::vector<bool> &wanted) {
+std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &classes, const std::vector<bool> &wanted,
+                                const ReferenceIndex *index) {
   check_request(molecule, classes, kMaxHoseSpheres);
   std::vector<HoseKeys> keys(molecule.atom_count(), HoseKeys{});
   if (keys.empty()) return keys;
@@ -1464,16 +1507,17 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
                                classes.invariant_rank);
   Engine &engine = *engine_ptr;
   code_every_atom(
-      molecule, classes, engine, [&](std::size_t a) { engine.keys(static_cast<std::uint32_t>(a), keys[a]); },
+      molecule, classes, engine, [&](std::size_t a) { engine.keys(static_cast<std::uint32_t>(a), keys[a], index); },
       [&](std::size_t h, std::size_t a, BondOrder bond) {
-        engine.hydrogen_keys(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, keys[h]);
+        engine.hydrogen_keys(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, keys[h], index);
       },
       [&](std::size_t to, std::size_t from) { keys[to] = keys[from]; }, &needed);
   return keys;
 }
 
 std::vector<std::string> hose_codes_and_keys(const Molecule &molecule, const AtomClasses &classes, int spheres,
-                                             const std::vector<bool> &keyed, std::vector<HoseKeys> &keys) {
+                                             const std::vector<bool> &keyed, std::vector<HoseKeys> &keys,
+                                             const ReferenceIndex *index) {
   check_request(molecule, classes, spheres);
   const std::size_t count = molecule.atom_count();
   std::vector<std::string> codes(count);
@@ -1501,12 +1545,12 @@ std::vector<std::string> hose_codes_and_keys(const Molecule &molecule, const Ato
       molecule, classes, engine,
       [&](std::size_t a) {
         codes[a] = engine.code(static_cast<std::uint32_t>(a), spheres);
-        if (is_keyed(a)) engine.keys(static_cast<std::uint32_t>(a), keys[a]);
+        if (is_keyed(a)) engine.keys(static_cast<std::uint32_t>(a), keys[a], index);
       },
       [&](std::size_t h, std::size_t a, BondOrder bond) {
         codes[h] = engine.hydrogen_code(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, spheres);
         if (is_keyed(h))
-          engine.hydrogen_keys(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, keys[h]);
+          engine.hydrogen_keys(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, keys[h], index);
       },
       [&](std::size_t to, std::size_t from) {
         codes[to] = codes[from];

@@ -150,9 +150,9 @@ class ReferenceLookup final : public ShiftSource {
       }
       inc_done = true;
     };
-    for (int k = kMaxHoseSpheres; k >= 1; --k) {
+    for (int k = keys.depth; k >= 1; --k) {
       const auto &map = index.levels[user_ ? kUser : kBuiltin][nucleus][k];
-      const auto it = map.find(keys[static_cast<std::size_t>(k)]);
+      const auto it = map.find(keys.key[static_cast<std::size_t>(k)]);
       if (it == map.end()) continue;
       const Bucket &b = it->second;
       Summary shift = b.shift, residual = b.residual;
@@ -258,7 +258,7 @@ class ReferenceLookup final : public ShiftSource {
     const auto &index = q.tables.reference_index();
     for (int j = k; pair.n == 0 && j >= kPairMinSphere; --j) {
       const auto &map = index.levels[user_ ? kUser : kBuiltin][kIndexH1][j];
-      const auto it = map.find(q.keys(atom)[static_cast<std::size_t>(j)]);
+      const auto it = map.find(q.keys(atom).key[static_cast<std::size_t>(j)]);
       if (it == map.end()) continue;
       std::vector<double> hv;
       for (const auto &cv : it->second.compounds)
@@ -343,15 +343,22 @@ const SmartsTarget &MoleculeFacts::smarts_target() const {
   return *target_;
 }
 
-void MoleculeFacts::set_all_keys(std::vector<HoseKeys> keys, std::vector<bool> keyed) {
+void MoleculeFacts::set_all_keys(std::vector<HoseKeys> keys, std::vector<bool> keyed, const ReferenceIndex &index) {
   if (keys.size() != molecule_.atom_count() || (!keyed.empty() && keyed.size() != keys.size()))
     throw InternalError(fmt::format("{} HOSE keys for {} atoms", keys.size(), molecule_.atom_count()));
   keys_ = std::move(keys);
   if (keyed.empty()) keyed.assign(molecule_.atom_count(), true);
   keyed_ = std::move(keyed);
+  keyed_for_ = &index;
 }
 
-const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking) const {
+const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking, const ReferenceIndex &index) const {
+  // Keys stop at the last sphere `index` can match: those made for another
+  // index may stop too early for this one.
+  if (keyed_for_ != &index) {
+    keyed_.clear();
+    keyed_for_ = &index;
+  }
   // One pass over the molecule keys every wanted atom once per class, which
   // costs less than a few single-atom calls; the lookups need only the keys,
   // not the text. An atom's keys do not depend on which others are wanted.
@@ -360,11 +367,11 @@ const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking) const {
     keyed_.assign(molecule_.atom_count(), false);
     for (std::size_t a = 0; a < molecule_.atom_count(); ++a)
       keyed_[a] = lookup_keyed(molecule_, a) && (molecule_.atom(a).atomic_number == 6) == (asking == Nucleus::C13);
-    keys_ = hose_keys(molecule_, classes_, keyed_);
+    keys_ = hose_keys(molecule_, classes_, keyed_, &index);
   }
   if (!keyed_.at(atom)) {
     keyed_.assign(molecule_.atom_count(), true);
-    keys_ = hose_keys(molecule_, classes_, keyed_);
+    keys_ = hose_keys(molecule_, classes_, keyed_, &index);
   }
   return keys_[atom];
 }

@@ -106,7 +106,7 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     };
     auto add = [&](int nucleus, std::size_t centre, double value, double increment, double half,
                    std::uint64_t scheme = 0) {
-      const auto &keys = all_keys[centre];
+      const auto &keys = all_keys[centre].key;
       for (int k = 1; k <= kMaxHoseSpheres; ++k)
         raw[origin][nucleus][k][keys[static_cast<std::size_t>(k)]].push_back({ci, value, increment, half, scheme});
     };
@@ -182,7 +182,12 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
           b.shift = summarise(std::move(shifts));
           b.residual = summarise(std::move(residuals));
           index->levels[o][nu][k].emplace(kv.first, std::move(b));
+          index->known[static_cast<std::size_t>(k)].push_back(kv.first);
         }
+  for (auto &keys : index->known) {
+    std::sort(keys.begin(), keys.end());
+    keys.erase(std::unique(keys.begin(), keys.end()), keys.end());
+  }
   return index;
 }
 

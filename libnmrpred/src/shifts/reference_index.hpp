@@ -6,6 +6,7 @@
 // environment has a given code, already averaged per compound and summarised,
 // so a lookup costs one hash probe per level.
 
+#include <algorithm>
 #include <array>
 #include <cstdint>
 #include <memory>
@@ -79,19 +80,31 @@ inline std::uint64_t hose_key_part(std::uint64_t h, std::string_view part) {
   return h;
 }
 
-// Per atom, hose_key(hose_spheres(m, classes, atom, kMaxHoseSpheres), k) for
-// k = 0..kMaxHoseSpheres, for the atoms flagged in `wanted` (shorter means
+// key[k] = hose_key(hose_spheres(m, classes, atom, kMaxHoseSpheres), k) for
+// k = 0..depth; deeper keys are not made (zero): no reference atom of the
+// index they were made for can match them (ReferenceIndex::may_match()).
+struct HoseKeys {
+  std::array<std::uint64_t, kMaxHoseSpheres + 1> key{};
+  int depth = kMaxHoseSpheres;
+};
+
+struct ReferenceIndex;
+
+// Per atom, its HoseKeys, for the atoms flagged in `wanted` (shorter means
 // false); other atoms get zeros. Made straight from the HOSE engine's text
 // without building the parts, one engine run per topological class that a
-// wanted atom belongs to. Defined in environments/hose.cpp. Thread rule: pure.
-using HoseKeys = std::array<std::uint64_t, kMaxHoseSpheres + 1>;
-std::vector<HoseKeys> hose_keys(const Molecule &m, const AtomClasses &classes, const std::vector<bool> &wanted);
+// wanted atom belongs to. With `index` (null: every sphere) an atom is keyed
+// only to the deepest sphere whose key the index holds, so the engine stops
+// early for most atoms. Defined in environments/hose.cpp. Thread rule: pure.
+std::vector<HoseKeys> hose_keys(const Molecule &m, const AtomClasses &classes, const std::vector<bool> &wanted,
+                                const ReferenceIndex *index = nullptr);
 // hose_codes(m, classes, spheres) (nmrpred/hose.hpp), and in `keys` the
-// hose_keys() of the atoms flagged in `keyed` and of every atom of their
-// topological classes (others get zeros), from one engine run per
-// topological class. Errors as hose_codes().
+// hose_keys(m, classes, keyed, index) of the atoms flagged in `keyed` and of
+// every atom of their topological classes (others get zeros), from one engine
+// run per topological class. Errors as hose_codes().
 std::vector<std::string> hose_codes_and_keys(const Molecule &m, const AtomClasses &classes, int spheres,
-                                             const std::vector<bool> &keyed, std::vector<HoseKeys> &keys);
+                                             const std::vector<bool> &keyed, std::vector<HoseKeys> &keys,
+                                             const ReferenceIndex *index = nullptr);
 
 // Median and sample standard deviation about it.
 Summary summarise(std::vector<double> values);
@@ -101,6 +114,15 @@ struct ReferenceIndex {
   std::array<std::array<std::array<std::unordered_map<std::uint64_t, Bucket>, kMaxHoseSpheres + 1>, 2>, 2> levels;
   std::vector<std::uint64_t> constitution;  // per compound
   bool has_user = false;
+  // known[k]: every key of levels[*][*][k] (both origins, both nuclei),
+  // sorted. Each reference atom is entered at all spheres 1..kMaxHoseSpheres,
+  // so a key missing here at sphere k rules out every deeper match.
+  std::array<std::vector<std::uint64_t>, kMaxHoseSpheres + 1> known;
+  // Whether some lookup at sphere k could find `key`.
+  bool may_match(int k, std::uint64_t key) const {
+    const auto &keys = known[static_cast<std::size_t>(k)];
+    return std::binary_search(keys.begin(), keys.end(), key);
+  }
 };
 
 // Needs tables.reference() and tables.c13_increments(); not tables.reference_index().
