@@ -195,21 +195,20 @@ class ReferenceLookup final : public ShiftSource {
           const double prior = (q.nucleus == Nucleus::C13 ? kC13ResidualPrior : kH1ResidualPrior)[k];
           out.uncertainty_ppm = std::sqrt(prior * prior + residual.sd * residual.sd);
           // Plain appends rather than the formatter: one of these per looked-up atom.
-          std::string compounds = std::to_string(residual.n);
-          compounds += user_ ? " user" : " built-in";
-          compounds += residual.n == 1 ? " reference compound" : " reference compounds";
-          compounds += " at HOSE sphere ";
-          compounds += std::to_string(k);
           std::string &m = out.method;
+          // Room for the longest tail below, so the appends do not regrow it.
+          m.reserve(inc_method.size() + 192);
           m = inc_method;
           m += "; corrected by ";
           m += signed_1(correction);
-          if (correction == residual.median) {
-            m += " ppm, the median residual of ";
-            m += compounds;
-          } else {
-            m += " ppm: the median residual of ";
-            m += compounds;
+          const bool shrunk = correction != residual.median;
+          m += shrunk ? " ppm: the median residual of " : " ppm, the median residual of ";
+          m += std::to_string(residual.n);
+          m += user_ ? " user" : " built-in";
+          m += residual.n == 1 ? " reference compound" : " reference compounds";
+          m += " at HOSE sphere ";
+          m += std::to_string(k);
+          if (shrunk) {
             m += " (";
             m += signed_1(residual.median);
             m += " ppm), shrunk and capped as at every sphere up to ";
