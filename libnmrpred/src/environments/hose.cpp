@@ -58,6 +58,25 @@ constexpr std::uint32_t kNone = 0xFFFFFFFFu;
 // 105 (Zr and Th tetrakis(acetylacetonates)), C60 far fewer.
 constexpr std::size_t kMaxBeam = 512;
 
+// Digest terms (Engine::digests()): one domain bit each for the centre, a
+// written atom and a bond, so their terms never share an input.
+constexpr std::uint64_t kDigestCentre = std::uint64_t{1} << 60;
+constexpr std::uint64_t kDigestAtom = std::uint64_t{2} << 60;
+constexpr std::uint64_t kDigestBond = std::uint64_t{3} << 60;
+
+// A 64-bit mixer (the splitmix64 finaliser, common practice).
+constexpr std::uint64_t mix64(std::uint64_t x) noexcept {
+  x ^= x >> 30;
+  x *= 0xBF58476D1CE4E5B9ull;
+  x ^= x >> 27;
+  x *= 0x94D049BB133111EBull;
+  return x ^ (x >> 31);
+}
+
+// digests() term of a bond, by bond rank.
+constexpr std::array<std::uint64_t, 4> kBondDigests = {mix64(kDigestBond | 0u << 24), mix64(kDigestBond | 1u << 24),
+                                                       mix64(kDigestBond | 2u << 24), mix64(kDigestBond | 3u << 24)};
+
 // Element priority, source: BREMSER-1978 (from memory): C, O, N, S, P, Si, B,
 // F, Cl, Br, I; other elements follow by atomic number.
 constexpr std::array<unsigned, 11> kPriorityElements = {6, 8, 7, 16, 15, 14, 5, 9, 17, 35, 53};
@@ -354,9 +373,11 @@ class Engine {
     adj_off_.assign(count + 1, 0);
     adj_.clear();
     atom_tok_.resize(count);
+    atom_digest_.resize(count);
     for (std::size_t i = 0; i < count; ++i) {
       const Atom &a = m.atom(i);
       atom_tok_[i] = element_kind(a.atomic_number) << 12 | charge_rank(a.formal_charge);
+      atom_digest_[i] = mix64(kDigestAtom | atom_tok_[i]);
       const auto *nb = m.neighbours_begin(i);
       const auto *bid = m.bond_ids_begin(i);
       const std::size_t deg = m.degree(i);
@@ -477,6 +498,13 @@ class Engine {
     std::uint64_t h = out.key[static_cast<std::size_t>(first - 1)];
     for (int k = first; k <= kMaxHoseSpheres; ++k) {
       const int s = k - first + 1;
+      if (s > n_ && index) {
+        // With an index the run's spheres come from key_spheres(): the
+        // digest of this code at sphere k or before is one no reference
+        // atom has, and equal codes have equal digests.
+        out.depth = k - 1;
+        return;
+      }
       if (s <= n_) {
         make(s);
         h = detail::hose_key_part(h, sphere_view(s));
@@ -493,6 +521,54 @@ class Engine {
       }
       out.key[static_cast<std::size_t>(k)] = h;
     }
+  }
+
+  // detail::hose_digests() of `centre` into `out` (may be null) up to the
+  // first sphere whose digest no reference atom of `index` (may be null) has;
+  // returns that sphere, or kMaxHoseSpheres + 1. Uses the marks of the
+  // region: call it between runs, not while one is being read.
+  //
+  // The walk meets what a sphere's text holds without ordering it: sphere k
+  // has one entry per bond from a level k-1 atom to level k (a new atom or
+  // '&') and one per bond inside level k-1 ('&', written once), each with
+  // its bond symbol, and names the level k atoms. So the sum of one term per
+  // level k atom and one per such bond is the same for equal texts.
+  int digests(std::uint32_t centre, const detail::ReferenceIndex *index, detail::HoseDigests *out) {
+    next_stamp();
+    Place *const place = place_.data();
+    const std::uint32_t stamp = cur_;
+    auto &list = digest_list_;
+    list.clear();
+    list.push_back(centre);
+    place[centre] = Place{stamp, 0, 0};
+    std::uint64_t d = mix64(mix64(kDigestCentre | atom_tok_[centre]) + mol_->degree(centre));
+    if (out) (*out)[0] = d;
+    std::size_t begin = 0;
+    for (int k = 1; k <= kMaxHoseSpheres; ++k) {
+      const std::size_t end = list.size();
+      const auto level = static_cast<std::uint8_t>(k);
+      std::uint64_t sum = 0;
+      for (std::size_t i = begin; i < end; ++i) {
+        const std::uint32_t y = list[i];
+        for (std::uint32_t j = adj_off_[y]; j < adj_off_[y + 1]; ++j) {
+          const std::uint32_t z = adj_[j].atom;
+          Place &pz = place[z];
+          const std::uint64_t bond = kBondDigests[adj_[j].bond >> 24];
+          if (pz.stamp != stamp) {
+            pz = Place{stamp, 0, level};
+            list.push_back(z);
+            sum += atom_digest_[z] + bond;
+          } else if (pz.level == level || (pz.level + 1 == level && y < z)) {
+            sum += bond;
+          }
+        }
+      }
+      begin = end;
+      d = mix64(d + sum);
+      if (out) (*out)[static_cast<std::size_t>(k)] = d;
+      if (index && !index->digest_may_match(k, d)) return k;
+    }
+    return kMaxHoseSpheres + 1;
   }
 
   // `head`, then sphere `outer` unless it is 0, then spheres `first`..`last`
@@ -583,11 +659,15 @@ class Engine {
   int level_of(std::uint32_t a) const noexcept { return place_[a].stamp == cur_ ? place_[a].level : kOutside; }
   std::uint32_t level_size(int k) const noexcept { return level_start_[k + 1] - level_start_[k]; }
 
-  void build_region(std::uint32_t centre) {
+  void next_stamp() {
     if (++cur_ == 0) {  // stamp wrapped: forget every old mark
       for (Place &pl : place_) pl.stamp = 0;
       cur_ = 1;
     }
+  }
+
+  void build_region(std::uint32_t centre) {
+    next_stamp();
     // The region holds each atom at most once, so it fits in atom_count()
     // slots; plain pointers in the walk keep the compiler from reloading the
     // buffers after every store.
@@ -1217,6 +1297,7 @@ class Engine {
   SmallVec<std::uint32_t, 64> adj_off_;
   SmallVec<Neighbour, 128> adj_;
   SmallVec<std::uint32_t, 64> atom_tok_;
+  SmallVec<std::uint64_t, 64> atom_digest_;  // digests() term of each atom
   // Where an atom lies relative to the current centre; valid when `stamp`
   // equals cur_. One record, as the inner loops read all three together.
   struct Place {
@@ -1240,6 +1321,7 @@ class Engine {
   std::uint32_t mark_cur_ = 0;
   std::uint32_t member_cur_ = 0;  // stamps of the closedness test
   SmallVec<std::uint32_t, 64> list_;
+  SmallVec<std::uint32_t, 64> digest_list_;  // atoms in the order digests() meets them
   // Symmetry test scratch, indexed by local id.
   SmallVec<std::uint32_t, 64> pi_, pi_stamp_, image_stamp_, role_, role_stamp_;
   std::uint32_t cert_cur_ = 0, role_cur_ = 0;
@@ -1483,7 +1565,35 @@ std::vector<char> flagged_classes(const AtomClasses &classes, const std::vector<
   return flagged;
 }
 
+// Spheres the run on `a` must make so that the keys of `a` and of the
+// terminal hydrogens on it, of those `keyed(atom)` flags, reach every sphere
+// at which `index` (null: any reference) might match them; 0 if none is keyed.
+template <class Keyed>
+int key_spheres(Engine &engine, const Molecule &molecule, std::size_t a, Keyed keyed, const ReferenceIndex *index) {
+  // First sphere at which no reference atom's code can agree with that of c.
+  auto no_match = [&](std::size_t c) {
+    return index ? engine.digests(static_cast<std::uint32_t>(c), index, nullptr) : kMaxHoseSpheres + 1;
+  };
+  int d = keyed(a) ? no_match(a) - 1 : 0;
+  const std::size_t heavy = molecule.heavy_atom_count();
+  if (a < heavy)
+    for (auto it = molecule.neighbours_begin(a); it != molecule.neighbours_end(a); ++it)
+      // A terminal hydrogen's sphere k is a's sphere k - 1.
+      if (*it >= heavy && molecule.degree(*it) == 1 && keyed(*it)) d = std::max(d, no_match(*it) - 2);
+  return d;
+}
+
 }  // namespace
+
+std::vector<HoseDigests> hose_digests(const Molecule &molecule, const std::vector<bool> &wanted) {
+  std::vector<HoseDigests> out(molecule.atom_count(), HoseDigests{});
+  if (out.empty()) return out;
+  const std::vector<std::uint32_t> no_ranks;
+  const EngineLease engine(molecule, kMaxHoseSpheres, no_ranks);
+  for (std::size_t a = 0; a < wanted.size() && a < out.size(); ++a)
+    if (wanted[a]) engine->digests(static_cast<std::uint32_t>(a), nullptr, &out[a]);
+  return out;
+}
 
 std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &classes, const std::vector<bool> &wanted,
                                 const ReferenceIndex *index) {
@@ -1506,12 +1616,15 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
   const EngineLease engine_ptr(molecule, only_terminal_h ? kMaxHoseSpheres - 1 : kMaxHoseSpheres,
                                classes.invariant_rank);
   Engine &engine = *engine_ptr;
+  auto is_needed = [&](std::size_t a) { return needed[classes.topological[a]] != 0; };
+  std::function<int(std::size_t)> depth;
+  if (index) depth = [&](std::size_t a) { return std::max(1, key_spheres(engine, molecule, a, is_needed, index)); };
   code_every_atom(
       molecule, classes, engine, [&](std::size_t a) { engine.keys(static_cast<std::uint32_t>(a), keys[a], index); },
       [&](std::size_t h, std::size_t a, BondOrder bond) {
         engine.hydrogen_keys(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, keys[h], index);
       },
-      [&](std::size_t to, std::size_t from) { keys[to] = keys[from]; }, &needed);
+      [&](std::size_t to, std::size_t from) { keys[to] = keys[from]; }, &needed, depth);
   return keys;
 }
 
@@ -1527,20 +1640,13 @@ std::vector<std::string> hose_codes_and_keys(const Molecule &molecule, const Ato
   // whole or not at all.
   const std::vector<char> class_keyed = flagged_classes(classes, keyed);
   auto is_keyed = [&](std::size_t a) { return class_keyed[classes.topological[a]] != 0; };
-  // The keys need six spheres (a terminal hydrogen's, five of its heavy
-  // atom's); the codes, being prefix-stable, are read from the same runs,
-  // which for atoms without keys stop at the codes' own spheres.
-  const std::size_t heavy = molecule.heavy_atom_count();
-  auto depth = [&](std::size_t a) {
-    if (is_keyed(a)) return kMaxHoseSpheres;
-    int d = spheres;
-    if (a < heavy)
-      for (auto it = molecule.neighbours_begin(a); it != molecule.neighbours_end(a); ++it)
-        if (*it >= heavy && molecule.degree(*it) == 1 && is_keyed(*it)) d = std::max(d, kMaxHoseSpheres - 1);
-    return d;
-  };
+  // The keys need up to six spheres (a terminal hydrogen's, five of its
+  // heavy atom's), fewer where the index cannot match deeper; the codes,
+  // being prefix-stable, are read from the same runs, which for atoms
+  // without keys stop at the codes' own spheres.
   const EngineLease engine_ptr(molecule, kMaxHoseSpheres, classes.invariant_rank);
   Engine &engine = *engine_ptr;
+  auto depth = [&](std::size_t a) { return std::max(spheres, key_spheres(engine, molecule, a, is_keyed, index)); };
   code_every_atom(
       molecule, classes, engine,
       [&](std::size_t a) {
