@@ -30,7 +30,6 @@
 #include <charconv>
 #include <cstdint>
 #include <cstring>
-#include <functional>
 #include <memory>
 #include <type_traits>
 #include <string>
@@ -81,10 +80,22 @@ constexpr std::array<std::uint64_t, 4> kBondDigests = {mix64(kDigestBond | 0u <<
 // F, Cl, Br, I; other elements follow by atomic number.
 constexpr std::array<unsigned, 11> kPriorityElements = {6, 8, 7, 16, 15, 14, 5, 9, 17, 35, 53};
 
-std::uint32_t element_kind(unsigned z) noexcept {
+constexpr std::uint32_t element_kind_search(unsigned z) noexcept {
   for (std::uint32_t k = 0; k < kPriorityElements.size(); ++k)
     if (kPriorityElements[k] == z) return k;
   return static_cast<std::uint32_t>(kPriorityElements.size()) + z;
+}
+
+// element_kind_search() of the elements there are, read once per atom.
+constexpr std::array<std::uint32_t, 128> make_kind_table() {
+  std::array<std::uint32_t, 128> t{};
+  for (unsigned z = 0; z < t.size(); ++z) t[z] = element_kind_search(z);
+  return t;
+}
+constexpr std::array<std::uint32_t, 128> kKindTable = make_kind_table();
+
+std::uint32_t element_kind(unsigned z) noexcept {
+  return z < kKindTable.size() ? kKindTable[z] : element_kind_search(z);
 }
 
 unsigned kind_element(std::uint32_t kind) noexcept {
@@ -371,22 +382,27 @@ class Engine {
     const std::size_t count = m.atom_count();
     const std::size_t heavy = m.heavy_atom_count();
     adj_off_.assign(count + 1, 0);
-    adj_.clear();
+    // Each bond is listed at most once from each end.
+    adj_.reserve(2 * m.bond_count());
+    Neighbour *const adj = adj_.data();
+    std::uint32_t listed = 0;
     atom_tok_.resize(count);
     atom_digest_.resize(count);
     for (std::size_t i = 0; i < count; ++i) {
       const Atom &a = m.atom(i);
       atom_tok_[i] = element_kind(a.atomic_number) << 12 | charge_rank(a.formal_charge);
-      atom_digest_[i] = mix64(kDigestAtom | atom_tok_[i]);
+      // digests() reads the terms of written atoms only, and hydrogens never are.
+      if (i < heavy) atom_digest_[i] = mix64(kDigestAtom | atom_tok_[i]);
       const auto *nb = m.neighbours_begin(i);
       const auto *bid = m.bond_ids_begin(i);
       const std::size_t deg = m.degree(i);
       for (std::size_t k = 0; k < deg; ++k) {
         if (nb[k] >= heavy) continue;  // hydrogens (all atoms from heavy on) are never written
-        adj_.push_back({nb[k], bond_rank(m.bond(bid[k]).order) << 24});
+        adj[listed++] = Neighbour{nb[k], bond_rank(m.bond(bid[k]).order) << 24};
       }
-      adj_off_[i + 1] = static_cast<std::uint32_t>(adj_.size());
+      adj_off_[i + 1] = listed;
     }
+    adj_.set_size(listed);
     place_.assign(count, Place{0, 0, kOutside});
     cur_ = 0;
   }
@@ -1434,13 +1450,15 @@ namespace {
 // its class) stays the same, so a wanted result is made from the same run as
 // with every class wanted.
 //
-// `depth(a)` (may be null: the engine's full count) gives the spheres the run
-// on atom a must make for what the callbacks read of a and its hydrogens.
-template <class Centre, class Hydrogen, class Copy>
+// `depth(a)` gives the spheres the run on atom a must make for what the
+// callbacks read of a and its hydrogens (0: the engine's full count).
+struct FullDepth {
+  int operator()(std::size_t) const noexcept { return 0; }
+};
+template <class Centre, class Hydrogen, class Copy, class Depth = FullDepth>
 void code_every_atom(const Molecule &molecule, const AtomClasses &classes, Engine &engine, Centre centre,
-                     Hydrogen hydrogen, Copy copy, const std::vector<char> *needed = nullptr,
-                     const std::function<int(std::size_t)> &depth = nullptr) {
-  auto spheres_for = [&](std::size_t a) { return depth ? depth(a) : 0; };
+                     Hydrogen hydrogen, Copy copy, const std::vector<char> *needed = nullptr, Depth depth = {}) {
+  auto spheres_for = [&](std::size_t a) { return depth(a); };
   auto wanted = [&](std::size_t a) { return !needed || (*needed)[classes.topological[a]]; };
   const std::size_t count = molecule.atom_count();
   std::uint32_t max_class = 0;
@@ -1617,8 +1635,10 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
                                classes.invariant_rank);
   Engine &engine = *engine_ptr;
   auto is_needed = [&](std::size_t a) { return needed[classes.topological[a]] != 0; };
-  std::function<int(std::size_t)> depth;
-  if (index) depth = [&](std::size_t a) { return std::max(1, key_spheres(engine, molecule, a, is_needed, index)); };
+  // Without an index every sphere may match: the engine's full count.
+  auto depth = [&](std::size_t a) {
+    return index ? std::max(1, key_spheres(engine, molecule, a, is_needed, index)) : 0;
+  };
   code_every_atom(
       molecule, classes, engine, [&](std::size_t a) { engine.keys(static_cast<std::uint32_t>(a), keys[a], index); },
       [&](std::size_t h, std::size_t a, BondOrder bond) {
