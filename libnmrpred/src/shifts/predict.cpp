@@ -164,6 +164,8 @@ class ReferenceLookup final : public ShiftSource {
                                       [](const CompoundValue &x, const CompoundValue &y) { return x.compound < y.compound; });
       if (touched) {
         std::vector<double> sv, rv;
+        sv.reserve(b.compounds.size());
+        rv.reserve(b.compounds.size());
         for (const auto &cv : b.compounds) {
           if (std::find(excluded.begin(), excluded.end(), cv.compound) != excluded.end()) continue;
           sv.push_back(cv.shift_ppm);
@@ -178,6 +180,7 @@ class ReferenceLookup final : public ShiftSource {
         if (std::isfinite(inc_q) && q.nucleus == Nucleus::C13 && k >= kC13SameSchemeSphere && k <= kShallowSphere) {
           const auto key = scheme_key(inc_method);
           std::vector<double> rv;
+          rv.reserve(b.compounds.size());
           for (const auto &cv : b.compounds)
             if (cv.scheme == key && std::isfinite(cv.residual_ppm) &&
                 std::find(excluded.begin(), excluded.end(), cv.compound) == excluded.end())
