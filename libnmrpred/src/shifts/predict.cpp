@@ -9,7 +9,6 @@
 #include <charconv>
 #include <limits>
 #include <cmath>
-#include <map>
 #include <memory>
 #include <string>
 
@@ -385,13 +384,16 @@ bool lookup_keyed(const Molecule &m, std::size_t atom) {
 std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const ShiftSource *> &sources,
                                const std::vector<std::size_t> &atoms, std::vector<std::string> *warnings) {
   std::vector<Shift> out;
-  std::map<std::uint32_t, std::size_t> by_class;  // chemical class -> position in out
+  out.reserve(atoms.size());
+  // Chemical class -> position in out of its first atom.
+  constexpr auto kNotYet = std::numeric_limits<std::size_t>::max();
+  std::vector<std::size_t> by_class;
   for (auto atom : atoms) {
-    const auto cls = q.classes.chemical[atom];
-    const auto seen = by_class.find(cls);
-    if (seen != by_class.end()) {
+    const std::size_t cls = q.classes.chemical[atom];
+    if (cls >= by_class.size()) by_class.resize(cls + 1, kNotYet);
+    if (by_class[cls] != kNotYet) {
       // Equivalent atoms always share the value.
-      Shift copy = out[seen->second];
+      Shift copy = out[by_class[cls]];
       copy.atom = atom;
       out.push_back(std::move(copy));
       continue;
@@ -410,7 +412,7 @@ std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const Shif
       warnings->push_back(fmt::format("atom {}: no reference environment or increment rule fits; "
                                       "class average with a large uncertainty",
                                       atom));
-    by_class.emplace(cls, out.size());
+    by_class[cls] = out.size();
     out.push_back(std::move(s));
   }
   return out;
