@@ -229,8 +229,14 @@ class ReferenceLookup final : public ShiftSource {
       }
       out.ppm = shift.median;
       out.uncertainty_ppm = std::sqrt(levels[k].prior_ppm * levels[k].prior_ppm + shift.sd * shift.sd);
-      out.method = fmt::format("{} reference lookup, HOSE sphere {}, {} compound{}", user_ ? "user" : "built-in",
-                               k, shift.n, shift.n == 1 ? "" : "s");
+      // Plain appends rather than the formatter, as above.
+      std::string &m = out.method;
+      m = user_ ? "user" : "built-in";
+      m += " reference lookup, HOSE sphere ";
+      m += std::to_string(k);
+      m += ", ";
+      m += std::to_string(shift.n);
+      m += shift.n == 1 ? " compound" : " compounds";
       fill_common(out, q, b, excluded, k);
       split_pair(out, q, atom, k, excluded);
       return true;
