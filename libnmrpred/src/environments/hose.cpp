@@ -1594,10 +1594,26 @@ int key_spheres(Engine &engine, const Molecule &molecule, std::size_t a, Keyed k
   };
   int d = keyed(a) ? no_match(a) - 1 : 0;
   const std::size_t heavy = molecule.heavy_atom_count();
-  if (a < heavy)
-    for (auto it = molecule.neighbours_begin(a); it != molecule.neighbours_end(a); ++it)
+  if (a < heavy) {
+    // The walk from a terminal hydrogen depends only on its charge (its
+    // centre text) and its bond to a: hydrogens alike in both share it.
+    int last_charge = 0;
+    BondOrder last_bond = BondOrder::Single;
+    int last_stop = -1;
+    for (auto it = molecule.neighbours_begin(a); it != molecule.neighbours_end(a); ++it) {
+      const std::size_t h = *it;
+      if (h < heavy || molecule.degree(h) != 1 || !keyed(h)) continue;
+      const int charge = molecule.atom(h).formal_charge;
+      const BondOrder bond = molecule.bond(*molecule.bond_ids_begin(h)).order;
+      if (last_stop < 0 || charge != last_charge || bond != last_bond) {
+        last_stop = no_match(h);
+        last_charge = charge;
+        last_bond = bond;
+      }
       // A terminal hydrogen's sphere k is a's sphere k - 1.
-      if (*it >= heavy && molecule.degree(*it) == 1 && keyed(*it)) d = std::max(d, no_match(*it) - 2);
+      d = std::max(d, last_stop - 2);
+    }
+  }
   return d;
 }
 
