@@ -97,7 +97,7 @@ struct ReferenceIndex;
 // early for most atoms. Defined in environments/hose.cpp. Thread rule: pure.
 std::vector<HoseKeys> hose_keys(const Molecule &m, const AtomClasses &classes, const std::vector<bool> &wanted,
                                 const ReferenceIndex *index = nullptr);
-// Per atom flagged in `wanted`, sig[k] for k = 0..kMaxHoseSpheres: a digest
+// Per atom flagged in `wanted`, element k (k = 0..kMaxHoseSpheres): a digest
 // of what the first k spheres of its code fix whatever the order of their
 // entries (the centre; per sphere the kinds of the atoms written, the bonds
 // of all entries). Equal codes have equal digests, and the digests come from
