@@ -30,7 +30,6 @@
 #include <charconv>
 #include <cstdint>
 #include <cstring>
-#include <functional>
 #include <memory>
 #include <type_traits>
 #include <string>
@@ -58,14 +57,45 @@ constexpr std::uint32_t kNone = 0xFFFFFFFFu;
 // 105 (Zr and Th tetrakis(acetylacetonates)), C60 far fewer.
 constexpr std::size_t kMaxBeam = 512;
 
+// Digest terms (Engine::digests()): one domain bit each for the centre, a
+// written atom and a bond, so their terms never share an input.
+constexpr std::uint64_t kDigestCentre = std::uint64_t{1} << 60;
+constexpr std::uint64_t kDigestAtom = std::uint64_t{2} << 60;
+constexpr std::uint64_t kDigestBond = std::uint64_t{3} << 60;
+
+// A 64-bit mixer (the splitmix64 finaliser, common practice).
+constexpr std::uint64_t mix64(std::uint64_t x) noexcept {
+  x ^= x >> 30;
+  x *= 0xBF58476D1CE4E5B9ull;
+  x ^= x >> 27;
+  x *= 0x94D049BB133111EBull;
+  return x ^ (x >> 31);
+}
+
+// digests() term of a bond, by bond rank.
+constexpr std::array<std::uint64_t, 4> kBondDigests = {mix64(kDigestBond | 0u << 24), mix64(kDigestBond | 1u << 24),
+                                                       mix64(kDigestBond | 2u << 24), mix64(kDigestBond | 3u << 24)};
+
 // Element priority, source: BREMSER-1978 (from memory): C, O, N, S, P, Si, B,
 // F, Cl, Br, I; other elements follow by atomic number.
 constexpr std::array<unsigned, 11> kPriorityElements = {6, 8, 7, 16, 15, 14, 5, 9, 17, 35, 53};
 
-std::uint32_t element_kind(unsigned z) noexcept {
+constexpr std::uint32_t element_kind_search(unsigned z) noexcept {
   for (std::uint32_t k = 0; k < kPriorityElements.size(); ++k)
     if (kPriorityElements[k] == z) return k;
   return static_cast<std::uint32_t>(kPriorityElements.size()) + z;
+}
+
+// element_kind_search() of the elements there are, read once per atom.
+constexpr std::array<std::uint32_t, 128> make_kind_table() {
+  std::array<std::uint32_t, 128> t{};
+  for (unsigned z = 0; z < t.size(); ++z) t[z] = element_kind_search(z);
+  return t;
+}
+constexpr std::array<std::uint32_t, 128> kKindTable = make_kind_table();
+
+std::uint32_t element_kind(unsigned z) noexcept {
+  return z < kKindTable.size() ? kKindTable[z] : element_kind_search(z);
 }
 
 unsigned kind_element(std::uint32_t kind) noexcept {
@@ -143,7 +173,7 @@ inline char *put_token(char *p, std::uint32_t token) noexcept {
 }
 
 // Text of the tokens most entries are: any bond with an uncharged element of
-// kPriorityElements, or a ring closure. write_text() copies four bytes and
+// kPriorityElements, or a ring closure. make() copies four bytes and
 // advances by the length instead of branching per character.
 struct ShortTokenText {
   char text[4];
@@ -352,28 +382,37 @@ class Engine {
     const std::size_t count = m.atom_count();
     const std::size_t heavy = m.heavy_atom_count();
     adj_off_.assign(count + 1, 0);
-    adj_.clear();
+    // Each bond is listed at most once from each end.
+    adj_.reserve(2 * m.bond_count());
+    Neighbour *const adj = adj_.data();
+    std::uint32_t listed = 0;
     atom_tok_.resize(count);
+    atom_digest_.resize(count);
     for (std::size_t i = 0; i < count; ++i) {
       const Atom &a = m.atom(i);
       atom_tok_[i] = element_kind(a.atomic_number) << 12 | charge_rank(a.formal_charge);
+      // digests() reads the terms of written atoms only, and hydrogens never are.
+      if (i < heavy) atom_digest_[i] = mix64(kDigestAtom | atom_tok_[i]);
       const auto *nb = m.neighbours_begin(i);
       const auto *bid = m.bond_ids_begin(i);
       const std::size_t deg = m.degree(i);
       for (std::size_t k = 0; k < deg; ++k) {
         if (nb[k] >= heavy) continue;  // hydrogens (all atoms from heavy on) are never written
-        adj_.push_back({nb[k], bond_rank(m.bond(bid[k]).order) << 24});
+        adj[listed++] = Neighbour{nb[k], bond_rank(m.bond(bid[k]).order) << 24};
       }
-      adj_off_[i + 1] = static_cast<std::uint32_t>(adj_.size());
+      adj_off_[i + 1] = listed;
     }
+    adj_.set_size(listed);
     place_.assign(count, Place{0, 0, kOutside});
     cur_ = 0;
   }
 
-  // Computes the spheres of `centre` and their text; read them with code(),
-  // hydrogen_code(), parts() or sphere_text(). `spheres` (1..the count given
-  // to reset(); 0 means that count) makes only the first spheres, which
-  // codes being prefix-stable are those of the full run.
+  // Sets up the spheres of `centre`; read them with code(), hydrogen_code(),
+  // parts(), keys() or hydrogen_keys(), which make each sphere when it is
+  // first read, so a reader that stops early (keys() with an index) leaves
+  // the outer spheres, the costliest, unmade. `spheres` (1..the count given
+  // to reset(); 0 means that count) bounds the run to the first spheres,
+  // which codes being prefix-stable are those of the full run.
   void run(std::uint32_t centre, int spheres = 0) {
     n_ = spheres > 0 ? std::min(spheres, max_n_) : max_n_;
     build_region(centre);
@@ -385,8 +424,10 @@ class Engine {
       for (auto *v : {&member_stamp_, &mark_, &pi_, &pi_stamp_, &image_stamp_, &role_, &role_stamp_}) v->resize(r, 0);
     }
     pool_.clear();
-    generate(0, 0, centre);
-    write_text();
+    begin_pass(frames_[0], centre);
+    made_ = 0;
+    text_.clear();
+    text_off_[0] = 0;
   }
 
   char *put_centre(char *p, std::uint32_t atom) const {
@@ -402,20 +443,22 @@ class Engine {
     return std::string(buf, put_centre(buf, atom));
   }
 
-  // Writes the text of every sphere of the last run() into text_; sphere s
-  // (1-based) is text_[text_off_[s - 1], text_off_[s]). Done once per run so
-  // a code, a hydrogen's code and the parts are each copied out with a single
-  // allocation.
-  void write_text() {
-    const Frame &f = frames_[0];
-    // Room for every token at its longest, plus the over-write of put_token_padded().
-    text_.resize(f.out.size() * kTokenTextMax + 4);
-    char *const begin = text_.data();
-    char *p = begin;
-    text_off_[0] = 0;
-    for (int s = 1; s <= n_; ++s) {
-      const std::uint32_t b = f.out_off[static_cast<std::size_t>(s - 1)];
-      const std::uint32_t e = f.out_off[static_cast<std::size_t>(s)];
+  // Makes the spheres of the last run() up to `spheres` (at most the run's
+  // count) that are not made yet, with their text: sphere s (1-based) is
+  // text_[text_off_[s - 1], text_off_[s]), kept so that a code, a hydrogen's
+  // code and the parts are each copied out with a single allocation.
+  void make(int spheres) {
+    Frame &f = frames_[0];
+    for (; made_ < spheres; ++made_) {
+      step(f, 0, made_);
+      f.out_off.push_back(static_cast<std::uint32_t>(f.out.size()));
+      const std::uint32_t b = f.out_off[static_cast<std::size_t>(made_)];
+      const std::uint32_t e = f.out_off[static_cast<std::size_t>(made_ + 1)];
+      // Room for every token at its longest, plus the over-write of put_token_padded().
+      const std::size_t at = text_.size();
+      text_.reserve(at + (e - b) * kTokenTextMax + 4);
+      char *const begin = text_.data();
+      char *p = begin + at;
       for (std::uint32_t i = b; i < e; ++i) {
         if (f.out[i] == kEndOfGroup) {
           if (i + 1 < e) *p++ = ',';
@@ -423,7 +466,8 @@ class Engine {
           p = put_token_padded(p, f.out[i]);
         }
       }
-      text_off_[static_cast<std::size_t>(s)] = static_cast<std::uint32_t>(p - begin);
+      text_.set_size(static_cast<std::size_t>(p - begin));
+      text_off_[static_cast<std::size_t>(made_ + 1)] = static_cast<std::uint32_t>(text_.size());
     }
   }
 
@@ -437,29 +481,110 @@ class Engine {
     return std::string_view(text_.data() + text_off_[static_cast<std::size_t>(s - 1)], sphere_size(s));
   }
 
-  // detail::hose_key() of every prefix of parts(centre) (see hose_keys()).
-  void keys(std::uint32_t centre, detail::HoseKeys &out) const {
+  // detail::hose_key() of every prefix of parts(centre) (see hose_keys()),
+  // with `index` only as deep as it can match.
+  void keys(std::uint32_t centre, detail::HoseKeys &out, const detail::ReferenceIndex *index) {
     char buf[kCentreTextMax];
-    std::uint64_t h = detail::hose_key_part(detail::kHoseKeySeed, std::string_view(buf, static_cast<std::size_t>(put_centre(buf, centre) - buf)));
-    out[0] = h;
-    for (std::size_t k = 1; k < out.size(); ++k) {
-      if (static_cast<int>(k) <= n_) h = detail::hose_key_part(h, sphere_view(static_cast<int>(k)));
-      out[k] = h;
-    }
+    out = detail::HoseKeys{};
+    out.key[0] = detail::hose_key_part(detail::kHoseKeySeed, std::string_view(buf, static_cast<std::size_t>(put_centre(buf, centre) - buf)));
+    chain_keys(out, 1, index);
   }
 
   // The same for hydrogen_parts(h, centre, bond).
-  void hydrogen_keys(std::uint32_t h, std::uint32_t centre, BondOrder bond, detail::HoseKeys &out) const {
+  void hydrogen_keys(std::uint32_t h, std::uint32_t centre, BondOrder bond, detail::HoseKeys &out,
+                     const detail::ReferenceIndex *index) {
     char buf[kCentreTextMax];
-    std::uint64_t v = detail::hose_key_part(detail::kHoseKeySeed, std::string_view(buf, static_cast<std::size_t>(put_centre(buf, h) - buf)));
-    out[0] = v;
+    out = detail::HoseKeys{};
+    out.key[0] = detail::hose_key_part(detail::kHoseKeySeed, std::string_view(buf, static_cast<std::size_t>(put_centre(buf, h) - buf)));
     char first[kTokenTextMax];
-    v = detail::hose_key_part(v, std::string_view(first, static_cast<std::size_t>(put_token(first, bond_rank(bond) << 24 | atom_tok_[centre]) - first)));
-    out[1] = v;
-    for (std::size_t k = 2; k < out.size(); ++k) {
-      if (static_cast<int>(k) - 1 <= n_) v = detail::hose_key_part(v, sphere_view(static_cast<int>(k) - 1));
-      out[k] = v;
+    out.key[1] = detail::hose_key_part(out.key[0], std::string_view(first, static_cast<std::size_t>(put_token(first, bond_rank(bond) << 24 | atom_tok_[centre]) - first)));
+    if (index && !index->may_match(1, out.key[1])) {
+      out.key[1] = 0;
+      out.depth = 0;
+      return;
     }
+    chain_keys(out, 2, index);
+  }
+
+  // Fills out.key[k] for k = first..kMaxHoseSpheres from out.key[first - 1]
+  // and spheres 1, 2, ... of the last run (sphere s is part first - 1 + s
+  // of the code being keyed); beyond the run's spheres the key stays that of
+  // its last one.
+  void chain_keys(detail::HoseKeys &out, int first, const detail::ReferenceIndex *index) {
+    std::uint64_t h = out.key[static_cast<std::size_t>(first - 1)];
+    for (int k = first; k <= kMaxHoseSpheres; ++k) {
+      const int s = k - first + 1;
+      if (s > n_ && index) {
+        // With an index the run's spheres come from key_spheres(): the
+        // digest of this code at sphere k or before is one no reference
+        // atom has, and equal codes have equal digests.
+        out.depth = k - 1;
+        return;
+      }
+      if (s <= n_) {
+        make(s);
+        h = detail::hose_key_part(h, sphere_view(s));
+      }
+      // Stopping here is exact: build_reference_index() enters every
+      // reference atom under its keys at all spheres, so a reference atom
+      // whose key at a deeper sphere equals ours has our key at sphere k too,
+      // unless two different code texts hash alike, a 64-bit collision that
+      // would mislead the full-depth lookup just the same. The deeper
+      // spheres, the costliest to make, are left unmade.
+      if (index && !index->may_match(k, h)) {
+        out.depth = k - 1;
+        return;
+      }
+      out.key[static_cast<std::size_t>(k)] = h;
+    }
+  }
+
+  // detail::hose_digests() of `centre` into `out` (may be null) up to the
+  // first sphere whose digest no reference atom of `index` (may be null) has;
+  // returns that sphere, or kMaxHoseSpheres + 1. Uses the marks of the
+  // region: call it between runs, not while one is being read.
+  //
+  // The walk meets what a sphere's text holds without ordering it: sphere k
+  // has one entry per bond from a level k-1 atom to level k (a new atom or
+  // '&') and one per bond inside level k-1 ('&', written once), each with
+  // its bond symbol, and names the level k atoms. So the sum of one term per
+  // level k atom and one per such bond is the same for equal texts.
+  int digests(std::uint32_t centre, const detail::ReferenceIndex *index, detail::HoseDigests *out) {
+    next_stamp();
+    Place *const place = place_.data();
+    const std::uint32_t stamp = cur_;
+    auto &list = digest_list_;
+    list.clear();
+    list.push_back(centre);
+    place[centre] = Place{stamp, 0, 0};
+    std::uint64_t d = mix64(mix64(kDigestCentre | atom_tok_[centre]) + mol_->degree(centre));
+    if (out) (*out)[0] = d;
+    std::size_t begin = 0;
+    for (int k = 1; k <= kMaxHoseSpheres; ++k) {
+      const std::size_t end = list.size();
+      const auto level = static_cast<std::uint8_t>(k);
+      std::uint64_t sum = 0;
+      for (std::size_t i = begin; i < end; ++i) {
+        const std::uint32_t y = list[i];
+        for (std::uint32_t j = adj_off_[y]; j < adj_off_[y + 1]; ++j) {
+          const std::uint32_t z = adj_[j].atom;
+          Place &pz = place[z];
+          const std::uint64_t bond = kBondDigests[adj_[j].bond >> 24];
+          if (pz.stamp != stamp) {
+            pz = Place{stamp, 0, level};
+            list.push_back(z);
+            sum += atom_digest_[z] + bond;
+          } else if (pz.level == level || (pz.level + 1 == level && y < z)) {
+            sum += bond;
+          }
+        }
+      }
+      begin = end;
+      d = mix64(d + sum);
+      if (out) (*out)[static_cast<std::size_t>(k)] = d;
+      if (index && !index->digest_may_match(k, d)) return k;
+    }
+    return kMaxHoseSpheres + 1;
   }
 
   // `head`, then sphere `outer` unless it is 0, then spheres `first`..`last`
@@ -498,6 +623,7 @@ class Engine {
   // `spheres` (1..the engine's) picks a shorter code of the same run, as
   // codes are prefix-stable.
   std::string hydrogen_code(std::uint32_t h, std::uint32_t centre, BondOrder bond, int spheres = 0) {
+    make((spheres > 0 ? spheres : n_) - 1);
     char head[kCentreTextMax + 1 + kTokenTextMax];
     char *p = put_centre(head, h);
     *p++ = ';';
@@ -506,7 +632,8 @@ class Engine {
   }
 
   // hose_spheres() parts of the last centre.
-  std::vector<std::string> parts(std::uint32_t centre) const {
+  std::vector<std::string> parts(std::uint32_t centre) {
+    make(n_);
     std::vector<std::string> out;
     out.reserve(static_cast<std::size_t>(n_) + 1);
     out.push_back(centre_text(centre));
@@ -516,7 +643,8 @@ class Engine {
 
   // hose_spheres() parts of a terminal hydrogen on the last centre (see
   // hydrogen_code()).
-  std::vector<std::string> hydrogen_parts(std::uint32_t h, std::uint32_t centre, BondOrder bond) const {
+  std::vector<std::string> hydrogen_parts(std::uint32_t h, std::uint32_t centre, BondOrder bond) {
+    make(n_ - 1);
     std::vector<std::string> out;
     out.reserve(static_cast<std::size_t>(n_) + 1);
     out.push_back(centre_text(h));
@@ -526,9 +654,9 @@ class Engine {
     return out;
   }
 
-  // Code of the last centre, from write_text(); `spheres` as for
-  // hydrogen_code().
+  // Code of the last centre; `spheres` as for hydrogen_code().
   std::string code(std::uint32_t centre, int spheres = 0) {
+    make(spheres > 0 ? spheres : n_);
     char head[kCentreTextMax + 1];
     char *p = put_centre(head, centre);
     *p++ = ';';
@@ -547,11 +675,15 @@ class Engine {
   int level_of(std::uint32_t a) const noexcept { return place_[a].stamp == cur_ ? place_[a].level : kOutside; }
   std::uint32_t level_size(int k) const noexcept { return level_start_[k + 1] - level_start_[k]; }
 
-  void build_region(std::uint32_t centre) {
+  void next_stamp() {
     if (++cur_ == 0) {  // stamp wrapped: forget every old mark
       for (Place &pl : place_) pl.stamp = 0;
       cur_ = 1;
     }
+  }
+
+  void build_region(std::uint32_t centre) {
+    next_stamp();
     // The region holds each atom at most once, so it fits in atom_count()
     // slots; plain pointers in the walk keep the compiler from reloading the
     // buffers after every store.
@@ -675,10 +807,8 @@ class Engine {
     return 0;
   }
 
-  // Writes spheres k0+1..n of the branch starting at atom `start` (level k0)
-  // into frames_[fi].out.
-  void generate(int fi, int k0, std::uint32_t start) {
-    Frame &f = frames_[static_cast<std::size_t>(fi)];
+  // Readies `f` to write the spheres after atom `start` with step().
+  static void begin_pass(Frame &f, std::uint32_t start) {
     f.seqs.assign(1, start);
     f.states = 1;
     f.len = 1;
@@ -686,6 +816,13 @@ class Engine {
     f.run_at.assign(1, -1);
     f.out.clear();
     f.out_off.assign(1, 0);
+  }
+
+  // Writes spheres k0+1..n of the branch starting at atom `start` (level k0)
+  // into frames_[fi].out.
+  void generate(int fi, int k0, std::uint32_t start) {
+    Frame &f = frames_[static_cast<std::size_t>(fi)];
+    begin_pass(f, start);
     for (int k = k0; k < n_; ++k) {
       step(f, fi, k);
       f.out_off.push_back(static_cast<std::uint32_t>(f.out.size()));
@@ -1169,12 +1306,14 @@ class Engine {
  private:
   const Molecule *mol_ = nullptr;
   int n_ = 0;      // spheres of the current run
+  int made_ = 0;   // of which made so far (make())
   int max_n_ = 0;  // spheres given to reset()
   const std::vector<std::uint32_t> *ranks_ = nullptr;
   // Per atom of the molecule.
   SmallVec<std::uint32_t, 64> adj_off_;
   SmallVec<Neighbour, 128> adj_;
   SmallVec<std::uint32_t, 64> atom_tok_;
+  SmallVec<std::uint64_t, 64> atom_digest_;  // digests() term of each atom
   // Where an atom lies relative to the current centre; valid when `stamp`
   // equals cur_. One record, as the inner loops read all three together.
   struct Place {
@@ -1198,6 +1337,7 @@ class Engine {
   std::uint32_t mark_cur_ = 0;
   std::uint32_t member_cur_ = 0;  // stamps of the closedness test
   SmallVec<std::uint32_t, 64> list_;
+  SmallVec<std::uint32_t, 64> digest_list_;  // atoms in the order digests() meets them
   // Symmetry test scratch, indexed by local id.
   SmallVec<std::uint32_t, 64> pi_, pi_stamp_, image_stamp_, role_, role_stamp_;
   std::uint32_t cert_cur_ = 0, role_cur_ = 0;
@@ -1310,13 +1450,15 @@ namespace {
 // its class) stays the same, so a wanted result is made from the same run as
 // with every class wanted.
 //
-// `depth(a)` (may be null: the engine's full count) gives the spheres the run
-// on atom a must make for what the callbacks read of a and its hydrogens.
-template <class Centre, class Hydrogen, class Copy>
+// `depth(a)` gives the spheres the run on atom a must make for what the
+// callbacks read of a and its hydrogens (0: the engine's full count).
+struct FullDepth {
+  int operator()(std::size_t) const noexcept { return 0; }
+};
+template <class Centre, class Hydrogen, class Copy, class Depth = FullDepth>
 void code_every_atom(const Molecule &molecule, const AtomClasses &classes, Engine &engine, Centre centre,
-                     Hydrogen hydrogen, Copy copy, const std::vector<char> *needed = nullptr,
-                     const std::function<int(std::size_t)> &depth = nullptr) {
-  auto spheres_for = [&](std::size_t a) { return depth ? depth(a) : 0; };
+                     Hydrogen hydrogen, Copy copy, const std::vector<char> *needed = nullptr, Depth depth = {}) {
+  auto spheres_for = [&](std::size_t a) { return depth(a); };
   auto wanted = [&](std::size_t a) { return !needed || (*needed)[classes.topological[a]]; };
   const std::size_t count = molecule.atom_count();
   std::uint32_t max_class = 0;
@@ -1441,9 +1583,54 @@ std::vector<char> flagged_classes(const AtomClasses &classes, const std::vector<
   return flagged;
 }
 
+// Spheres the run on `a` must make so that the keys of `a` and of the
+// terminal hydrogens on it, of those `keyed(atom)` flags, reach every sphere
+// at which `index` (null: any reference) might match them; 0 if none is keyed.
+template <class Keyed>
+int key_spheres(Engine &engine, const Molecule &molecule, std::size_t a, Keyed keyed, const ReferenceIndex *index) {
+  // First sphere at which no reference atom's code can agree with that of c.
+  auto no_match = [&](std::size_t c) {
+    return index ? engine.digests(static_cast<std::uint32_t>(c), index, nullptr) : kMaxHoseSpheres + 1;
+  };
+  int d = keyed(a) ? no_match(a) - 1 : 0;
+  const std::size_t heavy = molecule.heavy_atom_count();
+  if (a < heavy) {
+    // The walk from a terminal hydrogen depends only on its charge (its
+    // centre text) and its bond to a: hydrogens alike in both share it.
+    int last_charge = 0;
+    BondOrder last_bond = BondOrder::Single;
+    int last_stop = -1;
+    for (auto it = molecule.neighbours_begin(a); it != molecule.neighbours_end(a); ++it) {
+      const std::size_t h = *it;
+      if (h < heavy || molecule.degree(h) != 1 || !keyed(h)) continue;
+      const int charge = molecule.atom(h).formal_charge;
+      const BondOrder bond = molecule.bond(*molecule.bond_ids_begin(h)).order;
+      if (last_stop < 0 || charge != last_charge || bond != last_bond) {
+        last_stop = no_match(h);
+        last_charge = charge;
+        last_bond = bond;
+      }
+      // A terminal hydrogen's sphere k is a's sphere k - 1.
+      d = std::max(d, last_stop - 2);
+    }
+  }
+  return d;
+}
+
 }  // namespace
 
-std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &classes, const std::vector<bool> &wanted) {
+std::vector<HoseDigests> hose_digests(const Molecule &molecule, const std::vector<bool> &wanted) {
+  std::vector<HoseDigests> out(molecule.atom_count(), HoseDigests{});
+  if (out.empty()) return out;
+  const std::vector<std::uint32_t> no_ranks;
+  const EngineLease engine(molecule, kMaxHoseSpheres, no_ranks);
+  for (std::size_t a = 0; a < wanted.size() && a < out.size(); ++a)
+    if (wanted[a]) engine->digests(static_cast<std::uint32_t>(a), nullptr, &out[a]);
+  return out;
+}
+
+std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &classes, const std::vector<bool> &wanted,
+                                const ReferenceIndex *index) {
   check_request(molecule, classes, kMaxHoseSpheres);
   std::vector<HoseKeys> keys(molecule.atom_count(), HoseKeys{});
   if (keys.empty()) return keys;
@@ -1463,17 +1650,23 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
   const EngineLease engine_ptr(molecule, only_terminal_h ? kMaxHoseSpheres - 1 : kMaxHoseSpheres,
                                classes.invariant_rank);
   Engine &engine = *engine_ptr;
+  auto is_needed = [&](std::size_t a) { return needed[classes.topological[a]] != 0; };
+  // Without an index every sphere may match: the engine's full count.
+  auto depth = [&](std::size_t a) {
+    return index ? std::max(1, key_spheres(engine, molecule, a, is_needed, index)) : 0;
+  };
   code_every_atom(
-      molecule, classes, engine, [&](std::size_t a) { engine.keys(static_cast<std::uint32_t>(a), keys[a]); },
+      molecule, classes, engine, [&](std::size_t a) { engine.keys(static_cast<std::uint32_t>(a), keys[a], index); },
       [&](std::size_t h, std::size_t a, BondOrder bond) {
-        engine.hydrogen_keys(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, keys[h]);
+        engine.hydrogen_keys(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, keys[h], index);
       },
-      [&](std::size_t to, std::size_t from) { keys[to] = keys[from]; }, &needed);
+      [&](std::size_t to, std::size_t from) { keys[to] = keys[from]; }, &needed, depth);
   return keys;
 }
 
 std::vector<std::string> hose_codes_and_keys(const Molecule &molecule, const AtomClasses &classes, int spheres,
-                                             const std::vector<bool> &keyed, std::vector<HoseKeys> &keys) {
+                                             const std::vector<bool> &keyed, std::vector<HoseKeys> &keys,
+                                             const ReferenceIndex *index) {
   check_request(molecule, classes, spheres);
   const std::size_t count = molecule.atom_count();
   std::vector<std::string> codes(count);
@@ -1483,30 +1676,23 @@ std::vector<std::string> hose_codes_and_keys(const Molecule &molecule, const Ato
   // whole or not at all.
   const std::vector<char> class_keyed = flagged_classes(classes, keyed);
   auto is_keyed = [&](std::size_t a) { return class_keyed[classes.topological[a]] != 0; };
-  // The keys need six spheres (a terminal hydrogen's, five of its heavy
-  // atom's); the codes, being prefix-stable, are read from the same runs,
-  // which for atoms without keys stop at the codes' own spheres.
-  const std::size_t heavy = molecule.heavy_atom_count();
-  auto depth = [&](std::size_t a) {
-    if (is_keyed(a)) return kMaxHoseSpheres;
-    int d = spheres;
-    if (a < heavy)
-      for (auto it = molecule.neighbours_begin(a); it != molecule.neighbours_end(a); ++it)
-        if (*it >= heavy && molecule.degree(*it) == 1 && is_keyed(*it)) d = std::max(d, kMaxHoseSpheres - 1);
-    return d;
-  };
+  // The keys need up to six spheres (a terminal hydrogen's, five of its
+  // heavy atom's), fewer where the index cannot match deeper; the codes,
+  // being prefix-stable, are read from the same runs, which for atoms
+  // without keys stop at the codes' own spheres.
   const EngineLease engine_ptr(molecule, kMaxHoseSpheres, classes.invariant_rank);
   Engine &engine = *engine_ptr;
+  auto depth = [&](std::size_t a) { return std::max(spheres, key_spheres(engine, molecule, a, is_keyed, index)); };
   code_every_atom(
       molecule, classes, engine,
       [&](std::size_t a) {
         codes[a] = engine.code(static_cast<std::uint32_t>(a), spheres);
-        if (is_keyed(a)) engine.keys(static_cast<std::uint32_t>(a), keys[a]);
+        if (is_keyed(a)) engine.keys(static_cast<std::uint32_t>(a), keys[a], index);
       },
       [&](std::size_t h, std::size_t a, BondOrder bond) {
         codes[h] = engine.hydrogen_code(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, spheres);
         if (is_keyed(h))
-          engine.hydrogen_keys(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, keys[h]);
+          engine.hydrogen_keys(static_cast<std::uint32_t>(h), static_cast<std::uint32_t>(a), bond, keys[h], index);
       },
       [&](std::size_t to, std::size_t from) {
         codes[to] = codes[from];

@@ -221,7 +221,8 @@ Prediction predict(Molecule &&molecule, const Tables &tables, const PredictOptio
     for (std::size_t a = 0; a < keyed.size(); ++a) keyed[a] = detail::lookup_keyed(p.molecule, a);
   }
   p.hose = options.predict_shifts
-               ? detail::hose_codes_and_keys(p.molecule, p.classes, options.hose_spheres, keyed, keys)
+               ? detail::hose_codes_and_keys(p.molecule, p.classes, options.hose_spheres, keyed, keys,
+                                             &tables.reference_index())
                : hose_codes(p.molecule, p.classes, options.hose_spheres);
   if (p.hose.size() != p.molecule.atom_count())
     throw InternalError(fmt::format("hose_codes returned {} codes for {} atoms", p.hose.size(),
@@ -244,7 +245,7 @@ Prediction predict(Molecule &&molecule, const Tables &tables, const PredictOptio
     // Ring perception, recursive-pattern results and HOSE keys are facts of
     // the molecule, not of the nucleus: made once for both.
     detail::MoleculeFacts facts(p.molecule, p.classes);
-    facts.set_all_keys(std::move(keys), std::move(keyed));
+    facts.set_all_keys(std::move(keys), std::move(keyed), tables.reference_index());
     p.c13 = detail::predict_c13_on(p.molecule, p.classes, tables, so, &p.warnings, &facts);
     check_order(p.c13, "predict_c13");
     p.c13_signals = group_signals(p.molecule, p.classes, p.c13);

@@ -9,7 +9,6 @@
 #include <charconv>
 #include <limits>
 #include <cmath>
-#include <map>
 #include <memory>
 #include <string>
 
@@ -150,9 +149,9 @@ class ReferenceLookup final : public ShiftSource {
       }
       inc_done = true;
     };
-    for (int k = kMaxHoseSpheres; k >= 1; --k) {
+    for (int k = keys.depth; k >= 1; --k) {
       const auto &map = index.levels[user_ ? kUser : kBuiltin][nucleus][k];
-      const auto it = map.find(keys[static_cast<std::size_t>(k)]);
+      const auto it = map.find(keys.key[static_cast<std::size_t>(k)]);
       if (it == map.end()) continue;
       const Bucket &b = it->second;
       Summary shift = b.shift, residual = b.residual;
@@ -164,6 +163,8 @@ class ReferenceLookup final : public ShiftSource {
                                       [](const CompoundValue &x, const CompoundValue &y) { return x.compound < y.compound; });
       if (touched) {
         std::vector<double> sv, rv;
+        sv.reserve(b.compounds.size());
+        rv.reserve(b.compounds.size());
         for (const auto &cv : b.compounds) {
           if (std::find(excluded.begin(), excluded.end(), cv.compound) != excluded.end()) continue;
           sv.push_back(cv.shift_ppm);
@@ -178,6 +179,7 @@ class ReferenceLookup final : public ShiftSource {
         if (std::isfinite(inc_q) && q.nucleus == Nucleus::C13 && k >= kC13SameSchemeSphere && k <= kShallowSphere) {
           const auto key = scheme_key(inc_method);
           std::vector<double> rv;
+          rv.reserve(b.compounds.size());
           for (const auto &cv : b.compounds)
             if (cv.scheme == key && std::isfinite(cv.residual_ppm) &&
                 std::find(excluded.begin(), excluded.end(), cv.compound) == excluded.end())
@@ -195,21 +197,20 @@ class ReferenceLookup final : public ShiftSource {
           const double prior = (q.nucleus == Nucleus::C13 ? kC13ResidualPrior : kH1ResidualPrior)[k];
           out.uncertainty_ppm = std::sqrt(prior * prior + residual.sd * residual.sd);
           // Plain appends rather than the formatter: one of these per looked-up atom.
-          std::string compounds = std::to_string(residual.n);
-          compounds += user_ ? " user" : " built-in";
-          compounds += residual.n == 1 ? " reference compound" : " reference compounds";
-          compounds += " at HOSE sphere ";
-          compounds += std::to_string(k);
           std::string &m = out.method;
+          // Room for the longest tail below, so the appends do not regrow it.
+          m.reserve(inc_method.size() + 192);
           m = inc_method;
           m += "; corrected by ";
           m += signed_1(correction);
-          if (correction == residual.median) {
-            m += " ppm, the median residual of ";
-            m += compounds;
-          } else {
-            m += " ppm: the median residual of ";
-            m += compounds;
+          const bool shrunk = correction != residual.median;
+          m += shrunk ? " ppm: the median residual of " : " ppm, the median residual of ";
+          m += std::to_string(residual.n);
+          m += user_ ? " user" : " built-in";
+          m += residual.n == 1 ? " reference compound" : " reference compounds";
+          m += " at HOSE sphere ";
+          m += std::to_string(k);
+          if (shrunk) {
             m += " (";
             m += signed_1(residual.median);
             m += " ppm), shrunk and capped as at every sphere up to ";
@@ -228,8 +229,14 @@ class ReferenceLookup final : public ShiftSource {
       }
       out.ppm = shift.median;
       out.uncertainty_ppm = std::sqrt(levels[k].prior_ppm * levels[k].prior_ppm + shift.sd * shift.sd);
-      out.method = fmt::format("{} reference lookup, HOSE sphere {}, {} compound{}", user_ ? "user" : "built-in",
-                               k, shift.n, shift.n == 1 ? "" : "s");
+      // Plain appends rather than the formatter, as above.
+      std::string &m = out.method;
+      m = user_ ? "user" : "built-in";
+      m += " reference lookup, HOSE sphere ";
+      m += std::to_string(k);
+      m += ", ";
+      m += std::to_string(shift.n);
+      m += shift.n == 1 ? " compound" : " compounds";
       fill_common(out, q, b, excluded, k);
       split_pair(out, q, atom, k, excluded);
       return true;
@@ -258,7 +265,7 @@ class ReferenceLookup final : public ShiftSource {
     const auto &index = q.tables.reference_index();
     for (int j = k; pair.n == 0 && j >= kPairMinSphere; --j) {
       const auto &map = index.levels[user_ ? kUser : kBuiltin][kIndexH1][j];
-      const auto it = map.find(q.keys(atom)[static_cast<std::size_t>(j)]);
+      const auto it = map.find(q.keys(atom).key[static_cast<std::size_t>(j)]);
       if (it == map.end()) continue;
       std::vector<double> hv;
       for (const auto &cv : it->second.compounds)
@@ -343,15 +350,22 @@ const SmartsTarget &MoleculeFacts::smarts_target() const {
   return *target_;
 }
 
-void MoleculeFacts::set_all_keys(std::vector<HoseKeys> keys, std::vector<bool> keyed) {
+void MoleculeFacts::set_all_keys(std::vector<HoseKeys> keys, std::vector<bool> keyed, const ReferenceIndex &index) {
   if (keys.size() != molecule_.atom_count() || (!keyed.empty() && keyed.size() != keys.size()))
     throw InternalError(fmt::format("{} HOSE keys for {} atoms", keys.size(), molecule_.atom_count()));
   keys_ = std::move(keys);
   if (keyed.empty()) keyed.assign(molecule_.atom_count(), true);
   keyed_ = std::move(keyed);
+  keyed_for_ = &index;
 }
 
-const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking) const {
+const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking, const ReferenceIndex &index) const {
+  // Keys stop at the last sphere `index` can match: those made for another
+  // index may stop too early for this one.
+  if (keyed_for_ != &index) {
+    keyed_.clear();
+    keyed_for_ = &index;
+  }
   // One pass over the molecule keys every wanted atom once per class, which
   // costs less than a few single-atom calls; the lookups need only the keys,
   // not the text. An atom's keys do not depend on which others are wanted.
@@ -360,11 +374,11 @@ const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking) const {
     keyed_.assign(molecule_.atom_count(), false);
     for (std::size_t a = 0; a < molecule_.atom_count(); ++a)
       keyed_[a] = lookup_keyed(molecule_, a) && (molecule_.atom(a).atomic_number == 6) == (asking == Nucleus::C13);
-    keys_ = hose_keys(molecule_, classes_, keyed_);
+    keys_ = hose_keys(molecule_, classes_, keyed_, &index);
   }
   if (!keyed_.at(atom)) {
     keyed_.assign(molecule_.atom_count(), true);
-    keys_ = hose_keys(molecule_, classes_, keyed_);
+    keys_ = hose_keys(molecule_, classes_, keyed_, &index);
   }
   return keys_[atom];
 }
@@ -376,13 +390,16 @@ bool lookup_keyed(const Molecule &m, std::size_t atom) {
 std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const ShiftSource *> &sources,
                                const std::vector<std::size_t> &atoms, std::vector<std::string> *warnings) {
   std::vector<Shift> out;
-  std::map<std::uint32_t, std::size_t> by_class;  // chemical class -> position in out
+  out.reserve(atoms.size());
+  // Chemical class -> position in out of its first atom.
+  constexpr auto kNotYet = std::numeric_limits<std::size_t>::max();
+  std::vector<std::size_t> by_class;
   for (auto atom : atoms) {
-    const auto cls = q.classes.chemical[atom];
-    const auto seen = by_class.find(cls);
-    if (seen != by_class.end()) {
+    const std::size_t cls = q.classes.chemical[atom];
+    if (cls >= by_class.size()) by_class.resize(cls + 1, kNotYet);
+    if (by_class[cls] != kNotYet) {
       // Equivalent atoms always share the value.
-      Shift copy = out[seen->second];
+      Shift copy = out[by_class[cls]];
       copy.atom = atom;
       out.push_back(std::move(copy));
       continue;
@@ -401,7 +418,7 @@ std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const Shif
       warnings->push_back(fmt::format("atom {}: no reference environment or increment rule fits; "
                                       "class average with a large uncertainty",
                                       atom));
-    by_class.emplace(cls, out.size());
+    by_class[cls] = out.size();
     out.push_back(std::move(s));
   }
   return out;

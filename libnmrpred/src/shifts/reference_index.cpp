@@ -16,6 +16,24 @@
 
 namespace nmrpred::detail {
 
+void HashSet::assign(const std::vector<std::uint64_t> &values) {
+  unsigned bits = 1;
+  while ((std::size_t{1} << bits) < 2 * values.size()) ++bits;
+  slots_.assign(std::size_t{1} << bits, kEmpty);
+  mask_ = slots_.size() - 1;
+  shift_ = 64 - bits;
+  has_empty_ = false;
+  for (const auto v : values) {
+    if (v == kEmpty) {
+      has_empty_ = true;
+      continue;
+    }
+    std::size_t i = slot(v);
+    while (slots_[i] != kEmpty && slots_[i] != v) i = (i + 1) & mask_;
+    slots_[i] = v;
+  }
+}
+
 std::uint64_t hose_key(const std::vector<std::string> &parts, int spheres) {
   std::uint64_t h = kHoseKeySeed;
   for (int k = 0; k <= spheres && k < static_cast<int>(parts.size()); ++k)
@@ -69,6 +87,8 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
   };
   constexpr double nan = std::numeric_limits<double>::quiet_NaN();
   std::array<std::array<std::array<std::unordered_map<std::uint64_t, std::vector<Raw>>, kMaxHoseSpheres + 1>, 2>, 2> raw;
+  // Per sphere, what goes into index->known and index->known_digests.
+  std::array<std::vector<std::uint64_t>, kMaxHoseSpheres + 1> known, known_digests;
   const ShiftOptions plain;
   index->constitution.resize(compounds.size());
   for (std::uint32_t ci = 0; ci < compounds.size(); ++ci) {
@@ -94,6 +114,7 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     std::vector<bool> keyed(m.atom_count(), false);
     for (std::size_t a = 0; a < m.atom_count(); ++a) keyed[a] = m.atom(a).atomic_number == 6 || m.is_hydrogen(a);
     const auto all_keys = hose_keys(m, classes, keyed);
+    const auto all_digests = hose_digests(m, keyed);
     // The 13C rule value of `centre` and the scheme it comes from (0: none).
     auto c13_rule = [&](std::size_t centre) -> std::pair<double, std::uint64_t> {
       Shift s;
@@ -106,9 +127,11 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     };
     auto add = [&](int nucleus, std::size_t centre, double value, double increment, double half,
                    std::uint64_t scheme = 0) {
-      const auto &keys = all_keys[centre];
-      for (int k = 1; k <= kMaxHoseSpheres; ++k)
+      const auto &keys = all_keys[centre].key;
+      for (int k = 1; k <= kMaxHoseSpheres; ++k) {
         raw[origin][nucleus][k][keys[static_cast<std::size_t>(k)]].push_back({ci, value, increment, half, scheme});
+        known_digests[static_cast<std::size_t>(k)].push_back(all_digests[centre][static_cast<std::size_t>(k)]);
+      }
     };
     auto check_atom = [&](std::uint32_t a) {
       if (a >= m.heavy_atom_count())
@@ -182,7 +205,12 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
           b.shift = summarise(std::move(shifts));
           b.residual = summarise(std::move(residuals));
           index->levels[o][nu][k].emplace(kv.first, std::move(b));
+          known[static_cast<std::size_t>(k)].push_back(kv.first);
         }
+  for (std::size_t k = 1; k <= kMaxHoseSpheres; ++k) {
+    index->known[k].assign(known[k]);
+    index->known_digests[k].assign(known_digests[k]);
+  }
   return index;
 }
 

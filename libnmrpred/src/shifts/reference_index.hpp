@@ -79,28 +79,90 @@ inline std::uint64_t hose_key_part(std::uint64_t h, std::string_view part) {
   return h;
 }
 
-// Per atom, hose_key(hose_spheres(m, classes, atom, kMaxHoseSpheres), k) for
-// k = 0..kMaxHoseSpheres, for the atoms flagged in `wanted` (shorter means
+// key[k] = hose_key(hose_spheres(m, classes, atom, kMaxHoseSpheres), k) for
+// k = 0..depth; deeper keys are not made (zero): no reference atom of the
+// index they were made for can match them (ReferenceIndex::may_match()).
+struct HoseKeys {
+  std::array<std::uint64_t, kMaxHoseSpheres + 1> key{};
+  int depth = kMaxHoseSpheres;
+};
+
+struct ReferenceIndex;
+
+// Per atom, its HoseKeys, for the atoms flagged in `wanted` (shorter means
 // false); other atoms get zeros. Made straight from the HOSE engine's text
 // without building the parts, one engine run per topological class that a
-// wanted atom belongs to. Defined in environments/hose.cpp. Thread rule: pure.
-using HoseKeys = std::array<std::uint64_t, kMaxHoseSpheres + 1>;
-std::vector<HoseKeys> hose_keys(const Molecule &m, const AtomClasses &classes, const std::vector<bool> &wanted);
+// wanted atom belongs to. With `index` (null: every sphere) an atom is keyed
+// only to the deepest sphere whose key the index holds, so the engine stops
+// early for most atoms. Defined in environments/hose.cpp. Thread rule: pure.
+std::vector<HoseKeys> hose_keys(const Molecule &m, const AtomClasses &classes, const std::vector<bool> &wanted,
+                                const ReferenceIndex *index = nullptr);
+// Per atom flagged in `wanted`, element k (k = 0..kMaxHoseSpheres): a digest
+// of what the first k spheres of its code fix whatever the order of their
+// entries (the centre; per sphere the kinds of the atoms written, the bonds
+// of all entries). Equal codes have equal digests, and the digests come from
+// a walk of the graph without the canonical ordering, so a digest that no
+// reference atom has rules a code out before the engine makes it. Other atoms
+// get zeros. Defined in environments/hose.cpp. Thread rule: pure.
+using HoseDigests = std::array<std::uint64_t, kMaxHoseSpheres + 1>;
+std::vector<HoseDigests> hose_digests(const Molecule &m, const std::vector<bool> &wanted);
 // hose_codes(m, classes, spheres) (nmrpred/hose.hpp), and in `keys` the
-// hose_keys() of the atoms flagged in `keyed` and of every atom of their
-// topological classes (others get zeros), from one engine run per
-// topological class. Errors as hose_codes().
+// hose_keys(m, classes, keyed, index) of the atoms flagged in `keyed` and of
+// every atom of their topological classes (others get zeros), from one engine
+// run per topological class. Errors as hose_codes().
 std::vector<std::string> hose_codes_and_keys(const Molecule &m, const AtomClasses &classes, int spheres,
-                                             const std::vector<bool> &keyed, std::vector<HoseKeys> &keys);
+                                             const std::vector<bool> &keyed, std::vector<HoseKeys> &keys,
+                                             const ReferenceIndex *index = nullptr);
 
 // Median and sample standard deviation about it.
 Summary summarise(std::vector<double> values);
+
+// A set of 64-bit hash values, filled once and then only asked: open
+// addressing with linear probing, at most half full, so most questions read
+// one slot (a sorted array took a dozen steps of binary search).
+class HashSet {
+ public:
+  void assign(const std::vector<std::uint64_t> &values);
+  bool contains(std::uint64_t value) const noexcept {
+    if (value == kEmpty) return has_empty_;
+    for (std::size_t i = slot(value);; i = (i + 1) & mask_) {
+      if (slots_[i] == value) return true;
+      if (slots_[i] == kEmpty) return false;
+    }
+  }
+
+ private:
+  static constexpr std::uint64_t kEmpty = 0;
+  // Multiplicative hashing (common practice): the top bits of value * an odd
+  // constant.
+  std::size_t slot(std::uint64_t value) const noexcept {
+    return static_cast<std::size_t>((value * 0x9E3779B97F4A7C15ull) >> shift_);
+  }
+  std::vector<std::uint64_t> slots_ = std::vector<std::uint64_t>(2, kEmpty);
+  std::size_t mask_ = 1;
+  unsigned shift_ = 63;
+  bool has_empty_ = false;  // whether kEmpty itself is in the set
+};
 
 struct ReferenceIndex {
   // levels[origin][nucleus][k] maps hose_key(parts, k), k = 1..kMaxHoseSpheres.
   std::array<std::array<std::array<std::unordered_map<std::uint64_t, Bucket>, kMaxHoseSpheres + 1>, 2>, 2> levels;
   std::vector<std::uint64_t> constitution;  // per compound
   bool has_user = false;
+  // known[k]: every key of levels[*][*][k] (both origins, both nuclei).
+  // Each reference atom is entered at all spheres 1..kMaxHoseSpheres, so a
+  // key missing here at sphere k rules out every deeper match.
+  std::array<HashSet, kMaxHoseSpheres + 1> known;
+  // known_digests[k]: hose_digests() at sphere k of every reference atom in
+  // levels.
+  std::array<HashSet, kMaxHoseSpheres + 1> known_digests;
+  // Whether some lookup at sphere k could find `key`.
+  bool may_match(int k, std::uint64_t key) const { return known[static_cast<std::size_t>(k)].contains(key); }
+  // Whether some reference atom's code could agree with one whose digest at
+  // sphere k is `digest`: if not, no lookup at sphere k or deeper can match.
+  bool digest_may_match(int k, std::uint64_t digest) const {
+    return known_digests[static_cast<std::size_t>(k)].contains(digest);
+  }
 };
 
 // Needs tables.reference() and tables.c13_increments(); not tables.reference_index().

@@ -30,13 +30,13 @@ class MoleculeFacts {
  public:
   MoleculeFacts(const Molecule &m, const AtomClasses &c) : molecule_(m), classes_(c) {}
   const SmartsTarget &smarts_target() const;
-  // hose_key() of the atom's HOSE code with 0..kMaxHoseSpheres spheres. The
-  // first call keys the atoms of the asking nucleus in one pass (unless
-  // set_all_keys() came first); an atom outside that pass keys them all.
-  const HoseKeys &keys(std::size_t atom, Nucleus asking) const;
-  // Takes the keys made by the caller (hose_codes_and_keys) of the atoms
-  // flagged in `keyed` (all atoms when it is empty).
-  void set_all_keys(std::vector<HoseKeys> keys, std::vector<bool> keyed = {});
+  // The atom's HoseKeys for lookups in `index`. The first call keys the
+  // atoms of the asking nucleus in one pass (unless set_all_keys() came first
+  // with the same index); an atom outside that pass keys them all.
+  const HoseKeys &keys(std::size_t atom, Nucleus asking, const ReferenceIndex &index) const;
+  // Takes the keys made by the caller (hose_codes_and_keys) for `index` of
+  // the atoms flagged in `keyed` (all atoms when it is empty).
+  void set_all_keys(std::vector<HoseKeys> keys, std::vector<bool> keyed, const ReferenceIndex &index);
 
  private:
   const Molecule &molecule_;
@@ -44,6 +44,8 @@ class MoleculeFacts {
   mutable std::unique_ptr<SmartsTarget> target_;
   mutable std::vector<bool> keyed_;
   mutable std::vector<HoseKeys> keys_;
+  // The index keys_ stop for (see hose_keys()).
+  mutable const ReferenceIndex *keyed_for_ = nullptr;
 };
 
 // Everything a source may look at for one molecule.
@@ -62,9 +64,8 @@ class ShiftQuery {
   // constitution_key() of the molecule, computed on first use (only blind
   // mode needs it).
   std::uint64_t constitution() const;
-  // hose_key() of the atom's HOSE code with 0..kMaxHoseSpheres spheres
-  // (MoleculeFacts::keys).
-  const HoseKeys &keys(std::size_t atom) const { return facts().keys(atom, nucleus); }
+  // The atom's HoseKeys for tables.reference_index() (MoleculeFacts::keys).
+  const HoseKeys &keys(std::size_t atom) const { return facts().keys(atom, nucleus, tables.reference_index()); }
   // Blind mode: reference compounds with the query's constitution (sorted);
   // empty otherwise. Needs tables.reference_index().
   const std::vector<std::uint32_t> &excluded_compounds() const;
