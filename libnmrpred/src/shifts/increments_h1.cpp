@@ -630,6 +630,7 @@ class H1Increments final : public ShiftSource {
       target_ = &t;
       query_ = &q;
       benzene_rings_.clear();
+      hetero_matches_.clear();
       by_proton_.clear();
       by_carrier_.clear();
     }
@@ -775,18 +776,14 @@ class H1Increments final : public ShiftSource {
   // --- heteroaromatic base values -------------------------------------------
   std::optional<Estimate> hetero(const SmartsTarget &t, std::size_t k) const {
     const Molecule &m = t.molecule();
-    for (const auto &row : tab_.hetero) {
-      // Most rows fail: the plain anchored test costs less than setting up
-      // the search that reports the mapping, which only the first hit needs.
-      if (!match_at(row.smarts, t, k)) continue;
-      std::vector<std::int64_t> fixed(row.smarts.atom_count(), -1);
-      fixed[0] = static_cast<std::int64_t>(k);
-      std::vector<std::uint32_t> map;
-      for_each_match(row.smarts, t, fixed, {}, [&](const std::vector<std::uint32_t> &mp) {
-        map = mp;
-        return true;
-      });
-      if (map.empty()) continue;
+    for (std::size_t r = 0; r < tab_.hetero.size(); ++r) {
+      const HeteroRow &row = tab_.hetero[r];
+      // The anchored screen of match_at rejects most rows for this proton
+      // before the row's mappings are looked at (or searched for).
+      if (!row.smarts.root_may_match(t.packed(k))) continue;
+      const auto *found = first_mapping_at(row.smarts, hetero_matches(t, r), k);
+      if (!found) continue;
+      const std::vector<std::uint32_t> &map = *found;
       // The first matching row names the parent; FORMAT.md keeps the rows
       // of different parents apart, so no other row can apply.
       std::vector<bool> in_ring(m.atom_count(), false);
@@ -826,6 +823,40 @@ class H1Increments final : public ShiftSource {
       return from_sum(s, unaccounted);
     }
     return std::nullopt;
+  }
+
+  // Every mapping of h1_heteroaromatic row `r` in the molecule, found on
+  // the first proton that gets to the row. One whole-molecule search per row
+  // costs less than anchored tries of the row at every such proton: it
+  // rejects a row whose ring no ring system of the molecule can hold before
+  // any search, and most rows fail so. Rows after every proton's first hit
+  // are never searched.
+  const std::vector<std::vector<std::uint32_t>> &hetero_matches(const SmartsTarget &t, std::size_t r) const {
+    if (hetero_matches_.empty()) hetero_matches_.resize(tab_.hetero.size());
+    auto &slot = hetero_matches_[r];
+    if (!slot) slot = all_matches(tab_.hetero[r].smarts, t);
+    return *slot;
+  }
+
+  // Of the mappings of `p` in `maps`, the first one with pattern atom 0 on
+  // atom k in the order for_each_match with only atom 0 fixed visits them
+  // (ascending along search_order(0)), or null: the rows name the parent
+  // ring by the first such mapping.
+  static const std::vector<std::uint32_t> *first_mapping_at(const SmartsPattern &p,
+                                                           const std::vector<std::vector<std::uint32_t>> &maps,
+                                                           std::size_t k) {
+    const std::vector<std::uint32_t> *best = nullptr;
+    const auto &order = p.search_order(0);
+    for (const auto &map : maps) {
+      if (map[0] != k) continue;
+      if (best) {
+        std::size_t i = 0;
+        while (i < order.size() && map[order[i]] == (*best)[order[i]]) ++i;
+        if (i == order.size() || map[order[i]] > (*best)[order[i]]) continue;
+      }
+      best = &map;
+    }
+    return best;
   }
 
   // Adds to `s` the benzene increments of the groups on the aromatic ring
@@ -1399,6 +1430,7 @@ class H1Increments final : public ShiftSource {
   mutable const ShiftQuery *query_ = nullptr;
   mutable const SmartsTarget *target_ = nullptr;
   mutable std::vector<std::optional<BenzeneRing>> benzene_rings_;  // see benzene_ring()
+  mutable std::vector<std::optional<std::vector<std::vector<std::uint32_t>>>> hetero_matches_;  // see hetero_matches()
   mutable std::vector<Memo> by_proton_, by_carrier_;  // see evaluate()
 };
 
