@@ -20,8 +20,9 @@
 #include <algorithm>
 #include <array>
 #include <cctype>
-#include <charconv>
 #include <cmath>
+#include <cstdint>
+#include <cstring>
 #include <initializer_list>
 #include <optional>
 #include <string>
@@ -98,17 +99,41 @@ constexpr double kRingEnonePpm = 0.4;
 
 // Appends v as fmt's "{:.2f}" writes it, except that -0.00 is written 0.00.
 void append_ppm(std::string &out, double v) {
-  // std::to_chars rounds the exact binary value as fmt's "{:.2f}" does, at a
-  // fraction of the cost; a method text holds several of these, written in
-  // place rather than through a temporary.
-  if (!std::isfinite(v)) {
+  // fmt's "{:.2f}" rounds the exact binary value, ties to even. For |v| <
+  // 2^52 that is exact integer arithmetic: v = m * 2^-shift, so 100 v (m
+  // below 2^53, 100 m below 2^60) rounds to whole hundredths by a shift and
+  // the bits it drops. A method text holds several values, and this costs a
+  // tenth of std::to_chars.
+  std::uint64_t bits = 0;
+  std::memcpy(&bits, &v, sizeof bits);
+  const auto biased = static_cast<int>(bits >> 52 & 0x7FF);
+  std::uint64_t m = bits & ((std::uint64_t{1} << 52) - 1);
+  if (biased != 0) m |= std::uint64_t{1} << 52;
+  const int shift = biased != 0 ? 1075 - biased : 1074;
+  if (shift <= 0) {  // |v| >= 2^52, infinite or not a number: left to the formatter
     out += fmt::format("{:.2f}", v);
     return;
   }
-  char buf[32];
-  const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
-  const std::string_view text(buf, static_cast<std::size_t>(r.ptr - buf));
-  out += text == "-0.00" ? std::string_view("0.00") : text;
+  std::uint64_t hundredths = 0;  // |v| < 2^-11 when shift >= 64: rounds to 0
+  if (shift < 64) {
+    const std::uint64_t x = m * 100;
+    hundredths = x >> shift;
+    const std::uint64_t dropped = x & ((std::uint64_t{1} << shift) - 1), half = std::uint64_t{1} << (shift - 1);
+    if (dropped > half || (dropped == half && (hundredths & 1) != 0)) ++hundredths;
+  }
+  char buf[24];
+  char *const end = buf + sizeof buf;
+  char *p = end;
+  const auto fraction = static_cast<unsigned>(hundredths % 100);
+  *--p = static_cast<char>('0' + fraction % 10);
+  *--p = static_cast<char>('0' + fraction / 10);
+  *--p = '.';
+  for (std::uint64_t whole = hundredths / 100;; whole /= 10) {
+    *--p = static_cast<char>('0' + whole % 10);
+    if (whole < 10) break;
+  }
+  if ((bits >> 63) != 0 && hundredths != 0) *--p = '-';
+  out.append(p, end);
 }
 
 std::string fmt_ppm(double v) {
@@ -141,6 +166,7 @@ struct Param {
 struct ShooleryTable {
   bool present = false;
   Param shoolery_base;
+  std::string shoolery_base_label;                // "base " + shoolery_base.label
   std::array<Param, 4> alkane;                    // by H count 1..3
   Param ring4;                                    // four-membered ring term
   std::vector<ValueRow> sigma;
@@ -160,6 +186,7 @@ struct AlkeneRow {
 struct AlkeneTable {
   bool present = false;
   Param base;
+  std::string base_label;  // "base <ppm>", the sums' first term
   std::vector<AlkeneRow> rows;
   std::vector<AlkeneRow> ring5;  // kind ring-correction (FORMAT.md, h1_alkene)
 };
@@ -173,6 +200,7 @@ struct BenzeneRow {
 struct BenzeneTable {
   bool present = false;
   Param base;
+  std::string base_label;  // "base <ppm>", the sums' first term
   std::vector<BenzeneRow> rows;
 };
 
@@ -187,6 +215,10 @@ struct SpecialRow {
   std::string id, solvent;  // solvent "*" = any
   Opt typical_ppm;
   double min_ppm = 0, max_ppm = 0;
+  // The estimate the row gives and its method text (special_estimate()),
+  // the same for every proton.
+  double ppm = 0;
+  std::string method;
 };
 
 struct SpecialGroup {
@@ -258,6 +290,7 @@ void read_shoolery(const Tables &tables, ShooleryTable &out) {
     }
     if (!known) r.fail(row, fmt::format("unknown kind '{}'", kind));
   }
+  if (out.shoolery_base.set) out.shoolery_base_label = "base " + out.shoolery_base.label;
   out.present = true;
 }
 
@@ -296,6 +329,7 @@ void read_alkene(const Tables &tables, AlkeneTable &out) {
     }
   }
   if (!out.base.set) throw TablesError(fmt::format("{}: no base row", path));
+  out.base_label = "base " + fmt_ppm(out.base.ppm);
   out.present = true;
 }
 
@@ -321,6 +355,7 @@ void read_benzene(const Tables &tables, BenzeneTable &out) {
     }
   }
   if (!out.base.set) throw TablesError(fmt::format("{}: no base row", path));
+  out.base_label = "base " + fmt_ppm(out.base.ppm);
   out.present = true;
 }
 
@@ -340,6 +375,22 @@ void read_hetero(const Tables &tables, std::vector<HeteroRow> &out) {
     h.scheme = fmt::format("heteroaromatic base value ({}, position {})", h.ring, h.position);
     h.label = labelled(h.id, h.ppm);
     out.push_back(std::move(h));
+  }
+}
+
+// Fills r.ppm and r.method. tables/FORMAT.md: min..max is a wide range for
+// matching measured peaks; half of it is the spread we report. A row without
+// a typical value gives the middle of its range.
+void special_estimate(const std::string &group, SpecialRow &r) {
+  const std::string where = r.solvent == "*" ? std::string("any solvent") : r.solvent;
+  if (r.typical_ppm) {
+    r.ppm = *r.typical_ppm;
+    r.method = fmt::format("typical value of the group '{}' in {}: {} {} (range {}-{})", group, where, r.id,
+                           fmt_ppm(r.ppm), fmt_ppm(r.min_ppm), fmt_ppm(r.max_ppm));
+  } else {
+    r.ppm = 0.5 * (r.min_ppm + r.max_ppm);
+    r.method = fmt::format("group '{}' in {}: {} gives no typical value; middle of the range {}-{} = {}", group,
+                           where, r.id, fmt_ppm(r.min_ppm), fmt_ppm(r.max_ppm), fmt_ppm(r.ppm));
   }
 }
 
@@ -375,6 +426,7 @@ void read_special(const Tables &tables, std::vector<SpecialGroup> &out) {
       r.fail(row, "typical_ppm must lie within min_ppm..max_ppm");
     for (const auto &other : it->rows)
       if (other.solvent == s.solvent) r.fail(row, fmt::format("group '{}' lists solvent '{}' twice", name, s.solvent));
+    special_estimate(name, s);
     it->rows.push_back(std::move(s));
   }
 }
@@ -388,20 +440,23 @@ void read_solvents(const Tables &tables, H1IncrementTables &out) {
 }
 
 // ---------------------------------------------------------------------------
-// A sum of increments, kept term by term for the method text.
-
+// A sum of increments, kept term by term for the method text. The scheme
+// name (in pieces, written one after another), the base label, roles and row
+// ids are views of literals or of the parsed tables, which outlive every Sum:
+// a proton's estimate then copies no string but its method text.
 class Sum {
  public:
-  Sum(std::string scheme, Spread spread) : scheme_(std::move(scheme)), spread_(spread) {}
-  void base(std::string label, double ppm) {
-    base_label_ = std::move(label);
+  Sum(const std::array<std::string_view, 5> &scheme, Spread spread) : scheme_(scheme), spread_(spread) {}
+  void base(std::string_view label, double ppm) {
+    base_label_ = label;
     base_ppm_ = ppm;
   }
-  void add(const std::string &role, const std::string &id, double ppm) {
+  void add(std::string_view role, std::string_view id, double ppm) {
+    if (terms_.empty()) terms_.reserve(8);
     terms_.push_back(Term{role, id, ppm});
   }
-  void note(const std::string &text) {
-    if (std::find(notes_.begin(), notes_.end(), text) == notes_.end()) notes_.push_back(text);
+  void note(std::string text) {
+    if (std::find(notes_.begin(), notes_.end(), text) == notes_.end()) notes_.push_back(std::move(text));
   }
   void widen(double ppm) { extra_var_ += ppm * ppm; }
   double ppm() const {
@@ -415,10 +470,13 @@ class Sum {
   }
   double uncertainty() const { return uncertainty(static_cast<int>(terms_.size())); }
   std::string method() const {
-    // Plain appends: every proton's estimate writes one of these.
     std::string s;
-    s.reserve(scheme_.size() + base_label_.size() + 16 + 32 * terms_.size());
-    s += scheme_;
+    std::size_t size = base_label_.size() + 16;
+    for (auto part : scheme_) size += part.size();
+    for (const auto &t : terms_) size += t.role.size() + t.id.size() + 16;
+    for (const auto &n : notes_) size += n.size() + 3;
+    s.reserve(size);
+    for (auto part : scheme_) s += part;
     s += ": ";
     s += base_label_;
     for (const auto &t : terms_) {
@@ -441,12 +499,12 @@ class Sum {
 
  private:
   struct Term {
-    std::string role, id;
+    std::string_view role, id;
     double ppm;
   };
-  std::string scheme_;
+  std::array<std::string_view, 5> scheme_;
   Spread spread_;
-  std::string base_label_;
+  std::string_view base_label_;
   double base_ppm_ = 0;
   std::vector<Term> terms_;
   std::vector<std::string> notes_;
@@ -651,30 +709,18 @@ class H1Increments final : public ShiftSource {
     return nullptr;
   }
 
-  static Estimate special_value(const SpecialGroup &g, const SpecialRow &r, const std::string &solvent) {
-    // tables/FORMAT.md: min..max is a wide range for matching measured
-    // peaks; half of it is the spread we report. A row without a typical
-    // value gives the middle of its range.
+  static Estimate special_value(const SpecialRow &r) {
     Estimate e;
-    const double half = 0.5 * (r.max_ppm - r.min_ppm);
-    e.uncertainty_ppm = half;
-    const std::string where = r.solvent == "*" ? std::string("any solvent") : solvent;
-    if (r.typical_ppm) {
-      e.ppm = *r.typical_ppm;
-      e.method = fmt::format("typical value of the group '{}' in {}: {} {} (range {}-{})", g.name, where, r.id,
-                             fmt_ppm(e.ppm), fmt_ppm(r.min_ppm), fmt_ppm(r.max_ppm));
-    } else {
-      e.ppm = 0.5 * (r.min_ppm + r.max_ppm);
-      e.method = fmt::format("group '{}' in {}: {} gives no typical value; middle of the range {}-{} = {}", g.name,
-                             where, r.id, fmt_ppm(r.min_ppm), fmt_ppm(r.max_ppm), fmt_ppm(e.ppm));
-    }
+    e.ppm = r.ppm;
+    e.uncertainty_ppm = 0.5 * (r.max_ppm - r.min_ppm);
+    e.method = r.method;
     return e;
   }
 
   std::optional<Estimate> special_ch(const SpecialGroup &g) const {
     const auto *row = special_row(g);
     if (!row) return std::nullopt;  // FORMAT.md: not covered in this solvent
-    return special_value(g, *row, solvent_name_);
+    return special_value(*row);
   }
 
   std::optional<Estimate> labile(const SpecialGroup *g) const {
@@ -697,7 +743,7 @@ class H1Increments final : public ShiftSource {
     }
     const auto *row = special_row(*g);
     if (!row) return std::nullopt;
-    auto e = special_value(*g, *row, solvent_name_);
+    auto e = special_value(*row);
     e.exchangeable = g->exchanges;
     if (g->exchanges) e.method += "; moves with concentration, water and temperature";
     return e;
@@ -712,8 +758,8 @@ class H1Increments final : public ShiftSource {
       if (!br.benzenoid) continue;
       const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
       const char *const relation[] = {"", "ortho", "meta", "para"};
-      Sum s("benzene increments", kBenzeneSpread);
-      s.base("base " + fmt_ppm(tab_.benzene.base.ppm), tab_.benzene.base.ppm);
+      Sum s({"benzene increments"}, kBenzeneSpread);
+      s.base(tab_.benzene.base_label, tab_.benzene.base.ppm);
       bool ok = true;
       for (const auto &g : br.groups) {
         const int rel = std::min(std::abs(g.position - ik), 6 - std::abs(g.position - ik));
@@ -811,15 +857,15 @@ class H1Increments final : public ShiftSource {
       // tautomers, so N-substituted azoles without a row of their own
       // (1-alkylimidazole, 1-alkylpyrazole) are not covered.
       if (nitrogens >= 2 && n_substituted) return std::nullopt;
-      Sum s(row.scheme, kHeteroSpread);
+      Sum s({row.scheme}, kHeteroSpread);
       s.base(row.label, row.ppm);
       // Substituents on ring carbons take the benzene increment for their
       // relation to the proton, counted in bonds inside the parent
       // (tables/FORMAT.md, h1_heteroaromatic); the rest are not accounted for.
       const int unaccounted = substituents - carry_benzene_terms(t, k, map, in_ring, s);
       if (unaccounted > 0)
-        s.note(fmt::format("{} ring substituent{} not accounted for: the table gives no increments for this ring",
-                           unaccounted, unaccounted == 1 ? "" : "s"));
+        s.note(std::to_string(unaccounted) + (unaccounted == 1 ? " ring substituent" : " ring substituents") +
+               " not accounted for: the table gives no increments for this ring");
       return from_sum(s, unaccounted);
     }
     return std::nullopt;
@@ -876,7 +922,7 @@ class H1Increments final : public ShiftSource {
       for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
         if (in_ring[z] && dist[z] < 0) dist[z] = dist[queue[i]] + 1, queue.push_back(z);
       });
-    const char *const relation[] = {"", "ortho", "meta", "para"};
+    const char *const relation[] = {"", "ortho (carried over)", "meta (carried over)", "para (carried over)"};
     int carried = 0;
     for (auto a : map) {
       const auto &at = m.atom(a);
@@ -886,7 +932,7 @@ class H1Increments final : public ShiftSource {
         const auto *b = first_row(tab_.benzene.rows, t, x, in_ring);
         if (!b) return;
         const auto rel = static_cast<std::size_t>(dist[a]);
-        s.add(fmt::format("{} (carried over)", relation[rel]), b->id, b->by_relation[rel]);
+        s.add(relation[rel], b->id, b->by_relation[rel]);
         s.widen(kCarriedOverPpm);
         ++carried;
       });
@@ -1017,14 +1063,14 @@ class H1Increments final : public ShiftSource {
       }
     }
 
-    Sum s("alkene increments (Pascual-Meier-Simon)", kAlkeneSpread);
-    s.base("base " + fmt_ppm(tab.base.ppm), tab.base.ppm);
+    Sum s({"alkene increments (Pascual-Meier-Simon)"}, kAlkeneSpread);
+    s.base(tab.base_label, tab.base.ppm);
     int count = 0;
     auto term = [&](std::size_t x, const char *role) -> bool {
       if (m.is_hydrogen(x)) return true;
       const auto *row = row_for(x);
       if (!row) return false;
-      const std::string r(role);
+      const std::string_view r(role);
       s.add(r, row->id, r == "gem" ? row->gem : r == "cis" ? row->cis : row->trans);
       ++count;
       return true;
@@ -1131,8 +1177,8 @@ class H1Increments final : public ShiftSource {
       if (y == cb) continue;
       std::vector<bool> skeleton(m.atom_count(), false);
       skeleton[ca] = skeleton[cb] = true;
-      Sum s("alkene increments (Pascual-Meier-Simon)", kAlkeneSpread);
-      s.base("base " + fmt_ppm(tab_.alkene.base.ppm), tab_.alkene.base.ppm);
+      Sum s({"alkene increments (Pascual-Meier-Simon)"}, kAlkeneSpread);
+      s.base(tab_.alkene.base_label, tab_.alkene.base.ppm);
       int count = 0;
       bool donor = false, acceptor = false;
       auto term = [&](std::size_t x, const char *role) -> bool {
@@ -1148,7 +1194,7 @@ class H1Increments final : public ShiftSource {
                           [&](const AlkeneRow &r) { return variant_holds(t, r.variant, ca, cb, x); });
         }
         if (!row) return false;
-        const std::string r(role);
+        const std::string_view r(role);
         s.add(r, row->id, r == "gem" ? row->gem : r == "cis" ? row->cis : row->trans);
         ++count;
         return true;
@@ -1240,8 +1286,8 @@ class H1Increments final : public ShiftSource {
     const auto nbrs = heavy_neighbours(m, c);
     if (n_h == 4) {
       if (!tab.shoolery_base.set) return std::nullopt;
-      Sum s("Shoolery's rule", kShoolerySpread);
-      s.base("base " + tab.shoolery_base.label, tab.shoolery_base.ppm);
+      Sum s({"Shoolery's rule"}, kShoolerySpread);
+      s.base(tab.shoolery_base_label, tab.shoolery_base.ppm);
       return from_sum(s);
     }
     if (n_h < 1 || n_h > 3) return std::nullopt;
@@ -1294,8 +1340,8 @@ class H1Increments final : public ShiftSource {
       // Shoolery's rule for CH2XY: 0.23 + sigma(X) + sigma(Y); clean alkyl
       // takes the sigma of row sigma-alkyl (FORMAT.md, h1_shoolery step 1).
       if (!tab.shoolery_base.set) return std::nullopt;
-      Sum s("Shoolery's rule", spread);
-      s.base("base " + tab.shoolery_base.label, tab.shoolery_base.ppm);
+      Sum s({"Shoolery's rule"}, spread);
+      s.base(tab.shoolery_base_label, tab.shoolery_base.ppm);
       for (auto n : nbrs) {
         const auto *row = first_row(tab.sigma, t, n, skeleton);
         if (!row) return std::nullopt;
@@ -1336,8 +1382,7 @@ class H1Increments final : public ShiftSource {
       if (!beta.empty()) {
         // A group alpha and others beta (FORMAT.md step 3b): the alpha row
         // plus each beta row's step above the plain alkane, as in step 3a.
-        Sum s(fmt::format("position table ({} alpha to a group, beta to others, additive)", type[n_h]),
-              kAlphaBetaSpread);
+        Sum s({"position table (", type[n_h], " alpha to a group, beta to others, additive)"}, kAlphaBetaSpread);
         s.base(row->label, row->ppm);
         if (!add_beta_steps(t, c, n_h, beta, s)) return std::nullopt;
         return from_sum(s);
@@ -1345,7 +1390,7 @@ class H1Increments final : public ShiftSource {
       static constexpr std::string_view kDerived = "-arylamino";
       const bool derived = row->id.size() > kDerived.size() &&
                            row->id.compare(row->id.size() - kDerived.size(), kDerived.size(), kDerived) == 0;
-      Sum s(fmt::format("position table ({} alpha to a group)", type[n_h]), derived ? kDerivedAlphaSpread : kAlphaSpread);
+      Sum s({"position table (", type[n_h], " alpha to a group)"}, derived ? kDerivedAlphaSpread : kAlphaSpread);
       s.base(row->label, row->ppm);
       return from_sum(s, 0);
     }
@@ -1355,7 +1400,7 @@ class H1Increments final : public ShiftSource {
         // Exactly one group one bond further away (FORMAT.md step 3).
         const auto *row = first_row(tab.beta[n_h], t, beta[0], skeleton);
         if (!row) return std::nullopt;
-        Sum s(fmt::format("position table ({} beta to a group)", type[n_h]), kBetaSpread);
+        Sum s({"position table (", type[n_h], " beta to a group)"}, kBetaSpread);
         s.base(row->label, row->ppm);
         return from_sum(s, 0);
       }
@@ -1363,7 +1408,7 @@ class H1Increments final : public ShiftSource {
     }
     const auto &alk = tab.alkane[n_h];
     if (!alk.set) return std::nullopt;
-    Sum s(fmt::format("position table ({} with no group within two bonds)", type[n_h]), kAlkaneSpread);
+    Sum s({"position table (", type[n_h], " with no group within two bonds)"}, kAlkaneSpread);
     s.base(alk.label, alk.ppm);
     return from_sum(s, 0);
   }
@@ -1381,8 +1426,7 @@ class H1Increments final : public ShiftSource {
       for_heavy_neighbours(t.molecule(), b, [&](std::size_t y, BondOrder) {
         groups += y != c && !is_sp3_carbon(t.molecule(), y);
       });
-    Sum s(fmt::format("position table ({} beta to {}, additive)", type[n_h],
-                      groups == 1 ? "a group" : "several groups"),
+    Sum s({"position table (", type[n_h], " beta to ", groups == 1 ? "a group" : "several groups", ", additive)"},
           kBetaSumSpread);
     s.base(alk.label, alk.ppm);
     if (!add_beta_steps(t, c, n_h, beta, s)) return std::nullopt;
