@@ -1269,7 +1269,7 @@ class H1Increments final : public ShiftSource {
     // aziridines) is not covered (FORMAT.md). A carbon of a four-membered
     // ring takes the open-chain value plus the ring term of row ring4-ch2
     // (FORMAT.md, h1_shoolery step 4); without that row it is not covered.
-    const int ring = t.smallest_ring(c);
+    const int ring = small_ring(t.molecule(), c);
     if (ring == 3 || (ring == 4 && !tab.ring4.set)) return std::nullopt;
     auto est = sp3_chain(t, c);
     if (!est || ring != 4) return est;
@@ -1277,6 +1277,28 @@ class H1Increments final : public ShiftSource {
     est->uncertainty_ppm = std::hypot(est->uncertainty_ppm, kRing4Ppm);
     est->method += fmt::format(" + four-membered ring {} {} = {}", tab.ring4.id, fmt_ppm(tab.ring4.ppm), fmt_ppm(est->ppm));
     return est;
+  }
+
+  // SmartsTarget::smallest_ring(c) where that is 3 or 4, else 0, without
+  // ring perception, which costs more than the rest of most molecules' rules.
+  // The smallest rings (graph/smarts.hpp) keep every triangle, and a
+  // four-cycle through an atom on no triangle is no sum of triangles (a
+  // triangle holding one of its bonds at the atom would hold the atom), so
+  // it is kept too: both show in the atom's neighbourhood.
+  static int small_ring(const Molecule &m, std::size_t c) {
+    std::size_t nbrs[4];
+    std::size_t n = 0;
+    for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) {
+      if (n < 4) nbrs[n++] = x;
+    });
+    for (std::size_t i = 0; i < n; ++i)
+      for (std::size_t j = i + 1; j < n; ++j)
+        if (m.bond_between(nbrs[i], nbrs[j]) >= 0) return 3;
+    for (std::size_t i = 0; i < n; ++i)
+      for (std::size_t j = i + 1; j < n; ++j)
+        for (auto it = m.neighbours_begin(nbrs[i]); it != m.neighbours_end(nbrs[i]); ++it)
+          if (*it != c && !m.is_hydrogen(*it) && m.bond_between(*it, nbrs[j]) >= 0) return 4;
+    return 0;
   }
 
   std::optional<Estimate> sp3_chain(const SmartsTarget &t, std::size_t c) const {
