@@ -572,6 +572,106 @@ const Row *first_row(const std::vector<Row> &rows, const SmartsTarget &t, std::s
 }
 
 // ---------------------------------------------------------------------------
+// Rings without ring perception
+
+// `cycle`, a ring that is its atoms' whole ring system (in either direction
+// from any atom), in the order SmartsTarget::rings() lists it. Perception
+// (graph/smarts.cpp) first finds the ring from its lowest atom r0, breadth
+// first, taking neighbours in list order and never crossing a bridge, so
+// each side of the ring is one tree path, and the side of r0's first-listed
+// ring neighbour reaches every depth first (and the far atom of an even
+// ring). The one ring bond off the tree closes the ring, which runs from r0
+// along the tree to that bond's first atom and back along the other side.
+std::vector<std::uint32_t> rings_order(const Molecule &m, const std::vector<std::uint32_t> &cycle) {
+  const std::size_t size = cycle.size(),
+                    i0 = static_cast<std::size_t>(std::min_element(cycle.begin(), cycle.end()) - cycle.begin());
+  auto at = [&](std::size_t step, bool forward) {
+    return cycle[forward ? (i0 + step) % size : (i0 + size - step % size) % size];
+  };
+  bool first_forward = true;
+  for (auto it = m.neighbours_begin(cycle[i0]); it != m.neighbours_end(cycle[i0]); ++it) {
+    if (*it == at(1, true)) break;
+    if (*it == at(1, false)) {
+      first_forward = false;
+      break;
+    }
+  }
+  const std::size_t half = size / 2;
+  // The closing bond's atom on the first side (the far atom of an even ring)
+  // and on the other side.
+  const auto near_end = at(half, first_forward);
+  const auto far_end = at(size % 2 == 0 ? half - 1 : half, !first_forward);
+  const auto &closing = m.bond(static_cast<std::size_t>(m.bond_between(near_end, far_end)));
+  const bool forward = closing.begin == near_end ? first_forward : !first_forward;
+  std::vector<std::uint32_t> out(size);
+  for (std::size_t i = 0; i < size; ++i) out[i] = at(i, forward);
+  return out;
+}
+
+}  // namespace
+
+std::vector<std::uint32_t> lone_ring(const Molecule &m, std::size_t k) {
+  // The ring: the cycle of aromatic bonds through k, each atom on it with
+  // exactly two. It is the whole ring system when every other bond of its
+  // atoms is a bridge: a search from the far atom of each such bond, not
+  // crossing it, reaches neither the ring nor another such search.
+  constexpr std::size_t kMaxSize = 8;  // larger rings are left to perception
+  const std::size_t n = m.heavy_atom_count();
+  if (k >= n) return {};
+  auto ring_neighbours = [&](std::size_t a, std::size_t (&out)[2]) {
+    std::size_t count = 0;
+    const auto *bid = m.bond_ids_begin(a);
+    for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid)
+      if (*it < n && m.bond(*bid).order == BondOrder::Aromatic) {
+        if (count < 2) out[count] = *it;
+        ++count;
+      }
+    return count;
+  };
+  std::vector<std::uint32_t> cycle{static_cast<std::uint32_t>(k)};
+  std::size_t prev = k, cur = k;
+  for (;;) {
+    std::size_t next[2];
+    if (ring_neighbours(cur, next) != 2) return {};
+    const std::size_t step = cur == k ? next[0] : (next[0] != prev ? next[0] : next[1]);
+    if (step == k) break;
+    if (cycle.size() == kMaxSize) return {};
+    cycle.push_back(static_cast<std::uint32_t>(step));
+    prev = cur, cur = step;
+  }
+  // 0 unseen, 1 on the ring, else 2 + the number of the search that reached it.
+  std::vector<std::uint32_t> seen(n, 0);
+  for (auto a : cycle) seen[a] = 1;
+  std::vector<std::size_t> queue;
+  std::uint32_t search = 2;
+  for (auto r : cycle) {
+    const auto *bid = m.bond_ids_begin(r);
+    for (auto it = m.neighbours_begin(r); it != m.neighbours_end(r); ++it, ++bid) {
+      const std::size_t x = *it;
+      if (x >= n) continue;
+      if (seen[x] == 1) {
+        if (m.bond(*bid).order != BondOrder::Aromatic) return {};  // a chord
+        continue;
+      }
+      if (seen[x] != 0) return {};
+      seen[x] = ++search;
+      queue.assign(1, x);
+      for (std::size_t i = 0; i < queue.size(); ++i)
+        for (auto jt = m.neighbours_begin(queue[i]); jt != m.neighbours_end(queue[i]); ++jt) {
+          const std::size_t y = *jt;
+          if (y >= n || seen[y] == search || (queue[i] == x && y == r)) continue;
+          if (seen[y] != 0) return {};
+          seen[y] = search;
+          queue.push_back(y);
+        }
+    }
+  }
+  return rings_order(m, cycle);
+}
+
+namespace {
+
+// ---------------------------------------------------------------------------
 // The source
 
 class H1Increments final : public ShiftSource {
@@ -688,6 +788,8 @@ class H1Increments final : public ShiftSource {
       target_ = &t;
       query_ = &q;
       benzene_rings_.clear();
+      lone_of_.clear();
+      lone_rings_.clear();
       hetero_matches_.clear();
       by_proton_.clear();
       by_carrier_.clear();
@@ -752,36 +854,28 @@ class H1Increments final : public ShiftSource {
   // --- benzene ----------------------------------------------------------------
   std::optional<Estimate> benzene(const SmartsTarget &t, std::size_t k) const {
     if (!tab_.benzene.present) return std::nullopt;
+    // Most aromatic protons sit on a ring that is its whole ring system: the
+    // only smallest ring holding k, found without ring perception.
+    if (LoneRing *lone = lone_ring(t.molecule(), k)) {
+      if (lone->atoms.size() != 6) return std::nullopt;
+      if (!lone->benzene) lone->benzene = make_benzene_ring(t, lone->atoms, true);
+      return lone->benzene->benzenoid ? benzene_sum(lone->atoms, *lone->benzene, k) : std::nullopt;
+    }
     for (const auto &ring : t.rings()) {
       if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
       const BenzeneRing &br = benzene_ring(t, static_cast<std::size_t>(&ring - t.rings().data()));
       if (!br.benzenoid) continue;
-      const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
-      const char *const relation[] = {"", "ortho", "meta", "para"};
-      Sum s({"benzene increments"}, kBenzeneSpread);
-      s.base(tab_.benzene.base_label, tab_.benzene.base.ppm);
-      bool ok = true;
-      for (const auto &g : br.groups) {
-        const int rel = std::min(std::abs(g.position - ik), 6 - std::abs(g.position - ik));
-        // A group on the proton's own carbon is not a substituent the table
-        // describes.
-        if (rel == 0 || !g.row) {
-          ok = false;
-          break;
-        }
-        s.add(relation[rel], g.row->id, g.row->by_relation[static_cast<std::size_t>(rel)]);
-      }
-      if (ok) return from_sum(s);
+      if (auto e = benzene_sum(ring, br, k)) return e;
     }
     return std::nullopt;
   }
 
-  // What benzene() needs of six-membered ring `ring_index`, the same for
-  // every proton of the ring, so made once per molecule: whether it is a
-  // benzene ring, and its groups in the order the sum adds them, each with
-  // its ring position and row (null when no row applies, or when the group
-  // closes another ring: FORMAT.md leaves fused rings and groups bonded to
-  // two ring atoms to the heteroaromatic table).
+  // What benzene() needs of a six-membered ring, the same for every proton
+  // of the ring, so made once per molecule: whether it is a benzene ring,
+  // and its groups in the order the sum adds them, each with its ring
+  // position and row (null when no row applies, or when the group closes
+  // another ring: FORMAT.md leaves fused rings and groups bonded to two ring
+  // atoms to the heteroaromatic table).
   struct BenzeneRing {
     struct Group {
       int position;
@@ -790,13 +884,37 @@ class H1Increments final : public ShiftSource {
     bool benzenoid = false;
     std::vector<Group> groups;
   };
+
+  // The sum for proton carbon k on benzene ring `ring`, or nothing when a
+  // group has no row or sits on k's own carbon, which is not a substituent
+  // the table describes.
+  std::optional<Estimate> benzene_sum(const std::vector<std::uint32_t> &ring, const BenzeneRing &br,
+                                      std::size_t k) const {
+    const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
+    const char *const relation[] = {"", "ortho", "meta", "para"};
+    Sum s({"benzene increments"}, kBenzeneSpread);
+    s.base(tab_.benzene.base_label, tab_.benzene.base.ppm);
+    for (const auto &g : br.groups) {
+      const int rel = std::min(std::abs(g.position - ik), 6 - std::abs(g.position - ik));
+      if (rel == 0 || !g.row) return std::nullopt;
+      s.add(relation[rel], g.row->id, g.row->by_relation[static_cast<std::size_t>(rel)]);
+    }
+    return from_sum(s);
+  }
+
+  // benzene ring `ring_index` of t.rings().
   const BenzeneRing &benzene_ring(const SmartsTarget &t, std::size_t ring_index) const {
     if (benzene_rings_.empty()) benzene_rings_.resize(t.rings().size());
     auto &slot = benzene_rings_[ring_index];
-    if (slot) return *slot;
-    slot.emplace();
+    if (!slot) slot = make_benzene_ring(t, t.rings()[ring_index], false);
+    return *slot;
+  }
+
+  // `lone`: every bond leaving the ring is a bridge, so no group closes
+  // another ring (and no ring perception is needed to tell).
+  BenzeneRing make_benzene_ring(const SmartsTarget &t, const std::vector<std::uint32_t> &ring, bool lone) const {
+    BenzeneRing out;
     const Molecule &m = t.molecule();
-    const auto &ring = t.rings()[ring_index];
     bool benzenoid = true;
     for (std::size_t i = 0; i < 6 && benzenoid; ++i) {
       const auto &at = m.atom(ring[i]);
@@ -804,19 +922,41 @@ class H1Increments final : public ShiftSource {
       benzenoid = at.atomic_number == 6 && at.aromatic && at.formal_charge == 0 && b >= 0 &&
                   m.bond(static_cast<std::size_t>(b)).order == BondOrder::Aromatic;
     }
-    if (!benzenoid) return *slot;
-    slot->benzenoid = true;
+    if (!benzenoid) return out;
+    out.benzenoid = true;
     std::vector<bool> skeleton(m.atom_count(), false);
     for (auto a : ring) skeleton[a] = true;
     for (int ir = 0; ir < 6; ++ir) {
       const auto r = ring[static_cast<std::size_t>(ir)];
       for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
         if (skeleton[x]) return;
-        const BenzeneRow *row = in_one_ring(t, {r, x}) ? nullptr : first_row(tab_.benzene.rows, t, x, skeleton);
-        slot->groups.push_back(BenzeneRing::Group{ir, row});
+        const bool closes_ring = !lone && in_one_ring(t, {r, x});
+        out.groups.push_back(BenzeneRing::Group{ir, closes_ring ? nullptr : first_row(tab_.benzene.rows, t, x, skeleton)});
       });
     }
-    return *slot;
+    return out;
+  }
+
+  // lone_ring() of an atom and its benzene facts, once asked.
+  struct LoneRing {
+    std::vector<std::uint32_t> atoms;
+    std::optional<BenzeneRing> benzene;
+  };
+  static constexpr std::int32_t kLoneUnknown = -1, kLoneNone = -2;
+
+  // lone_ring(m, k), remembered for every atom of the ring.
+  LoneRing *lone_ring(const Molecule &m, std::size_t k) const {
+    if (lone_of_.empty()) lone_of_.assign(m.heavy_atom_count(), kLoneUnknown);
+    if (k >= lone_of_.size()) return nullptr;
+    if (lone_of_[k] == kLoneUnknown) {
+      auto ring = detail::lone_ring(m, k);
+      lone_of_[k] = kLoneNone;
+      if (!ring.empty()) {
+        for (auto a : ring) lone_of_[a] = static_cast<std::int32_t>(lone_rings_.size());
+        lone_rings_.push_back(LoneRing{std::move(ring), std::nullopt});
+      }
+    }
+    return lone_of_[k] >= 0 ? &lone_rings_[static_cast<std::size_t>(lone_of_[k])] : nullptr;
   }
 
   // --- heteroaromatic base values -------------------------------------------
@@ -1496,6 +1636,8 @@ class H1Increments final : public ShiftSource {
   mutable const ShiftQuery *query_ = nullptr;
   mutable const SmartsTarget *target_ = nullptr;
   mutable std::vector<std::optional<BenzeneRing>> benzene_rings_;  // see benzene_ring()
+  mutable std::vector<std::int32_t> lone_of_;  // per heavy atom: index into lone_rings_, or kLoneUnknown/None
+  mutable std::vector<LoneRing> lone_rings_;   // see lone_ring()
   mutable std::vector<std::optional<std::vector<std::vector<std::uint32_t>>>> hetero_matches_;  // see hetero_matches()
   mutable std::vector<Memo> by_proton_, by_carrier_;  // see evaluate()
 };

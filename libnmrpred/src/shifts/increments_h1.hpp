@@ -5,10 +5,13 @@
 // tables/increments/h1_*.tsv applied as tables/FORMAT.md ("1H increment and
 // solvent tables") describes. Private to the library (shifts/).
 
+#include <cstddef>
+#include <cstdint>
 #include <memory>
 #include <string>
 #include <vector>
 
+#include <nmrpred/molecule.hpp>
 #include <nmrpred/solvents.hpp>
 
 #include "sources.hpp"
@@ -55,6 +58,14 @@ const std::vector<Solvent> *parsed_solvents(const H1IncrementTables &parsed);
 // from one thread at a time.
 std::unique_ptr<ShiftSource> make_h1_increments(std::shared_ptr<const H1IncrementTables> parsed,
                                                 std::string solvent);
+
+// The ring through heavy atom k along bonds of order Aromatic (every atom on
+// it with exactly two, at most 8 atoms), when it is the whole ring system of
+// its atoms (every other bond they have is a bridge), in the order
+// SmartsTarget::rings() lists it, where it is then the only ring holding k;
+// empty otherwise. Lets the 1H rules skip ring perception, which costs more
+// than the rest of their work, for most aromatic protons. Pure.
+std::vector<std::uint32_t> lone_ring(const Molecule &m, std::size_t k);
 
 }  // namespace nmrpred::detail
 
