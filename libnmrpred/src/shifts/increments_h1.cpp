@@ -23,6 +23,7 @@
 #include <cmath>
 #include <cstdint>
 #include <cstring>
+#include <deque>
 #include <initializer_list>
 #include <optional>
 #include <string>
@@ -608,14 +609,11 @@ std::vector<std::uint32_t> rings_order(const Molecule &m, const std::vector<std:
   return out;
 }
 
-}  // namespace
-
-std::vector<std::uint32_t> lone_ring(const Molecule &m, std::size_t k) {
-  // The ring: the cycle of aromatic bonds through k, each atom on it with
-  // exactly two. It is the whole ring system when every other bond of its
-  // atoms is a bridge: a search from the far atom of each such bond, not
-  // crossing it, reaches neither the ring nor another such search.
-  constexpr std::size_t kMaxSize = 8;  // larger rings are left to perception
+// The cycle of aromatic bonds through heavy atom k, each atom on it with
+// exactly two, from k; empty when there is none or it has more than 8 atoms
+// (larger rings are left to ring perception).
+std::vector<std::uint32_t> aromatic_cycle(const Molecule &m, std::size_t k) {
+  constexpr std::size_t kMaxSize = 8;
   const std::size_t n = m.heavy_atom_count();
   if (k >= n) return {};
   auto ring_neighbours = [&](std::size_t a, std::size_t (&out)[2]) {
@@ -634,11 +632,19 @@ std::vector<std::uint32_t> lone_ring(const Molecule &m, std::size_t k) {
     std::size_t next[2];
     if (ring_neighbours(cur, next) != 2) return {};
     const std::size_t step = cur == k ? next[0] : (next[0] != prev ? next[0] : next[1]);
-    if (step == k) break;
+    if (step == k) return cycle;
     if (cycle.size() == kMaxSize) return {};
     cycle.push_back(static_cast<std::uint32_t>(step));
     prev = cur, cur = step;
   }
+}
+
+// Whether aromatic_cycle() `cycle` is the whole ring system of its atoms:
+// every other bond they have is a bridge, so a search from the far atom of
+// each such bond, not crossing it, reaches neither the ring nor another such
+// search.
+bool whole_ring_system(const Molecule &m, const std::vector<std::uint32_t> &cycle) {
+  const std::size_t n = m.heavy_atom_count();
   // 0 unseen, 1 on the ring, else 2 + the number of the search that reached it.
   std::vector<std::uint32_t> seen(n, 0);
   for (auto a : cycle) seen[a] = 1;
@@ -650,22 +656,30 @@ std::vector<std::uint32_t> lone_ring(const Molecule &m, std::size_t k) {
       const std::size_t x = *it;
       if (x >= n) continue;
       if (seen[x] == 1) {
-        if (m.bond(*bid).order != BondOrder::Aromatic) return {};  // a chord
+        if (m.bond(*bid).order != BondOrder::Aromatic) return false;  // a chord
         continue;
       }
-      if (seen[x] != 0) return {};
+      if (seen[x] != 0) return false;
       seen[x] = ++search;
       queue.assign(1, x);
       for (std::size_t i = 0; i < queue.size(); ++i)
         for (auto jt = m.neighbours_begin(queue[i]); jt != m.neighbours_end(queue[i]); ++jt) {
           const std::size_t y = *jt;
           if (y >= n || seen[y] == search || (queue[i] == x && y == r)) continue;
-          if (seen[y] != 0) return {};
+          if (seen[y] != 0) return false;
           seen[y] = search;
           queue.push_back(y);
         }
     }
   }
+  return true;
+}
+
+}  // namespace
+
+std::vector<std::uint32_t> lone_ring(const Molecule &m, std::size_t k) {
+  const auto cycle = aromatic_cycle(m, k);
+  if (cycle.size() < 3 || !whole_ring_system(m, cycle)) return {};
   return rings_order(m, cycle);
 }
 
@@ -726,26 +740,20 @@ class H1Increments final : public ShiftSource {
     if (carrier < 0 || m.degree(atom) != 1) return kNone;
     const auto c = static_cast<std::size_t>(carrier);
     const SmartsTarget &t = target(q);
-    if (by_proton_.empty()) {
-      by_proton_.resize(m.atom_count());
-      by_carrier_.resize(m.heavy_atom_count());
-    }
-    Memo &proton = by_proton_[atom];
-    if (proton.done) return proton.value;
-    if (c < by_carrier_.size() && by_carrier_[c].done) return by_carrier_[c].value;
+    if (memo_of_.empty()) memo_of_.assign(m.atom_count(), kNotDone);
+    // A proton's own answer, else its carrier's.
+    const bool heavy_carrier = c < m.heavy_atom_count();
+    if (memo_of_[atom] != kNotDone) return memo_[static_cast<std::size_t>(memo_of_[atom])];
+    if (heavy_carrier && memo_of_[c] != kNotDone) return memo_[static_cast<std::size_t>(memo_of_[c])];
     bool per_proton = false;
     auto value = evaluate_uncached(q, t, atom, c, per_proton);
-    Memo &slot = per_proton || c >= by_carrier_.size() ? proton : by_carrier_[c];
-    slot.value = std::move(value);
-    slot.done = true;
-    return slot.value;
+    memo_of_[per_proton || !heavy_carrier ? atom : c] = static_cast<std::int32_t>(memo_.size());
+    memo_.push_back(std::move(value));
+    return memo_.back();
   }
 
  private:
-  struct Memo {
-    bool done = false;
-    std::optional<Estimate> value;
-  };
+  static constexpr std::int32_t kNotDone = -1;
 
   // evaluate() for proton `atom` on carrier `c`; sets `per_proton` when the
   // answer depends on the proton, not only on its carrier.
@@ -791,8 +799,8 @@ class H1Increments final : public ShiftSource {
       lone_of_.clear();
       lone_rings_.clear();
       hetero_matches_.clear();
-      by_proton_.clear();
-      by_carrier_.clear();
+      memo_of_.clear();
+      memo_.clear();
     }
     return t;
   }
@@ -949,11 +957,14 @@ class H1Increments final : public ShiftSource {
     if (lone_of_.empty()) lone_of_.assign(m.heavy_atom_count(), kLoneUnknown);
     if (k >= lone_of_.size()) return nullptr;
     if (lone_of_[k] == kLoneUnknown) {
-      auto ring = detail::lone_ring(m, k);
+      // The answer holds for every atom of the cycle.
+      const auto cycle = aromatic_cycle(m, k);
       lone_of_[k] = kLoneNone;
-      if (!ring.empty()) {
-        for (auto a : ring) lone_of_[a] = static_cast<std::int32_t>(lone_rings_.size());
-        lone_rings_.push_back(LoneRing{std::move(ring), std::nullopt});
+      if (cycle.size() >= 3 && whole_ring_system(m, cycle)) {
+        for (auto a : cycle) lone_of_[a] = static_cast<std::int32_t>(lone_rings_.size());
+        lone_rings_.push_back(LoneRing{rings_order(m, cycle), std::nullopt});
+      } else {
+        for (auto a : cycle) lone_of_[a] = kLoneNone;
       }
     }
     return lone_of_[k] >= 0 ? &lone_rings_[static_cast<std::size_t>(lone_of_[k])] : nullptr;
@@ -1402,6 +1413,25 @@ class H1Increments final : public ShiftSource {
   }
 
   // --- sp3 C-H: Shoolery's rule and the position table -----------------------
+  // The heavy neighbours of an sp3 carbon (four bonds), kept in place rather
+  // than in a vector per carbon.
+  class Sp3Neighbours {
+   public:
+    Sp3Neighbours(const Molecule &m, std::size_t c) {
+      for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) {
+        if (count_ < atoms_.size()) atoms_[count_++] = x;
+      });
+    }
+    std::size_t size() const { return count_; }
+    std::size_t operator[](std::size_t i) const { return atoms_[i]; }
+    const std::size_t *begin() const { return atoms_.data(); }
+    const std::size_t *end() const { return atoms_.data() + count_; }
+
+   private:
+    std::array<std::size_t, 4> atoms_{};
+    std::size_t count_ = 0;
+  };
+
   std::optional<Estimate> sp3(const SmartsTarget &t, std::size_t c) const {
     const ShooleryTable &tab = tab_.shoolery;
     if (!tab.present) return std::nullopt;
@@ -1409,9 +1439,10 @@ class H1Increments final : public ShiftSource {
     // aziridines) is not covered (FORMAT.md). A carbon of a four-membered
     // ring takes the open-chain value plus the ring term of row ring4-ch2
     // (FORMAT.md, h1_shoolery step 4); without that row it is not covered.
-    const int ring = small_ring(t.molecule(), c);
+    const Sp3Neighbours nbrs(t.molecule(), c);
+    const int ring = small_ring(t.molecule(), c, nbrs);
     if (ring == 3 || (ring == 4 && !tab.ring4.set)) return std::nullopt;
-    auto est = sp3_chain(t, c);
+    auto est = sp3_chain(t, c, nbrs);
     if (!est || ring != 4) return est;
     est->ppm += tab.ring4.ppm;
     est->uncertainty_ppm = std::hypot(est->uncertainty_ppm, kRing4Ppm);
@@ -1425,12 +1456,8 @@ class H1Increments final : public ShiftSource {
   // four-cycle through an atom on no triangle is no sum of triangles (a
   // triangle holding one of its bonds at the atom would hold the atom), so
   // it is kept too: both show in the atom's neighbourhood.
-  static int small_ring(const Molecule &m, std::size_t c) {
-    std::size_t nbrs[4];
-    std::size_t n = 0;
-    for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) {
-      if (n < 4) nbrs[n++] = x;
-    });
+  static int small_ring(const Molecule &m, std::size_t c, const Sp3Neighbours &nbrs) {
+    const std::size_t n = nbrs.size();
     for (std::size_t i = 0; i < n; ++i)
       for (std::size_t j = i + 1; j < n; ++j)
         if (m.bond_between(nbrs[i], nbrs[j]) >= 0) return 3;
@@ -1441,11 +1468,10 @@ class H1Increments final : public ShiftSource {
     return 0;
   }
 
-  std::optional<Estimate> sp3_chain(const SmartsTarget &t, std::size_t c) const {
+  std::optional<Estimate> sp3_chain(const SmartsTarget &t, std::size_t c, const Sp3Neighbours &nbrs) const {
     const Molecule &m = t.molecule();
     const ShooleryTable &tab = tab_.shoolery;
     const std::size_t n_h = m.hydrogen_count(c);
-    const auto nbrs = heavy_neighbours(m, c);
     if (n_h == 4) {
       if (!tab.shoolery_base.set) return std::nullopt;
       Sum s({"Shoolery's rule"}, kShoolerySpread);
@@ -1639,7 +1665,11 @@ class H1Increments final : public ShiftSource {
   mutable std::vector<std::int32_t> lone_of_;  // per heavy atom: index into lone_rings_, or kLoneUnknown/None
   mutable std::vector<LoneRing> lone_rings_;   // see lone_ring()
   mutable std::vector<std::optional<std::vector<std::vector<std::uint32_t>>>> hetero_matches_;  // see hetero_matches()
-  mutable std::vector<Memo> by_proton_, by_carrier_;  // see evaluate()
+  // evaluate()'s answers; per atom (a proton, or a carrier for all its
+  // protons) the index of its answer or kNotDone. A deque, so that the
+  // answers handed out stay in place.
+  mutable std::vector<std::int32_t> memo_of_;
+  mutable std::deque<std::optional<Estimate>> memo_;
 };
 
 }  // namespace
