@@ -19,7 +19,6 @@
 
 #include <algorithm>
 #include <array>
-#include <cctype>
 #include <cmath>
 #include <cstdint>
 #include <cstring>
@@ -229,21 +228,6 @@ struct SpecialGroup {
   std::vector<SpecialRow> rows;
 };
 
-struct SolventInfo {
-  std::string id, name;
-  std::vector<std::string> aliases;
-  double water_ppm = 0;
-  bool exchanges = false;
-};
-
-std::string lower_trimmed(std::string_view s) {
-  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.front()))) s.remove_prefix(1);
-  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.back()))) s.remove_suffix(1);
-  std::string out(s);
-  for (auto &c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
-  return out;
-}
-
 }  // namespace
 
 // The parsed tables; opaque outside this file (increments_h1.hpp).
@@ -253,9 +237,8 @@ struct H1IncrementTables {
   BenzeneTable benzene;
   std::vector<HeteroRow> hetero;
   std::vector<SpecialGroup> special;
-  std::vector<SolventInfo> solvents;  // empty when the set has no solvents.tsv
-  std::vector<Solvent> full_solvents;  // the same, as solvents() gives them
-  bool has_solvents = false;           // the set has a solvents.tsv
+  std::vector<Solvent> solvents;  // as nmrpred::solvents() gives them; empty without solvents.tsv
+  bool has_solvents = false;      // the set has a solvents.tsv
 };
 
 namespace {
@@ -434,10 +417,8 @@ void read_special(const Tables &tables, std::vector<SpecialGroup> &out) {
 
 void read_solvents(const Tables &tables, H1IncrementTables &out) {
   if (tables.file_text("solvents.tsv").empty()) return;
-  out.full_solvents = nmrpred::solvents(tables);
+  out.solvents = nmrpred::solvents(tables);
   out.has_solvents = true;
-  for (const auto &s : out.full_solvents)
-    out.solvents.push_back(SolventInfo{s.id, s.name, s.aliases, s.water_h1_ppm, s.exchanges_labile_protons});
 }
 
 // ---------------------------------------------------------------------------
@@ -692,25 +673,19 @@ class H1Increments final : public ShiftSource {
  public:
   H1Increments(std::shared_ptr<const H1IncrementTables> parsed, std::string solvent)
       : parsed_(std::move(parsed)), tab_(*parsed_) {
-    const auto key = lower_trimmed(solvent.empty() ? std::string("CDCl3") : solvent);
+    if (solvent.empty()) solvent = "CDCl3";
     if (tab_.solvents.empty()) {
       // No solvents.tsv in this table set: the h1_special names are all we know.
-      solvent_name_ = solvent.empty() ? "CDCl3" : solvent;
+      const auto key = lower_trimmed(solvent);
+      solvent_name_ = solvent;
       exchanges_ = key == "d2o" || key == "cd3od";
       return;
     }
-    for (const auto &s : tab_.solvents)
-      if (lower_trimmed(s.name) == key || s.id == key ||
-          std::find(s.aliases.begin(), s.aliases.end(), key) != s.aliases.end()) {
-        solvent_name_ = s.name;
-        exchanges_ = s.exchanges;
-        water_ppm_ = s.water_ppm;
-        known_ = true;
-        return;
-      }
-    std::string names;
-    for (const auto &s : tab_.solvents) names += (names.empty() ? "" : ", ") + s.name;
-    throw ArgumentError(fmt::format("unknown solvent '{}' (known: {})", solvent, names));
+    const Solvent &s = find_listed_solvent(tab_.solvents, solvent);
+    solvent_name_ = s.name;
+    exchanges_ = s.exchanges_labile_protons;
+    water_ppm_ = s.water_h1_ppm;
+    known_ = true;
   }
 
   bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
@@ -1686,7 +1661,7 @@ std::shared_ptr<const H1IncrementTables> parse_h1_increment_tables(const Tables 
 }
 
 const std::vector<Solvent> *parsed_solvents(const H1IncrementTables &parsed) {
-  return parsed.has_solvents ? &parsed.full_solvents : nullptr;
+  return parsed.has_solvents ? &parsed.solvents : nullptr;
 }
 
 std::unique_ptr<ShiftSource> make_h1_increments(std::shared_ptr<const H1IncrementTables> parsed,

@@ -9,6 +9,7 @@
 #include <cstdint>
 #include <memory>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include <nmrpred/molecule.hpp>
@@ -36,6 +37,15 @@ std::shared_ptr<const H1IncrementTables> parse_h1_increment_tables(const Tables 
 // when the tables were parsed, or null when the set has no solvents.tsv.
 // Lets solvents() and find_solvent() skip parsing the file on every call.
 const std::vector<Solvent> *parsed_solvents(const H1IncrementTables &parsed);
+
+// `s` without surrounding spaces, in lower case, as solvent names compare
+// (shifts/solvents.cpp).
+std::string lower_trimmed(std::string_view s);
+
+// The solvent of `list` called `name`, as nmrpred::find_solvent() finds it
+// (name, id or alias, case-insensitive, surrounding spaces ignored). Throws
+// ArgumentError listing the known names when none matches.
+const Solvent &find_listed_solvent(const std::vector<Solvent> &list, std::string_view name);
 
 // The 1H increment source for `solvent` (a name, id or alias of
 // tables/solvents.tsv, case-insensitive; empty means CDCl3). The solvent
