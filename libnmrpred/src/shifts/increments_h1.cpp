@@ -914,7 +914,8 @@ class H1Increments final : public ShiftSource {
       for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
         if (skeleton[x]) return;
         const bool closes_ring = !lone && in_one_ring(t, {r, x});
-        out.groups.push_back(BenzeneRing::Group{ir, closes_ring ? nullptr : first_row(tab_.benzene.rows, t, x, skeleton)});
+        const BenzeneRow *row = closes_ring ? nullptr : first_row(tab_.benzene.rows, t, x, skeleton);
+        out.groups.push_back(BenzeneRing::Group{ir, row});
       });
     }
     return out;
@@ -1018,6 +1019,7 @@ class H1Increments final : public ShiftSource {
                                                            const std::vector<std::vector<std::uint32_t>> &maps,
                                                            std::size_t k) {
     const std::vector<std::uint32_t> *best = nullptr;
+    if (maps.empty()) return best;  // most rows, most molecules
     const auto &order = p.search_order(0);
     for (const auto &map : maps) {
       if (map[0] != k) continue;
