@@ -36,6 +36,7 @@
 #include "check.hpp"
 
 // Private header of the library (shifts/), reached relative to this file.
+#include "../libnmrpred/src/graph/smarts.hpp"
 #include "../libnmrpred/src/shifts/increments_h1.hpp"
 
 namespace {
@@ -511,5 +512,44 @@ TEST_SUITE("shifts_h1") {
         CHECK(std::string(e.what()).find(b.message) != std::string::npos);
       }
     }
+  }
+
+  TEST_CASE("lone_ring finds the ring perception finds, in its atom order, on rings that are a whole ring system") {
+    // Checked against the library's ring perception (SmartsTarget::rings(),
+    // graph/smarts.cpp), which the 1H rules ask otherwise; the molecules put
+    // the lowest ring atom, its first-listed neighbour and the closing bond
+    // in different places, and mix in rings that are not alone.
+    const char *const molecules[] = {
+        "c1ccccc1C", "Cc1ccccc1", "Oc1ccc(C)cc1", "c1ccccc1-c1ccccc1", "c1ccc(cc1)Cc1ccccc1",
+        "c1ccc(cc1)OCCOc1ccccc1", "C(c1ccccc1)(c1ccccc1)c1ccccc1", "c1(C)c(C)c(C)c(C)c(C)c1",
+        "CC(C)(C)c1cc(C(C)(C)C)cc(C(C)(C)C)c1", "Clc1c(Cl)c(Cl)c(Cl)c(Cl)c1", "c1cc(ccc1C1CC1)C1CCC1",
+        "[nH]1cccc1", "c1ccco1", "n1ccccc1", "O=C(O)c1ccc(N)cc1", "Cc1cccs1",
+        // not alone: fused, bridged across the ring, or joined to another ring by a chain
+        "c1ccc2ccccc2c1", "C1CCc2ccccc2C1", "c1cc2ccc1CCCC2", "c1cc2cc(c1)CCCC2", "c1ccc2c(c1)[nH]c1ccccc12",
+        "O=C1C=CC(=O)c2ccccc12", "c1ccc2c(c1)Cc1ccccc1-2", "C1CC2CCC1c1ccccc12"};
+    std::size_t lone = 0, other = 0;
+    for (const char *smiles : molecules) {
+      INFO(smiles);
+      const auto m = nmrpred::read_molecule(smiles, nmrpred::Format::Smiles);
+      const nmrpred::detail::SmartsTarget t(m);
+      for (std::size_t k = 0; k < m.heavy_atom_count(); ++k) {
+        if (!m.atom(k).aromatic) continue;
+        INFO("atom ", k);
+        std::vector<const std::vector<std::uint32_t> *> holding;
+        for (const auto &ring : t.rings())
+          if (std::find(ring.begin(), ring.end(), k) != ring.end()) holding.push_back(&ring);
+        const auto ring = nmrpred::detail::lone_ring(m, k);
+        if (ring.empty()) {
+          ++other;
+          continue;
+        }
+        ++lone;
+        REQUIRE(holding.size() == 1);
+        CHECK(ring == *holding[0]);
+      }
+    }
+    // Counted by hand: the aromatic atoms of the first 16 molecules, and of the rest.
+    CHECK(lone == 123);
+    CHECK(other == 65);
   }
 }

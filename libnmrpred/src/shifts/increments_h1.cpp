@@ -19,9 +19,10 @@
 
 #include <algorithm>
 #include <array>
-#include <cctype>
-#include <charconv>
 #include <cmath>
+#include <cstdint>
+#include <cstring>
+#include <deque>
 #include <initializer_list>
 #include <optional>
 #include <string>
@@ -98,17 +99,41 @@ constexpr double kRingEnonePpm = 0.4;
 
 // Appends v as fmt's "{:.2f}" writes it, except that -0.00 is written 0.00.
 void append_ppm(std::string &out, double v) {
-  // std::to_chars rounds the exact binary value as fmt's "{:.2f}" does, at a
-  // fraction of the cost; a method text holds several of these, written in
-  // place rather than through a temporary.
-  if (!std::isfinite(v)) {
+  // fmt's "{:.2f}" rounds the exact binary value, ties to even. For |v| <
+  // 2^52 that is exact integer arithmetic: v = m * 2^-shift, so 100 v (m
+  // below 2^53, 100 m below 2^60) rounds to whole hundredths by a shift and
+  // the bits it drops. A method text holds several values, and this costs a
+  // tenth of std::to_chars.
+  std::uint64_t bits = 0;
+  std::memcpy(&bits, &v, sizeof bits);
+  const auto biased = static_cast<int>(bits >> 52 & 0x7FF);
+  std::uint64_t m = bits & ((std::uint64_t{1} << 52) - 1);
+  if (biased != 0) m |= std::uint64_t{1} << 52;
+  const int shift = biased != 0 ? 1075 - biased : 1074;
+  if (shift <= 0) {  // |v| >= 2^52, infinite or not a number: left to the formatter
     out += fmt::format("{:.2f}", v);
     return;
   }
-  char buf[32];
-  const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
-  const std::string_view text(buf, static_cast<std::size_t>(r.ptr - buf));
-  out += text == "-0.00" ? std::string_view("0.00") : text;
+  std::uint64_t hundredths = 0;  // |v| < 2^-11 when shift >= 64: rounds to 0
+  if (shift < 64) {
+    const std::uint64_t x = m * 100;
+    hundredths = x >> shift;
+    const std::uint64_t dropped = x & ((std::uint64_t{1} << shift) - 1), half = std::uint64_t{1} << (shift - 1);
+    if (dropped > half || (dropped == half && (hundredths & 1) != 0)) ++hundredths;
+  }
+  char buf[24];
+  char *const end = buf + sizeof buf;
+  char *p = end;
+  const auto fraction = static_cast<unsigned>(hundredths % 100);
+  *--p = static_cast<char>('0' + fraction % 10);
+  *--p = static_cast<char>('0' + fraction / 10);
+  *--p = '.';
+  for (std::uint64_t whole = hundredths / 100;; whole /= 10) {
+    *--p = static_cast<char>('0' + whole % 10);
+    if (whole < 10) break;
+  }
+  if ((bits >> 63) != 0 && hundredths != 0) *--p = '-';
+  out.append(p, end);
 }
 
 std::string fmt_ppm(double v) {
@@ -141,6 +166,7 @@ struct Param {
 struct ShooleryTable {
   bool present = false;
   Param shoolery_base;
+  std::string shoolery_base_label;                // "base " + shoolery_base.label
   std::array<Param, 4> alkane;                    // by H count 1..3
   Param ring4;                                    // four-membered ring term
   std::vector<ValueRow> sigma;
@@ -160,6 +186,7 @@ struct AlkeneRow {
 struct AlkeneTable {
   bool present = false;
   Param base;
+  std::string base_label;  // "base <ppm>", the sums' first term
   std::vector<AlkeneRow> rows;
   std::vector<AlkeneRow> ring5;  // kind ring-correction (FORMAT.md, h1_alkene)
 };
@@ -173,6 +200,7 @@ struct BenzeneRow {
 struct BenzeneTable {
   bool present = false;
   Param base;
+  std::string base_label;  // "base <ppm>", the sums' first term
   std::vector<BenzeneRow> rows;
 };
 
@@ -187,6 +215,10 @@ struct SpecialRow {
   std::string id, solvent;  // solvent "*" = any
   Opt typical_ppm;
   double min_ppm = 0, max_ppm = 0;
+  // The estimate the row gives and its method text (special_estimate()),
+  // the same for every proton.
+  double ppm = 0;
+  std::string method;
 };
 
 struct SpecialGroup {
@@ -195,21 +227,6 @@ struct SpecialGroup {
   bool exchanges = false;
   std::vector<SpecialRow> rows;
 };
-
-struct SolventInfo {
-  std::string id, name;
-  std::vector<std::string> aliases;
-  double water_ppm = 0;
-  bool exchanges = false;
-};
-
-std::string lower_trimmed(std::string_view s) {
-  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.front()))) s.remove_prefix(1);
-  while (!s.empty() && std::isspace(static_cast<unsigned char>(s.back()))) s.remove_suffix(1);
-  std::string out(s);
-  for (auto &c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
-  return out;
-}
 
 }  // namespace
 
@@ -220,9 +237,8 @@ struct H1IncrementTables {
   BenzeneTable benzene;
   std::vector<HeteroRow> hetero;
   std::vector<SpecialGroup> special;
-  std::vector<SolventInfo> solvents;  // empty when the set has no solvents.tsv
-  std::vector<Solvent> full_solvents;  // the same, as solvents() gives them
-  bool has_solvents = false;           // the set has a solvents.tsv
+  std::vector<Solvent> solvents;  // as nmrpred::solvents() gives them; empty without solvents.tsv
+  bool has_solvents = false;      // the set has a solvents.tsv
 };
 
 namespace {
@@ -258,6 +274,7 @@ void read_shoolery(const Tables &tables, ShooleryTable &out) {
     }
     if (!known) r.fail(row, fmt::format("unknown kind '{}'", kind));
   }
+  if (out.shoolery_base.set) out.shoolery_base_label = "base " + out.shoolery_base.label;
   out.present = true;
 }
 
@@ -296,6 +313,7 @@ void read_alkene(const Tables &tables, AlkeneTable &out) {
     }
   }
   if (!out.base.set) throw TablesError(fmt::format("{}: no base row", path));
+  out.base_label = "base " + fmt_ppm(out.base.ppm);
   out.present = true;
 }
 
@@ -321,6 +339,7 @@ void read_benzene(const Tables &tables, BenzeneTable &out) {
     }
   }
   if (!out.base.set) throw TablesError(fmt::format("{}: no base row", path));
+  out.base_label = "base " + fmt_ppm(out.base.ppm);
   out.present = true;
 }
 
@@ -340,6 +359,22 @@ void read_hetero(const Tables &tables, std::vector<HeteroRow> &out) {
     h.scheme = fmt::format("heteroaromatic base value ({}, position {})", h.ring, h.position);
     h.label = labelled(h.id, h.ppm);
     out.push_back(std::move(h));
+  }
+}
+
+// Fills r.ppm and r.method. tables/FORMAT.md: min..max is a wide range for
+// matching measured peaks; half of it is the spread we report. A row without
+// a typical value gives the middle of its range.
+void special_estimate(const std::string &group, SpecialRow &r) {
+  const std::string where = r.solvent == "*" ? std::string("any solvent") : r.solvent;
+  if (r.typical_ppm) {
+    r.ppm = *r.typical_ppm;
+    r.method = fmt::format("typical value of the group '{}' in {}: {} {} (range {}-{})", group, where, r.id,
+                           fmt_ppm(r.ppm), fmt_ppm(r.min_ppm), fmt_ppm(r.max_ppm));
+  } else {
+    r.ppm = 0.5 * (r.min_ppm + r.max_ppm);
+    r.method = fmt::format("group '{}' in {}: {} gives no typical value; middle of the range {}-{} = {}", group,
+                           where, r.id, fmt_ppm(r.min_ppm), fmt_ppm(r.max_ppm), fmt_ppm(r.ppm));
   }
 }
 
@@ -375,33 +410,35 @@ void read_special(const Tables &tables, std::vector<SpecialGroup> &out) {
       r.fail(row, "typical_ppm must lie within min_ppm..max_ppm");
     for (const auto &other : it->rows)
       if (other.solvent == s.solvent) r.fail(row, fmt::format("group '{}' lists solvent '{}' twice", name, s.solvent));
+    special_estimate(name, s);
     it->rows.push_back(std::move(s));
   }
 }
 
 void read_solvents(const Tables &tables, H1IncrementTables &out) {
   if (tables.file_text("solvents.tsv").empty()) return;
-  out.full_solvents = nmrpred::solvents(tables);
+  out.solvents = nmrpred::solvents(tables);
   out.has_solvents = true;
-  for (const auto &s : out.full_solvents)
-    out.solvents.push_back(SolventInfo{s.id, s.name, s.aliases, s.water_h1_ppm, s.exchanges_labile_protons});
 }
 
 // ---------------------------------------------------------------------------
-// A sum of increments, kept term by term for the method text.
-
+// A sum of increments, kept term by term for the method text. The scheme
+// name (in pieces, written one after another), the base label, roles and row
+// ids are views of literals or of the parsed tables, which outlive every Sum:
+// a proton's estimate then copies no string but its method text.
 class Sum {
  public:
-  Sum(std::string scheme, Spread spread) : scheme_(std::move(scheme)), spread_(spread) {}
-  void base(std::string label, double ppm) {
-    base_label_ = std::move(label);
+  Sum(const std::array<std::string_view, 5> &scheme, Spread spread) : scheme_(scheme), spread_(spread) {}
+  void base(std::string_view label, double ppm) {
+    base_label_ = label;
     base_ppm_ = ppm;
   }
-  void add(const std::string &role, const std::string &id, double ppm) {
+  void add(std::string_view role, std::string_view id, double ppm) {
+    if (terms_.empty()) terms_.reserve(8);
     terms_.push_back(Term{role, id, ppm});
   }
-  void note(const std::string &text) {
-    if (std::find(notes_.begin(), notes_.end(), text) == notes_.end()) notes_.push_back(text);
+  void note(std::string text) {
+    if (std::find(notes_.begin(), notes_.end(), text) == notes_.end()) notes_.push_back(std::move(text));
   }
   void widen(double ppm) { extra_var_ += ppm * ppm; }
   double ppm() const {
@@ -415,10 +452,13 @@ class Sum {
   }
   double uncertainty() const { return uncertainty(static_cast<int>(terms_.size())); }
   std::string method() const {
-    // Plain appends: every proton's estimate writes one of these.
     std::string s;
-    s.reserve(scheme_.size() + base_label_.size() + 16 + 32 * terms_.size());
-    s += scheme_;
+    std::size_t size = base_label_.size() + 16;
+    for (auto part : scheme_) size += part.size();
+    for (const auto &t : terms_) size += t.role.size() + t.id.size() + 16;
+    for (const auto &n : notes_) size += n.size() + 3;
+    s.reserve(size);
+    for (auto part : scheme_) s += part;
     s += ": ";
     s += base_label_;
     for (const auto &t : terms_) {
@@ -441,12 +481,12 @@ class Sum {
 
  private:
   struct Term {
-    std::string role, id;
+    std::string_view role, id;
     double ppm;
   };
-  std::string scheme_;
+  std::array<std::string_view, 5> scheme_;
   Spread spread_;
-  std::string base_label_;
+  std::string_view base_label_;
   double base_ppm_ = 0;
   std::vector<Term> terms_;
   std::vector<std::string> notes_;
@@ -514,31 +554,138 @@ const Row *first_row(const std::vector<Row> &rows, const SmartsTarget &t, std::s
 }
 
 // ---------------------------------------------------------------------------
+// Rings without ring perception
+
+// `cycle`, a ring that is its atoms' whole ring system (in either direction
+// from any atom), in the order SmartsTarget::rings() lists it. Perception
+// (graph/smarts.cpp) first finds the ring from its lowest atom r0, breadth
+// first, taking neighbours in list order and never crossing a bridge, so
+// each side of the ring is one tree path, and the side of r0's first-listed
+// ring neighbour reaches every depth first (and the far atom of an even
+// ring). The one ring bond off the tree closes the ring, which runs from r0
+// along the tree to that bond's first atom and back along the other side.
+std::vector<std::uint32_t> rings_order(const Molecule &m, const std::vector<std::uint32_t> &cycle) {
+  const std::size_t size = cycle.size(),
+                    i0 = static_cast<std::size_t>(std::min_element(cycle.begin(), cycle.end()) - cycle.begin());
+  auto at = [&](std::size_t step, bool forward) {
+    return cycle[forward ? (i0 + step) % size : (i0 + size - step % size) % size];
+  };
+  bool first_forward = true;
+  for (auto it = m.neighbours_begin(cycle[i0]); it != m.neighbours_end(cycle[i0]); ++it) {
+    if (*it == at(1, true)) break;
+    if (*it == at(1, false)) {
+      first_forward = false;
+      break;
+    }
+  }
+  const std::size_t half = size / 2;
+  // The closing bond's atom on the first side (the far atom of an even ring)
+  // and on the other side.
+  const auto near_end = at(half, first_forward);
+  const auto far_end = at(size % 2 == 0 ? half - 1 : half, !first_forward);
+  const auto &closing = m.bond(static_cast<std::size_t>(m.bond_between(near_end, far_end)));
+  const bool forward = closing.begin == near_end ? first_forward : !first_forward;
+  std::vector<std::uint32_t> out(size);
+  for (std::size_t i = 0; i < size; ++i) out[i] = at(i, forward);
+  return out;
+}
+
+// The cycle of aromatic bonds through heavy atom k, each atom on it with
+// exactly two, from k; empty when there is none or it has more than 8 atoms
+// (larger rings are left to ring perception).
+std::vector<std::uint32_t> aromatic_cycle(const Molecule &m, std::size_t k) {
+  constexpr std::size_t kMaxSize = 8;
+  const std::size_t n = m.heavy_atom_count();
+  if (k >= n) return {};
+  auto ring_neighbours = [&](std::size_t a, std::size_t (&out)[2]) {
+    std::size_t count = 0;
+    const auto *bid = m.bond_ids_begin(a);
+    for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid)
+      if (*it < n && m.bond(*bid).order == BondOrder::Aromatic) {
+        if (count < 2) out[count] = *it;
+        ++count;
+      }
+    return count;
+  };
+  std::vector<std::uint32_t> cycle{static_cast<std::uint32_t>(k)};
+  std::size_t prev = k, cur = k;
+  for (;;) {
+    std::size_t next[2];
+    if (ring_neighbours(cur, next) != 2) return {};
+    const std::size_t step = cur == k ? next[0] : (next[0] != prev ? next[0] : next[1]);
+    if (step == k) return cycle;
+    if (cycle.size() == kMaxSize) return {};
+    cycle.push_back(static_cast<std::uint32_t>(step));
+    prev = cur, cur = step;
+  }
+}
+
+// Whether aromatic_cycle() `cycle` is the whole ring system of its atoms:
+// every other bond they have is a bridge, so a search from the far atom of
+// each such bond, not crossing it, reaches neither the ring nor another such
+// search.
+bool whole_ring_system(const Molecule &m, const std::vector<std::uint32_t> &cycle) {
+  const std::size_t n = m.heavy_atom_count();
+  // 0 unseen, 1 on the ring, else 2 + the number of the search that reached it.
+  std::vector<std::uint32_t> seen(n, 0);
+  for (auto a : cycle) seen[a] = 1;
+  std::vector<std::size_t> queue;
+  std::uint32_t search = 2;
+  for (auto r : cycle) {
+    const auto *bid = m.bond_ids_begin(r);
+    for (auto it = m.neighbours_begin(r); it != m.neighbours_end(r); ++it, ++bid) {
+      const std::size_t x = *it;
+      if (x >= n) continue;
+      if (seen[x] == 1) {
+        if (m.bond(*bid).order != BondOrder::Aromatic) return false;  // a chord
+        continue;
+      }
+      if (seen[x] != 0) return false;
+      seen[x] = ++search;
+      queue.assign(1, x);
+      for (std::size_t i = 0; i < queue.size(); ++i)
+        for (auto jt = m.neighbours_begin(queue[i]); jt != m.neighbours_end(queue[i]); ++jt) {
+          const std::size_t y = *jt;
+          if (y >= n || seen[y] == search || (queue[i] == x && y == r)) continue;
+          if (seen[y] != 0) return false;
+          seen[y] = search;
+          queue.push_back(y);
+        }
+    }
+  }
+  return true;
+}
+
+}  // namespace
+
+std::vector<std::uint32_t> lone_ring(const Molecule &m, std::size_t k) {
+  const auto cycle = aromatic_cycle(m, k);
+  if (cycle.size() < 3 || !whole_ring_system(m, cycle)) return {};
+  return rings_order(m, cycle);
+}
+
+namespace {
+
+// ---------------------------------------------------------------------------
 // The source
 
 class H1Increments final : public ShiftSource {
  public:
   H1Increments(std::shared_ptr<const H1IncrementTables> parsed, std::string solvent)
       : parsed_(std::move(parsed)), tab_(*parsed_) {
-    const auto key = lower_trimmed(solvent.empty() ? std::string("CDCl3") : solvent);
+    if (solvent.empty()) solvent = "CDCl3";
     if (tab_.solvents.empty()) {
       // No solvents.tsv in this table set: the h1_special names are all we know.
-      solvent_name_ = solvent.empty() ? "CDCl3" : solvent;
+      const auto key = lower_trimmed(solvent);
+      solvent_name_ = solvent;
       exchanges_ = key == "d2o" || key == "cd3od";
       return;
     }
-    for (const auto &s : tab_.solvents)
-      if (lower_trimmed(s.name) == key || s.id == key ||
-          std::find(s.aliases.begin(), s.aliases.end(), key) != s.aliases.end()) {
-        solvent_name_ = s.name;
-        exchanges_ = s.exchanges;
-        water_ppm_ = s.water_ppm;
-        known_ = true;
-        return;
-      }
-    std::string names;
-    for (const auto &s : tab_.solvents) names += (names.empty() ? "" : ", ") + s.name;
-    throw ArgumentError(fmt::format("unknown solvent '{}' (known: {})", solvent, names));
+    const Solvent &s = find_listed_solvent(tab_.solvents, solvent);
+    solvent_name_ = s.name;
+    exchanges_ = s.exchanges_labile_protons;
+    water_ppm_ = s.water_h1_ppm;
+    known_ = true;
   }
 
   bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
@@ -568,26 +715,20 @@ class H1Increments final : public ShiftSource {
     if (carrier < 0 || m.degree(atom) != 1) return kNone;
     const auto c = static_cast<std::size_t>(carrier);
     const SmartsTarget &t = target(q);
-    if (by_proton_.empty()) {
-      by_proton_.resize(m.atom_count());
-      by_carrier_.resize(m.heavy_atom_count());
-    }
-    Memo &proton = by_proton_[atom];
-    if (proton.done) return proton.value;
-    if (c < by_carrier_.size() && by_carrier_[c].done) return by_carrier_[c].value;
+    if (memo_of_.empty()) memo_of_.assign(m.atom_count(), kNotDone);
+    // A proton's own answer, else its carrier's.
+    const bool heavy_carrier = c < m.heavy_atom_count();
+    if (memo_of_[atom] != kNotDone) return memo_[static_cast<std::size_t>(memo_of_[atom])];
+    if (heavy_carrier && memo_of_[c] != kNotDone) return memo_[static_cast<std::size_t>(memo_of_[c])];
     bool per_proton = false;
     auto value = evaluate_uncached(q, t, atom, c, per_proton);
-    Memo &slot = per_proton || c >= by_carrier_.size() ? proton : by_carrier_[c];
-    slot.value = std::move(value);
-    slot.done = true;
-    return slot.value;
+    memo_of_[per_proton || !heavy_carrier ? atom : c] = static_cast<std::int32_t>(memo_.size());
+    memo_.push_back(std::move(value));
+    return memo_.back();
   }
 
  private:
-  struct Memo {
-    bool done = false;
-    std::optional<Estimate> value;
-  };
+  static constexpr std::int32_t kNotDone = -1;
 
   // evaluate() for proton `atom` on carrier `c`; sets `per_proton` when the
   // answer depends on the proton, not only on its carrier.
@@ -630,8 +771,11 @@ class H1Increments final : public ShiftSource {
       target_ = &t;
       query_ = &q;
       benzene_rings_.clear();
-      by_proton_.clear();
-      by_carrier_.clear();
+      lone_of_.clear();
+      lone_rings_.clear();
+      hetero_matches_.clear();
+      memo_of_.clear();
+      memo_.clear();
     }
     return t;
   }
@@ -650,30 +794,18 @@ class H1Increments final : public ShiftSource {
     return nullptr;
   }
 
-  static Estimate special_value(const SpecialGroup &g, const SpecialRow &r, const std::string &solvent) {
-    // tables/FORMAT.md: min..max is a wide range for matching measured
-    // peaks; half of it is the spread we report. A row without a typical
-    // value gives the middle of its range.
+  static Estimate special_value(const SpecialRow &r) {
     Estimate e;
-    const double half = 0.5 * (r.max_ppm - r.min_ppm);
-    e.uncertainty_ppm = half;
-    const std::string where = r.solvent == "*" ? std::string("any solvent") : solvent;
-    if (r.typical_ppm) {
-      e.ppm = *r.typical_ppm;
-      e.method = fmt::format("typical value of the group '{}' in {}: {} {} (range {}-{})", g.name, where, r.id,
-                             fmt_ppm(e.ppm), fmt_ppm(r.min_ppm), fmt_ppm(r.max_ppm));
-    } else {
-      e.ppm = 0.5 * (r.min_ppm + r.max_ppm);
-      e.method = fmt::format("group '{}' in {}: {} gives no typical value; middle of the range {}-{} = {}", g.name,
-                             where, r.id, fmt_ppm(r.min_ppm), fmt_ppm(r.max_ppm), fmt_ppm(e.ppm));
-    }
+    e.ppm = r.ppm;
+    e.uncertainty_ppm = 0.5 * (r.max_ppm - r.min_ppm);
+    e.method = r.method;
     return e;
   }
 
   std::optional<Estimate> special_ch(const SpecialGroup &g) const {
     const auto *row = special_row(g);
     if (!row) return std::nullopt;  // FORMAT.md: not covered in this solvent
-    return special_value(g, *row, solvent_name_);
+    return special_value(*row);
   }
 
   std::optional<Estimate> labile(const SpecialGroup *g) const {
@@ -696,7 +828,7 @@ class H1Increments final : public ShiftSource {
     }
     const auto *row = special_row(*g);
     if (!row) return std::nullopt;
-    auto e = special_value(*g, *row, solvent_name_);
+    auto e = special_value(*row);
     e.exchangeable = g->exchanges;
     if (g->exchanges) e.method += "; moves with concentration, water and temperature";
     return e;
@@ -705,36 +837,28 @@ class H1Increments final : public ShiftSource {
   // --- benzene ----------------------------------------------------------------
   std::optional<Estimate> benzene(const SmartsTarget &t, std::size_t k) const {
     if (!tab_.benzene.present) return std::nullopt;
+    // Most aromatic protons sit on a ring that is its whole ring system: the
+    // only smallest ring holding k, found without ring perception.
+    if (LoneRing *lone = lone_ring(t.molecule(), k)) {
+      if (lone->atoms.size() != 6) return std::nullopt;
+      if (!lone->benzene) lone->benzene = make_benzene_ring(t, lone->atoms, true);
+      return lone->benzene->benzenoid ? benzene_sum(lone->atoms, *lone->benzene, k) : std::nullopt;
+    }
     for (const auto &ring : t.rings()) {
       if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
       const BenzeneRing &br = benzene_ring(t, static_cast<std::size_t>(&ring - t.rings().data()));
       if (!br.benzenoid) continue;
-      const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
-      const char *const relation[] = {"", "ortho", "meta", "para"};
-      Sum s("benzene increments", kBenzeneSpread);
-      s.base("base " + fmt_ppm(tab_.benzene.base.ppm), tab_.benzene.base.ppm);
-      bool ok = true;
-      for (const auto &g : br.groups) {
-        const int rel = std::min(std::abs(g.position - ik), 6 - std::abs(g.position - ik));
-        // A group on the proton's own carbon is not a substituent the table
-        // describes.
-        if (rel == 0 || !g.row) {
-          ok = false;
-          break;
-        }
-        s.add(relation[rel], g.row->id, g.row->by_relation[static_cast<std::size_t>(rel)]);
-      }
-      if (ok) return from_sum(s);
+      if (auto e = benzene_sum(ring, br, k)) return e;
     }
     return std::nullopt;
   }
 
-  // What benzene() needs of six-membered ring `ring_index`, the same for
-  // every proton of the ring, so made once per molecule: whether it is a
-  // benzene ring, and its groups in the order the sum adds them, each with
-  // its ring position and row (null when no row applies, or when the group
-  // closes another ring: FORMAT.md leaves fused rings and groups bonded to
-  // two ring atoms to the heteroaromatic table).
+  // What benzene() needs of a six-membered ring, the same for every proton
+  // of the ring, so made once per molecule: whether it is a benzene ring,
+  // and its groups in the order the sum adds them, each with its ring
+  // position and row (null when no row applies, or when the group closes
+  // another ring: FORMAT.md leaves fused rings and groups bonded to two ring
+  // atoms to the heteroaromatic table).
   struct BenzeneRing {
     struct Group {
       int position;
@@ -743,13 +867,37 @@ class H1Increments final : public ShiftSource {
     bool benzenoid = false;
     std::vector<Group> groups;
   };
+
+  // The sum for proton carbon k on benzene ring `ring`, or nothing when a
+  // group has no row or sits on k's own carbon, which is not a substituent
+  // the table describes.
+  std::optional<Estimate> benzene_sum(const std::vector<std::uint32_t> &ring, const BenzeneRing &br,
+                                      std::size_t k) const {
+    const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
+    const char *const relation[] = {"", "ortho", "meta", "para"};
+    Sum s({"benzene increments"}, kBenzeneSpread);
+    s.base(tab_.benzene.base_label, tab_.benzene.base.ppm);
+    for (const auto &g : br.groups) {
+      const int rel = std::min(std::abs(g.position - ik), 6 - std::abs(g.position - ik));
+      if (rel == 0 || !g.row) return std::nullopt;
+      s.add(relation[rel], g.row->id, g.row->by_relation[static_cast<std::size_t>(rel)]);
+    }
+    return from_sum(s);
+  }
+
+  // benzene ring `ring_index` of t.rings().
   const BenzeneRing &benzene_ring(const SmartsTarget &t, std::size_t ring_index) const {
     if (benzene_rings_.empty()) benzene_rings_.resize(t.rings().size());
     auto &slot = benzene_rings_[ring_index];
-    if (slot) return *slot;
-    slot.emplace();
+    if (!slot) slot = make_benzene_ring(t, t.rings()[ring_index], false);
+    return *slot;
+  }
+
+  // `lone`: every bond leaving the ring is a bridge, so no group closes
+  // another ring (and no ring perception is needed to tell).
+  BenzeneRing make_benzene_ring(const SmartsTarget &t, const std::vector<std::uint32_t> &ring, bool lone) const {
+    BenzeneRing out;
     const Molecule &m = t.molecule();
-    const auto &ring = t.rings()[ring_index];
     bool benzenoid = true;
     for (std::size_t i = 0; i < 6 && benzenoid; ++i) {
       const auto &at = m.atom(ring[i]);
@@ -757,36 +905,58 @@ class H1Increments final : public ShiftSource {
       benzenoid = at.atomic_number == 6 && at.aromatic && at.formal_charge == 0 && b >= 0 &&
                   m.bond(static_cast<std::size_t>(b)).order == BondOrder::Aromatic;
     }
-    if (!benzenoid) return *slot;
-    slot->benzenoid = true;
+    if (!benzenoid) return out;
+    out.benzenoid = true;
     std::vector<bool> skeleton(m.atom_count(), false);
     for (auto a : ring) skeleton[a] = true;
     for (int ir = 0; ir < 6; ++ir) {
       const auto r = ring[static_cast<std::size_t>(ir)];
       for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
         if (skeleton[x]) return;
-        const BenzeneRow *row = in_one_ring(t, {r, x}) ? nullptr : first_row(tab_.benzene.rows, t, x, skeleton);
-        slot->groups.push_back(BenzeneRing::Group{ir, row});
+        const bool closes_ring = !lone && in_one_ring(t, {r, x});
+        const BenzeneRow *row = closes_ring ? nullptr : first_row(tab_.benzene.rows, t, x, skeleton);
+        out.groups.push_back(BenzeneRing::Group{ir, row});
       });
     }
-    return *slot;
+    return out;
+  }
+
+  // lone_ring() of an atom and its benzene facts, once asked.
+  struct LoneRing {
+    std::vector<std::uint32_t> atoms;
+    std::optional<BenzeneRing> benzene;
+  };
+  static constexpr std::int32_t kLoneUnknown = -1, kLoneNone = -2;
+
+  // lone_ring(m, k), remembered for every atom of the ring.
+  LoneRing *lone_ring(const Molecule &m, std::size_t k) const {
+    if (lone_of_.empty()) lone_of_.assign(m.heavy_atom_count(), kLoneUnknown);
+    if (k >= lone_of_.size()) return nullptr;
+    if (lone_of_[k] == kLoneUnknown) {
+      // The answer holds for every atom of the cycle.
+      const auto cycle = aromatic_cycle(m, k);
+      lone_of_[k] = kLoneNone;
+      if (cycle.size() >= 3 && whole_ring_system(m, cycle)) {
+        for (auto a : cycle) lone_of_[a] = static_cast<std::int32_t>(lone_rings_.size());
+        lone_rings_.push_back(LoneRing{rings_order(m, cycle), std::nullopt});
+      } else {
+        for (auto a : cycle) lone_of_[a] = kLoneNone;
+      }
+    }
+    return lone_of_[k] >= 0 ? &lone_rings_[static_cast<std::size_t>(lone_of_[k])] : nullptr;
   }
 
   // --- heteroaromatic base values -------------------------------------------
   std::optional<Estimate> hetero(const SmartsTarget &t, std::size_t k) const {
     const Molecule &m = t.molecule();
-    for (const auto &row : tab_.hetero) {
-      // Most rows fail: the plain anchored test costs less than setting up
-      // the search that reports the mapping, which only the first hit needs.
-      if (!match_at(row.smarts, t, k)) continue;
-      std::vector<std::int64_t> fixed(row.smarts.atom_count(), -1);
-      fixed[0] = static_cast<std::int64_t>(k);
-      std::vector<std::uint32_t> map;
-      for_each_match(row.smarts, t, fixed, {}, [&](const std::vector<std::uint32_t> &mp) {
-        map = mp;
-        return true;
-      });
-      if (map.empty()) continue;
+    for (std::size_t r = 0; r < tab_.hetero.size(); ++r) {
+      const HeteroRow &row = tab_.hetero[r];
+      // The anchored screen of match_at rejects most rows for this proton
+      // before the row's mappings are looked at (or searched for).
+      if (!row.smarts.root_may_match(t.packed(k))) continue;
+      const auto *found = first_mapping_at(row.smarts, hetero_matches(t, r), k);
+      if (!found) continue;
+      const std::vector<std::uint32_t> &map = *found;
       // The first matching row names the parent; FORMAT.md keeps the rows
       // of different parents apart, so no other row can apply.
       std::vector<bool> in_ring(m.atom_count(), false);
@@ -814,18 +984,53 @@ class H1Increments final : public ShiftSource {
       // tautomers, so N-substituted azoles without a row of their own
       // (1-alkylimidazole, 1-alkylpyrazole) are not covered.
       if (nitrogens >= 2 && n_substituted) return std::nullopt;
-      Sum s(row.scheme, kHeteroSpread);
+      Sum s({row.scheme}, kHeteroSpread);
       s.base(row.label, row.ppm);
       // Substituents on ring carbons take the benzene increment for their
       // relation to the proton, counted in bonds inside the parent
       // (tables/FORMAT.md, h1_heteroaromatic); the rest are not accounted for.
       const int unaccounted = substituents - carry_benzene_terms(t, k, map, in_ring, s);
       if (unaccounted > 0)
-        s.note(fmt::format("{} ring substituent{} not accounted for: the table gives no increments for this ring",
-                           unaccounted, unaccounted == 1 ? "" : "s"));
+        s.note(std::to_string(unaccounted) + (unaccounted == 1 ? " ring substituent" : " ring substituents") +
+               " not accounted for: the table gives no increments for this ring");
       return from_sum(s, unaccounted);
     }
     return std::nullopt;
+  }
+
+  // Every mapping of h1_heteroaromatic row `r` in the molecule, found on
+  // the first proton that gets to the row. One whole-molecule search per row
+  // costs less than anchored tries of the row at every such proton: it
+  // rejects a row whose ring no ring system of the molecule can hold before
+  // any search, and most rows fail so. Rows after every proton's first hit
+  // are never searched.
+  const std::vector<std::vector<std::uint32_t>> &hetero_matches(const SmartsTarget &t, std::size_t r) const {
+    if (hetero_matches_.empty()) hetero_matches_.resize(tab_.hetero.size());
+    auto &slot = hetero_matches_[r];
+    if (!slot) slot = all_matches(tab_.hetero[r].smarts, t);
+    return *slot;
+  }
+
+  // Of the mappings of `p` in `maps`, the first one with pattern atom 0 on
+  // atom k in the order for_each_match with only atom 0 fixed visits them
+  // (ascending along search_order(0)), or null: the rows name the parent
+  // ring by the first such mapping.
+  static const std::vector<std::uint32_t> *first_mapping_at(const SmartsPattern &p,
+                                                           const std::vector<std::vector<std::uint32_t>> &maps,
+                                                           std::size_t k) {
+    const std::vector<std::uint32_t> *best = nullptr;
+    if (maps.empty()) return best;  // most rows, most molecules
+    const auto &order = p.search_order(0);
+    for (const auto &map : maps) {
+      if (map[0] != k) continue;
+      if (best) {
+        std::size_t i = 0;
+        while (i < order.size() && map[order[i]] == (*best)[order[i]]) ++i;
+        if (i == order.size() || map[order[i]] > (*best)[order[i]]) continue;
+      }
+      best = &map;
+    }
+    return best;
   }
 
   // Adds to `s` the benzene increments of the groups on the aromatic ring
@@ -845,7 +1050,7 @@ class H1Increments final : public ShiftSource {
       for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
         if (in_ring[z] && dist[z] < 0) dist[z] = dist[queue[i]] + 1, queue.push_back(z);
       });
-    const char *const relation[] = {"", "ortho", "meta", "para"};
+    const char *const relation[] = {"", "ortho (carried over)", "meta (carried over)", "para (carried over)"};
     int carried = 0;
     for (auto a : map) {
       const auto &at = m.atom(a);
@@ -855,7 +1060,7 @@ class H1Increments final : public ShiftSource {
         const auto *b = first_row(tab_.benzene.rows, t, x, in_ring);
         if (!b) return;
         const auto rel = static_cast<std::size_t>(dist[a]);
-        s.add(fmt::format("{} (carried over)", relation[rel]), b->id, b->by_relation[rel]);
+        s.add(relation[rel], b->id, b->by_relation[rel]);
         s.widen(kCarriedOverPpm);
         ++carried;
       });
@@ -986,14 +1191,14 @@ class H1Increments final : public ShiftSource {
       }
     }
 
-    Sum s("alkene increments (Pascual-Meier-Simon)", kAlkeneSpread);
-    s.base("base " + fmt_ppm(tab.base.ppm), tab.base.ppm);
+    Sum s({"alkene increments (Pascual-Meier-Simon)"}, kAlkeneSpread);
+    s.base(tab.base_label, tab.base.ppm);
     int count = 0;
     auto term = [&](std::size_t x, const char *role) -> bool {
       if (m.is_hydrogen(x)) return true;
       const auto *row = row_for(x);
       if (!row) return false;
-      const std::string r(role);
+      const std::string_view r(role);
       s.add(r, row->id, r == "gem" ? row->gem : r == "cis" ? row->cis : row->trans);
       ++count;
       return true;
@@ -1100,8 +1305,8 @@ class H1Increments final : public ShiftSource {
       if (y == cb) continue;
       std::vector<bool> skeleton(m.atom_count(), false);
       skeleton[ca] = skeleton[cb] = true;
-      Sum s("alkene increments (Pascual-Meier-Simon)", kAlkeneSpread);
-      s.base("base " + fmt_ppm(tab_.alkene.base.ppm), tab_.alkene.base.ppm);
+      Sum s({"alkene increments (Pascual-Meier-Simon)"}, kAlkeneSpread);
+      s.base(tab_.alkene.base_label, tab_.alkene.base.ppm);
       int count = 0;
       bool donor = false, acceptor = false;
       auto term = [&](std::size_t x, const char *role) -> bool {
@@ -1117,7 +1322,7 @@ class H1Increments final : public ShiftSource {
                           [&](const AlkeneRow &r) { return variant_holds(t, r.variant, ca, cb, x); });
         }
         if (!row) return false;
-        const std::string r(role);
+        const std::string_view r(role);
         s.add(r, row->id, r == "gem" ? row->gem : r == "cis" ? row->cis : row->trans);
         ++count;
         return true;
@@ -1185,6 +1390,25 @@ class H1Increments final : public ShiftSource {
   }
 
   // --- sp3 C-H: Shoolery's rule and the position table -----------------------
+  // The heavy neighbours of an sp3 carbon (four bonds), kept in place rather
+  // than in a vector per carbon.
+  class Sp3Neighbours {
+   public:
+    Sp3Neighbours(const Molecule &m, std::size_t c) {
+      for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) {
+        if (count_ < atoms_.size()) atoms_[count_++] = x;
+      });
+    }
+    std::size_t size() const { return count_; }
+    std::size_t operator[](std::size_t i) const { return atoms_[i]; }
+    const std::size_t *begin() const { return atoms_.data(); }
+    const std::size_t *end() const { return atoms_.data() + count_; }
+
+   private:
+    std::array<std::size_t, 4> atoms_{};
+    std::size_t count_ = 0;
+  };
+
   std::optional<Estimate> sp3(const SmartsTarget &t, std::size_t c) const {
     const ShooleryTable &tab = tab_.shoolery;
     if (!tab.present) return std::nullopt;
@@ -1192,9 +1416,10 @@ class H1Increments final : public ShiftSource {
     // aziridines) is not covered (FORMAT.md). A carbon of a four-membered
     // ring takes the open-chain value plus the ring term of row ring4-ch2
     // (FORMAT.md, h1_shoolery step 4); without that row it is not covered.
-    const int ring = t.smallest_ring(c);
+    const Sp3Neighbours nbrs(t.molecule(), c);
+    const int ring = small_ring(t.molecule(), c, nbrs);
     if (ring == 3 || (ring == 4 && !tab.ring4.set)) return std::nullopt;
-    auto est = sp3_chain(t, c);
+    auto est = sp3_chain(t, c, nbrs);
     if (!est || ring != 4) return est;
     est->ppm += tab.ring4.ppm;
     est->uncertainty_ppm = std::hypot(est->uncertainty_ppm, kRing4Ppm);
@@ -1202,15 +1427,32 @@ class H1Increments final : public ShiftSource {
     return est;
   }
 
-  std::optional<Estimate> sp3_chain(const SmartsTarget &t, std::size_t c) const {
+  // SmartsTarget::smallest_ring(c) where that is 3 or 4, else 0, without
+  // ring perception, which costs more than the rest of most molecules' rules.
+  // The smallest rings (graph/smarts.hpp) keep every triangle, and a
+  // four-cycle through an atom on no triangle is no sum of triangles (a
+  // triangle holding one of its bonds at the atom would hold the atom), so
+  // it is kept too: both show in the atom's neighbourhood.
+  static int small_ring(const Molecule &m, std::size_t c, const Sp3Neighbours &nbrs) {
+    const std::size_t n = nbrs.size();
+    for (std::size_t i = 0; i < n; ++i)
+      for (std::size_t j = i + 1; j < n; ++j)
+        if (m.bond_between(nbrs[i], nbrs[j]) >= 0) return 3;
+    for (std::size_t i = 0; i < n; ++i)
+      for (std::size_t j = i + 1; j < n; ++j)
+        for (auto it = m.neighbours_begin(nbrs[i]); it != m.neighbours_end(nbrs[i]); ++it)
+          if (*it != c && !m.is_hydrogen(*it) && m.bond_between(*it, nbrs[j]) >= 0) return 4;
+    return 0;
+  }
+
+  std::optional<Estimate> sp3_chain(const SmartsTarget &t, std::size_t c, const Sp3Neighbours &nbrs) const {
     const Molecule &m = t.molecule();
     const ShooleryTable &tab = tab_.shoolery;
     const std::size_t n_h = m.hydrogen_count(c);
-    const auto nbrs = heavy_neighbours(m, c);
     if (n_h == 4) {
       if (!tab.shoolery_base.set) return std::nullopt;
-      Sum s("Shoolery's rule", kShoolerySpread);
-      s.base("base " + tab.shoolery_base.label, tab.shoolery_base.ppm);
+      Sum s({"Shoolery's rule"}, kShoolerySpread);
+      s.base(tab.shoolery_base_label, tab.shoolery_base.ppm);
       return from_sum(s);
     }
     if (n_h < 1 || n_h > 3) return std::nullopt;
@@ -1263,8 +1505,8 @@ class H1Increments final : public ShiftSource {
       // Shoolery's rule for CH2XY: 0.23 + sigma(X) + sigma(Y); clean alkyl
       // takes the sigma of row sigma-alkyl (FORMAT.md, h1_shoolery step 1).
       if (!tab.shoolery_base.set) return std::nullopt;
-      Sum s("Shoolery's rule", spread);
-      s.base("base " + tab.shoolery_base.label, tab.shoolery_base.ppm);
+      Sum s({"Shoolery's rule"}, spread);
+      s.base(tab.shoolery_base_label, tab.shoolery_base.ppm);
       for (auto n : nbrs) {
         const auto *row = first_row(tab.sigma, t, n, skeleton);
         if (!row) return std::nullopt;
@@ -1305,8 +1547,7 @@ class H1Increments final : public ShiftSource {
       if (!beta.empty()) {
         // A group alpha and others beta (FORMAT.md step 3b): the alpha row
         // plus each beta row's step above the plain alkane, as in step 3a.
-        Sum s(fmt::format("position table ({} alpha to a group, beta to others, additive)", type[n_h]),
-              kAlphaBetaSpread);
+        Sum s({"position table (", type[n_h], " alpha to a group, beta to others, additive)"}, kAlphaBetaSpread);
         s.base(row->label, row->ppm);
         if (!add_beta_steps(t, c, n_h, beta, s)) return std::nullopt;
         return from_sum(s);
@@ -1314,7 +1555,7 @@ class H1Increments final : public ShiftSource {
       static constexpr std::string_view kDerived = "-arylamino";
       const bool derived = row->id.size() > kDerived.size() &&
                            row->id.compare(row->id.size() - kDerived.size(), kDerived.size(), kDerived) == 0;
-      Sum s(fmt::format("position table ({} alpha to a group)", type[n_h]), derived ? kDerivedAlphaSpread : kAlphaSpread);
+      Sum s({"position table (", type[n_h], " alpha to a group)"}, derived ? kDerivedAlphaSpread : kAlphaSpread);
       s.base(row->label, row->ppm);
       return from_sum(s, 0);
     }
@@ -1324,7 +1565,7 @@ class H1Increments final : public ShiftSource {
         // Exactly one group one bond further away (FORMAT.md step 3).
         const auto *row = first_row(tab.beta[n_h], t, beta[0], skeleton);
         if (!row) return std::nullopt;
-        Sum s(fmt::format("position table ({} beta to a group)", type[n_h]), kBetaSpread);
+        Sum s({"position table (", type[n_h], " beta to a group)"}, kBetaSpread);
         s.base(row->label, row->ppm);
         return from_sum(s, 0);
       }
@@ -1332,7 +1573,7 @@ class H1Increments final : public ShiftSource {
     }
     const auto &alk = tab.alkane[n_h];
     if (!alk.set) return std::nullopt;
-    Sum s(fmt::format("position table ({} with no group within two bonds)", type[n_h]), kAlkaneSpread);
+    Sum s({"position table (", type[n_h], " with no group within two bonds)"}, kAlkaneSpread);
     s.base(alk.label, alk.ppm);
     return from_sum(s, 0);
   }
@@ -1350,8 +1591,7 @@ class H1Increments final : public ShiftSource {
       for_heavy_neighbours(t.molecule(), b, [&](std::size_t y, BondOrder) {
         groups += y != c && !is_sp3_carbon(t.molecule(), y);
       });
-    Sum s(fmt::format("position table ({} beta to {}, additive)", type[n_h],
-                      groups == 1 ? "a group" : "several groups"),
+    Sum s({"position table (", type[n_h], " beta to ", groups == 1 ? "a group" : "several groups", ", additive)"},
           kBetaSumSpread);
     s.base(alk.label, alk.ppm);
     if (!add_beta_steps(t, c, n_h, beta, s)) return std::nullopt;
@@ -1399,7 +1639,14 @@ class H1Increments final : public ShiftSource {
   mutable const ShiftQuery *query_ = nullptr;
   mutable const SmartsTarget *target_ = nullptr;
   mutable std::vector<std::optional<BenzeneRing>> benzene_rings_;  // see benzene_ring()
-  mutable std::vector<Memo> by_proton_, by_carrier_;  // see evaluate()
+  mutable std::vector<std::int32_t> lone_of_;  // per heavy atom: index into lone_rings_, or kLoneUnknown/None
+  mutable std::vector<LoneRing> lone_rings_;   // see lone_ring()
+  mutable std::vector<std::optional<std::vector<std::vector<std::uint32_t>>>> hetero_matches_;  // see hetero_matches()
+  // evaluate()'s answers; per atom (a proton, or a carrier for all its
+  // protons) the index of its answer or kNotDone. A deque, so that the
+  // answers handed out stay in place.
+  mutable std::vector<std::int32_t> memo_of_;
+  mutable std::deque<std::optional<Estimate>> memo_;
 };
 
 }  // namespace
@@ -1416,7 +1663,7 @@ std::shared_ptr<const H1IncrementTables> parse_h1_increment_tables(const Tables 
 }
 
 const std::vector<Solvent> *parsed_solvents(const H1IncrementTables &parsed) {
-  return parsed.has_solvents ? &parsed.full_solvents : nullptr;
+  return parsed.has_solvents ? &parsed.solvents : nullptr;
 }
 
 std::unique_ptr<ShiftSource> make_h1_increments(std::shared_ptr<const H1IncrementTables> parsed,

@@ -5,10 +5,14 @@
 // tables/increments/h1_*.tsv applied as tables/FORMAT.md ("1H increment and
 // solvent tables") describes. Private to the library (shifts/).
 
+#include <cstddef>
+#include <cstdint>
 #include <memory>
 #include <string>
+#include <string_view>
 #include <vector>
 
+#include <nmrpred/molecule.hpp>
 #include <nmrpred/solvents.hpp>
 
 #include "sources.hpp"
@@ -34,6 +38,15 @@ std::shared_ptr<const H1IncrementTables> parse_h1_increment_tables(const Tables 
 // Lets solvents() and find_solvent() skip parsing the file on every call.
 const std::vector<Solvent> *parsed_solvents(const H1IncrementTables &parsed);
 
+// `s` without surrounding spaces, in lower case, as solvent names compare
+// (shifts/solvents.cpp).
+std::string lower_trimmed(std::string_view s);
+
+// The solvent of `list` called `name`, as nmrpred::find_solvent() finds it
+// (name, id or alias, case-insensitive, surrounding spaces ignored). Throws
+// ArgumentError listing the known names when none matches.
+const Solvent &find_listed_solvent(const std::vector<Solvent> &list, std::string_view name);
+
 // The 1H increment source for `solvent` (a name, id or alias of
 // tables/solvents.tsv, case-insensitive; empty means CDCl3). The solvent
 // selects the rows of h1_special.tsv for exchangeable (O-H, N-H, S-H) and
@@ -55,6 +68,14 @@ const std::vector<Solvent> *parsed_solvents(const H1IncrementTables &parsed);
 // from one thread at a time.
 std::unique_ptr<ShiftSource> make_h1_increments(std::shared_ptr<const H1IncrementTables> parsed,
                                                 std::string solvent);
+
+// The ring through heavy atom k along bonds of order Aromatic (every atom on
+// it with exactly two, at most 8 atoms), when it is the whole ring system of
+// its atoms (every other bond they have is a bridge), in the order
+// SmartsTarget::rings() lists it, where it is then the only ring holding k;
+// empty otherwise. Lets the 1H rules skip ring perception, which costs more
+// than the rest of their work, for most aromatic protons. Pure.
+std::vector<std::uint32_t> lone_ring(const Molecule &m, std::size_t k);
 
 }  // namespace nmrpred::detail
 

@@ -11,15 +11,46 @@
 
 namespace nmrpred {
 
+namespace detail {
+
 namespace {
 
-std::string lower_trimmed(std::string_view s) {
+std::string_view trimmed(std::string_view s) {
   while (!s.empty() && std::isspace(static_cast<unsigned char>(s.front()))) s.remove_prefix(1);
   while (!s.empty() && std::isspace(static_cast<unsigned char>(s.back()))) s.remove_suffix(1);
-  std::string out(s);
-  for (auto &c : out) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  return s;
+}
+
+char lower(char c) { return static_cast<char>(std::tolower(static_cast<unsigned char>(c))); }
+
+}  // namespace
+
+std::string lower_trimmed(std::string_view s) {
+  std::string out(trimmed(s));
+  for (auto &c : out) c = lower(c);
   return out;
 }
+
+const Solvent &find_listed_solvent(const std::vector<Solvent> &list, std::string_view name) {
+  const auto key = lower_trimmed(name);
+  // Every prediction looks its solvent up: names are compared in place
+  // rather than lower-cased into new strings.
+  auto same_name = [&](std::string_view n) {
+    n = trimmed(n);
+    return n.size() == key.size() &&
+           std::equal(n.begin(), n.end(), key.begin(), [](char a, char b) { return lower(a) == b; });
+  };
+  for (const auto &s : list)
+    if (same_name(s.name) || s.id == key || std::find(s.aliases.begin(), s.aliases.end(), key) != s.aliases.end())
+      return s;
+  std::string known;
+  for (const auto &s : list) known += (known.empty() ? "" : ", ") + s.name;
+  throw ArgumentError(fmt::format("unknown solvent '{}' (known: {})", name, known));
+}
+
+}  // namespace detail
+
+namespace {
 
 std::vector<SolventSignal> signals(const std::string &where, std::string_view shifts, std::string_view mults,
                                    std::string_view couplings) {
@@ -67,7 +98,7 @@ std::vector<Solvent> solvents(const Tables &tables) {
     s.id = f[c_id];
     s.name = f[c_name];
     for (auto a : detail::split(f[c_alias], ';'))
-      if (!a.empty() && a != "-") s.aliases.push_back(lower_trimmed(a));
+      if (!a.empty() && a != "-") s.aliases.push_back(detail::lower_trimmed(a));
     s.h1_residual = signals(where, f[c_h], f[c_hm], f[c_hj]);
     s.c13 = signals(where, f[c_c], f[c_cm], f[c_cj]);
     if (!detail::parse_double(f[c_w], s.water_h1_ppm))
@@ -82,24 +113,10 @@ std::vector<Solvent> solvents(const Tables &tables) {
 }
 
 Solvent find_solvent(const Tables &tables, std::string_view name) {
-  const auto key = lower_trimmed(name);
   // Every prediction looks its solvent up: use the list parsed with the
   // tables rather than reading solvents.tsv again.
-  std::vector<Solvent> read;
-  const std::vector<Solvent> *parsed = parsed_list(tables);
-  if (!parsed) {
-    read = solvents(tables);
-    parsed = &read;
-  }
-  const auto &all = *parsed;
-  for (const auto &s : all) {
-    if (lower_trimmed(s.name) == key || s.id == key ||
-        std::find(s.aliases.begin(), s.aliases.end(), key) != s.aliases.end())
-      return s;
-  }
-  std::string known;
-  for (const auto &s : all) known += (known.empty() ? "" : ", ") + s.name;
-  throw ArgumentError(fmt::format("unknown solvent '{}' (known: {})", name, known));
+  if (const auto *parsed = parsed_list(tables)) return detail::find_listed_solvent(*parsed, name);
+  return detail::find_listed_solvent(solvents(tables), name);
 }
 
 }  // namespace nmrpred
