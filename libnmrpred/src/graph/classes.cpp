@@ -417,6 +417,18 @@ struct SearchLevels {
   std::vector<std::uint32_t> seen;
   std::vector<std::uint8_t> seen_order;
   std::uint32_t stamp = 0;
+  // direct(): images already used, and the atoms in the order they were mapped.
+  std::vector<char> taken;
+  std::vector<std::uint32_t> queue;
+};
+
+// A complete map of atoms as AutomorphismSearch::tetra_ok() and double_ok()
+// read it (-1, a lone pair, maps to itself).
+struct CompleteMap {
+  const std::vector<std::uint32_t> &sigma;
+  std::int32_t operator()(std::int32_t a) const {
+    return a < 0 ? -1 : static_cast<std::int32_t>(sigma[static_cast<std::uint32_t>(a)]);
+  }
 };
 
 // Searches for an automorphism mapping r to x. sign 0: graph only; +1: proper
@@ -435,6 +447,7 @@ class AutomorphismSearch {
       : g_(g), start_(start), stereo_(stereo), budget_(budget), scratch_(start.scratch()), levels_(levels) {}
 
   bool find(std::uint32_t r, std::uint32_t x, std::vector<std::uint32_t> &sigma) {
+    if (direct(r, x, sigma)) return true;
     // Refinement is deterministic and leaves its scratch clean, so a
     // partition individualised earlier is the one this call would make.
     const auto &e1 = start_.at(r);
@@ -592,6 +605,11 @@ class AutomorphismSearch {
       } while (std::next_permutation(images.begin(), images.end()));
       if (!placed) return false;
     }
+    return is_symmetry(sigma, sign);
+  }
+
+  // Whether the complete map `sigma` is a symmetry of kind `sign` (0, +1 or -1).
+  bool is_symmetry(const std::vector<std::uint32_t> &sigma, int sign) {
     // Every bond a-b must map to a bond sigma(a)-sigma(b) of the same order:
     // stamp sigma(a)'s neighbours with their orders, then look each image up
     // (a search per bond cost more than the rest of this check).
@@ -618,12 +636,84 @@ class AutomorphismSearch {
       }
     }
     if (sign != 0) {
+      const CompleteMap map{sigma};
       for (const auto &t : g_.tetra)
         if (!tetra_ok(t, map, sign)) return false;
       for (const auto &d : g_.dbl)
         if (!double_ok(d, map)) return false;
     }
     return true;
+  }
+
+  // Most symmetries of a molecule need no search: map r to x, then walk
+  // outwards pairing each unmapped neighbour with the first free neighbour of
+  // its image that lies in the same cell of the base partition and is bonded
+  // the same way. Whatever map this gives is verified in full, so a wrong
+  // pairing costs only the walk before the search proper takes over; and as
+  // orbits do not depend on which symmetries are found, the classes stay
+  // those the search alone would give.
+  bool direct(std::uint32_t r, std::uint32_t x, std::vector<std::uint32_t> &sigma) {
+    const std::vector<std::uint32_t> &cell = start_.base().cell;
+    sigma.assign(g_.n, kUnset);
+    auto &taken = levels_.taken;
+    taken.assign(g_.n, 0);
+    auto &queue = levels_.queue;
+    queue.clear();
+    sigma[r] = x;
+    taken[x] = 1;
+    queue.push_back(r);
+    for (std::size_t head = 0; head < queue.size(); ++head) {
+      const std::uint32_t a = queue[head], y = sigma[a];
+      for (std::uint32_t e = g_.off[a]; e < g_.off[a + 1]; ++e) {
+        const std::uint32_t u = g_.nbr[e];
+        if (sigma[u] != kUnset) continue;
+        std::uint32_t v = kUnset;
+        for (std::uint32_t f = g_.off[y]; f < g_.off[y + 1]; ++f) {
+          const std::uint32_t w = g_.nbr[f];
+          if (!taken[w] && cell[w] == cell[u] && g_.order[f] == g_.order[e]) {
+            v = w;
+            break;
+          }
+        }
+        if (v == kUnset) return false;
+        sigma[u] = v;
+        taken[v] = 1;
+        queue.push_back(u);
+      }
+    }
+    // A graph of several fragments is left to the search.
+    if (queue.size() != g_.n) return false;
+    if (!stereo_) return is_symmetry(sigma, 0);
+    return with_sign(sigma, r, +1) || with_sign(sigma, r, -1);
+  }
+
+  // Makes the graph symmetry `sigma` one of kind `sign` where that only takes
+  // exchanging the images of two equal leaves on a tetrahedral centre (which
+  // inverts that centre alone), then verifies it. The image of `fixed` stays
+  // as it is; so, if this fails, `sigma` is still a graph symmetry with the
+  // same image of `fixed`, fit for a try with the other sign.
+  bool with_sign(std::vector<std::uint32_t> &sigma, std::uint32_t fixed, int sign) {
+    const CompleteMap map{sigma};
+    const auto f = static_cast<std::int32_t>(fixed);
+    for (const auto &t : g_.tetra) {
+      if (tetra_ok(t, map, sign)) continue;
+      bool swapped = false;
+      for (int i = 0; i < 4 && !swapped; ++i)
+        for (int j = i + 1; j < 4 && !swapped; ++j)
+          if (t.lig[i] != f && t.lig[j] != f && equal_leaves(t.lig[i], t.lig[j])) {
+            std::swap(sigma[static_cast<std::uint32_t>(t.lig[i])], sigma[static_cast<std::uint32_t>(t.lig[j])]);
+            swapped = true;
+          }
+      if (!swapped) return false;
+    }
+    return is_symmetry(sigma, sign);
+  }
+
+  // Two leaves on one centre that any symmetry may exchange.
+  bool equal_leaves(std::int32_t a, std::int32_t b) const {
+    if (a < 0 || b < 0) return false;
+    const auto ua = static_cast<std::uint32_t>(a), ub = static_cast<std::uint32_t>(b);
+    return g_.leaf[ua] && g_.leaf[ub] && g_.colour[ua] == g_.colour[ub] && g_.order[g_.off[ua]] == g_.order[g_.off[ub]];
   }
 
   const Graph &g_;
