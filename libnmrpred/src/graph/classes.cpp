@@ -20,6 +20,7 @@
 #include <map>
 #include <memory>
 #include <numeric>
+#include <tuple>
 #include <unordered_map>
 
 #include <fmt/format.h>
@@ -107,7 +108,7 @@ bool even_permutation(std::array<std::int32_t, 4> from, const std::array<std::in
 // obtained differ by a symmetry of the graph, so configurations derived from
 // this order relate to each other the same way for every input atom order.
 // `p` and `s` are the caller's buffers: p starts as the refined partition of g.
-std::vector<std::uint32_t> canonical_positions(const Graph &g, Partition &p, RefineScratch &s) {
+const std::vector<std::uint32_t> &canonical_positions(const Graph &g, Partition &p, RefineScratch &s) {
   s.reset(g.n);
   std::uint32_t first = 0;
   while (true) {
@@ -138,9 +139,7 @@ std::vector<std::uint32_t> canonical_positions(const Graph &g, Partition &p, Ref
     }
     detail::individualize(g, p, p.elems[first], s);
   }
-  std::vector<std::uint32_t> pos(g.n);
-  for (std::uint32_t a = 0; a < g.n; ++a) pos[a] = p.pos[a];
-  return pos;
+  return p.pos;
 }
 
 // Whole-molecule stereo model in molecule indices.
@@ -288,29 +287,32 @@ void build_structure(const Molecule &m, const std::vector<std::uint32_t> &atoms,
   g.order.reserve(edges);
   g.tetra.clear();
   g.dbl.clear();
-  std::pair<std::uint32_t, std::uint8_t> tmp_inline[8];
-  std::vector<std::pair<std::uint32_t, std::uint8_t>> tmp_heap;
+  std::vector<std::pair<std::uint32_t, std::uint8_t>> tmp;
+  const auto &mol_atoms = m.atoms();
+  const auto &bonds = m.bonds();
   for (std::uint32_t i = 0; i < g.n; ++i) {
     const auto a = atoms[i];
-    const auto deg = static_cast<std::uint32_t>(m.degree(a));
-    g.colour[i] = atom_colour(m.atom(a), deg);
+    const std::uint32_t *nb = m.neighbours_begin(a);
+    const auto deg = static_cast<std::uint32_t>(m.neighbours_end(a) - nb);
+    g.colour[i] = atom_colour(mol_atoms[a], deg);
     g.leaf[i] = deg == 1;
     g.off[i + 1] = g.off[i] + deg;
     const auto *bid = m.bond_ids_begin(a);
-    // Degrees above 8 are rare: only they pay for a heap buffer.
-    auto *tmp = tmp_inline;
-    if (deg > 8) {
-      tmp_heap.resize(deg);
-      tmp = tmp_heap.data();
+    const std::size_t first = g.nbr.size();
+    bool sorted = true;
+    for (std::uint32_t k = 0; k < deg; ++k) {
+      const std::uint32_t b = local_of[nb[k]];
+      sorted = sorted && (k == 0 || g.nbr.back() < b);
+      g.nbr.push_back(b);
+      g.order.push_back(order_code(bonds[bid[k]].order));
     }
-    std::uint32_t k = 0;
-    for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid)
-      tmp[k++] = {local_of[*it], order_code(m.bond(*bid).order)};
-    std::sort(tmp, tmp + deg);
-    for (std::uint32_t q = 0; q < deg; ++q) {
-      g.nbr.push_back(tmp[q].first);
-      g.order.push_back(tmp[q].second);
-    }
+    // The molecule's neighbour lists are sorted, and so are they here while
+    // `atoms` is increasing within each fragment, as every caller has it.
+    if (sorted) continue;
+    tmp.clear();
+    for (std::size_t q = first; q < g.nbr.size(); ++q) tmp.emplace_back(g.nbr[q], g.order[q]);
+    std::sort(tmp.begin(), tmp.end());
+    for (std::size_t q = first; q < g.nbr.size(); ++q) std::tie(g.nbr[q], g.order[q]) = tmp[q - first];
   }
   g.tetra_of.assign(g.n, -1);
   g.dbl_of.resize(g.n);
@@ -771,20 +773,29 @@ void orbits(const Graph &g, Individualised &start, const Groups &cells, bool ste
 // Twin leaves: equal leaves on one parent. Sets of three or more are always
 // equivalent (a rotation about the parent bond exchanges them without touching
 // any configuration); pairs are topologically equivalent.
-void unite_twins(const Graph &g, UnionFind &uf, std::size_t min_size) {
-  std::vector<std::pair<std::uint64_t, std::uint32_t>> leaves;
+// `leaves` is scratch.
+void unite_twins(const Graph &g, UnionFind &uf, std::size_t min_size, std::vector<std::uint32_t> &leaves) {
   for (std::uint32_t p = 0; p < g.n; ++p) {
+    if (g.degree(p) < min_size) continue;
     leaves.clear();
     for (std::uint32_t k = g.off[p]; k < g.off[p + 1]; ++k)
-      if (g.leaf[g.nbr[k]]) leaves.emplace_back((g.colour[g.nbr[k]] << 3) ^ g.order[k], g.nbr[k]);
+      if (g.leaf[g.nbr[k]]) leaves.push_back(k);
     if (leaves.size() < min_size) continue;
-    std::sort(leaves.begin(), leaves.end());
-    for (std::size_t i = 0; i < leaves.size();) {
-      std::size_t j = i;
-      while (j < leaves.size() && leaves[j].first == leaves[i].first) ++j;
-      if (j - i >= min_size)
-        for (std::size_t q = i + 1; q < j; ++q) uf.unite(leaves[i].second, leaves[q].second);
-      i = j;
+    // A parent has a few leaves at most: comparing every pair is cheaper
+    // than sorting them by kind.
+    auto same_kind = [&](std::uint32_t k1, std::uint32_t k2) {
+      return g.order[k1] == g.order[k2] && g.colour[g.nbr[k1]] == g.colour[g.nbr[k2]];
+    };
+    for (std::size_t i = 0; i < leaves.size(); ++i) {
+      if (leaves[i] == kUnset) continue;
+      std::size_t size = 1;
+      for (std::size_t j = i + 1; j < leaves.size(); ++j) size += leaves[j] != kUnset && same_kind(leaves[i], leaves[j]);
+      if (size < min_size) continue;
+      for (std::size_t j = i + 1; j < leaves.size(); ++j)
+        if (leaves[j] != kUnset && same_kind(leaves[i], leaves[j])) {
+          uf.unite(g.nbr[leaves[i]], g.nbr[leaves[j]]);
+          leaves[j] = kUnset;
+        }
     }
   }
 }
@@ -816,8 +827,11 @@ void groups_of(std::uint32_t n, const std::vector<std::uint32_t> &within, Groups
     if (fill[within[a]] != kUnset) out.atoms[fill[within[a]]++] = a;
 }
 
-std::vector<std::uint32_t> dense_ids(UnionFind &uf, std::uint32_t n, std::uint32_t &count) {
-  std::vector<std::uint32_t> id(n, kUnset), root_id(n, kUnset);
+// `root_id` is scratch.
+std::vector<std::uint32_t> dense_ids(UnionFind &uf, std::uint32_t n, std::uint32_t &count,
+                                     std::vector<std::uint32_t> &root_id) {
+  std::vector<std::uint32_t> id(n);
+  root_id.assign(n, kUnset);
   count = 0;
   for (std::uint32_t a = 0; a < n; ++a) {
     const auto r = uf.find(a);
@@ -959,7 +973,7 @@ AtomClasses compute_classes(const Molecule &m) {
     const Graph &g = *frag_graph.back();
     frag_start.push_back(std::make_unique<Individualised>(g, *frag_part.back(), ws.entries, ws.search_scratch));
     UnionFind uf(g.n);
-    unite_twins(g, uf, 2);
+    unite_twins(g, uf, 2, ws.reps);
     groups_of(g.n, frag_part.back()->cell, ws.groups, ws.count, ws.fill);
     orbits(g, *frag_start.back(), ws.groups, false, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps);
     for (std::uint32_t a = 0; a < g.n; ++a) topo_uf.unite(g.global[a], g.global[uf.find(a)]);
@@ -972,7 +986,7 @@ AtomClasses compute_classes(const Molecule &m) {
       by_sig[fragment_signature(*frag_graph[f], *frag_part[f])].push_back(f);
 
   std::uint32_t tcount = 0;
-  auto topo_pre = dense_ids(topo_uf, n, tcount);
+  const auto topo_pre = dense_ids(topo_uf, n, tcount, ws.count);
   ws.canon = pw;
   const StereoModel sm = build_stereo(m, canonical_positions(whole, ws.canon, ws.canon_scratch), topo_pre);
 
@@ -982,7 +996,7 @@ AtomClasses compute_classes(const Molecule &m) {
     Graph &g = *frag_graph[f];
     add_stereo(sm, g, local_of);
     UnionFind uf(g.n);
-    unite_twins(g, uf, 3);
+    unite_twins(g, uf, 3, ws.reps);
     std::vector<std::uint32_t> &within = ws.within;
     within.resize(g.n);
     for (std::uint32_t a = 0; a < g.n; ++a) within[a] = topo_uf.find(g.global[a]);
@@ -1022,10 +1036,10 @@ AtomClasses compute_classes(const Molecule &m) {
     }
   }
 
-  out.topological = dense_ids(topo_uf, n, out.topological_count);
+  out.topological = dense_ids(topo_uf, n, out.topological_count, ws.count);
   // Chemical classes refine topological ones: a stereo-respecting symmetry is
   // an automorphism too. Merge to be safe against a truncated search.
-  out.chemical = dense_ids(chem_uf, n, out.chemical_count);
+  out.chemical = dense_ids(chem_uf, n, out.chemical_count, ws.count);
   out.notes = sm.notes;
   if (exhausted)
     out.notes.push_back("symmetry search budget exhausted: some equivalent atoms may be reported as distinct");
