@@ -413,12 +413,9 @@ struct SearchLevel {
   Partition q1, q2;
 };
 // Storage of automorphism searches that never run at the same time: the
-// partitions of each depth and the stamps of the final check.
+// partitions of each depth and the buffers of direct().
 struct SearchLevels {
   std::vector<std::unique_ptr<SearchLevel>> by_depth;
-  std::vector<std::uint32_t> seen;
-  std::vector<std::uint8_t> seen_order;
-  std::uint32_t stamp = 0;
   // direct(): images already used, and the atoms in the order they were mapped.
   std::vector<char> taken;
   std::vector<std::uint32_t> queue;
@@ -612,29 +609,24 @@ class AutomorphismSearch {
 
   // Whether the complete map `sigma` is a symmetry of kind `sign` (0, +1 or -1).
   bool is_symmetry(const std::vector<std::uint32_t> &sigma, int sign) {
-    // Every bond a-b must map to a bond sigma(a)-sigma(b) of the same order:
-    // stamp sigma(a)'s neighbours with their orders, then look each image up
-    // (a search per bond cost more than the rest of this check).
-    auto &seen = levels_.seen;
-    auto &seen_order = levels_.seen_order;
-    if (seen.size() < g_.n) {
-      seen.assign(g_.n, 0);
-      seen_order.assign(g_.n, 0);
-    }
+    // Every bond a-b must map to a bond sigma(a)-sigma(b) of the same order.
+    // sigma is one-to-one and keeps colours, degree among them, so both
+    // graphs have as many bonds: checking each bond from one end suffices,
+    // and non-bonds then map to non-bonds. Neighbour lists are short, so
+    // each image is looked up by a scan.
+    const std::uint32_t *off = g_.off.data(), *nbr = g_.nbr.data(), *sg = sigma.data();
+    const std::uint8_t *order = g_.order.data();
+    const std::uint64_t *colour = g_.colour.data();
     for (std::uint32_t a = 0; a < g_.n; ++a) {
-      if (sigma[a] == kUnset || g_.colour[a] != g_.colour[sigma[a]]) return false;
-      if (++levels_.stamp == 0) {
-        std::fill(seen.begin(), seen.end(), 0);
-        levels_.stamp = 1;
-      }
-      const std::uint32_t stamp = levels_.stamp, y = sigma[a];
-      for (std::uint32_t k = g_.off[y]; k < g_.off[y + 1]; ++k) {
-        seen[g_.nbr[k]] = stamp;
-        seen_order[g_.nbr[k]] = g_.order[k];
-      }
-      for (std::uint32_t k = g_.off[a]; k < g_.off[a + 1]; ++k) {
-        const std::uint32_t b = sigma[g_.nbr[k]];
-        if (b == kUnset || seen[b] != stamp || seen_order[b] != g_.order[k]) return false;
+      const std::uint32_t y = sg[a];
+      if (y == kUnset || colour[a] != colour[y]) return false;
+      for (std::uint32_t k = off[a]; k < off[a + 1]; ++k) {
+        const std::uint32_t b = nbr[k];
+        if (b < a) continue;
+        const std::uint32_t yb = sg[b];
+        std::uint32_t f = off[y];
+        while (f < off[y + 1] && nbr[f] != yb) ++f;
+        if (f == off[y + 1] || order[f] != order[k]) return false;
       }
     }
     if (sign != 0) {
@@ -655,36 +647,40 @@ class AutomorphismSearch {
   // orbits do not depend on which symmetries are found, the classes stay
   // those the search alone would give.
   bool direct(std::uint32_t r, std::uint32_t x, std::vector<std::uint32_t> &sigma) {
-    const std::vector<std::uint32_t> &cell = start_.base().cell;
     sigma.assign(g_.n, kUnset);
-    auto &taken = levels_.taken;
-    taken.assign(g_.n, 0);
-    auto &queue = levels_.queue;
-    queue.clear();
-    sigma[r] = x;
+    levels_.taken.assign(g_.n, 0);
+    levels_.queue.resize(g_.n);
+    // Raw pointers: stores through the char array may alias any vector's
+    // internals, which would reload them at every step.
+    const std::uint32_t *cell = start_.base().cell.data(), *off = g_.off.data(), *nbr = g_.nbr.data();
+    const std::uint8_t *order = g_.order.data();
+    std::uint32_t *sg = sigma.data(), *queue = levels_.queue.data();
+    char *taken = levels_.taken.data();
+    sg[r] = x;
     taken[x] = 1;
-    queue.push_back(r);
-    for (std::size_t head = 0; head < queue.size(); ++head) {
-      const std::uint32_t a = queue[head], y = sigma[a];
-      for (std::uint32_t e = g_.off[a]; e < g_.off[a + 1]; ++e) {
-        const std::uint32_t u = g_.nbr[e];
-        if (sigma[u] != kUnset) continue;
+    queue[0] = r;
+    std::uint32_t tail = 1;
+    for (std::uint32_t head = 0; head < tail; ++head) {
+      const std::uint32_t a = queue[head], y = sg[a];
+      for (std::uint32_t e = off[a]; e < off[a + 1]; ++e) {
+        const std::uint32_t u = nbr[e];
+        if (sg[u] != kUnset) continue;
         std::uint32_t v = kUnset;
-        for (std::uint32_t f = g_.off[y]; f < g_.off[y + 1]; ++f) {
-          const std::uint32_t w = g_.nbr[f];
-          if (!taken[w] && cell[w] == cell[u] && g_.order[f] == g_.order[e]) {
+        for (std::uint32_t f = off[y]; f < off[y + 1]; ++f) {
+          const std::uint32_t w = nbr[f];
+          if (!taken[w] && cell[w] == cell[u] && order[f] == order[e]) {
             v = w;
             break;
           }
         }
         if (v == kUnset) return false;
-        sigma[u] = v;
+        sg[u] = v;
         taken[v] = 1;
-        queue.push_back(u);
+        queue[tail++] = u;
       }
     }
     // A graph of several fragments is left to the search.
-    if (queue.size() != g_.n) return false;
+    if (tail != g_.n) return false;
     if (!stereo_) return is_symmetry(sigma, 0);
     return with_sign(sigma, r, +1) || with_sign(sigma, r, -1);
   }
@@ -730,7 +726,8 @@ class AutomorphismSearch {
 };
 
 void unite_cycles(UnionFind &uf, const std::vector<std::uint32_t> &sigma) {
-  for (std::uint32_t a = 0; a < sigma.size(); ++a) uf.unite(a, sigma[a]);
+  for (std::uint32_t a = 0; a < sigma.size(); ++a)
+    if (sigma[a] != a) uf.unite(a, sigma[a]);
 }
 
 // Groups of atoms kept flat: group k is atoms[start[k]..start[k + 1]).
@@ -867,6 +864,7 @@ struct Workspace {
   SearchLevels levels;
   Groups groups;
   std::vector<std::uint32_t> all, local_of, sigma, reps, count, fill, within;
+  UnionFind topo_uf, chem_uf, frag_uf;
 };
 
 // Lends the calling thread's Workspace for one compute_classes() call; a
@@ -948,7 +946,7 @@ AtomClasses compute_classes(const Molecule &m) {
   if (frag_atoms.size() == 1) frag_atoms[0].reserve(n);
   for (std::uint32_t a = 0; a < n; ++a) frag_atoms[m.fragments()[a]].push_back(a);
 
-  UnionFind topo_uf(n), chem_uf(n);
+  UnionFind &topo_uf = ws.topo_uf.reset(n), &chem_uf = ws.chem_uf.reset(n);
   // One fragment: the whole-molecule graph and partition serve as they are.
   std::vector<Graph> own_graph;
   std::vector<Partition> own_part;
@@ -972,11 +970,14 @@ AtomClasses compute_classes(const Molecule &m) {
     }
     const Graph &g = *frag_graph.back();
     frag_start.push_back(std::make_unique<Individualised>(g, *frag_part.back(), ws.entries, ws.search_scratch));
-    UnionFind uf(g.n);
+    // A single fragment's local atoms are the molecule's: it works on the
+    // molecule's sets directly.
+    UnionFind &uf = frag_atoms.size() == 1 ? topo_uf : ws.frag_uf.reset(g.n);
     unite_twins(g, uf, 2, ws.reps);
     groups_of(g.n, frag_part.back()->cell, ws.groups, ws.count, ws.fill);
     orbits(g, *frag_start.back(), ws.groups, false, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps);
-    for (std::uint32_t a = 0; a < g.n; ++a) topo_uf.unite(g.global[a], g.global[uf.find(a)]);
+    if (&uf != &topo_uf)
+      for (std::uint32_t a = 0; a < g.n; ++a) topo_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
 
   // Copies of one fragment: same signature; confirm with a search on the pair.
@@ -995,14 +996,15 @@ AtomClasses compute_classes(const Molecule &m) {
   for (std::size_t f = 0; f < frag_atoms.size(); ++f) {
     Graph &g = *frag_graph[f];
     add_stereo(sm, g, local_of);
-    UnionFind uf(g.n);
+    UnionFind &uf = frag_atoms.size() == 1 ? chem_uf : ws.frag_uf.reset(g.n);
     unite_twins(g, uf, 3, ws.reps);
     std::vector<std::uint32_t> &within = ws.within;
     within.resize(g.n);
     for (std::uint32_t a = 0; a < g.n; ++a) within[a] = topo_uf.find(g.global[a]);
     groups_of(g.n, within, ws.groups, ws.count, ws.fill);
     orbits(g, *frag_start[f], ws.groups, true, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps);
-    for (std::uint32_t a = 0; a < g.n; ++a) chem_uf.unite(g.global[a], g.global[uf.find(a)]);
+    if (&uf != &chem_uf)
+      for (std::uint32_t a = 0; a < g.n; ++a) chem_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
 
   for (auto &kv : by_sig) {
