@@ -419,6 +419,8 @@ struct SearchLevels {
   // direct(): images already used, and the atoms in the order they were mapped.
   std::vector<char> taken;
   std::vector<std::uint32_t> queue;
+  // orbits(): the group of each atom.
+  std::vector<std::uint32_t> group_of;
 };
 
 // A complete map of atoms as AutomorphismSearch::tetra_ok() and double_ok()
@@ -446,6 +448,7 @@ class AutomorphismSearch {
       : g_(g), start_(start), stereo_(stereo), budget_(budget), scratch_(start.scratch()), levels_(levels) {}
 
   bool find(std::uint32_t r, std::uint32_t x, std::vector<std::uint32_t> &sigma) {
+    if (stereo_ && !improper_possible() && twins_only_swapped_improperly(r, x)) return false;
     if (direct(r, x, sigma)) return true;
     // Refinement is deterministic and leaves its scratch clean, so a
     // partition individualised earlier is the one this call would make.
@@ -454,11 +457,58 @@ class AutomorphismSearch {
     if (e1.trace != e2.trace) return false;
     local_budget_ = kNodesPerSearch;
     sigma.assign(g_.n, kUnset);
-    return search(e1.p, e2.p, sigma, 0, stereo_ ? kBothSigns : 0u);
+    return search(e1.p, e2.p, sigma, 0, stereo_ ? signs() : 0u);
   }
   bool exhausted() const { return exhausted_; }
 
  private:
+  // The kinds of symmetry worth looking for.
+  unsigned signs() { return improper_possible() ? kBothSigns : kProper; }
+
+  // Whether `l`, a neighbour of c, is the only one in its cell of the base
+  // partition, so that every symmetry fixing c fixes l too.
+  bool alone_in_cell(std::uint32_t c, std::uint32_t l) const {
+    const std::vector<std::uint32_t> &cell = start_.base().cell;
+    for (std::uint32_t k = g_.off[c]; k < g_.off[c + 1]; ++k)
+      if (g_.nbr[k] != l && cell[g_.nbr[k]] == cell[l]) return false;
+    return true;
+  }
+
+  // False when a tetrahedral centre alone in its cell has its ligands alone
+  // in theirs: every symmetry fixes it and its ligands, so none inverts it
+  // (computed once).
+  bool improper_possible() {
+    if (improper_ == Tri::Unknown) {
+      improper_ = Tri::Yes;
+      for (const auto &t : g_.tetra) {
+        if (start_.base().size_of(t.centre) != 1) continue;
+        bool fixed = true;
+        for (auto l : t.lig) fixed = fixed && (l < 0 || alone_in_cell(t.centre, static_cast<std::uint32_t>(l)));
+        if (fixed) {
+          improper_ = Tri::No;
+          break;
+        }
+      }
+    }
+    return improper_ == Tri::Yes;
+  }
+
+  // Whether r and x are equal leaves on one tetrahedral centre whose other
+  // ligands are alone in their cells. Exchanging r and x alone is then a
+  // graph symmetry that inverts that centre; any symmetry taking r to x is
+  // it after one fixing r, which fixes every ligand of the centre: so it
+  // inverts the centre and cannot be proper.
+  bool twins_only_swapped_improperly(std::uint32_t r, std::uint32_t x) const {
+    if (!g_.leaf[r] || !equal_leaves(static_cast<std::int32_t>(r), static_cast<std::int32_t>(x))) return false;
+    const std::uint32_t p = g_.nbr[g_.off[r]];
+    if (g_.nbr[g_.off[x]] != p || g_.tetra_of[p] < 0) return false;
+    for (std::uint32_t k = g_.off[p]; k < g_.off[p + 1]; ++k) {
+      const std::uint32_t l = g_.nbr[k];
+      if (l != r && l != x && !alone_in_cell(p, l)) return false;
+    }
+    return true;
+  }
+
   bool same_structure(const Partition &p1, const Partition &p2) const {
     for (std::uint32_t s = 0; s < g_.n; s = p1.end[s])
       if (p2.end[s] != p1.end[s] || p2.cell[p2.elems[s]] != s) return false;
@@ -682,7 +732,7 @@ class AutomorphismSearch {
     // A graph of several fragments is left to the search.
     if (tail != g_.n) return false;
     if (!stereo_) return is_symmetry(sigma, 0);
-    return with_sign(sigma, r, +1) || with_sign(sigma, r, -1);
+    return with_sign(sigma, r, +1) || (improper_possible() && with_sign(sigma, r, -1));
   }
 
   // Makes the graph symmetry `sigma` one of kind `sign` where that only takes
@@ -720,6 +770,7 @@ class AutomorphismSearch {
   long &budget_;
   long local_budget_ = 0;
   bool exhausted_ = false;
+  enum class Tri { Unknown, Yes, No } improper_ = Tri::Unknown;
   RefineScratch &scratch_;
   std::vector<std::uint32_t> images_;           // finish(): one cell's images
   SearchLevels &levels_;                        // by search depth
@@ -742,6 +793,20 @@ struct Groups {
 void orbits(const Graph &g, Individualised &start, const Groups &cells, bool stereo, UnionFind &uf, long &budget,
             bool &exhausted, SearchLevels &levels, std::vector<std::uint32_t> &sigma, std::vector<std::uint32_t> &reps) {
   AutomorphismSearch search(g, start, stereo, budget, levels);
+  // Group of each atom, kUnset for atoms alone (whose orbit is known).
+  std::vector<std::uint32_t> &group_of = levels.group_of;
+  group_of.assign(g.n, kUnset);
+  for (std::uint32_t c = 0; c < cells.size(); ++c)
+    for (std::uint32_t k = cells.start[c]; k < cells.start[c + 1]; ++k) group_of[cells.atoms[k]] = c;
+  // Whether the orbits of the parents of leaves r and x are known and
+  // differ: every symmetry takes the parent of r to that of x. A group's
+  // orbits are known once it is done, unless a search ran out of budget.
+  auto parents_apart = [&](std::uint32_t r, std::uint32_t x, std::size_t current) {
+    if (exhausted || !g.leaf[r] || !g.leaf[x]) return false;
+    const std::uint32_t pr = g.nbr[g.off[r]], px = g.nbr[g.off[x]];
+    const bool known = group_of[pr] == kUnset || group_of[pr] < current;
+    return known && uf.find(pr) != uf.find(px);
+  };
   for (std::size_t c = 0; c < cells.size(); ++c) {
     const std::uint32_t *cell = cells.atoms.data() + cells.start[c];
     const std::size_t cell_size = cells.start[c + 1] - cells.start[c];
@@ -755,6 +820,7 @@ void orbits(const Graph &g, Individualised &start, const Groups &cells, bool ste
           merged = true;
           break;
         }
+        if (parents_apart(r, x, c)) continue;
         if (search.find(r, x, sigma)) {
           unite_cycles(uf, sigma);
           merged = true;
