@@ -273,46 +273,49 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
 // local_of for those atoms.
 void build_structure(const Molecule &m, const std::vector<std::uint32_t> &atoms, std::vector<std::uint32_t> &local_of,
                      Graph &g) {
-  g.n = static_cast<std::uint32_t>(atoms.size());
+  const auto n = static_cast<std::uint32_t>(atoms.size());
+  g.n = n;
   g.global.assign(atoms.begin(), atoms.end());
-  for (std::uint32_t i = 0; i < g.n; ++i) local_of[atoms[i]] = i;
-  g.off.assign(g.n + 1, 0);
-  g.colour.resize(g.n);
-  g.leaf.assign(g.n, 0);
-  std::size_t edges = 0;
-  for (auto a : atoms) edges += m.degree(a);
-  g.nbr.clear();
-  g.order.clear();
-  g.nbr.reserve(edges);
-  g.order.reserve(edges);
+  for (std::uint32_t i = 0; i < n; ++i) local_of[atoms[i]] = i;
+  g.off.resize(n + 1);
+  g.colour.resize(n);
+  g.leaf.resize(n);
   g.tetra.clear();
   g.dbl.clear();
+  g.off[0] = 0;
+  for (std::uint32_t i = 0; i < n; ++i) g.off[i + 1] = g.off[i] + static_cast<std::uint32_t>(m.degree(atoms[i]));
+  g.nbr.resize(g.off[n]);
+  g.order.resize(g.off[n]);
+  // Raw pointers: the char stores below may alias any vector's internals.
+  const std::uint32_t *off = g.off.data(), *local = local_of.data();
+  std::uint32_t *nbr = g.nbr.data();
+  std::uint8_t *order = g.order.data();
+  char *leaf = g.leaf.data();
+  std::uint64_t *colour = g.colour.data();
+  const Atom *mol_atoms = m.atoms().data();
+  const Bond *bonds = m.bonds().data();
   std::vector<std::pair<std::uint32_t, std::uint8_t>> tmp;
-  const auto &mol_atoms = m.atoms();
-  const auto &bonds = m.bonds();
-  for (std::uint32_t i = 0; i < g.n; ++i) {
+  for (std::uint32_t i = 0; i < n; ++i) {
     const auto a = atoms[i];
-    const std::uint32_t *nb = m.neighbours_begin(a);
-    const auto deg = static_cast<std::uint32_t>(m.neighbours_end(a) - nb);
-    g.colour[i] = atom_colour(mol_atoms[a], deg);
-    g.leaf[i] = deg == 1;
-    g.off[i + 1] = g.off[i] + deg;
-    const auto *bid = m.bond_ids_begin(a);
-    const std::size_t first = g.nbr.size();
+    const std::uint32_t *nb = m.neighbours_begin(a), *bid = m.bond_ids_begin(a);
+    const std::uint32_t deg = off[i + 1] - off[i];
+    colour[i] = atom_colour(mol_atoms[a], deg);
+    leaf[i] = deg == 1;
+    std::uint32_t *out = nbr + off[i];
+    std::uint8_t *out_order = order + off[i];
     bool sorted = true;
     for (std::uint32_t k = 0; k < deg; ++k) {
-      const std::uint32_t b = local_of[nb[k]];
-      sorted = sorted && (k == 0 || g.nbr.back() < b);
-      g.nbr.push_back(b);
-      g.order.push_back(order_code(bonds[bid[k]].order));
+      out[k] = local[nb[k]];
+      out_order[k] = order_code(bonds[bid[k]].order);
+      sorted = sorted && (k == 0 || out[k - 1] < out[k]);
     }
     // The molecule's neighbour lists are sorted, and so are they here while
     // `atoms` is increasing within each fragment, as every caller has it.
     if (sorted) continue;
     tmp.clear();
-    for (std::size_t q = first; q < g.nbr.size(); ++q) tmp.emplace_back(g.nbr[q], g.order[q]);
+    for (std::uint32_t k = 0; k < deg; ++k) tmp.emplace_back(out[k], out_order[k]);
     std::sort(tmp.begin(), tmp.end());
-    for (std::size_t q = first; q < g.nbr.size(); ++q) std::tie(g.nbr[q], g.order[q]) = tmp[q - first];
+    for (std::uint32_t k = 0; k < deg; ++k) std::tie(out[k], out_order[k]) = tmp[k];
   }
   g.tetra_of.assign(g.n, -1);
   g.dbl_of.resize(g.n);
@@ -674,6 +677,7 @@ class AutomorphismSearch {
         const std::uint32_t b = nbr[k];
         if (b < a) continue;
         const std::uint32_t yb = sg[b];
+        if (y == a && yb == b) continue;  // a bond kept in place
         std::uint32_t f = off[y];
         while (f < off[y + 1] && nbr[f] != yb) ++f;
         if (f == off[y + 1] || order[f] != order[k]) return false;
