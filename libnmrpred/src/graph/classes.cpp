@@ -17,11 +17,11 @@
 #include <nmrpred/error.hpp>
 
 #include <algorithm>
+#include <functional>
 #include <map>
 #include <memory>
 #include <numeric>
 #include <tuple>
-#include <unordered_map>
 
 #include <fmt/format.h>
 
@@ -70,21 +70,48 @@ bool lone_pair_centre(const Atom &a, std::size_t degree) {
 }
 
 // Size of the smallest ring through bond u-v (0 if none within `limit`).
-int smallest_ring(const Molecule &m, std::uint32_t u, std::uint32_t v, int limit) {
-  std::vector<std::uint32_t> frontier{u}, next;
-  std::unordered_map<std::uint32_t, int> dist{{u, 0}};
-  for (int d = 1; d < limit && !frontier.empty(); ++d) {
-    next.clear();
-    for (auto a : frontier)
+// `seen` (one flag per atom, all clear) and `visited` are scratch; `seen`
+// is left clear.
+int smallest_ring(const Molecule &m, std::uint32_t u, std::uint32_t v, int limit, std::vector<char> &seen,
+                  std::vector<std::uint32_t> &visited) {
+  // The atoms of one breadth are visited[begin, end).
+  visited.assign(1, u);
+  seen[u] = 1;
+  int found = 0;
+  std::size_t begin = 0;
+  for (int d = 1; d < limit && begin < visited.size() && !found; ++d) {
+    const std::size_t end = visited.size();
+    for (std::size_t i = begin; i < end && !found; ++i) {
+      const std::uint32_t a = visited[i];
       for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it) {
         const auto b = *it;
         if (a == u && b == v) continue;
-        if (b == v) return d + 1;
-        if (dist.emplace(b, d).second) next.push_back(b);
+        if (b == v) {
+          found = d + 1;
+          break;
+        }
+        if (!seen[b]) {
+          seen[b] = 1;
+          visited.push_back(b);
+        }
       }
-    frontier.swap(next);
+    }
+    begin = end;
   }
-  return 0;
+  for (auto a : visited) seen[a] = 0;
+  return found;
+}
+
+// Insertion sort for the few ligands of one atom, where std::sort's set-up
+// costs more than the sorting.
+template <class T, class Less>
+void sort_few(T *first, T *last, Less less) {
+  for (T *i = first + 1; i < last; ++i) {
+    const T x = *i;
+    T *j = i;
+    for (; j > first && less(x, *(j - 1)); --j) *j = *(j - 1);
+    *j = x;
+  }
 }
 
 // Parity of the permutation taking `from` to `to` (both hold the same values).
@@ -137,7 +164,7 @@ const std::vector<std::uint32_t> &canonical_positions(const Graph &g, Partition 
       }
       continue;
     }
-    detail::individualize(g, p, p.elems[first], s);
+    detail::individualize(g, p, p.elems[first], s, false);
   }
   return p.pos;
 }
@@ -173,8 +200,14 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
     return true;
   };
   sm.tetra.reserve(n);
-  std::vector<std::int32_t> given(n, -1);
-  for (std::size_t i = 0; i < m.tetrahedral_stereo().size(); ++i) given[m.tetrahedral_stereo()[i].centre] = static_cast<std::int32_t>(i);
+  // Most inputs give no configuration: then no table of them is needed.
+  std::vector<std::int32_t> given;
+  if (!m.tetrahedral_stereo().empty()) {
+    given.assign(n, -1);
+    for (std::size_t i = 0; i < m.tetrahedral_stereo().size(); ++i)
+      given[m.tetrahedral_stereo()[i].centre] = static_cast<std::int32_t>(i);
+  }
+  const Atom *atoms = m.atoms().data();
   auto by_rank = [&](std::int32_t a, std::int32_t b) {
     // Lone pair last; then the canonical order (a refinement of the invariant
     // rank), so ties between equivalent ligands are broken the same way,
@@ -183,25 +216,25 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
     return canon[a] < canon[b];
   };
   for (std::uint32_t c = 0; c < n; ++c) {
-    const auto deg = m.degree(c);
-    const bool lp = lone_pair_centre(m.atom(c), deg);
-    if (deg != 4 && !lp) continue;
-    if (m.is_hydrogen(c)) continue;
+    const std::uint32_t *nb = m.neighbours_begin(c), *nb_end = m.neighbours_end(c);
+    const auto deg = static_cast<std::size_t>(nb_end - nb);
+    if (deg != 4 && !lone_pair_centre(atoms[c], deg)) continue;
+    if (atoms[c].atomic_number == 1) continue;
     TetraConfig t;
     t.centre = c;
-    if (given[c] >= 0) {
+    if (!given.empty() && given[c] >= 0) {
       t.lig = m.tetrahedral_stereo()[given[c]].ligands;
       ++stereo_elements;
     } else {
       std::array<std::int32_t, 4> l{{-1, -1, -1, -1}};
       int k = 0;
-      for (auto it = m.neighbours_begin(c); it != m.neighbours_end(c); ++it) l[k++] = static_cast<std::int32_t>(*it);
-      std::sort(l.begin(), l.end(), by_rank);
+      for (auto it = nb; it != nb_end; ++it) l[k++] = static_cast<std::int32_t>(*it);
+      sort_few(l.begin(), l.end(), by_rank);
       t.lig = l;
       // Report only real stereocentres: four ligands of distinct topological class.
       std::array<std::int64_t, 4> cls;
       for (int q = 0; q < 4; ++q) cls[q] = l[q] < 0 ? -1 : static_cast<std::int64_t>(topo[l[q]]);
-      std::sort(cls.begin(), cls.end());
+      sort_few(cls.begin(), cls.end(), std::less<std::int64_t>());
       if (std::adjacent_find(cls.begin(), cls.end()) == cls.end()) {
         sm.notes.push_back(fmt::format(
             "atom {}: stereocentre without a given configuration; classes are those of one canonical configuration", c));
@@ -220,17 +253,29 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
           c));
   std::map<std::pair<std::uint32_t, std::uint32_t>, const DoubleBondStereo *> given_db;
   for (const auto &d : m.double_bond_stereo()) given_db[{std::min(d.begin, d.end), std::max(d.begin, d.end)}] = &d;
+  // The one or two substituents of a double-bond atom other than its partner.
+  struct Others {
+    std::int32_t at[2] = {-1, -1};
+    std::size_t count = 0;
+    const std::int32_t *begin() const { return at; }
+    const std::int32_t *end() const { return at + count; }
+    std::int32_t *begin() { return at; }
+    std::int32_t *end() { return at + count; }
+  };
+  std::vector<char> ring_seen;
+  std::vector<std::uint32_t> ring_visited;
   for (const auto &b : m.bonds()) {
     if (b.order != BondOrder::Double) continue;
     const auto u = b.begin, v = b.end;
+    const std::size_t du = m.degree(u), dv = m.degree(v);
+    if (du < 2 || dv < 2 || du > 3 || dv > 3) continue;
     auto others = [&](std::uint32_t a, std::uint32_t partner) {
-      std::vector<std::int32_t> r;
+      Others r;
       for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it)
-        if (*it != partner) r.push_back(static_cast<std::int32_t>(*it));
+        if (*it != partner) r.at[r.count++] = static_cast<std::int32_t>(*it);
       return r;
     };
     auto ou = others(u, v), ov = others(v, u);
-    if (ou.empty() || ov.empty() || ou.size() > 2 || ov.size() > 2) continue;
     // Cumulated double bonds (allenes) are not modelled.
     bool cumulated = false;
     for (auto x : ou) cumulated |= m.bond(m.bond_between(u, x)).order == BondOrder::Double;
@@ -238,7 +283,8 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
     if (cumulated) continue;
     // In rings of fewer than 8 atoms the ring fixes the geometry and every
     // automorphism keeps it, so no constraint is needed.
-    const int ring = smallest_ring(m, u, v, 8);
+    if (ring_seen.empty()) ring_seen.assign(n, 0);
+    const int ring = smallest_ring(m, u, v, 8, ring_seen, ring_visited);
     if (ring > 0 && ring < 8) continue;
     DoubleConfig d;
     d.u = u;
@@ -251,14 +297,12 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
       d.rv = static_cast<std::int32_t>(forward ? s->ref_end : s->ref_begin);
       d.cis = s->cis;
     } else {
-      std::sort(ou.begin(), ou.end(), by_rank);
-      std::sort(ov.begin(), ov.end(), by_rank);
-      d.ru = ou.back();
-      d.rv = ov.back();
+      sort_few(ou.begin(), ou.end(), by_rank);
+      sort_few(ov.begin(), ov.end(), by_rank);
+      d.ru = ou.at[ou.count - 1];
+      d.rv = ov.at[ov.count - 1];
       d.cis = false;  // canonical choice: highest-ranked substituents trans
-      auto distinct = [&](const std::vector<std::int32_t> &o) {
-        return o.size() == 1 || topo[o[0]] != topo[o[1]];
-      };
+      auto distinct = [&](const Others &o) { return o.count == 1 || topo[o.at[0]] != topo[o.at[1]]; };
       if (distinct(ou) && distinct(ov))
         sm.notes.push_back(fmt::format(
             "bond {}={}: double-bond geometry not given; classes are those of one canonical geometry", u, v));
