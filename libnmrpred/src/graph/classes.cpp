@@ -705,7 +705,11 @@ class AutomorphismSearch {
   }
 
   // Whether the complete map `sigma` is a symmetry of kind `sign` (0, +1 or -1).
-  bool is_symmetry(const std::vector<std::uint32_t> &sigma, int sign) {
+  bool is_symmetry(const std::vector<std::uint32_t> &sigma, int sign) const {
+    return is_graph_symmetry(sigma) && keeps_configurations(sigma, sign);
+  }
+
+  bool is_graph_symmetry(const std::vector<std::uint32_t> &sigma) const {
     // Every bond a-b must map to a bond sigma(a)-sigma(b) of the same order.
     // sigma is one-to-one and keeps colours, degree among them, so both
     // graphs have as many bonds: checking each bond from one end suffices,
@@ -727,13 +731,17 @@ class AutomorphismSearch {
         if (f == off[y + 1] || order[f] != order[k]) return false;
       }
     }
-    if (sign != 0) {
-      const CompleteMap map{sigma};
-      for (const auto &t : g_.tetra)
-        if (!tetra_ok(t, map, sign)) return false;
-      for (const auto &d : g_.dbl)
-        if (!double_ok(d, map)) return false;
-    }
+    return true;
+  }
+
+  // Whether the graph symmetry `sigma` is one of kind `sign`.
+  bool keeps_configurations(const std::vector<std::uint32_t> &sigma, int sign) const {
+    if (sign == 0) return true;
+    const CompleteMap map{sigma};
+    for (const auto &t : g_.tetra)
+      if (!tetra_ok(t, map, sign)) return false;
+    for (const auto &d : g_.dbl)
+      if (!double_ok(d, map)) return false;
     return true;
   }
 
@@ -745,6 +753,14 @@ class AutomorphismSearch {
   // orbits do not depend on which symmetries are found, the classes stay
   // those the search alone would give.
   bool direct(std::uint32_t r, std::uint32_t x, std::vector<std::uint32_t> &sigma) {
+    if (g_.leaf[r] && g_.nbr[g_.off[r]] == g_.nbr[g_.off[x]] &&
+        equal_leaves(static_cast<std::int32_t>(r), static_cast<std::int32_t>(x))) {
+      // Equal leaves on one parent: exchanging them alone is a graph symmetry.
+      sigma.resize(g_.n);
+      std::iota(sigma.begin(), sigma.end(), 0u);
+      std::swap(sigma[r], sigma[x]);
+      return fits_a_sign(sigma, r);
+    }
     sigma.assign(g_.n, kUnset);
     levels_.taken.assign(g_.n, 0);
     levels_.queue.resize(g_.n);
@@ -779,13 +795,20 @@ class AutomorphismSearch {
     }
     // A graph of several fragments is left to the search.
     if (tail != g_.n) return false;
-    if (!stereo_) return is_symmetry(sigma, 0);
+    return is_graph_symmetry(sigma) && fits_a_sign(sigma, r);
+  }
+
+  // Whether the graph symmetry `sigma`, taking r to its image, is or can be
+  // made (see with_sign) a symmetry of a kind this search looks for.
+  bool fits_a_sign(std::vector<std::uint32_t> &sigma, std::uint32_t r) {
+    if (!stereo_) return true;
     return with_sign(sigma, r, +1) || (improper_possible() && with_sign(sigma, r, -1));
   }
 
   // Makes the graph symmetry `sigma` one of kind `sign` where that only takes
   // exchanging the images of two equal leaves on a tetrahedral centre (which
-  // inverts that centre alone), then verifies it. The image of `fixed` stays
+  // inverts that centre alone and keeps it a graph symmetry), then checks
+  // the configurations. The image of `fixed` stays
   // as it is; so, if this fails, `sigma` is still a graph symmetry with the
   // same image of `fixed`, fit for a try with the other sign.
   bool with_sign(std::vector<std::uint32_t> &sigma, std::uint32_t fixed, int sign) {
@@ -802,7 +825,7 @@ class AutomorphismSearch {
           }
       if (!swapped) return false;
     }
-    return is_symmetry(sigma, sign);
+    return keeps_configurations(sigma, sign);
   }
 
   // Two leaves on one centre that any symmetry may exchange.
