@@ -169,6 +169,28 @@ const std::vector<std::uint32_t> &canonical_positions(const Graph &g, Partition 
   return p.pos;
 }
 
+// Whether the canonical order could give other classes than the order of
+// the base partition `p`. The canonical order refines p's, so it differs
+// only between atoms of one cell, and the stereo model compares only the
+// neighbours of one atom. Such a tie cannot matter at an atom alone in its
+// cell (every symmetry fixes it, and the parity of a permutation of its
+// neighbours does not depend on the order that stores its configuration),
+// nor between three or more equal leaves (united whatever the configuration).
+bool canonical_ties_matter(const Graph &g, const Partition &p) {
+  for (std::uint32_t c = 0; c < g.n; ++c) {
+    if (p.size_of(c) == 1) continue;
+    for (std::uint32_t k1 = g.off[c]; k1 < g.off[c + 1]; ++k1) {
+      const std::uint32_t l = g.nbr[k1];
+      std::uint32_t tied = 1;
+      for (std::uint32_t k2 = g.off[c]; k2 < g.off[c + 1]; ++k2)
+        tied += k2 != k1 && p.cell[g.nbr[k2]] == p.cell[l];
+      // Degree is part of the colour, so a cell holding a leaf holds leaves only.
+      if (tied == 2 || (tied > 2 && !g.leaf[l])) return true;
+    }
+  }
+  return false;
+}
+
 // Whole-molecule stereo model in molecule indices.
 struct StereoModel {
   std::vector<TetraConfig> tetra;
@@ -1125,8 +1147,12 @@ AtomClasses compute_classes(const Molecule &m) {
 
   std::uint32_t tcount = 0;
   const auto topo_pre = dense_ids(topo_uf, n, tcount, ws.count);
-  ws.canon = pw;
-  const StereoModel sm = build_stereo(m, canonical_positions(whole, ws.canon, ws.canon_scratch), topo_pre);
+  const std::vector<std::uint32_t> *rank = &pw.pos;
+  if (canonical_ties_matter(whole, pw)) {
+    ws.canon = pw;
+    rank = &canonical_positions(whole, ws.canon, ws.canon_scratch);
+  }
+  const StereoModel sm = build_stereo(m, *rank, topo_pre);
 
   // The topological searches are done: each fragment graph takes its
   // configurations and serves as the stereo graph.
