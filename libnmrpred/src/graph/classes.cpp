@@ -529,6 +529,9 @@ class AutomorphismSearch {
     return search(e1.p, e2.p, sigma, 0, stereo_ ? signs() : 0u);
   }
   bool exhausted() const { return exhausted_; }
+  // Whether the graph symmetry `sigma` is, or can be made (which may change
+  // it), a symmetry of a kind this search looks for.
+  bool fits(std::vector<std::uint32_t> &sigma) { return fits_a_sign(sigma, kUnset); }
 
  private:
   // The kinds of symmetry worth looking for.
@@ -883,9 +886,36 @@ struct Groups {
 // Orbits of one graph. `cells` are candidate groups (each orbit lies inside
 // one); signs are the kinds of automorphism allowed. `sigma` and `reps` are
 // scratch.
+// Graph symmetries that the topological searches found, each with its
+// fragment: most are symmetries with stereo too, or become so by exchanging
+// equal leaves, which spares the stereo searches their walks.
+struct FoundSymmetries {
+  std::vector<std::vector<std::uint32_t>> sigma;  // the first `used` are valid
+  std::vector<std::size_t> fragment;
+  std::size_t used = 0;
+  void clear() {
+    used = 0;
+    fragment.clear();
+  }
+  void add(std::size_t f, const std::vector<std::uint32_t> &s) {
+    if (used == sigma.size()) sigma.emplace_back();
+    sigma[used++] = s;
+    fragment.push_back(f);
+  }
+};
+
+// Orbits of one graph (fragment `fragment`). `found` receives the graph
+// symmetries found without stereo and seeds the search with stereo.
 void orbits(const Graph &g, Individualised &start, const Groups &cells, bool stereo, UnionFind &uf, long &budget,
-            bool &exhausted, SearchLevels &levels, std::vector<std::uint32_t> &sigma, std::vector<std::uint32_t> &reps) {
+            bool &exhausted, SearchLevels &levels, std::vector<std::uint32_t> &sigma, std::vector<std::uint32_t> &reps,
+            FoundSymmetries &found, std::size_t fragment) {
   AutomorphismSearch search(g, start, stereo, budget, levels);
+  if (stereo)
+    for (std::size_t i = 0; i < found.used; ++i)
+      if (found.fragment[i] == fragment) {
+        sigma = found.sigma[i];
+        if (search.fits(sigma)) unite_cycles(uf, sigma);
+      }
   // Group of each atom, kUnset for atoms alone (whose orbit is known).
   std::vector<std::uint32_t> &group_of = levels.group_of;
   group_of.assign(g.n, kUnset);
@@ -916,6 +946,7 @@ void orbits(const Graph &g, Individualised &start, const Groups &cells, bool ste
         if (parents_apart(r, x, c)) continue;
         if (search.find(r, x, sigma)) {
           unite_cycles(uf, sigma);
+          if (!stereo) found.add(fragment, sigma);
           merged = true;
           break;
         }
@@ -1024,6 +1055,7 @@ struct Workspace {
   Groups groups;
   std::vector<std::uint32_t> all, local_of, sigma, reps, count, fill, within;
   UnionFind topo_uf, chem_uf, frag_uf;
+  FoundSymmetries found;
 };
 
 // Lends the calling thread's Workspace for one compute_classes() call; a
@@ -1041,6 +1073,7 @@ class WorkspaceLease {
       ws_ = own_.get();
     }
     ws_->entries.used = 0;
+    ws_->found.clear();
   }
   WorkspaceLease(const WorkspaceLease &) = delete;
   WorkspaceLease &operator=(const WorkspaceLease &) = delete;
@@ -1050,7 +1083,9 @@ class WorkspaceLease {
     // one took (the pooled partitions grow with atoms x searches).
     constexpr std::size_t kKeepAtoms = 4096, kKeepPooledSlots = std::size_t{1} << 18;
     const std::size_t atoms = ws_->whole.n;
-    if (atoms > kKeepAtoms || atoms * (ws_->entries.entries.size() + 2 * ws_->levels.by_depth.size()) > kKeepPooledSlots)
+    const std::size_t pooled =
+        ws_->entries.entries.size() + 2 * ws_->levels.by_depth.size() + ws_->found.sigma.size();
+    if (atoms > kKeepAtoms || atoms * pooled > kKeepPooledSlots)
       borrowed_->ws = Workspace();
     borrowed_->busy = false;
   }
@@ -1134,7 +1169,8 @@ AtomClasses compute_classes(const Molecule &m) {
     UnionFind &uf = frag_atoms.size() == 1 ? topo_uf : ws.frag_uf.reset(g.n);
     unite_twins(g, uf, 2, ws.reps);
     groups_of(g.n, frag_part.back()->cell, ws.groups, ws.count, ws.fill);
-    orbits(g, *frag_start.back(), ws.groups, false, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps);
+    orbits(g, *frag_start.back(), ws.groups, false, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found,
+           frag_start.size() - 1);
     if (&uf != &topo_uf)
       for (std::uint32_t a = 0; a < g.n; ++a) topo_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
@@ -1165,7 +1201,7 @@ AtomClasses compute_classes(const Molecule &m) {
     within.resize(g.n);
     for (std::uint32_t a = 0; a < g.n; ++a) within[a] = topo_uf.find(g.global[a]);
     groups_of(g.n, within, ws.groups, ws.count, ws.fill);
-    orbits(g, *frag_start[f], ws.groups, true, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps);
+    orbits(g, *frag_start[f], ws.groups, true, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found, f);
     if (&uf != &chem_uf)
       for (std::uint32_t a = 0; a < g.n; ++a) chem_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
