@@ -960,29 +960,21 @@ void orbits(const Graph &g, Individualised &start, const Groups &cells, bool ste
 // Twin leaves: equal leaves on one parent. Sets of three or more are always
 // equivalent (a rotation about the parent bond exchanges them without touching
 // any configuration); pairs are topologically equivalent.
-// `leaves` is scratch.
-void unite_twins(const Graph &g, UnionFind &uf, std::size_t min_size, std::vector<std::uint32_t> &leaves) {
-  for (std::uint32_t p = 0; p < g.n; ++p) {
-    if (g.degree(p) < min_size) continue;
-    leaves.clear();
-    for (std::uint32_t k = g.off[p]; k < g.off[p + 1]; ++k)
-      if (g.leaf[g.nbr[k]]) leaves.push_back(k);
-    if (leaves.size() < min_size) continue;
-    // A parent has a few leaves at most: comparing every pair is cheaper
-    // than sorting them by kind.
-    auto same_kind = [&](std::uint32_t k1, std::uint32_t k2) {
-      return g.order[k1] == g.order[k2] && g.colour[g.nbr[k1]] == g.colour[g.nbr[k2]];
-    };
-    for (std::size_t i = 0; i < leaves.size(); ++i) {
-      if (leaves[i] == kUnset) continue;
-      std::size_t size = 1;
-      for (std::size_t j = i + 1; j < leaves.size(); ++j) size += leaves[j] != kUnset && same_kind(leaves[i], leaves[j]);
-      if (size < min_size) continue;
-      for (std::size_t j = i + 1; j < leaves.size(); ++j)
-        if (leaves[j] != kUnset && same_kind(leaves[i], leaves[j])) {
-          uf.unite(g.nbr[leaves[i]], g.nbr[leaves[j]]);
-          leaves[j] = kUnset;
-        }
+// Equal leaves on one parent are those of one cell of the base partition `p`
+// (same colour, and refinement tells the bond orders apart), and as p is
+// equitable every parent has the same number of them: the cell's size over
+// that of the parents' cell.
+void unite_twins(const Graph &g, const Partition &p, UnionFind &uf, std::size_t min_size) {
+  for (std::uint32_t s = 0; s < g.n; s = p.end[s]) {
+    const std::uint32_t size = p.end[s] - s, first = p.elems[s];
+    if (size < min_size || !g.leaf[first]) continue;
+    if (size / p.size_of(g.nbr[g.off[first]]) < min_size) continue;
+    for (std::uint32_t k = s; k < p.end[s]; ++k) {
+      const std::uint32_t leaf = p.elems[k], parent = g.nbr[g.off[leaf]];
+      // The parent's first neighbour in this cell stands for the set.
+      std::uint32_t e = g.off[parent];
+      while (p.cell[g.nbr[e]] != s) ++e;
+      uf.unite(leaf, g.nbr[e]);
     }
   }
 }
@@ -1167,7 +1159,7 @@ AtomClasses compute_classes(const Molecule &m) {
     // A single fragment's local atoms are the molecule's: it works on the
     // molecule's sets directly.
     UnionFind &uf = frag_atoms.size() == 1 ? topo_uf : ws.frag_uf.reset(g.n);
-    unite_twins(g, uf, 2, ws.reps);
+    unite_twins(g, *frag_part.back(), uf, 2);
     groups_of(g.n, frag_part.back()->cell, ws.groups, ws.count, ws.fill);
     orbits(g, *frag_start.back(), ws.groups, false, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found,
            frag_start.size() - 1);
@@ -1182,7 +1174,7 @@ AtomClasses compute_classes(const Molecule &m) {
       by_sig[fragment_signature(*frag_graph[f], *frag_part[f])].push_back(f);
 
   std::uint32_t tcount = 0;
-  const auto topo_pre = dense_ids(topo_uf, n, tcount, ws.count);
+  auto topo_pre = dense_ids(topo_uf, n, tcount, ws.count);
   const std::vector<std::uint32_t> *rank = &pw.pos;
   if (canonical_ties_matter(whole, pw)) {
     ws.canon = pw;
@@ -1196,10 +1188,12 @@ AtomClasses compute_classes(const Molecule &m) {
     Graph &g = *frag_graph[f];
     add_stereo(sm, g, local_of);
     UnionFind &uf = frag_atoms.size() == 1 ? chem_uf : ws.frag_uf.reset(g.n);
-    unite_twins(g, uf, 3, ws.reps);
+    unite_twins(g, *frag_part[f], uf, 3);
+    // Dense ids are numbered in the order of the classes' lowest atoms, as
+    // the sets' representatives are: the groups come in the same order.
     std::vector<std::uint32_t> &within = ws.within;
     within.resize(g.n);
-    for (std::uint32_t a = 0; a < g.n; ++a) within[a] = topo_uf.find(g.global[a]);
+    for (std::uint32_t a = 0; a < g.n; ++a) within[a] = topo_pre[g.global[a]];
     groups_of(g.n, within, ws.groups, ws.count, ws.fill);
     orbits(g, *frag_start[f], ws.groups, true, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found, f);
     if (&uf != &chem_uf)
@@ -1237,7 +1231,13 @@ AtomClasses compute_classes(const Molecule &m) {
     }
   }
 
-  out.topological = dense_ids(topo_uf, n, out.topological_count, ws.count);
+  // Only copies of a fragment can have merged topological classes since.
+  if (by_sig.empty()) {
+    out.topological = std::move(topo_pre);
+    out.topological_count = tcount;
+  } else {
+    out.topological = dense_ids(topo_uf, n, out.topological_count, ws.count);
+  }
   // Chemical classes refine topological ones: a stereo-respecting symmetry is
   // an automorphism too. Merge to be safe against a truncated search.
   out.chemical = dense_ids(chem_uf, n, out.chemical_count, ws.count);
