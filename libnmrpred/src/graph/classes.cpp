@@ -1007,6 +1007,25 @@ void groups_of(std::uint32_t n, const std::vector<std::uint32_t> &within, Groups
 }
 
 // `root_id` is scratch.
+// The cells of `p` with more than one atom, in the order of p, each in atom
+// order: what groups_of() makes of the cell of every atom, without buckets.
+void groups_of_cells(const Partition &p, Groups &out) {
+  out.atoms.clear();
+  out.start.assign(1, 0);
+  const auto n = static_cast<std::uint32_t>(p.elems.size());
+  for (std::uint32_t s = 0; s < n; s = p.end[s]) {
+    if (p.end[s] - s < 2) continue;
+    const std::size_t first = out.atoms.size();
+    out.atoms.insert(out.atoms.end(), p.elems.begin() + s, p.elems.begin() + p.end[s]);
+    std::uint32_t *b = out.atoms.data() + first, *e = out.atoms.data() + out.atoms.size();
+    if (e - b <= 16)
+      sort_few(b, e, std::less<std::uint32_t>());
+    else
+      std::sort(b, e);
+    out.start.push_back(static_cast<std::uint32_t>(out.atoms.size()));
+  }
+}
+
 std::vector<std::uint32_t> dense_ids(UnionFind &uf, std::uint32_t n, std::uint32_t &count,
                                      std::vector<std::uint32_t> &root_id) {
   std::vector<std::uint32_t> id(n);
@@ -1128,27 +1147,32 @@ AtomClasses compute_classes(const Molecule &m) {
 
   // Fragments are separate molecules in solution: solve each on its own, then
   // merge fragments that are copies (or mirror images) of each other.
-  std::vector<std::vector<std::uint32_t>> frag_atoms(m.fragment_count());
-  if (frag_atoms.size() == 1) frag_atoms[0].reserve(n);
-  for (std::uint32_t a = 0; a < n; ++a) frag_atoms[m.fragments()[a]].push_back(a);
+  // One fragment: the whole-molecule graph and partition serve as they are.
+  const std::size_t nfrag = m.fragment_count();
+  std::vector<std::vector<std::uint32_t>> frag_atoms;
+  if (nfrag > 1) {
+    frag_atoms.resize(nfrag);
+    for (std::uint32_t a = 0; a < n; ++a) frag_atoms[m.fragments()[a]].push_back(a);
+  }
 
   UnionFind &topo_uf = ws.topo_uf.reset(n), &chem_uf = ws.chem_uf.reset(n);
-  // One fragment: the whole-molecule graph and partition serve as they are.
   std::vector<Graph> own_graph;
   std::vector<Partition> own_part;
   std::vector<Graph *> frag_graph;
   std::vector<const Partition *> frag_part;
   std::vector<std::unique_ptr<Individualised>> frag_start;
-  own_graph.reserve(frag_atoms.size());
-  own_part.reserve(frag_atoms.size());
+  if (nfrag > 1) {
+    own_graph.reserve(nfrag);
+    own_part.reserve(nfrag);
+  }
   // Topological orbits first: the stereo model reports only real stereo
   // elements, which needs them.
-  for (const auto &atoms : frag_atoms) {
-    if (frag_atoms.size() == 1) {
+  for (std::size_t f = 0; f < nfrag; ++f) {
+    if (nfrag == 1) {
       frag_graph.push_back(&whole);
       frag_part.push_back(&pw);
     } else {
-      own_graph.push_back(build_structure(m, atoms, local_of));
+      own_graph.push_back(build_structure(m, frag_atoms[f], local_of));
       own_part.emplace_back();
       detail::initial_partition(own_graph.back(), own_part.back(), scratch);
       frag_graph.push_back(&own_graph.back());
@@ -1158,11 +1182,10 @@ AtomClasses compute_classes(const Molecule &m) {
     frag_start.push_back(std::make_unique<Individualised>(g, *frag_part.back(), ws.entries, ws.search_scratch));
     // A single fragment's local atoms are the molecule's: it works on the
     // molecule's sets directly.
-    UnionFind &uf = frag_atoms.size() == 1 ? topo_uf : ws.frag_uf.reset(g.n);
+    UnionFind &uf = nfrag == 1 ? topo_uf : ws.frag_uf.reset(g.n);
     unite_twins(g, *frag_part.back(), uf, 2);
-    groups_of(g.n, frag_part.back()->cell, ws.groups, ws.count, ws.fill);
-    orbits(g, *frag_start.back(), ws.groups, false, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found,
-           frag_start.size() - 1);
+    groups_of_cells(*frag_part.back(), ws.groups);
+    orbits(g, *frag_start.back(), ws.groups, false, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found, f);
     if (&uf != &topo_uf)
       for (std::uint32_t a = 0; a < g.n; ++a) topo_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
@@ -1184,10 +1207,10 @@ AtomClasses compute_classes(const Molecule &m) {
 
   // The topological searches are done: each fragment graph takes its
   // configurations and serves as the stereo graph.
-  for (std::size_t f = 0; f < frag_atoms.size(); ++f) {
+  for (std::size_t f = 0; f < nfrag; ++f) {
     Graph &g = *frag_graph[f];
     add_stereo(sm, g, local_of);
-    UnionFind &uf = frag_atoms.size() == 1 ? chem_uf : ws.frag_uf.reset(g.n);
+    UnionFind &uf = nfrag == 1 ? chem_uf : ws.frag_uf.reset(g.n);
     unite_twins(g, *frag_part[f], uf, 3);
     // Dense ids are numbered in the order of the classes' lowest atoms, as
     // the sets' representatives are: the groups come in the same order.
