@@ -937,12 +937,13 @@ void orbits(const Graph &g, Individualised &start, const Groups &cells, bool ste
     reps.assign(1, cell[0]);
     for (std::size_t i = 1; i < cell_size; ++i) {
       const auto x = cell[i];
+      // A symmetry found earlier may have put x with any representative:
+      // then it is in no other's orbit (they are apart), so no search.
+      const std::uint32_t root = uf.find(x);
       bool merged = false;
+      for (auto r : reps) merged = merged || uf.find(r) == root;
+      if (merged) continue;
       for (auto r : reps) {
-        if (uf.find(r) == uf.find(x)) {
-          merged = true;
-          break;
-        }
         if (parents_apart(r, x, c)) continue;
         if (search.find(r, x, sigma)) {
           unite_cycles(uf, sigma);
