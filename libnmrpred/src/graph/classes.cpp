@@ -833,9 +833,9 @@ class AutomorphismSearch {
   // Makes the graph symmetry `sigma` one of kind `sign` where that only takes
   // exchanging the images of two equal leaves on a tetrahedral centre (which
   // inverts that centre alone and keeps it a graph symmetry), then checks
-  // the configurations. The image of `fixed` stays
-  // as it is; so, if this fails, `sigma` is still a graph symmetry with the
-  // same image of `fixed`, fit for a try with the other sign.
+  // the configurations. The image of `fixed` (kUnset: none) stays as it is;
+  // so, if this fails, `sigma` is still a graph symmetry with the same image
+  // of `fixed`, fit for a try with the other sign.
   bool with_sign(std::vector<std::uint32_t> &sigma, std::uint32_t fixed, int sign) {
     const CompleteMap map{sigma};
     const auto f = static_cast<std::int32_t>(fixed);
@@ -883,9 +883,6 @@ struct Groups {
   std::size_t size() const { return start.empty() ? 0 : start.size() - 1; }
 };
 
-// Orbits of one graph. `cells` are candidate groups (each orbit lies inside
-// one); signs are the kinds of automorphism allowed. `sigma` and `reps` are
-// scratch.
 // Graph symmetries that the topological searches found, each with its
 // fragment: most are symmetries with stereo too, or become so by exchanging
 // equal leaves, which spares the stereo searches their walks.
@@ -904,8 +901,10 @@ struct FoundSymmetries {
   }
 };
 
-// Orbits of one graph (fragment `fragment`). `found` receives the graph
-// symmetries found without stereo and seeds the search with stereo.
+// Orbits of one graph (fragment `fragment`). `cells` are candidate groups
+// (each orbit lies inside one); `stereo` picks the kinds of automorphism
+// allowed. `found` receives the graph symmetries found without
+// stereo and seeds the search with stereo. `sigma` and `reps` are scratch.
 void orbits(const Graph &g, Individualised &start, const Groups &cells, bool stereo, UnionFind &uf, long &budget,
             bool &exhausted, SearchLevels &levels, std::vector<std::uint32_t> &sigma, std::vector<std::uint32_t> &reps,
             FoundSymmetries &found, std::size_t fragment) {
@@ -1007,7 +1006,6 @@ void groups_of(std::uint32_t n, const std::vector<std::uint32_t> &within, Groups
     if (fill[within[a]] != kUnset) out.atoms[fill[within[a]]++] = a;
 }
 
-// `root_id` is scratch.
 // The cells of `p` with more than one atom, in the order of p, each in atom
 // order: what groups_of() makes of the cell of every atom, without buckets.
 void groups_of_cells(const Partition &p, Groups &out) {
@@ -1027,6 +1025,7 @@ void groups_of_cells(const Partition &p, Groups &out) {
   }
 }
 
+// Set ids numbered 0.. in order of each set's lowest atom. `root_id` is scratch.
 std::vector<std::uint32_t> dense_ids(UnionFind &uf, std::uint32_t n, std::uint32_t &count,
                                      std::vector<std::uint32_t> &root_id) {
   std::vector<std::uint32_t> id(n);
