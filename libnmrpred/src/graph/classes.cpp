@@ -1203,7 +1203,7 @@ AtomClasses compute_classes(const Molecule &m) {
     ws.canon = pw;
     rank = &canonical_positions(whole, ws.canon, ws.canon_scratch);
   }
-  const StereoModel sm = build_stereo(m, *rank, topo_pre);
+  StereoModel sm = build_stereo(m, *rank, topo_pre);
 
   // The topological searches are done: each fragment graph takes its
   // configurations and serves as the stereo graph.
@@ -1264,7 +1264,7 @@ AtomClasses compute_classes(const Molecule &m) {
   // Chemical classes refine topological ones: a stereo-respecting symmetry is
   // an automorphism too. Merge to be safe against a truncated search.
   out.chemical = dense_ids(chem_uf, n, out.chemical_count, ws.count);
-  out.notes = sm.notes;
+  out.notes = std::move(sm.notes);
   if (exhausted)
     out.notes.push_back("symmetry search budget exhausted: some equivalent atoms may be reported as distinct");
   return out;
