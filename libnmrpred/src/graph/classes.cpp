@@ -17,10 +17,11 @@
 #include <nmrpred/error.hpp>
 
 #include <algorithm>
+#include <functional>
 #include <map>
 #include <memory>
 #include <numeric>
-#include <unordered_map>
+#include <tuple>
 
 #include <fmt/format.h>
 
@@ -69,21 +70,48 @@ bool lone_pair_centre(const Atom &a, std::size_t degree) {
 }
 
 // Size of the smallest ring through bond u-v (0 if none within `limit`).
-int smallest_ring(const Molecule &m, std::uint32_t u, std::uint32_t v, int limit) {
-  std::vector<std::uint32_t> frontier{u}, next;
-  std::unordered_map<std::uint32_t, int> dist{{u, 0}};
-  for (int d = 1; d < limit && !frontier.empty(); ++d) {
-    next.clear();
-    for (auto a : frontier)
+// `seen` (one flag per atom, all clear) and `visited` are scratch; `seen`
+// is left clear.
+int smallest_ring(const Molecule &m, std::uint32_t u, std::uint32_t v, int limit, std::vector<char> &seen,
+                  std::vector<std::uint32_t> &visited) {
+  // The atoms of one breadth are visited[begin, end).
+  visited.assign(1, u);
+  seen[u] = 1;
+  int found = 0;
+  std::size_t begin = 0;
+  for (int d = 1; d < limit && begin < visited.size() && !found; ++d) {
+    const std::size_t end = visited.size();
+    for (std::size_t i = begin; i < end && !found; ++i) {
+      const std::uint32_t a = visited[i];
       for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it) {
         const auto b = *it;
         if (a == u && b == v) continue;
-        if (b == v) return d + 1;
-        if (dist.emplace(b, d).second) next.push_back(b);
+        if (b == v) {
+          found = d + 1;
+          break;
+        }
+        if (!seen[b]) {
+          seen[b] = 1;
+          visited.push_back(b);
+        }
       }
-    frontier.swap(next);
+    }
+    begin = end;
   }
-  return 0;
+  for (auto a : visited) seen[a] = 0;
+  return found;
+}
+
+// Insertion sort for the few ligands of one atom, where std::sort's set-up
+// costs more than the sorting.
+template <class T, class Less>
+void sort_few(T *first, T *last, Less less) {
+  for (T *i = first + 1; i < last; ++i) {
+    const T x = *i;
+    T *j = i;
+    for (; j > first && less(x, *(j - 1)); --j) *j = *(j - 1);
+    *j = x;
+  }
 }
 
 // Parity of the permutation taking `from` to `to` (both hold the same values).
@@ -107,7 +135,7 @@ bool even_permutation(std::array<std::int32_t, 4> from, const std::array<std::in
 // obtained differ by a symmetry of the graph, so configurations derived from
 // this order relate to each other the same way for every input atom order.
 // `p` and `s` are the caller's buffers: p starts as the refined partition of g.
-std::vector<std::uint32_t> canonical_positions(const Graph &g, Partition &p, RefineScratch &s) {
+const std::vector<std::uint32_t> &canonical_positions(const Graph &g, Partition &p, RefineScratch &s) {
   s.reset(g.n);
   std::uint32_t first = 0;
   while (true) {
@@ -136,11 +164,31 @@ std::vector<std::uint32_t> canonical_positions(const Graph &g, Partition &p, Ref
       }
       continue;
     }
-    detail::individualize(g, p, p.elems[first], s);
+    detail::individualize(g, p, p.elems[first], s, false);
   }
-  std::vector<std::uint32_t> pos(g.n);
-  for (std::uint32_t a = 0; a < g.n; ++a) pos[a] = p.pos[a];
-  return pos;
+  return p.pos;
+}
+
+// Whether the canonical order could give other classes than the order of
+// the base partition `p`. The canonical order refines p's, so it differs
+// only between atoms of one cell, and the stereo model compares only the
+// neighbours of one atom. Such a tie cannot matter at an atom alone in its
+// cell (every symmetry fixes it, and the parity of a permutation of its
+// neighbours does not depend on the order that stores its configuration),
+// nor between three or more equal leaves (united whatever the configuration).
+bool canonical_ties_matter(const Graph &g, const Partition &p) {
+  for (std::uint32_t c = 0; c < g.n; ++c) {
+    if (p.size_of(c) == 1) continue;
+    for (std::uint32_t k1 = g.off[c]; k1 < g.off[c + 1]; ++k1) {
+      const std::uint32_t l = g.nbr[k1];
+      std::uint32_t tied = 1;
+      for (std::uint32_t k2 = g.off[c]; k2 < g.off[c + 1]; ++k2)
+        tied += k2 != k1 && p.cell[g.nbr[k2]] == p.cell[l];
+      // Degree is part of the colour, so a cell holding a leaf holds leaves only.
+      if (tied == 2 || (tied > 2 && !g.leaf[l])) return true;
+    }
+  }
+  return false;
 }
 
 // Whole-molecule stereo model in molecule indices.
@@ -174,8 +222,14 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
     return true;
   };
   sm.tetra.reserve(n);
-  std::vector<std::int32_t> given(n, -1);
-  for (std::size_t i = 0; i < m.tetrahedral_stereo().size(); ++i) given[m.tetrahedral_stereo()[i].centre] = static_cast<std::int32_t>(i);
+  // Most inputs give no configuration: then no table of them is needed.
+  std::vector<std::int32_t> given;
+  if (!m.tetrahedral_stereo().empty()) {
+    given.assign(n, -1);
+    for (std::size_t i = 0; i < m.tetrahedral_stereo().size(); ++i)
+      given[m.tetrahedral_stereo()[i].centre] = static_cast<std::int32_t>(i);
+  }
+  const Atom *atoms = m.atoms().data();
   auto by_rank = [&](std::int32_t a, std::int32_t b) {
     // Lone pair last; then the canonical order (a refinement of the invariant
     // rank), so ties between equivalent ligands are broken the same way,
@@ -184,25 +238,25 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
     return canon[a] < canon[b];
   };
   for (std::uint32_t c = 0; c < n; ++c) {
-    const auto deg = m.degree(c);
-    const bool lp = lone_pair_centre(m.atom(c), deg);
-    if (deg != 4 && !lp) continue;
-    if (m.is_hydrogen(c)) continue;
+    const std::uint32_t *nb = m.neighbours_begin(c), *nb_end = m.neighbours_end(c);
+    const auto deg = static_cast<std::size_t>(nb_end - nb);
+    if (deg != 4 && !lone_pair_centre(atoms[c], deg)) continue;
+    if (atoms[c].atomic_number == 1) continue;
     TetraConfig t;
     t.centre = c;
-    if (given[c] >= 0) {
+    if (!given.empty() && given[c] >= 0) {
       t.lig = m.tetrahedral_stereo()[given[c]].ligands;
       ++stereo_elements;
     } else {
       std::array<std::int32_t, 4> l{{-1, -1, -1, -1}};
       int k = 0;
-      for (auto it = m.neighbours_begin(c); it != m.neighbours_end(c); ++it) l[k++] = static_cast<std::int32_t>(*it);
-      std::sort(l.begin(), l.end(), by_rank);
+      for (auto it = nb; it != nb_end; ++it) l[k++] = static_cast<std::int32_t>(*it);
+      sort_few(l.begin(), l.end(), by_rank);
       t.lig = l;
       // Report only real stereocentres: four ligands of distinct topological class.
       std::array<std::int64_t, 4> cls;
       for (int q = 0; q < 4; ++q) cls[q] = l[q] < 0 ? -1 : static_cast<std::int64_t>(topo[l[q]]);
-      std::sort(cls.begin(), cls.end());
+      sort_few(cls.begin(), cls.end(), std::less<std::int64_t>());
       if (std::adjacent_find(cls.begin(), cls.end()) == cls.end()) {
         sm.notes.push_back(fmt::format(
             "atom {}: stereocentre without a given configuration; classes are those of one canonical configuration", c));
@@ -221,17 +275,29 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
           c));
   std::map<std::pair<std::uint32_t, std::uint32_t>, const DoubleBondStereo *> given_db;
   for (const auto &d : m.double_bond_stereo()) given_db[{std::min(d.begin, d.end), std::max(d.begin, d.end)}] = &d;
+  // The one or two substituents of a double-bond atom other than its partner.
+  struct Others {
+    std::int32_t at[2] = {-1, -1};
+    std::size_t count = 0;
+    const std::int32_t *begin() const { return at; }
+    const std::int32_t *end() const { return at + count; }
+    std::int32_t *begin() { return at; }
+    std::int32_t *end() { return at + count; }
+  };
+  std::vector<char> ring_seen;
+  std::vector<std::uint32_t> ring_visited;
   for (const auto &b : m.bonds()) {
     if (b.order != BondOrder::Double) continue;
     const auto u = b.begin, v = b.end;
+    const std::size_t du = m.degree(u), dv = m.degree(v);
+    if (du < 2 || dv < 2 || du > 3 || dv > 3) continue;
     auto others = [&](std::uint32_t a, std::uint32_t partner) {
-      std::vector<std::int32_t> r;
+      Others r;
       for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it)
-        if (*it != partner) r.push_back(static_cast<std::int32_t>(*it));
+        if (*it != partner) r.at[r.count++] = static_cast<std::int32_t>(*it);
       return r;
     };
     auto ou = others(u, v), ov = others(v, u);
-    if (ou.empty() || ov.empty() || ou.size() > 2 || ov.size() > 2) continue;
     // Cumulated double bonds (allenes) are not modelled.
     bool cumulated = false;
     for (auto x : ou) cumulated |= m.bond(m.bond_between(u, x)).order == BondOrder::Double;
@@ -239,7 +305,8 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
     if (cumulated) continue;
     // In rings of fewer than 8 atoms the ring fixes the geometry and every
     // automorphism keeps it, so no constraint is needed.
-    const int ring = smallest_ring(m, u, v, 8);
+    if (ring_seen.empty()) ring_seen.assign(n, 0);
+    const int ring = smallest_ring(m, u, v, 8, ring_seen, ring_visited);
     if (ring > 0 && ring < 8) continue;
     DoubleConfig d;
     d.u = u;
@@ -252,14 +319,12 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
       d.rv = static_cast<std::int32_t>(forward ? s->ref_end : s->ref_begin);
       d.cis = s->cis;
     } else {
-      std::sort(ou.begin(), ou.end(), by_rank);
-      std::sort(ov.begin(), ov.end(), by_rank);
-      d.ru = ou.back();
-      d.rv = ov.back();
+      sort_few(ou.begin(), ou.end(), by_rank);
+      sort_few(ov.begin(), ov.end(), by_rank);
+      d.ru = ou.at[ou.count - 1];
+      d.rv = ov.at[ov.count - 1];
       d.cis = false;  // canonical choice: highest-ranked substituents trans
-      auto distinct = [&](const std::vector<std::int32_t> &o) {
-        return o.size() == 1 || topo[o[0]] != topo[o[1]];
-      };
+      auto distinct = [&](const Others &o) { return o.count == 1 || topo[o.at[0]] != topo[o.at[1]]; };
       if (distinct(ou) && distinct(ov))
         sm.notes.push_back(fmt::format(
             "bond {}={}: double-bond geometry not given; classes are those of one canonical geometry", u, v));
@@ -274,43 +339,49 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
 // local_of for those atoms.
 void build_structure(const Molecule &m, const std::vector<std::uint32_t> &atoms, std::vector<std::uint32_t> &local_of,
                      Graph &g) {
-  g.n = static_cast<std::uint32_t>(atoms.size());
+  const auto n = static_cast<std::uint32_t>(atoms.size());
+  g.n = n;
   g.global.assign(atoms.begin(), atoms.end());
-  for (std::uint32_t i = 0; i < g.n; ++i) local_of[atoms[i]] = i;
-  g.off.assign(g.n + 1, 0);
-  g.colour.resize(g.n);
-  g.leaf.assign(g.n, 0);
-  std::size_t edges = 0;
-  for (auto a : atoms) edges += m.degree(a);
-  g.nbr.clear();
-  g.order.clear();
-  g.nbr.reserve(edges);
-  g.order.reserve(edges);
+  for (std::uint32_t i = 0; i < n; ++i) local_of[atoms[i]] = i;
+  g.off.resize(n + 1);
+  g.colour.resize(n);
+  g.leaf.resize(n);
   g.tetra.clear();
   g.dbl.clear();
-  std::pair<std::uint32_t, std::uint8_t> tmp_inline[8];
-  std::vector<std::pair<std::uint32_t, std::uint8_t>> tmp_heap;
-  for (std::uint32_t i = 0; i < g.n; ++i) {
+  g.off[0] = 0;
+  for (std::uint32_t i = 0; i < n; ++i) g.off[i + 1] = g.off[i] + static_cast<std::uint32_t>(m.degree(atoms[i]));
+  g.nbr.resize(g.off[n]);
+  g.order.resize(g.off[n]);
+  // Raw pointers: the char stores below may alias any vector's internals.
+  const std::uint32_t *off = g.off.data(), *local = local_of.data();
+  std::uint32_t *nbr = g.nbr.data();
+  std::uint8_t *order = g.order.data();
+  char *leaf = g.leaf.data();
+  std::uint64_t *colour = g.colour.data();
+  const Atom *mol_atoms = m.atoms().data();
+  const Bond *bonds = m.bonds().data();
+  std::vector<std::pair<std::uint32_t, std::uint8_t>> tmp;
+  for (std::uint32_t i = 0; i < n; ++i) {
     const auto a = atoms[i];
-    const auto deg = static_cast<std::uint32_t>(m.degree(a));
-    g.colour[i] = atom_colour(m.atom(a), deg);
-    g.leaf[i] = deg == 1;
-    g.off[i + 1] = g.off[i] + deg;
-    const auto *bid = m.bond_ids_begin(a);
-    // Degrees above 8 are rare: only they pay for a heap buffer.
-    auto *tmp = tmp_inline;
-    if (deg > 8) {
-      tmp_heap.resize(deg);
-      tmp = tmp_heap.data();
+    const std::uint32_t *nb = m.neighbours_begin(a), *bid = m.bond_ids_begin(a);
+    const std::uint32_t deg = off[i + 1] - off[i];
+    colour[i] = atom_colour(mol_atoms[a], deg);
+    leaf[i] = deg == 1;
+    std::uint32_t *out = nbr + off[i];
+    std::uint8_t *out_order = order + off[i];
+    bool sorted = true;
+    for (std::uint32_t k = 0; k < deg; ++k) {
+      out[k] = local[nb[k]];
+      out_order[k] = order_code(bonds[bid[k]].order);
+      sorted = sorted && (k == 0 || out[k - 1] < out[k]);
     }
-    std::uint32_t k = 0;
-    for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid)
-      tmp[k++] = {local_of[*it], order_code(m.bond(*bid).order)};
-    std::sort(tmp, tmp + deg);
-    for (std::uint32_t q = 0; q < deg; ++q) {
-      g.nbr.push_back(tmp[q].first);
-      g.order.push_back(tmp[q].second);
-    }
+    // The molecule's neighbour lists are sorted, and so are they here while
+    // `atoms` is increasing within each fragment, as every caller has it.
+    if (sorted) continue;
+    tmp.clear();
+    for (std::uint32_t k = 0; k < deg; ++k) tmp.emplace_back(out[k], out_order[k]);
+    std::sort(tmp.begin(), tmp.end());
+    for (std::uint32_t k = 0; k < deg; ++k) std::tie(out[k], out_order[k]) = tmp[k];
   }
   g.tetra_of.assign(g.n, -1);
   g.dbl_of.resize(g.n);
@@ -411,12 +482,23 @@ struct SearchLevel {
   Partition q1, q2;
 };
 // Storage of automorphism searches that never run at the same time: the
-// partitions of each depth and the stamps of the final check.
+// partitions of each depth and the buffers of direct().
 struct SearchLevels {
   std::vector<std::unique_ptr<SearchLevel>> by_depth;
-  std::vector<std::uint32_t> seen;
-  std::vector<std::uint8_t> seen_order;
-  std::uint32_t stamp = 0;
+  // direct(): images already used, and the atoms in the order they were mapped.
+  std::vector<char> taken;
+  std::vector<std::uint32_t> queue;
+  // orbits(): the group of each atom.
+  std::vector<std::uint32_t> group_of;
+};
+
+// A complete map of atoms as AutomorphismSearch::tetra_ok() and double_ok()
+// read it (-1, a lone pair, maps to itself).
+struct CompleteMap {
+  const std::vector<std::uint32_t> &sigma;
+  std::int32_t operator()(std::int32_t a) const {
+    return a < 0 ? -1 : static_cast<std::int32_t>(sigma[static_cast<std::uint32_t>(a)]);
+  }
 };
 
 // Searches for an automorphism mapping r to x. sign 0: graph only; +1: proper
@@ -435,6 +517,8 @@ class AutomorphismSearch {
       : g_(g), start_(start), stereo_(stereo), budget_(budget), scratch_(start.scratch()), levels_(levels) {}
 
   bool find(std::uint32_t r, std::uint32_t x, std::vector<std::uint32_t> &sigma) {
+    if (stereo_ && !improper_possible() && twins_only_swapped_improperly(r, x)) return false;
+    if (direct(r, x, sigma)) return true;
     // Refinement is deterministic and leaves its scratch clean, so a
     // partition individualised earlier is the one this call would make.
     const auto &e1 = start_.at(r);
@@ -442,11 +526,61 @@ class AutomorphismSearch {
     if (e1.trace != e2.trace) return false;
     local_budget_ = kNodesPerSearch;
     sigma.assign(g_.n, kUnset);
-    return search(e1.p, e2.p, sigma, 0, stereo_ ? kBothSigns : 0u);
+    return search(e1.p, e2.p, sigma, 0, stereo_ ? signs() : 0u);
   }
   bool exhausted() const { return exhausted_; }
+  // Whether the graph symmetry `sigma` is, or can be made (which may change
+  // it), a symmetry of a kind this search looks for.
+  bool fits(std::vector<std::uint32_t> &sigma) { return fits_a_sign(sigma, kUnset); }
 
  private:
+  // The kinds of symmetry worth looking for.
+  unsigned signs() { return improper_possible() ? kBothSigns : kProper; }
+
+  // Whether `l`, a neighbour of c, is the only one in its cell of the base
+  // partition, so that every symmetry fixing c fixes l too.
+  bool alone_in_cell(std::uint32_t c, std::uint32_t l) const {
+    const std::vector<std::uint32_t> &cell = start_.base().cell;
+    for (std::uint32_t k = g_.off[c]; k < g_.off[c + 1]; ++k)
+      if (g_.nbr[k] != l && cell[g_.nbr[k]] == cell[l]) return false;
+    return true;
+  }
+
+  // False when a tetrahedral centre alone in its cell has its ligands alone
+  // in theirs: every symmetry fixes it and its ligands, so none inverts it
+  // (computed once).
+  bool improper_possible() {
+    if (improper_ == Tri::Unknown) {
+      improper_ = Tri::Yes;
+      for (const auto &t : g_.tetra) {
+        if (start_.base().size_of(t.centre) != 1) continue;
+        bool fixed = true;
+        for (auto l : t.lig) fixed = fixed && (l < 0 || alone_in_cell(t.centre, static_cast<std::uint32_t>(l)));
+        if (fixed) {
+          improper_ = Tri::No;
+          break;
+        }
+      }
+    }
+    return improper_ == Tri::Yes;
+  }
+
+  // Whether r and x are equal leaves on one tetrahedral centre whose other
+  // ligands are alone in their cells. Exchanging r and x alone is then a
+  // graph symmetry that inverts that centre; any symmetry taking r to x is
+  // it after one fixing r, which fixes every ligand of the centre: so it
+  // inverts the centre and cannot be proper.
+  bool twins_only_swapped_improperly(std::uint32_t r, std::uint32_t x) const {
+    if (!g_.leaf[r] || !equal_leaves(static_cast<std::int32_t>(r), static_cast<std::int32_t>(x))) return false;
+    const std::uint32_t p = g_.nbr[g_.off[r]];
+    if (g_.nbr[g_.off[x]] != p || g_.tetra_of[p] < 0) return false;
+    for (std::uint32_t k = g_.off[p]; k < g_.off[p + 1]; ++k) {
+      const std::uint32_t l = g_.nbr[k];
+      if (l != r && l != x && !alone_in_cell(p, l)) return false;
+    }
+    return true;
+  }
+
   bool same_structure(const Partition &p1, const Partition &p2) const {
     for (std::uint32_t s = 0; s < g_.n; s = p1.end[s])
       if (p2.end[s] != p1.end[s] || p2.cell[p2.elems[s]] != s) return false;
@@ -592,38 +726,138 @@ class AutomorphismSearch {
       } while (std::next_permutation(images.begin(), images.end()));
       if (!placed) return false;
     }
-    // Every bond a-b must map to a bond sigma(a)-sigma(b) of the same order:
-    // stamp sigma(a)'s neighbours with their orders, then look each image up
-    // (a search per bond cost more than the rest of this check).
-    auto &seen = levels_.seen;
-    auto &seen_order = levels_.seen_order;
-    if (seen.size() < g_.n) {
-      seen.assign(g_.n, 0);
-      seen_order.assign(g_.n, 0);
-    }
+    return is_symmetry(sigma, sign);
+  }
+
+  // Whether the complete map `sigma` is a symmetry of kind `sign` (0, +1 or -1).
+  bool is_symmetry(const std::vector<std::uint32_t> &sigma, int sign) const {
+    return is_graph_symmetry(sigma) && keeps_configurations(sigma, sign);
+  }
+
+  bool is_graph_symmetry(const std::vector<std::uint32_t> &sigma) const {
+    // Every bond a-b must map to a bond sigma(a)-sigma(b) of the same order.
+    // sigma is one-to-one and keeps colours, degree among them, so both
+    // graphs have as many bonds: checking each bond from one end suffices,
+    // and non-bonds then map to non-bonds. Neighbour lists are short, so
+    // each image is looked up by a scan.
+    const std::uint32_t *off = g_.off.data(), *nbr = g_.nbr.data(), *sg = sigma.data();
+    const std::uint8_t *order = g_.order.data();
+    const std::uint64_t *colour = g_.colour.data();
     for (std::uint32_t a = 0; a < g_.n; ++a) {
-      if (sigma[a] == kUnset || g_.colour[a] != g_.colour[sigma[a]]) return false;
-      if (++levels_.stamp == 0) {
-        std::fill(seen.begin(), seen.end(), 0);
-        levels_.stamp = 1;
+      const std::uint32_t y = sg[a];
+      if (y == kUnset || colour[a] != colour[y]) return false;
+      for (std::uint32_t k = off[a]; k < off[a + 1]; ++k) {
+        const std::uint32_t b = nbr[k];
+        if (b < a) continue;
+        const std::uint32_t yb = sg[b];
+        if (y == a && yb == b) continue;  // a bond kept in place
+        std::uint32_t f = off[y];
+        while (f < off[y + 1] && nbr[f] != yb) ++f;
+        if (f == off[y + 1] || order[f] != order[k]) return false;
       }
-      const std::uint32_t stamp = levels_.stamp, y = sigma[a];
-      for (std::uint32_t k = g_.off[y]; k < g_.off[y + 1]; ++k) {
-        seen[g_.nbr[k]] = stamp;
-        seen_order[g_.nbr[k]] = g_.order[k];
-      }
-      for (std::uint32_t k = g_.off[a]; k < g_.off[a + 1]; ++k) {
-        const std::uint32_t b = sigma[g_.nbr[k]];
-        if (b == kUnset || seen[b] != stamp || seen_order[b] != g_.order[k]) return false;
-      }
-    }
-    if (sign != 0) {
-      for (const auto &t : g_.tetra)
-        if (!tetra_ok(t, map, sign)) return false;
-      for (const auto &d : g_.dbl)
-        if (!double_ok(d, map)) return false;
     }
     return true;
+  }
+
+  // Whether the graph symmetry `sigma` is one of kind `sign`.
+  bool keeps_configurations(const std::vector<std::uint32_t> &sigma, int sign) const {
+    if (sign == 0) return true;
+    const CompleteMap map{sigma};
+    for (const auto &t : g_.tetra)
+      if (!tetra_ok(t, map, sign)) return false;
+    for (const auto &d : g_.dbl)
+      if (!double_ok(d, map)) return false;
+    return true;
+  }
+
+  // Most symmetries of a molecule need no search: map r to x, then walk
+  // outwards pairing each unmapped neighbour with the first free neighbour of
+  // its image that lies in the same cell of the base partition and is bonded
+  // the same way. Whatever map this gives is verified in full, so a wrong
+  // pairing costs only the walk before the search proper takes over; and as
+  // orbits do not depend on which symmetries are found, the classes stay
+  // those the search alone would give.
+  bool direct(std::uint32_t r, std::uint32_t x, std::vector<std::uint32_t> &sigma) {
+    if (g_.leaf[r] && g_.nbr[g_.off[r]] == g_.nbr[g_.off[x]] &&
+        equal_leaves(static_cast<std::int32_t>(r), static_cast<std::int32_t>(x))) {
+      // Equal leaves on one parent: exchanging them alone is a graph symmetry.
+      sigma.resize(g_.n);
+      std::iota(sigma.begin(), sigma.end(), 0u);
+      std::swap(sigma[r], sigma[x]);
+      return fits_a_sign(sigma, r);
+    }
+    sigma.assign(g_.n, kUnset);
+    levels_.taken.assign(g_.n, 0);
+    levels_.queue.resize(g_.n);
+    // Raw pointers: stores through the char array may alias any vector's
+    // internals, which would reload them at every step.
+    const std::uint32_t *cell = start_.base().cell.data(), *off = g_.off.data(), *nbr = g_.nbr.data();
+    const std::uint8_t *order = g_.order.data();
+    std::uint32_t *sg = sigma.data(), *queue = levels_.queue.data();
+    char *taken = levels_.taken.data();
+    sg[r] = x;
+    taken[x] = 1;
+    queue[0] = r;
+    std::uint32_t tail = 1;
+    for (std::uint32_t head = 0; head < tail; ++head) {
+      const std::uint32_t a = queue[head], y = sg[a];
+      for (std::uint32_t e = off[a]; e < off[a + 1]; ++e) {
+        const std::uint32_t u = nbr[e];
+        if (sg[u] != kUnset) continue;
+        std::uint32_t v = kUnset;
+        for (std::uint32_t f = off[y]; f < off[y + 1]; ++f) {
+          const std::uint32_t w = nbr[f];
+          if (!taken[w] && cell[w] == cell[u] && order[f] == order[e]) {
+            v = w;
+            break;
+          }
+        }
+        if (v == kUnset) return false;
+        sg[u] = v;
+        taken[v] = 1;
+        queue[tail++] = u;
+      }
+    }
+    // A graph of several fragments is left to the search.
+    if (tail != g_.n) return false;
+    return is_graph_symmetry(sigma) && fits_a_sign(sigma, r);
+  }
+
+  // Whether the graph symmetry `sigma`, taking r to its image, is or can be
+  // made (see with_sign) a symmetry of a kind this search looks for.
+  bool fits_a_sign(std::vector<std::uint32_t> &sigma, std::uint32_t r) {
+    if (!stereo_) return true;
+    return with_sign(sigma, r, +1) || (improper_possible() && with_sign(sigma, r, -1));
+  }
+
+  // Makes the graph symmetry `sigma` one of kind `sign` where that only takes
+  // exchanging the images of two equal leaves on a tetrahedral centre (which
+  // inverts that centre alone and keeps it a graph symmetry), then checks
+  // the configurations. The image of `fixed` (kUnset: none) stays as it is;
+  // so, if this fails, `sigma` is still a graph symmetry with the same image
+  // of `fixed`, fit for a try with the other sign.
+  bool with_sign(std::vector<std::uint32_t> &sigma, std::uint32_t fixed, int sign) {
+    const CompleteMap map{sigma};
+    const auto f = static_cast<std::int32_t>(fixed);
+    for (const auto &t : g_.tetra) {
+      if (tetra_ok(t, map, sign)) continue;
+      bool swapped = false;
+      for (int i = 0; i < 4 && !swapped; ++i)
+        for (int j = i + 1; j < 4 && !swapped; ++j)
+          if (t.lig[i] != f && t.lig[j] != f && equal_leaves(t.lig[i], t.lig[j])) {
+            std::swap(sigma[static_cast<std::uint32_t>(t.lig[i])], sigma[static_cast<std::uint32_t>(t.lig[j])]);
+            swapped = true;
+          }
+      if (!swapped) return false;
+    }
+    return keeps_configurations(sigma, sign);
+  }
+
+  // Two leaves on one centre that any symmetry may exchange.
+  bool equal_leaves(std::int32_t a, std::int32_t b) const {
+    if (a < 0 || b < 0) return false;
+    const auto ua = static_cast<std::uint32_t>(a), ub = static_cast<std::uint32_t>(b);
+    return g_.leaf[ua] && g_.leaf[ub] && g_.colour[ua] == g_.colour[ub] && g_.order[g_.off[ua]] == g_.order[g_.off[ub]];
   }
 
   const Graph &g_;
@@ -632,13 +866,15 @@ class AutomorphismSearch {
   long &budget_;
   long local_budget_ = 0;
   bool exhausted_ = false;
+  enum class Tri { Unknown, Yes, No } improper_ = Tri::Unknown;
   RefineScratch &scratch_;
   std::vector<std::uint32_t> images_;           // finish(): one cell's images
   SearchLevels &levels_;                        // by search depth
 };
 
 void unite_cycles(UnionFind &uf, const std::vector<std::uint32_t> &sigma) {
-  for (std::uint32_t a = 0; a < sigma.size(); ++a) uf.unite(a, sigma[a]);
+  for (std::uint32_t a = 0; a < sigma.size(); ++a)
+    if (sigma[a] != a) uf.unite(a, sigma[a]);
 }
 
 // Groups of atoms kept flat: group k is atoms[start[k]..start[k + 1]).
@@ -647,12 +883,52 @@ struct Groups {
   std::size_t size() const { return start.empty() ? 0 : start.size() - 1; }
 };
 
-// Orbits of one graph. `cells` are candidate groups (each orbit lies inside
-// one); signs are the kinds of automorphism allowed. `sigma` and `reps` are
-// scratch.
+// Graph symmetries that the topological searches found, each with its
+// fragment: most are symmetries with stereo too, or become so by exchanging
+// equal leaves, which spares the stereo searches their walks.
+struct FoundSymmetries {
+  std::vector<std::vector<std::uint32_t>> sigma;  // the first `used` are valid
+  std::vector<std::size_t> fragment;
+  std::size_t used = 0;
+  void clear() {
+    used = 0;
+    fragment.clear();
+  }
+  void add(std::size_t f, const std::vector<std::uint32_t> &s) {
+    if (used == sigma.size()) sigma.emplace_back();
+    sigma[used++] = s;
+    fragment.push_back(f);
+  }
+};
+
+// Orbits of one graph (fragment `fragment`). `cells` are candidate groups
+// (each orbit lies inside one); `stereo` picks the kinds of automorphism
+// allowed. `found` receives the graph symmetries found without
+// stereo and seeds the search with stereo. `sigma` and `reps` are scratch.
 void orbits(const Graph &g, Individualised &start, const Groups &cells, bool stereo, UnionFind &uf, long &budget,
-            bool &exhausted, SearchLevels &levels, std::vector<std::uint32_t> &sigma, std::vector<std::uint32_t> &reps) {
+            bool &exhausted, SearchLevels &levels, std::vector<std::uint32_t> &sigma, std::vector<std::uint32_t> &reps,
+            FoundSymmetries &found, std::size_t fragment) {
   AutomorphismSearch search(g, start, stereo, budget, levels);
+  if (stereo)
+    for (std::size_t i = 0; i < found.used; ++i)
+      if (found.fragment[i] == fragment) {
+        sigma = found.sigma[i];
+        if (search.fits(sigma)) unite_cycles(uf, sigma);
+      }
+  // Group of each atom, kUnset for atoms alone (whose orbit is known).
+  std::vector<std::uint32_t> &group_of = levels.group_of;
+  group_of.assign(g.n, kUnset);
+  for (std::uint32_t c = 0; c < cells.size(); ++c)
+    for (std::uint32_t k = cells.start[c]; k < cells.start[c + 1]; ++k) group_of[cells.atoms[k]] = c;
+  // Whether the orbits of the parents of leaves r and x are known and
+  // differ: every symmetry takes the parent of r to that of x. A group's
+  // orbits are known once it is done, unless a search ran out of budget.
+  auto parents_apart = [&](std::uint32_t r, std::uint32_t x, std::size_t current) {
+    if (exhausted || !g.leaf[r] || !g.leaf[x]) return false;
+    const std::uint32_t pr = g.nbr[g.off[r]], px = g.nbr[g.off[x]];
+    const bool known = group_of[pr] == kUnset || group_of[pr] < current;
+    return known && uf.find(pr) != uf.find(px);
+  };
   for (std::size_t c = 0; c < cells.size(); ++c) {
     const std::uint32_t *cell = cells.atoms.data() + cells.start[c];
     const std::size_t cell_size = cells.start[c + 1] - cells.start[c];
@@ -660,14 +936,17 @@ void orbits(const Graph &g, Individualised &start, const Groups &cells, bool ste
     reps.assign(1, cell[0]);
     for (std::size_t i = 1; i < cell_size; ++i) {
       const auto x = cell[i];
+      // A symmetry found earlier may have put x with any representative:
+      // then it is in no other's orbit (they are apart), so no search.
+      const std::uint32_t root = uf.find(x);
       bool merged = false;
+      for (auto r : reps) merged = merged || uf.find(r) == root;
+      if (merged) continue;
       for (auto r : reps) {
-        if (uf.find(r) == uf.find(x)) {
-          merged = true;
-          break;
-        }
+        if (parents_apart(r, x, c)) continue;
         if (search.find(r, x, sigma)) {
           unite_cycles(uf, sigma);
+          if (!stereo) found.add(fragment, sigma);
           merged = true;
           break;
         }
@@ -681,20 +960,21 @@ void orbits(const Graph &g, Individualised &start, const Groups &cells, bool ste
 // Twin leaves: equal leaves on one parent. Sets of three or more are always
 // equivalent (a rotation about the parent bond exchanges them without touching
 // any configuration); pairs are topologically equivalent.
-void unite_twins(const Graph &g, UnionFind &uf, std::size_t min_size) {
-  std::vector<std::pair<std::uint64_t, std::uint32_t>> leaves;
-  for (std::uint32_t p = 0; p < g.n; ++p) {
-    leaves.clear();
-    for (std::uint32_t k = g.off[p]; k < g.off[p + 1]; ++k)
-      if (g.leaf[g.nbr[k]]) leaves.emplace_back((g.colour[g.nbr[k]] << 3) ^ g.order[k], g.nbr[k]);
-    if (leaves.size() < min_size) continue;
-    std::sort(leaves.begin(), leaves.end());
-    for (std::size_t i = 0; i < leaves.size();) {
-      std::size_t j = i;
-      while (j < leaves.size() && leaves[j].first == leaves[i].first) ++j;
-      if (j - i >= min_size)
-        for (std::size_t q = i + 1; q < j; ++q) uf.unite(leaves[i].second, leaves[q].second);
-      i = j;
+// Equal leaves on one parent are those of one cell of the base partition `p`
+// (same colour, and refinement tells the bond orders apart), and as p is
+// equitable every parent has the same number of them: the cell's size over
+// that of the parents' cell.
+void unite_twins(const Graph &g, const Partition &p, UnionFind &uf, std::size_t min_size) {
+  for (std::uint32_t s = 0; s < g.n; s = p.end[s]) {
+    const std::uint32_t size = p.end[s] - s, first = p.elems[s];
+    if (size < min_size || !g.leaf[first]) continue;
+    if (size / p.size_of(g.nbr[g.off[first]]) < min_size) continue;
+    for (std::uint32_t k = s; k < p.end[s]; ++k) {
+      const std::uint32_t leaf = p.elems[k], parent = g.nbr[g.off[leaf]];
+      // The parent's first neighbour in this cell stands for the set.
+      std::uint32_t e = g.off[parent];
+      while (p.cell[g.nbr[e]] != s) ++e;
+      uf.unite(leaf, g.nbr[e]);
     }
   }
 }
@@ -726,8 +1006,30 @@ void groups_of(std::uint32_t n, const std::vector<std::uint32_t> &within, Groups
     if (fill[within[a]] != kUnset) out.atoms[fill[within[a]]++] = a;
 }
 
-std::vector<std::uint32_t> dense_ids(UnionFind &uf, std::uint32_t n, std::uint32_t &count) {
-  std::vector<std::uint32_t> id(n, kUnset), root_id(n, kUnset);
+// The cells of `p` with more than one atom, in the order of p, each in atom
+// order: what groups_of() makes of the cell of every atom, without buckets.
+void groups_of_cells(const Partition &p, Groups &out) {
+  out.atoms.clear();
+  out.start.assign(1, 0);
+  const auto n = static_cast<std::uint32_t>(p.elems.size());
+  for (std::uint32_t s = 0; s < n; s = p.end[s]) {
+    if (p.end[s] - s < 2) continue;
+    const std::size_t first = out.atoms.size();
+    out.atoms.insert(out.atoms.end(), p.elems.begin() + s, p.elems.begin() + p.end[s]);
+    std::uint32_t *b = out.atoms.data() + first, *e = out.atoms.data() + out.atoms.size();
+    if (e - b <= 16)
+      sort_few(b, e, std::less<std::uint32_t>());
+    else
+      std::sort(b, e);
+    out.start.push_back(static_cast<std::uint32_t>(out.atoms.size()));
+  }
+}
+
+// Set ids numbered 0.. in order of each set's lowest atom. `root_id` is scratch.
+std::vector<std::uint32_t> dense_ids(UnionFind &uf, std::uint32_t n, std::uint32_t &count,
+                                     std::vector<std::uint32_t> &root_id) {
+  std::vector<std::uint32_t> id(n);
+  root_id.assign(n, kUnset);
   count = 0;
   for (std::uint32_t a = 0; a < n; ++a) {
     const auto r = uf.find(a);
@@ -763,6 +1065,8 @@ struct Workspace {
   SearchLevels levels;
   Groups groups;
   std::vector<std::uint32_t> all, local_of, sigma, reps, count, fill, within;
+  UnionFind topo_uf, chem_uf, frag_uf;
+  FoundSymmetries found;
 };
 
 // Lends the calling thread's Workspace for one compute_classes() call; a
@@ -780,6 +1084,7 @@ class WorkspaceLease {
       ws_ = own_.get();
     }
     ws_->entries.used = 0;
+    ws_->found.clear();
   }
   WorkspaceLease(const WorkspaceLease &) = delete;
   WorkspaceLease &operator=(const WorkspaceLease &) = delete;
@@ -789,7 +1094,9 @@ class WorkspaceLease {
     // one took (the pooled partitions grow with atoms x searches).
     constexpr std::size_t kKeepAtoms = 4096, kKeepPooledSlots = std::size_t{1} << 18;
     const std::size_t atoms = ws_->whole.n;
-    if (atoms > kKeepAtoms || atoms * (ws_->entries.entries.size() + 2 * ws_->levels.by_depth.size()) > kKeepPooledSlots)
+    const std::size_t pooled =
+        ws_->entries.entries.size() + 2 * ws_->levels.by_depth.size() + ws_->found.sigma.size();
+    if (atoms > kKeepAtoms || atoms * pooled > kKeepPooledSlots)
       borrowed_->ws = Workspace();
     borrowed_->busy = false;
   }
@@ -840,27 +1147,32 @@ AtomClasses compute_classes(const Molecule &m) {
 
   // Fragments are separate molecules in solution: solve each on its own, then
   // merge fragments that are copies (or mirror images) of each other.
-  std::vector<std::vector<std::uint32_t>> frag_atoms(m.fragment_count());
-  if (frag_atoms.size() == 1) frag_atoms[0].reserve(n);
-  for (std::uint32_t a = 0; a < n; ++a) frag_atoms[m.fragments()[a]].push_back(a);
-
-  UnionFind topo_uf(n), chem_uf(n);
   // One fragment: the whole-molecule graph and partition serve as they are.
+  const std::size_t nfrag = m.fragment_count();
+  std::vector<std::vector<std::uint32_t>> frag_atoms;
+  if (nfrag > 1) {
+    frag_atoms.resize(nfrag);
+    for (std::uint32_t a = 0; a < n; ++a) frag_atoms[m.fragments()[a]].push_back(a);
+  }
+
+  UnionFind &topo_uf = ws.topo_uf.reset(n), &chem_uf = ws.chem_uf.reset(n);
   std::vector<Graph> own_graph;
   std::vector<Partition> own_part;
   std::vector<Graph *> frag_graph;
   std::vector<const Partition *> frag_part;
   std::vector<std::unique_ptr<Individualised>> frag_start;
-  own_graph.reserve(frag_atoms.size());
-  own_part.reserve(frag_atoms.size());
+  if (nfrag > 1) {
+    own_graph.reserve(nfrag);
+    own_part.reserve(nfrag);
+  }
   // Topological orbits first: the stereo model reports only real stereo
   // elements, which needs them.
-  for (const auto &atoms : frag_atoms) {
-    if (frag_atoms.size() == 1) {
+  for (std::size_t f = 0; f < nfrag; ++f) {
+    if (nfrag == 1) {
       frag_graph.push_back(&whole);
       frag_part.push_back(&pw);
     } else {
-      own_graph.push_back(build_structure(m, atoms, local_of));
+      own_graph.push_back(build_structure(m, frag_atoms[f], local_of));
       own_part.emplace_back();
       detail::initial_partition(own_graph.back(), own_part.back(), scratch);
       frag_graph.push_back(&own_graph.back());
@@ -868,11 +1180,14 @@ AtomClasses compute_classes(const Molecule &m) {
     }
     const Graph &g = *frag_graph.back();
     frag_start.push_back(std::make_unique<Individualised>(g, *frag_part.back(), ws.entries, ws.search_scratch));
-    UnionFind uf(g.n);
-    unite_twins(g, uf, 2);
-    groups_of(g.n, frag_part.back()->cell, ws.groups, ws.count, ws.fill);
-    orbits(g, *frag_start.back(), ws.groups, false, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps);
-    for (std::uint32_t a = 0; a < g.n; ++a) topo_uf.unite(g.global[a], g.global[uf.find(a)]);
+    // A single fragment's local atoms are the molecule's: it works on the
+    // molecule's sets directly.
+    UnionFind &uf = nfrag == 1 ? topo_uf : ws.frag_uf.reset(g.n);
+    unite_twins(g, *frag_part.back(), uf, 2);
+    groups_of_cells(*frag_part.back(), ws.groups);
+    orbits(g, *frag_start.back(), ws.groups, false, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found, f);
+    if (&uf != &topo_uf)
+      for (std::uint32_t a = 0; a < g.n; ++a) topo_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
 
   // Copies of one fragment: same signature; confirm with a search on the pair.
@@ -882,23 +1197,30 @@ AtomClasses compute_classes(const Molecule &m) {
       by_sig[fragment_signature(*frag_graph[f], *frag_part[f])].push_back(f);
 
   std::uint32_t tcount = 0;
-  auto topo_pre = dense_ids(topo_uf, n, tcount);
-  ws.canon = pw;
-  const StereoModel sm = build_stereo(m, canonical_positions(whole, ws.canon, ws.canon_scratch), topo_pre);
+  auto topo_pre = dense_ids(topo_uf, n, tcount, ws.count);
+  const std::vector<std::uint32_t> *rank = &pw.pos;
+  if (canonical_ties_matter(whole, pw)) {
+    ws.canon = pw;
+    rank = &canonical_positions(whole, ws.canon, ws.canon_scratch);
+  }
+  StereoModel sm = build_stereo(m, *rank, topo_pre);
 
   // The topological searches are done: each fragment graph takes its
   // configurations and serves as the stereo graph.
-  for (std::size_t f = 0; f < frag_atoms.size(); ++f) {
+  for (std::size_t f = 0; f < nfrag; ++f) {
     Graph &g = *frag_graph[f];
     add_stereo(sm, g, local_of);
-    UnionFind uf(g.n);
-    unite_twins(g, uf, 3);
+    UnionFind &uf = nfrag == 1 ? chem_uf : ws.frag_uf.reset(g.n);
+    unite_twins(g, *frag_part[f], uf, 3);
+    // Dense ids are numbered in the order of the classes' lowest atoms, as
+    // the sets' representatives are: the groups come in the same order.
     std::vector<std::uint32_t> &within = ws.within;
     within.resize(g.n);
-    for (std::uint32_t a = 0; a < g.n; ++a) within[a] = topo_uf.find(g.global[a]);
+    for (std::uint32_t a = 0; a < g.n; ++a) within[a] = topo_pre[g.global[a]];
     groups_of(g.n, within, ws.groups, ws.count, ws.fill);
-    orbits(g, *frag_start[f], ws.groups, true, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps);
-    for (std::uint32_t a = 0; a < g.n; ++a) chem_uf.unite(g.global[a], g.global[uf.find(a)]);
+    orbits(g, *frag_start[f], ws.groups, true, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found, f);
+    if (&uf != &chem_uf)
+      for (std::uint32_t a = 0; a < g.n; ++a) chem_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
 
   for (auto &kv : by_sig) {
@@ -932,11 +1254,17 @@ AtomClasses compute_classes(const Molecule &m) {
     }
   }
 
-  out.topological = dense_ids(topo_uf, n, out.topological_count);
+  // Only copies of a fragment can have merged topological classes since.
+  if (by_sig.empty()) {
+    out.topological = std::move(topo_pre);
+    out.topological_count = tcount;
+  } else {
+    out.topological = dense_ids(topo_uf, n, out.topological_count, ws.count);
+  }
   // Chemical classes refine topological ones: a stereo-respecting symmetry is
   // an automorphism too. Merge to be safe against a truncated search.
-  out.chemical = dense_ids(chem_uf, n, out.chemical_count);
-  out.notes = sm.notes;
+  out.chemical = dense_ids(chem_uf, n, out.chemical_count, ws.count);
+  out.notes = std::move(sm.notes);
   if (exhausted)
     out.notes.push_back("symmetry search budget exhausted: some equivalent atoms may be reported as distinct");
   return out;

@@ -82,6 +82,8 @@ void sort_touched(const Partition &p, RefineScratch &s) {
 
 // Coarsest equitable refinement (Hopcroft-style: after a cell has served as a
 // splitter, only the smaller pieces of its later splits need to serve again).
+// The trace is kept only when `Trace`: the partition is the same either way.
+template <bool Trace>
 std::uint64_t refine(const Graph &g, Partition &p, RefineScratch &s) {
   std::uint64_t trace = 0xCBF29CE484222325ull;
   while (s.pending_count > 0) {
@@ -106,19 +108,19 @@ std::uint64_t refine(const Graph &g, Partition &p, RefineScratch &s) {
     for (std::uint32_t b : s.touched_atoms) {
       const std::uint32_t c = p.cell[b];
       if (p.end[c] - c == 1) {
-        singles += mix(c, s.key[b]);
+        if constexpr (Trace) singles += mix(c, s.key[b]);
         s.key[b] = 0;
       } else {
         s.touched_atoms[kept++] = b;
       }
     }
     s.touched_atoms.resize(kept);
-    trace = mix(trace, singles);
+    if constexpr (Trace) trace = mix(trace, singles);
     // Group the touched atoms by cell, in key order within a cell; atoms of a
     // cell that were not touched keep key 0 and stay where they are, so a
     // split costs the touched atoms only, not the whole cell.
     sort_touched(p, s);
-    trace = mix(trace, w);
+    if constexpr (Trace) trace = mix(trace, w);
     for (std::size_t g0 = 0; g0 < s.touched_atoms.size();) {
       const std::uint32_t c = p.cell[s.touched_atoms[g0]];
       std::size_t g1 = g0;
@@ -127,7 +129,7 @@ std::uint64_t refine(const Graph &g, Partition &p, RefineScratch &s) {
       const std::uint32_t t = static_cast<std::uint32_t>(g1 - g0);
       const std::uint64_t kmin = s.key[s.touched_atoms[g0]], kmax = s.key[s.touched_atoms[g1 - 1]];
       if (e - c == 1 || (t == e - c && kmin == kmax)) {
-        trace = mix(trace, (std::uint64_t(c) << 1) ^ kmin);
+        if constexpr (Trace) trace = mix(trace, (std::uint64_t(c) << 1) ^ kmin);
         g0 = g1;
         continue;
       }
@@ -149,7 +151,7 @@ std::uint64_t refine(const Graph &g, Partition &p, RefineScratch &s) {
         p.end[run] = k;
         if (run != c)
           for (std::uint32_t q = run; q < k; ++q) p.cell[p.elems[q]] = run;
-        trace = mix(trace, mix(run, key) ^ (k - run));
+        if constexpr (Trace) trace = mix(trace, mix(run, key) ^ (k - run));
         if (k - run > largest_size) {
           largest_size = k - run;
           largest_start = run;
@@ -194,7 +196,7 @@ void RefineScratch::reset(std::uint32_t n) {
   sort_buf.reserve(n);
 }
 
-std::uint64_t initial_partition(const Graph &g, Partition &p, RefineScratch &s) {
+void initial_partition(const Graph &g, Partition &p, RefineScratch &s) {
   const std::uint32_t n = g.n;
   p.elems.resize(n);
   std::iota(p.elems.begin(), p.elems.end(), 0u);
@@ -205,7 +207,6 @@ std::uint64_t initial_partition(const Graph &g, Partition &p, RefineScratch &s) 
   p.cell.assign(n, 0);
   p.end.assign(n, 0);
   s.reset(n);
-  std::uint64_t trace = 0x84222325CBF29CE4ull;
   for (std::uint32_t k = 0; k < n;) {
     std::uint32_t j = k;
     while (j < n && g.colour[p.elems[j]] == g.colour[p.elems[k]]) ++j;
@@ -214,14 +215,13 @@ std::uint64_t initial_partition(const Graph &g, Partition &p, RefineScratch &s) 
       p.cell[p.elems[q]] = k;
     }
     p.end[k] = j;
-    trace = mix(trace, mix(g.colour[p.elems[k]], j - k));
     push(s, k);
     k = j;
   }
-  return mix(trace, refine(g, p, s));
+  refine<false>(g, p, s);
 }
 
-std::uint64_t individualize(const Graph &g, Partition &p, std::uint32_t atom, RefineScratch &s) {
+std::uint64_t individualize(const Graph &g, Partition &p, std::uint32_t atom, RefineScratch &s, bool traced) {
   const std::uint32_t c = p.cell[atom];
   const std::uint32_t e = p.end[c];
   if (e - c == 1) return 0x5555;
@@ -236,7 +236,11 @@ std::uint64_t individualize(const Graph &g, Partition &p, std::uint32_t atom, Re
   for (std::uint32_t q = c + 1; q < e; ++q) p.cell[p.elems[q]] = c + 1;
   if (s.is_pending(c)) push(s, c + 1);
   push(s, c);
-  return mix(c, refine(g, p, s));
+  if (!traced) {
+    refine<false>(g, p, s);
+    return 0;
+  }
+  return mix(c, refine<true>(g, p, s));
 }
 
 }  // namespace nmrpred::detail

@@ -74,12 +74,13 @@ struct RefineScratch {
 };
 
 // Builds the initial partition (cells of equal colour, ordered by colour) and
-// refines it. Returns the trace hash.
-std::uint64_t initial_partition(const Graph &g, Partition &p, RefineScratch &s);
+// refines it.
+void initial_partition(const Graph &g, Partition &p, RefineScratch &s);
 // Makes `atom` a singleton cell at the front of its cell and refines.
 // Returns a hash of everything the refinement did, so two branches can be
-// compared cheaply (equal structure is necessary for an isomorphism).
-std::uint64_t individualize(const Graph &g, Partition &p, std::uint32_t atom, RefineScratch &s);
+// compared cheaply (equal structure is necessary for an isomorphism); 0
+// without `traced`, which saves the hashing when nothing compares.
+std::uint64_t individualize(const Graph &g, Partition &p, std::uint32_t atom, RefineScratch &s, bool traced = true);
 
 }  // namespace nmrpred::detail
 

@@ -14,7 +14,14 @@ namespace nmrpred::detail {
 
 struct UnionFind {
   std::vector<std::uint32_t> parent;
-  explicit UnionFind(std::uint32_t n) : parent(n) { std::iota(parent.begin(), parent.end(), 0u); }
+  UnionFind() = default;
+  explicit UnionFind(std::uint32_t n) { reset(n); }
+  // Back to n singletons, keeping the capacity for reuse.
+  UnionFind &reset(std::uint32_t n) {
+    parent.resize(n);
+    std::iota(parent.begin(), parent.end(), 0u);
+    return *this;
+  }
   std::uint32_t find(std::uint32_t a) {
     while (parent[a] != a) a = parent[a] = parent[parent[a]];
     return a;
