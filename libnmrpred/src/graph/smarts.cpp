@@ -988,7 +988,12 @@ void SmartsTarget::perceive_ring_systems() const {
 
 // Rings: Horton's candidate cycles (shortest paths from a root to both ends of
 // an edge), shortest first, tested for independence by Gaussian elimination
-// over GF(2) on bond sets.
+// over GF(2) on bond sets. The ring bonds fall apart into parts joined by
+// bridges (a ring system, spiro rings included) and no cycle crosses a
+// bridge, so each part is searched on its own and a part that is one ring
+// from one root only: a search over the whole molecule from every ring atom
+// cost more than the rest of most molecules' 13C rules. The rings come out
+// in the order that whole search found them (see the end).
 void SmartsTarget::perceive_rings() const {
   if (rings_done_) return;
   rings_done_ = true;
@@ -997,53 +1002,40 @@ void SmartsTarget::perceive_rings() const {
   atom_rings_.assign(m.atom_count(), 0);
   atom_smallest_.assign(m.atom_count(), 0);
   bond_rings_.assign(m.bond_count(), 0);
+  // Per heavy atom integers in one block (one allocation, not seven).
+  std::vector<std::int32_t> per_atom(7 * n);
+  std::int32_t *const deg = per_atom.data(), *const found = deg + n, *const low = found + n, *const part = low + n,
+                      *const dist = part + n, *const parent_edge = dist + n, *const parent_atom = parent_edge + n;
   // Ring atoms: strip atoms of heavy degree <= 1 until none is left.
-  std::vector<int> deg(n, 0);
-  std::vector<std::uint32_t> bonds;  // heavy-heavy bonds
   for (std::uint32_t b = 0; b < m.bond_count(); ++b) {
     const auto &bd = m.bond(b);
-    if (bd.begin < n && bd.end < n) {
-      bonds.push_back(b);
-      ++deg[bd.begin];
-      ++deg[bd.end];
-    }
+    if (bd.begin < n && bd.end < n) ++deg[bd.begin], ++deg[bd.end];
   }
-  std::vector<bool> core(n, true);
+  std::vector<char> core(n, 1);
   std::vector<std::uint32_t> queue;
   for (std::uint32_t a = 0; a < n; ++a)
-    if (deg[a] <= 1) queue.push_back(a), core[a] = false;
+    if (deg[a] <= 1) queue.push_back(a), core[a] = 0;
   while (!queue.empty()) {
     const auto a = queue.back();
     queue.pop_back();
     for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it)
-      if (*it < n && core[*it] && --deg[*it] <= 1) core[*it] = false, queue.push_back(*it);
+      if (*it < n && core[*it] && --deg[*it] <= 1) core[*it] = 0, queue.push_back(*it);
   }
   std::vector<std::uint32_t> edges;  // core bonds
-  std::vector<int> edge_of_bond(m.bond_count(), -1);
-  for (auto b : bonds)
-    if (core[m.bond(b).begin] && core[m.bond(b).end]) {
-      edge_of_bond[b] = static_cast<int>(edges.size());
+  std::vector<std::int32_t> edge_of_bond(m.bond_count(), -1);
+  for (std::uint32_t b = 0; b < m.bond_count(); ++b) {
+    const auto &bd = m.bond(b);
+    if (bd.begin < n && bd.end < n && core[bd.begin] && core[bd.end]) {
+      edge_of_bond[b] = static_cast<std::int32_t>(edges.size());
       edges.push_back(b);
     }
+  }
   if (edges.empty()) return;
-  // Cycle rank = E - V + components over the core.
-  UnionFind comp(static_cast<std::uint32_t>(n));
-  std::size_t vertices = 0, components = 0;
-  for (std::uint32_t a = 0; a < n; ++a) vertices += core[a];
-  for (auto b : edges) comp.unite(m.bond(b).begin, m.bond(b).end);
-  for (std::uint32_t a = 0; a < n; ++a) components += core[a] && comp.find(a) == a;
-  const std::size_t rank = edges.size() + components - vertices;
-  const std::size_t words = (edges.size() + 63) / 64;
   // Bridges of the core (bonds on no cycle, such as a chain between two
-  // ring systems), by Tarjan's low-link search. From a root the two tree
-  // paths to the ends of any edge beyond a bridge both cross it, so such an
-  // edge never closes a candidate; searching within the root's part left
-  // by the bridges finds the same candidates, in the same order (the part
-  // is reached only from within itself), at a fraction of the cost in
-  // molecules with several ring systems.
-  std::vector<char> bridge(edges.size(), 0), on_cycle(n, 0);
+  // ring systems), by Tarjan's low-link search.
+  std::vector<char> bridge(edges.size(), 0);
   {
-    std::vector<int> found(n, -1), low(n, 0);
+    std::fill(found, found + n, -1);
     int counter = 0;
     struct Frame {
       std::uint32_t atom;
@@ -1079,139 +1071,203 @@ void SmartsTarget::perceive_rings() const {
         if (low[done.atom] > found[parent]) bridge[static_cast<std::size_t>(done.via)] = 1;
       }
     }
-    for (std::size_t e = 0; e < edges.size(); ++e)
-      if (!bridge[e]) on_cycle[m.bond(edges[e]).begin] = on_cycle[m.bond(edges[e]).end] = 1;
   }
-  // Candidates in the order they are found, their atoms and bond bits in
-  // flat pools: a molecule yields many candidates, mostly copies of one ring
-  // found from each of its atoms.
+  // The parts: atoms joined by bonds other than bridges, numbered in order
+  // of their lowest atom (the union's representative); part -1 for atoms
+  // on no cycle. Their atoms and edges ascending, in one list each.
+  std::size_t parts = 0;
+  {
+    UnionFind joined(static_cast<std::uint32_t>(n));
+    std::fill(part, part + n, -1);
+    for (std::size_t e = 0; e < edges.size(); ++e) {
+      if (bridge[e]) continue;
+      const auto &bd = m.bond(edges[e]);
+      joined.unite(bd.begin, bd.end);
+      part[bd.begin] = part[bd.end] = 0;  // on a cycle; numbered below
+    }
+    for (std::uint32_t a = 0; a < n; ++a) {
+      if (part[a] < 0) continue;
+      const auto r = joined.find(a);
+      part[a] = r == a ? static_cast<std::int32_t>(parts++) : part[r];
+    }
+  }
+  std::vector<std::uint32_t> atom_start(parts + 1, 0), edge_start(parts + 1, 0), part_atoms, part_edges;
+  for (std::uint32_t a = 0; a < n; ++a)
+    if (part[a] >= 0) ++atom_start[static_cast<std::size_t>(part[a]) + 1];
+  for (std::size_t e = 0; e < edges.size(); ++e)
+    if (!bridge[e]) ++edge_start[static_cast<std::size_t>(part[m.bond(edges[e]).begin]) + 1];
+  for (std::size_t c = 0; c < parts; ++c) atom_start[c + 1] += atom_start[c], edge_start[c + 1] += edge_start[c];
+  part_atoms.resize(atom_start[parts]);
+  part_edges.resize(edge_start[parts]);
+  {
+    std::vector<std::uint32_t> next(atom_start.begin(), atom_start.end() - 1);
+    for (std::uint32_t a = 0; a < n; ++a)
+      if (part[a] >= 0) part_atoms[next[static_cast<std::size_t>(part[a])]++] = a;
+    next.assign(edge_start.begin(), edge_start.end() - 1);
+    for (std::uint32_t e = 0; e < edges.size(); ++e)
+      if (!bridge[e]) part_edges[next[static_cast<std::size_t>(part[m.bond(edges[e]).begin])]++] = e;
+  }
+  // Bit of each edge within its part's bond sets.
+  std::vector<std::uint32_t> bit_of_edge(edges.size(), 0);
+  for (std::size_t c = 0; c < parts; ++c)
+    for (auto i = edge_start[c]; i < edge_start[c + 1]; ++i) bit_of_edge[part_edges[i]] = i - edge_start[c];
+  // Candidates of one part in the order they are found, their atoms and bond
+  // bits in flat pools: a part yields many candidates, mostly copies of one
+  // ring found from each of its atoms. Kept rings stay in the atom pool.
   struct Cycle {
-    std::uint32_t atoms_off, size, bits_off;
+    std::uint32_t atoms_off, size, bits_off, root, edge;
   };
-  std::vector<Cycle> candidates;
+  std::vector<Cycle> candidates, kept;
   std::vector<std::uint32_t> atom_pool;
   std::vector<std::uint64_t> bit_pool;
-  std::vector<int> dist(n), parent_edge(n), parent_atom(n);
   std::vector<std::uint32_t> mark(n, 0);
   std::uint32_t stamp = 0;
   std::vector<std::uint32_t> bfs;
   bfs.reserve(n);
-  for (std::uint32_t r = 0; r < n; ++r) {
-    if (!on_cycle[r]) continue;
-    std::fill(dist.begin(), dist.end(), -1);
-    dist[r] = 0;
-    parent_edge[r] = -1;
-    bfs.clear();
-    bfs.push_back(r);
-    for (std::size_t k = 0; k < bfs.size(); ++k) {
-      const auto a = bfs[k];
-      const auto *bid = m.bond_ids_begin(a);
-      for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid) {
-        if (*it >= n || !core[*it] || dist[*it] >= 0 || bridge[static_cast<std::size_t>(edge_of_bond[*bid])]) continue;
-        dist[*it] = dist[a] + 1;
-        parent_edge[*it] = edge_of_bond[*bid];
-        parent_atom[*it] = static_cast<int>(a);
-        bfs.push_back(*it);
-      }
-    }
-    for (std::size_t e = 0; e < edges.size(); ++e) {
-      const auto x = m.bond(edges[e]).begin, y = m.bond(edges[e]).end;
-      if (dist[x] < 0 || dist[y] < 0) continue;
-      if (parent_edge[x] == static_cast<int>(e) || parent_edge[y] == static_cast<int>(e)) continue;
-      // The tree paths x..r and y..r must share no atom but r.
-      ++stamp;
-      for (std::uint32_t v = x; v != r; v = static_cast<std::uint32_t>(parent_atom[v])) mark[v] = stamp;
-      bool disjoint = true;
-      for (std::uint32_t v = y; v != r && disjoint; v = static_cast<std::uint32_t>(parent_atom[v])) disjoint = mark[v] != stamp;
-      if (!disjoint) continue;
-      // Atoms r ... x, then y ... (before r).
-      const auto off = static_cast<std::uint32_t>(atom_pool.size());
-      const auto dx = static_cast<std::uint32_t>(dist[x]);
-      const auto size = dx + 1 + static_cast<std::uint32_t>(dist[y]);
-      atom_pool.resize(off + size);
-      std::uint32_t v = x;
-      for (std::uint32_t i = dx;; --i) {
-        atom_pool[off + i] = v;
-        if (i == 0) break;
-        v = static_cast<std::uint32_t>(parent_atom[v]);
-      }
-      std::uint32_t at = off + dx + 1;
-      for (v = y; v != r; v = static_cast<std::uint32_t>(parent_atom[v])) atom_pool[at++] = v;
-      // Its bonds: e and the tree bonds of both paths.
-      const auto bits_off = static_cast<std::uint32_t>(bit_pool.size());
-      bit_pool.resize(bits_off + words, 0);
-      auto set_bit = [&](std::size_t ei) { bit_pool[bits_off + ei / 64] |= std::uint64_t{1} << (ei % 64); };
-      set_bit(e);
-      for (v = x; v != r; v = static_cast<std::uint32_t>(parent_atom[v])) set_bit(static_cast<std::size_t>(parent_edge[v]));
-      for (v = y; v != r; v = static_cast<std::uint32_t>(parent_atom[v])) set_bit(static_cast<std::size_t>(parent_edge[v]));
-      candidates.push_back(Cycle{off, size, bits_off});
-    }
-  }
-  std::stable_sort(candidates.begin(), candidates.end(), [](const Cycle &a, const Cycle &b) { return a.size < b.size; });
-  auto bits_of = [&](const Cycle &c) { return bit_pool.data() + c.bits_off; };
+  std::fill(dist, dist + n, -1);
   std::vector<std::uint64_t> basis;  // reduced rows, words each, one pivot bit each
   std::vector<std::size_t> pivots;
-  std::vector<std::uint64_t> v(words);
-  auto reduce = [&](const std::uint64_t *from) {
-    std::copy_n(from, words, v.begin());
-    for (std::size_t i = 0; i < pivots.size(); ++i)
-      if (v[pivots[i] / 64] >> (pivots[i] % 64) & 1)
-        for (std::size_t w = 0; w < words; ++w) v[w] ^= basis[i * words + w];
-  };
-  auto first_bit = [&]() {
-    for (std::size_t w = 0; w < words; ++w)
-      if (v[w]) {
-        std::size_t bit = 0;
-        while (!(v[w] >> bit & 1)) ++bit;
-        return w * 64 + bit;
-      }
-    return words * 64;
-  };
-  auto add = [&](const std::uint64_t *from) {
-    reduce(from);
-    const auto pivot = first_bit();
-    if (pivot == words * 64) return;
-    for (std::size_t i = 0; i < pivots.size(); ++i)
-      if (basis[i * words + pivot / 64] >> (pivot % 64) & 1)
-        for (std::size_t w = 0; w < words; ++w) basis[i * words + w] ^= v[w];
-    basis.insert(basis.end(), v.begin(), v.end());
-    pivots.push_back(pivot);
-  };
-  // A ring is kept when it is not a sum of strictly smaller rings (a relevant
-  // cycle). Unlike a plain SSSR this keeps every one of equally small
-  // alternatives (both six-rings of pinane, all four of adamantane), as RDKit's
-  // symmetrized SSSR does, so R<n> does not depend on atom order. A ring
-  // found again (same bonds) counts once, as first found; copies have the
-  // same size, so only candidates of one size need comparing.
+  std::vector<std::uint64_t> v;
   std::vector<std::uint32_t> by_bits, group;
   std::vector<char> copy;
-  std::size_t i = 0;
-  while (i < candidates.size() && pivots.size() < rank) {
-    std::size_t j = i;
-    while (j < candidates.size() && candidates[j].size == candidates[i].size) ++j;
-    by_bits.resize(j - i);
-    std::iota(by_bits.begin(), by_bits.end(), static_cast<std::uint32_t>(i));
-    std::sort(by_bits.begin(), by_bits.end(), [&](std::uint32_t a, std::uint32_t b) {
-      const int c = std::memcmp(bits_of(candidates[a]), bits_of(candidates[b]), words * sizeof(std::uint64_t));
-      return c != 0 ? c < 0 : a < b;
-    });
-    copy.assign(j - i, 0);
-    for (std::size_t q = 1; q < by_bits.size(); ++q)
-      if (std::equal(bits_of(candidates[by_bits[q]]), bits_of(candidates[by_bits[q]]) + words,
-                     bits_of(candidates[by_bits[q - 1]])))
-        copy[by_bits[q] - i] = 1;
-    group.clear();
-    for (std::size_t k = i; k < j; ++k) {
-      if (copy[k - i]) continue;
-      reduce(bits_of(candidates[k]));
-      if (first_bit() == words * 64) continue;
-      const auto &c = candidates[k];
-      rings_.emplace_back(atom_pool.begin() + c.atoms_off, atom_pool.begin() + c.atoms_off + c.size);
-      group.push_back(static_cast<std::uint32_t>(k));
+  for (std::size_t c = 0; c < parts; ++c) {
+    const std::size_t part_edge_count = edge_start[c + 1] - edge_start[c];
+    const std::size_t rank = part_edge_count + 1 - (atom_start[c + 1] - atom_start[c]);
+    const std::size_t words = (part_edge_count + 63) / 64;
+    candidates.clear();
+    bit_pool.clear();
+    // A part that is one ring is found whole from each of its atoms: the
+    // first, from its lowest atom, is the copy kept.
+    const auto roots_end = rank == 1 ? atom_start[c] + 1 : atom_start[c + 1];
+    for (auto ri = atom_start[c]; ri < roots_end; ++ri) {
+      const auto r = part_atoms[ri];
+      dist[r] = 0;
+      parent_edge[r] = -1;
+      bfs.clear();
+      bfs.push_back(r);
+      for (std::size_t k = 0; k < bfs.size(); ++k) {
+        const auto a = bfs[k];
+        const auto *bid = m.bond_ids_begin(a);
+        for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid) {
+          // Within the part, every bond is a core bond and no bridge.
+          if (*it >= n || part[*it] != static_cast<std::int32_t>(c) || dist[*it] >= 0) continue;
+          dist[*it] = dist[a] + 1;
+          parent_edge[*it] = edge_of_bond[*bid];
+          parent_atom[*it] = static_cast<int>(a);
+          bfs.push_back(*it);
+        }
+      }
+      for (auto ei = edge_start[c]; ei < edge_start[c + 1]; ++ei) {
+        const auto e = part_edges[ei];
+        const auto x = m.bond(edges[e]).begin, y = m.bond(edges[e]).end;
+        if (parent_edge[x] == static_cast<int>(e) || parent_edge[y] == static_cast<int>(e)) continue;
+        // The tree paths x..r and y..r must share no atom but r.
+        ++stamp;
+        for (std::uint32_t w = x; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) mark[w] = stamp;
+        bool disjoint = true;
+        for (std::uint32_t w = y; w != r && disjoint; w = static_cast<std::uint32_t>(parent_atom[w]))
+          disjoint = mark[w] != stamp;
+        if (!disjoint) continue;
+        // Atoms r ... x, then y ... (before r).
+        const auto off = static_cast<std::uint32_t>(atom_pool.size());
+        const auto dx = static_cast<std::uint32_t>(dist[x]);
+        const auto size = dx + 1 + static_cast<std::uint32_t>(dist[y]);
+        atom_pool.resize(off + size);
+        std::uint32_t w = x;
+        for (std::uint32_t i = dx;; --i) {
+          atom_pool[off + i] = w;
+          if (i == 0) break;
+          w = static_cast<std::uint32_t>(parent_atom[w]);
+        }
+        std::uint32_t at = off + dx + 1;
+        for (w = y; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) atom_pool[at++] = w;
+        // Its bonds: e and the tree bonds of both paths.
+        const auto bits_off = static_cast<std::uint32_t>(bit_pool.size());
+        bit_pool.resize(bits_off + words, 0);
+        auto set_bit = [&](std::size_t edge) {
+          const auto bit = bit_of_edge[edge];
+          bit_pool[bits_off + bit / 64] |= std::uint64_t{1} << (bit % 64);
+        };
+        set_bit(e);
+        for (w = x; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) set_bit(static_cast<std::size_t>(parent_edge[w]));
+        for (w = y; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) set_bit(static_cast<std::size_t>(parent_edge[w]));
+        candidates.push_back(Cycle{off, size, bits_off, r, e});
+      }
+      for (auto a : bfs) dist[a] = -1;
     }
-    for (auto k : group) add(bits_of(candidates[k]));
-    i = j;
+    std::stable_sort(candidates.begin(), candidates.end(), [](const Cycle &a, const Cycle &b) { return a.size < b.size; });
+    auto bits_of = [&](const Cycle &cy) { return bit_pool.data() + cy.bits_off; };
+    basis.clear();
+    pivots.clear();
+    v.assign(words, 0);
+    auto reduce = [&](const std::uint64_t *from) {
+      std::copy_n(from, words, v.begin());
+      for (std::size_t i = 0; i < pivots.size(); ++i)
+        if (v[pivots[i] / 64] >> (pivots[i] % 64) & 1)
+          for (std::size_t w = 0; w < words; ++w) v[w] ^= basis[i * words + w];
+    };
+    auto first_bit = [&]() {
+      for (std::size_t w = 0; w < words; ++w)
+        if (v[w]) {
+          std::size_t bit = 0;
+          while (!(v[w] >> bit & 1)) ++bit;
+          return w * 64 + bit;
+        }
+      return words * 64;
+    };
+    auto add = [&](const std::uint64_t *from) {
+      reduce(from);
+      const auto pivot = first_bit();
+      if (pivot == words * 64) return;
+      for (std::size_t i = 0; i < pivots.size(); ++i)
+        if (basis[i * words + pivot / 64] >> (pivot % 64) & 1)
+          for (std::size_t w = 0; w < words; ++w) basis[i * words + w] ^= v[w];
+      basis.insert(basis.end(), v.begin(), v.end());
+      pivots.push_back(pivot);
+    };
+    // A ring is kept when it is not a sum of strictly smaller rings (a
+    // relevant cycle). Unlike a plain SSSR this keeps every one of equally
+    // small alternatives (both six-rings of pinane, all four of adamantane),
+    // as RDKit's symmetrized SSSR does, so R<n> does not depend on atom
+    // order. A ring found again (same bonds) counts once, as first found;
+    // copies have the same size, so only candidates of one size need
+    // comparing.
+    std::size_t i = 0;
+    while (i < candidates.size() && pivots.size() < rank) {
+      std::size_t j = i;
+      while (j < candidates.size() && candidates[j].size == candidates[i].size) ++j;
+      by_bits.resize(j - i);
+      std::iota(by_bits.begin(), by_bits.end(), static_cast<std::uint32_t>(i));
+      std::sort(by_bits.begin(), by_bits.end(), [&](std::uint32_t a, std::uint32_t b) {
+        const int cmp = std::memcmp(bits_of(candidates[a]), bits_of(candidates[b]), words * sizeof(std::uint64_t));
+        return cmp != 0 ? cmp < 0 : a < b;
+      });
+      copy.assign(j - i, 0);
+      for (std::size_t q = 1; q < by_bits.size(); ++q)
+        if (std::equal(bits_of(candidates[by_bits[q]]), bits_of(candidates[by_bits[q]]) + words,
+                       bits_of(candidates[by_bits[q - 1]])))
+          copy[by_bits[q] - i] = 1;
+      group.clear();
+      for (std::size_t k = i; k < j; ++k) {
+        if (copy[k - i]) continue;
+        reduce(bits_of(candidates[k]));
+        if (first_bit() == words * 64) continue;
+        kept.push_back(candidates[k]);
+        group.push_back(static_cast<std::uint32_t>(k));
+      }
+      for (auto k : group) add(bits_of(candidates[k]));
+      i = j;
+    }
   }
+  // The order of one search over the whole molecule: smallest first, then
+  // as found there, from roots in ascending order and, per root, edges in
+  // ascending order. The parts' edge sets are disjoint, so a part's rings
+  // and the sums that rule a ring out are the same either way.
+  std::sort(kept.begin(), kept.end(), [](const Cycle &a, const Cycle &b) {
+    return a.size != b.size ? a.size < b.size : a.root != b.root ? a.root < b.root : a.edge < b.edge;
+  });
+  rings_.reserve(kept.size());
+  for (const auto &k : kept) rings_.emplace_back(atom_pool.begin() + k.atoms_off, atom_pool.begin() + k.atoms_off + k.size);
   for (const auto &ring : rings_) {
     const int size = static_cast<int>(ring.size());
     for (std::size_t i = 0; i < ring.size(); ++i) {
