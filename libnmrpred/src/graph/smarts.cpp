@@ -1002,73 +1002,79 @@ void SmartsTarget::perceive_rings() const {
   atom_rings_.assign(m.atom_count(), 0);
   atom_smallest_.assign(m.atom_count(), 0);
   bond_rings_.assign(m.bond_count(), 0);
-  // Per heavy atom integers in one block (one allocation, not seven).
-  std::vector<std::int32_t> per_atom(7 * n);
-  std::int32_t *const deg = per_atom.data(), *const found = deg + n, *const low = found + n, *const part = low + n,
-                      *const dist = part + n, *const parent_edge = dist + n, *const parent_atom = parent_edge + n;
+  const std::size_t bond_count = m.bond_count();
+  // The scratch of known size, per heavy atom and per bond, in one block:
+  // a molecule's rings are perceived once, and a dozen allocations cost
+  // about as much as the search in a molecule of one or two rings.
+  std::vector<std::int32_t> scratch(18 * n + 3 + 5 * bond_count);
+  std::int32_t *next_free = scratch.data();
+  auto carve = [&](std::size_t size) {
+    std::int32_t *const block = next_free;
+    next_free += size;
+    return block;
+  };
+  std::int32_t *const deg = carve(n), *const found = carve(n), *const low = carve(n), *const part = carve(n),
+                      *const dist = carve(n), *const parent_edge = carve(n), *const parent_atom = carve(n),
+                      *const core = carve(n), *const edge_of_bond = carve(bond_count);
+  auto *const queue = reinterpret_cast<std::uint32_t *>(carve(n));
+  auto *const edges = reinterpret_cast<std::uint32_t *>(carve(bond_count));  // core bonds
+  std::size_t queued = 0, edge_count = 0;
   // Ring atoms: strip atoms of heavy degree <= 1 until none is left.
   for (std::uint32_t b = 0; b < m.bond_count(); ++b) {
     const auto &bd = m.bond(b);
     if (bd.begin < n && bd.end < n) ++deg[bd.begin], ++deg[bd.end];
   }
-  std::vector<char> core(n, 1);
-  std::vector<std::uint32_t> queue;
+  std::fill(core, core + n, 1);
   for (std::uint32_t a = 0; a < n; ++a)
-    if (deg[a] <= 1) queue.push_back(a), core[a] = 0;
-  while (!queue.empty()) {
-    const auto a = queue.back();
-    queue.pop_back();
+    if (deg[a] <= 1) queue[queued++] = a, core[a] = 0;
+  while (queued > 0) {
+    const auto a = queue[--queued];
     for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it)
-      if (*it < n && core[*it] && --deg[*it] <= 1) core[*it] = 0, queue.push_back(*it);
+      if (*it < n && core[*it] && --deg[*it] <= 1) core[*it] = 0, queue[queued++] = *it;
   }
-  std::vector<std::uint32_t> edges;  // core bonds
-  std::vector<std::int32_t> edge_of_bond(m.bond_count(), -1);
-  for (std::uint32_t b = 0; b < m.bond_count(); ++b) {
+  for (std::uint32_t b = 0; b < bond_count; ++b) {
     const auto &bd = m.bond(b);
+    edge_of_bond[b] = -1;
     if (bd.begin < n && bd.end < n && core[bd.begin] && core[bd.end]) {
-      edge_of_bond[b] = static_cast<std::int32_t>(edges.size());
-      edges.push_back(b);
+      edge_of_bond[b] = static_cast<std::int32_t>(edge_count);
+      edges[edge_count++] = b;
     }
   }
-  if (edges.empty()) return;
+  if (edge_count == 0) return;
   // Bridges of the core (bonds on no cycle, such as a chain between two
-  // ring systems), by Tarjan's low-link search.
-  std::vector<char> bridge(edges.size(), 0);
+  // ring systems), by Tarjan's low-link search; the search path is kept as
+  // atom, edge from the parent (-1 at a root) and next neighbour to try.
+  std::int32_t *const bridge = carve(edge_count);
+  std::fill(bridge, bridge + edge_count, 0);
   {
     std::fill(found, found + n, -1);
     int counter = 0;
-    struct Frame {
-      std::uint32_t atom;
-      int via;  // edge from the parent, -1 at a root
-      std::size_t next;
-    };
-    std::vector<Frame> stack;
+    std::int32_t *const path_atom = carve(n), *const path_via = carve(n), *const path_next = carve(n);
+    std::size_t depth = 0;
     for (std::uint32_t s0 = 0; s0 < n; ++s0) {
       if (!core[s0] || found[s0] >= 0) continue;
       found[s0] = low[s0] = counter++;
-      stack.push_back(Frame{s0, -1, 0});
-      while (!stack.empty()) {
-        Frame &f = stack.back();
-        const auto a = f.atom;
-        if (f.next < m.degree(a)) {
-          const auto i = f.next++;
+      path_atom[0] = static_cast<std::int32_t>(s0), path_via[0] = -1, path_next[0] = 0, depth = 1;
+      while (depth > 0) {
+        const auto a = static_cast<std::uint32_t>(path_atom[depth - 1]);
+        if (static_cast<std::size_t>(path_next[depth - 1]) < m.degree(a)) {
+          const auto i = static_cast<std::size_t>(path_next[depth - 1]++);
           const auto b = m.neighbours_begin(a)[i];
           const int e = edge_of_bond[m.bond_ids_begin(a)[i]];
-          if (e < 0 || e == f.via) continue;
+          if (e < 0 || e == path_via[depth - 1]) continue;
           if (found[b] < 0) {
             found[b] = low[b] = counter++;
-            stack.push_back(Frame{b, e, 0});
+            path_atom[depth] = static_cast<std::int32_t>(b), path_via[depth] = e, path_next[depth] = 0, ++depth;
           } else {
             low[a] = std::min(low[a], found[b]);
           }
           continue;
         }
-        const Frame done = f;
-        stack.pop_back();
-        if (stack.empty()) continue;
-        const auto parent = stack.back().atom;
-        low[parent] = std::min(low[parent], low[done.atom]);
-        if (low[done.atom] > found[parent]) bridge[static_cast<std::size_t>(done.via)] = 1;
+        --depth;
+        if (depth == 0) continue;
+        const auto parent = path_atom[depth - 1];
+        low[parent] = std::min(low[parent], low[a]);
+        if (low[a] > found[parent]) bridge[path_via[depth]] = 1;
       }
     }
   }
@@ -1079,7 +1085,7 @@ void SmartsTarget::perceive_rings() const {
   {
     UnionFind joined(static_cast<std::uint32_t>(n));
     std::fill(part, part + n, -1);
-    for (std::size_t e = 0; e < edges.size(); ++e) {
+    for (std::size_t e = 0; e < edge_count; ++e) {
       if (bridge[e]) continue;
       const auto &bd = m.bond(edges[e]);
       joined.unite(bd.begin, bd.end);
@@ -1091,24 +1097,26 @@ void SmartsTarget::perceive_rings() const {
       part[a] = r == a ? static_cast<std::int32_t>(parts++) : part[r];
     }
   }
-  std::vector<std::uint32_t> atom_start(parts + 1, 0), edge_start(parts + 1, 0), part_atoms, part_edges;
+  auto *const atom_start = reinterpret_cast<std::uint32_t *>(carve(parts + 1));
+  auto *const edge_start = reinterpret_cast<std::uint32_t *>(carve(parts + 1));
+  auto *const next = reinterpret_cast<std::uint32_t *>(carve(parts + 1));
+  auto *const part_atoms = reinterpret_cast<std::uint32_t *>(carve(n));
+  auto *const part_edges = reinterpret_cast<std::uint32_t *>(carve(edge_count));
+  std::fill(atom_start, atom_start + parts + 1, 0u);
+  std::fill(edge_start, edge_start + parts + 1, 0u);
   for (std::uint32_t a = 0; a < n; ++a)
-    if (part[a] >= 0) ++atom_start[static_cast<std::size_t>(part[a]) + 1];
-  for (std::size_t e = 0; e < edges.size(); ++e)
-    if (!bridge[e]) ++edge_start[static_cast<std::size_t>(part[m.bond(edges[e]).begin]) + 1];
+    if (part[a] >= 0) ++atom_start[part[a] + 1];
+  for (std::size_t e = 0; e < edge_count; ++e)
+    if (!bridge[e]) ++edge_start[part[m.bond(edges[e]).begin] + 1];
   for (std::size_t c = 0; c < parts; ++c) atom_start[c + 1] += atom_start[c], edge_start[c + 1] += edge_start[c];
-  part_atoms.resize(atom_start[parts]);
-  part_edges.resize(edge_start[parts]);
-  {
-    std::vector<std::uint32_t> next(atom_start.begin(), atom_start.end() - 1);
-    for (std::uint32_t a = 0; a < n; ++a)
-      if (part[a] >= 0) part_atoms[next[static_cast<std::size_t>(part[a])]++] = a;
-    next.assign(edge_start.begin(), edge_start.end() - 1);
-    for (std::uint32_t e = 0; e < edges.size(); ++e)
-      if (!bridge[e]) part_edges[next[static_cast<std::size_t>(part[m.bond(edges[e]).begin])]++] = e;
-  }
+  std::copy(atom_start, atom_start + parts, next);
+  for (std::uint32_t a = 0; a < n; ++a)
+    if (part[a] >= 0) part_atoms[next[part[a]]++] = a;
+  std::copy(edge_start, edge_start + parts, next);
+  for (std::uint32_t e = 0; e < edge_count; ++e)
+    if (!bridge[e]) part_edges[next[part[m.bond(edges[e]).begin]]++] = e;
   // Bit of each edge within its part's bond sets.
-  std::vector<std::uint32_t> bit_of_edge(edges.size(), 0);
+  auto *const bit_of_edge = reinterpret_cast<std::uint32_t *>(carve(edge_count));
   for (std::size_t c = 0; c < parts; ++c)
     for (auto i = edge_start[c]; i < edge_start[c + 1]; ++i) bit_of_edge[part_edges[i]] = i - edge_start[c];
   // Candidates of one part in the order they are found, their atoms and bond
@@ -1119,11 +1127,13 @@ void SmartsTarget::perceive_rings() const {
   };
   std::vector<Cycle> candidates, kept;
   std::vector<std::uint32_t> atom_pool;
+  atom_pool.reserve(2 * n);
   std::vector<std::uint64_t> bit_pool;
-  std::vector<std::uint32_t> mark(n, 0);
+  auto *const mark = reinterpret_cast<std::uint32_t *>(carve(n));
+  std::fill(mark, mark + n, 0u);
   std::uint32_t stamp = 0;
-  std::vector<std::uint32_t> bfs;
-  bfs.reserve(n);
+  auto *const bfs = reinterpret_cast<std::uint32_t *>(carve(n));
+  std::size_t reached = 0;
   std::fill(dist, dist + n, -1);
   std::vector<std::uint64_t> basis;  // reduced rows, words each, one pivot bit each
   std::vector<std::size_t> pivots;
@@ -1143,9 +1153,9 @@ void SmartsTarget::perceive_rings() const {
       const auto r = part_atoms[ri];
       dist[r] = 0;
       parent_edge[r] = -1;
-      bfs.clear();
-      bfs.push_back(r);
-      for (std::size_t k = 0; k < bfs.size(); ++k) {
+      bfs[0] = r;
+      reached = 1;
+      for (std::size_t k = 0; k < reached; ++k) {
         const auto a = bfs[k];
         const auto *bid = m.bond_ids_begin(a);
         for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid) {
@@ -1154,7 +1164,7 @@ void SmartsTarget::perceive_rings() const {
           dist[*it] = dist[a] + 1;
           parent_edge[*it] = edge_of_bond[*bid];
           parent_atom[*it] = static_cast<int>(a);
-          bfs.push_back(*it);
+          bfs[reached++] = *it;
         }
       }
       for (auto ei = edge_start[c]; ei < edge_start[c + 1]; ++ei) {
@@ -1193,7 +1203,11 @@ void SmartsTarget::perceive_rings() const {
         for (w = y; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) set_bit(static_cast<std::size_t>(parent_edge[w]));
         candidates.push_back(Cycle{off, size, bits_off, r, e});
       }
-      for (auto a : bfs) dist[a] = -1;
+      for (std::size_t k = 0; k < reached; ++k) dist[bfs[k]] = -1;
+    }
+    if (rank == 1 && candidates.size() == 1) {
+      kept.push_back(candidates[0]);
+      continue;
     }
     std::stable_sort(candidates.begin(), candidates.end(), [](const Cycle &a, const Cycle &b) { return a.size < b.size; });
     auto bits_of = [&](const Cycle &cy) { return bit_pool.data() + cy.bits_off; };
