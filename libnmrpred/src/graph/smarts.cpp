@@ -851,6 +851,26 @@ SmartsPattern::SmartsPattern(std::string_view text) {
     for (const auto &nb : impl->adjacency[0]) impl->root_neighbours.push_back(nb);
   if (!impl->filters.empty() && !impl->filters[0].never)
     root_mask_ = impl->filters[0].mask, root_value_ = impl->filters[0].value;
+  // What root_neighbours_possible() asks of each neighbour, coarsened to its
+  // element (when demanded) and bond orders (when the bond asks for orders
+  // alone); a contradiction in its filter leaves no kind at all.
+  for (const auto &nb : impl->root_neighbours) {
+    const AtomFilter &f = impl->filters[nb.first];
+    const PatternBond &pb = impl->bonds[nb.second];
+    if (!pb.by_order || neighbour_demands_ == neighbour_kinds_.size()) continue;
+    std::uint64_t kinds = 0;
+    if (!f.never)
+      for (unsigned o = 1; o <= 4; ++o) {
+        if (!(pb.orders >> o & 1u)) continue;
+        const auto order = static_cast<BondOrder>(o);
+        if (f.atomic_number >= 0) {
+          kinds |= std::uint64_t{1} << SmartsTarget::kind_bit(static_cast<unsigned>(f.atomic_number), order);
+        } else {
+          for (unsigned z = 0; z < 128; ++z) kinds |= std::uint64_t{1} << SmartsTarget::kind_bit(z, order);
+        }
+      }
+    neighbour_kinds_[neighbour_demands_++] = kinds;
+  }
   impl_ = std::move(impl);
 }
 
@@ -866,12 +886,16 @@ const std::vector<std::uint32_t> &SmartsPattern::search_order(std::size_t root) 
 
 SmartsTarget::SmartsTarget(const Molecule &m)
     : m_(m), heavy_degree_(m.atom_count(), 0), facts_(m.atom_count()), packed_(m.atom_count(), 0),
-      element_count_(256, 0) {
-  for (const auto &b : m.bonds())
-    if (m.atom(b.begin).atomic_number != 1 && m.atom(b.end).atomic_number != 1) {
+      neighbour_kinds_(m.atom_count(), 0), element_count_(256, 0) {
+  for (const auto &b : m.bonds()) {
+    const auto zb = m.atom(b.begin).atomic_number, ze = m.atom(b.end).atomic_number;
+    if (zb != 1 && ze != 1) {
       ++heavy_degree_[b.begin];
       ++heavy_degree_[b.end];
+      neighbour_kinds_[b.begin] |= std::uint64_t{1} << kind_bit(ze, b.order);
+      neighbour_kinds_[b.end] |= std::uint64_t{1} << kind_bit(zb, b.order);
     }
+  }
   for (std::size_t a = 0; a < m.atom_count(); ++a) {
     const Atom &at = m.atoms()[a];
     AtomFacts &f = facts_[a];
@@ -887,6 +911,32 @@ SmartsTarget::SmartsTarget(const Molecule &m)
 }
 
 SmartsTarget::~SmartsTarget() = default;
+
+unsigned SmartsTarget::kind_bit(unsigned atomic_number, BondOrder order) {
+  // Sixteen element groups (the elements of organic molecules one each, the
+  // rest in one) by four bond orders.
+  unsigned group = 15;
+  switch (atomic_number) {
+    case 6: group = 0; break;
+    case 7: group = 1; break;
+    case 8: group = 2; break;
+    case 16: group = 3; break;
+    case 15: group = 4; break;
+    case 9: group = 5; break;
+    case 17: group = 6; break;
+    case 35: group = 7; break;
+    case 53: group = 8; break;
+    case 5: group = 9; break;
+    case 14: group = 10; break;
+    case 34: group = 11; break;
+    case 33: group = 12; break;
+    case 11: group = 13; break;
+    case 3: group = 14; break;
+    default: break;
+  }
+  const unsigned o = static_cast<unsigned>(order);
+  return group * 4 + (o >= 1 && o <= 4 ? o - 1 : 0);
+}
 
 std::uint64_t SmartsTarget::pack(const AtomFacts &f, std::uint8_t heavy_degree) {
   auto capped = [](std::uint32_t v) { return std::uint64_t{v < 255 ? v : 255}; };
