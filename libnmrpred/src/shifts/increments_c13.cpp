@@ -42,6 +42,7 @@
 #include <array>
 #include <charconv>
 #include <cmath>
+#include <cstring>
 #include <map>
 #include <memory>
 #include <optional>
@@ -257,10 +258,9 @@ namespace {
 
 // v with two decimals, as fmt's "{:.2f}" writes it: std::to_chars rounds the
 // exact binary value the same way and costs a fraction of the formatter (a
-// method text holds a dozen of these).
-std::string fixed_2(double v) {
-  if (!std::isfinite(v)) return fmt::format("{:.2f}", v);
-  char buf[32];
+// method text holds a dozen of these). Written into buf[32]; returns the end.
+char *fixed_2(char *buf, double v) {
+  if (!std::isfinite(v)) return fmt::format_to(buf, "{:.2f}", v);
   char *p = buf;
   // Even to_chars costs hundreds of instructions. y = |v| * 100 is within
   // |y| * 2^-53 (< 1e-6 below 2^31) of the exact product, so unless its
@@ -278,18 +278,27 @@ std::string fixed_2(double v) {
     *p++ = '.';
     *p++ = static_cast<char>('0' + cents % 100 / 10);
     *p++ = static_cast<char>('0' + cents % 10);
-    return std::string(buf, p);
+    return p;
   }
-  const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
-  return std::string(buf, r.ptr);
+  return std::to_chars(buf, buf + 32, v, std::chars_format::fixed, 2).ptr;
 }
 
 // A table value or sum as method texts print it: two decimals, one where the
 // second is 0 (table values carry one or two and are printed as written).
+// Appended in place: every method text holds a dozen.
+void append_ppm(std::string &s, double v) {
+  char buf[32];
+  char *end = fixed_2(buf, v);
+  if (end[-1] == '0') --end;
+  if (end - buf == 4 && std::memcmp(buf, "-0.0", 4) == 0) {
+    s += "0.0";
+    return;
+  }
+  s.append(buf, end);
+}
 std::string ppm_text(double v) {
-  auto s = fixed_2(v);
-  if (s.back() == '0') s.pop_back();
-  if (s == "-0.0") s = "0.0";
+  std::string s;
+  append_ppm(s, v);
   return s;
 }
 
@@ -613,10 +622,10 @@ class Sum {
       s += ' ';
       s += t.id;
       s += ' ';
-      s += ppm_text(t.ppm);
+      append_ppm(s, t.ppm);
     }
     s += " = ";
-    s += ppm_text(ppm());
+    append_ppm(s, ppm());
     if (unvalued_) s += fmt::format(" ({} delta position{} without a published value taken as 0)", unvalued_,
                                     unvalued_ == 1 ? "" : "s");
     if (!outside_.empty()) {
@@ -845,17 +854,18 @@ class C13Increments final : public ShiftSource {
   void find_hetero_matches(const SmartsTarget &t) const {
     if (!hetero_matches_.empty() || tab_.hetero.empty()) return;
     hetero_matches_.resize(tab_.hetero.size());
-    hetero_cover_.resize(tab_.hetero.size());
+    const std::size_t atoms = t.molecule().atom_count();
+    hetero_cover_.assign(tab_.hetero.size() * atoms, 0);
     for (std::size_t i = 0; i < tab_.hetero.size(); ++i) {
       hetero_matches_[i] = all_matches(tab_.hetero[i].ring, t);
-      hetero_cover_[i].assign(t.molecule().atom_count(), false);
       for (const auto &map : hetero_matches_[i])
-        for (auto a : map) hetero_cover_[i][a] = true;
+        for (auto a : map) hetero_cover_[i * atoms + a] = 1;
     }
   }
-  const std::vector<bool> &hetero_cover(const SmartsTarget &t, std::size_t ring) const {
+  // Does some mapping of parent ring `ring` contain atom k?
+  bool hetero_covers(const SmartsTarget &t, std::size_t ring, std::size_t k) const {
     find_hetero_matches(t);
-    return hetero_cover_[ring];
+    return hetero_cover_[ring * t.molecule().atom_count() + k] != 0;
   }
   const std::vector<std::vector<std::uint32_t>> &hetero_matches(const SmartsTarget &t, std::size_t ring) const {
     find_hetero_matches(t);
@@ -1052,7 +1062,7 @@ class C13Increments final : public ShiftSource {
     std::string last;  // why the last parent failed, when a reason is asked for
     for (std::size_t ri = 0; ri < tab_.hetero.size(); ++ri) {
       const auto &ring = tab_.hetero[ri];
-      if (!hetero_cover(t, ri)[k]) continue;  // no mapping contains k
+      if (!hetero_covers(t, ri, k)) continue;
       const std::size_t n = ring.ring.atom_count();
       // All mappings of the parent ring that contain k, grouped by atom set.
       std::map<std::vector<std::uint32_t>, std::vector<std::vector<std::uint32_t>>> by_set;
@@ -1792,7 +1802,7 @@ class C13Increments final : public ShiftSource {
   mutable const ShiftQuery *query_ = nullptr;
   mutable const SmartsTarget *target_ = nullptr;
   mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_matches_;  // per hetero ring
-  mutable std::vector<std::vector<bool>> hetero_cover_;                         // per hetero ring
+  mutable std::vector<std::uint8_t> hetero_cover_;  // per hetero ring and atom, see hetero_covers()
   mutable std::vector<std::unique_ptr<BenzeneRing>> benzene_rings_;  // per smallest ring, see benzene_ring()
   mutable std::vector<std::int32_t> sp3_chains_;  // see sp3_chains()
   mutable std::vector<std::int8_t> answered_;  // per atom: -1 not asked yet, 0 no answer, 1 in answers_
