@@ -801,8 +801,8 @@ class C13Increments final : public ShiftSource {
     if (doubles_other || triples_other) return fail(why, "multiple bond to a heteroatom without a class row");
     if (doubles_c == 1 && triples_c == 0) return ene(t, atom, partner, tab_.alkene, false, why);
     if (triples_c == 1 && doubles_c == 0) return ene(t, atom, partner, tab_.alkyne, true, why);
-    if (is_sp3_carbon(m, atom) && t.ring_count(atom) > 0) return ring_sp3(t, atom, why);
-    if (is_sp3_carbon(m, atom)) {
+    if (sp3(atom) && t.ring_count(atom) > 0) return ring_sp3(t, atom, why);
+    if (sp3(atom)) {
       // An internal carbon bearing Cl, Br or I: the additive scheme has one
       // alpha value per halogen, measured on terminal carbons, while the
       // parent scheme gives separate terminal and internal values
@@ -843,9 +843,16 @@ class C13Increments final : public ShiftSource {
       answered_.assign(t.molecule().heavy_atom_count(), -1);
       sp3_chains_.clear();
       answers_.assign(t.molecule().heavy_atom_count(), Shift{});
+      const Molecule &m = t.molecule();
+      sp3_.assign(m.atom_count(), 0);
+      for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) sp3_[a] = is_sp3_carbon(m, a) ? 1 : 0;
     }
     return t;
   }
+
+  // is_sp3_carbon() of an atom of the current molecule, asked of the same
+  // atoms again and again by every scheme: found once per molecule.
+  bool sp3(std::size_t a) const { return sp3_[a] != 0; }
 
   // Per parent ring of c13_heteroaromatic: every mapping of its pattern onto
   // the molecule, and the atoms they cover, from one search per molecule
@@ -1002,16 +1009,16 @@ class C13Increments final : public ShiftSource {
   // (6.8 -> 2.7 ppm off) and 9,10-dihydroanthracene (6.3 -> 3.2) leave the
   // >5 ppm tail, 18 other carbons move by under 1 ppm; 1-tetralone (ring
   // C=O, not saturated) keeps its rows.
-  static bool fused_six(const SmartsTarget &t, std::size_t ring_index, std::size_t x) {
+  bool fused_six(const SmartsTarget &t, std::size_t ring_index, std::size_t x) const {
     const Molecule &m = t.molecule();
-    if (!is_sp3_carbon(m, x)) return false;
+    if (!sp3(x)) return false;
     const auto &benzene = t.rings()[ring_index];
     for (const auto &o : t.rings()) {
       if (&o == &benzene || o.size() != 6 || std::find(o.begin(), o.end(), x) == o.end()) continue;
       bool fused = false, saturated = true;
       for (auto a : o) {
         fused = fused || std::find(benzene.begin(), benzene.end(), a) != benzene.end();
-        saturated = saturated && (m.atom(a).aromatic || is_sp3_carbon(m, a));
+        saturated = saturated && (m.atom(a).aromatic || sp3(a));
       }
       if (fused && saturated) return true;
     }
@@ -1151,7 +1158,7 @@ class C13Increments final : public ShiftSource {
             // ('*' of an N-substituted parent) belong to the parent: its
             // base values hold for N-alkyl (tables/FORMAT.md).
             if (m.atom(r).atomic_number != 6 || !m.atom(r).aromatic) {
-              if (!is_sp3_carbon(m, x) && m.atom(r).aromatic)
+              if (!sp3(x) && m.atom(r).aromatic)
                 s.outside("group other than alkyl on a ring heteroatom");
               return;
             }
@@ -1177,7 +1184,7 @@ class C13Increments final : public ShiftSource {
             // against 9.3). Measured on the NCI sample
             // (tests/python/test_c13_facts.py): hydroxy- and amino-pyrimidine
             // C4 came out at 174-184 ppm, 2-sec-alkylpyridine C2 at 169.
-            const bool methyl = is_sp3_carbon(m, x) && m.hydrogen_count(x) == 3;
+            const bool methyl = sp3(x) && m.hydrogen_count(x) == 3;
             // OH and SH on a ring with a ring nitrogen are mostly the
             // lactam/thione tautomer: benzene phenol rows do not apply.
             if ((m.atom(x).atomic_number == 8 || m.atom(x).atomic_number == 16) && m.hydrogen_count(x) == 1 &&
@@ -1238,7 +1245,7 @@ class C13Increments final : public ShiftSource {
         if (skeleton[x] || !problem.empty()) return;
         subs[static_cast<std::size_t>(side)].push_back(x);
         if (t.ring_count(x) > 0 && share_ring(t, c, x)) ring = true;
-        if (is_sp3_carbon(m, x)) {
+        if (sp3(x)) {
           // Alkyl chain: sp3 carbons by distance from the alkene carbon.
           std::vector<int> d(m.heavy_atom_count(), -1);
           d[x] = 1;
@@ -1256,7 +1263,7 @@ class C13Increments final : public ShiftSource {
             if (d[y] == max_pos) continue;
             for_heavy_neighbours(m, y, [&](std::size_t z, BondOrder) {
               if (skeleton[z] || d[z] >= 0 || !problem.empty()) return;
-              if (!is_sp3_carbon(m, z)) {
+              if (!sp3(z)) {
                 // The alkene and alkyne tables document alkyl chains only;
                 // a heteroatom or sp2 atom in the chain is counted like a
                 // carbon at its position (not covered by the tables).
@@ -1302,7 +1309,7 @@ class C13Increments final : public ShiftSource {
         // deshielded beyond the sum of the two monosubstituted increments.
         auto alkyls = [&](int side) {
           int c = 0;
-          for (auto x : subs[static_cast<std::size_t>(side)]) c += is_sp3_carbon(m, x);
+          for (auto x : subs[static_cast<std::size_t>(side)]) c += sp3(x);
           return c;
         };
         auto acceptor = [&](int side) {
@@ -1382,12 +1389,12 @@ class C13Increments final : public ShiftSource {
     std::int32_t chains = 0;
     std::vector<std::size_t> queue;
     for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) {
-      if (sp3_chains_[a] >= 0 || !is_sp3_carbon(m, a)) continue;
+      if (sp3_chains_[a] >= 0 || !sp3(a)) continue;
       sp3_chains_[a] = chains;
       queue.assign(1, a);
       for (std::size_t i = 0; i < queue.size(); ++i)
         for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
-          if (sp3_chains_[z] < 0 && is_sp3_carbon(m, z)) sp3_chains_[z] = chains, queue.push_back(z);
+          if (sp3_chains_[z] < 0 && sp3(z)) sp3_chains_[z] = chains, queue.push_back(z);
         });
       ++chains;
     }
@@ -1405,9 +1412,13 @@ class C13Increments final : public ShiftSource {
       if (dist.empty()) dist = heavy_distances(m, k, static_cast<int>(n));
       return dist[z];
     };
-    std::vector<bool> skeleton(m.atom_count(), false);  // walked sp3 carbons
-    std::vector<bool> taken(n, false);                  // walked, or part of a substituent
-    std::array<std::vector<std::size_t>, 6> bucket;
+    // Kept between carbons (sp3_scratch_): one allocation per molecule, not three per carbon.
+    auto &skeleton = sp3_scratch_.skeleton;  // walked sp3 carbons
+    auto &taken = sp3_scratch_.taken;        // walked, or part of a substituent
+    auto &bucket = sp3_scratch_.bucket;
+    skeleton.assign(m.atom_count(), false);
+    taken.assign(n, false);
+    for (auto &b : bucket) b.clear();
     // sp3 carbons connected to k through sp3 carbons are chain positions; a
     // group branch never swallows them (it would in a ring).
     const auto &chain_of = sp3_chains(t);
@@ -1429,12 +1440,18 @@ class C13Increments final : public ShiftSource {
       if (walk_d < 5) bucket[static_cast<std::size_t>(walk_d)].push_back(x);
     };
     for (int d = 0; d < 5 && problem.empty(); ++d) {
+      // The groups on k are known once its neighbours are walked, and with
+      // them whether a scope decision below passes the carbon on: when no
+      // reason is asked for, the rest of the walk would change nothing.
+      if (d == 1 && !why && (k_in_ring || hetero_on_k >= 2 || (groups_on_k >= 2 && hetero_on_k >= 1) ||
+                             (groups_on_k > 0 && polyhalo_neighbour(m, k))))
+        return std::nullopt;
       for (std::size_t bi = 0; bi < bucket[static_cast<std::size_t>(d)].size() && problem.empty(); ++bi) {
         const auto c = bucket[static_cast<std::size_t>(d)][bi];
         for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) {
           if (taken[x] || !problem.empty()) return;
           const int dx = d + 1;
-          if (is_sp3_carbon(m, x)) {
+          if (sp3(x)) {
             chain_carbon(x, dx, dx);
             return;
           }
@@ -1469,7 +1486,7 @@ class C13Increments final : public ShiftSource {
           for (auto a : atoms)
             for_heavy_neighbours(m, a, [&](std::size_t z, BondOrder) {
               if (taken[z] || !problem.empty()) return;
-              if (is_sp3_carbon(m, z)) {
+              if (sp3(z)) {
                 chain_carbon(z, distance(z), std::max(distance(z), dx));
               } else if (distance(z) >= 0 && distance(z) <= 4) {
                 problem = fmt::format("{} beyond the group {} is not an sp3 carbon", atom_label(m, z), row->id);
@@ -1483,7 +1500,7 @@ class C13Increments final : public ShiftSource {
     // count all non-H neighbours (tables/FORMAT.md, additive scheme).
     const auto cls_k = std::min<std::size_t>(t.heavy_degree(k), 4);
     for_heavy_neighbours(m, k, [&](std::size_t j, BondOrder) {
-      if (!is_sp3_carbon(m, j) || cls_k == 0) return;
+      if (!sp3(j) || cls_k == 0) return;
       const auto &st = tab_.gp_steric[cls_k][std::min<std::size_t>(t.heavy_degree(j), 4)];
       if (st.set && st.ppm != 0) s.add("steric", st.id, st.ppm);
     });
@@ -1549,7 +1566,7 @@ class C13Increments final : public ShiftSource {
     // Ring members that are not sp3 carbons.
     for (int i = 0; i < n; ++i) {
       const auto a = (*ring)[static_cast<std::size_t>(i)];
-      if (a == k || is_sp3_carbon(m, a)) continue;
+      if (a == k || sp3(a)) continue;
       const auto *row = sized(rt.members, [&](const RingRow &r) { return match_at(r.smarts, t, a) > 0; });
       if (!row) return fail(why, fmt::format("ring member {} has no row", atom_label(m, a)));
       if (row->group)
@@ -1647,7 +1664,7 @@ class C13Increments final : public ShiftSource {
   const RingRow *bridge_row(const SmartsTarget &t, const std::vector<std::uint32_t> &ring, std::size_t r,
                             std::size_t x) const {
     const Molecule &m = t.molecule();
-    if (!is_sp3_carbon(m, x) || t.ring_count(x) == 0) return nullptr;
+    if (!sp3(x) || t.ring_count(x) == 0) return nullptr;
     for (const auto &row : tab_.ring.bridges) {
       if (static_cast<std::size_t>(row.ring_size) != ring.size()) continue;
       for (const auto &o : t.rings()) {
@@ -1695,12 +1712,12 @@ class C13Increments final : public ShiftSource {
   }
 
   // k bears Cl, Br or I and is bonded to two or more sp3 carbons.
-  static bool internal_heavy_halide(const Molecule &m, std::size_t k) {
+  bool internal_heavy_halide(const Molecule &m, std::size_t k) const {
     int halogens = 0, carbons = 0;
     for_heavy_neighbours(m, k, [&](std::size_t x, BondOrder) {
       const auto z = m.atom(x).atomic_number;
       halogens += z == 17 || z == 35 || z == 53;
-      carbons += is_sp3_carbon(m, x);
+      carbons += sp3(x);
     });
     return halogens > 0 && carbons >= 2;
   }
@@ -1733,7 +1750,7 @@ class C13Increments final : public ShiftSource {
     parent[k] = true;
     for (std::size_t i = 0; i < order.size(); ++i)
       for_heavy_neighbours(m, order[i], [&](std::size_t z, BondOrder) {
-        if (d[z] < 0 && is_sp3_carbon(m, z)) d[z] = d[order[i]] + 1, parent[z] = true, order.push_back(z);
+        if (d[z] < 0 && sp3(z)) d[z] = d[order[i]] + 1, parent[z] = true, order.push_back(z);
       });
     auto carbon_neighbours = [&](std::size_t a) {
       std::size_t c = 0;
@@ -1805,6 +1822,13 @@ class C13Increments final : public ShiftSource {
   mutable std::vector<std::uint8_t> hetero_cover_;  // per hetero ring and atom, see hetero_covers()
   mutable std::vector<std::unique_ptr<BenzeneRing>> benzene_rings_;  // per smallest ring, see benzene_ring()
   mutable std::vector<std::int32_t> sp3_chains_;  // see sp3_chains()
+  mutable std::vector<std::uint8_t> sp3_;         // see sp3()
+  // Scratch of sp3_additive(), which never runs inside itself.
+  struct Sp3Scratch {
+    std::vector<bool> skeleton, taken;
+    std::array<std::vector<std::size_t>, 6> bucket;
+  };
+  mutable Sp3Scratch sp3_scratch_;
   mutable std::vector<std::int8_t> answered_;  // per atom: -1 not asked yet, 0 no answer, 1 in answers_
   mutable std::vector<Shift> answers_;
 };
