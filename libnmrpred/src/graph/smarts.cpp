@@ -814,7 +814,7 @@ class Search {
     const auto *bid = m.bond_ids_begin(from);
     // Hydrogens, never a candidate, come last in the sorted neighbour list.
     const auto heavy = m.heavy_atom_count();
-    for (auto it = m.neighbours_begin(from); it != m.neighbours_end(from) && *it < heavy; ++it, ++bid)
+    for (auto it = m.neighbours_begin(from), end = m.neighbours_end(from); it != end && *it < heavy; ++it, ++bid)
       if (try_atom(i, q, *it, *bid)) return true;
     return false;
   }
@@ -1079,7 +1079,7 @@ void SmartsTarget::perceive_rings() const {
     if (deg[a] <= 1) queue[queued++] = a, core[a] = 0;
   while (queued > 0) {
     const auto a = queue[--queued];
-    for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it)
+    for (auto it = m.neighbours_begin(a), end = m.neighbours_end(a); it != end; ++it)
       if (*it < n && core[*it] && --deg[*it] <= 1) core[*it] = 0, queue[queued++] = *it;
   }
   for (std::uint32_t b = 0; b < bond_count; ++b) {
@@ -1208,7 +1208,7 @@ void SmartsTarget::perceive_rings() const {
       for (std::size_t k = 0; k < reached; ++k) {
         const auto a = bfs[k];
         const auto *bid = m.bond_ids_begin(a);
-        for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid) {
+        for (auto it = m.neighbours_begin(a), end = m.neighbours_end(a); it != end; ++it, ++bid) {
           // Within the part, every bond is a core bond and no bridge.
           if (*it >= n || part[*it] != static_cast<std::int32_t>(c) || dist[*it] >= 0) continue;
           dist[*it] = dist[a] + 1;
