@@ -112,6 +112,9 @@ struct SmartsImpl {
   // anchor that passes its filter over a matching bond; most anchored
   // searches fail there, and the test costs less than setting one up.
   std::vector<std::pair<std::uint32_t, std::uint32_t>> root_neighbours;
+  // Per pattern atom: 1 when it lies on a cycle of the pattern, whose image
+  // is then a ring atom of the molecule.
+  std::vector<std::uint8_t> on_cycle;
 };
 
 namespace {
@@ -659,9 +662,11 @@ void compute_ring_system_needs(SmartsImpl &p) {
   };
   UnionFind system(static_cast<std::uint32_t>(n));
   std::vector<bool> in_ring(n, false);
+  p.on_cycle.assign(n, 0);
   for (std::uint32_t b = 0; b < p.bonds.size(); ++b)
     if (on_cycle(b)) {
       in_ring[p.bonds[b].a] = in_ring[p.bonds[b].b] = true;
+      p.on_cycle[p.bonds[b].a] = p.on_cycle[p.bonds[b].b] = 1;
       system.unite(p.bonds[b].a, p.bonds[b].b);
     }
   std::map<std::uint32_t, std::map<std::uint32_t, std::uint32_t>> counts;  // system root -> needs
@@ -774,6 +779,11 @@ class Search {
   bool candidate_ok(std::size_t i, std::uint32_t q, std::size_t a, std::int64_t tree_bond) const {
     if (t_.facts(a).atomic_number == 1 || excluded(a)) return false;
     if (!(i == 0 && root_checked_) && !passes(p_.filters[q], t_, a)) return false;
+    // Necessary conditions that prune a search before its deeper levels:
+    // every pattern neighbour takes a heavy neighbour of its own, and a
+    // cycle maps onto a cycle (asked only once the rings are known).
+    if (t_.heavy_degree(a) < p_.adjacency[q].size()) return false;
+    if (p_.on_cycle[q] && t_.rings_known() && t_.ring_count(a) == 0) return false;
     for (std::size_t j = 0; j < i; ++j)
       if (map_[order_[j]] == a) return false;
     const auto f = fixed(q);

@@ -92,6 +92,8 @@ class SmartsTarget {
   SmartsTarget &operator=(const SmartsTarget &) = delete;
   const Molecule &molecule() const noexcept { return m_; }
   std::size_t heavy_degree(std::size_t atom) const { return heavy_degree_[atom]; }
+  // Whether ring perception has run (the ring queries below run it once).
+  bool rings_known() const noexcept { return rings_done_; }
   // Number of smallest rings (smarts.hpp) that contain the atom / the bond.
   int ring_count(std::size_t atom) const;
   int bond_ring_count(std::size_t bond) const;
