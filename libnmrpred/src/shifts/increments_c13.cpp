@@ -176,6 +176,9 @@ struct HetRing {
   SmartsPattern ring;
   std::vector<HetBase> bases;
   std::vector<HetIncrement> increments;
+  // Per ring pattern atom, the increments whose subst_atom it is, in table
+  // order: a substituent tries only the rows of its ring atom.
+  std::vector<std::vector<std::uint32_t>> increments_at;
 };
 
 struct ClassRow {
@@ -285,21 +288,22 @@ char *fixed_2(char *buf, double v) {
 
 // A table value or sum as method texts print it: two decimals, one where the
 // second is 0 (table values carry one or two and are printed as written).
-// Appended in place: every method text holds a dozen.
-void append_ppm(std::string &s, double v) {
+// Written in place (at most 32 characters; returns the end): every method
+// text holds a dozen.
+char *put_ppm(char *out, double v) {
   char buf[32];
   char *end = fixed_2(buf, v);
   if (end[-1] == '0') --end;
   if (end - buf == 4 && std::memcmp(buf, "-0.0", 4) == 0) {
-    s += "0.0";
-    return;
+    std::memcpy(out, "0.0", 3);
+    return out + 3;
   }
-  s.append(buf, end);
+  std::memcpy(out, buf, static_cast<std::size_t>(end - buf));
+  return out + (end - buf);
 }
 std::string ppm_text(double v) {
-  std::string s;
-  append_ppm(s, v);
-  return s;
+  char buf[32];
+  return std::string(buf, put_ppm(buf, v));
 }
 
 // Row indices by pattern size, largest first, then in table order: the
@@ -472,6 +476,9 @@ void read_hetero(const Tables &tables, C13Tables &out) {
       inc.subst_atom = r.integer(row, c_subst, 0, n - 1);
       inc.smarts = r.smarts(row, c_smarts);
       inc.ppm = r.need_ppm(row, c_value);
+      if (it->increments_at.empty()) it->increments_at.resize(static_cast<std::size_t>(n));
+      it->increments_at[static_cast<std::size_t>(inc.subst_atom)].push_back(
+          static_cast<std::uint32_t>(it->increments.size()));
       it->increments.push_back(std::move(inc));
     } else {
       r.fail(row, fmt::format("unknown kind '{}'", kind));
@@ -607,25 +614,35 @@ class Sum {
   bool in_scope() const { return outside_.empty(); }
   std::string method() const {
     const std::string_view scheme = own_scheme_.empty() ? scheme_ : std::string_view(own_scheme_);
-    std::string s;
-    s.reserve(scheme.size() + base_label_.size() + 16 + 48 * terms_.size());
-    s += scheme;
-    s += ": ";
-    s += base_label_;
+    // The sum is written into a buffer of sufficient size, cut to length
+    // after: appending piece by piece cost more than the arithmetic.
+    constexpr std::size_t kNumber = 32;  // a count with " x ", or a ppm value
+    std::size_t bound = scheme.size() + 2 + base_label_.size() + 3 + kNumber;
+    for (const auto &t : terms_) bound += 3 + 2 * kNumber + t.role.size() + 1 + t.id.size() + 1;
+    std::string s(bound, '\0');
+    char *p = s.data();
+    auto put = [&](std::string_view text) {
+      std::memcpy(p, text.data(), text.size());
+      p += text.size();
+    };
+    put(scheme);
+    put(": ");
+    put(base_label_);
     for (const auto &t : terms_) {
-      s += " + ";
+      put(" + ");
       if (t.count > 1) {
-        s += std::to_string(t.count);
-        s += " x ";
+        p = std::to_chars(p, p + kNumber, t.count).ptr;
+        put(" x ");
       }
-      s += t.role;
-      s += ' ';
-      s += t.id;
-      s += ' ';
-      append_ppm(s, t.ppm);
+      put(t.role);
+      put(" ");
+      put(t.id);
+      put(" ");
+      p = put_ppm(p, t.ppm);
     }
-    s += " = ";
-    append_ppm(s, ppm());
+    put(" = ");
+    p = put_ppm(p, ppm());
+    s.resize(static_cast<std::size_t>(p - s.data()));
     if (unvalued_) s += fmt::format(" ({} delta position{} without a published value taken as 0)", unvalued_,
                                     unvalued_ == 1 ? "" : "s");
     if (!outside_.empty()) {
@@ -1142,12 +1159,15 @@ class C13Increments final : public ShiftSource {
             const HetIncrement *used = nullptr;
             for (const auto &map : maps) {
               const int pr = index_of(map, r), pk = index_of(map, k);
-              for (const auto &inc : ring.increments)
-                if (inc.subst_atom == pr && std::find(inc.atoms.begin(), inc.atoms.end(), pk) != inc.atoms.end() &&
+              if (static_cast<std::size_t>(pr) >= ring.increments_at.size()) continue;
+              for (const auto i : ring.increments_at[static_cast<std::size_t>(pr)]) {
+                const auto &inc = ring.increments[i];
+                if (std::find(inc.atoms.begin(), inc.atoms.end(), pk) != inc.atoms.end() &&
                     match_at(inc.smarts, t, x, skeleton)) {
                   used = &inc;
                   break;
                 }
+              }
               if (used) break;
             }
             if (used) {
