@@ -58,6 +58,11 @@ struct PatternBond {
 // Depth-first order of the pattern atoms from one root (see search_order).
 struct SearchOrder {
   std::vector<std::uint32_t> order, parent, rank;
+  // Per pattern atom: the pattern bond to its parent, and the bonds to the
+  // other atoms placed before it (ring closures), closures[closure_start[q]
+  // .. closure_start[q + 1]) as (pattern atom, pattern bond).
+  std::vector<std::uint32_t> parent_bond, closure_start;
+  std::vector<std::pair<std::uint32_t, std::uint32_t>> closures;
 };
 
 // Properties a pattern atom's expression demands through '&' and ';' alone
@@ -764,7 +769,7 @@ class Search {
     const std::size_t n = p_.atom_expr.size();
     if (n == 0) return false;
     const SearchOrder &o = p_.orders[root_];
-    order_ = o.order.data(), parent_ = o.parent.data(), rank_ = o.rank.data();
+    order_ = &o;
     map_.assign(n, 0);
     step(0);
     return found_;
@@ -776,22 +781,24 @@ class Search {
 
   // Pattern atom q at search depth i onto molecule atom a, reached through
   // molecule bond `tree_bond` from the image of q's parent (-1 at the root).
+  // The tests are a conjunction; the cheapest and most selective come first.
   bool candidate_ok(std::size_t i, std::uint32_t q, std::size_t a, std::int64_t tree_bond) const {
-    if (t_.facts(a).atomic_number == 1 || excluded(a)) return false;
     if (!(i == 0 && root_checked_) && !passes(p_.filters[q], t_, a)) return false;
+    if (t_.facts(a).atomic_number == 1 || excluded(a)) return false;
     // Necessary conditions that prune a search before its deeper levels:
     // every pattern neighbour takes a heavy neighbour of its own, and a
     // cycle maps onto a cycle (asked only once the rings are known).
     if (t_.heavy_degree(a) < p_.adjacency[q].size()) return false;
     if (p_.on_cycle[q] && t_.rings_known() && t_.ring_count(a) == 0) return false;
     for (std::size_t j = 0; j < i; ++j)
-      if (map_[order_[j]] == a) return false;
+      if (map_[order_->order[j]] == a) return false;
     const auto f = fixed(q);
     if (f >= 0 && static_cast<std::size_t>(f) != a) return false;
     // Bonds to every placed neighbour (tree bond and ring closures) must exist and match.
-    for (const auto &nb : p_.adjacency[q]) {
-      if (rank_[nb.first] >= i) continue;
-      const auto b = tree_bond >= 0 && nb.first == parent_[q] ? tree_bond : t_.molecule().bond_between(a, map_[nb.first]);
+    if (i > 0 && !bond_ok(p_, p_.bonds[order_->parent_bond[q]], t_, tree_bond)) return false;
+    for (auto c = order_->closure_start[q]; c < order_->closure_start[q + 1]; ++c) {
+      const auto &nb = order_->closures[c];
+      const auto b = t_.molecule().bond_between(a, map_[nb.first]);
       if (b < 0 || !bond_ok(p_, p_.bonds[nb.second], t_, b)) return false;
     }
     if ((i == 0 && root_checked_) || p_.filters[q].exact) return true;
@@ -810,7 +817,7 @@ class Search {
       found_ = true;
       return visit_ && *visit_ ? (*visit_)(map_) : true;
     }
-    const auto q = order_[i];
+    const auto q = order_->order[i];
     const Molecule &m = t_.molecule();
     if (i == 0) {
       if (root_atom_ >= 0)
@@ -820,7 +827,7 @@ class Search {
         if (try_atom(0, q, a, -1)) return true;
       return false;
     }
-    const auto from = map_[parent_[q]];
+    const auto from = map_[order_->parent[q]];
     const auto *bid = m.bond_ids_begin(from);
     // Hydrogens, never a candidate, come last in the sorted neighbour list.
     const auto heavy = m.heavy_atom_count();
@@ -837,7 +844,7 @@ class Search {
   const std::vector<std::int64_t> *fixed_;
   const std::vector<bool> &excluded_;
   const Visit *visit_;
-  const std::uint32_t *order_ = nullptr, *parent_ = nullptr, *rank_ = nullptr;
+  const SearchOrder *order_ = nullptr;
   std::vector<std::uint32_t> map_;
   bool found_ = false;
 };
@@ -853,6 +860,18 @@ SmartsPattern::SmartsPattern(std::string_view text) {
     auto &o = impl->orders[root];
     if (!make_search_order(*impl, root, o.order, o.parent, o.rank))
       throw InternalError(fmt::format("SMARTS '{}': disconnected pattern", impl->text));
+    const std::size_t n = impl->atom_expr.size();
+    o.parent_bond.assign(n, 0);
+    o.closure_start.assign(n + 1, 0);
+    for (std::uint32_t q = 0; q < n; ++q) {
+      o.closure_start[q] = static_cast<std::uint32_t>(o.closures.size());
+      for (const auto &nb : impl->adjacency[q]) {
+        if (o.rank[nb.first] >= o.rank[q]) continue;
+        if (q != root && nb.first == o.parent[q]) o.parent_bond[q] = nb.second;
+        else o.closures.push_back(nb);
+      }
+    }
+    o.closure_start[n] = static_cast<std::uint32_t>(o.closures.size());
   }
   compute_filters(*impl);
   compute_ring_system_needs(*impl);
@@ -993,22 +1012,6 @@ std::vector<std::uint32_t> SmartsTarget::take_buffer() const {
 
 void SmartsTarget::return_buffer(std::vector<std::uint32_t> &&buffer) const { buffers_.push_back(std::move(buffer)); }
 
-int SmartsTarget::ring_count(std::size_t atom) const {
-  perceive_rings();
-  return atom_rings_[atom];
-}
-int SmartsTarget::bond_ring_count(std::size_t bond) const {
-  perceive_rings();
-  return bond_rings_[bond];
-}
-int SmartsTarget::smallest_ring(std::size_t atom) const {
-  perceive_rings();
-  return atom_smallest_[atom];
-}
-const std::vector<std::vector<std::uint32_t>> &SmartsTarget::rings() const {
-  perceive_rings();
-  return rings_;
-}
 
 std::size_t SmartsTarget::ring_system_count() const {
   perceive_ring_systems();

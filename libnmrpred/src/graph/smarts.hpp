@@ -95,12 +95,25 @@ class SmartsTarget {
   // Whether ring perception has run (the ring queries below run it once).
   bool rings_known() const noexcept { return rings_done_; }
   // Number of smallest rings (smarts.hpp) that contain the atom / the bond.
-  int ring_count(std::size_t atom) const;
-  int bond_ring_count(std::size_t bond) const;
+  // Asked for every candidate of many searches: inline, perceiving once.
+  int ring_count(std::size_t atom) const {
+    if (!rings_done_) perceive_rings();
+    return atom_rings_[atom];
+  }
+  int bond_ring_count(std::size_t bond) const {
+    if (!rings_done_) perceive_rings();
+    return bond_rings_[bond];
+  }
   // Size of the smallest ring that contains the atom, 0 if none.
-  int smallest_ring(std::size_t atom) const;
+  int smallest_ring(std::size_t atom) const {
+    if (!rings_done_) perceive_rings();
+    return atom_smallest_[atom];
+  }
   // The smallest rings as atom lists in ring order, smallest first.
-  const std::vector<std::vector<std::uint32_t>> &rings() const;
+  const std::vector<std::vector<std::uint32_t>> &rings() const {
+    if (!rings_done_) perceive_rings();
+    return rings_;
+  }
 
   // The atom properties patterns test, copied out of the molecule.
   struct AtomFacts {
