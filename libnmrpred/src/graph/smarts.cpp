@@ -918,6 +918,9 @@ SmartsTarget::SmartsTarget(const Molecule &m)
       neighbour_kinds_(m.atom_count(), 0), element_count_(256, 0) {
   for (const auto &b : m.bonds()) {
     const auto zb = m.atom(b.begin).atomic_number, ze = m.atom(b.end).atomic_number;
+    // Molecule::hydrogen_count(), for all atoms in one pass.
+    if (zb == 1) ++facts_[b.end].hydrogens;
+    if (ze == 1) ++facts_[b.begin].hydrogens;
     if (zb != 1 && ze != 1) {
       ++heavy_degree_[b.begin];
       ++heavy_degree_[b.end];
@@ -933,7 +936,6 @@ SmartsTarget::SmartsTarget(const Molecule &m)
     f.formal_charge = at.formal_charge;
     f.isotope = at.isotope;
     f.degree = static_cast<std::uint32_t>(m.degree(a));
-    f.hydrogens = static_cast<std::uint32_t>(m.hydrogen_count(a));
     packed_[a] = pack(f, heavy_degree_[a]);
     if (at.atomic_number != 1 && at.atomic_number < 128) ++element_count_[at.atomic_number * 2u + (at.aromatic ? 1u : 0u)];
   }

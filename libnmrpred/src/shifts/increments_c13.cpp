@@ -673,6 +673,15 @@ class Sum {
   std::vector<std::string_view> outside_;
 };
 
+// Why a scheme passes a carbon on, spelt out only when a reason is asked for
+// (why not null); otherwise a mark that it does. Most carbons a scheme
+// passes on are tried by the next scheme at once, and formatting the
+// reason cost more than finding it.
+template <class Text>
+std::string reason(const std::string *why, Text text) {
+  return why ? text() : std::string(1, '-');
+}
+
 // ---------------------------------------------------------------------------
 // Graph helpers
 
@@ -1274,7 +1283,7 @@ class C13Increments final : public ShiftSource {
             const auto y = queue[i];
             const auto &row = tab.alkyl[static_cast<std::size_t>(d[y])];
             if (!row) {
-              problem = fmt::format("no alkyl row for position {}", d[y]);
+              problem = reason(why, [&] { return fmt::format("no alkyl row for position {}", d[y]); });
               break;
             }
             const Opt v = side == 0 ? row->ipso : row->partner;
@@ -1305,12 +1314,12 @@ class C13Increments final : public ShiftSource {
         const auto *row =
             find_row(tab.substituents, tab.substituent_order, t, x, skeleton, [](const EneRow &) { return true; });
         if (!row) {
-          problem = fmt::format("{} substituent at {} has no row", what, atom_label(m, x));
+          problem = reason(why, [&] { return fmt::format("{} substituent at {} has no row", what, atom_label(m, x)); });
           return;
         }
         const Opt v = side == 0 ? row->ipso : row->partner;
         if (!v) {
-          problem = fmt::format("row {} gives no {} value", row->id, role);
+          problem = reason(why, [&] { return fmt::format("row {} gives no {} value", row->id, role); });
           return;
         }
         s.add(role, row->id, *v);
@@ -1479,12 +1488,12 @@ class C13Increments final : public ShiftSource {
           const auto *row =
               find_row(tab_.sp3, tab_.sp3_order, t, x, skeleton, [](const Sp3Row &r) { return r.additive; });
           if (!row) {
-            problem = fmt::format("no additive row for the substituent at {}", atom_label(m, x));
+            problem = reason(why, [&] { return fmt::format("no additive row for the substituent at {}", atom_label(m, x)); });
             return;
           }
           const Opt v = dx == 1 ? row->alpha_n : dx == 2 ? row->beta_n : dx == 3 ? row->gamma : row->delta;
           if (!v) {
-            problem = fmt::format("row {} gives no {} value", row->id, kPositionName[dx]);
+            problem = reason(why, [&] { return fmt::format("row {} gives no {} value", row->id, kPositionName[dx]); });
             return;
           }
           s.add(kPositionName[dx], row->id, *v);
@@ -1509,7 +1518,7 @@ class C13Increments final : public ShiftSource {
               if (sp3(z)) {
                 chain_carbon(z, distance(z), std::max(distance(z), dx));
               } else if (distance(z) >= 0 && distance(z) <= 4) {
-                problem = fmt::format("{} beyond the group {} is not an sp3 carbon", atom_label(m, z), row->id);
+                problem = reason(why, [&] { return fmt::format("{} beyond the group {} is not an sp3 carbon", atom_label(m, z), row->id); });
               }
             });
         });
@@ -1644,7 +1653,7 @@ class C13Increments final : public ShiftSource {
                    : find_row(rt.substituents, rt.substituent_order, t, x, skeleton,
                               [](const RingRow &) { return true; });
         if (!row) {
-          if (d <= 2) problem = fmt::format("ring substituent at {} has no row", atom_label(m, x));
+          if (d <= 2) problem = reason(why, [&] { return fmt::format("ring substituent at {} has no row", atom_label(m, x)); });
           else s.unvalued();
           return;
         }
@@ -1803,7 +1812,7 @@ class C13Increments final : public ShiftSource {
         if (parent[x] || !problem.empty()) return;
         const auto *row = find_row(tab_.sp3, tab_.sp3_order, t, x, parent, [](const Sp3Row &r) { return !r.additive; });
         if (!row) {
-          if (pos <= 3) problem = fmt::format("no parent row for the substituent at {}", atom_label(m, x));
+          if (pos <= 3) problem = reason(why, [&] { return fmt::format("no parent row for the substituent at {}", atom_label(m, x)); });
           else s.unvalued();
           return;
         }
@@ -1815,7 +1824,7 @@ class C13Increments final : public ShiftSource {
         else if (pos == 3) v = row->gamma;
         else v = row->delta;
         if (!v) {
-          if (pos <= 3) problem = fmt::format("row {} gives no {} value", row->id, kPositionName[pos]);
+          if (pos <= 3) problem = reason(why, [&] { return fmt::format("row {} gives no {} value", row->id, kPositionName[pos]); });
           else s.unvalued();
           return;
         }
