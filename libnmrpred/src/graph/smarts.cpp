@@ -1438,7 +1438,8 @@ std::vector<std::vector<std::uint32_t>> all_matches(const SmartsPattern &p, cons
   const auto &impl = p.impl();
   if (!feasible(impl, t) || !rings_feasible(impl, t)) return out;
   // Every root finds every mapping; the one with the rarest element tries
-  // the fewest starting atoms.
+  // the fewest starting atoms, and of those the one with the most pattern
+  // neighbours turns most of them down at once (too few heavy neighbours).
   std::uint32_t root = 0;
   std::size_t fewest = t.molecule().heavy_atom_count() + 1;
   for (std::uint32_t q = 0; q < impl.filters.size(); ++q) {
@@ -1450,7 +1451,8 @@ std::vector<std::vector<std::uint32_t>> all_matches(const SmartsPattern &p, cons
       candidates = f.aromatic < 0 ? t.element_count(z, false) + t.element_count(z, true)
                                   : t.element_count(z, f.aromatic != 0);
     }
-    if (candidates < fewest) fewest = candidates, root = q;
+    if (candidates < fewest || (candidates == fewest && impl.adjacency[q].size() > impl.adjacency[root].size()))
+      fewest = candidates, root = q;
   }
   const Visit keep = [&](const std::vector<std::uint32_t> &map) {
     out.push_back(map);
