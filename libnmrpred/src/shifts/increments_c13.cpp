@@ -685,10 +685,13 @@ std::string reason(const std::string *why, Text text) {
 // ---------------------------------------------------------------------------
 // Graph helpers
 
-std::vector<int> heavy_distances(const Molecule &m, std::size_t from, int max_d) {
-  std::vector<int> d(m.heavy_atom_count(), -1);
+// Bond distances from `from` over heavy atoms up to max_d, -1 beyond, into d;
+// `queue` is scratch.
+void heavy_distances(const Molecule &m, std::size_t from, int max_d, std::vector<int> &d,
+                     std::vector<std::size_t> &queue) {
+  d.assign(m.heavy_atom_count(), -1);
   d[from] = 0;
-  std::vector<std::size_t> queue{from};
+  queue.assign(1, from);
   for (std::size_t i = 0; i < queue.size(); ++i) {
     const auto a = queue[i];
     if (d[a] >= max_d) continue;
@@ -696,7 +699,6 @@ std::vector<int> heavy_distances(const Molecule &m, std::size_t from, int max_d)
       if (d[b] < 0) d[b] = d[a] + 1, queue.push_back(b);
     });
   }
-  return d;
 }
 
 // Is ring atom a bonded to a heteroatom of the same skeleton?
@@ -1436,9 +1438,10 @@ class C13Increments final : public ShiftSource {
     if (!tab_.gp_base.set) return fail(why, "no Grant-Paul parameters");
     const std::size_t n = m.heavy_atom_count();
     // Bond distances from k, needed for chain groups only.
-    std::vector<int> dist;
+    auto &dist = sp3_scratch_.dist;
+    bool dist_known = false;
     auto distance = [&](std::size_t z) {
-      if (dist.empty()) dist = heavy_distances(m, k, static_cast<int>(n));
+      if (!dist_known) heavy_distances(m, k, static_cast<int>(n), dist, sp3_scratch_.queue), dist_known = true;
       return dist[z];
     };
     // Kept between carbons (sp3_scratch_): one allocation per molecule, not three per carbon.
@@ -1500,7 +1503,8 @@ class C13Increments final : public ShiftSource {
           if (dx == 1) ++groups_on_k, hetero_on_k += m.atom(x).atomic_number != 6;
           if (!row->chain) {
             // Everything beyond the substituent atom belongs to it.
-            std::vector<std::size_t> queue{x};
+            auto &queue = sp3_scratch_.queue;
+            queue.assign(1, x);
             taken[x] = true;
             for (std::size_t i = 0; i < queue.size(); ++i)
               for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
@@ -1856,6 +1860,8 @@ class C13Increments final : public ShiftSource {
   struct Sp3Scratch {
     std::vector<bool> skeleton, taken;
     std::array<std::vector<std::size_t>, 6> bucket;
+    std::vector<int> dist;
+    std::vector<std::size_t> queue;
   };
   mutable Sp3Scratch sp3_scratch_;
   mutable std::vector<std::int8_t> answered_;  // per atom: -1 not asked yet, 0 no answer, 1 in answers_
