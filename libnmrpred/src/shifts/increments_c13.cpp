@@ -1099,8 +1099,14 @@ class C13Increments final : public ShiftSource {
       const auto &ring = tab_.hetero[ri];
       if (!hetero_covers(t, ri, k)) continue;
       const std::size_t n = ring.ring.atom_count();
-      // All mappings of the parent ring that contain k, grouped by atom set.
-      std::map<std::vector<std::uint32_t>, std::vector<std::vector<std::uint32_t>>> by_set;
+      // All mappings of the parent ring that contain k, grouped by atom set,
+      // the sets in ascending order (a carbon lies in one or two). The
+      // mappings stay in the molecule's list.
+      struct Group {
+        std::vector<std::uint32_t> set;
+        std::vector<const std::vector<std::uint32_t> *> maps;
+      };
+      std::vector<Group> by_set;
       // The mappings with pattern atom p on k, in the order a search
       // anchored there visits them (SmartsPattern::search_order), taken
       // from the molecule's mappings found once.
@@ -1117,23 +1123,27 @@ class C13Increments final : public ShiftSource {
           return false;
         });
         for (const auto *mp : anchored) {
-          const auto &map = *mp;
-          auto set = map;
+          auto set = *mp;
           std::sort(set.begin(), set.end());
-          auto &maps = by_set[set];
-          if (std::find(maps.begin(), maps.end(), map) == maps.end()) maps.push_back(map);
+          auto group = std::find_if(by_set.begin(), by_set.end(), [&](const Group &g) { return g.set == set; });
+          if (group == by_set.end()) group = by_set.insert(by_set.end(), Group{std::move(set), {}});
+          auto &maps = group->maps;
+          if (std::none_of(maps.begin(), maps.end(), [&](const auto *x) { return *x == *mp; })) maps.push_back(mp);
         }
       }
-      for (const auto &entry : by_set) {
-        const auto &maps = entry.second;
-        std::vector<bool> skeleton(m.atom_count(), false);
-        for (auto a : entry.first) skeleton[a] = true;
+      std::sort(by_set.begin(), by_set.end(), [](const Group &a, const Group &b) { return a.set < b.set; });
+      for (const auto &group : by_set) {
+        const auto &set = group.set;
+        const auto &maps = group.maps;
+        auto &skeleton = hetero_skeleton_;  // kept between carbons
+        skeleton.assign(m.atom_count(), false);
+        for (auto a : set) skeleton[a] = true;
         auto index_of = [&](const std::vector<std::uint32_t> &map, std::size_t a) {
           return static_cast<int>(std::find(map.begin(), map.end(), a) - map.begin());
         };
         const HetBase *base = nullptr;
         for (const auto &b : ring.bases)
-          if (std::find(b.atoms.begin(), b.atoms.end(), index_of(maps[0], k)) != b.atoms.end()) base = &b;
+          if (std::find(b.atoms.begin(), b.atoms.end(), index_of(*maps[0], k)) != b.atoms.end()) base = &b;
         if (!base) {
           if (why) last = fmt::format("{} gives no base value for this position", ring.name);
           continue;
@@ -1142,9 +1152,10 @@ class C13Increments final : public ShiftSource {
         // the ring relation (ipso, ortho, meta, para) of carried-over
         // benzene increments.
         // -2 marks atoms outside the parent, -1 parent atoms not reached yet.
-        std::vector<int> ring_dist(m.atom_count(), -2);
+        auto &ring_dist = hetero_ring_dist_;  // kept between carbons
+        ring_dist.assign(m.atom_count(), -2);
         {
-          for (auto a : entry.first) ring_dist[a] = -1;
+          for (auto a : set) ring_dist[a] = -1;
           ring_dist[k] = 0;
           std::vector<std::size_t> queue{k};
           for (std::size_t i = 0; i < queue.size(); ++i)
@@ -1153,11 +1164,11 @@ class C13Increments final : public ShiftSource {
             });
         }
         bool ring_has_nitrogen = false;
-        for (auto a : entry.first) ring_has_nitrogen = ring_has_nitrogen || m.atom(a).atomic_number == 7;
+        for (auto a : set) ring_has_nitrogen = ring_has_nitrogen || m.atom(a).atomic_number == 7;
         Sum s(ring.scheme, kHeteroSpread);
         s.base(base->label, base->ppm);
         bool ok = true;
-        for (auto r : entry.first) {
+        for (auto r : set) {
           if (m.atom(r).formal_charge != 0) {
             ok = false;
             if (why) last = "charged ring atom (protonated ring or N-oxide)";
@@ -1168,8 +1179,8 @@ class C13Increments final : public ShiftSource {
             // Of the mappings (mirror images), use one that puts the carrier
             // on the row's subst_atom (tables/FORMAT.md).
             const HetIncrement *used = nullptr;
-            for (const auto &map : maps) {
-              const int pr = index_of(map, r), pk = index_of(map, k);
+            for (const auto *mp : maps) {
+              const int pr = index_of(*mp, r), pk = index_of(*mp, k);
               if (static_cast<std::size_t>(pr) >= ring.increments_at.size()) continue;
               for (const auto i : ring.increments_at[static_cast<std::size_t>(pr)]) {
                 const auto &inc = ring.increments[i];
@@ -1856,6 +1867,9 @@ class C13Increments final : public ShiftSource {
   mutable std::vector<std::unique_ptr<BenzeneRing>> benzene_rings_;  // per smallest ring, see benzene_ring()
   mutable std::vector<std::int32_t> sp3_chains_;  // see sp3_chains()
   mutable std::vector<std::uint8_t> sp3_;         // see sp3()
+  // Scratch of hetero(), which never runs inside itself.
+  mutable std::vector<bool> hetero_skeleton_;
+  mutable std::vector<int> hetero_ring_dist_;
   // Scratch of sp3_additive(), which never runs inside itself.
   struct Sp3Scratch {
     std::vector<bool> skeleton, taken;
