@@ -186,6 +186,11 @@ class SmartsTarget {
 // pattern atoms matched (p.atom_count()), or 0 when there is no match.
 std::size_t match_at_unscreened(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom,
                                 const std::vector<bool> &excluded);
+// The screens are inline at every call site (rule tables call this for
+// every row on every atom, and most calls end in them).
+#if defined(__GNUC__)
+[[gnu::always_inline]]
+#endif
 inline std::size_t match_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom,
                             const std::vector<bool> &excluded = {}) {
   if (atom >= t.atom_count() || !p.root_may_match(t.packed(atom)) || !p.neighbours_may_match(t.neighbour_kinds(atom)))

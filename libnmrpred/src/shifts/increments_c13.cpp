@@ -1707,7 +1707,6 @@ class C13Increments final : public ShiftSource {
   // rings of the row's size bridged by one of that size take them.
   const RingRow *bridge_row(const SmartsTarget &t, const std::vector<std::uint32_t> &ring, std::size_t r,
                             std::size_t x) const {
-    const Molecule &m = t.molecule();
     if (!sp3(x) || t.ring_count(x) == 0) return nullptr;
     for (const auto &row : tab_.ring.bridges) {
       if (static_cast<std::size_t>(row.ring_size) != ring.size()) continue;
