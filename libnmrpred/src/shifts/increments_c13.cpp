@@ -233,6 +233,9 @@ struct C13Tables {
   std::string benzene_base_label;  // as method texts print it
   std::vector<BenzeneRow> benzene;
   std::vector<std::uint32_t> benzene_order;  // largest_first(benzene)
+  // The row fused_six() carbons take (the last with id benzene-ch3), -1
+  // for none: they keep their own. Found here, not per prediction.
+  std::int32_t benzene_methyl_row = -1;
   std::vector<HetRing> hetero;  // largest ring pattern first
   std::vector<ClassRow> classes;
   std::vector<std::uint32_t> class_order;  // largest_first(classes)
@@ -758,9 +761,7 @@ class C13Increments final : public ShiftSource {
       : parsed_(std::move(parsed)), tab_(parsed_->tables) {
     for (const auto &row : tab_.solvent)
       if (row.solvent == solvent) solvent_rows_.push_back(&row);
-    // The row fused_six() carbons take; without it they keep their own.
-    for (const auto &row : tab_.benzene)
-      if (row.id == "benzene-ch3") methyl_row_ = &row;
+    if (tab_.benzene_methyl_row >= 0) methyl_row_ = &tab_.benzene[static_cast<std::size_t>(tab_.benzene_methyl_row)];
   }
 
   bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
@@ -870,7 +871,9 @@ class C13Increments final : public ShiftSource {
       benzene_rings_.clear();
       answered_.assign(t.molecule().heavy_atom_count(), -1);
       sp3_chains_.clear();
-      answers_.assign(t.molecule().heavy_atom_count(), Shift{});
+      // Only answers marked in answered_ are read, and estimate_anew() sets
+      // every field estimate() reads: the old ones need no reset.
+      if (answers_.size() < t.molecule().heavy_atom_count()) answers_.resize(t.molecule().heavy_atom_count());
       const Molecule &m = t.molecule();
       sp3_.assign(m.atom_count(), 0);
       for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) sp3_[a] = is_sp3_carbon(m, a) ? 1 : 0;
@@ -1900,6 +1903,8 @@ std::shared_ptr<const C13IncrementTables> parse_c13_increment_tables(const Table
   t.alkene.substituent_order = largest_first(t.alkene.substituents);
   t.alkyne.substituent_order = largest_first(t.alkyne.substituents);
   t.benzene_order = largest_first(t.benzene);
+  for (std::size_t i = 0; i < t.benzene.size(); ++i)
+    if (t.benzene[i].id == "benzene-ch3") t.benzene_methyl_row = static_cast<std::int32_t>(i);
   t.class_order = largest_first(t.classes);
   for (std::uint32_t aromatic = 0; aromatic < 2; ++aromatic)
     for (std::uint32_t h = 0; h <= 4; ++h)
