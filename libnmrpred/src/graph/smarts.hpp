@@ -133,7 +133,8 @@ class SmartsTarget {
   // The kinds of the atom's heavy neighbours: bit kind_bit(element, order)
   // set for each neighbour of that element over a bond of that order.
   std::uint64_t neighbour_kinds(std::size_t atom) const { return neighbour_kinds_[atom]; }
-  // Elements share bits beyond the common ones (smarts.cpp).
+  // Sixteen element groups by four bond orders; the elements of organic
+  // molecules have a group each, the rest share one (smarts.cpp).
   static unsigned kind_bit(unsigned atomic_number, BondOrder order);
   std::size_t atom_count() const noexcept { return packed_.size(); }
   // Heavy atoms with this atomic number (0..127) and aromatic flag.
