@@ -58,6 +58,11 @@ struct PatternBond {
 // Depth-first order of the pattern atoms from one root (see search_order).
 struct SearchOrder {
   std::vector<std::uint32_t> order, parent, rank;
+  // Per pattern atom: the pattern bond to its parent, and the bonds to the
+  // other atoms placed before it (ring closures), closures[closure_start[q]
+  // .. closure_start[q + 1]) as (pattern atom, pattern bond).
+  std::vector<std::uint32_t> parent_bond, closure_start;
+  std::vector<std::pair<std::uint32_t, std::uint32_t>> closures;
 };
 
 // Properties a pattern atom's expression demands through '&' and ';' alone
@@ -112,6 +117,9 @@ struct SmartsImpl {
   // anchor that passes its filter over a matching bond; most anchored
   // searches fail there, and the test costs less than setting one up.
   std::vector<std::pair<std::uint32_t, std::uint32_t>> root_neighbours;
+  // Per pattern atom: 1 when it lies on a cycle of the pattern, whose image
+  // is then a ring atom of the molecule.
+  std::vector<std::uint8_t> on_cycle;
 };
 
 namespace {
@@ -659,9 +667,11 @@ void compute_ring_system_needs(SmartsImpl &p) {
   };
   UnionFind system(static_cast<std::uint32_t>(n));
   std::vector<bool> in_ring(n, false);
+  p.on_cycle.assign(n, 0);
   for (std::uint32_t b = 0; b < p.bonds.size(); ++b)
     if (on_cycle(b)) {
       in_ring[p.bonds[b].a] = in_ring[p.bonds[b].b] = true;
+      p.on_cycle[p.bonds[b].a] = p.on_cycle[p.bonds[b].b] = 1;
       system.unite(p.bonds[b].a, p.bonds[b].b);
     }
   std::map<std::uint32_t, std::map<std::uint32_t, std::uint32_t>> counts;  // system root -> needs
@@ -759,7 +769,7 @@ class Search {
     const std::size_t n = p_.atom_expr.size();
     if (n == 0) return false;
     const SearchOrder &o = p_.orders[root_];
-    order_ = o.order.data(), parent_ = o.parent.data(), rank_ = o.rank.data();
+    order_ = &o;
     map_.assign(n, 0);
     step(0);
     return found_;
@@ -771,17 +781,24 @@ class Search {
 
   // Pattern atom q at search depth i onto molecule atom a, reached through
   // molecule bond `tree_bond` from the image of q's parent (-1 at the root).
+  // The tests are a conjunction; the cheapest and most selective come first.
   bool candidate_ok(std::size_t i, std::uint32_t q, std::size_t a, std::int64_t tree_bond) const {
-    if (t_.facts(a).atomic_number == 1 || excluded(a)) return false;
     if (!(i == 0 && root_checked_) && !passes(p_.filters[q], t_, a)) return false;
+    if (t_.facts(a).atomic_number == 1 || excluded(a)) return false;
+    // Necessary conditions that prune a search before its deeper levels:
+    // every pattern neighbour takes a heavy neighbour of its own, and a
+    // cycle maps onto a cycle (asked only once the rings are known).
+    if (t_.heavy_degree(a) < p_.adjacency[q].size()) return false;
+    if (p_.on_cycle[q] && t_.rings_known() && t_.ring_count(a) == 0) return false;
     for (std::size_t j = 0; j < i; ++j)
-      if (map_[order_[j]] == a) return false;
+      if (map_[order_->order[j]] == a) return false;
     const auto f = fixed(q);
     if (f >= 0 && static_cast<std::size_t>(f) != a) return false;
     // Bonds to every placed neighbour (tree bond and ring closures) must exist and match.
-    for (const auto &nb : p_.adjacency[q]) {
-      if (rank_[nb.first] >= i) continue;
-      const auto b = tree_bond >= 0 && nb.first == parent_[q] ? tree_bond : t_.molecule().bond_between(a, map_[nb.first]);
+    if (i > 0 && !bond_ok(p_, p_.bonds[order_->parent_bond[q]], t_, tree_bond)) return false;
+    for (auto c = order_->closure_start[q]; c < order_->closure_start[q + 1]; ++c) {
+      const auto &nb = order_->closures[c];
+      const auto b = t_.molecule().bond_between(a, map_[nb.first]);
       if (b < 0 || !bond_ok(p_, p_.bonds[nb.second], t_, b)) return false;
     }
     if ((i == 0 && root_checked_) || p_.filters[q].exact) return true;
@@ -800,7 +817,7 @@ class Search {
       found_ = true;
       return visit_ && *visit_ ? (*visit_)(map_) : true;
     }
-    const auto q = order_[i];
+    const auto q = order_->order[i];
     const Molecule &m = t_.molecule();
     if (i == 0) {
       if (root_atom_ >= 0)
@@ -810,11 +827,11 @@ class Search {
         if (try_atom(0, q, a, -1)) return true;
       return false;
     }
-    const auto from = map_[parent_[q]];
+    const auto from = map_[order_->parent[q]];
     const auto *bid = m.bond_ids_begin(from);
     // Hydrogens, never a candidate, come last in the sorted neighbour list.
     const auto heavy = m.heavy_atom_count();
-    for (auto it = m.neighbours_begin(from); it != m.neighbours_end(from) && *it < heavy; ++it, ++bid)
+    for (auto it = m.neighbours_begin(from), end = m.neighbours_end(from); it != end && *it < heavy; ++it, ++bid)
       if (try_atom(i, q, *it, *bid)) return true;
     return false;
   }
@@ -827,7 +844,7 @@ class Search {
   const std::vector<std::int64_t> *fixed_;
   const std::vector<bool> &excluded_;
   const Visit *visit_;
-  const std::uint32_t *order_ = nullptr, *parent_ = nullptr, *rank_ = nullptr;
+  const SearchOrder *order_ = nullptr;
   std::vector<std::uint32_t> map_;
   bool found_ = false;
 };
@@ -843,6 +860,18 @@ SmartsPattern::SmartsPattern(std::string_view text) {
     auto &o = impl->orders[root];
     if (!make_search_order(*impl, root, o.order, o.parent, o.rank))
       throw InternalError(fmt::format("SMARTS '{}': disconnected pattern", impl->text));
+    const std::size_t n = impl->atom_expr.size();
+    o.parent_bond.assign(n, 0);
+    o.closure_start.assign(n + 1, 0);
+    for (std::uint32_t q = 0; q < n; ++q) {
+      o.closure_start[q] = static_cast<std::uint32_t>(o.closures.size());
+      for (const auto &nb : impl->adjacency[q]) {
+        if (o.rank[nb.first] >= o.rank[q]) continue;
+        if (q != root && nb.first == o.parent[q]) o.parent_bond[q] = nb.second;
+        else o.closures.push_back(nb);
+      }
+    }
+    o.closure_start[n] = static_cast<std::uint32_t>(o.closures.size());
   }
   compute_filters(*impl);
   compute_ring_system_needs(*impl);
@@ -851,6 +880,26 @@ SmartsPattern::SmartsPattern(std::string_view text) {
     for (const auto &nb : impl->adjacency[0]) impl->root_neighbours.push_back(nb);
   if (!impl->filters.empty() && !impl->filters[0].never)
     root_mask_ = impl->filters[0].mask, root_value_ = impl->filters[0].value;
+  // What root_neighbours_possible() asks of each neighbour, coarsened to its
+  // element (when demanded) and bond orders (when the bond asks for orders
+  // alone); a contradiction in its filter leaves no kind at all.
+  for (const auto &nb : impl->root_neighbours) {
+    const AtomFilter &f = impl->filters[nb.first];
+    const PatternBond &pb = impl->bonds[nb.second];
+    if (!pb.by_order || neighbour_demands_ == neighbour_kinds_.size()) continue;
+    std::uint64_t kinds = 0;
+    if (!f.never)
+      for (unsigned o = 1; o <= 4; ++o) {
+        if (!(pb.orders >> o & 1u)) continue;
+        const auto order = static_cast<BondOrder>(o);
+        if (f.atomic_number >= 0) {
+          kinds |= std::uint64_t{1} << SmartsTarget::kind_bit(static_cast<unsigned>(f.atomic_number), order);
+        } else {
+          for (unsigned z = 0; z < 128; ++z) kinds |= std::uint64_t{1} << SmartsTarget::kind_bit(z, order);
+        }
+      }
+    neighbour_kinds_[neighbour_demands_++] = kinds;
+  }
   impl_ = std::move(impl);
 }
 
@@ -866,12 +915,19 @@ const std::vector<std::uint32_t> &SmartsPattern::search_order(std::size_t root) 
 
 SmartsTarget::SmartsTarget(const Molecule &m)
     : m_(m), heavy_degree_(m.atom_count(), 0), facts_(m.atom_count()), packed_(m.atom_count(), 0),
-      element_count_(256, 0) {
-  for (const auto &b : m.bonds())
-    if (m.atom(b.begin).atomic_number != 1 && m.atom(b.end).atomic_number != 1) {
+      neighbour_kinds_(m.atom_count(), 0), element_count_(256, 0) {
+  for (const auto &b : m.bonds()) {
+    const auto zb = m.atom(b.begin).atomic_number, ze = m.atom(b.end).atomic_number;
+    // Molecule::hydrogen_count(), for all atoms in one pass.
+    if (zb == 1) ++facts_[b.end].hydrogens;
+    if (ze == 1) ++facts_[b.begin].hydrogens;
+    if (zb != 1 && ze != 1) {
       ++heavy_degree_[b.begin];
       ++heavy_degree_[b.end];
+      neighbour_kinds_[b.begin] |= std::uint64_t{1} << kind_bit(ze, b.order);
+      neighbour_kinds_[b.end] |= std::uint64_t{1} << kind_bit(zb, b.order);
     }
+  }
   for (std::size_t a = 0; a < m.atom_count(); ++a) {
     const Atom &at = m.atoms()[a];
     AtomFacts &f = facts_[a];
@@ -880,13 +936,38 @@ SmartsTarget::SmartsTarget(const Molecule &m)
     f.formal_charge = at.formal_charge;
     f.isotope = at.isotope;
     f.degree = static_cast<std::uint32_t>(m.degree(a));
-    f.hydrogens = static_cast<std::uint32_t>(m.hydrogen_count(a));
     packed_[a] = pack(f, heavy_degree_[a]);
     if (at.atomic_number != 1 && at.atomic_number < 128) ++element_count_[at.atomic_number * 2u + (at.aromatic ? 1u : 0u)];
   }
 }
 
 SmartsTarget::~SmartsTarget() = default;
+
+unsigned SmartsTarget::kind_bit(unsigned atomic_number, BondOrder order) {
+  // Sixteen element groups (the elements of organic molecules one each, the
+  // rest in one) by four bond orders.
+  unsigned group = 15;
+  switch (atomic_number) {
+    case 6: group = 0; break;
+    case 7: group = 1; break;
+    case 8: group = 2; break;
+    case 16: group = 3; break;
+    case 15: group = 4; break;
+    case 9: group = 5; break;
+    case 17: group = 6; break;
+    case 35: group = 7; break;
+    case 53: group = 8; break;
+    case 5: group = 9; break;
+    case 14: group = 10; break;
+    case 34: group = 11; break;
+    case 33: group = 12; break;
+    case 11: group = 13; break;
+    case 3: group = 14; break;
+    default: break;
+  }
+  const unsigned o = static_cast<unsigned>(order);
+  return group * 4 + (o >= 1 && o <= 4 ? o - 1 : 0);
+}
 
 std::uint64_t SmartsTarget::pack(const AtomFacts &f, std::uint8_t heavy_degree) {
   auto capped = [](std::uint32_t v) { return std::uint64_t{v < 255 ? v : 255}; };
@@ -933,22 +1014,6 @@ std::vector<std::uint32_t> SmartsTarget::take_buffer() const {
 
 void SmartsTarget::return_buffer(std::vector<std::uint32_t> &&buffer) const { buffers_.push_back(std::move(buffer)); }
 
-int SmartsTarget::ring_count(std::size_t atom) const {
-  perceive_rings();
-  return atom_rings_[atom];
-}
-int SmartsTarget::bond_ring_count(std::size_t bond) const {
-  perceive_rings();
-  return bond_rings_[bond];
-}
-int SmartsTarget::smallest_ring(std::size_t atom) const {
-  perceive_rings();
-  return atom_smallest_[atom];
-}
-const std::vector<std::vector<std::uint32_t>> &SmartsTarget::rings() const {
-  perceive_rings();
-  return rings_;
-}
 
 std::size_t SmartsTarget::ring_system_count() const {
   perceive_ring_systems();
@@ -988,7 +1053,12 @@ void SmartsTarget::perceive_ring_systems() const {
 
 // Rings: Horton's candidate cycles (shortest paths from a root to both ends of
 // an edge), shortest first, tested for independence by Gaussian elimination
-// over GF(2) on bond sets.
+// over GF(2) on bond sets. The ring bonds fall apart into parts joined by
+// bridges (a ring system, spiro rings included) and no cycle crosses a
+// bridge, so each part is searched on its own and a part that is one ring
+// from one root only: a search over the whole molecule from every ring atom
+// cost more than the rest of most molecules' 13C rules. The rings come out
+// in the order that whole search found them (see the end).
 void SmartsTarget::perceive_rings() const {
   if (rings_done_) return;
   rings_done_ = true;
@@ -997,221 +1067,286 @@ void SmartsTarget::perceive_rings() const {
   atom_rings_.assign(m.atom_count(), 0);
   atom_smallest_.assign(m.atom_count(), 0);
   bond_rings_.assign(m.bond_count(), 0);
+  const std::size_t bond_count = m.bond_count();
+  // The scratch of known size, per heavy atom and per bond, in one block:
+  // a molecule's rings are perceived once, and a dozen allocations cost
+  // about as much as the search in a molecule of one or two rings.
+  std::vector<std::int32_t> scratch(18 * n + 3 + 5 * bond_count);
+  std::int32_t *next_free = scratch.data();
+  auto carve = [&](std::size_t size) {
+    std::int32_t *const block = next_free;
+    next_free += size;
+    return block;
+  };
+  std::int32_t *const deg = carve(n), *const found = carve(n), *const low = carve(n), *const part = carve(n),
+                      *const dist = carve(n), *const parent_edge = carve(n), *const parent_atom = carve(n),
+                      *const core = carve(n), *const edge_of_bond = carve(bond_count);
+  auto *const queue = reinterpret_cast<std::uint32_t *>(carve(n));
+  auto *const edges = reinterpret_cast<std::uint32_t *>(carve(bond_count));  // core bonds
+  std::size_t queued = 0, edge_count = 0;
   // Ring atoms: strip atoms of heavy degree <= 1 until none is left.
-  std::vector<int> deg(n, 0);
-  std::vector<std::uint32_t> bonds;  // heavy-heavy bonds
   for (std::uint32_t b = 0; b < m.bond_count(); ++b) {
     const auto &bd = m.bond(b);
-    if (bd.begin < n && bd.end < n) {
-      bonds.push_back(b);
-      ++deg[bd.begin];
-      ++deg[bd.end];
-    }
+    if (bd.begin < n && bd.end < n) ++deg[bd.begin], ++deg[bd.end];
   }
-  std::vector<bool> core(n, true);
-  std::vector<std::uint32_t> queue;
+  std::fill(core, core + n, 1);
   for (std::uint32_t a = 0; a < n; ++a)
-    if (deg[a] <= 1) queue.push_back(a), core[a] = false;
-  while (!queue.empty()) {
-    const auto a = queue.back();
-    queue.pop_back();
-    for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it)
-      if (*it < n && core[*it] && --deg[*it] <= 1) core[*it] = false, queue.push_back(*it);
+    if (deg[a] <= 1) queue[queued++] = a, core[a] = 0;
+  while (queued > 0) {
+    const auto a = queue[--queued];
+    for (auto it = m.neighbours_begin(a), end = m.neighbours_end(a); it != end; ++it)
+      if (*it < n && core[*it] && --deg[*it] <= 1) core[*it] = 0, queue[queued++] = *it;
   }
-  std::vector<std::uint32_t> edges;  // core bonds
-  std::vector<int> edge_of_bond(m.bond_count(), -1);
-  for (auto b : bonds)
-    if (core[m.bond(b).begin] && core[m.bond(b).end]) {
-      edge_of_bond[b] = static_cast<int>(edges.size());
-      edges.push_back(b);
+  for (std::uint32_t b = 0; b < bond_count; ++b) {
+    const auto &bd = m.bond(b);
+    edge_of_bond[b] = -1;
+    if (bd.begin < n && bd.end < n && core[bd.begin] && core[bd.end]) {
+      edge_of_bond[b] = static_cast<std::int32_t>(edge_count);
+      edges[edge_count++] = b;
     }
-  if (edges.empty()) return;
-  // Cycle rank = E - V + components over the core.
-  UnionFind comp(static_cast<std::uint32_t>(n));
-  std::size_t vertices = 0, components = 0;
-  for (std::uint32_t a = 0; a < n; ++a) vertices += core[a];
-  for (auto b : edges) comp.unite(m.bond(b).begin, m.bond(b).end);
-  for (std::uint32_t a = 0; a < n; ++a) components += core[a] && comp.find(a) == a;
-  const std::size_t rank = edges.size() + components - vertices;
-  const std::size_t words = (edges.size() + 63) / 64;
+  }
+  if (edge_count == 0) return;
   // Bridges of the core (bonds on no cycle, such as a chain between two
-  // ring systems), by Tarjan's low-link search. From a root the two tree
-  // paths to the ends of any edge beyond a bridge both cross it, so such an
-  // edge never closes a candidate; searching within the root's part left
-  // by the bridges finds the same candidates, in the same order (the part
-  // is reached only from within itself), at a fraction of the cost in
-  // molecules with several ring systems.
-  std::vector<char> bridge(edges.size(), 0), on_cycle(n, 0);
+  // ring systems), by Tarjan's low-link search; the search path is kept as
+  // atom, edge from the parent (-1 at a root) and next neighbour to try.
+  std::int32_t *const bridge = carve(edge_count);
+  std::fill(bridge, bridge + edge_count, 0);
   {
-    std::vector<int> found(n, -1), low(n, 0);
+    std::fill(found, found + n, -1);
     int counter = 0;
-    struct Frame {
-      std::uint32_t atom;
-      int via;  // edge from the parent, -1 at a root
-      std::size_t next;
-    };
-    std::vector<Frame> stack;
+    std::int32_t *const path_atom = carve(n), *const path_via = carve(n), *const path_next = carve(n);
+    std::size_t depth = 0;
     for (std::uint32_t s0 = 0; s0 < n; ++s0) {
       if (!core[s0] || found[s0] >= 0) continue;
       found[s0] = low[s0] = counter++;
-      stack.push_back(Frame{s0, -1, 0});
-      while (!stack.empty()) {
-        Frame &f = stack.back();
-        const auto a = f.atom;
-        if (f.next < m.degree(a)) {
-          const auto i = f.next++;
+      path_atom[0] = static_cast<std::int32_t>(s0), path_via[0] = -1, path_next[0] = 0, depth = 1;
+      while (depth > 0) {
+        const auto a = static_cast<std::uint32_t>(path_atom[depth - 1]);
+        if (static_cast<std::size_t>(path_next[depth - 1]) < m.degree(a)) {
+          const auto i = static_cast<std::size_t>(path_next[depth - 1]++);
           const auto b = m.neighbours_begin(a)[i];
           const int e = edge_of_bond[m.bond_ids_begin(a)[i]];
-          if (e < 0 || e == f.via) continue;
+          if (e < 0 || e == path_via[depth - 1]) continue;
           if (found[b] < 0) {
             found[b] = low[b] = counter++;
-            stack.push_back(Frame{b, e, 0});
+            path_atom[depth] = static_cast<std::int32_t>(b), path_via[depth] = e, path_next[depth] = 0, ++depth;
           } else {
             low[a] = std::min(low[a], found[b]);
           }
           continue;
         }
-        const Frame done = f;
-        stack.pop_back();
-        if (stack.empty()) continue;
-        const auto parent = stack.back().atom;
-        low[parent] = std::min(low[parent], low[done.atom]);
-        if (low[done.atom] > found[parent]) bridge[static_cast<std::size_t>(done.via)] = 1;
+        --depth;
+        if (depth == 0) continue;
+        const auto parent = path_atom[depth - 1];
+        low[parent] = std::min(low[parent], low[a]);
+        if (low[a] > found[parent]) bridge[path_via[depth]] = 1;
       }
     }
-    for (std::size_t e = 0; e < edges.size(); ++e)
-      if (!bridge[e]) on_cycle[m.bond(edges[e]).begin] = on_cycle[m.bond(edges[e]).end] = 1;
   }
-  // Candidates in the order they are found, their atoms and bond bits in
-  // flat pools: a molecule yields many candidates, mostly copies of one ring
-  // found from each of its atoms.
+  // The parts: atoms joined by bonds other than bridges, numbered in order
+  // of their lowest atom (the union's representative); part -1 for atoms
+  // on no cycle. Their atoms and edges ascending, in one list each.
+  std::size_t parts = 0;
+  {
+    UnionFind joined(static_cast<std::uint32_t>(n));
+    std::fill(part, part + n, -1);
+    for (std::size_t e = 0; e < edge_count; ++e) {
+      if (bridge[e]) continue;
+      const auto &bd = m.bond(edges[e]);
+      joined.unite(bd.begin, bd.end);
+      part[bd.begin] = part[bd.end] = 0;  // on a cycle; numbered below
+    }
+    for (std::uint32_t a = 0; a < n; ++a) {
+      if (part[a] < 0) continue;
+      const auto r = joined.find(a);
+      part[a] = r == a ? static_cast<std::int32_t>(parts++) : part[r];
+    }
+  }
+  auto *const atom_start = reinterpret_cast<std::uint32_t *>(carve(parts + 1));
+  auto *const edge_start = reinterpret_cast<std::uint32_t *>(carve(parts + 1));
+  auto *const next = reinterpret_cast<std::uint32_t *>(carve(parts + 1));
+  auto *const part_atoms = reinterpret_cast<std::uint32_t *>(carve(n));
+  auto *const part_edges = reinterpret_cast<std::uint32_t *>(carve(edge_count));
+  std::fill(atom_start, atom_start + parts + 1, 0u);
+  std::fill(edge_start, edge_start + parts + 1, 0u);
+  for (std::uint32_t a = 0; a < n; ++a)
+    if (part[a] >= 0) ++atom_start[part[a] + 1];
+  for (std::size_t e = 0; e < edge_count; ++e)
+    if (!bridge[e]) ++edge_start[part[m.bond(edges[e]).begin] + 1];
+  for (std::size_t c = 0; c < parts; ++c) atom_start[c + 1] += atom_start[c], edge_start[c + 1] += edge_start[c];
+  std::copy(atom_start, atom_start + parts, next);
+  for (std::uint32_t a = 0; a < n; ++a)
+    if (part[a] >= 0) part_atoms[next[part[a]]++] = a;
+  std::copy(edge_start, edge_start + parts, next);
+  for (std::uint32_t e = 0; e < edge_count; ++e)
+    if (!bridge[e]) part_edges[next[part[m.bond(edges[e]).begin]]++] = e;
+  // Bit of each edge within its part's bond sets.
+  auto *const bit_of_edge = reinterpret_cast<std::uint32_t *>(carve(edge_count));
+  for (std::size_t c = 0; c < parts; ++c)
+    for (auto i = edge_start[c]; i < edge_start[c + 1]; ++i) bit_of_edge[part_edges[i]] = i - edge_start[c];
+  // Candidates of one part in the order they are found, their atoms and bond
+  // bits in flat pools: a part yields many candidates, mostly copies of one
+  // ring found from each of its atoms. Kept rings stay in the atom pool.
   struct Cycle {
-    std::uint32_t atoms_off, size, bits_off;
+    std::uint32_t atoms_off, size, bits_off, root, edge;
   };
-  std::vector<Cycle> candidates;
+  std::vector<Cycle> candidates, kept;
   std::vector<std::uint32_t> atom_pool;
+  atom_pool.reserve(2 * n);
   std::vector<std::uint64_t> bit_pool;
-  std::vector<int> dist(n), parent_edge(n), parent_atom(n);
-  std::vector<std::uint32_t> mark(n, 0);
+  auto *const mark = reinterpret_cast<std::uint32_t *>(carve(n));
+  std::fill(mark, mark + n, 0u);
   std::uint32_t stamp = 0;
-  std::vector<std::uint32_t> bfs;
-  bfs.reserve(n);
-  for (std::uint32_t r = 0; r < n; ++r) {
-    if (!on_cycle[r]) continue;
-    std::fill(dist.begin(), dist.end(), -1);
-    dist[r] = 0;
-    parent_edge[r] = -1;
-    bfs.clear();
-    bfs.push_back(r);
-    for (std::size_t k = 0; k < bfs.size(); ++k) {
-      const auto a = bfs[k];
-      const auto *bid = m.bond_ids_begin(a);
-      for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid) {
-        if (*it >= n || !core[*it] || dist[*it] >= 0 || bridge[static_cast<std::size_t>(edge_of_bond[*bid])]) continue;
-        dist[*it] = dist[a] + 1;
-        parent_edge[*it] = edge_of_bond[*bid];
-        parent_atom[*it] = static_cast<int>(a);
-        bfs.push_back(*it);
-      }
-    }
-    for (std::size_t e = 0; e < edges.size(); ++e) {
-      const auto x = m.bond(edges[e]).begin, y = m.bond(edges[e]).end;
-      if (dist[x] < 0 || dist[y] < 0) continue;
-      if (parent_edge[x] == static_cast<int>(e) || parent_edge[y] == static_cast<int>(e)) continue;
-      // The tree paths x..r and y..r must share no atom but r.
-      ++stamp;
-      for (std::uint32_t v = x; v != r; v = static_cast<std::uint32_t>(parent_atom[v])) mark[v] = stamp;
-      bool disjoint = true;
-      for (std::uint32_t v = y; v != r && disjoint; v = static_cast<std::uint32_t>(parent_atom[v])) disjoint = mark[v] != stamp;
-      if (!disjoint) continue;
-      // Atoms r ... x, then y ... (before r).
-      const auto off = static_cast<std::uint32_t>(atom_pool.size());
-      const auto dx = static_cast<std::uint32_t>(dist[x]);
-      const auto size = dx + 1 + static_cast<std::uint32_t>(dist[y]);
-      atom_pool.resize(off + size);
-      std::uint32_t v = x;
-      for (std::uint32_t i = dx;; --i) {
-        atom_pool[off + i] = v;
-        if (i == 0) break;
-        v = static_cast<std::uint32_t>(parent_atom[v]);
-      }
-      std::uint32_t at = off + dx + 1;
-      for (v = y; v != r; v = static_cast<std::uint32_t>(parent_atom[v])) atom_pool[at++] = v;
-      // Its bonds: e and the tree bonds of both paths.
-      const auto bits_off = static_cast<std::uint32_t>(bit_pool.size());
-      bit_pool.resize(bits_off + words, 0);
-      auto set_bit = [&](std::size_t ei) { bit_pool[bits_off + ei / 64] |= std::uint64_t{1} << (ei % 64); };
-      set_bit(e);
-      for (v = x; v != r; v = static_cast<std::uint32_t>(parent_atom[v])) set_bit(static_cast<std::size_t>(parent_edge[v]));
-      for (v = y; v != r; v = static_cast<std::uint32_t>(parent_atom[v])) set_bit(static_cast<std::size_t>(parent_edge[v]));
-      candidates.push_back(Cycle{off, size, bits_off});
-    }
-  }
-  std::stable_sort(candidates.begin(), candidates.end(), [](const Cycle &a, const Cycle &b) { return a.size < b.size; });
-  auto bits_of = [&](const Cycle &c) { return bit_pool.data() + c.bits_off; };
+  auto *const bfs = reinterpret_cast<std::uint32_t *>(carve(n));
+  std::size_t reached = 0;
+  std::fill(dist, dist + n, -1);
   std::vector<std::uint64_t> basis;  // reduced rows, words each, one pivot bit each
   std::vector<std::size_t> pivots;
-  std::vector<std::uint64_t> v(words);
-  auto reduce = [&](const std::uint64_t *from) {
-    std::copy_n(from, words, v.begin());
-    for (std::size_t i = 0; i < pivots.size(); ++i)
-      if (v[pivots[i] / 64] >> (pivots[i] % 64) & 1)
-        for (std::size_t w = 0; w < words; ++w) v[w] ^= basis[i * words + w];
-  };
-  auto first_bit = [&]() {
-    for (std::size_t w = 0; w < words; ++w)
-      if (v[w]) {
-        std::size_t bit = 0;
-        while (!(v[w] >> bit & 1)) ++bit;
-        return w * 64 + bit;
-      }
-    return words * 64;
-  };
-  auto add = [&](const std::uint64_t *from) {
-    reduce(from);
-    const auto pivot = first_bit();
-    if (pivot == words * 64) return;
-    for (std::size_t i = 0; i < pivots.size(); ++i)
-      if (basis[i * words + pivot / 64] >> (pivot % 64) & 1)
-        for (std::size_t w = 0; w < words; ++w) basis[i * words + w] ^= v[w];
-    basis.insert(basis.end(), v.begin(), v.end());
-    pivots.push_back(pivot);
-  };
-  // A ring is kept when it is not a sum of strictly smaller rings (a relevant
-  // cycle). Unlike a plain SSSR this keeps every one of equally small
-  // alternatives (both six-rings of pinane, all four of adamantane), as RDKit's
-  // symmetrized SSSR does, so R<n> does not depend on atom order. A ring
-  // found again (same bonds) counts once, as first found; copies have the
-  // same size, so only candidates of one size need comparing.
+  std::vector<std::uint64_t> v;
   std::vector<std::uint32_t> by_bits, group;
   std::vector<char> copy;
-  std::size_t i = 0;
-  while (i < candidates.size() && pivots.size() < rank) {
-    std::size_t j = i;
-    while (j < candidates.size() && candidates[j].size == candidates[i].size) ++j;
-    by_bits.resize(j - i);
-    std::iota(by_bits.begin(), by_bits.end(), static_cast<std::uint32_t>(i));
-    std::sort(by_bits.begin(), by_bits.end(), [&](std::uint32_t a, std::uint32_t b) {
-      const int c = std::memcmp(bits_of(candidates[a]), bits_of(candidates[b]), words * sizeof(std::uint64_t));
-      return c != 0 ? c < 0 : a < b;
-    });
-    copy.assign(j - i, 0);
-    for (std::size_t q = 1; q < by_bits.size(); ++q)
-      if (std::equal(bits_of(candidates[by_bits[q]]), bits_of(candidates[by_bits[q]]) + words,
-                     bits_of(candidates[by_bits[q - 1]])))
-        copy[by_bits[q] - i] = 1;
-    group.clear();
-    for (std::size_t k = i; k < j; ++k) {
-      if (copy[k - i]) continue;
-      reduce(bits_of(candidates[k]));
-      if (first_bit() == words * 64) continue;
-      const auto &c = candidates[k];
-      rings_.emplace_back(atom_pool.begin() + c.atoms_off, atom_pool.begin() + c.atoms_off + c.size);
-      group.push_back(static_cast<std::uint32_t>(k));
+  for (std::size_t c = 0; c < parts; ++c) {
+    const std::size_t part_edge_count = edge_start[c + 1] - edge_start[c];
+    const std::size_t rank = part_edge_count + 1 - (atom_start[c + 1] - atom_start[c]);
+    const std::size_t words = (part_edge_count + 63) / 64;
+    candidates.clear();
+    bit_pool.clear();
+    // A part that is one ring is found whole from each of its atoms: the
+    // first, from its lowest atom, is the copy kept.
+    const auto roots_end = rank == 1 ? atom_start[c] + 1 : atom_start[c + 1];
+    for (auto ri = atom_start[c]; ri < roots_end; ++ri) {
+      const auto r = part_atoms[ri];
+      dist[r] = 0;
+      parent_edge[r] = -1;
+      bfs[0] = r;
+      reached = 1;
+      for (std::size_t k = 0; k < reached; ++k) {
+        const auto a = bfs[k];
+        const auto *bid = m.bond_ids_begin(a);
+        for (auto it = m.neighbours_begin(a), end = m.neighbours_end(a); it != end; ++it, ++bid) {
+          // Within the part, every bond is a core bond and no bridge.
+          if (*it >= n || part[*it] != static_cast<std::int32_t>(c) || dist[*it] >= 0) continue;
+          dist[*it] = dist[a] + 1;
+          parent_edge[*it] = edge_of_bond[*bid];
+          parent_atom[*it] = static_cast<int>(a);
+          bfs[reached++] = *it;
+        }
+      }
+      for (auto ei = edge_start[c]; ei < edge_start[c + 1]; ++ei) {
+        const auto e = part_edges[ei];
+        const auto x = m.bond(edges[e]).begin, y = m.bond(edges[e]).end;
+        if (parent_edge[x] == static_cast<int>(e) || parent_edge[y] == static_cast<int>(e)) continue;
+        // The tree paths x..r and y..r must share no atom but r.
+        ++stamp;
+        for (std::uint32_t w = x; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) mark[w] = stamp;
+        bool disjoint = true;
+        for (std::uint32_t w = y; w != r && disjoint; w = static_cast<std::uint32_t>(parent_atom[w]))
+          disjoint = mark[w] != stamp;
+        if (!disjoint) continue;
+        // Atoms r ... x, then y ... (before r).
+        const auto off = static_cast<std::uint32_t>(atom_pool.size());
+        const auto dx = static_cast<std::uint32_t>(dist[x]);
+        const auto size = dx + 1 + static_cast<std::uint32_t>(dist[y]);
+        atom_pool.resize(off + size);
+        std::uint32_t w = x;
+        for (std::uint32_t i = dx;; --i) {
+          atom_pool[off + i] = w;
+          if (i == 0) break;
+          w = static_cast<std::uint32_t>(parent_atom[w]);
+        }
+        std::uint32_t at = off + dx + 1;
+        for (w = y; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) atom_pool[at++] = w;
+        // Its bonds: e and the tree bonds of both paths.
+        const auto bits_off = static_cast<std::uint32_t>(bit_pool.size());
+        bit_pool.resize(bits_off + words, 0);
+        auto set_bit = [&](std::size_t edge) {
+          const auto bit = bit_of_edge[edge];
+          bit_pool[bits_off + bit / 64] |= std::uint64_t{1} << (bit % 64);
+        };
+        set_bit(e);
+        for (w = x; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) set_bit(static_cast<std::size_t>(parent_edge[w]));
+        for (w = y; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) set_bit(static_cast<std::size_t>(parent_edge[w]));
+        candidates.push_back(Cycle{off, size, bits_off, r, e});
+      }
+      for (std::size_t k = 0; k < reached; ++k) dist[bfs[k]] = -1;
     }
-    for (auto k : group) add(bits_of(candidates[k]));
-    i = j;
+    if (rank == 1 && candidates.size() == 1) {
+      kept.push_back(candidates[0]);
+      continue;
+    }
+    std::stable_sort(candidates.begin(), candidates.end(), [](const Cycle &a, const Cycle &b) { return a.size < b.size; });
+    auto bits_of = [&](const Cycle &cy) { return bit_pool.data() + cy.bits_off; };
+    basis.clear();
+    pivots.clear();
+    v.assign(words, 0);
+    auto reduce = [&](const std::uint64_t *from) {
+      std::copy_n(from, words, v.begin());
+      for (std::size_t i = 0; i < pivots.size(); ++i)
+        if (v[pivots[i] / 64] >> (pivots[i] % 64) & 1)
+          for (std::size_t w = 0; w < words; ++w) v[w] ^= basis[i * words + w];
+    };
+    auto first_bit = [&]() {
+      for (std::size_t w = 0; w < words; ++w)
+        if (v[w]) {
+          std::size_t bit = 0;
+          while (!(v[w] >> bit & 1)) ++bit;
+          return w * 64 + bit;
+        }
+      return words * 64;
+    };
+    auto add = [&](const std::uint64_t *from) {
+      reduce(from);
+      const auto pivot = first_bit();
+      if (pivot == words * 64) return;
+      for (std::size_t i = 0; i < pivots.size(); ++i)
+        if (basis[i * words + pivot / 64] >> (pivot % 64) & 1)
+          for (std::size_t w = 0; w < words; ++w) basis[i * words + w] ^= v[w];
+      basis.insert(basis.end(), v.begin(), v.end());
+      pivots.push_back(pivot);
+    };
+    // A ring is kept when it is not a sum of strictly smaller rings (a
+    // relevant cycle). Unlike a plain SSSR this keeps every one of equally
+    // small alternatives (both six-rings of pinane, all four of adamantane),
+    // as RDKit's symmetrized SSSR does, so R<n> does not depend on atom
+    // order. A ring found again (same bonds) counts once, as first found;
+    // copies have the same size, so only candidates of one size need
+    // comparing.
+    std::size_t i = 0;
+    while (i < candidates.size() && pivots.size() < rank) {
+      std::size_t j = i;
+      while (j < candidates.size() && candidates[j].size == candidates[i].size) ++j;
+      by_bits.resize(j - i);
+      std::iota(by_bits.begin(), by_bits.end(), static_cast<std::uint32_t>(i));
+      std::sort(by_bits.begin(), by_bits.end(), [&](std::uint32_t a, std::uint32_t b) {
+        const int cmp = std::memcmp(bits_of(candidates[a]), bits_of(candidates[b]), words * sizeof(std::uint64_t));
+        return cmp != 0 ? cmp < 0 : a < b;
+      });
+      copy.assign(j - i, 0);
+      for (std::size_t q = 1; q < by_bits.size(); ++q)
+        if (std::equal(bits_of(candidates[by_bits[q]]), bits_of(candidates[by_bits[q]]) + words,
+                       bits_of(candidates[by_bits[q - 1]])))
+          copy[by_bits[q] - i] = 1;
+      group.clear();
+      for (std::size_t k = i; k < j; ++k) {
+        if (copy[k - i]) continue;
+        reduce(bits_of(candidates[k]));
+        if (first_bit() == words * 64) continue;
+        kept.push_back(candidates[k]);
+        group.push_back(static_cast<std::uint32_t>(k));
+      }
+      for (auto k : group) add(bits_of(candidates[k]));
+      i = j;
+    }
   }
+  // The order of one search over the whole molecule: smallest first, then
+  // as found there, from roots in ascending order and, per root, edges in
+  // ascending order. The parts' edge sets are disjoint, so a part's rings
+  // and the sums that rule a ring out are the same either way.
+  std::sort(kept.begin(), kept.end(), [](const Cycle &a, const Cycle &b) {
+    return a.size != b.size ? a.size < b.size : a.root != b.root ? a.root < b.root : a.edge < b.edge;
+  });
+  rings_.reserve(kept.size());
+  for (const auto &k : kept) rings_.emplace_back(atom_pool.begin() + k.atoms_off, atom_pool.begin() + k.atoms_off + k.size);
   for (const auto &ring : rings_) {
     const int size = static_cast<int>(ring.size());
     for (std::size_t i = 0; i < ring.size(); ++i) {
@@ -1303,7 +1438,8 @@ std::vector<std::vector<std::uint32_t>> all_matches(const SmartsPattern &p, cons
   const auto &impl = p.impl();
   if (!feasible(impl, t) || !rings_feasible(impl, t)) return out;
   // Every root finds every mapping; the one with the rarest element tries
-  // the fewest starting atoms.
+  // the fewest starting atoms, and of those the one with the most pattern
+  // neighbours turns most of them down at once (too few heavy neighbours).
   std::uint32_t root = 0;
   std::size_t fewest = t.molecule().heavy_atom_count() + 1;
   for (std::uint32_t q = 0; q < impl.filters.size(); ++q) {
@@ -1315,7 +1451,8 @@ std::vector<std::vector<std::uint32_t>> all_matches(const SmartsPattern &p, cons
       candidates = f.aromatic < 0 ? t.element_count(z, false) + t.element_count(z, true)
                                   : t.element_count(z, f.aromatic != 0);
     }
-    if (candidates < fewest) fewest = candidates, root = q;
+    if (candidates < fewest || (candidates == fewest && impl.adjacency[q].size() > impl.adjacency[root].size()))
+      fewest = candidates, root = q;
   }
   const Visit keep = [&](const std::vector<std::uint32_t> &map) {
     out.push_back(map);

@@ -22,6 +22,7 @@
 // (digits and %nn), recursive $(...). Anything else (chirality, '.', h, v, x,
 // reaction syntax) is rejected with a TablesError naming the pattern.
 
+#include <array>
 #include <cstddef>
 #include <cstdint>
 #include <functional>
@@ -59,11 +60,24 @@ class SmartsPattern {
   // an anchored match on `packed` cannot exist. Kept in the pattern itself
   // because rule tables try every row on every atom and most rows fail here.
   bool root_may_match(std::uint64_t packed) const noexcept { return (packed & root_mask_) == root_value_; }
+  // The same for the atoms bonded to pattern atom 0, on
+  // SmartsTarget::neighbour_kinds(): false when some of them finds no heavy
+  // neighbour of the element and over a bond that it asks for. Rows that
+  // pass the root mostly fail here, for less than a call.
+  bool neighbours_may_match(std::uint64_t kinds) const noexcept {
+    for (std::size_t i = 0; i < neighbour_demands_; ++i)
+      if ((neighbour_kinds_[i] & kinds) == 0) return false;
+    return true;
+  }
 
  private:
   std::shared_ptr<const SmartsImpl> impl_;
   // An empty pattern matches nothing: all bits demanded, none given.
   std::uint64_t root_mask_ = ~std::uint64_t{0}, root_value_ = 0;
+  // Per pattern atom bonded to atom 0 (the first few; a necessary
+  // condition needs not all), the neighbour kinds it may take.
+  std::array<std::uint64_t, 4> neighbour_kinds_{};
+  std::size_t neighbour_demands_ = 0;
 };
 
 // Per-molecule facts that patterns ask about, read from the molecule once
@@ -78,13 +92,28 @@ class SmartsTarget {
   SmartsTarget &operator=(const SmartsTarget &) = delete;
   const Molecule &molecule() const noexcept { return m_; }
   std::size_t heavy_degree(std::size_t atom) const { return heavy_degree_[atom]; }
+  // Whether ring perception has run (the ring queries below run it once).
+  bool rings_known() const noexcept { return rings_done_; }
   // Number of smallest rings (smarts.hpp) that contain the atom / the bond.
-  int ring_count(std::size_t atom) const;
-  int bond_ring_count(std::size_t bond) const;
+  // Asked for every candidate of many searches: inline, perceiving once.
+  int ring_count(std::size_t atom) const {
+    if (!rings_done_) perceive_rings();
+    return atom_rings_[atom];
+  }
+  int bond_ring_count(std::size_t bond) const {
+    if (!rings_done_) perceive_rings();
+    return bond_rings_[bond];
+  }
   // Size of the smallest ring that contains the atom, 0 if none.
-  int smallest_ring(std::size_t atom) const;
+  int smallest_ring(std::size_t atom) const {
+    if (!rings_done_) perceive_rings();
+    return atom_smallest_[atom];
+  }
   // The smallest rings as atom lists in ring order, smallest first.
-  const std::vector<std::vector<std::uint32_t>> &rings() const;
+  const std::vector<std::vector<std::uint32_t>> &rings() const {
+    if (!rings_done_) perceive_rings();
+    return rings_;
+  }
 
   // The atom properties patterns test, copied out of the molecule.
   struct AtomFacts {
@@ -101,6 +130,12 @@ class SmartsTarget {
   std::uint64_t packed(std::size_t atom) const { return packed_[atom]; }
   // packed() of an atom with these facts and this many heavy neighbours.
   static std::uint64_t pack(const AtomFacts &facts, std::uint8_t heavy_degree);
+  // The kinds of the atom's heavy neighbours: bit kind_bit(element, order)
+  // set for each neighbour of that element over a bond of that order.
+  std::uint64_t neighbour_kinds(std::size_t atom) const { return neighbour_kinds_[atom]; }
+  // Sixteen element groups by four bond orders; the elements of organic
+  // molecules have a group each, the rest share one (smarts.cpp).
+  static unsigned kind_bit(unsigned atomic_number, BondOrder order);
   std::size_t atom_count() const noexcept { return packed_.size(); }
   // Heavy atoms with this atomic number (0..127) and aromatic flag.
   std::uint32_t element_count(unsigned atomic_number, bool aromatic) const {
@@ -128,6 +163,7 @@ class SmartsTarget {
   std::vector<std::uint8_t> heavy_degree_;
   std::vector<AtomFacts> facts_;
   std::vector<std::uint64_t> packed_;
+  std::vector<std::uint64_t> neighbour_kinds_;
   std::vector<std::uint32_t> element_count_;
   mutable bool rings_done_ = false;
   mutable std::vector<std::vector<std::uint32_t>> rings_;
@@ -151,9 +187,15 @@ class SmartsTarget {
 // pattern atoms matched (p.atom_count()), or 0 when there is no match.
 std::size_t match_at_unscreened(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom,
                                 const std::vector<bool> &excluded);
+// The screens are inline at every call site (rule tables call this for
+// every row on every atom, and most calls end in them).
+#if defined(__GNUC__)
+[[gnu::always_inline]]
+#endif
 inline std::size_t match_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom,
                             const std::vector<bool> &excluded = {}) {
-  if (atom >= t.atom_count() || !p.root_may_match(t.packed(atom))) return 0;
+  if (atom >= t.atom_count() || !p.root_may_match(t.packed(atom)) || !p.neighbours_may_match(t.neighbour_kinds(atom)))
+    return 0;
   return match_at_unscreened(p, t, atom, excluded);
 }
 

@@ -86,21 +86,26 @@ class TableReader {
   TsvTable table_;
 };
 
+// These two run inside every rule of both nuclei: the atom is checked once,
+// its neighbours and bonds are then read without a range check each.
 inline bool is_sp3_carbon(const Molecule &m, std::size_t a) {
   const auto &at = m.atom(a);
   if (at.atomic_number != 6 || at.aromatic || at.formal_charge != 0 || at.radical_electrons != 0) return false;
   if (m.degree(a) != 4) return false;
   const auto *bid = m.bond_ids_begin(a);
-  for (std::size_t i = 0; i < m.degree(a); ++i)
-    if (m.bond(bid[i]).order != BondOrder::Single) return false;
+  const Bond *bonds = m.bonds().data();
+  for (std::size_t i = 0; i < 4; ++i)
+    if (bonds[bid[i]].order != BondOrder::Single) return false;
   return true;
 }
 
 template <class F>
 void for_heavy_neighbours(const Molecule &m, std::size_t a, F f) {
   const auto *bid = m.bond_ids_begin(a);
-  for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid)
-    if (m.atom(*it).atomic_number != 1) f(static_cast<std::size_t>(*it), m.bond(*bid).order);
+  const Atom *atoms = m.atoms().data();
+  const Bond *bonds = m.bonds().data();
+  for (auto it = m.neighbours_begin(a), end = m.neighbours_end(a); it != end; ++it, ++bid)
+    if (atoms[*it].atomic_number != 1) f(static_cast<std::size_t>(*it), bonds[*bid].order);
 }
 
 inline std::string atom_label(const Molecule &m, std::size_t a) {

@@ -42,6 +42,7 @@
 #include <array>
 #include <charconv>
 #include <cmath>
+#include <cstring>
 #include <map>
 #include <memory>
 #include <optional>
@@ -175,6 +176,9 @@ struct HetRing {
   SmartsPattern ring;
   std::vector<HetBase> bases;
   std::vector<HetIncrement> increments;
+  // Per ring pattern atom, the increments whose subst_atom it is, in table
+  // order: a substituent tries only the rows of its ring atom.
+  std::vector<std::vector<std::uint32_t>> increments_at;
 };
 
 struct ClassRow {
@@ -229,6 +233,9 @@ struct C13Tables {
   std::string benzene_base_label;  // as method texts print it
   std::vector<BenzeneRow> benzene;
   std::vector<std::uint32_t> benzene_order;  // largest_first(benzene)
+  // The row fused_six() carbons take (the last with id benzene-ch3), -1
+  // for none: they keep their own. Found here, not per prediction.
+  std::int32_t benzene_methyl_row = -1;
   std::vector<HetRing> hetero;  // largest ring pattern first
   std::vector<ClassRow> classes;
   std::vector<std::uint32_t> class_order;  // largest_first(classes)
@@ -257,10 +264,9 @@ namespace {
 
 // v with two decimals, as fmt's "{:.2f}" writes it: std::to_chars rounds the
 // exact binary value the same way and costs a fraction of the formatter (a
-// method text holds a dozen of these).
-std::string fixed_2(double v) {
-  if (!std::isfinite(v)) return fmt::format("{:.2f}", v);
-  char buf[32];
+// method text holds a dozen of these). Written into buf[32]; returns the end.
+char *fixed_2(char *buf, double v) {
+  if (!std::isfinite(v)) return fmt::format_to(buf, "{:.2f}", v);
   char *p = buf;
   // Even to_chars costs hundreds of instructions. y = |v| * 100 is within
   // |y| * 2^-53 (< 1e-6 below 2^31) of the exact product, so unless its
@@ -278,19 +284,29 @@ std::string fixed_2(double v) {
     *p++ = '.';
     *p++ = static_cast<char>('0' + cents % 100 / 10);
     *p++ = static_cast<char>('0' + cents % 10);
-    return std::string(buf, p);
+    return p;
   }
-  const auto r = std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2);
-  return std::string(buf, r.ptr);
+  return std::to_chars(buf, buf + 32, v, std::chars_format::fixed, 2).ptr;
 }
 
 // A table value or sum as method texts print it: two decimals, one where the
 // second is 0 (table values carry one or two and are printed as written).
+// Written in place (at most 32 characters; returns the end): every method
+// text holds a dozen.
+char *put_ppm(char *out, double v) {
+  char buf[32];
+  char *end = fixed_2(buf, v);
+  if (end[-1] == '0') --end;
+  if (end - buf == 4 && std::memcmp(buf, "-0.0", 4) == 0) {
+    std::memcpy(out, "0.0", 3);
+    return out + 3;
+  }
+  std::memcpy(out, buf, static_cast<std::size_t>(end - buf));
+  return out + (end - buf);
+}
 std::string ppm_text(double v) {
-  auto s = fixed_2(v);
-  if (s.back() == '0') s.pop_back();
-  if (s == "-0.0") s = "0.0";
-  return s;
+  char buf[32];
+  return std::string(buf, put_ppm(buf, v));
 }
 
 // Row indices by pattern size, largest first, then in table order: the
@@ -463,6 +479,9 @@ void read_hetero(const Tables &tables, C13Tables &out) {
       inc.subst_atom = r.integer(row, c_subst, 0, n - 1);
       inc.smarts = r.smarts(row, c_smarts);
       inc.ppm = r.need_ppm(row, c_value);
+      if (it->increments_at.empty()) it->increments_at.resize(static_cast<std::size_t>(n));
+      it->increments_at[static_cast<std::size_t>(inc.subst_atom)].push_back(
+          static_cast<std::uint32_t>(it->increments.size()));
       it->increments.push_back(std::move(inc));
     } else {
       r.fail(row, fmt::format("unknown kind '{}'", kind));
@@ -598,25 +617,35 @@ class Sum {
   bool in_scope() const { return outside_.empty(); }
   std::string method() const {
     const std::string_view scheme = own_scheme_.empty() ? scheme_ : std::string_view(own_scheme_);
-    std::string s;
-    s.reserve(scheme.size() + base_label_.size() + 16 + 48 * terms_.size());
-    s += scheme;
-    s += ": ";
-    s += base_label_;
+    // The sum is written into a buffer of sufficient size, cut to length
+    // after: appending piece by piece cost more than the arithmetic.
+    constexpr std::size_t kNumber = 32;  // a count with " x ", or a ppm value
+    std::size_t bound = scheme.size() + 2 + base_label_.size() + 3 + kNumber;
+    for (const auto &t : terms_) bound += 3 + 2 * kNumber + t.role.size() + 1 + t.id.size() + 1;
+    std::string s(bound, '\0');
+    char *p = s.data();
+    auto put = [&](std::string_view text) {
+      std::memcpy(p, text.data(), text.size());
+      p += text.size();
+    };
+    put(scheme);
+    put(": ");
+    put(base_label_);
     for (const auto &t : terms_) {
-      s += " + ";
+      put(" + ");
       if (t.count > 1) {
-        s += std::to_string(t.count);
-        s += " x ";
+        p = std::to_chars(p, p + kNumber, t.count).ptr;
+        put(" x ");
       }
-      s += t.role;
-      s += ' ';
-      s += t.id;
-      s += ' ';
-      s += ppm_text(t.ppm);
+      put(t.role);
+      put(" ");
+      put(t.id);
+      put(" ");
+      p = put_ppm(p, t.ppm);
     }
-    s += " = ";
-    s += ppm_text(ppm());
+    put(" = ");
+    p = put_ppm(p, ppm());
+    s.resize(static_cast<std::size_t>(p - s.data()));
     if (unvalued_) s += fmt::format(" ({} delta position{} without a published value taken as 0)", unvalued_,
                                     unvalued_ == 1 ? "" : "s");
     if (!outside_.empty()) {
@@ -647,13 +676,25 @@ class Sum {
   std::vector<std::string_view> outside_;
 };
 
+// Why a scheme passes a carbon on, spelt out only when a reason is asked for
+// (why not null); otherwise a mark that it does. Most carbons a scheme
+// passes on are tried by the next scheme at once, and formatting the
+// reason cost more than finding it.
+template <class Text>
+std::string reason(const std::string *why, Text text) {
+  return why ? text() : std::string(1, '-');
+}
+
 // ---------------------------------------------------------------------------
 // Graph helpers
 
-std::vector<int> heavy_distances(const Molecule &m, std::size_t from, int max_d) {
-  std::vector<int> d(m.heavy_atom_count(), -1);
+// Bond distances from `from` over heavy atoms up to max_d, -1 beyond, into d;
+// `queue` is scratch.
+void heavy_distances(const Molecule &m, std::size_t from, int max_d, std::vector<int> &d,
+                     std::vector<std::size_t> &queue) {
+  d.assign(m.heavy_atom_count(), -1);
   d[from] = 0;
-  std::vector<std::size_t> queue{from};
+  queue.assign(1, from);
   for (std::size_t i = 0; i < queue.size(); ++i) {
     const auto a = queue[i];
     if (d[a] >= max_d) continue;
@@ -661,7 +702,6 @@ std::vector<int> heavy_distances(const Molecule &m, std::size_t from, int max_d)
       if (d[b] < 0) d[b] = d[a] + 1, queue.push_back(b);
     });
   }
-  return d;
 }
 
 // Is ring atom a bonded to a heteroatom of the same skeleton?
@@ -721,9 +761,7 @@ class C13Increments final : public ShiftSource {
       : parsed_(std::move(parsed)), tab_(parsed_->tables) {
     for (const auto &row : tab_.solvent)
       if (row.solvent == solvent) solvent_rows_.push_back(&row);
-    // The row fused_six() carbons take; without it they keep their own.
-    for (const auto &row : tab_.benzene)
-      if (row.id == "benzene-ch3") methyl_row_ = &row;
+    if (tab_.benzene_methyl_row >= 0) methyl_row_ = &tab_.benzene[static_cast<std::size_t>(tab_.benzene_methyl_row)];
   }
 
   bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
@@ -792,8 +830,8 @@ class C13Increments final : public ShiftSource {
     if (doubles_other || triples_other) return fail(why, "multiple bond to a heteroatom without a class row");
     if (doubles_c == 1 && triples_c == 0) return ene(t, atom, partner, tab_.alkene, false, why);
     if (triples_c == 1 && doubles_c == 0) return ene(t, atom, partner, tab_.alkyne, true, why);
-    if (is_sp3_carbon(m, atom) && t.ring_count(atom) > 0) return ring_sp3(t, atom, why);
-    if (is_sp3_carbon(m, atom)) {
+    if (sp3(atom) && t.ring_count(atom) > 0) return ring_sp3(t, atom, why);
+    if (sp3(atom)) {
       // An internal carbon bearing Cl, Br or I: the additive scheme has one
       // alpha value per halogen, measured on terminal carbons, while the
       // parent scheme gives separate terminal and internal values
@@ -833,10 +871,19 @@ class C13Increments final : public ShiftSource {
       benzene_rings_.clear();
       answered_.assign(t.molecule().heavy_atom_count(), -1);
       sp3_chains_.clear();
-      answers_.assign(t.molecule().heavy_atom_count(), Shift{});
+      // Only answers marked in answered_ are read, and estimate_anew() sets
+      // every field estimate() reads: the old ones need no reset.
+      if (answers_.size() < t.molecule().heavy_atom_count()) answers_.resize(t.molecule().heavy_atom_count());
+      const Molecule &m = t.molecule();
+      sp3_.assign(m.atom_count(), 0);
+      for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) sp3_[a] = is_sp3_carbon(m, a) ? 1 : 0;
     }
     return t;
   }
+
+  // is_sp3_carbon() of an atom of the current molecule, asked of the same
+  // atoms again and again by every scheme: found once per molecule.
+  bool sp3(std::size_t a) const { return sp3_[a] != 0; }
 
   // Per parent ring of c13_heteroaromatic: every mapping of its pattern onto
   // the molecule, and the atoms they cover, from one search per molecule
@@ -845,17 +892,18 @@ class C13Increments final : public ShiftSource {
   void find_hetero_matches(const SmartsTarget &t) const {
     if (!hetero_matches_.empty() || tab_.hetero.empty()) return;
     hetero_matches_.resize(tab_.hetero.size());
-    hetero_cover_.resize(tab_.hetero.size());
+    const std::size_t atoms = t.molecule().atom_count();
+    hetero_cover_.assign(tab_.hetero.size() * atoms, 0);
     for (std::size_t i = 0; i < tab_.hetero.size(); ++i) {
       hetero_matches_[i] = all_matches(tab_.hetero[i].ring, t);
-      hetero_cover_[i].assign(t.molecule().atom_count(), false);
       for (const auto &map : hetero_matches_[i])
-        for (auto a : map) hetero_cover_[i][a] = true;
+        for (auto a : map) hetero_cover_[i * atoms + a] = 1;
     }
   }
-  const std::vector<bool> &hetero_cover(const SmartsTarget &t, std::size_t ring) const {
+  // Does some mapping of parent ring `ring` contain atom k?
+  bool hetero_covers(const SmartsTarget &t, std::size_t ring, std::size_t k) const {
     find_hetero_matches(t);
-    return hetero_cover_[ring];
+    return hetero_cover_[ring * t.molecule().atom_count() + k] != 0;
   }
   const std::vector<std::vector<std::uint32_t>> &hetero_matches(const SmartsTarget &t, std::size_t ring) const {
     find_hetero_matches(t);
@@ -992,16 +1040,16 @@ class C13Increments final : public ShiftSource {
   // (6.8 -> 2.7 ppm off) and 9,10-dihydroanthracene (6.3 -> 3.2) leave the
   // >5 ppm tail, 18 other carbons move by under 1 ppm; 1-tetralone (ring
   // C=O, not saturated) keeps its rows.
-  static bool fused_six(const SmartsTarget &t, std::size_t ring_index, std::size_t x) {
+  bool fused_six(const SmartsTarget &t, std::size_t ring_index, std::size_t x) const {
     const Molecule &m = t.molecule();
-    if (!is_sp3_carbon(m, x)) return false;
+    if (!sp3(x)) return false;
     const auto &benzene = t.rings()[ring_index];
     for (const auto &o : t.rings()) {
       if (&o == &benzene || o.size() != 6 || std::find(o.begin(), o.end(), x) == o.end()) continue;
       bool fused = false, saturated = true;
       for (auto a : o) {
         fused = fused || std::find(benzene.begin(), benzene.end(), a) != benzene.end();
-        saturated = saturated && (m.atom(a).aromatic || is_sp3_carbon(m, a));
+        saturated = saturated && (m.atom(a).aromatic || sp3(a));
       }
       if (fused && saturated) return true;
     }
@@ -1052,10 +1100,16 @@ class C13Increments final : public ShiftSource {
     std::string last;  // why the last parent failed, when a reason is asked for
     for (std::size_t ri = 0; ri < tab_.hetero.size(); ++ri) {
       const auto &ring = tab_.hetero[ri];
-      if (!hetero_cover(t, ri)[k]) continue;  // no mapping contains k
+      if (!hetero_covers(t, ri, k)) continue;
       const std::size_t n = ring.ring.atom_count();
-      // All mappings of the parent ring that contain k, grouped by atom set.
-      std::map<std::vector<std::uint32_t>, std::vector<std::vector<std::uint32_t>>> by_set;
+      // All mappings of the parent ring that contain k, grouped by atom set,
+      // the sets in ascending order (a carbon lies in one or two). The
+      // mappings stay in the molecule's list.
+      struct Group {
+        std::vector<std::uint32_t> set;
+        std::vector<const std::vector<std::uint32_t> *> maps;
+      };
+      std::vector<Group> by_set;
       // The mappings with pattern atom p on k, in the order a search
       // anchored there visits them (SmartsPattern::search_order), taken
       // from the molecule's mappings found once.
@@ -1072,23 +1126,27 @@ class C13Increments final : public ShiftSource {
           return false;
         });
         for (const auto *mp : anchored) {
-          const auto &map = *mp;
-          auto set = map;
+          auto set = *mp;
           std::sort(set.begin(), set.end());
-          auto &maps = by_set[set];
-          if (std::find(maps.begin(), maps.end(), map) == maps.end()) maps.push_back(map);
+          auto group = std::find_if(by_set.begin(), by_set.end(), [&](const Group &g) { return g.set == set; });
+          if (group == by_set.end()) group = by_set.insert(by_set.end(), Group{std::move(set), {}});
+          auto &maps = group->maps;
+          if (std::none_of(maps.begin(), maps.end(), [&](const auto *x) { return *x == *mp; })) maps.push_back(mp);
         }
       }
-      for (const auto &entry : by_set) {
-        const auto &maps = entry.second;
-        std::vector<bool> skeleton(m.atom_count(), false);
-        for (auto a : entry.first) skeleton[a] = true;
+      std::sort(by_set.begin(), by_set.end(), [](const Group &a, const Group &b) { return a.set < b.set; });
+      for (const auto &group : by_set) {
+        const auto &set = group.set;
+        const auto &maps = group.maps;
+        auto &skeleton = hetero_skeleton_;  // kept between carbons
+        skeleton.assign(m.atom_count(), false);
+        for (auto a : set) skeleton[a] = true;
         auto index_of = [&](const std::vector<std::uint32_t> &map, std::size_t a) {
           return static_cast<int>(std::find(map.begin(), map.end(), a) - map.begin());
         };
         const HetBase *base = nullptr;
         for (const auto &b : ring.bases)
-          if (std::find(b.atoms.begin(), b.atoms.end(), index_of(maps[0], k)) != b.atoms.end()) base = &b;
+          if (std::find(b.atoms.begin(), b.atoms.end(), index_of(*maps[0], k)) != b.atoms.end()) base = &b;
         if (!base) {
           if (why) last = fmt::format("{} gives no base value for this position", ring.name);
           continue;
@@ -1097,9 +1155,10 @@ class C13Increments final : public ShiftSource {
         // the ring relation (ipso, ortho, meta, para) of carried-over
         // benzene increments.
         // -2 marks atoms outside the parent, -1 parent atoms not reached yet.
-        std::vector<int> ring_dist(m.atom_count(), -2);
+        auto &ring_dist = hetero_ring_dist_;  // kept between carbons
+        ring_dist.assign(m.atom_count(), -2);
         {
-          for (auto a : entry.first) ring_dist[a] = -1;
+          for (auto a : set) ring_dist[a] = -1;
           ring_dist[k] = 0;
           std::vector<std::size_t> queue{k};
           for (std::size_t i = 0; i < queue.size(); ++i)
@@ -1108,11 +1167,11 @@ class C13Increments final : public ShiftSource {
             });
         }
         bool ring_has_nitrogen = false;
-        for (auto a : entry.first) ring_has_nitrogen = ring_has_nitrogen || m.atom(a).atomic_number == 7;
+        for (auto a : set) ring_has_nitrogen = ring_has_nitrogen || m.atom(a).atomic_number == 7;
         Sum s(ring.scheme, kHeteroSpread);
         s.base(base->label, base->ppm);
         bool ok = true;
-        for (auto r : entry.first) {
+        for (auto r : set) {
           if (m.atom(r).formal_charge != 0) {
             ok = false;
             if (why) last = "charged ring atom (protonated ring or N-oxide)";
@@ -1123,14 +1182,17 @@ class C13Increments final : public ShiftSource {
             // Of the mappings (mirror images), use one that puts the carrier
             // on the row's subst_atom (tables/FORMAT.md).
             const HetIncrement *used = nullptr;
-            for (const auto &map : maps) {
-              const int pr = index_of(map, r), pk = index_of(map, k);
-              for (const auto &inc : ring.increments)
-                if (inc.subst_atom == pr && std::find(inc.atoms.begin(), inc.atoms.end(), pk) != inc.atoms.end() &&
+            for (const auto *mp : maps) {
+              const int pr = index_of(*mp, r), pk = index_of(*mp, k);
+              if (static_cast<std::size_t>(pr) >= ring.increments_at.size()) continue;
+              for (const auto i : ring.increments_at[static_cast<std::size_t>(pr)]) {
+                const auto &inc = ring.increments[i];
+                if (std::find(inc.atoms.begin(), inc.atoms.end(), pk) != inc.atoms.end() &&
                     match_at(inc.smarts, t, x, skeleton)) {
                   used = &inc;
                   break;
                 }
+              }
               if (used) break;
             }
             if (used) {
@@ -1141,7 +1203,7 @@ class C13Increments final : public ShiftSource {
             // ('*' of an N-substituted parent) belong to the parent: its
             // base values hold for N-alkyl (tables/FORMAT.md).
             if (m.atom(r).atomic_number != 6 || !m.atom(r).aromatic) {
-              if (!is_sp3_carbon(m, x) && m.atom(r).aromatic)
+              if (!sp3(x) && m.atom(r).aromatic)
                 s.outside("group other than alkyl on a ring heteroatom");
               return;
             }
@@ -1167,7 +1229,7 @@ class C13Increments final : public ShiftSource {
             // against 9.3). Measured on the NCI sample
             // (tests/python/test_c13_facts.py): hydroxy- and amino-pyrimidine
             // C4 came out at 174-184 ppm, 2-sec-alkylpyridine C2 at 169.
-            const bool methyl = is_sp3_carbon(m, x) && m.hydrogen_count(x) == 3;
+            const bool methyl = sp3(x) && m.hydrogen_count(x) == 3;
             // OH and SH on a ring with a ring nitrogen are mostly the
             // lactam/thione tautomer: benzene phenol rows do not apply.
             if ((m.atom(x).atomic_number == 8 || m.atom(x).atomic_number == 16) && m.hydrogen_count(x) == 1 &&
@@ -1228,7 +1290,7 @@ class C13Increments final : public ShiftSource {
         if (skeleton[x] || !problem.empty()) return;
         subs[static_cast<std::size_t>(side)].push_back(x);
         if (t.ring_count(x) > 0 && share_ring(t, c, x)) ring = true;
-        if (is_sp3_carbon(m, x)) {
+        if (sp3(x)) {
           // Alkyl chain: sp3 carbons by distance from the alkene carbon.
           std::vector<int> d(m.heavy_atom_count(), -1);
           d[x] = 1;
@@ -1237,7 +1299,7 @@ class C13Increments final : public ShiftSource {
             const auto y = queue[i];
             const auto &row = tab.alkyl[static_cast<std::size_t>(d[y])];
             if (!row) {
-              problem = fmt::format("no alkyl row for position {}", d[y]);
+              problem = reason(why, [&] { return fmt::format("no alkyl row for position {}", d[y]); });
               break;
             }
             const Opt v = side == 0 ? row->ipso : row->partner;
@@ -1246,7 +1308,7 @@ class C13Increments final : public ShiftSource {
             if (d[y] == max_pos) continue;
             for_heavy_neighbours(m, y, [&](std::size_t z, BondOrder) {
               if (skeleton[z] || d[z] >= 0 || !problem.empty()) return;
-              if (!is_sp3_carbon(m, z)) {
+              if (!sp3(z)) {
                 // The alkene and alkyne tables document alkyl chains only;
                 // a heteroatom or sp2 atom in the chain is counted like a
                 // carbon at its position (not covered by the tables).
@@ -1268,12 +1330,12 @@ class C13Increments final : public ShiftSource {
         const auto *row =
             find_row(tab.substituents, tab.substituent_order, t, x, skeleton, [](const EneRow &) { return true; });
         if (!row) {
-          problem = fmt::format("{} substituent at {} has no row", what, atom_label(m, x));
+          problem = reason(why, [&] { return fmt::format("{} substituent at {} has no row", what, atom_label(m, x)); });
           return;
         }
         const Opt v = side == 0 ? row->ipso : row->partner;
         if (!v) {
-          problem = fmt::format("row {} gives no {} value", row->id, role);
+          problem = reason(why, [&] { return fmt::format("row {} gives no {} value", row->id, role); });
           return;
         }
         s.add(role, row->id, *v);
@@ -1292,7 +1354,7 @@ class C13Increments final : public ShiftSource {
         // deshielded beyond the sum of the two monosubstituted increments.
         auto alkyls = [&](int side) {
           int c = 0;
-          for (auto x : subs[static_cast<std::size_t>(side)]) c += is_sp3_carbon(m, x);
+          for (auto x : subs[static_cast<std::size_t>(side)]) c += sp3(x);
           return c;
         };
         auto acceptor = [&](int side) {
@@ -1372,12 +1434,12 @@ class C13Increments final : public ShiftSource {
     std::int32_t chains = 0;
     std::vector<std::size_t> queue;
     for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) {
-      if (sp3_chains_[a] >= 0 || !is_sp3_carbon(m, a)) continue;
+      if (sp3_chains_[a] >= 0 || !sp3(a)) continue;
       sp3_chains_[a] = chains;
       queue.assign(1, a);
       for (std::size_t i = 0; i < queue.size(); ++i)
         for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
-          if (sp3_chains_[z] < 0 && is_sp3_carbon(m, z)) sp3_chains_[z] = chains, queue.push_back(z);
+          if (sp3_chains_[z] < 0 && sp3(z)) sp3_chains_[z] = chains, queue.push_back(z);
         });
       ++chains;
     }
@@ -1390,14 +1452,19 @@ class C13Increments final : public ShiftSource {
     if (!tab_.gp_base.set) return fail(why, "no Grant-Paul parameters");
     const std::size_t n = m.heavy_atom_count();
     // Bond distances from k, needed for chain groups only.
-    std::vector<int> dist;
+    auto &dist = sp3_scratch_.dist;
+    bool dist_known = false;
     auto distance = [&](std::size_t z) {
-      if (dist.empty()) dist = heavy_distances(m, k, static_cast<int>(n));
+      if (!dist_known) heavy_distances(m, k, static_cast<int>(n), dist, sp3_scratch_.queue), dist_known = true;
       return dist[z];
     };
-    std::vector<bool> skeleton(m.atom_count(), false);  // walked sp3 carbons
-    std::vector<bool> taken(n, false);                  // walked, or part of a substituent
-    std::array<std::vector<std::size_t>, 6> bucket;
+    // Kept between carbons (sp3_scratch_): one allocation per molecule, not three per carbon.
+    auto &skeleton = sp3_scratch_.skeleton;  // walked sp3 carbons
+    auto &taken = sp3_scratch_.taken;        // walked, or part of a substituent
+    auto &bucket = sp3_scratch_.bucket;
+    skeleton.assign(m.atom_count(), false);
+    taken.assign(n, false);
+    for (auto &b : bucket) b.clear();
     // sp3 carbons connected to k through sp3 carbons are chain positions; a
     // group branch never swallows them (it would in a ring).
     const auto &chain_of = sp3_chains(t);
@@ -1419,12 +1486,18 @@ class C13Increments final : public ShiftSource {
       if (walk_d < 5) bucket[static_cast<std::size_t>(walk_d)].push_back(x);
     };
     for (int d = 0; d < 5 && problem.empty(); ++d) {
+      // The groups on k are known once its neighbours are walked, and with
+      // them whether a scope decision below passes the carbon on: when no
+      // reason is asked for, the rest of the walk would change nothing.
+      if (d == 1 && !why && (k_in_ring || hetero_on_k >= 2 || (groups_on_k >= 2 && hetero_on_k >= 1) ||
+                             (groups_on_k > 0 && polyhalo_neighbour(m, k))))
+        return std::nullopt;
       for (std::size_t bi = 0; bi < bucket[static_cast<std::size_t>(d)].size() && problem.empty(); ++bi) {
         const auto c = bucket[static_cast<std::size_t>(d)][bi];
         for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) {
           if (taken[x] || !problem.empty()) return;
           const int dx = d + 1;
-          if (is_sp3_carbon(m, x)) {
+          if (sp3(x)) {
             chain_carbon(x, dx, dx);
             return;
           }
@@ -1432,19 +1505,20 @@ class C13Increments final : public ShiftSource {
           const auto *row =
               find_row(tab_.sp3, tab_.sp3_order, t, x, skeleton, [](const Sp3Row &r) { return r.additive; });
           if (!row) {
-            problem = fmt::format("no additive row for the substituent at {}", atom_label(m, x));
+            problem = reason(why, [&] { return fmt::format("no additive row for the substituent at {}", atom_label(m, x)); });
             return;
           }
           const Opt v = dx == 1 ? row->alpha_n : dx == 2 ? row->beta_n : dx == 3 ? row->gamma : row->delta;
           if (!v) {
-            problem = fmt::format("row {} gives no {} value", row->id, kPositionName[dx]);
+            problem = reason(why, [&] { return fmt::format("row {} gives no {} value", row->id, kPositionName[dx]); });
             return;
           }
           s.add(kPositionName[dx], row->id, *v);
           if (dx == 1) ++groups_on_k, hetero_on_k += m.atom(x).atomic_number != 6;
           if (!row->chain) {
             // Everything beyond the substituent atom belongs to it.
-            std::vector<std::size_t> queue{x};
+            auto &queue = sp3_scratch_.queue;
+            queue.assign(1, x);
             taken[x] = true;
             for (std::size_t i = 0; i < queue.size(); ++i)
               for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
@@ -1459,10 +1533,10 @@ class C13Increments final : public ShiftSource {
           for (auto a : atoms)
             for_heavy_neighbours(m, a, [&](std::size_t z, BondOrder) {
               if (taken[z] || !problem.empty()) return;
-              if (is_sp3_carbon(m, z)) {
+              if (sp3(z)) {
                 chain_carbon(z, distance(z), std::max(distance(z), dx));
               } else if (distance(z) >= 0 && distance(z) <= 4) {
-                problem = fmt::format("{} beyond the group {} is not an sp3 carbon", atom_label(m, z), row->id);
+                problem = reason(why, [&] { return fmt::format("{} beyond the group {} is not an sp3 carbon", atom_label(m, z), row->id); });
               }
             });
         });
@@ -1473,7 +1547,7 @@ class C13Increments final : public ShiftSource {
     // count all non-H neighbours (tables/FORMAT.md, additive scheme).
     const auto cls_k = std::min<std::size_t>(t.heavy_degree(k), 4);
     for_heavy_neighbours(m, k, [&](std::size_t j, BondOrder) {
-      if (!is_sp3_carbon(m, j) || cls_k == 0) return;
+      if (!sp3(j) || cls_k == 0) return;
       const auto &st = tab_.gp_steric[cls_k][std::min<std::size_t>(t.heavy_degree(j), 4)];
       if (st.set && st.ppm != 0) s.add("steric", st.id, st.ppm);
     });
@@ -1539,7 +1613,7 @@ class C13Increments final : public ShiftSource {
     // Ring members that are not sp3 carbons.
     for (int i = 0; i < n; ++i) {
       const auto a = (*ring)[static_cast<std::size_t>(i)];
-      if (a == k || is_sp3_carbon(m, a)) continue;
+      if (a == k || sp3(a)) continue;
       const auto *row = sized(rt.members, [&](const RingRow &r) { return match_at(r.smarts, t, a) > 0; });
       if (!row) return fail(why, fmt::format("ring member {} has no row", atom_label(m, a)));
       if (row->group)
@@ -1597,7 +1671,7 @@ class C13Increments final : public ShiftSource {
                    : find_row(rt.substituents, rt.substituent_order, t, x, skeleton,
                               [](const RingRow &) { return true; });
         if (!row) {
-          if (d <= 2) problem = fmt::format("ring substituent at {} has no row", atom_label(m, x));
+          if (d <= 2) problem = reason(why, [&] { return fmt::format("ring substituent at {} has no row", atom_label(m, x)); });
           else s.unvalued();
           return;
         }
@@ -1636,8 +1710,7 @@ class C13Increments final : public ShiftSource {
   // rings of the row's size bridged by one of that size take them.
   const RingRow *bridge_row(const SmartsTarget &t, const std::vector<std::uint32_t> &ring, std::size_t r,
                             std::size_t x) const {
-    const Molecule &m = t.molecule();
-    if (!is_sp3_carbon(m, x) || t.ring_count(x) == 0) return nullptr;
+    if (!sp3(x) || t.ring_count(x) == 0) return nullptr;
     for (const auto &row : tab_.ring.bridges) {
       if (static_cast<std::size_t>(row.ring_size) != ring.size()) continue;
       for (const auto &o : t.rings()) {
@@ -1685,12 +1758,12 @@ class C13Increments final : public ShiftSource {
   }
 
   // k bears Cl, Br or I and is bonded to two or more sp3 carbons.
-  static bool internal_heavy_halide(const Molecule &m, std::size_t k) {
+  bool internal_heavy_halide(const Molecule &m, std::size_t k) const {
     int halogens = 0, carbons = 0;
     for_heavy_neighbours(m, k, [&](std::size_t x, BondOrder) {
       const auto z = m.atom(x).atomic_number;
       halogens += z == 17 || z == 35 || z == 53;
-      carbons += is_sp3_carbon(m, x);
+      carbons += sp3(x);
     });
     return halogens > 0 && carbons >= 2;
   }
@@ -1723,7 +1796,7 @@ class C13Increments final : public ShiftSource {
     parent[k] = true;
     for (std::size_t i = 0; i < order.size(); ++i)
       for_heavy_neighbours(m, order[i], [&](std::size_t z, BondOrder) {
-        if (d[z] < 0 && is_sp3_carbon(m, z)) d[z] = d[order[i]] + 1, parent[z] = true, order.push_back(z);
+        if (d[z] < 0 && sp3(z)) d[z] = d[order[i]] + 1, parent[z] = true, order.push_back(z);
       });
     auto carbon_neighbours = [&](std::size_t a) {
       std::size_t c = 0;
@@ -1756,7 +1829,7 @@ class C13Increments final : public ShiftSource {
         if (parent[x] || !problem.empty()) return;
         const auto *row = find_row(tab_.sp3, tab_.sp3_order, t, x, parent, [](const Sp3Row &r) { return !r.additive; });
         if (!row) {
-          if (pos <= 3) problem = fmt::format("no parent row for the substituent at {}", atom_label(m, x));
+          if (pos <= 3) problem = reason(why, [&] { return fmt::format("no parent row for the substituent at {}", atom_label(m, x)); });
           else s.unvalued();
           return;
         }
@@ -1768,7 +1841,7 @@ class C13Increments final : public ShiftSource {
         else if (pos == 3) v = row->gamma;
         else v = row->delta;
         if (!v) {
-          if (pos <= 3) problem = fmt::format("row {} gives no {} value", row->id, kPositionName[pos]);
+          if (pos <= 3) problem = reason(why, [&] { return fmt::format("row {} gives no {} value", row->id, kPositionName[pos]); });
           else s.unvalued();
           return;
         }
@@ -1792,9 +1865,21 @@ class C13Increments final : public ShiftSource {
   mutable const ShiftQuery *query_ = nullptr;
   mutable const SmartsTarget *target_ = nullptr;
   mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_matches_;  // per hetero ring
-  mutable std::vector<std::vector<bool>> hetero_cover_;                         // per hetero ring
+  mutable std::vector<std::uint8_t> hetero_cover_;  // per hetero ring and atom, see hetero_covers()
   mutable std::vector<std::unique_ptr<BenzeneRing>> benzene_rings_;  // per smallest ring, see benzene_ring()
   mutable std::vector<std::int32_t> sp3_chains_;  // see sp3_chains()
+  mutable std::vector<std::uint8_t> sp3_;         // see sp3()
+  // Scratch of hetero(), which never runs inside itself.
+  mutable std::vector<bool> hetero_skeleton_;
+  mutable std::vector<int> hetero_ring_dist_;
+  // Scratch of sp3_additive(), which never runs inside itself.
+  struct Sp3Scratch {
+    std::vector<bool> skeleton, taken;
+    std::array<std::vector<std::size_t>, 6> bucket;
+    std::vector<int> dist;
+    std::vector<std::size_t> queue;
+  };
+  mutable Sp3Scratch sp3_scratch_;
   mutable std::vector<std::int8_t> answered_;  // per atom: -1 not asked yet, 0 no answer, 1 in answers_
   mutable std::vector<Shift> answers_;
 };
@@ -1818,6 +1903,8 @@ std::shared_ptr<const C13IncrementTables> parse_c13_increment_tables(const Table
   t.alkene.substituent_order = largest_first(t.alkene.substituents);
   t.alkyne.substituent_order = largest_first(t.alkyne.substituents);
   t.benzene_order = largest_first(t.benzene);
+  for (std::size_t i = 0; i < t.benzene.size(); ++i)
+    if (t.benzene[i].id == "benzene-ch3") t.benzene_methyl_row = static_cast<std::int32_t>(i);
   t.class_order = largest_first(t.classes);
   for (std::uint32_t aromatic = 0; aromatic < 2; ++aromatic)
     for (std::uint32_t h = 0; h <= 4; ++h)
