@@ -91,6 +91,9 @@ std::uint64_t pack_field(std::uint64_t v, int shift) { return (v & 0xFFu) << shi
 
 struct SmartsImpl {
   std::string text;
+  // Keys the per-target memo of recursive parts: tables repeat the same
+  // part text in many rows, and equal texts have equal answers.
+  std::size_t text_hash = 0;
   std::vector<ExprNode> nodes;
   std::vector<int> atom_expr;  // root node per pattern atom
   std::vector<PatternBond> bonds;
@@ -854,6 +857,7 @@ class Search {
 SmartsPattern::SmartsPattern(std::string_view text) {
   auto impl = std::make_shared<SmartsImpl>();
   impl->text = std::string(text);
+  impl->text_hash = std::hash<std::string_view>{}(impl->text);
   Parser(impl->text, *impl).parse();
   impl->orders.resize(impl->atom_expr.size());
   for (std::uint32_t root = 0; root < impl->orders.size(); ++root) {
@@ -978,10 +982,7 @@ std::uint64_t SmartsTarget::pack(const AtomFacts &f, std::uint8_t heavy_degree) 
 }
 
 std::size_t SmartsTarget::recursive_slot(const SmartsImpl *part) const {
-  auto hash = [&](const SmartsImpl *key) {
-    return static_cast<std::size_t>((reinterpret_cast<std::uintptr_t>(key) >> 4) * 0x9E3779B97F4A7C15ull) &
-           (memo_slots_.size() - 1);
-  };
+  auto hash = [&](const SmartsImpl *key) { return key->text_hash & (memo_slots_.size() - 1); };
   if (2 * (memo_used_ + 1) > memo_slots_.size()) {
     std::vector<std::pair<const SmartsImpl *, std::size_t>> old(std::max<std::size_t>(64, 2 * memo_slots_.size()),
                                                                  {nullptr, 0});
@@ -995,7 +996,9 @@ std::size_t SmartsTarget::recursive_slot(const SmartsImpl *part) const {
   }
   std::size_t i = hash(part);
   while (memo_slots_[i].first) {
-    if (memo_slots_[i].first == part) return memo_slots_[i].second;
+    const SmartsImpl *held = memo_slots_[i].first;
+    if (held == part || (held->text_hash == part->text_hash && held->text == part->text))
+      return memo_slots_[i].second;
     i = (i + 1) & (memo_slots_.size() - 1);
   }
   const std::size_t offset = memo_pool_.size();

@@ -145,7 +145,7 @@ class SmartsTarget {
   // Matcher internals (smarts.cpp): per atom, the memoised result of a
   // recursive part (-1 not yet known, 0, 1), and search buffers reused
   // between searches. recursive_slot() finds or opens the part's row of
-  // the memo; the reference recursive_value() returns is invalidated by the
+  // the memo, shared by all parts of the same text; the reference recursive_value() returns is invalidated by the
   // next recursive_slot() call.
   std::size_t recursive_slot(const SmartsImpl *part) const;
   std::int8_t &recursive_value(std::size_t slot, std::size_t atom) const { return memo_pool_[slot + atom]; }
@@ -172,7 +172,8 @@ class SmartsTarget {
   mutable bool systems_done_ = false;
   mutable std::vector<std::uint32_t> system_counts_;
   // Memo rows one after another in one pool; an open-addressing table
-  // (power-of-two size, linear probing) maps a part to its row's offset.
+  // (power-of-two size, linear probing) maps a part's text to its row's
+  // offset.
   // A molecule asks about some dozens of parts: a node-based map cost an
   // allocation per part and per node.
   mutable std::vector<std::int8_t> memo_pool_;
