@@ -911,6 +911,11 @@ std::string_view SmartsPattern::text() const noexcept {
   return impl_ ? std::string_view(impl_->text) : std::string_view();
 }
 
+bool SmartsPattern::root_may_be(unsigned atomic_number) const noexcept {
+  const std::uint64_t field = pack_field(0xFF, kPackAtomicNumber);
+  return (root_mask_ & field) == 0 || (root_value_ & field) == pack_field(atomic_number, kPackAtomicNumber);
+}
+
 std::size_t SmartsPattern::atom_count() const noexcept { return impl_ ? impl_->atom_expr.size() : 0; }
 
 const std::vector<std::uint32_t> &SmartsPattern::search_order(std::size_t root) const {

@@ -60,6 +60,10 @@ class SmartsPattern {
   // an anchored match on `packed` cannot exist. Kept in the pattern itself
   // because rule tables try every row on every atom and most rows fail here.
   bool root_may_match(std::uint64_t packed) const noexcept { return (packed & root_mask_) == root_value_; }
+  // Whether root_may_match() can hold for an atom of this atomic number
+  // (0..255): false when pattern atom 0 demands another element. Lets a
+  // rule table list, per element, the rows worth trying on its atoms.
+  bool root_may_be(unsigned atomic_number) const noexcept;
   // The same for the atoms bonded to pattern atom 0, on
   // SmartsTarget::neighbour_kinds(): false when some of them finds no heavy
   // neighbour of the element and over a bond that it asks for. Rows that

@@ -116,6 +116,18 @@ const char *const kParentRole[5][2] = {{"", ""},
 // ---------------------------------------------------------------------------
 // Parsed tables
 
+// The order in which find_row() tries a table's rows (largest_first()),
+// and the same narrowed per element of the substituent atom to the rows
+// whose atom 0 may be of that element: substituents are tried against
+// every row of a table, and most rows demand another element.
+struct RowOrder {
+  std::vector<std::uint32_t> all;
+  std::array<std::vector<std::uint32_t>, 128> by_element;
+  const std::vector<std::uint32_t> &for_element(unsigned atomic_number) const {
+    return atomic_number < by_element.size() ? by_element[atomic_number] : all;
+  }
+};
+
 struct Param {
   double ppm = 0;
   std::string id;
@@ -146,7 +158,7 @@ struct EneTable {
   // smarts names the carbonyl substituent atom.
   std::optional<EneRow> acceptor_alkyl;
   std::vector<EneRow> substituents;
-  std::vector<std::uint32_t> substituent_order;  // largest_first(substituents)
+  RowOrder substituent_order;  // row_order(substituents)
 };
 
 struct BenzeneRow {
@@ -203,7 +215,7 @@ struct RingRow {
 struct RingTables {
   bool present = false;
   std::vector<RingRow> bases, members, substituents;
-  std::vector<std::uint32_t> substituent_order;  // largest_first(substituents)
+  RowOrder substituent_order;  // row_order(substituents)
   // Terms for an sp3 carbon bridging the ring to another ring of the same
   // size (kind "bridge"; ring_size given); see ring_sp3().
   std::vector<RingRow> bridges;
@@ -226,13 +238,13 @@ struct C13Tables {
   std::array<Param, 5> la_base, la_gamma, la_delta;
   std::array<std::array<Param, 5>, 5> la_alpha;
   std::vector<Sp3Row> sp3;
-  std::vector<std::uint32_t> sp3_order;  // largest_first(sp3)
+  RowOrder sp3_order;  // row_order(sp3)
   EneTable alkene, alkyne;
   bool benzene_present = false;
   Param benzene_base;
   std::string benzene_base_label;  // as method texts print it
   std::vector<BenzeneRow> benzene;
-  std::vector<std::uint32_t> benzene_order;  // largest_first(benzene)
+  RowOrder benzene_order;  // row_order(benzene)
   // The row fused_six() carbons take (the last with id benzene-ch3), -1
   // for none: they keep their own. Found here, not per prediction.
   std::int32_t benzene_methyl_row = -1;
@@ -320,6 +332,16 @@ std::vector<std::uint32_t> largest_first(const std::vector<Row> &rows) {
     return rows[a].smarts.atom_count() > rows[b].smarts.atom_count();
   });
   return order;
+}
+
+template <class Row>
+RowOrder row_order(const std::vector<Row> &rows) {
+  RowOrder out;
+  out.all = largest_first(rows);
+  for (unsigned z = 0; z < out.by_element.size(); ++z)
+    for (const auto i : out.all)
+      if (rows[i].smarts.root_may_be(z)) out.by_element[z].push_back(i);
+  return out;
 }
 
 bool ends_with(const std::string &s, const char *suffix) {
@@ -723,12 +745,12 @@ bool share_ring(const SmartsTarget &t, std::size_t a, std::size_t b) {
 // The applicable row of a scheme for substituent atom `x`: a match with its
 // first atom on x and no atom on the skeleton. Rows within a scheme are
 // mutually exclusive (tables/FORMAT.md); should two apply, the one with more
-// pattern atoms wins, then the earlier row. `order` is largest_first(rows),
+// pattern atoms wins, then the earlier row. `order` is row_order(rows),
 // so the first row that matches is that one and the rest need no search.
 template <class Row, class Keep>
-const Row *find_row(const std::vector<Row> &rows, const std::vector<std::uint32_t> &order, const SmartsTarget &t,
-                    std::size_t x, const std::vector<bool> &skeleton, Keep keep) {
-  for (const auto i : order) {
+const Row *find_row(const std::vector<Row> &rows, const RowOrder &order, const SmartsTarget &t, std::size_t x,
+                    const std::vector<bool> &skeleton, Keep keep) {
+  for (const auto i : order.for_element(t.facts(x).atomic_number)) {
     const Row &row = rows[i];
     if (keep(row) && match_at(row.smarts, t, x, skeleton)) return &row;
   }
@@ -1899,10 +1921,10 @@ std::shared_ptr<const C13IncrementTables> parse_c13_increment_tables(const Table
   read_ring(tables, out->tables);
   read_solvent(tables, out->tables);
   auto &t = out->tables;
-  t.sp3_order = largest_first(t.sp3);
-  t.alkene.substituent_order = largest_first(t.alkene.substituents);
-  t.alkyne.substituent_order = largest_first(t.alkyne.substituents);
-  t.benzene_order = largest_first(t.benzene);
+  t.sp3_order = row_order(t.sp3);
+  t.alkene.substituent_order = row_order(t.alkene.substituents);
+  t.alkyne.substituent_order = row_order(t.alkyne.substituents);
+  t.benzene_order = row_order(t.benzene);
   for (std::size_t i = 0; i < t.benzene.size(); ++i)
     if (t.benzene[i].id == "benzene-ch3") t.benzene_methyl_row = static_cast<std::int32_t>(i);
   t.class_order = largest_first(t.classes);
@@ -1919,7 +1941,7 @@ std::shared_ptr<const C13IncrementTables> parse_c13_increment_tables(const Table
         for (const auto i : t.class_order)
           if (t.classes[i].smarts.root_may_match(c.packed)) c.rows.push_back(i);
       }
-  t.ring.substituent_order = largest_first(t.ring.substituents);
+  t.ring.substituent_order = row_order(t.ring.substituents);
   return out;
 }
 
