@@ -56,6 +56,7 @@
 
 #include "graph/smarts.hpp"
 #include "shifts/increment_support.hpp"
+#include "shifts/increments_h1.hpp"
 #include "shifts/sources.hpp"
 #include "tables/parse.hpp"
 
@@ -1950,8 +1951,14 @@ std::unique_ptr<ShiftSource> make_c13_increments(std::shared_ptr<const C13Increm
   if (!parsed) throw InternalError("make_c13_increments: no parsed tables");
   // Resolved only when some row depends on the solvent, so a table set
   // without solvents.tsv or c13_solvent.tsv predicts as before.
+  // Every predict_c13 call comes here: the list parsed with the tables is
+  // searched in place, where find_solvent() would copy the solvent found.
   std::string name;
-  if (!parsed->tables.solvent.empty()) name = find_solvent(tables, solvent).name;
+  if (!parsed->tables.solvent.empty()) {
+    const auto &h1 = tables.h1_increments();
+    const auto *listed = h1 ? parsed_solvents(*h1) : nullptr;
+    name = listed ? find_listed_solvent(*listed, solvent).name : find_solvent(tables, solvent).name;
+  }
   return std::make_unique<C13Increments>(std::move(parsed), name);
 }
 
