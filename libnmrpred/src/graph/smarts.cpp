@@ -1199,9 +1199,14 @@ void SmartsTarget::perceive_rings() const {
     std::uint32_t atoms_off, size, bits_off, root, edge;
   };
   std::vector<Cycle> candidates, kept;
+  // Sized for the common case (one candidate per core bond) so that the
+  // pools seldom grow step by step.
+  candidates.reserve(edge_count);
+  kept.reserve(edge_count);
   std::vector<std::uint32_t> atom_pool;
   atom_pool.reserve(2 * n);
   std::vector<std::uint64_t> bit_pool;
+  bit_pool.reserve(edge_count);
   auto *const mark = reinterpret_cast<std::uint32_t *>(carve(n));
   std::fill(mark, mark + n, 0u);
   std::uint32_t stamp = 0;
