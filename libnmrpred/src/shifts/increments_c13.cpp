@@ -1137,7 +1137,7 @@ class C13Increments final : public ShiftSource {
       // anchored there visits them (SmartsPattern::search_order), taken
       // from the molecule's mappings found once.
       const auto &all = hetero_matches(t, ri);
-      std::vector<const std::vector<std::uint32_t> *> anchored;
+      auto &anchored = hetero_anchored_;  // kept between carbons
       for (std::size_t p = 0; p < n; ++p) {
         anchored.clear();
         for (const auto &map : all)
@@ -1183,7 +1183,8 @@ class C13Increments final : public ShiftSource {
         {
           for (auto a : set) ring_dist[a] = -1;
           ring_dist[k] = 0;
-          std::vector<std::size_t> queue{k};
+          auto &queue = hetero_queue_;  // kept between carbons
+          queue.assign(1, k);
           for (std::size_t i = 0; i < queue.size(); ++i)
             for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
               if (ring_dist[z] == -1) ring_dist[z] = ring_dist[queue[i]] + 1, queue.push_back(z);
@@ -1436,12 +1437,13 @@ class C13Increments final : public ShiftSource {
       if (m.atom(j).atomic_number != 6 || m.atom(j).aromatic || t.heavy_degree(j) != 2) return;
       for_heavy_neighbours(m, j, [&](std::size_t p, BondOrder o) {
         if (o != BondOrder::Double || m.atom(p).atomic_number != 6) return;
-        std::vector<std::size_t> groups;
+        // Counted, not collected: this runs for every sp3 carbon next to a C=C.
+        std::size_t groups = 0, group = 0;
         for_heavy_neighbours(m, p, [&](std::size_t y, BondOrder) {
-          if (y != j) groups.push_back(y);
+          if (y != j) ++groups, group = y;
         });
-        if (groups.size() == 2) ++count;
-        else if (groups.size() == 1 && cis_pair(t, j, p, k, groups[0]) == 1) ++count;
+        if (groups == 2) ++count;
+        else if (groups == 1 && cis_pair(t, j, p, k, group) == 1) ++count;
       });
     });
     return count;
@@ -1895,6 +1897,8 @@ class C13Increments final : public ShiftSource {
   // Scratch of hetero(), which never runs inside itself.
   mutable std::vector<bool> hetero_skeleton_;
   mutable std::vector<int> hetero_ring_dist_;
+  mutable std::vector<std::size_t> hetero_queue_;
+  mutable std::vector<const std::vector<std::uint32_t> *> hetero_anchored_;
   // Scratch of sp3_additive(), which never runs inside itself.
   struct Sp3Scratch {
     std::vector<bool> skeleton, taken;
