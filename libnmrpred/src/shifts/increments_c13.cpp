@@ -1630,7 +1630,10 @@ class C13Increments final : public ShiftSource {
     Sum s({}, kRingSpread);
     s.scheme_text("sp3 ring increments (" + std::to_string(n) + "-membered ring)");
     s.base(base->base_label, *base->by_distance[0]);
-    std::vector<bool> skeleton(m.atom_count(), false), taken(m.atom_count(), false);
+    // Kept between carbons (ring_scratch_): ring_sp3() never runs inside itself.
+    auto &skeleton = ring_scratch_.skeleton, &taken = ring_scratch_.taken;
+    skeleton.assign(m.atom_count(), false);
+    taken.assign(m.atom_count(), false);
     for (auto a : *ring) skeleton[a] = taken[a] = true;
     const auto ik = static_cast<int>(std::find(ring->begin(), ring->end(), k) - ring->begin());
     auto ring_distance = [&](int i) { return std::min(std::abs(i - ik), n - std::abs(i - ik)); };
@@ -1814,9 +1817,13 @@ class C13Increments final : public ShiftSource {
     const Molecule &m = t.molecule();
     if (!tab_.gp_base.set) return fail(why, "no Grant-Paul parameters");
     // The parent alkane: the connected sp3 carbons containing k.
-    std::vector<int> d(m.heavy_atom_count(), -1);
-    std::vector<bool> parent(m.atom_count(), false);
-    std::vector<std::size_t> order{k};
+    // Kept between carbons (parent_scratch_), as sp3_additive() keeps its own.
+    auto &d = parent_scratch_.dist;
+    auto &parent = parent_scratch_.parent;
+    auto &order = parent_scratch_.order;
+    d.assign(m.heavy_atom_count(), -1);
+    parent.assign(m.atom_count(), false);
+    order.assign(1, k);
     d[k] = 0;
     parent[k] = true;
     for (std::size_t i = 0; i < order.size(); ++i)
@@ -1907,6 +1914,18 @@ class C13Increments final : public ShiftSource {
     std::vector<std::size_t> queue;
   };
   mutable Sp3Scratch sp3_scratch_;
+  // Scratch of sp3_parent() and of ring_sp3(), neither of which runs inside
+  // itself or the other.
+  struct ParentScratch {
+    std::vector<int> dist;
+    std::vector<bool> parent;
+    std::vector<std::size_t> order;
+  };
+  mutable ParentScratch parent_scratch_;
+  struct RingScratch {
+    std::vector<bool> skeleton, taken;
+  };
+  mutable RingScratch ring_scratch_;
   mutable std::vector<std::int8_t> answered_;  // per atom: -1 not asked yet, 0 no answer, 1 in answers_
   mutable std::vector<Shift> answers_;
 };
