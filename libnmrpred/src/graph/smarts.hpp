@@ -149,8 +149,9 @@ class SmartsTarget {
   // Matcher internals (smarts.cpp): per atom, the memoised result of a
   // recursive part (-1 not yet known, 0, 1), and search buffers reused
   // between searches. recursive_slot() finds or opens the part's row of
-  // the memo, shared by all parts of the same text; the reference recursive_value() returns is invalidated by the
-  // next recursive_slot() call.
+  // the memo, shared by all parts of the same text; the reference
+  // recursive_value() returns is invalidated by the next recursive_slot()
+  // call.
   std::size_t recursive_slot(const SmartsImpl *part) const;
   std::int8_t &recursive_value(std::size_t slot, std::size_t atom) const { return memo_pool_[slot + atom]; }
   std::vector<std::uint32_t> take_buffer() const;
@@ -177,9 +178,8 @@ class SmartsTarget {
   mutable std::vector<std::uint32_t> system_counts_;
   // Memo rows one after another in one pool; an open-addressing table
   // (power-of-two size, linear probing) maps a part's text to its row's
-  // offset.
-  // A molecule asks about some dozens of parts: a node-based map cost an
-  // allocation per part and per node.
+  // offset. A molecule asks about some dozens of parts: a node-based map
+  // cost an allocation per part and per node.
   mutable std::vector<std::int8_t> memo_pool_;
   mutable std::vector<std::pair<const SmartsImpl *, std::size_t>> memo_slots_;
   mutable std::size_t memo_used_ = 0;
