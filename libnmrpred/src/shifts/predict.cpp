@@ -6,7 +6,6 @@
 #include <nmrpred/solvents.hpp>
 
 #include <algorithm>
-#include <charconv>
 #include <limits>
 #include <cmath>
 #include <memory>
@@ -14,6 +13,7 @@
 
 #include <fmt/format.h>
 
+#include "shifts/fixed_text.hpp"
 #include "shifts/increments_h1.hpp"
 #include "shifts/reference_index.hpp"
 #include "shifts/sources.hpp"
@@ -114,15 +114,13 @@ constexpr int kC13WeakSphere = 4;
 // the same filter lost 4 carbons net, so sphere 1 keeps all residuals.
 constexpr int kC13SameSchemeSphere = 2;
 
-// v as fmt's "{:+.1f}" writes it: std::to_chars rounds the exact binary
-// value the same way at a fraction of the cost (once per looked-up atom).
+// v as fmt's "{:+.1f}" writes it (the sign is v's, so -0.04 gives -0.0).
 std::string signed_1(double v) {
-  if (!std::isfinite(v)) return fmt::format("{:+.1f}", v);
-  char buf[32];
-  char *p = buf;
-  if (!std::signbit(v)) *p++ = '+';
-  const auto r = std::to_chars(p, buf + sizeof buf, v, std::chars_format::fixed, 1);
-  return std::string(buf, r.ptr);
+  std::uint64_t tenths = 0;
+  if (!scaled_magnitude(v, 10, tenths)) return fmt::format("{:+.1f}", v);
+  std::string s;
+  append_scaled(s, std::signbit(v) ? '-' : '+', tenths, 1);
+  return s;
 }
 
 class ReferenceLookup final : public ShiftSource {
