@@ -148,10 +148,9 @@ class ReferenceLookup final : public ShiftSource {
       inc_done = true;
     };
     for (int k = keys.depth; k >= 1; --k) {
-      const auto &map = index.levels[user_ ? kUser : kBuiltin][nucleus][k];
-      const auto it = map.find(keys.key[static_cast<std::size_t>(k)]);
-      if (it == map.end()) continue;
-      const Bucket &b = it->second;
+      const Bucket *found = index.levels[user_ ? kUser : kBuiltin][nucleus][k].find(keys.key[static_cast<std::size_t>(k)]);
+      if (!found) continue;
+      const Bucket &b = *found;
       Summary shift = b.shift, residual = b.residual;
       std::vector<std::uint32_t> used;
       // Blind mode: recompute without the query's own compound(s), if present.
@@ -262,11 +261,11 @@ class ReferenceLookup final : public ShiftSource {
     int from = k;
     const auto &index = q.tables.reference_index();
     for (int j = k; pair.n == 0 && j >= kPairMinSphere; --j) {
-      const auto &map = index.levels[user_ ? kUser : kBuiltin][kIndexH1][j];
-      const auto it = map.find(q.keys(atom).key[static_cast<std::size_t>(j)]);
-      if (it == map.end()) continue;
+      const Bucket *found =
+          index.levels[user_ ? kUser : kBuiltin][kIndexH1][j].find(q.keys(atom).key[static_cast<std::size_t>(j)]);
+      if (!found) continue;
       std::vector<double> hv;
-      for (const auto &cv : it->second.compounds)
+      for (const auto &cv : found->compounds)
         if (std::isfinite(cv.pair_half_ppm) &&
             std::find(excluded.begin(), excluded.end(), cv.compound) == excluded.end())
           hv.push_back(cv.pair_half_ppm);
