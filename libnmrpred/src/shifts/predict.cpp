@@ -195,9 +195,10 @@ class ReferenceLookup final : public ShiftSource {
           out.uncertainty_ppm = std::sqrt(prior * prior + residual.sd * residual.sd);
           // Plain appends rather than the formatter: one of these per looked-up atom.
           std::string &m = out.method;
-          // Room for the longest tail below, so the appends do not regrow it.
-          m.reserve(inc_method.size() + 192);
-          m = inc_method;
+          // The rule's text is not needed after this: taken, not copied, with
+          // room for the longest tail below so the appends do not regrow it.
+          m = std::move(inc_method);
+          m.reserve(m.size() + 192);
           m += "; corrected by ";
           m += signed_1(correction);
           const bool shrunk = correction != residual.median;
@@ -384,16 +385,18 @@ bool lookup_keyed(const Molecule &m, std::size_t atom) {
   return m.atom(atom).atomic_number == 6 || (m.is_hydrogen(atom) && proton_kind(m, atom) == ProtonKind::CarbonBound);
 }
 
-std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const ShiftSource *> &sources,
+std::vector<Shift> run_sources(const ShiftQuery &q, const SourceList &sources,
                                const std::vector<std::size_t> &atoms, std::vector<std::string> *warnings) {
   std::vector<Shift> out;
   out.reserve(atoms.size());
-  // Chemical class -> position in out of its first atom.
+  // Chemical class -> position in out of its first atom; sized once rather
+  // than grown class by class.
   constexpr auto kNotYet = std::numeric_limits<std::size_t>::max();
-  std::vector<std::size_t> by_class;
+  std::size_t classes = 0;
+  for (auto atom : atoms) classes = std::max<std::size_t>(classes, q.classes.chemical[atom] + std::size_t{1});
+  std::vector<std::size_t> by_class(classes, kNotYet);
   for (auto atom : atoms) {
     const std::size_t cls = q.classes.chemical[atom];
-    if (cls >= by_class.size()) by_class.resize(cls + 1, kNotYet);
     if (by_class[cls] != kNotYet) {
       // Equivalent atoms always share the value.
       Shift copy = out[by_class[cls]];
@@ -421,10 +424,6 @@ std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const Shif
   return out;
 }
 
-std::unique_ptr<ShiftSource> make_reference_lookup(bool user, const ShiftSource *increments) {
-  return std::make_unique<ReferenceLookup>(user, increments);
-}
-
 std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
                                   const ShiftOptions &options, std::vector<std::string> *warnings,
                                   const MoleculeFacts *shared) {
@@ -434,13 +433,12 @@ std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &c
   std::unique_ptr<detail::ShiftSource> increments;
   if (options.use_increments)
     increments = detail::make_c13_increments(tables.c13_increments(), tables, options.solvent);
-  const auto user = detail::make_reference_lookup(true, increments.get());
-  const auto builtin = detail::make_reference_lookup(false, increments.get());
+  const ReferenceLookup user(true, increments.get()), builtin(false, increments.get());
   const auto fallback = detail::make_c13_class_average();
-  std::vector<const detail::ShiftSource *> sources;
+  SourceList sources;
   if (options.use_reference) {
-    sources.push_back(user.get());
-    sources.push_back(builtin.get());
+    sources.push_back(&user);
+    sources.push_back(&builtin);
   }
   if (increments) sources.push_back(increments.get());
   sources.push_back(fallback.get());
@@ -469,18 +467,17 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::H1, shared);
   std::unique_ptr<detail::ShiftSource> increments;
   if (options.use_increments) increments = detail::make_h1_increments(tables.h1_increments(), solvent.name);
-  const auto user = detail::make_reference_lookup(true, increments.get());
-  const auto builtin = detail::make_reference_lookup(false, increments.get());
+  const ReferenceLookup user(true, increments.get()), builtin(false, increments.get());
   const auto fallback = detail::make_h1_class_average();
-  std::vector<const detail::ShiftSource *> sources;
+  SourceList sources;
   std::vector<std::size_t> carbon_bound, labile;
   for (std::size_t a = molecule.heavy_atom_count(); a < molecule.atom_count(); ++a) {
     const auto kind = proton_kind(molecule, a);
     if (kind != ProtonKind::Silent) (kind == ProtonKind::Labile ? labile : carbon_bound).push_back(a);
   }
   if (options.use_reference) {
-    sources.push_back(user.get());
-    sources.push_back(builtin.get());
+    sources.push_back(&user);
+    sources.push_back(&builtin);
   }
   if (increments) sources.push_back(increments.get());
   sources.push_back(fallback.get());
@@ -492,7 +489,7 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   // Exchangeable protons: reference values from other solvents and
   // concentrations do not carry over; the solvent-specific typical values of
   // the special-proton table (or a class average) with a wide uncertainty.
-  std::vector<const detail::ShiftSource *> labile_sources;
+  SourceList labile_sources;
   if (increments) labile_sources.push_back(increments.get());
   labile_sources.push_back(fallback.get());
   auto labile_shifts = detail::run_sources(q, labile_sources, labile, nullptr);
