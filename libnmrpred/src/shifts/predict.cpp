@@ -175,13 +175,17 @@ class ReferenceLookup final : public ShiftSource {
         query_increments();
         if (std::isfinite(inc_q) && q.nucleus == Nucleus::C13 && k >= kC13SameSchemeSphere && k <= kShallowSphere) {
           const auto key = scheme_key(inc_method);
-          std::vector<double> rv;
-          rv.reserve(b.compounds.size());
-          for (const auto &cv : b.compounds)
-            if (cv.scheme == key && std::isfinite(cv.residual_ppm) &&
-                std::find(excluded.begin(), excluded.end(), cv.compound) == excluded.end())
-              rv.push_back(cv.residual_ppm);
-          residual = summarise(std::move(rv));
+          if (!touched) {
+            residual = b.residual_of(key);
+          } else {
+            std::vector<double> rv;
+            rv.reserve(b.compounds.size());
+            for (const auto &cv : b.compounds)
+              if (cv.scheme == key && std::isfinite(cv.residual_ppm) &&
+                  std::find(excluded.begin(), excluded.end(), cv.compound) == excluded.end())
+                rv.push_back(cv.residual_ppm);
+            residual = summarise(std::move(rv));
+          }
         }
         if (std::isfinite(inc_q) && residual.n > 0) {
           double correction = residual.median;

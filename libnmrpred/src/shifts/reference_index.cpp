@@ -70,6 +70,12 @@ Summary summarise(std::vector<double> v) {
   return s;
 }
 
+Summary Bucket::residual_of(std::uint64_t scheme) const {
+  const auto it = std::lower_bound(residual_by_scheme.begin(), residual_by_scheme.end(), scheme,
+                                   [](const auto &e, std::uint64_t s) { return e.first < s; });
+  return it != residual_by_scheme.end() && it->first == scheme ? it->second : Summary{};
+}
+
 std::int64_t diastereotopic_partner(const Molecule &m, const AtomClasses &classes, std::size_t h) {
   const auto c = m.attached_to(h);
   if (c < 0) return -1;
@@ -220,6 +226,20 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
           }
           b.shift = summarise(std::move(shifts));
           b.residual = summarise(std::move(residuals));
+          if (nu == kIndexC13) {
+            std::vector<std::pair<std::uint64_t, double>> by_scheme;
+            for (const auto &cv : b.compounds)
+              if (std::isfinite(cv.residual_ppm)) by_scheme.emplace_back(cv.scheme, cv.residual_ppm);
+            std::sort(by_scheme.begin(), by_scheme.end());
+            for (std::size_t i = 0; i < by_scheme.size();) {
+              std::size_t j = i;
+              std::vector<double> values;
+              for (; j < by_scheme.size() && by_scheme[j].first == by_scheme[i].first; ++j)
+                values.push_back(by_scheme[j].second);
+              b.residual_by_scheme.emplace_back(by_scheme[i].first, summarise(std::move(values)));
+              i = j;
+            }
+          }
           entries.emplace_back(kv.first, std::move(b));
           known[static_cast<std::size_t>(k)].push_back(kv.first);
         }

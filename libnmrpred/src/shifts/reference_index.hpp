@@ -55,6 +55,12 @@ struct Summary {
 struct Bucket {
   std::vector<CompoundValue> compounds;  // sorted by compound
   Summary shift, residual;               // over all compounds (residual: those that have one)
+  // The residual summarised per scheme (sorted by scheme), so a lookup that
+  // takes only the query's scheme reads it instead of summarising hundreds
+  // of compounds of a shallow sphere anew.
+  std::vector<std::pair<std::uint64_t, Summary>> residual_by_scheme;
+  // Summary of the residuals of `scheme` (n = 0: none).
+  Summary residual_of(std::uint64_t scheme) const;
 };
 
 // The other proton of a diastereotopic CH2 on an sp3 carbon: the carbon's
