@@ -32,6 +32,7 @@
 #include <fmt/format.h>
 
 #include "graph/smarts.hpp"
+#include "shifts/fixed_text.hpp"
 #include "shifts/increment_support.hpp"
 #include "tables/parse.hpp"
 
@@ -99,41 +100,12 @@ constexpr double kRingEnonePpm = 0.4;
 
 // Appends v as fmt's "{:.2f}" writes it, except that -0.00 is written 0.00.
 void append_ppm(std::string &out, double v) {
-  // fmt's "{:.2f}" rounds the exact binary value, ties to even. For |v| <
-  // 2^52 that is exact integer arithmetic: v = m * 2^-shift, so 100 v (m
-  // below 2^53, 100 m below 2^60) rounds to whole hundredths by a shift and
-  // the bits it drops. A method text holds several values, and this costs a
-  // tenth of std::to_chars.
-  std::uint64_t bits = 0;
-  std::memcpy(&bits, &v, sizeof bits);
-  const auto biased = static_cast<int>(bits >> 52 & 0x7FF);
-  std::uint64_t m = bits & ((std::uint64_t{1} << 52) - 1);
-  if (biased != 0) m |= std::uint64_t{1} << 52;
-  const int shift = biased != 0 ? 1075 - biased : 1074;
-  if (shift <= 0) {  // |v| >= 2^52, infinite or not a number: left to the formatter
+  std::uint64_t hundredths = 0;
+  if (!scaled_magnitude(v, 100, hundredths)) {
     out += fmt::format("{:.2f}", v);
     return;
   }
-  std::uint64_t hundredths = 0;  // |v| < 2^-11 when shift >= 64: rounds to 0
-  if (shift < 64) {
-    const std::uint64_t x = m * 100;
-    hundredths = x >> shift;
-    const std::uint64_t dropped = x & ((std::uint64_t{1} << shift) - 1), half = std::uint64_t{1} << (shift - 1);
-    if (dropped > half || (dropped == half && (hundredths & 1) != 0)) ++hundredths;
-  }
-  char buf[24];
-  char *const end = buf + sizeof buf;
-  char *p = end;
-  const auto fraction = static_cast<unsigned>(hundredths % 100);
-  *--p = static_cast<char>('0' + fraction % 10);
-  *--p = static_cast<char>('0' + fraction / 10);
-  *--p = '.';
-  for (std::uint64_t whole = hundredths / 100;; whole /= 10) {
-    *--p = static_cast<char>('0' + whole % 10);
-    if (whole < 10) break;
-  }
-  if ((bits >> 63) != 0 && hundredths != 0) *--p = '-';
-  out.append(p, end);
+  append_scaled(out, std::signbit(v) && hundredths != 0 ? '-' : 0, hundredths, 2);
 }
 
 std::string fmt_ppm(double v) {

@@ -6,7 +6,6 @@
 #include <nmrpred/solvents.hpp>
 
 #include <algorithm>
-#include <charconv>
 #include <limits>
 #include <cmath>
 #include <memory>
@@ -14,6 +13,7 @@
 
 #include <fmt/format.h>
 
+#include "shifts/fixed_text.hpp"
 #include "shifts/increments_h1.hpp"
 #include "shifts/reference_index.hpp"
 #include "shifts/sources.hpp"
@@ -114,15 +114,13 @@ constexpr int kC13WeakSphere = 4;
 // the same filter lost 4 carbons net, so sphere 1 keeps all residuals.
 constexpr int kC13SameSchemeSphere = 2;
 
-// v as fmt's "{:+.1f}" writes it: std::to_chars rounds the exact binary
-// value the same way at a fraction of the cost (once per looked-up atom).
+// v as fmt's "{:+.1f}" writes it (the sign is v's, so -0.04 gives -0.0).
 std::string signed_1(double v) {
-  if (!std::isfinite(v)) return fmt::format("{:+.1f}", v);
-  char buf[32];
-  char *p = buf;
-  if (!std::signbit(v)) *p++ = '+';
-  const auto r = std::to_chars(p, buf + sizeof buf, v, std::chars_format::fixed, 1);
-  return std::string(buf, r.ptr);
+  std::uint64_t tenths = 0;
+  if (!scaled_magnitude(v, 10, tenths)) return fmt::format("{:+.1f}", v);
+  std::string s;
+  append_scaled(s, std::signbit(v) ? '-' : '+', tenths, 1);
+  return s;
 }
 
 class ReferenceLookup final : public ShiftSource {
@@ -150,10 +148,9 @@ class ReferenceLookup final : public ShiftSource {
       inc_done = true;
     };
     for (int k = keys.depth; k >= 1; --k) {
-      const auto &map = index.levels[user_ ? kUser : kBuiltin][nucleus][k];
-      const auto it = map.find(keys.key[static_cast<std::size_t>(k)]);
-      if (it == map.end()) continue;
-      const Bucket &b = it->second;
+      const Bucket *found = index.levels[user_ ? kUser : kBuiltin][nucleus][k].find(keys.key[static_cast<std::size_t>(k)]);
+      if (!found) continue;
+      const Bucket &b = *found;
       Summary shift = b.shift, residual = b.residual;
       std::vector<std::uint32_t> used;
       // Blind mode: recompute without the query's own compound(s), if present.
@@ -178,13 +175,17 @@ class ReferenceLookup final : public ShiftSource {
         query_increments();
         if (std::isfinite(inc_q) && q.nucleus == Nucleus::C13 && k >= kC13SameSchemeSphere && k <= kShallowSphere) {
           const auto key = scheme_key(inc_method);
-          std::vector<double> rv;
-          rv.reserve(b.compounds.size());
-          for (const auto &cv : b.compounds)
-            if (cv.scheme == key && std::isfinite(cv.residual_ppm) &&
-                std::find(excluded.begin(), excluded.end(), cv.compound) == excluded.end())
-              rv.push_back(cv.residual_ppm);
-          residual = summarise(std::move(rv));
+          if (!touched) {
+            residual = b.residual_of(key);
+          } else {
+            std::vector<double> rv;
+            rv.reserve(b.compounds.size());
+            for (const auto &cv : b.compounds)
+              if (cv.scheme == key && std::isfinite(cv.residual_ppm) &&
+                  std::find(excluded.begin(), excluded.end(), cv.compound) == excluded.end())
+                rv.push_back(cv.residual_ppm);
+            residual = summarise(std::move(rv));
+          }
         }
         if (std::isfinite(inc_q) && residual.n > 0) {
           double correction = residual.median;
@@ -198,9 +199,10 @@ class ReferenceLookup final : public ShiftSource {
           out.uncertainty_ppm = std::sqrt(prior * prior + residual.sd * residual.sd);
           // Plain appends rather than the formatter: one of these per looked-up atom.
           std::string &m = out.method;
-          // Room for the longest tail below, so the appends do not regrow it.
-          m.reserve(inc_method.size() + 192);
-          m = inc_method;
+          // The rule's text is not needed after this: taken, not copied, with
+          // room for the longest tail below so the appends do not regrow it.
+          m = std::move(inc_method);
+          m.reserve(m.size() + 192);
           m += "; corrected by ";
           m += signed_1(correction);
           const bool shrunk = correction != residual.median;
@@ -264,11 +266,11 @@ class ReferenceLookup final : public ShiftSource {
     int from = k;
     const auto &index = q.tables.reference_index();
     for (int j = k; pair.n == 0 && j >= kPairMinSphere; --j) {
-      const auto &map = index.levels[user_ ? kUser : kBuiltin][kIndexH1][j];
-      const auto it = map.find(q.keys(atom).key[static_cast<std::size_t>(j)]);
-      if (it == map.end()) continue;
+      const Bucket *found =
+          index.levels[user_ ? kUser : kBuiltin][kIndexH1][j].find(q.keys(atom).key[static_cast<std::size_t>(j)]);
+      if (!found) continue;
       std::vector<double> hv;
-      for (const auto &cv : it->second.compounds)
+      for (const auto &cv : found->compounds)
         if (std::isfinite(cv.pair_half_ppm) &&
             std::find(excluded.begin(), excluded.end(), cv.compound) == excluded.end())
           hv.push_back(cv.pair_half_ppm);
@@ -387,16 +389,18 @@ bool lookup_keyed(const Molecule &m, std::size_t atom) {
   return m.atom(atom).atomic_number == 6 || (m.is_hydrogen(atom) && proton_kind(m, atom) == ProtonKind::CarbonBound);
 }
 
-std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const ShiftSource *> &sources,
+std::vector<Shift> run_sources(const ShiftQuery &q, const SourceList &sources,
                                const std::vector<std::size_t> &atoms, std::vector<std::string> *warnings) {
   std::vector<Shift> out;
   out.reserve(atoms.size());
-  // Chemical class -> position in out of its first atom.
+  // Chemical class -> position in out of its first atom; sized once rather
+  // than grown class by class.
   constexpr auto kNotYet = std::numeric_limits<std::size_t>::max();
-  std::vector<std::size_t> by_class;
+  std::size_t classes = 0;
+  for (auto atom : atoms) classes = std::max<std::size_t>(classes, q.classes.chemical[atom] + std::size_t{1});
+  std::vector<std::size_t> by_class(classes, kNotYet);
   for (auto atom : atoms) {
     const std::size_t cls = q.classes.chemical[atom];
-    if (cls >= by_class.size()) by_class.resize(cls + 1, kNotYet);
     if (by_class[cls] != kNotYet) {
       // Equivalent atoms always share the value.
       Shift copy = out[by_class[cls]];
@@ -424,10 +428,6 @@ std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const Shif
   return out;
 }
 
-std::unique_ptr<ShiftSource> make_reference_lookup(bool user, const ShiftSource *increments) {
-  return std::make_unique<ReferenceLookup>(user, increments);
-}
-
 std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
                                   const ShiftOptions &options, std::vector<std::string> *warnings,
                                   const MoleculeFacts *shared) {
@@ -437,13 +437,12 @@ std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &c
   std::unique_ptr<detail::ShiftSource> increments;
   if (options.use_increments)
     increments = detail::make_c13_increments(tables.c13_increments(), tables, options.solvent);
-  const auto user = detail::make_reference_lookup(true, increments.get());
-  const auto builtin = detail::make_reference_lookup(false, increments.get());
+  const ReferenceLookup user(true, increments.get()), builtin(false, increments.get());
   const auto fallback = detail::make_c13_class_average();
-  std::vector<const detail::ShiftSource *> sources;
+  SourceList sources;
   if (options.use_reference) {
-    sources.push_back(user.get());
-    sources.push_back(builtin.get());
+    sources.push_back(&user);
+    sources.push_back(&builtin);
   }
   if (increments) sources.push_back(increments.get());
   sources.push_back(fallback.get());
@@ -472,18 +471,17 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::H1, shared);
   std::unique_ptr<detail::ShiftSource> increments;
   if (options.use_increments) increments = detail::make_h1_increments(tables.h1_increments(), solvent.name);
-  const auto user = detail::make_reference_lookup(true, increments.get());
-  const auto builtin = detail::make_reference_lookup(false, increments.get());
+  const ReferenceLookup user(true, increments.get()), builtin(false, increments.get());
   const auto fallback = detail::make_h1_class_average();
-  std::vector<const detail::ShiftSource *> sources;
+  SourceList sources;
   std::vector<std::size_t> carbon_bound, labile;
   for (std::size_t a = molecule.heavy_atom_count(); a < molecule.atom_count(); ++a) {
     const auto kind = proton_kind(molecule, a);
     if (kind != ProtonKind::Silent) (kind == ProtonKind::Labile ? labile : carbon_bound).push_back(a);
   }
   if (options.use_reference) {
-    sources.push_back(user.get());
-    sources.push_back(builtin.get());
+    sources.push_back(&user);
+    sources.push_back(&builtin);
   }
   if (increments) sources.push_back(increments.get());
   sources.push_back(fallback.get());
@@ -495,7 +493,7 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   // Exchangeable protons: reference values from other solvents and
   // concentrations do not carry over; the solvent-specific typical values of
   // the special-proton table (or a class average) with a wide uncertainty.
-  std::vector<const detail::ShiftSource *> labile_sources;
+  SourceList labile_sources;
   if (increments) labile_sources.push_back(increments.get());
   labile_sources.push_back(fallback.get());
   auto labile_shifts = detail::run_sources(q, labile_sources, labile, nullptr);

@@ -34,6 +34,20 @@ void HashSet::assign(const std::vector<std::uint64_t> &values) {
   }
 }
 
+void BucketTable::assign(std::vector<std::pair<std::uint64_t, Bucket>> entries) {
+  std::vector<std::uint64_t> keys;
+  keys.reserve(entries.size());
+  for (const auto &e : entries) keys.push_back(e.first);
+  keys_.assign(keys);
+  bucket_at_.assign(keys_.capacity() + 1, 0);
+  buckets_.clear();
+  buckets_.reserve(entries.size());
+  for (auto &e : entries) {
+    bucket_at_[keys_.position(e.first)] = static_cast<std::uint32_t>(buckets_.size());
+    buckets_.push_back(std::move(e.second));
+  }
+}
+
 std::uint64_t hose_key(const std::vector<std::string> &parts, int spheres) {
   std::uint64_t h = kHoseKeySeed;
   for (int k = 0; k <= spheres && k < static_cast<int>(parts.size()); ++k)
@@ -54,6 +68,12 @@ Summary summarise(std::vector<double> v) {
     s.sd = std::sqrt(var / static_cast<double>(n - 1));
   }
   return s;
+}
+
+Summary Bucket::residual_of(std::uint64_t scheme) const {
+  const auto it = std::lower_bound(residual_by_scheme.begin(), residual_by_scheme.end(), scheme,
+                                   [](const auto &e, std::uint64_t s) { return e.first < s; });
+  return it != residual_by_scheme.end() && it->first == scheme ? it->second : Summary{};
 }
 
 std::int64_t diastereotopic_partner(const Molecule &m, const AtomClasses &classes, std::size_t h) {
@@ -174,7 +194,9 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
   }
   for (int o = 0; o < 2; ++o)
     for (int nu = 0; nu < 2; ++nu)
-      for (int k = 1; k <= kMaxHoseSpheres; ++k)
+      for (int k = 1; k <= kMaxHoseSpheres; ++k) {
+        std::vector<std::pair<std::uint64_t, Bucket>> entries;
+        entries.reserve(raw[o][nu][k].size());
         for (auto &kv : raw[o][nu][k]) {
           auto &atoms = kv.second;
           std::sort(atoms.begin(), atoms.end(), [](const Raw &a, const Raw &b) { return a.compound < b.compound; });
@@ -204,9 +226,25 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
           }
           b.shift = summarise(std::move(shifts));
           b.residual = summarise(std::move(residuals));
-          index->levels[o][nu][k].emplace(kv.first, std::move(b));
+          if (nu == kIndexC13) {
+            std::vector<std::pair<std::uint64_t, double>> by_scheme;
+            for (const auto &cv : b.compounds)
+              if (std::isfinite(cv.residual_ppm)) by_scheme.emplace_back(cv.scheme, cv.residual_ppm);
+            std::sort(by_scheme.begin(), by_scheme.end());
+            for (std::size_t i = 0; i < by_scheme.size();) {
+              std::size_t j = i;
+              std::vector<double> values;
+              for (; j < by_scheme.size() && by_scheme[j].first == by_scheme[i].first; ++j)
+                values.push_back(by_scheme[j].second);
+              b.residual_by_scheme.emplace_back(by_scheme[i].first, summarise(std::move(values)));
+              i = j;
+            }
+          }
+          entries.emplace_back(kv.first, std::move(b));
           known[static_cast<std::size_t>(k)].push_back(kv.first);
         }
+        index->levels[o][nu][k].assign(std::move(entries));
+      }
   for (std::size_t k = 1; k <= kMaxHoseSpheres; ++k) {
     index->known[k].assign(known[k]);
     index->known_digests[k].assign(known_digests[k]);

@@ -5,6 +5,7 @@
 // order and takes the first answer.
 
 #include <cstdint>
+#include <array>
 #include <memory>
 #include <string>
 #include <string_view>
@@ -94,8 +95,6 @@ class ShiftSource {
   virtual bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const = 0;
 };
 
-// `increments` (may be null) corrects shallow matches; see predict.cpp.
-std::unique_ptr<ShiftSource> make_reference_lookup(bool user, const ShiftSource *increments);
 std::unique_ptr<ShiftSource> make_c13_class_average();
 std::unique_ptr<ShiftSource> make_h1_class_average();
 // 13C increment rules (tables/increments/c13_*.tsv, applied as
@@ -129,7 +128,20 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
 // or S nor deuterium or tritium.
 bool lookup_keyed(const Molecule &m, std::size_t atom);
 
-std::vector<Shift> run_sources(const ShiftQuery &q, const std::vector<const ShiftSource *> &sources,
+// The few sources of one prediction, in order, kept on the stack as the
+// sources themselves are (a vector cost an allocation per call).
+class SourceList {
+ public:
+  void push_back(const ShiftSource *s) { list_.at(n_++) = s; }
+  const ShiftSource *const *begin() const { return list_.data(); }
+  const ShiftSource *const *end() const { return list_.data() + n_; }
+
+ private:
+  std::array<const ShiftSource *, 4> list_{};
+  std::size_t n_ = 0;
+};
+
+std::vector<Shift> run_sources(const ShiftQuery &q, const SourceList &sources,
                                const std::vector<std::size_t> &atoms, std::vector<std::string> *warnings);
 
 }  // namespace nmrpred::detail
