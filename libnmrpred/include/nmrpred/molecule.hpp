@@ -119,13 +119,23 @@ class NMRPRED_API Molecule {
   const std::uint32_t *neighbours_end(std::size_t i) const { return &adj_atom_[0] + offset_.at(i + 1); }
   /// Bond index of each neighbour entry, same order as the neighbours.
   const std::uint32_t *bond_ids_begin(std::size_t i) const { return &adj_bond_[offset_.at(i)]; }
-  std::size_t degree(std::size_t i) const { return offset_.at(i + 1) - offset_.at(i); }
+  // One range check for both ends: offset_ has an entry past the last atom.
+  std::size_t degree(std::size_t i) const {
+    check_atom(i);
+    return offset_[i + 1] - offset_[i];
+  }
   /// Bond between a and b, or -1.
   std::int64_t bond_between(std::size_t a, std::size_t b) const;
   /// Number of hydrogens (any isotope) bonded to atom i.
   std::size_t hydrogen_count(std::size_t i) const;
   /// For a hydrogen, the index of the atom it is bonded to; -1 otherwise (or if free).
-  std::int64_t attached_to(std::size_t i) const;
+  /// Inline: the predictors ask it of every hydrogen many times over.
+  std::int64_t attached_to(std::size_t i) const {
+    check_atom(i);
+    // Hydrogens are the atoms from heavy_atom_count() on (see atom order).
+    if (i < heavy_count_ || offset_[i] == offset_[i + 1]) return -1;
+    return adj_atom_[offset_[i]];
+  }
   bool is_hydrogen(std::size_t i) const { return atom(i).atomic_number == 1; }
 
   const std::vector<TetrahedralStereo> &tetrahedral_stereo() const noexcept { return data_.tetrahedral; }
@@ -150,6 +160,12 @@ class NMRPRED_API Molecule {
   friend bool operator!=(const Molecule &a, const Molecule &b) { return !(a == b); }
 
  private:
+  // Throws std::out_of_range, as vector::at() does, unless i is an atom.
+  void check_atom(std::size_t i) const {
+    if (i >= data_.atoms.size()) throw_atom_out_of_range(i);
+  }
+  [[noreturn]] static void throw_atom_out_of_range(std::size_t i);
+
   MoleculeData data_;
   std::size_t heavy_count_ = 0;
   std::vector<std::uint32_t> offset_{0};

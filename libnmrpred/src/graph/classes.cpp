@@ -803,7 +803,17 @@ class AutomorphismSearch {
       const std::uint32_t a = queue[head], y = sg[a];
       for (std::uint32_t e = off[a]; e < off[a + 1]; ++e) {
         const std::uint32_t u = nbr[e];
-        if (sg[u] != kUnset) continue;
+        if (sg[u] != kUnset) {
+          // A bond between mapped atoms must map onto a bond of its order;
+          // checked once, from its higher end, so that once every atom is
+          // mapped the map is a graph symmetry without a second pass.
+          if (u > a) continue;
+          const std::uint32_t yu = sg[u];
+          std::uint32_t f = off[y];
+          while (f < off[y + 1] && nbr[f] != yu) ++f;
+          if (f == off[y + 1] || order[f] != order[e]) return false;
+          continue;
+        }
         std::uint32_t v = kUnset;
         for (std::uint32_t f = off[y]; f < off[y + 1]; ++f) {
           const std::uint32_t w = nbr[f];
@@ -820,7 +830,9 @@ class AutomorphismSearch {
     }
     // A graph of several fragments is left to the search.
     if (tail != g_.n) return false;
-    return is_graph_symmetry(sigma) && fits_a_sign(sigma, r);
+    // Cells of the base partition keep colours (degree among them), the map
+    // is one-to-one and every bond was checked: sigma is a graph symmetry.
+    return fits_a_sign(sigma, r);
   }
 
   // Whether the graph symmetry `sigma`, taking r to its image, is or can be

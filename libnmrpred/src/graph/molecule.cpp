@@ -4,6 +4,7 @@
 #include <algorithm>
 #include <array>
 #include <numeric>
+#include <stdexcept>
 
 #include <fmt/format.h>
 
@@ -53,40 +54,40 @@ Molecule::Molecule(MoleculeData data) : data_(std::move(data)) {
   if (!data_.coordinates.empty() && data_.coordinates.size() != 3 * n)
     throw InputError("coordinate count does not match the atom count");
 
-  std::vector<std::uint32_t> deg(n, 0);
+  offset_.assign(n + 1, 0);
   for (auto &b : data_.bonds) {
     if (b.begin > b.end) std::swap(b.begin, b.end);
     if (b.end >= n) throw InputError(fmt::format("bond {}-{}: atom index out of range", b.begin, b.end));
     if (b.begin == b.end) throw InputError(fmt::format("bond {}-{}: an atom bonded to itself", b.begin, b.end));
-    ++deg[b.begin];
-    ++deg[b.end];
+    ++offset_[b.begin + 1];
+    ++offset_[b.end + 1];
   }
-  offset_.assign(n + 1, 0);
-  for (std::size_t i = 0; i < n; ++i) offset_[i + 1] = offset_[i] + deg[i];
-  adj_atom_.assign(offset_[n], 0);
-  adj_bond_.assign(offset_[n], 0);
+  for (std::size_t i = 0; i < n; ++i) offset_[i + 1] += offset_[i];
+  const std::size_t entries = offset_[n];
+  // Neighbour lists sorted by neighbour without sorting: list the bonds of
+  // each atom in bond order, then hand every atom out to its neighbours in
+  // increasing atom order, so each list fills in increasing order.
   std::vector<std::uint32_t> fill(offset_.begin(), offset_.end() - 1);
+  std::vector<std::uint32_t> by_atom(entries);
   for (std::uint32_t k = 0; k < data_.bonds.size(); ++k) {
-    const auto &b = data_.bonds[k];
-    adj_atom_[fill[b.begin]] = b.end;
-    adj_bond_[fill[b.begin]++] = k;
-    adj_atom_[fill[b.end]] = b.begin;
-    adj_bond_[fill[b.end]++] = k;
+    by_atom[fill[data_.bonds[k].begin]++] = k;
+    by_atom[fill[data_.bonds[k].end]++] = k;
   }
-  for (std::size_t i = 0; i < n; ++i) {
-    // Sort each neighbour list by neighbour index, keeping bond ids parallel.
-    const auto lo = offset_[i], hi = offset_[i + 1];
-    std::vector<std::pair<std::uint32_t, std::uint32_t>> tmp;
-    tmp.reserve(hi - lo);
-    for (auto k = lo; k < hi; ++k) tmp.emplace_back(adj_atom_[k], adj_bond_[k]);
-    std::sort(tmp.begin(), tmp.end());
-    for (std::size_t k = 0; k < tmp.size(); ++k) {
-      if (k > 0 && tmp[k].first == tmp[k - 1].first)
-        throw InputError(fmt::format("atoms {} and {} are bonded twice", i, tmp[k].first));
-      adj_atom_[lo + k] = tmp[k].first;
-      adj_bond_[lo + k] = tmp[k].second;
+  std::copy(offset_.begin(), offset_.end() - 1, fill.begin());
+  adj_atom_.resize(entries);
+  adj_bond_.resize(entries);
+  for (std::uint32_t a = 0; a < n; ++a)
+    for (auto e = offset_[a]; e < offset_[a + 1]; ++e) {
+      const auto k = by_atom[e];
+      const auto &b = data_.bonds[k];
+      const auto other = b.begin == a ? b.end : b.begin;
+      adj_atom_[fill[other]] = a;
+      adj_bond_[fill[other]++] = k;
     }
-  }
+  for (std::size_t i = 0; i < n; ++i)
+    for (auto k = offset_[i] + 1; k < offset_[i + 1]; ++k)
+      if (adj_atom_[k] == adj_atom_[k - 1])
+        throw InputError(fmt::format("atoms {} and {} are bonded twice", i, adj_atom_[k]));
   if (adj_atom_.empty()) {
     // Keep neighbours_begin() valid for a molecule without bonds.
     adj_atom_.push_back(0);
@@ -139,23 +140,22 @@ Molecule::Molecule(MoleculeData data) : data_(std::move(data)) {
 
 std::int64_t Molecule::bond_between(std::size_t a, std::size_t b) const {
   if (a >= atom_count() || b >= atom_count()) return -1;
-  const auto *first = &adj_atom_[0] + offset_[a];
-  const auto *last = &adj_atom_[0] + offset_[a + 1];
-  const auto *it = std::lower_bound(first, last, static_cast<std::uint32_t>(b));
-  if (it == last || *it != b) return -1;
-  return adj_bond_[offset_[a] + static_cast<std::size_t>(it - first)];
+  // Neighbour lists are a few entries long: a scan beats a binary search.
+  for (auto k = offset_[a]; k < offset_[a + 1]; ++k)
+    if (adj_atom_[k] == b) return adj_bond_[k];
+  return -1;
 }
 
 std::size_t Molecule::hydrogen_count(std::size_t i) const {
+  check_atom(i);
   std::size_t h = 0;
-  for (auto k = offset_.at(i); k < offset_.at(i + 1); ++k)
+  for (auto k = offset_[i]; k < offset_[i + 1]; ++k)
     if (data_.atoms[adj_atom_[k]].atomic_number == 1) ++h;
   return h;
 }
 
-std::int64_t Molecule::attached_to(std::size_t i) const {
-  if (atom(i).atomic_number != 1 || degree(i) == 0) return -1;
-  return adj_atom_[offset_[i]];
+void Molecule::throw_atom_out_of_range(std::size_t i) {
+  throw std::out_of_range(fmt::format("atom index {} is out of range", i));
 }
 
 const char *status_name(Status status) noexcept {
