@@ -204,9 +204,139 @@ struct BenzeneTable {
   std::vector<BenzeneRow> rows;
 };
 
+// Ring systems (heavy atoms joined by bonds that lie on a cycle) found
+// without ring perception, by their bridges. A ring system holds every ring
+// of the smallest rings (graph/smarts.hpp) it shares an atom with, so its
+// facts bound what a SMARTS ring can map onto.
+struct RingSystem {
+  int atoms = 0, bonds = 0;
+  std::array<int, 4> aromatic{};  // aromatic C, N, O, S
+  bool carbonyl = false;          // a carbon with a double bond to O
+  int cycles() const { return bonds - atoms + 1; }
+};
+
+// Index into RingSystem::aromatic, or -1 for another element.
+int aromatic_slot(int atomic_number) {
+  switch (atomic_number) {
+    case 6: return 0;
+    case 7: return 1;
+    case 8: return 2;
+    case 16: return 3;
+    default: return -1;
+  }
+}
+
+// What a heteroaromatic row's SMARTS asks of the ring system that its atom 0
+// maps into, read from the text once when the tables are parsed. Only a
+// pattern written as one chain of atoms whose first and last atoms close a
+// ring (other closures inside the chain, branches without closures) is read;
+// for anything else `known` stays false and the row is never screened out.
+struct RowShape {
+  bool known = false;
+  int atoms = 0;              // chain atoms, all on the ring of atom 0
+  int cycles = 0;             // ring closures: independent cycles
+  bool all_r1 = false;        // every chain atom demands R1
+  std::array<int, 4> aromatic{};  // chain atoms demanding aromatic C, N, O, S
+
+  // False when no mapping can put atom 0 in ring system `sys` (null: on no
+  // ring). The pattern's rings map onto cycles of one ring system, which
+  // then holds as many independent cycles and atoms. A cycle of atoms each
+  // in one smallest ring is its ring system's only cycle: an atom of it with
+  // a third ring bond would lie in a second smallest ring (every ring bond
+  // lies in one, and a ring passes an atom by two of its bonds).
+  bool may_hold(const RingSystem *sys) const {
+    if (!known) return true;
+    if (!sys || cycles > sys->cycles() || atoms > sys->atoms) return false;
+    if (all_r1 && (sys->cycles() != 1 || sys->atoms != atoms)) return false;
+    for (std::size_t i = 0; i < aromatic.size(); ++i)
+      if (aromatic[i] > sys->aromatic[i]) return false;
+    return true;
+  }
+};
+
+// RowShape::aromatic slot of a lower-case (aromatic) element symbol, or -1.
+int aromatic_symbol_slot(char c) {
+  switch (c) {
+    case 'c': return 0;
+    case 'n': return 1;
+    case 'o': return 2;
+    case 's': return 3;
+    default: return -1;
+  }
+}
+
+bool lower_case(char c) { return c >= 'a' && c <= 'z'; }
+bool digit(char c) { return c >= '0' && c <= '9'; }
+
+RowShape read_shape(std::string_view text) {
+  const RowShape unknown;
+  if (text.find_first_of("$%") != std::string_view::npos) return unknown;
+  RowShape out;
+  out.all_r1 = true;
+  std::array<int, 10> open;  // chain atom that opened ring closure digit d, or -1
+  open.fill(-1);
+  int depth = 0, first_closed_at = -1;
+  for (std::size_t i = 0; i < text.size(); ++i) {
+    const char ch = text[i];
+    if (ch == '(') {
+      ++depth;
+    } else if (ch == ')') {
+      if (--depth < 0) return unknown;
+    } else if (ch == '[') {
+      const auto close = text.find(']', i);
+      if (close == std::string_view::npos) return unknown;
+      const auto body = text.substr(i + 1, close - i - 1);
+      i = close;
+      if (depth > 0) continue;
+      ++out.atoms;
+      // ';' binds loosest: a term "R1" of it is demanded outright.
+      bool r1 = false;
+      for (std::size_t at = 0; at <= body.size();) {
+        const auto end = std::min(body.find(';', at), body.size());
+        r1 = r1 || body.substr(at, end - at) == "R1";
+        at = end + 1;
+      }
+      out.all_r1 = out.all_r1 && r1;
+      // Without ',' or '!' every primitive is demanded, the leading element
+      // symbol too (a second lower-case letter would make another symbol).
+      if (body.empty() || body.find_first_of(",!") != std::string_view::npos ||
+          (body.size() > 1 && lower_case(body[1])))
+        continue;
+      const int slot = aromatic_symbol_slot(body[0]);
+      if (slot >= 0) ++out.aromatic[static_cast<std::size_t>(slot)];
+    } else if (depth > 0) {
+      if (digit(ch)) return unknown;  // a branch closing a ring
+    } else if (digit(ch)) {
+      if (out.atoms == 0) return unknown;
+      auto &o = open[static_cast<std::size_t>(ch - '0')];
+      if (o < 0) {
+        o = out.atoms - 1;
+        continue;
+      }
+      if (out.atoms - 1 - o < 2) return unknown;
+      if (o == 0) first_closed_at = out.atoms - 1;
+      ++out.cycles;
+      o = -1;
+    } else {
+      const int slot = aromatic_symbol_slot(ch);
+      // Bonds written out, other atoms: not read.
+      if (slot < 0 || (i + 1 < text.size() && lower_case(text[i + 1]))) return unknown;
+      ++out.atoms;
+      out.all_r1 = false;
+      ++out.aromatic[static_cast<std::size_t>(slot)];
+    }
+  }
+  if (depth != 0 || std::any_of(open.begin(), open.end(), [](int o) { return o >= 0; })) return unknown;
+  // Atom 0's ring must run along the whole chain: closed by its last atom.
+  if (out.atoms < 3 || first_closed_at != out.atoms - 1) return unknown;
+  out.known = true;
+  return out;
+}
+
 struct HeteroRow {
   std::string id, ring, position;
   SmartsPattern smarts;
+  RowShape shape;  // read_shape(smarts)
   double ppm = 0;
   std::string scheme, label;  // the method text's scheme name and labelled(id, ppm)
 };
@@ -355,6 +485,7 @@ void read_hetero(const Tables &tables, std::vector<HeteroRow> &out) {
     h.ring = row.fields[c_ring];
     h.position = row.fields[c_pos];
     h.smarts = r.smarts(row, c_smarts);
+    h.shape = read_shape(h.smarts.text());
     h.ppm = r.need_ppm(row, c_shift);
     h.scheme = fmt::format("heteroaromatic base value ({}, position {})", h.ring, h.position);
     h.label = labelled(h.id, h.ppm);
@@ -656,6 +787,84 @@ bool whole_ring_system(const Molecule &m, const std::vector<std::uint32_t> &cycl
   return true;
 }
 
+// The ring systems of m's heavy atoms; `of` gets per heavy atom the index of
+// its system or -1 when it lies on no ring. A bond lies on a ring unless it
+// is a bridge, and bridges are found by one depth-first search (a tree bond
+// is one when nothing below it reaches back above it).
+std::vector<RingSystem> find_ring_systems(const Molecule &m, std::vector<std::int32_t> &of) {
+  const auto n = static_cast<std::uint32_t>(m.heavy_atom_count());
+  constexpr std::uint32_t kNoBond = ~std::uint32_t{0};
+  std::vector<std::uint32_t> order(n, 0), low(n, 0);  // 0: not yet visited
+  std::vector<bool> bridge(m.bond_count(), false);
+  struct Frame {
+    std::uint32_t atom, via_bond, next;
+  };
+  std::vector<Frame> stack;
+  std::uint32_t visited = 0;
+  for (std::uint32_t root = 0; root < n; ++root) {
+    if (order[root] != 0) continue;
+    order[root] = low[root] = ++visited;
+    stack.push_back(Frame{root, kNoBond, 0});
+    while (!stack.empty()) {
+      Frame &f = stack.back();
+      const std::uint32_t a = f.atom;
+      if (f.next < m.degree(a)) {
+        const std::uint32_t x = m.neighbours_begin(a)[f.next], b = m.bond_ids_begin(a)[f.next];
+        ++f.next;
+        if (x >= n || b == f.via_bond) continue;
+        if (order[x] != 0) {
+          low[a] = std::min(low[a], order[x]);
+        } else {
+          order[x] = low[x] = ++visited;
+          stack.push_back(Frame{x, b, 0});
+        }
+        continue;
+      }
+      const Frame done = f;
+      stack.pop_back();
+      if (stack.empty()) break;
+      const std::uint32_t parent = stack.back().atom;
+      low[parent] = std::min(low[parent], low[done.atom]);
+      if (low[done.atom] > order[parent]) bridge[done.via_bond] = true;
+    }
+  }
+  std::vector<RingSystem> systems;
+  of.assign(n, -1);
+  std::vector<std::uint32_t> queue;
+  for (std::uint32_t root = 0; root < n; ++root) {
+    if (of[root] >= 0) continue;
+    queue.assign(1, root);
+    const auto id = static_cast<std::int32_t>(systems.size());
+    RingSystem sys;
+    for (std::size_t i = 0; i < queue.size(); ++i) {
+      const std::uint32_t a = queue[i];
+      bool on_ring = false;
+      const auto *bid = m.bond_ids_begin(a);
+      for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid) {
+        const std::uint32_t x = *it;
+        if (x >= n) continue;
+        const int zx = m.atom(x).atomic_number;
+        sys.carbonyl = sys.carbonyl ||
+                       (m.atom(a).atomic_number == 6 && zx == 8 && m.bond(*bid).order == BondOrder::Double);
+        if (bridge[*bid]) continue;
+        on_ring = true;
+        if (x > a) ++sys.bonds;  // each ring bond once
+        if (of[x] < 0 && x != root) {
+          of[x] = id;
+          queue.push_back(x);
+        }
+      }
+      if (!on_ring) break;  // only the root can be off every ring
+      of[a] = id;
+      ++sys.atoms;
+      const int slot = m.atom(a).aromatic ? aromatic_slot(m.atom(a).atomic_number) : -1;
+      if (slot >= 0) ++sys.aromatic[static_cast<std::size_t>(slot)];
+    }
+    if (sys.atoms > 0) systems.push_back(sys);
+  }
+  return systems;
+}
+
 }  // namespace
 
 std::vector<std::uint32_t> lone_ring(const Molecule &m, std::size_t k) {
@@ -774,6 +983,8 @@ class H1Increments final : public ShiftSource {
       lone_of_.clear();
       lone_rings_.clear();
       hetero_matches_.clear();
+      system_of_.clear();
+      systems_.clear();
       memo_of_.clear();
       memo_.clear();
     }
@@ -844,6 +1055,11 @@ class H1Increments final : public ShiftSource {
       if (!lone->benzene) lone->benzene = make_benzene_ring(t, lone->atoms, true);
       return lone->benzene->benzenoid ? benzene_sum(lone->atoms, *lone->benzene, k) : std::nullopt;
     }
+    // A six-membered ring gives a sum only when every bond leaving it is a
+    // bridge (make_benzene_ring: a group closing a ring has no row), which
+    // makes it its whole ring system; any other system needs no perception.
+    const RingSystem *sys = ring_system(t.molecule(), k);
+    if (!sys || sys->atoms != 6) return std::nullopt;
     for (const auto &ring : t.rings()) {
       if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
       const BenzeneRing &br = benzene_ring(t, static_cast<std::size_t>(&ring - t.rings().data()));
@@ -946,14 +1162,25 @@ class H1Increments final : public ShiftSource {
     return lone_of_[k] >= 0 ? &lone_rings_[static_cast<std::size_t>(lone_of_[k])] : nullptr;
   }
 
+  // The ring system of heavy atom k, or null when k lies on no ring; found
+  // once per molecule (find_ring_systems()). The rules below ask it before
+  // anything that needs ring perception, which costs more than the rest of
+  // their work for a fused ring system, and rarely has to run then.
+  const RingSystem *ring_system(const Molecule &m, std::size_t k) const {
+    if (system_of_.empty()) systems_ = find_ring_systems(m, system_of_);
+    return k < system_of_.size() && system_of_[k] >= 0 ? &systems_[static_cast<std::size_t>(system_of_[k])] : nullptr;
+  }
+
   // --- heteroaromatic base values -------------------------------------------
   std::optional<Estimate> hetero(const SmartsTarget &t, std::size_t k) const {
     const Molecule &m = t.molecule();
+    const RingSystem *sys = ring_system(m, k);
     for (std::size_t r = 0; r < tab_.hetero.size(); ++r) {
       const HeteroRow &row = tab_.hetero[r];
-      // The anchored screen of match_at rejects most rows for this proton
-      // before the row's mappings are looked at (or searched for).
-      if (!row.smarts.root_may_match(t.packed(k))) continue;
+      // The anchored screen of match_at, then what the row's rings need of
+      // k's ring system, reject most rows for this proton before the row's
+      // mappings are looked at (or searched for, with ring perception).
+      if (!row.smarts.root_may_match(t.packed(k)) || !row.shape.may_hold(sys)) continue;
       const auto *found = first_mapping_at(row.smarts, hetero_matches(t, r), k);
       if (!found) continue;
       const std::vector<std::uint32_t> &map = *found;
@@ -1258,6 +1485,10 @@ class H1Increments final : public ShiftSource {
   std::optional<Estimate> ring_enone(const SmartsTarget &t, std::size_t ca) const {
     const Molecule &m = t.molecule();
     if (!tab_.alkene.present || m.hydrogen_count(ca) != 1 || m.degree(ca) != 3) return std::nullopt;
+    // The ring and its C=O carbon lie in ca's ring system: without such a
+    // carbon there, no ring perception is needed to tell.
+    const RingSystem *sys = ring_system(m, ca);
+    if (!sys || !sys->carbonyl) return std::nullopt;
     for (const auto &ring : t.rings()) {
       const std::size_t n = ring.size();
       const auto pos = static_cast<std::size_t>(std::find(ring.begin(), ring.end(), ca) - ring.begin());
@@ -1642,6 +1873,8 @@ class H1Increments final : public ShiftSource {
   mutable std::vector<std::int32_t> lone_of_;  // per heavy atom: index into lone_rings_, or kLoneUnknown/None
   mutable std::vector<LoneRing> lone_rings_;   // see lone_ring()
   mutable std::vector<std::optional<std::vector<std::vector<std::uint32_t>>>> hetero_matches_;  // see hetero_matches()
+  mutable std::vector<std::int32_t> system_of_;  // see ring_system()
+  mutable std::vector<RingSystem> systems_;
   // evaluate()'s answers; per atom (a proton, or a carrier for all its
   // protons) the index of its answer or kNotDone. A deque, so that the
   // answers handed out stay in place.
