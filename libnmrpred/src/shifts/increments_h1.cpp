@@ -248,9 +248,14 @@ struct RowShape {
     if (!known) return true;
     if (!sys || cycles > sys->cycles() || atoms > sys->atoms) return false;
     if (all_r1 && (sys->cycles() != 1 || sys->atoms != atoms)) return false;
-    for (std::size_t i = 0; i < aromatic.size(); ++i)
+    int known_atoms = 0;
+    for (std::size_t i = 0; i < aromatic.size(); ++i) {
       if (aromatic[i] > sys->aromatic[i]) return false;
-    return true;
+      known_atoms += aromatic[i];
+    }
+    // A chain as large as the system maps onto all of it: with the element
+    // of every chain atom demanded, the system holds exactly those.
+    return atoms != sys->atoms || known_atoms != atoms || aromatic == sys->aromatic;
   }
 };
 
@@ -319,8 +324,8 @@ RowShape read_shape(std::string_view text) {
       o = -1;
     } else {
       const int slot = aromatic_symbol_slot(ch);
-      // Bonds written out, other atoms: not read.
-      if (slot < 0 || (i + 1 < text.size() && lower_case(text[i + 1]))) return unknown;
+      // Bonds written out, other atoms (aromatic Se among them): not read.
+      if (slot < 0 || (ch == 's' && i + 1 < text.size() && text[i + 1] == 'e')) return unknown;
       ++out.atoms;
       out.all_r1 = false;
       ++out.aromatic[static_cast<std::size_t>(slot)];
