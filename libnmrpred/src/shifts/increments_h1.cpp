@@ -794,78 +794,79 @@ bool whole_ring_system(const Molecule &m, const std::vector<std::uint32_t> &cycl
 
 // The ring systems of m's heavy atoms; `of` gets per heavy atom the index of
 // its system or -1 when it lies on no ring. A bond lies on a ring unless it
-// is a bridge, and bridges are found by one depth-first search (a tree bond
-// is one when nothing below it reaches back above it).
+// is a bridge, and one depth-first search finds them (a tree bond is one when
+// nothing below it reaches back above it): the atoms visited below a bridge
+// and not yet placed then make one ring system, or a lone atom.
 std::vector<RingSystem> find_ring_systems(const Molecule &m, std::vector<std::int32_t> &of) {
   const auto n = static_cast<std::uint32_t>(m.heavy_atom_count());
+  const Atom *atoms = m.atoms().data();
+  const Bond *bonds = m.bonds().data();
   constexpr std::uint32_t kNoBond = ~std::uint32_t{0};
   std::vector<std::uint32_t> order(n, 0), low(n, 0);  // 0: not yet visited
-  std::vector<bool> bridge(m.bond_count(), false);
+  std::vector<std::uint32_t> pending;                 // visited, in no system yet
+  std::vector<RingSystem> systems;
+  of.assign(n, -1);
+  auto place = [&](std::uint32_t first) {
+    std::size_t from = pending.size();
+    while (pending[--from] != first) {
+    }
+    if (pending.size() - from > 1) {
+      const auto id = static_cast<std::int32_t>(systems.size());
+      for (std::size_t i = from; i < pending.size(); ++i) of[pending[i]] = id;
+      RingSystem sys;
+      for (std::size_t i = from; i < pending.size(); ++i) {
+        const std::uint32_t a = pending[i];
+        const bool carbon = atoms[a].atomic_number == 6;
+        const auto *bid = m.bond_ids_begin(a);
+        for (auto it = m.neighbours_begin(a), end = it + m.degree(a); it != end; ++it, ++bid) {
+          const std::uint32_t x = *it;
+          if (x >= n) continue;
+          sys.carbonyl = sys.carbonyl ||
+                         (carbon && atoms[x].atomic_number == 8 && bonds[*bid].order == BondOrder::Double);
+          if (of[x] == id && x > a) ++sys.bonds;  // each ring bond once
+        }
+        ++sys.atoms;
+        const int slot = atoms[a].aromatic ? aromatic_slot(atoms[a].atomic_number) : -1;
+        if (slot >= 0) ++sys.aromatic[static_cast<std::size_t>(slot)];
+      }
+      systems.push_back(sys);
+    }
+    pending.resize(from);
+  };
+  // The neighbours still to look at are kept as pointers: the accessors
+  // check their index on every call.
   struct Frame {
-    std::uint32_t atom, via_bond, next;
+    std::uint32_t atom, via_bond;
+    const std::uint32_t *next, *end, *bond;
   };
   std::vector<Frame> stack;
   std::uint32_t visited = 0;
+  auto enter = [&](std::uint32_t a, std::uint32_t via) {
+    order[a] = low[a] = ++visited;
+    pending.push_back(a);
+    const std::uint32_t *nb = m.neighbours_begin(a);
+    stack.push_back(Frame{a, via, nb, nb + m.degree(a), m.bond_ids_begin(a)});
+  };
   for (std::uint32_t root = 0; root < n; ++root) {
     if (order[root] != 0) continue;
-    order[root] = low[root] = ++visited;
-    stack.push_back(Frame{root, kNoBond, 0});
+    enter(root, kNoBond);
     while (!stack.empty()) {
       Frame &f = stack.back();
-      const std::uint32_t a = f.atom;
-      if (f.next < m.degree(a)) {
-        const std::uint32_t x = m.neighbours_begin(a)[f.next], b = m.bond_ids_begin(a)[f.next];
-        ++f.next;
+      if (f.next != f.end) {
+        const std::uint32_t x = *f.next++, b = *f.bond++;
         if (x >= n || b == f.via_bond) continue;
-        if (order[x] != 0) {
-          low[a] = std::min(low[a], order[x]);
-        } else {
-          order[x] = low[x] = ++visited;
-          stack.push_back(Frame{x, b, 0});
-        }
+        if (order[x] != 0) low[f.atom] = std::min(low[f.atom], order[x]);
+        else enter(x, b);
         continue;
       }
-      const Frame done = f;
+      const std::uint32_t done = f.atom;
       stack.pop_back();
       if (stack.empty()) break;
       const std::uint32_t parent = stack.back().atom;
-      low[parent] = std::min(low[parent], low[done.atom]);
-      if (low[done.atom] > order[parent]) bridge[done.via_bond] = true;
+      low[parent] = std::min(low[parent], low[done]);
+      if (low[done] > order[parent]) place(done);
     }
-  }
-  std::vector<RingSystem> systems;
-  of.assign(n, -1);
-  std::vector<std::uint32_t> queue;
-  for (std::uint32_t root = 0; root < n; ++root) {
-    if (of[root] >= 0) continue;
-    queue.assign(1, root);
-    const auto id = static_cast<std::int32_t>(systems.size());
-    RingSystem sys;
-    for (std::size_t i = 0; i < queue.size(); ++i) {
-      const std::uint32_t a = queue[i];
-      bool on_ring = false;
-      const auto *bid = m.bond_ids_begin(a);
-      for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it, ++bid) {
-        const std::uint32_t x = *it;
-        if (x >= n) continue;
-        const int zx = m.atom(x).atomic_number;
-        sys.carbonyl = sys.carbonyl ||
-                       (m.atom(a).atomic_number == 6 && zx == 8 && m.bond(*bid).order == BondOrder::Double);
-        if (bridge[*bid]) continue;
-        on_ring = true;
-        if (x > a) ++sys.bonds;  // each ring bond once
-        if (of[x] < 0 && x != root) {
-          of[x] = id;
-          queue.push_back(x);
-        }
-      }
-      if (!on_ring) break;  // only the root can be off every ring
-      of[a] = id;
-      ++sys.atoms;
-      const int slot = m.atom(a).aromatic ? aromatic_slot(m.atom(a).atomic_number) : -1;
-      if (slot >= 0) ++sys.aromatic[static_cast<std::size_t>(slot)];
-    }
-    if (sys.atoms > 0) systems.push_back(sys);
+    place(root);
   }
   return systems;
 }
@@ -1157,7 +1158,9 @@ class H1Increments final : public ShiftSource {
       // The answer holds for every atom of the cycle.
       const auto cycle = aromatic_cycle(m, k);
       lone_of_[k] = kLoneNone;
-      if (cycle.size() >= 3 && whole_ring_system(m, cycle)) {
+      // whole_ring_system(), read off the ring systems found once.
+      const RingSystem *sys = cycle.size() >= 3 ? ring_system(m, k) : nullptr;
+      if (sys && sys->atoms == static_cast<int>(cycle.size()) && sys->cycles() == 1) {
         for (auto a : cycle) lone_of_[a] = static_cast<std::int32_t>(lone_rings_.size());
         lone_rings_.push_back(LoneRing{rings_order(m, cycle), std::nullopt});
       } else {
