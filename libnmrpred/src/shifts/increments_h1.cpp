@@ -840,6 +840,8 @@ std::vector<RingSystem> find_ring_systems(const Molecule &m, std::vector<std::in
     const std::uint32_t *next, *end, *bond;
   };
   std::vector<Frame> stack;
+  stack.reserve(n);
+  pending.reserve(n);
   std::uint32_t visited = 0;
   auto enter = [&](std::uint32_t a, std::uint32_t via) {
     order[a] = low[a] = ++visited;
