@@ -1631,23 +1631,53 @@ class H1Increments final : public ShiftSource {
   }
 
   // --- sp3 C-H: Shoolery's rule and the position table -----------------------
-  // The heavy neighbours of an sp3 carbon (four bonds), kept in place rather
-  // than in a vector per carbon.
-  class Sp3Neighbours {
+  // At most four values (an sp3 carbon's neighbours, or some of them), kept
+  // in place rather than in a vector per carbon.
+  template <class T>
+  class Four {
    public:
-    Sp3Neighbours(const Molecule &m, std::size_t c) {
-      for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) {
-        if (count_ < atoms_.size()) atoms_[count_++] = x;
-      });
+    void push_back(T v) {
+      if (count_ < values_.size()) values_[count_++] = v;
     }
     std::size_t size() const { return count_; }
-    std::size_t operator[](std::size_t i) const { return atoms_[i]; }
-    const std::size_t *begin() const { return atoms_.data(); }
-    const std::size_t *end() const { return atoms_.data() + count_; }
+    bool empty() const { return count_ == 0; }
+    T operator[](std::size_t i) const { return values_[i]; }
+    const T *begin() const { return values_.data(); }
+    const T *end() const { return values_.data() + count_; }
 
    private:
-    std::array<std::size_t, 4> atoms_{};
+    std::array<T, 4> values_{};
     std::size_t count_ = 0;
+  };
+
+  struct Sp3Neighbours : Four<std::size_t> {
+    Sp3Neighbours(const Molecule &m, std::size_t c) {
+      for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) { push_back(x); });
+    }
+  };
+
+  // A few atoms flagged in `bits`, scratch kept by the source (all false
+  // between uses, never shorter than the molecule), cleared again when this
+  // ends: a skeleton per carbon without a vector per carbon.
+  class Flagged {
+   public:
+    Flagged(std::vector<bool> &bits, std::size_t atom_count) : bits_(bits) {
+      if (bits_.size() < atom_count) bits_.assign(atom_count, false);
+    }
+    Flagged(const Flagged &) = delete;
+    Flagged &operator=(const Flagged &) = delete;
+    ~Flagged() {
+      for (auto a : set_) bits_[a] = false;
+    }
+    void set(std::size_t a) {
+      bits_[a] = true;
+      set_.push_back(a);
+    }
+    const std::vector<bool> &bits() const { return bits_; }
+
+   private:
+    std::vector<bool> &bits_;
+    Four<std::size_t> set_;
   };
 
   std::optional<Estimate> sp3(const SmartsTarget &t, std::size_t c) const {
@@ -1697,14 +1727,15 @@ class H1Increments final : public ShiftSource {
       return from_sum(s);
     }
     if (n_h < 1 || n_h > 3) return std::nullopt;
-    std::vector<bool> skeleton(m.atom_count(), false);
-    skeleton[c] = true;
+    Flagged flagged(chain_skeleton_, m.atom_count());
+    flagged.set(c);
+    const std::vector<bool> &skeleton = flagged.bits();
     // Sort the neighbours: `direct` groups (not an sp3 carbon), `shoolery`
     // sp3 carbons that are groups of their own in Shoolery's table (CF3,
     // CF2R), `beta` sp3 carbons carrying a group one bond further (the
     // group atoms are counted), and clean alkyl carbons.
-    std::vector<std::size_t> direct, own, beta;
-    std::vector<int> beta_groups;
+    Four<std::size_t> direct, own, beta;
+    Four<int> beta_groups;
     for (auto n : nbrs) {
       if (!is_sp3_carbon(m, n)) {
         direct.push_back(n);
@@ -1823,7 +1854,7 @@ class H1Increments final : public ShiftSource {
   // difference between its beta row and the alkane value, as increments add
   // in additive schemes. Every group must have a row.
   std::optional<Estimate> beta_sum(const SmartsTarget &t, std::size_t c, std::size_t n_h,
-                                   const std::vector<std::size_t> &beta) const {
+                                   const Four<std::size_t> &beta) const {
     const auto &alk = tab_.shoolery.alkane[n_h];
     if (!alk.set) return std::nullopt;
     const char *const type[] = {"", "CH", "CH2", "CH3"};
@@ -1843,7 +1874,7 @@ class H1Increments final : public ShiftSource {
   // beta row minus the plain alkane value; false when a group has no row.
   // The position table has no beta rows for CH: a CH takes the steps of the
   // CH2 rows (FORMAT.md step 3c), each widening the uncertainty.
-  bool add_beta_steps(const SmartsTarget &t, std::size_t c, std::size_t n_h, const std::vector<std::size_t> &beta,
+  bool add_beta_steps(const SmartsTarget &t, std::size_t c, std::size_t n_h, const Four<std::size_t> &beta,
                       Sum &s) const {
     const Molecule &m = t.molecule();
     const ShooleryTable &tab = tab_.shoolery;
@@ -1852,17 +1883,18 @@ class H1Increments final : public ShiftSource {
     const auto &alk = tab.alkane[rows_h];
     if (!alk.set || tab.beta[rows_h].empty()) return false;
     for (auto b : beta) {
-      std::vector<std::size_t> groups;
+      Four<std::size_t> groups;
       for_heavy_neighbours(m, b, [&](std::size_t y, BondOrder) {
         if (y != c && !is_sp3_carbon(m, y)) groups.push_back(y);
       });
       for (auto y : groups) {
         // The other groups on b join the skeleton, so the row's group atom
         // can only be y.
-        std::vector<bool> skeleton(m.atom_count(), false);
-        skeleton[c] = true;
-        for (auto z : groups) skeleton[z] = z != y;
-        const auto *row = first_row(tab.beta[rows_h], t, b, skeleton);
+        Flagged skeleton(beta_skeleton_, m.atom_count());
+        skeleton.set(c);
+        for (auto z : groups)
+          if (z != y) skeleton.set(z);
+        const auto *row = first_row(tab.beta[rows_h], t, b, skeleton.bits());
         if (!row) return false;
         s.add(carried ? "(carried over from CH2)" : "", row->id, row->ppm - alk.ppm);
         if (carried) s.widen(kBetaCarriedPpm);
@@ -1884,6 +1916,8 @@ class H1Increments final : public ShiftSource {
   mutable std::vector<LoneRing> lone_rings_;   // see lone_ring()
   mutable std::vector<std::optional<std::vector<std::vector<std::uint32_t>>>> hetero_matches_;  // see hetero_matches()
   mutable std::vector<std::int32_t> system_of_;  // see ring_system()
+  // Flagged scratch of sp3_chain() and of add_beta_steps(), which it calls.
+  mutable std::vector<bool> chain_skeleton_, beta_skeleton_;
   mutable std::vector<RingSystem> systems_;
   // evaluate()'s answers; per atom (a proton, or a carrier for all its
   // protons) the index of its answer or kNotDone. A deque, so that the
