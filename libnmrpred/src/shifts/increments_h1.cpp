@@ -993,6 +993,7 @@ class H1Increments final : public ShiftSource {
       hetero_matches_.clear();
       system_of_.clear();
       systems_.clear();
+      system_rows_.clear();
       memo_of_.clear();
       memo_.clear();
     }
@@ -1184,13 +1185,11 @@ class H1Increments final : public ShiftSource {
   // --- heteroaromatic base values -------------------------------------------
   std::optional<Estimate> hetero(const SmartsTarget &t, std::size_t k) const {
     const Molecule &m = t.molecule();
-    const RingSystem *sys = ring_system(m, k);
-    for (std::size_t r = 0; r < tab_.hetero.size(); ++r) {
+    for (const std::uint32_t r : hetero_rows(m, k)) {
       const HeteroRow &row = tab_.hetero[r];
-      // The anchored screen of match_at, then what the row's rings need of
-      // k's ring system, reject most rows for this proton before the row's
-      // mappings are looked at (or searched for, with ring perception).
-      if (!row.smarts.root_may_match(t.packed(k)) || !row.shape.may_hold(sys)) continue;
+      // The anchored screen of match_at rejects most of the rest before the
+      // row's mappings are looked at (or searched for).
+      if (!row.smarts.root_may_match(t.packed(k))) continue;
       const auto *found = first_mapping_at(row.smarts, hetero_matches(t, r), k);
       if (!found) continue;
       const std::vector<std::uint32_t> &map = *found;
@@ -1233,6 +1232,21 @@ class H1Increments final : public ShiftSource {
       return from_sum(s, unaccounted);
     }
     return std::nullopt;
+  }
+
+  // The h1_heteroaromatic rows, in file order, whose rings may fit the ring
+  // system of k (RowShape::may_hold), found once per ring system: the other
+  // rows need no search, and so no ring perception, for any of its protons.
+  const std::vector<std::uint32_t> &hetero_rows(const Molecule &m, std::size_t k) const {
+    const RingSystem *sys = ring_system(m, k);
+    if (system_rows_.empty()) system_rows_.resize(systems_.size() + 1);
+    auto &rows = system_rows_[sys ? static_cast<std::size_t>(sys - systems_.data()) : systems_.size()];
+    if (!rows) {
+      rows.emplace();
+      for (std::size_t r = 0; r < tab_.hetero.size(); ++r)
+        if (tab_.hetero[r].shape.may_hold(sys)) rows->push_back(static_cast<std::uint32_t>(r));
+    }
+    return *rows;
   }
 
   // Every mapping of h1_heteroaromatic row `r` in the molecule, found on
@@ -1919,6 +1933,7 @@ class H1Increments final : public ShiftSource {
   // Flagged scratch of sp3_chain() and of add_beta_steps(), which it calls.
   mutable std::vector<bool> chain_skeleton_, beta_skeleton_;
   mutable std::vector<RingSystem> systems_;
+  mutable std::vector<std::optional<std::vector<std::uint32_t>>> system_rows_;  // see hetero_rows()
   // evaluate()'s answers; per atom (a proton, or a carrier for all its
   // protons) the index of its answer or kNotDone. A deque, so that the
   // answers handed out stay in place.
