@@ -226,8 +226,8 @@ int aromatic_slot(int atomic_number) {
   }
 }
 
-// What a heteroaromatic row's SMARTS asks of the ring system that its atom 0
-// maps into, read from the text once when the tables are parsed. Only a
+// What a row's SMARTS (h1_heteroaromatic, h1_special) asks of the ring system
+// that its atom 0 maps into, read from the text once when the tables are parsed. Only a
 // pattern written as one chain of atoms whose first and last atoms close a
 // ring (other closures inside the chain, branches without closures) is read;
 // for anything else `known` stays false and the row is never screened out.
@@ -359,6 +359,7 @@ struct SpecialRow {
 struct SpecialGroup {
   std::string name;
   SmartsPattern smarts;
+  RowShape shape;  // read_shape(smarts): the three-membered ring groups
   bool exchanges = false;
   std::vector<SpecialRow> rows;
 };
@@ -529,6 +530,7 @@ void read_special(const Tables &tables, std::vector<SpecialGroup> &out) {
       SpecialGroup g;
       g.name = name;
       g.smarts = r.smarts(row, c_smarts);
+      g.shape = read_shape(g.smarts.text());
       g.exchanges = exch == "yes";
       out.push_back(std::move(g));
       it = out.end() - 1;
@@ -1003,8 +1005,16 @@ class H1Increments final : public ShiftSource {
   // --- h1_special -----------------------------------------------------------
   // The first group in file order whose SMARTS matches on the proton's atom.
   const SpecialGroup *special_group(const SmartsTarget &t, std::size_t c) const {
-    for (const auto &g : tab_.special)
-      if (match_at(g.smarts, t, c)) return &g;
+    const std::vector<bool> none;
+    for (const auto &g : tab_.special) {
+      if (c >= t.atom_count() || !g.smarts.root_may_match(t.packed(c)) ||
+          !g.smarts.neighbours_may_match(t.neighbour_kinds(c)))
+        continue;
+      // match_at() after its own screens; a ring group then needs a ring
+      // system around c that can hold it, known without a search.
+      if (g.shape.known && !g.shape.may_hold(ring_system(t.molecule(), c))) continue;
+      if (match_at_unscreened(g.smarts, t, c, none)) return &g;
+    }
     return nullptr;
   }
 
