@@ -1011,11 +1011,25 @@ class H1Increments final : public ShiftSource {
           !g.smarts.neighbours_may_match(t.neighbour_kinds(c)))
         continue;
       // match_at() after its own screens; a ring group then needs a ring
-      // system around c that can hold it, known without a search.
-      if (g.shape.known && !g.shape.may_hold(ring_system(t.molecule(), c))) continue;
+      // around c that can hold it, known without a search: a three-membered
+      // one shows in c's neighbours, others in its ring system.
+      if (g.shape.known && (g.shape.atoms == 3 && g.shape.cycles == 1
+                                ? !on_triangle(t.molecule(), c)
+                                : !g.shape.may_hold(ring_system(t.molecule(), c))))
+        continue;
       if (match_at_unscreened(g.smarts, t, c, none)) return &g;
     }
     return nullptr;
+  }
+
+  // Whether two heavy neighbours of c are bonded to each other.
+  static bool on_triangle(const Molecule &m, std::size_t c) {
+    const std::size_t n = m.heavy_atom_count();
+    const std::uint32_t *begin = m.neighbours_begin(c), *end = begin + m.degree(c);
+    for (const auto *i = begin; i != end; ++i)
+      for (const auto *j = i + 1; j != end; ++j)
+        if (*i < n && *j < n && m.bond_between(*i, *j) >= 0) return true;
+    return false;
   }
 
   const SpecialRow *special_row(const SpecialGroup &g) const {
