@@ -745,7 +745,9 @@ std::vector<std::uint32_t> aromatic_cycle(const Molecule &m, std::size_t k) {
       }
     return count;
   };
-  std::vector<std::uint32_t> cycle{static_cast<std::uint32_t>(k)};
+  std::vector<std::uint32_t> cycle;
+  cycle.reserve(kMaxSize);  // one allocation, not one per doubling
+  cycle.push_back(static_cast<std::uint32_t>(k));
   std::size_t prev = k, cur = k;
   for (;;) {
     std::size_t next[2];
