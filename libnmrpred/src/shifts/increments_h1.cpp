@@ -176,9 +176,144 @@ struct BenzeneTable {
   std::vector<BenzeneRow> rows;
 };
 
+// Ring systems (heavy atoms joined by bonds that lie on a cycle) found
+// without ring perception, by their bridges. A ring system holds every ring
+// of the smallest rings (graph/smarts.hpp) it shares an atom with, so its
+// facts bound what a SMARTS ring can map onto.
+struct RingSystem {
+  int atoms = 0, bonds = 0;
+  std::array<int, 4> aromatic{};  // aromatic C, N, O, S
+  bool carbonyl = false;          // a carbon with a double bond to O
+  int cycles() const { return bonds - atoms + 1; }
+};
+
+// Index into RingSystem::aromatic, or -1 for another element.
+int aromatic_slot(int atomic_number) {
+  switch (atomic_number) {
+    case 6: return 0;
+    case 7: return 1;
+    case 8: return 2;
+    case 16: return 3;
+    default: return -1;
+  }
+}
+
+// What a row's SMARTS (h1_heteroaromatic, h1_special) asks of the ring system
+// that its atom 0 maps into, read from the text once when the tables are parsed. Only a
+// pattern written as one chain of atoms whose first and last atoms close a
+// ring (other closures inside the chain, branches without closures) is read;
+// for anything else `known` stays false and the row is never screened out.
+struct RowShape {
+  bool known = false;
+  int atoms = 0;              // chain atoms, all on the ring of atom 0
+  int cycles = 0;             // ring closures: independent cycles
+  bool all_r1 = false;        // every chain atom demands R1
+  std::array<int, 4> aromatic{};  // chain atoms demanding aromatic C, N, O, S
+
+  // False when no mapping can put atom 0 in ring system `sys` (null: on no
+  // ring). The pattern's rings map onto cycles of one ring system, which
+  // then holds as many independent cycles and atoms. A cycle of atoms each
+  // in one smallest ring is its ring system's only cycle: an atom of it with
+  // a third ring bond would lie in a second smallest ring (every ring bond
+  // lies in one, and a ring passes an atom by two of its bonds).
+  bool may_hold(const RingSystem *sys) const {
+    if (!known) return true;
+    if (!sys || cycles > sys->cycles() || atoms > sys->atoms) return false;
+    if (all_r1 && (sys->cycles() != 1 || sys->atoms != atoms)) return false;
+    int known_atoms = 0;
+    for (std::size_t i = 0; i < aromatic.size(); ++i) {
+      if (aromatic[i] > sys->aromatic[i]) return false;
+      known_atoms += aromatic[i];
+    }
+    // A chain as large as the system maps onto all of it: with the element
+    // of every chain atom demanded, the system holds exactly those.
+    return atoms != sys->atoms || known_atoms != atoms || aromatic == sys->aromatic;
+  }
+};
+
+// RowShape::aromatic slot of a lower-case (aromatic) element symbol, or -1.
+int aromatic_symbol_slot(char c) {
+  switch (c) {
+    case 'c': return 0;
+    case 'n': return 1;
+    case 'o': return 2;
+    case 's': return 3;
+    default: return -1;
+  }
+}
+
+bool lower_case(char c) { return c >= 'a' && c <= 'z'; }
+bool digit(char c) { return c >= '0' && c <= '9'; }
+
+RowShape read_shape(std::string_view text) {
+  const RowShape unknown;
+  if (text.find_first_of("$%") != std::string_view::npos) return unknown;
+  RowShape out;
+  out.all_r1 = true;
+  std::array<int, 10> open;  // chain atom that opened ring closure digit d, or -1
+  open.fill(-1);
+  int depth = 0, first_closed_at = -1;
+  for (std::size_t i = 0; i < text.size(); ++i) {
+    const char ch = text[i];
+    if (ch == '(') {
+      ++depth;
+    } else if (ch == ')') {
+      if (--depth < 0) return unknown;
+    } else if (ch == '[') {
+      const auto close = text.find(']', i);
+      if (close == std::string_view::npos) return unknown;
+      const auto body = text.substr(i + 1, close - i - 1);
+      i = close;
+      if (depth > 0) continue;
+      ++out.atoms;
+      // ';' binds loosest: a term "R1" of it is demanded outright.
+      bool r1 = false;
+      for (std::size_t at = 0; at <= body.size();) {
+        const auto end = std::min(body.find(';', at), body.size());
+        r1 = r1 || body.substr(at, end - at) == "R1";
+        at = end + 1;
+      }
+      out.all_r1 = out.all_r1 && r1;
+      // Without ',' or '!' every primitive is demanded, the leading element
+      // symbol too (a second lower-case letter would make another symbol).
+      if (body.empty() || body.find_first_of(",!") != std::string_view::npos ||
+          (body.size() > 1 && lower_case(body[1])))
+        continue;
+      const int slot = aromatic_symbol_slot(body[0]);
+      if (slot >= 0) ++out.aromatic[static_cast<std::size_t>(slot)];
+    } else if (depth > 0) {
+      if (digit(ch)) return unknown;  // a branch closing a ring
+    } else if (digit(ch)) {
+      if (out.atoms == 0) return unknown;
+      auto &o = open[static_cast<std::size_t>(ch - '0')];
+      if (o < 0) {
+        o = out.atoms - 1;
+        continue;
+      }
+      if (out.atoms - 1 - o < 2) return unknown;
+      if (o == 0) first_closed_at = out.atoms - 1;
+      ++out.cycles;
+      o = -1;
+    } else {
+      const int slot = aromatic_symbol_slot(ch);
+      // Bonds written out, other atoms (aromatic Se among them): not read.
+      if (slot < 0 || (ch == 's' && i + 1 < text.size() && text[i + 1] == 'e')) return unknown;
+      ++out.atoms;
+      out.all_r1 = false;
+      ++out.aromatic[static_cast<std::size_t>(slot)];
+    }
+  }
+  if (depth != 0 || std::any_of(open.begin(), open.end(), [](int o) { return o >= 0; })) return unknown;
+  // Atom 0's ring must run along the whole chain: closed by its last atom.
+  if (out.atoms < 3 || first_closed_at != out.atoms - 1) return unknown;
+  out.known = true;
+  return out;
+}
+
 struct HeteroRow {
   std::string id, ring, position;
   SmartsPattern smarts;
+  RowShape shape;  // read_shape(smarts)
   double ppm = 0;
   std::string scheme, label;  // the method text's scheme name and labelled(id, ppm)
 };
@@ -196,6 +331,7 @@ struct SpecialRow {
 struct SpecialGroup {
   std::string name;
   SmartsPattern smarts;
+  RowShape shape;  // read_shape(smarts): the three-membered ring groups
   bool exchanges = false;
   std::vector<SpecialRow> rows;
 };
@@ -327,6 +463,7 @@ void read_hetero(const Tables &tables, std::vector<HeteroRow> &out) {
     h.ring = row.fields[c_ring];
     h.position = row.fields[c_pos];
     h.smarts = r.smarts(row, c_smarts);
+    h.shape = read_shape(h.smarts.text());
     h.ppm = r.need_ppm(row, c_shift);
     h.scheme = fmt::format("heteroaromatic base value ({}, position {})", h.ring, h.position);
     h.label = labelled(h.id, h.ppm);
@@ -365,6 +502,7 @@ void read_special(const Tables &tables, std::vector<SpecialGroup> &out) {
       SpecialGroup g;
       g.name = name;
       g.smarts = r.smarts(row, c_smarts);
+      g.shape = read_shape(g.smarts.text());
       g.exchanges = exch == "yes";
       out.push_back(std::move(g));
       it = out.end() - 1;
@@ -579,7 +717,9 @@ std::vector<std::uint32_t> aromatic_cycle(const Molecule &m, std::size_t k) {
       }
     return count;
   };
-  std::vector<std::uint32_t> cycle{static_cast<std::uint32_t>(k)};
+  std::vector<std::uint32_t> cycle;
+  cycle.reserve(kMaxSize);  // one allocation, not one per doubling
+  cycle.push_back(static_cast<std::uint32_t>(k));
   std::size_t prev = k, cur = k;
   for (;;) {
     std::size_t next[2];
@@ -626,6 +766,87 @@ bool whole_ring_system(const Molecule &m, const std::vector<std::uint32_t> &cycl
     }
   }
   return true;
+}
+
+// The ring systems of m's heavy atoms; `of` gets per heavy atom the index of
+// its system or -1 when it lies on no ring. A bond lies on a ring unless it
+// is a bridge, and one depth-first search finds them (a tree bond is one when
+// nothing below it reaches back above it): the atoms visited below a bridge
+// and not yet placed then make one ring system, or a lone atom.
+std::vector<RingSystem> find_ring_systems(const Molecule &m, std::vector<std::int32_t> &of) {
+  const auto n = static_cast<std::uint32_t>(m.heavy_atom_count());
+  const Atom *atoms = m.atoms().data();
+  const Bond *bonds = m.bonds().data();
+  constexpr std::uint32_t kNoBond = ~std::uint32_t{0};
+  std::vector<std::uint32_t> order(n, 0), low(n, 0);  // 0: not yet visited
+  std::vector<std::uint32_t> pending;                 // visited, in no system yet
+  std::vector<RingSystem> systems;
+  of.assign(n, -1);
+  auto place = [&](std::uint32_t first) {
+    std::size_t from = pending.size();
+    while (pending[--from] != first) {
+    }
+    if (pending.size() - from > 1) {
+      const auto id = static_cast<std::int32_t>(systems.size());
+      for (std::size_t i = from; i < pending.size(); ++i) of[pending[i]] = id;
+      RingSystem sys;
+      for (std::size_t i = from; i < pending.size(); ++i) {
+        const std::uint32_t a = pending[i];
+        const bool carbon = atoms[a].atomic_number == 6;
+        const auto *bid = m.bond_ids_begin(a);
+        for (auto it = m.neighbours_begin(a), end = it + m.degree(a); it != end; ++it, ++bid) {
+          const std::uint32_t x = *it;
+          if (x >= n) continue;
+          sys.carbonyl = sys.carbonyl ||
+                         (carbon && atoms[x].atomic_number == 8 && bonds[*bid].order == BondOrder::Double);
+          if (of[x] == id && x > a) ++sys.bonds;  // each ring bond once
+        }
+        ++sys.atoms;
+        const int slot = atoms[a].aromatic ? aromatic_slot(atoms[a].atomic_number) : -1;
+        if (slot >= 0) ++sys.aromatic[static_cast<std::size_t>(slot)];
+      }
+      systems.push_back(sys);
+    }
+    pending.resize(from);
+  };
+  // The neighbours still to look at are kept as pointers: the accessors
+  // check their index on every call.
+  struct Frame {
+    std::uint32_t atom, via_bond;
+    const std::uint32_t *next, *end, *bond;
+  };
+  std::vector<Frame> stack;
+  stack.reserve(n);
+  pending.reserve(n);
+  std::uint32_t visited = 0;
+  auto enter = [&](std::uint32_t a, std::uint32_t via) {
+    order[a] = low[a] = ++visited;
+    pending.push_back(a);
+    const std::uint32_t *nb = m.neighbours_begin(a);
+    stack.push_back(Frame{a, via, nb, nb + m.degree(a), m.bond_ids_begin(a)});
+  };
+  for (std::uint32_t root = 0; root < n; ++root) {
+    if (order[root] != 0) continue;
+    enter(root, kNoBond);
+    while (!stack.empty()) {
+      Frame &f = stack.back();
+      if (f.next != f.end) {
+        const std::uint32_t x = *f.next++, b = *f.bond++;
+        if (x >= n || b == f.via_bond) continue;
+        if (order[x] != 0) low[f.atom] = std::min(low[f.atom], order[x]);
+        else enter(x, b);
+        continue;
+      }
+      const std::uint32_t done = f.atom;
+      stack.pop_back();
+      if (stack.empty()) break;
+      const std::uint32_t parent = stack.back().atom;
+      low[parent] = std::min(low[parent], low[done]);
+      if (low[done] > order[parent]) place(done);
+    }
+    place(root);
+  }
+  return systems;
 }
 
 }  // namespace
@@ -746,6 +967,9 @@ class H1Increments final : public ShiftSource {
       lone_of_.clear();
       lone_rings_.clear();
       hetero_matches_.clear();
+      system_of_.clear();
+      systems_.clear();
+      system_rows_.clear();
       memo_of_.clear();
       memo_.clear();
     }
@@ -755,9 +979,31 @@ class H1Increments final : public ShiftSource {
   // --- h1_special -----------------------------------------------------------
   // The first group in file order whose SMARTS matches on the proton's atom.
   const SpecialGroup *special_group(const SmartsTarget &t, std::size_t c) const {
-    for (const auto &g : tab_.special)
-      if (match_at(g.smarts, t, c)) return &g;
+    const std::vector<bool> none;
+    for (const auto &g : tab_.special) {
+      if (c >= t.atom_count() || !g.smarts.root_may_match(t.packed(c)) ||
+          !g.smarts.neighbours_may_match(t.neighbour_kinds(c)))
+        continue;
+      // match_at() after its own screens; a ring group then needs a ring
+      // around c that can hold it, known without a search: a three-membered
+      // one shows in c's neighbours, others in its ring system.
+      if (g.shape.known && (g.shape.atoms == 3 && g.shape.cycles == 1
+                                ? !on_triangle(t.molecule(), c)
+                                : !g.shape.may_hold(ring_system(t.molecule(), c))))
+        continue;
+      if (match_at_unscreened(g.smarts, t, c, none)) return &g;
+    }
     return nullptr;
+  }
+
+  // Whether two heavy neighbours of c are bonded to each other.
+  static bool on_triangle(const Molecule &m, std::size_t c) {
+    const std::size_t n = m.heavy_atom_count();
+    const std::uint32_t *begin = m.neighbours_begin(c), *end = begin + m.degree(c);
+    for (const auto *i = begin; i != end; ++i)
+      for (const auto *j = i + 1; j != end; ++j)
+        if (*i < n && *j < n && m.bond_between(*i, *j) >= 0) return true;
+    return false;
   }
 
   const SpecialRow *special_row(const SpecialGroup &g) const {
@@ -816,6 +1062,11 @@ class H1Increments final : public ShiftSource {
       if (!lone->benzene) lone->benzene = make_benzene_ring(t, lone->atoms, true);
       return lone->benzene->benzenoid ? benzene_sum(lone->atoms, *lone->benzene, k) : std::nullopt;
     }
+    // A six-membered ring gives a sum only when every bond leaving it is a
+    // bridge (make_benzene_ring: a group closing a ring has no row), which
+    // makes it its whole ring system; any other system needs no perception.
+    const RingSystem *sys = ring_system(t.molecule(), k);
+    if (!sys || sys->atoms != 6) return std::nullopt;
     for (const auto &ring : t.rings()) {
       if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
       const BenzeneRing &br = benzene_ring(t, static_cast<std::size_t>(&ring - t.rings().data()));
@@ -908,7 +1159,9 @@ class H1Increments final : public ShiftSource {
       // The answer holds for every atom of the cycle.
       const auto cycle = aromatic_cycle(m, k);
       lone_of_[k] = kLoneNone;
-      if (cycle.size() >= 3 && whole_ring_system(m, cycle)) {
+      // whole_ring_system(), read off the ring systems found once.
+      const RingSystem *sys = cycle.size() >= 3 ? ring_system(m, k) : nullptr;
+      if (sys && sys->atoms == static_cast<int>(cycle.size()) && sys->cycles() == 1) {
         for (auto a : cycle) lone_of_[a] = static_cast<std::int32_t>(lone_rings_.size());
         lone_rings_.push_back(LoneRing{rings_order(m, cycle), std::nullopt});
       } else {
@@ -918,13 +1171,22 @@ class H1Increments final : public ShiftSource {
     return lone_of_[k] >= 0 ? &lone_rings_[static_cast<std::size_t>(lone_of_[k])] : nullptr;
   }
 
+  // The ring system of heavy atom k, or null when k lies on no ring; found
+  // once per molecule (find_ring_systems()). The rules below ask it before
+  // anything that needs ring perception, which costs more than the rest of
+  // their work for a fused ring system, and rarely has to run then.
+  const RingSystem *ring_system(const Molecule &m, std::size_t k) const {
+    if (system_of_.empty()) systems_ = find_ring_systems(m, system_of_);
+    return k < system_of_.size() && system_of_[k] >= 0 ? &systems_[static_cast<std::size_t>(system_of_[k])] : nullptr;
+  }
+
   // --- heteroaromatic base values -------------------------------------------
   std::optional<Estimate> hetero(const SmartsTarget &t, std::size_t k) const {
     const Molecule &m = t.molecule();
-    for (std::size_t r = 0; r < tab_.hetero.size(); ++r) {
+    for (const std::uint32_t r : hetero_rows(m, k)) {
       const HeteroRow &row = tab_.hetero[r];
-      // The anchored screen of match_at rejects most rows for this proton
-      // before the row's mappings are looked at (or searched for).
+      // The anchored screen of match_at rejects most of the rest before the
+      // row's mappings are looked at (or searched for).
       if (!row.smarts.root_may_match(t.packed(k))) continue;
       const auto *found = first_mapping_at(row.smarts, hetero_matches(t, r), k);
       if (!found) continue;
@@ -968,6 +1230,21 @@ class H1Increments final : public ShiftSource {
       return from_sum(s, unaccounted);
     }
     return std::nullopt;
+  }
+
+  // The h1_heteroaromatic rows, in file order, whose rings may fit the ring
+  // system of k (RowShape::may_hold), found once per ring system: the other
+  // rows need no search, and so no ring perception, for any of its protons.
+  const std::vector<std::uint32_t> &hetero_rows(const Molecule &m, std::size_t k) const {
+    const RingSystem *sys = ring_system(m, k);
+    if (system_rows_.empty()) system_rows_.resize(systems_.size() + 1);
+    auto &rows = system_rows_[sys ? static_cast<std::size_t>(sys - systems_.data()) : systems_.size()];
+    if (!rows) {
+      rows.emplace();
+      for (std::size_t r = 0; r < tab_.hetero.size(); ++r)
+        if (tab_.hetero[r].shape.may_hold(sys)) rows->push_back(static_cast<std::uint32_t>(r));
+    }
+    return *rows;
   }
 
   // Every mapping of h1_heteroaromatic row `r` in the molecule, found on
@@ -1230,6 +1507,10 @@ class H1Increments final : public ShiftSource {
   std::optional<Estimate> ring_enone(const SmartsTarget &t, std::size_t ca) const {
     const Molecule &m = t.molecule();
     if (!tab_.alkene.present || m.hydrogen_count(ca) != 1 || m.degree(ca) != 3) return std::nullopt;
+    // The ring and its C=O carbon lie in ca's ring system: without such a
+    // carbon there, no ring perception is needed to tell.
+    const RingSystem *sys = ring_system(m, ca);
+    if (!sys || !sys->carbonyl) return std::nullopt;
     for (const auto &ring : t.rings()) {
       const std::size_t n = ring.size();
       const auto pos = static_cast<std::size_t>(std::find(ring.begin(), ring.end(), ca) - ring.begin());
@@ -1362,23 +1643,53 @@ class H1Increments final : public ShiftSource {
   }
 
   // --- sp3 C-H: Shoolery's rule and the position table -----------------------
-  // The heavy neighbours of an sp3 carbon (four bonds), kept in place rather
-  // than in a vector per carbon.
-  class Sp3Neighbours {
+  // At most four values (an sp3 carbon's neighbours, or some of them), kept
+  // in place rather than in a vector per carbon.
+  template <class T>
+  class Four {
    public:
-    Sp3Neighbours(const Molecule &m, std::size_t c) {
-      for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) {
-        if (count_ < atoms_.size()) atoms_[count_++] = x;
-      });
+    void push_back(T v) {
+      if (count_ < values_.size()) values_[count_++] = v;
     }
     std::size_t size() const { return count_; }
-    std::size_t operator[](std::size_t i) const { return atoms_[i]; }
-    const std::size_t *begin() const { return atoms_.data(); }
-    const std::size_t *end() const { return atoms_.data() + count_; }
+    bool empty() const { return count_ == 0; }
+    T operator[](std::size_t i) const { return values_[i]; }
+    const T *begin() const { return values_.data(); }
+    const T *end() const { return values_.data() + count_; }
 
    private:
-    std::array<std::size_t, 4> atoms_{};
+    std::array<T, 4> values_{};
     std::size_t count_ = 0;
+  };
+
+  struct Sp3Neighbours : Four<std::size_t> {
+    Sp3Neighbours(const Molecule &m, std::size_t c) {
+      for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) { push_back(x); });
+    }
+  };
+
+  // A few atoms flagged in `bits`, scratch kept by the source (all false
+  // between uses, never shorter than the molecule), cleared again when this
+  // ends: a skeleton per carbon without a vector per carbon.
+  class Flagged {
+   public:
+    Flagged(std::vector<bool> &bits, std::size_t atom_count) : bits_(bits) {
+      if (bits_.size() < atom_count) bits_.assign(atom_count, false);
+    }
+    Flagged(const Flagged &) = delete;
+    Flagged &operator=(const Flagged &) = delete;
+    ~Flagged() {
+      for (auto a : set_) bits_[a] = false;
+    }
+    void set(std::size_t a) {
+      bits_[a] = true;
+      set_.push_back(a);
+    }
+    const std::vector<bool> &bits() const { return bits_; }
+
+   private:
+    std::vector<bool> &bits_;
+    Four<std::size_t> set_;
   };
 
   std::optional<Estimate> sp3(const SmartsTarget &t, std::size_t c) const {
@@ -1428,14 +1739,15 @@ class H1Increments final : public ShiftSource {
       return from_sum(s);
     }
     if (n_h < 1 || n_h > 3) return std::nullopt;
-    std::vector<bool> skeleton(m.atom_count(), false);
-    skeleton[c] = true;
+    Flagged flagged(chain_skeleton_, m.atom_count());
+    flagged.set(c);
+    const std::vector<bool> &skeleton = flagged.bits();
     // Sort the neighbours: `direct` groups (not an sp3 carbon), `shoolery`
     // sp3 carbons that are groups of their own in Shoolery's table (CF3,
     // CF2R), `beta` sp3 carbons carrying a group one bond further (the
     // group atoms are counted), and clean alkyl carbons.
-    std::vector<std::size_t> direct, own, beta;
-    std::vector<int> beta_groups;
+    Four<std::size_t> direct, own, beta;
+    Four<int> beta_groups;
     for (auto n : nbrs) {
       if (!is_sp3_carbon(m, n)) {
         direct.push_back(n);
@@ -1554,7 +1866,7 @@ class H1Increments final : public ShiftSource {
   // difference between its beta row and the alkane value, as increments add
   // in additive schemes. Every group must have a row.
   std::optional<Estimate> beta_sum(const SmartsTarget &t, std::size_t c, std::size_t n_h,
-                                   const std::vector<std::size_t> &beta) const {
+                                   const Four<std::size_t> &beta) const {
     const auto &alk = tab_.shoolery.alkane[n_h];
     if (!alk.set) return std::nullopt;
     const char *const type[] = {"", "CH", "CH2", "CH3"};
@@ -1574,7 +1886,7 @@ class H1Increments final : public ShiftSource {
   // beta row minus the plain alkane value; false when a group has no row.
   // The position table has no beta rows for CH: a CH takes the steps of the
   // CH2 rows (FORMAT.md step 3c), each widening the uncertainty.
-  bool add_beta_steps(const SmartsTarget &t, std::size_t c, std::size_t n_h, const std::vector<std::size_t> &beta,
+  bool add_beta_steps(const SmartsTarget &t, std::size_t c, std::size_t n_h, const Four<std::size_t> &beta,
                       Sum &s) const {
     const Molecule &m = t.molecule();
     const ShooleryTable &tab = tab_.shoolery;
@@ -1583,17 +1895,18 @@ class H1Increments final : public ShiftSource {
     const auto &alk = tab.alkane[rows_h];
     if (!alk.set || tab.beta[rows_h].empty()) return false;
     for (auto b : beta) {
-      std::vector<std::size_t> groups;
+      Four<std::size_t> groups;
       for_heavy_neighbours(m, b, [&](std::size_t y, BondOrder) {
         if (y != c && !is_sp3_carbon(m, y)) groups.push_back(y);
       });
       for (auto y : groups) {
         // The other groups on b join the skeleton, so the row's group atom
         // can only be y.
-        std::vector<bool> skeleton(m.atom_count(), false);
-        skeleton[c] = true;
-        for (auto z : groups) skeleton[z] = z != y;
-        const auto *row = first_row(tab.beta[rows_h], t, b, skeleton);
+        Flagged skeleton(beta_skeleton_, m.atom_count());
+        skeleton.set(c);
+        for (auto z : groups)
+          if (z != y) skeleton.set(z);
+        const auto *row = first_row(tab.beta[rows_h], t, b, skeleton.bits());
         if (!row) return false;
         s.add(carried ? "(carried over from CH2)" : "", row->id, row->ppm - alk.ppm);
         if (carried) s.widen(kBetaCarriedPpm);
@@ -1614,6 +1927,11 @@ class H1Increments final : public ShiftSource {
   mutable std::vector<std::int32_t> lone_of_;  // per heavy atom: index into lone_rings_, or kLoneUnknown/None
   mutable std::vector<LoneRing> lone_rings_;   // see lone_ring()
   mutable std::vector<std::optional<std::vector<std::vector<std::uint32_t>>>> hetero_matches_;  // see hetero_matches()
+  mutable std::vector<std::int32_t> system_of_;  // see ring_system()
+  // Flagged scratch of sp3_chain() and of add_beta_steps(), which it calls.
+  mutable std::vector<bool> chain_skeleton_, beta_skeleton_;
+  mutable std::vector<RingSystem> systems_;
+  mutable std::vector<std::optional<std::vector<std::uint32_t>>> system_rows_;  // see hetero_rows()
   // evaluate()'s answers; per atom (a proton, or a carrier for all its
   // protons) the index of its answer or kNotDone. A deque, so that the
   // answers handed out stay in place.
