@@ -732,42 +732,6 @@ std::vector<std::uint32_t> aromatic_cycle(const Molecule &m, std::size_t k) {
   }
 }
 
-// Whether aromatic_cycle() `cycle` is the whole ring system of its atoms:
-// every other bond they have is a bridge, so a search from the far atom of
-// each such bond, not crossing it, reaches neither the ring nor another such
-// search.
-bool whole_ring_system(const Molecule &m, const std::vector<std::uint32_t> &cycle) {
-  const std::size_t n = m.heavy_atom_count();
-  // 0 unseen, 1 on the ring, else 2 + the number of the search that reached it.
-  std::vector<std::uint32_t> seen(n, 0);
-  for (auto a : cycle) seen[a] = 1;
-  std::vector<std::size_t> queue;
-  std::uint32_t search = 2;
-  for (auto r : cycle) {
-    const auto *bid = m.bond_ids_begin(r);
-    for (auto it = m.neighbours_begin(r); it != m.neighbours_end(r); ++it, ++bid) {
-      const std::size_t x = *it;
-      if (x >= n) continue;
-      if (seen[x] == 1) {
-        if (m.bond(*bid).order != BondOrder::Aromatic) return false;  // a chord
-        continue;
-      }
-      if (seen[x] != 0) return false;
-      seen[x] = ++search;
-      queue.assign(1, x);
-      for (std::size_t i = 0; i < queue.size(); ++i)
-        for (auto jt = m.neighbours_begin(queue[i]); jt != m.neighbours_end(queue[i]); ++jt) {
-          const std::size_t y = *jt;
-          if (y >= n || seen[y] == search || (queue[i] == x && y == r)) continue;
-          if (seen[y] != 0) return false;
-          seen[y] = search;
-          queue.push_back(y);
-        }
-    }
-  }
-  return true;
-}
-
 // The ring systems of m's heavy atoms; `of` gets per heavy atom the index of
 // its system or -1 when it lies on no ring. A bond lies on a ring unless it
 // is a bridge, and one depth-first search finds them (a tree bond is one when
@@ -849,12 +813,21 @@ std::vector<RingSystem> find_ring_systems(const Molecule &m, std::vector<std::in
   return systems;
 }
 
+// Whether aromatic_cycle() of an atom, `cycle_size` atoms long, is the whole
+// ring system `sys` of that atom (null: the atom is on no ring).
+bool lone_system(const RingSystem *sys, std::size_t cycle_size) {
+  return cycle_size >= 3 && sys && sys->atoms == static_cast<int>(cycle_size) && sys->cycles() == 1;
+}
+
 }  // namespace
 
 std::vector<std::uint32_t> lone_ring(const Molecule &m, std::size_t k) {
   const auto cycle = aromatic_cycle(m, k);
-  if (cycle.size() < 3 || !whole_ring_system(m, cycle)) return {};
-  return rings_order(m, cycle);
+  if (cycle.size() < 3) return {};
+  std::vector<std::int32_t> of;
+  const auto systems = find_ring_systems(m, of);
+  const RingSystem *sys = of[k] >= 0 ? &systems[static_cast<std::size_t>(of[k])] : nullptr;
+  return lone_system(sys, cycle.size()) ? rings_order(m, cycle) : std::vector<std::uint32_t>{};
 }
 
 namespace {
@@ -1159,9 +1132,7 @@ class H1Increments final : public ShiftSource {
       // The answer holds for every atom of the cycle.
       const auto cycle = aromatic_cycle(m, k);
       lone_of_[k] = kLoneNone;
-      // whole_ring_system(), read off the ring systems found once.
-      const RingSystem *sys = cycle.size() >= 3 ? ring_system(m, k) : nullptr;
-      if (sys && sys->atoms == static_cast<int>(cycle.size()) && sys->cycles() == 1) {
+      if (lone_system(cycle.size() >= 3 ? ring_system(m, k) : nullptr, cycle.size())) {
         for (auto a : cycle) lone_of_[a] = static_cast<std::int32_t>(lone_rings_.size());
         lone_rings_.push_back(LoneRing{rings_order(m, cycle), std::nullopt});
       } else {
