@@ -763,8 +763,11 @@ class Search {
   Search(const SmartsImpl &p, const SmartsTarget &t, std::uint32_t root, std::int64_t root_atom, bool root_checked,
          const std::vector<std::int64_t> *fixed, const std::vector<bool> &excluded, const Visit *visit)
       : p_(p), t_(t), root_(root), root_atom_(root_atom), root_checked_(root_checked), fixed_(fixed),
-        excluded_(excluded), visit_(visit), map_(t.take_buffer()) {}
-  ~Search() { t_.return_buffer(std::move(map_)); }
+        excluded_(excluded), visit_(visit) {}
+  ~Search() {
+    if (stacked_ > 0) t_.pop_map(stacked_);
+    else if (map_) t_.return_buffer(std::move(buffer_));
+  }
   Search(const Search &) = delete;
   Search &operator=(const Search &) = delete;
 
@@ -773,7 +776,17 @@ class Search {
     if (n == 0) return false;
     const SearchOrder &o = p_.orders[root_];
     order_ = &o;
-    map_.assign(n, 0);
+    // A visitor is handed the map as a vector; other searches map onto the
+    // target's stack while it has room.
+    map_ = visit_ ? nullptr : t_.push_map(n);
+    if (map_) {
+      stacked_ = n;
+      std::fill_n(map_, n, 0u);
+    } else {
+      buffer_ = t_.take_buffer();
+      buffer_.assign(n, 0);
+      map_ = buffer_.data();
+    }
     step(0);
     return found_;
   }
@@ -818,7 +831,7 @@ class Search {
   bool step(std::size_t i) {
     if (i == p_.atom_expr.size()) {
       found_ = true;
-      return visit_ && *visit_ ? (*visit_)(map_) : true;
+      return visit_ && *visit_ ? (*visit_)(buffer_) : true;
     }
     const auto q = order_->order[i];
     const Molecule &m = t_.molecule();
@@ -848,7 +861,9 @@ class Search {
   const std::vector<bool> &excluded_;
   const Visit *visit_;
   const SearchOrder *order_ = nullptr;
-  std::vector<std::uint32_t> map_;
+  std::uint32_t *map_ = nullptr;       // pattern atom -> molecule atom
+  std::size_t stacked_ = 0;            // slots map_ holds on the target's stack
+  std::vector<std::uint32_t> buffer_;  // holds map_ when not on the stack
   bool found_ = false;
 };
 
@@ -922,30 +937,29 @@ const std::vector<std::uint32_t> &SmartsPattern::search_order(std::size_t root) 
   return impl_->orders.at(root).order;
 }
 
-SmartsTarget::SmartsTarget(const Molecule &m)
-    : m_(m), heavy_degree_(m.atom_count(), 0), facts_(m.atom_count()), packed_(m.atom_count(), 0),
-      neighbour_kinds_(m.atom_count(), 0), element_count_(256, 0) {
+SmartsTarget::SmartsTarget(const Molecule &m) : m_(m), atoms_(m.atom_count()) {
   for (const auto &b : m.bonds()) {
     const auto zb = m.atom(b.begin).atomic_number, ze = m.atom(b.end).atomic_number;
     // Molecule::hydrogen_count(), for all atoms in one pass.
-    if (zb == 1) ++facts_[b.end].hydrogens;
-    if (ze == 1) ++facts_[b.begin].hydrogens;
+    if (zb == 1) ++atoms_[b.end].facts.hydrogens;
+    if (ze == 1) ++atoms_[b.begin].facts.hydrogens;
     if (zb != 1 && ze != 1) {
-      ++heavy_degree_[b.begin];
-      ++heavy_degree_[b.end];
-      neighbour_kinds_[b.begin] |= std::uint64_t{1} << kind_bit(ze, b.order);
-      neighbour_kinds_[b.end] |= std::uint64_t{1} << kind_bit(zb, b.order);
+      ++atoms_[b.begin].heavy_degree;
+      ++atoms_[b.end].heavy_degree;
+      atoms_[b.begin].neighbour_kinds |= std::uint64_t{1} << kind_bit(ze, b.order);
+      atoms_[b.end].neighbour_kinds |= std::uint64_t{1} << kind_bit(zb, b.order);
     }
   }
   for (std::size_t a = 0; a < m.atom_count(); ++a) {
     const Atom &at = m.atoms()[a];
-    AtomFacts &f = facts_[a];
+    AtomRecord &r = atoms_[a];
+    AtomFacts &f = r.facts;
     f.atomic_number = at.atomic_number;
     f.aromatic = at.aromatic;
     f.formal_charge = at.formal_charge;
     f.isotope = at.isotope;
     f.degree = static_cast<std::uint32_t>(m.degree(a));
-    packed_[a] = pack(f, heavy_degree_[a]);
+    r.packed = pack(f, r.heavy_degree);
     if (at.atomic_number != 1 && at.atomic_number < 128) ++element_count_[at.atomic_number * 2u + (at.aromatic ? 1u : 0u)];
   }
 }
@@ -1007,6 +1021,9 @@ std::size_t SmartsTarget::recursive_slot(const SmartsImpl *part) const {
     i = (i + 1) & (memo_slots_.size() - 1);
   }
   const std::size_t offset = memo_pool_.size();
+  // Room for the rows of a typical molecule at once: grown a row at a time,
+  // the pool was moved several times per molecule.
+  if (offset == 0) memo_pool_.reserve(kMemoRowsReserved * m_.atom_count());
   memo_pool_.resize(offset + m_.atom_count(), -1);
   memo_slots_[i] = {part, offset};
   ++memo_used_;
@@ -1036,26 +1053,21 @@ std::uint32_t SmartsTarget::ring_system_element_count(std::size_t system, unsign
 }
 
 // Ring systems: atoms joined by ring bonds, numbered in order of their
-// lowest atom, with heavy-atom counts as element_count() keeps them.
+// lowest atom, with heavy-atom counts as element_count() keeps them. These
+// are the parts perceive_rings() searched: every bond on a cycle of a part
+// lies on one of its smallest rings (they span its cycles), so the atoms
+// of a part are its ring atoms and its ring bonds join them.
 void SmartsTarget::perceive_ring_systems() const {
   if (systems_done_) return;
   systems_done_ = true;
   perceive_rings();
-  const std::size_t n = m_.heavy_atom_count();
-  UnionFind root(static_cast<std::uint32_t>(n));
-  for (std::uint32_t b = 0; b < m_.bond_count(); ++b)
-    if (bond_rings_[b] > 0) root.unite(m_.bond(b).begin, m_.bond(b).end);
-  std::vector<std::int32_t> number(n, -1);
-  for (std::uint32_t a = 0; a < n; ++a) {
-    if (atom_rings_[a] == 0) continue;
-    auto &sys = number[root.find(a)];
-    if (sys < 0) {
-      sys = static_cast<std::int32_t>(system_counts_.size() / kSystemCountSize);
-      system_counts_.resize(system_counts_.size() + kSystemCountSize, 0);
-    }
-    const auto z = m_.atom(a).atomic_number;
+  system_counts_.assign(ring_parts_ * kSystemCountSize, 0);
+  for (std::uint32_t a = 0; a < m_.heavy_atom_count(); ++a) {
+    const AtomRecord &r = atoms_[a];
+    if (r.ring_count == 0) continue;
+    const auto z = r.facts.atomic_number;
     if (z < 128)
-      ++system_counts_[static_cast<std::size_t>(sys) * kSystemCountSize + z * 2u + (m_.atom(a).aromatic ? 1u : 0u)];
+      ++system_counts_[static_cast<std::size_t>(r.ring_part) * kSystemCountSize + z * 2u + (r.facts.aromatic ? 1u : 0u)];
   }
 }
 
@@ -1072,8 +1084,6 @@ void SmartsTarget::perceive_rings() const {
   rings_done_ = true;
   const Molecule &m = m_;
   const std::size_t n = m.heavy_atom_count();
-  atom_rings_.assign(m.atom_count(), 0);
-  atom_smallest_.assign(m.atom_count(), 0);
   bond_rings_.assign(m.bond_count(), 0);
   const std::size_t bond_count = m.bond_count();
   // The scratch of known size, per heavy atom and per bond, in one block:
@@ -1152,24 +1162,29 @@ void SmartsTarget::perceive_rings() const {
     }
   }
   // The parts: atoms joined by bonds other than bridges, numbered in order
-  // of their lowest atom (the union's representative); part -1 for atoms
+  // of their lowest atom (where the fill of each starts); part -1 for atoms
   // on no cycle. Their atoms and edges ascending, in one list each.
   std::size_t parts = 0;
-  {
-    UnionFind joined(static_cast<std::uint32_t>(n));
-    std::fill(part, part + n, -1);
-    for (std::size_t e = 0; e < edge_count; ++e) {
-      if (bridge[e]) continue;
-      const auto &bd = m.bond(edges[e]);
-      joined.unite(bd.begin, bd.end);
-      part[bd.begin] = part[bd.end] = 0;  // on a cycle; numbered below
-    }
-    for (std::uint32_t a = 0; a < n; ++a) {
-      if (part[a] < 0) continue;
-      const auto r = joined.find(a);
-      part[a] = r == a ? static_cast<std::int32_t>(parts++) : part[r];
+  std::fill(part, part + n, -1);
+  for (std::size_t e = 0; e < edge_count; ++e)
+    if (!bridge[e]) part[m.bond(edges[e]).begin] = part[m.bond(edges[e]).end] = -2;  // on a cycle; numbered below
+  for (std::uint32_t s0 = 0; s0 < n; ++s0) {
+    if (part[s0] != -2) continue;
+    const auto id = static_cast<std::int32_t>(parts++);
+    part[s0] = id;
+    queue[0] = s0;
+    queued = 1;
+    while (queued > 0) {
+      const auto a = queue[--queued];
+      const auto *bid = m.bond_ids_begin(a);
+      for (auto it = m.neighbours_begin(a), end = m.neighbours_end(a); it != end; ++it, ++bid) {
+        const int e = edge_of_bond[*bid];
+        if (e >= 0 && !bridge[e] && part[*it] == -2) part[*it] = id, queue[queued++] = *it;
+      }
     }
   }
+  ring_parts_ = static_cast<std::uint32_t>(parts);
+  for (std::uint32_t a = 0; a < n; ++a) atoms_[a].ring_part = part[a];
   auto *const atom_start = reinterpret_cast<std::uint32_t *>(carve(parts + 1));
   auto *const edge_start = reinterpret_cast<std::uint32_t *>(carve(parts + 1));
   auto *const next = reinterpret_cast<std::uint32_t *>(carve(parts + 1));
@@ -1363,10 +1378,10 @@ void SmartsTarget::perceive_rings() const {
   for (const auto &ring : rings_) {
     const int size = static_cast<int>(ring.size());
     for (std::size_t i = 0; i < ring.size(); ++i) {
-      const auto a = ring[i];
-      ++atom_rings_[a];
-      if (atom_smallest_[a] == 0 || size < atom_smallest_[a]) atom_smallest_[a] = static_cast<std::uint8_t>(size);
-      ++bond_rings_[static_cast<std::size_t>(m.bond_between(a, ring[(i + 1) % ring.size()]))];
+      AtomRecord &r = atoms_[ring[i]];
+      ++r.ring_count;
+      if (r.smallest_ring == 0 || size < r.smallest_ring) r.smallest_ring = static_cast<std::uint8_t>(size);
+      ++bond_rings_[static_cast<std::size_t>(m.bond_between(ring[i], ring[(i + 1) % ring.size()]))];
     }
   }
 }

@@ -95,14 +95,14 @@ class SmartsTarget {
   SmartsTarget(const SmartsTarget &) = delete;
   SmartsTarget &operator=(const SmartsTarget &) = delete;
   const Molecule &molecule() const noexcept { return m_; }
-  std::size_t heavy_degree(std::size_t atom) const { return heavy_degree_[atom]; }
+  std::size_t heavy_degree(std::size_t atom) const { return atoms_[atom].heavy_degree; }
   // Whether ring perception has run (the ring queries below run it once).
   bool rings_known() const noexcept { return rings_done_; }
   // Number of smallest rings (smarts.hpp) that contain the atom / the bond.
   // Asked for every candidate of many searches: inline, perceiving once.
   int ring_count(std::size_t atom) const {
     if (!rings_done_) perceive_rings();
-    return atom_rings_[atom];
+    return atoms_[atom].ring_count;
   }
   int bond_ring_count(std::size_t bond) const {
     if (!rings_done_) perceive_rings();
@@ -111,7 +111,7 @@ class SmartsTarget {
   // Size of the smallest ring that contains the atom, 0 if none.
   int smallest_ring(std::size_t atom) const {
     if (!rings_done_) perceive_rings();
-    return atom_smallest_[atom];
+    return atoms_[atom].smallest_ring;
   }
   // The smallest rings as atom lists in ring order, smallest first.
   const std::vector<std::vector<std::uint32_t>> &rings() const {
@@ -128,19 +128,19 @@ class SmartsTarget {
     std::uint32_t hydrogens = 0;  // bonded hydrogens, any isotope
     std::uint32_t degree = 0;     // all neighbours, hydrogens included
   };
-  const AtomFacts &facts(std::size_t atom) const { return facts_[atom]; }
+  const AtomFacts &facts(std::size_t atom) const { return atoms_[atom].facts; }
   // The same facts packed into one word (smarts.cpp, kPack*), so that a
   // pattern atom's plain demands are tested with one mask and compare.
-  std::uint64_t packed(std::size_t atom) const { return packed_[atom]; }
+  std::uint64_t packed(std::size_t atom) const { return atoms_[atom].packed; }
   // packed() of an atom with these facts and this many heavy neighbours.
   static std::uint64_t pack(const AtomFacts &facts, std::uint8_t heavy_degree);
   // The kinds of the atom's heavy neighbours: bit kind_bit(element, order)
   // set for each neighbour of that element over a bond of that order.
-  std::uint64_t neighbour_kinds(std::size_t atom) const { return neighbour_kinds_[atom]; }
+  std::uint64_t neighbour_kinds(std::size_t atom) const { return atoms_[atom].neighbour_kinds; }
   // Sixteen element groups by four bond orders; the elements of organic
   // molecules have a group each, the rest share one (smarts.cpp).
   static unsigned kind_bit(unsigned atomic_number, BondOrder order);
-  std::size_t atom_count() const noexcept { return packed_.size(); }
+  std::size_t atom_count() const noexcept { return atoms_.size(); }
   // Heavy atoms with this atomic number (0..127) and aromatic flag.
   std::uint32_t element_count(unsigned atomic_number, bool aromatic) const {
     return atomic_number < 128 ? element_count_[atomic_number * 2 + (aromatic ? 1 : 0)] : 0;
@@ -156,6 +156,18 @@ class SmartsTarget {
   std::int8_t &recursive_value(std::size_t slot, std::size_t atom) const { return memo_pool_[slot + atom]; }
   std::vector<std::uint32_t> take_buffer() const;
   void return_buffer(std::vector<std::uint32_t> &&buffer) const;
+  // The atom map of a search that hands no mapping to a caller: `n` slots on
+  // a stack inside the target (the searches of nested recursive parts stack
+  // up), or null when they do not fit and the search takes a buffer. Every
+  // rule table asks anchored searches of every atom: a buffer per search
+  // cost an allocation whenever a deeper nesting or a larger pattern came.
+  std::uint32_t *push_map(std::size_t n) const {
+    if (n > map_stack_.size() - map_top_) return nullptr;
+    std::uint32_t *const slots = map_stack_.data() + map_top_;
+    map_top_ += n;
+    return slots;
+  }
+  void pop_map(std::size_t n) const { map_top_ -= n; }
   // Ring systems (atoms joined by bonds in smallest rings) and their heavy
   // atoms by atomic number (0..127) and aromatic flag, as element_count().
   std::size_t ring_system_count() const;
@@ -165,14 +177,24 @@ class SmartsTarget {
   void perceive_rings() const;
   void perceive_ring_systems() const;
   const Molecule &m_;
-  std::vector<std::uint8_t> heavy_degree_;
-  std::vector<AtomFacts> facts_;
-  std::vector<std::uint64_t> packed_;
-  std::vector<std::uint64_t> neighbour_kinds_;
-  std::vector<std::uint32_t> element_count_;
+  // Everything known of one atom side by side: a search tests several of
+  // these facts on each candidate, and one record per atom is one
+  // allocation per molecule where an array per fact was one per fact.
+  struct AtomRecord {
+    AtomFacts facts;
+    std::uint8_t heavy_degree = 0;
+    // Set by ring perception (wrapping at 256 as the counts always did).
+    std::uint8_t ring_count = 0, smallest_ring = 0;
+    std::int32_t ring_part = -1;  // ring system, -1 off every ring
+    std::uint64_t packed = 0;
+    std::uint64_t neighbour_kinds = 0;
+  };
+  mutable std::vector<AtomRecord> atoms_;  // ring fields filled on first ring query
+  std::array<std::uint32_t, 256> element_count_{};
   mutable bool rings_done_ = false;
   mutable std::vector<std::vector<std::uint32_t>> rings_;
-  mutable std::vector<std::uint8_t> atom_rings_, bond_rings_, atom_smallest_;
+  mutable std::vector<std::uint8_t> bond_rings_;
+  mutable std::uint32_t ring_parts_ = 0;  // ring systems
   static constexpr std::size_t kSystemCountSize = 256;  // per ring system: counts as element_count_
   mutable bool systems_done_ = false;
   mutable std::vector<std::uint32_t> system_counts_;
@@ -181,9 +203,13 @@ class SmartsTarget {
   // offset. A molecule asks about some dozens of parts: a node-based map
   // cost an allocation per part and per node.
   mutable std::vector<std::int8_t> memo_pool_;
+  static constexpr std::size_t kMemoRowsReserved = 48;
   mutable std::vector<std::pair<const SmartsImpl *, std::size_t>> memo_slots_;
   mutable std::size_t memo_used_ = 0;
   mutable std::vector<std::vector<std::uint32_t>> buffers_;
+  // push_map()'s stack: room for a dozen nested searches of table patterns.
+  mutable std::array<std::uint32_t, 256> map_stack_;
+  mutable std::size_t map_top_ = 0;
 };
 
 // Anchored match: does `p` match with its atom 0 on molecule atom `atom`,
