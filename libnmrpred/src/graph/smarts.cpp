@@ -1215,13 +1215,12 @@ void SmartsTarget::perceive_rings() const {
   };
   std::vector<Cycle> candidates, kept;
   // Sized for the common case (one candidate per core bond) so that the
-  // pools seldom grow step by step.
-  candidates.reserve(edge_count);
+  // pools seldom grow step by step; the candidates and their bonds only
+  // once a part of more than one ring needs them.
   kept.reserve(edge_count);
   std::vector<std::uint32_t> atom_pool;
   atom_pool.reserve(2 * n);
   std::vector<std::uint64_t> bit_pool;
-  bit_pool.reserve(edge_count);
   auto *const mark = reinterpret_cast<std::uint32_t *>(carve(n));
   std::fill(mark, mark + n, 0u);
   std::uint32_t stamp = 0;
@@ -1239,6 +1238,7 @@ void SmartsTarget::perceive_rings() const {
     const std::size_t words = (part_edge_count + 63) / 64;
     candidates.clear();
     bit_pool.clear();
+    if (rank > 1 && candidates.capacity() == 0) candidates.reserve(edge_count), bit_pool.reserve(edge_count);
     // A part that is one ring is found whole from each of its atoms: the
     // first, from its lowest atom, is the copy kept.
     const auto roots_end = rank == 1 ? atom_start[c] + 1 : atom_start[c + 1];
@@ -1284,6 +1284,12 @@ void SmartsTarget::perceive_rings() const {
         }
         std::uint32_t at = off + dx + 1;
         for (w = y; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) atom_pool[at++] = w;
+        // A part that is one ring (a simple cycle) has one edge off the
+        // tree, so this is its only candidate, kept without its bonds.
+        if (rank == 1) {
+          kept.push_back(Cycle{off, size, 0, r, e});
+          continue;
+        }
         // Its bonds: e and the tree bonds of both paths.
         const auto bits_off = static_cast<std::uint32_t>(bit_pool.size());
         bit_pool.resize(bits_off + words, 0);
@@ -1298,11 +1304,11 @@ void SmartsTarget::perceive_rings() const {
       }
       for (std::size_t k = 0; k < reached; ++k) dist[bfs[k]] = -1;
     }
-    if (rank == 1 && candidates.size() == 1) {
-      kept.push_back(candidates[0]);
-      continue;
-    }
-    std::stable_sort(candidates.begin(), candidates.end(), [](const Cycle &a, const Cycle &b) { return a.size < b.size; });
+    if (rank == 1) continue;
+    // Smallest first, else as found: the atom pool grows as they are found.
+    std::sort(candidates.begin(), candidates.end(), [](const Cycle &a, const Cycle &b) {
+      return a.size != b.size ? a.size < b.size : a.atoms_off < b.atoms_off;
+    });
     auto bits_of = [&](const Cycle &cy) { return bit_pool.data() + cy.bits_off; };
     basis.clear();
     pivots.clear();
