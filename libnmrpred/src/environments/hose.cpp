@@ -388,17 +388,22 @@ class Engine {
     std::uint32_t listed = 0;
     atom_tok_.resize(count);
     atom_digest_.resize(count);
+    // The molecule's arrays are read directly: the checked accessors cost a
+    // compare per bond end, and every index here comes from the molecule.
+    const Atom *const atoms = m.atoms().data();
+    const Bond *const bonds = m.bonds().data();
+    const std::uint32_t *const nb = count > 0 ? m.neighbours_begin(0) : nullptr;
+    const std::uint32_t *const bid = count > 0 ? m.bond_ids_begin(0) : nullptr;
+    std::uint32_t at = 0;  // where atom i's entries start in nb and bid
     for (std::size_t i = 0; i < count; ++i) {
-      const Atom &a = m.atom(i);
+      const Atom &a = atoms[i];
       atom_tok_[i] = element_kind(a.atomic_number) << 12 | charge_rank(a.formal_charge);
       // digests() reads the terms of written atoms only, and hydrogens never are.
       if (i < heavy) atom_digest_[i] = mix64(kDigestAtom | atom_tok_[i]);
-      const auto *nb = m.neighbours_begin(i);
-      const auto *bid = m.bond_ids_begin(i);
-      const std::size_t deg = m.degree(i);
-      for (std::size_t k = 0; k < deg; ++k) {
-        if (nb[k] >= heavy) continue;  // hydrogens (all atoms from heavy on) are never written
-        adj[listed++] = Neighbour{nb[k], bond_rank(m.bond(bid[k]).order) << 24};
+      const auto end = static_cast<std::uint32_t>(at + m.degree(i));
+      for (; at < end; ++at) {
+        if (nb[at] >= heavy) continue;  // hydrogens (all atoms from heavy on) are never written
+        adj[listed++] = Neighbour{nb[at], bond_rank(bonds[bid[at]].order) << 24};
       }
       adj_off_[i + 1] = listed;
     }
@@ -1628,8 +1633,11 @@ std::vector<char> flagged_classes(const AtomClasses &classes, const std::vector<
   std::uint32_t max_class = 0;
   for (auto c : classes.topological) max_class = std::max(max_class, c);
   std::vector<char> flagged(static_cast<std::size_t>(max_class) + 1, 0);
-  for (std::size_t a = 0; a < atoms.size() && a < classes.topological.size(); ++a)
-    if (atoms[a]) flagged[classes.topological[a]] = 1;
+  // A bit iterator steps where indexing divides for every atom.
+  auto bit = atoms.begin();
+  const std::size_t n = std::min(atoms.size(), classes.topological.size());
+  for (std::size_t a = 0; a < n; ++a, ++bit)
+    if (*bit) flagged[classes.topological[a]] = 1;
   return flagged;
 }
 
@@ -1722,8 +1730,9 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
   // need not be made.
   const std::size_t heavy = molecule.heavy_atom_count();
   bool only_terminal_h = true;
-  for (std::size_t a = 0; a < wanted.size() && a < keys.size(); ++a) {
-    if (!wanted[a]) continue;
+  auto bit = wanted.begin();
+  for (std::size_t a = 0; a < wanted.size() && a < keys.size(); ++a, ++bit) {
+    if (!*bit) continue;
     const std::int64_t parent = molecule.attached_to(a);
     only_terminal_h = only_terminal_h && a >= heavy && molecule.degree(a) == 1 && parent >= 0 &&
                       static_cast<std::size_t>(parent) < heavy;
