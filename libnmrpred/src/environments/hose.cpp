@@ -388,23 +388,29 @@ class Engine {
     std::uint32_t listed = 0;
     atom_tok_.resize(count);
     atom_digest_.resize(count);
+    // The molecule's arrays are read directly: the checked accessors cost a
+    // compare per bond end, and every index here comes from the molecule.
+    const Atom *const atoms = m.atoms().data();
+    const Bond *const bonds = m.bonds().data();
+    const std::uint32_t *const nb = count > 0 ? m.neighbours_begin(0) : nullptr;
+    const std::uint32_t *const bid = count > 0 ? m.bond_ids_begin(0) : nullptr;
+    std::uint32_t at = 0;  // where atom i's entries start in nb and bid
     for (std::size_t i = 0; i < count; ++i) {
-      const Atom &a = m.atom(i);
+      const Atom &a = atoms[i];
       atom_tok_[i] = element_kind(a.atomic_number) << 12 | charge_rank(a.formal_charge);
       // digests() reads the terms of written atoms only, and hydrogens never are.
       if (i < heavy) atom_digest_[i] = mix64(kDigestAtom | atom_tok_[i]);
-      const auto *nb = m.neighbours_begin(i);
-      const auto *bid = m.bond_ids_begin(i);
-      const std::size_t deg = m.degree(i);
-      for (std::size_t k = 0; k < deg; ++k) {
-        if (nb[k] >= heavy) continue;  // hydrogens (all atoms from heavy on) are never written
-        adj[listed++] = Neighbour{nb[k], bond_rank(m.bond(bid[k]).order) << 24};
+      const auto end = static_cast<std::uint32_t>(at + m.degree(i));
+      for (; at < end; ++at) {
+        if (nb[at] >= heavy) continue;  // hydrogens (all atoms from heavy on) are never written
+        adj[listed++] = Neighbour{nb[at], bond_rank(bonds[bid[at]].order) << 24};
       }
       adj_off_[i + 1] = listed;
     }
     adj_.set_size(listed);
     place_.assign(count, Place{0, 0, kOutside});
     cur_ = 0;
+    walk_ = Walk{};
   }
 
   // Sets up the spheres of `centre`; read them with code(), hydrogen_code(),
@@ -415,7 +421,16 @@ class Engine {
   // which codes being prefix-stable are those of the full run.
   void run(std::uint32_t centre, int spheres = 0) {
     n_ = spheres > 0 ? std::min(spheres, max_n_) : max_n_;
-    build_region(centre);
+    if (walk_.stamp == cur_ && walk_.centre == centre && walk_.levels >= n_) {
+      // The digest walk just met these levels in the order build_region()
+      // would: keep them, and put the deeper atoms it met back outside.
+      const std::uint32_t size = level_start_[static_cast<std::size_t>(n_) + 1];
+      for (std::uint32_t i = size; i < region_.size(); ++i) place_[region_[i]].stamp = 0;
+      region_.set_size(size);
+      walk_.levels = n_;
+    } else {
+      build_region(centre);
+    }
     const std::size_t r = region_.size();
     closed_.assign(r, -1);
     block_off_.assign(r, kNone);
@@ -541,50 +556,81 @@ class Engine {
 
   // detail::hose_digests() of `centre` into `out` (may be null) up to the
   // first sphere whose digest no reference atom of `index` (may be null) has;
-  // returns that sphere, or kMaxHoseSpheres + 1. Uses the marks of the
-  // region: call it between runs, not while one is being read.
-  //
-  // The walk meets what a sphere's text holds without ordering it: sphere k
-  // has one entry per bond from a level k-1 atom to level k (a new atom or
-  // '&') and one per bond inside level k-1 ('&', written once), each with
-  // its bond symbol, and names the level k atoms. So the sum of one term per
-  // level k atom and one per such bond is the same for equal texts.
+  // returns that sphere, or kMaxHoseSpheres + 1. Uses the region: call it
+  // between runs, not while one is being read.
   int digests(std::uint32_t centre, const detail::ReferenceIndex *index, detail::HoseDigests *out) {
-    next_stamp();
-    Place *const place = place_.data();
-    const std::uint32_t stamp = cur_;
-    auto &list = digest_list_;
-    list.clear();
-    list.push_back(centre);
-    place[centre] = Place{stamp, 0, 0};
-    std::uint64_t d = mix64(mix64(kDigestCentre | atom_tok_[centre]) + mol_->degree(centre));
+    begin_walk(centre);
+    std::uint64_t d = centre_digest(centre);
     if (out) (*out)[0] = d;
-    std::size_t begin = 0;
     for (int k = 1; k <= kMaxHoseSpheres; ++k) {
-      const std::size_t end = list.size();
-      const auto level = static_cast<std::uint8_t>(k);
-      std::uint64_t sum = 0;
-      for (std::size_t i = begin; i < end; ++i) {
-        const std::uint32_t y = list[i];
-        for (std::uint32_t j = adj_off_[y]; j < adj_off_[y + 1]; ++j) {
-          const std::uint32_t z = adj_[j].atom;
-          Place &pz = place[z];
-          const std::uint64_t bond = kBondDigests[adj_[j].bond >> 24];
-          if (pz.stamp != stamp) {
-            pz = Place{stamp, 0, level};
-            list.push_back(z);
-            sum += atom_digest_[z] + bond;
-          } else if (pz.level == level || (pz.level + 1 == level && y < z)) {
-            sum += bond;
-          }
-        }
-      }
-      begin = end;
-      d = mix64(d + sum);
+      d = mix64(d + walk_level());
       if (out) (*out)[static_cast<std::size_t>(k)] = d;
       if (index && !index->digest_may_match(k, d)) return k;
     }
     return kMaxHoseSpheres + 1;
+  }
+
+  // digests() term of the centre alone (sphere 0).
+  std::uint64_t centre_digest(std::uint32_t centre) const {
+    return mix64(mix64(kDigestCentre | atom_tok_[centre]) + mol_->degree(centre));
+  }
+
+  // Sphere 1 term of a terminal hydrogen on `parent` bonded by `bond`. The
+  // hydrogen's walk meets nothing else there, and below it meets what the
+  // walk from `parent` meets a sphere earlier (hydrogens are never written,
+  // so no walk comes back to it): its sphere k + 1 term is the parent's
+  // sphere k term.
+  std::uint64_t hydrogen_first_term(std::uint32_t parent, BondOrder bond) const {
+    return atom_digest_[parent] + kBondDigests[bond_rank(bond)];
+  }
+
+  // Starts the breadth-first walk of digests() at `centre`: region_ holds
+  // the centre, as build_region() leaves it for zero spheres.
+  void begin_walk(std::uint32_t centre) {
+    next_stamp();
+    region_.reserve(place_.size());
+    region_.set_size(1);
+    region_[0] = centre;
+    place_[centre] = Place{cur_, 0, 0};
+    level_start_[0] = 0;
+    level_start_[1] = 1;
+    walk_ = Walk{centre, cur_, 0};
+  }
+
+  // Adds the next level to the walk and returns its digest term: sphere k
+  // has one entry per bond from a level k-1 atom to level k (a new atom or
+  // '&') and one per bond inside level k-1 ('&', written once), each with
+  // its bond symbol, and names the level k atoms. So the sum of one term per
+  // level k atom and one per such bond is the same for equal texts. The
+  // atoms are met in build_region()'s order and placed as it places them,
+  // so run() on the same centre keeps them.
+  std::uint64_t walk_level() {
+    const int k = ++walk_.levels;
+    const auto level = static_cast<std::uint8_t>(k);
+    Place *const place = place_.data();
+    std::uint32_t *const region = region_.data();
+    const std::uint32_t stamp = cur_;
+    auto size = static_cast<std::uint32_t>(region_.size());
+    const std::uint32_t end = size;
+    std::uint64_t sum = 0;
+    for (std::uint32_t i = level_start_[static_cast<std::size_t>(k - 1)]; i < end; ++i) {
+      const std::uint32_t y = region[i];
+      for (std::uint32_t j = adj_off_[y]; j < adj_off_[y + 1]; ++j) {
+        const std::uint32_t z = adj_[j].atom;
+        Place &pz = place[z];
+        const std::uint64_t bond = kBondDigests[adj_[j].bond >> 24];
+        if (pz.stamp != stamp) {
+          pz = Place{stamp, size, level};
+          region[size++] = z;
+          sum += atom_digest_[z] + bond;
+        } else if (pz.level == level || (pz.level + 1 == level && y < z)) {
+          sum += bond;
+        }
+      }
+    }
+    region_.set_size(size);
+    level_start_[static_cast<std::size_t>(k) + 1] = size;
+    return sum;
   }
 
   // `head`, then sphere `outer` unless it is 0, then spheres `first`..`last`
@@ -679,6 +725,7 @@ class Engine {
     if (++cur_ == 0) {  // stamp wrapped: forget every old mark
       for (Place &pl : place_) pl.stamp = 0;
       cur_ = 1;
+      walk_ = Walk{};
     }
   }
 
@@ -718,6 +765,7 @@ class Engine {
       level_start_[d + 2] = size;
     }
     region_.set_size(size);
+    walk_ = Walk{centre, stamp, n_};
   }
 
   // A branch with nothing to write after its own (empty) group.
@@ -1337,7 +1385,14 @@ class Engine {
   std::uint32_t mark_cur_ = 0;
   std::uint32_t member_cur_ = 0;  // stamps of the closedness test
   SmallVec<std::uint32_t, 64> list_;
-  SmallVec<std::uint32_t, 64> digest_list_;  // atoms in the order digests() meets them
+  // Whose levels region_ holds: 0..levels of the walk from `centre`, valid
+  // while `stamp` is cur_ (begin_walk(), walk_level(), build_region()).
+  struct Walk {
+    std::uint32_t centre = kNone;
+    std::uint32_t stamp = 0;
+    int levels = -1;
+  };
+  Walk walk_;
   // Symmetry test scratch, indexed by local id.
   SmallVec<std::uint32_t, 64> pi_, pi_stamp_, image_stamp_, role_, role_stamp_;
   std::uint32_t cert_cur_ = 0, role_cur_ = 0;
@@ -1578,41 +1633,75 @@ std::vector<char> flagged_classes(const AtomClasses &classes, const std::vector<
   std::uint32_t max_class = 0;
   for (auto c : classes.topological) max_class = std::max(max_class, c);
   std::vector<char> flagged(static_cast<std::size_t>(max_class) + 1, 0);
-  for (std::size_t a = 0; a < atoms.size() && a < classes.topological.size(); ++a)
-    if (atoms[a]) flagged[classes.topological[a]] = 1;
+  // A bit iterator steps where indexing divides for every atom.
+  auto bit = atoms.begin();
+  const std::size_t n = std::min(atoms.size(), classes.topological.size());
+  for (std::size_t a = 0; a < n; ++a, ++bit)
+    if (*bit) flagged[classes.topological[a]] = 1;
   return flagged;
 }
 
 // Spheres the run on `a` must make so that the keys of `a` and of the
 // terminal hydrogens on it, of those `keyed(atom)` flags, reach every sphere
 // at which `index` (null: any reference) might match them; 0 if none is keyed.
+// With an index that is, per keyed code, one less than the first sphere whose
+// digest no reference atom has; one walk from `a` serves a and its
+// hydrogens, and run(a) keeps the levels it met.
 template <class Keyed>
 int key_spheres(Engine &engine, const Molecule &molecule, std::size_t a, Keyed keyed, const ReferenceIndex *index) {
-  // First sphere at which no reference atom's code can agree with that of c.
-  auto no_match = [&](std::size_t c) {
-    return index ? engine.digests(static_cast<std::uint32_t>(c), index, nullptr) : kMaxHoseSpheres + 1;
-  };
-  int d = keyed(a) ? no_match(a) - 1 : 0;
+  const bool centre_keyed = keyed(a);
   const std::size_t heavy = molecule.heavy_atom_count();
+  // Digests at sphere 1 of the keyed terminal hydrogens on a, each value
+  // once: hydrogens whose digests agree there agree at every sphere, as the
+  // rest of their walk is a's.
+  SmallVec<std::uint64_t, 8> chains;
   if (a < heavy) {
-    // The walk from a terminal hydrogen depends only on its charge (its
-    // centre text) and its bond to a: hydrogens alike in both share it.
-    int last_charge = 0;
-    BondOrder last_bond = BondOrder::Single;
-    int last_stop = -1;
     for (auto it = molecule.neighbours_begin(a); it != molecule.neighbours_end(a); ++it) {
       const std::size_t h = *it;
       if (h < heavy || molecule.degree(h) != 1 || !keyed(h)) continue;
-      const int charge = molecule.atom(h).formal_charge;
-      const BondOrder bond = molecule.bond(*molecule.bond_ids_begin(h)).order;
-      if (last_stop < 0 || charge != last_charge || bond != last_bond) {
-        last_stop = no_match(h);
-        last_charge = charge;
-        last_bond = bond;
+      if (!index) {
+        chains.push_back(0);
+        break;
       }
-      // A terminal hydrogen's sphere k is a's sphere k - 1.
-      d = std::max(d, last_stop - 2);
+      const BondOrder bond = molecule.bond(*molecule.bond_ids_begin(h)).order;
+      const std::uint64_t d =
+          mix64(engine.centre_digest(static_cast<std::uint32_t>(h)) +
+                engine.hydrogen_first_term(static_cast<std::uint32_t>(a), bond));
+      // A hydrogen whose sphere 1 no reference has needs no sphere of a.
+      if (index->digest_may_match(1, d) && std::find(chains.begin(), chains.end(), d) == chains.end())
+        chains.push_back(d);
     }
+  }
+  // A terminal hydrogen's sphere k is a's sphere k - 1.
+  if (!index) return centre_keyed ? kMaxHoseSpheres : chains.empty() ? 0 : kMaxHoseSpheres - 1;
+  int d = 0;
+  bool centre_on = centre_keyed;
+  std::uint64_t centre = centre_on ? engine.centre_digest(static_cast<std::uint32_t>(a)) : 0;
+  if (centre_on || !chains.empty()) engine.begin_walk(static_cast<std::uint32_t>(a));
+  for (int k = 1; k <= kMaxHoseSpheres && (centre_on || !chains.empty()); ++k) {
+    const std::uint64_t term = engine.walk_level();
+    if (centre_on) {
+      centre = mix64(centre + term);
+      if (!index->digest_may_match(k, centre)) {
+        d = std::max(d, k - 1);
+        centre_on = false;
+      } else if (k == kMaxHoseSpheres) {
+        d = kMaxHoseSpheres;
+      }
+    }
+    // The hydrogens' sphere k + 1.
+    std::size_t live = 0;
+    for (std::uint64_t h : chains) {
+      h = mix64(h + term);
+      if (!index->digest_may_match(k + 1, h)) {
+        d = std::max(d, k - 1);
+      } else if (k + 1 == kMaxHoseSpheres) {
+        d = std::max(d, kMaxHoseSpheres - 1);
+      } else {
+        chains[live++] = h;
+      }
+    }
+    chains.set_size(live);
   }
   return d;
 }
@@ -1641,8 +1730,9 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
   // need not be made.
   const std::size_t heavy = molecule.heavy_atom_count();
   bool only_terminal_h = true;
-  for (std::size_t a = 0; a < wanted.size() && a < keys.size(); ++a) {
-    if (!wanted[a]) continue;
+  auto bit = wanted.begin();
+  for (std::size_t a = 0; a < wanted.size() && a < keys.size(); ++a, ++bit) {
+    if (!*bit) continue;
     const std::int64_t parent = molecule.attached_to(a);
     only_terminal_h = only_terminal_h && a >= heavy && molecule.degree(a) == 1 && parent >= 0 &&
                       static_cast<std::size_t>(parent) < heavy;
