@@ -18,9 +18,9 @@
 
 #include <algorithm>
 #include <functional>
-#include <map>
 #include <memory>
 #include <numeric>
+#include <string>
 #include <tuple>
 
 #include <fmt/format.h>
@@ -191,21 +191,61 @@ bool canonical_ties_matter(const Graph &g, const Partition &p) {
   return false;
 }
 
-// Whole-molecule stereo model in molecule indices.
+// A remark on a stereo element, written out as text only at the end, so the
+// list of texts is allocated once at its final size.
+struct StereoNote {
+  enum Kind : std::uint8_t { kCentre, kRelative, kDoubleBond } kind;
+  std::uint32_t a, b;  // the atom, or the two atoms of the bond
+};
+
+// Whole-molecule stereo model in molecule indices, with the buffers that
+// build it (kept from one molecule to the next in a Workspace).
 struct StereoModel {
   std::vector<TetraConfig> tetra;
   std::vector<DoubleConfig> dbl;
-  std::vector<std::string> notes;
+  std::vector<StereoNote> notes;
+  // build_stereo() scratch.
+  std::vector<std::uint32_t> pseudo, ring_visited;
+  std::vector<char> ring_seen;
+  std::vector<std::int32_t> given;
+  struct GivenDouble {
+    std::uint32_t lo, hi, index;  // bond atoms in increasing order; index into the molecule's list
+  };
+  std::vector<GivenDouble> given_db;
 };
 
-StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &canon,
-                         const std::vector<std::uint32_t> &topo) {
-  StereoModel sm;
+void append_notes(const std::vector<StereoNote> &notes, std::vector<std::string> &out) {
+  for (const auto &note : notes) switch (note.kind) {
+      case StereoNote::kCentre:
+        out.push_back(fmt::format(
+            "atom {}: stereocentre without a given configuration; classes are those of one canonical configuration",
+            note.a));
+        break;
+      case StereoNote::kRelative:
+        out.push_back(fmt::format(
+            "atom {}: relative configuration (cis/trans on a ring, or pseudo-asymmetric) not given; "
+            "classes are those of one canonical diastereomer",
+            note.a));
+        break;
+      case StereoNote::kDoubleBond:
+        out.push_back(fmt::format(
+            "bond {}={}: double-bond geometry not given; classes are those of one canonical geometry", note.a, note.b));
+        break;
+    }
+}
+
+// Fills `sm` (whose buffers keep their capacity).
+void build_stereo(const Molecule &m, const std::vector<std::uint32_t> &canon, const std::vector<std::uint32_t> &topo,
+                  StereoModel &sm) {
+  sm.tetra.clear();
+  sm.dbl.clear();
+  sm.notes.clear();
   const std::size_t n = m.atom_count();
   // Centres whose configuration matters only relative to another one: two
   // equivalent non-terminal ligands and two different others (cis/trans on a
   // ring, pseudo-asymmetric atoms). Reported when another stereo element exists.
-  std::vector<std::uint32_t> pseudo;
+  std::vector<std::uint32_t> &pseudo = sm.pseudo;
+  pseudo.clear();
   int stereo_elements = 0;
   auto pseudo_centre = [&](const std::array<std::int32_t, 4> &l, const std::array<std::int64_t, 4> &cls) {
     // cls is sorted; exactly one equal pair, and those ligands are not leaves.
@@ -221,9 +261,9 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
       if (x >= 0 && static_cast<std::int64_t>(topo[x]) == tied && m.degree(x) < 2) return false;
     return true;
   };
-  sm.tetra.reserve(n);
   // Most inputs give no configuration: then no table of them is needed.
-  std::vector<std::int32_t> given;
+  std::vector<std::int32_t> &given = sm.given;
+  given.clear();
   if (!m.tetrahedral_stereo().empty()) {
     given.assign(n, -1);
     for (std::size_t i = 0; i < m.tetrahedral_stereo().size(); ++i)
@@ -258,8 +298,7 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
       for (int q = 0; q < 4; ++q) cls[q] = l[q] < 0 ? -1 : static_cast<std::int64_t>(topo[l[q]]);
       sort_few(cls.begin(), cls.end(), std::less<std::int64_t>());
       if (std::adjacent_find(cls.begin(), cls.end()) == cls.end()) {
-        sm.notes.push_back(fmt::format(
-            "atom {}: stereocentre without a given configuration; classes are those of one canonical configuration", c));
+        sm.notes.push_back({StereoNote::kCentre, c, 0});
         ++stereo_elements;
       } else if (pseudo_centre(l, cls)) {
         pseudo.push_back(c);
@@ -268,13 +307,26 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
     sm.tetra.push_back(t);
   }
   if (pseudo.size() + static_cast<std::size_t>(stereo_elements) >= 2)
-    for (auto c : pseudo)
-      sm.notes.push_back(fmt::format(
-          "atom {}: relative configuration (cis/trans on a ring, or pseudo-asymmetric) not given; "
-          "classes are those of one canonical diastereomer",
-          c));
-  std::map<std::pair<std::uint32_t, std::uint32_t>, const DoubleBondStereo *> given_db;
-  for (const auto &d : m.double_bond_stereo()) given_db[{std::min(d.begin, d.end), std::max(d.begin, d.end)}] = &d;
+    for (auto c : pseudo) sm.notes.push_back({StereoNote::kRelative, c, 0});
+  // Given geometries by bond, sorted; of two given for one bond the later counts.
+  auto &given_db = sm.given_db;
+  given_db.clear();
+  const auto &db_stereo = m.double_bond_stereo();
+  for (std::size_t i = 0; i < db_stereo.size(); ++i) {
+    const auto &d = db_stereo[i];
+    given_db.push_back({std::min(d.begin, d.end), std::max(d.begin, d.end), static_cast<std::uint32_t>(i)});
+  }
+  auto db_less = [](const StereoModel::GivenDouble &x, const StereoModel::GivenDouble &y) {
+    return std::tie(x.lo, x.hi, x.index) < std::tie(y.lo, y.hi, y.index);
+  };
+  std::sort(given_db.begin(), given_db.end(), db_less);
+  // The geometry given for bond u-v (u < v for a match), or null.
+  auto given_geometry = [&](std::uint32_t u, std::uint32_t v) -> const DoubleBondStereo * {
+    const StereoModel::GivenDouble past{u, v, kUnset};
+    auto it = std::upper_bound(given_db.begin(), given_db.end(), past, db_less);
+    if (it == given_db.begin() || (it - 1)->lo != u || (it - 1)->hi != v) return nullptr;
+    return &db_stereo[(it - 1)->index];
+  };
   // The one or two substituents of a double-bond atom other than its partner.
   struct Others {
     std::int32_t at[2] = {-1, -1};
@@ -284,8 +336,12 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
     std::int32_t *begin() { return at; }
     std::int32_t *end() { return at + count; }
   };
-  std::vector<char> ring_seen;
-  std::vector<std::uint32_t> ring_visited;
+  std::vector<char> &ring_seen = sm.ring_seen;
+  std::vector<std::uint32_t> &ring_visited = sm.ring_visited;
+  // ring_seen is left clear by smallest_ring(), which cannot throw half-way
+  // once ring_visited holds every atom: only its size needs checking.
+  if (ring_seen.size() < n) ring_seen.assign(n, 0);
+  ring_visited.reserve(n);
   for (const auto &b : m.bonds()) {
     if (b.order != BondOrder::Double) continue;
     const auto u = b.begin, v = b.end;
@@ -305,15 +361,12 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
     if (cumulated) continue;
     // In rings of fewer than 8 atoms the ring fixes the geometry and every
     // automorphism keeps it, so no constraint is needed.
-    if (ring_seen.empty()) ring_seen.assign(n, 0);
     const int ring = smallest_ring(m, u, v, 8, ring_seen, ring_visited);
     if (ring > 0 && ring < 8) continue;
     DoubleConfig d;
     d.u = u;
     d.v = v;
-    auto g = given_db.find({u, v});
-    if (g != given_db.end()) {
-      const auto *s = g->second;
+    if (const auto *s = given_geometry(u, v)) {
       const bool forward = s->begin == u;
       d.ru = static_cast<std::int32_t>(forward ? s->ref_begin : s->ref_end);
       d.rv = static_cast<std::int32_t>(forward ? s->ref_end : s->ref_begin);
@@ -326,19 +379,31 @@ StereoModel build_stereo(const Molecule &m, const std::vector<std::uint32_t> &ca
       d.cis = false;  // canonical choice: highest-ranked substituents trans
       auto distinct = [&](const Others &o) { return o.count == 1 || topo[o.at[0]] != topo[o.at[1]]; };
       if (distinct(ou) && distinct(ov))
-        sm.notes.push_back(fmt::format(
-            "bond {}={}: double-bond geometry not given; classes are those of one canonical geometry", u, v));
+        sm.notes.push_back({StereoNote::kDoubleBond, u, v});
     }
     sm.dbl.push_back(d);
   }
-  return sm;
 }
 
-// The coloured graph of `atoms` without stereo (tetra_of and dbl_of empty
-// per atom), written over `g` (whose buffers keep their capacity); sets
-// local_of for those atoms.
-void build_structure(const Molecule &m, const std::vector<std::uint32_t> &atoms, std::vector<std::uint32_t> &local_of,
-                     Graph &g) {
+// A run of atom (or other) indices in someone else's storage.
+template <class T>
+struct Run {
+  const T *first = nullptr, *last = nullptr;
+  const T *begin() const { return first; }
+  const T *end() const { return last; }
+  std::size_t size() const { return static_cast<std::size_t>(last - first); }
+  const T &operator[](std::size_t i) const { return first[i]; }
+  friend bool operator==(const Run &x, const Run &y) { return std::equal(x.first, x.last, y.first, y.last); }
+  friend bool operator<(const Run &x, const Run &y) {
+    return std::lexicographical_compare(x.first, x.last, y.first, y.last);
+  }
+};
+using AtomRange = Run<std::uint32_t>;
+
+// The coloured graph of `atoms` without stereo (tetra_of and dbl_of -1 per
+// atom), written over `g` (whose buffers keep their capacity); sets local_of
+// for those atoms.
+void build_structure(const Molecule &m, AtomRange atoms, std::vector<std::uint32_t> &local_of, Graph &g) {
   const auto n = static_cast<std::uint32_t>(atoms.size());
   g.n = n;
   g.global.assign(atoms.begin(), atoms.end());
@@ -384,14 +449,7 @@ void build_structure(const Molecule &m, const std::vector<std::uint32_t> &atoms,
     for (std::uint32_t k = 0; k < deg; ++k) std::tie(out[k], out_order[k]) = tmp[k];
   }
   g.tetra_of.assign(g.n, -1);
-  g.dbl_of.resize(g.n);
-  for (auto &d : g.dbl_of) d.clear();
-}
-
-Graph build_structure(const Molecule &m, const std::vector<std::uint32_t> &atoms, std::vector<std::uint32_t> &local_of) {
-  Graph g;
-  build_structure(m, atoms, local_of, g);
-  return g;
+  g.dbl_of.assign(g.n, -1);
 }
 
 // Gives g the configurations of `sm` that lie inside it (replacing any).
@@ -401,8 +459,7 @@ void add_stereo(const StereoModel &sm, Graph &g, std::vector<std::uint32_t> &loc
   g.tetra.clear();
   g.dbl.clear();
   g.tetra_of.assign(g.n, -1);
-  g.dbl_of.resize(g.n);
-  for (auto &d : g.dbl_of) d.clear();
+  g.dbl_of.assign(g.n, -1);
   for (const auto &t : sm.tetra) {
     if (local_of[t.centre] >= g.n || g.global[local_of[t.centre]] != t.centre) continue;
     TetraConfig lt;
@@ -415,17 +472,18 @@ void add_stereo(const StereoModel &sm, Graph &g, std::vector<std::uint32_t> &loc
     if (local_of[d.u] >= g.n || g.global[local_of[d.u]] != d.u) continue;
     DoubleConfig ld{local_of[d.u], local_of[d.v], loc(d.ru), loc(d.rv), d.cis};
     const auto idx = static_cast<std::int32_t>(g.dbl.size());
-    g.dbl_of[ld.u].push_back(idx);
-    g.dbl_of[ld.v].push_back(idx);
+    // build_stereo() leaves out cumulated bonds, so no atom ends two.
+    g.dbl_of[ld.u] = idx;
+    g.dbl_of[ld.v] = idx;
     g.dbl.push_back(ld);
   }
 }
 
-Graph build_graph(const Molecule &m, const std::vector<std::uint32_t> &atoms, const StereoModel &sm,
-                  std::vector<std::uint32_t> &local_of) {
-  Graph g = build_structure(m, atoms, local_of);
-  add_stereo(sm, g, local_of);
-  return g;
+// The coloured graph of `atoms` with the configurations of `sm` (null: none).
+void build_graph(const Molecule &m, AtomRange atoms, const StereoModel *sm,
+                 std::vector<std::uint32_t> &local_of, Graph &g) {
+  build_structure(m, atoms, local_of, g);
+  if (sm) add_stereo(*sm, g, local_of);
 }
 
 // The base partition of one graph individualised at single atoms, each made
@@ -454,8 +512,9 @@ class Individualised {
   using Entry = IndividualisedEntry;
   // `scratch` is clean and sized for at least g.n atoms; it may be shared
   // with other Individualised objects, as refinements never interleave.
-  Individualised(const Graph &g, const Partition &base, EntryPool &pool, RefineScratch &scratch)
-      : g_(g), base_(base), pool_(pool), scratch_(scratch), made_(g.n, nullptr) {}
+  // `made` holds g.n null pointers, the caller's so that it can be reused.
+  Individualised(const Graph &g, const Partition &base, EntryPool &pool, RefineScratch &scratch, Entry **made)
+      : g_(g), base_(base), pool_(pool), scratch_(scratch), made_(made) {}
   const Entry &at(std::uint32_t atom) {
     auto &slot = made_[atom];
     if (!slot) {
@@ -475,7 +534,7 @@ class Individualised {
   const Partition &base_;
   EntryPool &pool_;
   RefineScratch &scratch_;
-  std::vector<Entry *> made_;  // per atom, null until made
+  Entry **made_;  // per atom, null until made
 };
 
 struct SearchLevel {
@@ -618,16 +677,15 @@ class AutomorphismSearch {
     const auto u = map(static_cast<std::int32_t>(d.u)), v = map(static_cast<std::int32_t>(d.v));
     const auto ru = map(d.ru), rv = map(d.rv);
     if (u == -2 || v == -2 || ru == -2 || rv == -2) return true;
-    for (auto di : g_.dbl_of[static_cast<std::uint32_t>(u)]) {
-      const auto &e = g_.dbl[di];
-      const bool fwd = e.u == static_cast<std::uint32_t>(u) && e.v == static_cast<std::uint32_t>(v);
-      const bool rev = e.v == static_cast<std::uint32_t>(u) && e.u == static_cast<std::uint32_t>(v);
-      if (!fwd && !rev) continue;
-      const std::int32_t bu = fwd ? e.ru : e.rv, bv = fwd ? e.rv : e.ru;
-      const bool cis = e.cis ^ (ru != bu) ^ (rv != bv);
-      return cis == d.cis;
-    }
-    return false;
+    const auto di = g_.dbl_of[static_cast<std::uint32_t>(u)];
+    if (di < 0) return false;
+    const auto &e = g_.dbl[static_cast<std::uint32_t>(di)];
+    const bool fwd = e.u == static_cast<std::uint32_t>(u) && e.v == static_cast<std::uint32_t>(v);
+    const bool rev = e.v == static_cast<std::uint32_t>(u) && e.u == static_cast<std::uint32_t>(v);
+    if (!fwd && !rev) return false;
+    const std::int32_t bu = fwd ? e.ru : e.rv, bv = fwd ? e.rv : e.ru;
+    const bool cis = e.cis ^ (ru != bu) ^ (rv != bv);
+    return cis == d.cis;
   }
 
   // The signs of `mask` that the configurations mapped so far allow.
@@ -718,7 +776,7 @@ class AutomorphismSearch {
         }
         bool ok = true;
         if (g_.tetra_of[parent] >= 0) ok = tetra_ok(g_.tetra[g_.tetra_of[parent]], map, sign);
-        for (auto di : g_.dbl_of[parent]) ok = ok && double_ok(g_.dbl[di], map);
+        if (g_.dbl_of[parent] >= 0) ok = ok && double_ok(g_.dbl[static_cast<std::uint32_t>(g_.dbl_of[parent])], map);
         if (ok) {
           placed = true;
           break;
@@ -1037,10 +1095,11 @@ void groups_of_cells(const Partition &p, Groups &out) {
   }
 }
 
-// Set ids numbered 0.. in order of each set's lowest atom. `root_id` is scratch.
-std::vector<std::uint32_t> dense_ids(UnionFind &uf, std::uint32_t n, std::uint32_t &count,
-                                     std::vector<std::uint32_t> &root_id) {
-  std::vector<std::uint32_t> id(n);
+// Set ids numbered 0.. in order of each set's lowest atom, written over `id`.
+// `root_id` is scratch.
+void dense_ids(UnionFind &uf, std::uint32_t n, std::vector<std::uint32_t> &id, std::uint32_t &count,
+               std::vector<std::uint32_t> &root_id) {
+  id.resize(n);
   root_id.assign(n, kUnset);
   count = 0;
   for (std::uint32_t a = 0; a < n; ++a) {
@@ -1048,22 +1107,20 @@ std::vector<std::uint32_t> dense_ids(UnionFind &uf, std::uint32_t n, std::uint32
     if (root_id[r] == kUnset) root_id[r] = count++;
     id[a] = root_id[r];
   }
-  return id;
 }
 
-// Order-independent fingerprint of a fragment: its refined cell structure.
-std::vector<std::uint64_t> fragment_signature(const Graph &g, const Partition &p) {
-  std::vector<std::uint64_t> sig{g.n};
+// Order-independent fingerprint of a fragment: its refined cell structure,
+// appended to `sig`.
+void append_fragment_signature(const Graph &g, const Partition &p, std::vector<std::uint64_t> &sig) {
+  sig.push_back(g.n);
   for (std::uint32_t s = 0; s < g.n; s = p.end[s]) {
     const auto a = p.elems[s];
     sig.push_back(g.colour[a]);
     sig.push_back(p.end[s] - s);
-    std::vector<std::uint64_t> nb;
-    for (std::uint32_t k = g.off[a]; k < g.off[a + 1]; ++k) nb.push_back((std::uint64_t(p.cell[g.nbr[k]]) << 3) | g.order[k]);
-    std::sort(nb.begin(), nb.end());
-    sig.insert(sig.end(), nb.begin(), nb.end());
+    const std::size_t first = sig.size();
+    for (std::uint32_t k = g.off[a]; k < g.off[a + 1]; ++k) sig.push_back((std::uint64_t(p.cell[g.nbr[k]]) << 3) | g.order[k]);
+    std::sort(sig.begin() + static_cast<std::ptrdiff_t>(first), sig.end());
   }
-  return sig;
 }
 
 // Buffers of compute_classes() that keep their capacity from one molecule to
@@ -1079,6 +1136,23 @@ struct Workspace {
   std::vector<std::uint32_t> all, local_of, sigma, reps, count, fill, within;
   UnionFind topo_uf, chem_uf, frag_uf;
   FoundSymmetries found;
+  StereoModel stereo;
+  // Per fragment: its search starts, and their per-atom slots (one run of
+  // made for each fragment, in fragment order).
+  std::vector<Individualised> starts;
+  std::vector<IndividualisedEntry *> made;
+  // Molecules of several fragments only: the atoms of each fragment
+  // (frag_atoms[frag_first[f], frag_first[f + 1])), their graphs and refined
+  // partitions, their signatures (sig[sig_first[f], sig_first[f + 1])),
+  // the fragments in signature order, and the graph of a pair of copies.
+  std::vector<std::uint32_t> frag_atoms, frag_first, sig_order, pair_atoms;
+  std::vector<Graph> frag_graphs;
+  std::vector<Partition> frag_parts;
+  std::vector<std::uint64_t> sig;
+  std::vector<std::size_t> sig_first;
+  Graph pair_graph;
+  Partition pair_part;
+  std::vector<IndividualisedEntry *> pair_made;
 };
 
 // Lends the calling thread's Workspace for one compute_classes() call; a
@@ -1097,6 +1171,7 @@ class WorkspaceLease {
     }
     ws_->entries.used = 0;
     ws_->found.clear();
+    ws_->starts.clear();
   }
   WorkspaceLease(const WorkspaceLease &) = delete;
   WorkspaceLease &operator=(const WorkspaceLease &) = delete;
@@ -1144,113 +1219,138 @@ AtomClasses compute_classes(const Molecule &m) {
   std::iota(all.begin(), all.end(), 0u);
   std::vector<std::uint32_t> &local_of = ws.local_of;
   local_of.assign(n, kUnset);
-  StereoModel none;
 
   // Invariant ranks over the whole molecule (order independent by construction).
   Graph &whole = ws.whole;
-  build_structure(m, all, local_of, whole);
+  build_structure(m, AtomRange{all.data(), all.data() + n}, local_of, whole);
   Partition &pw = ws.pw;
   RefineScratch &scratch = ws.scratch;
   detail::initial_partition(whole, pw, scratch);
   // Sized for the whole molecule, so it serves every fragment and pair of fragments.
   ws.search_scratch.reset(n);
-  out.invariant_rank.resize(n);
-  for (std::uint32_t a = 0; a < n; ++a) out.invariant_rank[a] = pw.cell[a];
+  out.invariant_rank.assign(pw.cell.begin(), pw.cell.end());
 
   // Fragments are separate molecules in solution: solve each on its own, then
   // merge fragments that are copies (or mirror images) of each other.
   // One fragment: the whole-molecule graph and partition serve as they are.
   const std::size_t nfrag = m.fragment_count();
-  std::vector<std::vector<std::uint32_t>> frag_atoms;
+  auto frag_atoms = [&](std::size_t f) {
+    return AtomRange{ws.frag_atoms.data() + ws.frag_first[f], ws.frag_atoms.data() + ws.frag_first[f + 1]};
+  };
   if (nfrag > 1) {
-    frag_atoms.resize(nfrag);
-    for (std::uint32_t a = 0; a < n; ++a) frag_atoms[m.fragments()[a]].push_back(a);
+    // Atoms bucketed by fragment, increasing within each, as build_structure() wants them.
+    ws.frag_first.assign(nfrag + 1, 0);
+    for (std::uint32_t a = 0; a < n; ++a) ++ws.frag_first[m.fragments()[a] + 1];
+    for (std::size_t f = 0; f < nfrag; ++f) ws.frag_first[f + 1] += ws.frag_first[f];
+    ws.frag_atoms.resize(n);
+    ws.fill.assign(ws.frag_first.begin(), ws.frag_first.end() - 1);
+    for (std::uint32_t a = 0; a < n; ++a) ws.frag_atoms[ws.fill[m.fragments()[a]]++] = a;
+    if (ws.frag_graphs.size() < nfrag) {
+      ws.frag_graphs.resize(nfrag);
+      ws.frag_parts.resize(nfrag);
+    }
   }
+  auto frag_graph = [&](std::size_t f) -> Graph & { return nfrag == 1 ? whole : ws.frag_graphs[f]; };
+  auto frag_part = [&](std::size_t f) -> const Partition & { return nfrag == 1 ? pw : ws.frag_parts[f]; };
 
   UnionFind &topo_uf = ws.topo_uf.reset(n), &chem_uf = ws.chem_uf.reset(n);
-  std::vector<Graph> own_graph;
-  std::vector<Partition> own_part;
-  std::vector<Graph *> frag_graph;
-  std::vector<const Partition *> frag_part;
-  std::vector<std::unique_ptr<Individualised>> frag_start;
-  if (nfrag > 1) {
-    own_graph.reserve(nfrag);
-    own_part.reserve(nfrag);
-  }
+  // Each fragment's atoms take one run of the slots.
+  ws.made.assign(n, nullptr);
+  ws.starts.reserve(nfrag);
   // Topological orbits first: the stereo model reports only real stereo
   // elements, which needs them.
-  for (std::size_t f = 0; f < nfrag; ++f) {
-    if (nfrag == 1) {
-      frag_graph.push_back(&whole);
-      frag_part.push_back(&pw);
-    } else {
-      own_graph.push_back(build_structure(m, frag_atoms[f], local_of));
-      own_part.emplace_back();
-      detail::initial_partition(own_graph.back(), own_part.back(), scratch);
-      frag_graph.push_back(&own_graph.back());
-      frag_part.push_back(&own_part.back());
+  for (std::size_t f = 0, first = 0; f < nfrag; ++f) {
+    if (nfrag > 1) {
+      build_structure(m, frag_atoms(f), local_of, ws.frag_graphs[f]);
+      detail::initial_partition(ws.frag_graphs[f], ws.frag_parts[f], scratch);
     }
-    const Graph &g = *frag_graph.back();
-    frag_start.push_back(std::make_unique<Individualised>(g, *frag_part.back(), ws.entries, ws.search_scratch));
+    const Graph &g = frag_graph(f);
+    ws.starts.emplace_back(g, frag_part(f), ws.entries, ws.search_scratch, ws.made.data() + first);
+    first += g.n;
     // A single fragment's local atoms are the molecule's: it works on the
     // molecule's sets directly.
     UnionFind &uf = nfrag == 1 ? topo_uf : ws.frag_uf.reset(g.n);
-    unite_twins(g, *frag_part.back(), uf, 2);
-    groups_of_cells(*frag_part.back(), ws.groups);
-    orbits(g, *frag_start.back(), ws.groups, false, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found, f);
+    unite_twins(g, frag_part(f), uf, 2);
+    groups_of_cells(frag_part(f), ws.groups);
+    orbits(g, ws.starts[f], ws.groups, false, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found, f);
     if (&uf != &topo_uf)
       for (std::uint32_t a = 0; a < g.n; ++a) topo_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
 
-  // Copies of one fragment: same signature; confirm with a search on the pair.
-  std::map<std::vector<std::uint64_t>, std::vector<std::size_t>> by_sig;
-  if (frag_graph.size() > 1)
-    for (std::size_t f = 0; f < frag_graph.size(); ++f)
-      by_sig[fragment_signature(*frag_graph[f], *frag_part[f])].push_back(f);
+  // Copies of one fragment: same signature; confirm with a search on the
+  // pair. Fragments in order of signature (then index): runs of equal ones
+  // are the sets of candidate copies.
+  auto signature = [&](std::size_t f) {
+    return Run<std::uint64_t>{ws.sig.data() + ws.sig_first[f], ws.sig.data() + ws.sig_first[f + 1]};
+  };
+  if (nfrag > 1) {
+    ws.sig.clear();
+    ws.sig_first.assign(1, 0);
+    for (std::size_t f = 0; f < nfrag; ++f) {
+      append_fragment_signature(ws.frag_graphs[f], ws.frag_parts[f], ws.sig);
+      ws.sig_first.push_back(ws.sig.size());
+    }
+    ws.sig_order.resize(nfrag);
+    std::iota(ws.sig_order.begin(), ws.sig_order.end(), 0u);
+    std::sort(ws.sig_order.begin(), ws.sig_order.end(), [&](std::uint32_t x, std::uint32_t y) {
+      const auto sx = signature(x), sy = signature(y);
+      if (sx < sy) return true;
+      if (sy < sx) return false;
+      return x < y;
+    });
+  }
 
   std::uint32_t tcount = 0;
-  auto topo_pre = dense_ids(topo_uf, n, tcount, ws.count);
+  std::vector<std::uint32_t> &topo_pre = out.topological;
+  dense_ids(topo_uf, n, topo_pre, tcount, ws.count);
   const std::vector<std::uint32_t> *rank = &pw.pos;
   if (canonical_ties_matter(whole, pw)) {
     ws.canon = pw;
     rank = &canonical_positions(whole, ws.canon, ws.canon_scratch);
   }
-  StereoModel sm = build_stereo(m, *rank, topo_pre);
+  StereoModel &sm = ws.stereo;
+  build_stereo(m, *rank, topo_pre, sm);
 
   // The topological searches are done: each fragment graph takes its
   // configurations and serves as the stereo graph.
   for (std::size_t f = 0; f < nfrag; ++f) {
-    Graph &g = *frag_graph[f];
+    Graph &g = frag_graph(f);
     add_stereo(sm, g, local_of);
     UnionFind &uf = nfrag == 1 ? chem_uf : ws.frag_uf.reset(g.n);
-    unite_twins(g, *frag_part[f], uf, 3);
+    unite_twins(g, frag_part(f), uf, 3);
     // Dense ids are numbered in the order of the classes' lowest atoms, as
     // the sets' representatives are: the groups come in the same order.
     std::vector<std::uint32_t> &within = ws.within;
     within.resize(g.n);
     for (std::uint32_t a = 0; a < g.n; ++a) within[a] = topo_pre[g.global[a]];
     groups_of(g.n, within, ws.groups, ws.count, ws.fill);
-    orbits(g, *frag_start[f], ws.groups, true, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found, f);
+    orbits(g, ws.starts[f], ws.groups, true, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found, f);
     if (&uf != &chem_uf)
       for (std::uint32_t a = 0; a < g.n; ++a) chem_uf.unite(g.global[a], g.global[uf.find(a)]);
   }
 
-  for (auto &kv : by_sig) {
-    const auto &fs = kv.second;
-    for (std::size_t i = 1; i < fs.size(); ++i) {
+  for (std::size_t i0 = 0; i0 < ws.sig_order.size() && nfrag > 1;) {
+    std::size_t i1 = i0 + 1;
+    const auto s0 = signature(ws.sig_order[i0]);
+    while (i1 < nfrag && signature(ws.sig_order[i1]) == s0) ++i1;
+    const auto f0 = ws.sig_order[i0];
+    for (std::size_t i = i0 + 1; i < i1; ++i) {
       // Search on the union of the first copy and this one.
-      std::vector<std::uint32_t> atoms = frag_atoms[fs[0]];
-      atoms.insert(atoms.end(), frag_atoms[fs[i]].begin(), frag_atoms[fs[i]].end());
+      std::vector<std::uint32_t> &atoms = ws.pair_atoms;
+      atoms.assign(frag_atoms(f0).begin(), frag_atoms(f0).end());
+      atoms.insert(atoms.end(), frag_atoms(ws.sig_order[i]).begin(), frag_atoms(ws.sig_order[i]).end());
       for (int pass = 0; pass < 2; ++pass) {
-        const Graph g = build_graph(m, atoms, pass == 0 ? none : sm, local_of);
-        Partition p;
+        Graph &g = ws.pair_graph;
+        build_graph(m, AtomRange{atoms.data(), atoms.data() + atoms.size()}, pass == 0 ? nullptr : &sm, local_of, g);
+        Partition &p = ws.pair_part;
         detail::initial_partition(g, p, scratch);
         UnionFind &target = pass == 0 ? topo_uf : chem_uf;
-        std::vector<std::uint32_t> sigma;
+        std::vector<std::uint32_t> &sigma = ws.sigma;
         const std::uint32_t r = 0;
-        const auto first_b = static_cast<std::uint32_t>(frag_atoms[fs[0]].size());
+        const auto first_b = static_cast<std::uint32_t>(frag_atoms(f0).size());
         bool found = false;
-        Individualised start(g, p, ws.entries, ws.search_scratch);
+        ws.pair_made.assign(g.n, nullptr);
+        Individualised start(g, p, ws.entries, ws.search_scratch, ws.pair_made.data());
         // Any symmetry found will do: with the orbits inside each copy
         // known, a proper and an improper one merge the same classes.
         AutomorphismSearch search(g, start, pass != 0, budget, ws.levels);
@@ -1264,19 +1364,20 @@ AtomClasses compute_classes(const Molecule &m) {
         }
       }
     }
+    i0 = i1;
   }
 
   // Only copies of a fragment can have merged topological classes since.
-  if (by_sig.empty()) {
-    out.topological = std::move(topo_pre);
+  if (nfrag == 1)
     out.topological_count = tcount;
-  } else {
-    out.topological = dense_ids(topo_uf, n, out.topological_count, ws.count);
-  }
-  // Chemical classes refine topological ones: a stereo-respecting symmetry is
-  // an automorphism too. Merge to be safe against a truncated search.
-  out.chemical = dense_ids(chem_uf, n, out.chemical_count, ws.count);
-  out.notes = std::move(sm.notes);
+  else
+    dense_ids(topo_uf, n, out.topological, out.topological_count, ws.count);
+  // Chemical classes refine topological ones: every symmetry that merged
+  // them is an automorphism too (unless a search ran out of budget, which a
+  // note reports).
+  dense_ids(chem_uf, n, out.chemical, out.chemical_count, ws.count);
+  out.notes.reserve(sm.notes.size() + (exhausted ? 1 : 0));
+  append_notes(sm.notes, out.notes);
   if (exhausted)
     out.notes.push_back("symmetry search budget exhausted: some equivalent atoms may be reported as distinct");
   return out;

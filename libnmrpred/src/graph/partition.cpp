@@ -200,6 +200,9 @@ void initial_partition(const Graph &g, Partition &p, RefineScratch &s) {
   const std::uint32_t n = g.n;
   p.elems.resize(n);
   std::iota(p.elems.begin(), p.elems.end(), 0u);
+  // Not a stable sort, and not to be made one: the order within a colour
+  // picks the canonical configuration of unspecified stereo, and with it
+  // the classes of some molecules.
   std::sort(p.elems.begin(), p.elems.end(), [&](std::uint32_t a, std::uint32_t b) {
     return g.colour[a] < g.colour[b];
   });

@@ -41,7 +41,9 @@ struct Graph {
   std::vector<TetraConfig> tetra;
   std::vector<std::int32_t> tetra_of;   // per atom: index into tetra or -1
   std::vector<DoubleConfig> dbl;
-  std::vector<std::vector<std::int32_t>> dbl_of;  // per atom: double bonds it ends
+  // Per atom: index into dbl of the double bond it ends, or -1. One is
+  // enough: an atom on two double bonds is cumulated, which has no model.
+  std::vector<std::int32_t> dbl_of;
 
   std::uint32_t degree(std::uint32_t a) const { return off[a + 1] - off[a]; }
   // Bond order code between a and b, 0 if not bonded.
