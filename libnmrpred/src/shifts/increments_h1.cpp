@@ -22,10 +22,12 @@
 #include <cmath>
 #include <cstdint>
 #include <cstring>
-#include <deque>
 #include <initializer_list>
+#include <iterator>
 #include <optional>
 #include <string>
+#include <tuple>
+#include <type_traits>
 #include <utility>
 #include <vector>
 
@@ -532,6 +534,41 @@ void read_solvents(const Tables &tables, H1IncrementTables &out) {
 }
 
 // ---------------------------------------------------------------------------
+// Up to N values kept in place; more move the lot to the heap. The lists
+// below (a sum's terms, a ring's groups, the atoms a search flags) rarely
+// exceed N, and a vector each cost an allocation per proton. The place is
+// left uninitialised: most lists hold a few values.
+template <class T, std::size_t N>
+class SmallVec {
+  static_assert(std::is_trivially_copyable_v<T> && std::is_trivially_destructible_v<T>);
+
+ public:
+  void push_back(T v) {
+    if (heap_.empty() && size_ < N) {
+      inline_.items[size_++] = v;
+      return;
+    }
+    if (heap_.empty()) heap_.assign(inline_.items, inline_.items + size_);
+    heap_.push_back(v);
+    ++size_;
+  }
+  std::size_t size() const { return size_; }
+  bool empty() const { return size_ == 0; }
+  const T *begin() const { return heap_.empty() ? inline_.items : heap_.data(); }
+  const T *end() const { return begin() + size_; }
+  const T &operator[](std::size_t i) const { return begin()[i]; }
+  T &operator[](std::size_t i) { return heap_.empty() ? inline_.items[i] : heap_[i]; }
+
+ private:
+  union Place {
+    Place() {}  // leaves the items uninitialised
+    T items[N];
+  } inline_;
+  std::vector<T> heap_;
+  std::size_t size_ = 0;
+};
+
+// ---------------------------------------------------------------------------
 // A sum of increments, kept term by term for the method text. The scheme
 // name (in pieces, written one after another), the base label, roles and row
 // ids are views of literals or of the parsed tables, which outlive every Sum:
@@ -543,12 +580,13 @@ class Sum {
     base_label_ = label;
     base_ppm_ = ppm;
   }
-  void add(std::string_view role, std::string_view id, double ppm) {
-    if (terms_.empty()) terms_.reserve(8);
-    terms_.push_back(Term{role, id, ppm});
-  }
-  void note(std::string text) {
-    if (std::find(notes_.begin(), notes_.end(), text) == notes_.end()) notes_.push_back(std::move(text));
+  void add(std::string_view role, std::string_view id, double ppm) { terms_.push_back(Term{role, id, ppm}); }
+  // A note written "(<head><tail>)" after the sum, once however often it is
+  // given: `tail` views a literal, `head` holds what is made per proton.
+  void note(std::string head, std::string_view tail = {}) {
+    for (const auto &n : notes_)
+      if (n.head == head && n.tail == tail) return;
+    notes_.push_back(Note{std::move(head), tail});
   }
   void widen(double ppm) { extra_var_ += ppm * ppm; }
   double ppm() const {
@@ -560,14 +598,14 @@ class Sum {
     const double slope = spread_.slope_ppm * count;
     return std::sqrt(spread_.floor_ppm * spread_.floor_ppm + slope * slope + extra_var_);
   }
-  double uncertainty() const { return uncertainty(static_cast<int>(terms_.size())); }
-  std::string method() const {
-    std::string s;
-    std::size_t size = base_label_.size() + 16;
+  int term_count() const { return static_cast<int>(terms_.size()); }
+  // Appends the method text to `s`.
+  void method(std::string &s) const {
+    std::size_t size = s.size() + base_label_.size() + 16;
     for (auto part : scheme_) size += part.size();
     for (const auto &t : terms_) size += t.role.size() + t.id.size() + 16;
-    for (const auto &n : notes_) size += n.size() + 3;
-    s.reserve(size);
+    for (const auto &n : notes_) size += n.head.size() + n.tail.size() + 3;
+    if (s.capacity() < size) s.reserve(std::max(size, 2 * s.capacity()));
     for (auto part : scheme_) s += part;
     s += ": ";
     s += base_label_;
@@ -583,37 +621,41 @@ class Sum {
     append_ppm(s, ppm());
     for (const auto &n : notes_) {
       s += " (";
-      s += n;
+      s += n.head;
+      s += n.tail;
       s += ')';
     }
-    return s;
   }
 
  private:
   struct Term {
     std::string_view role, id;
-    double ppm;
+    double ppm = 0;
+  };
+  struct Note {
+    std::string head;
+    std::string_view tail;
   };
   std::array<std::string_view, 5> scheme_;
   Spread spread_;
   std::string_view base_label_;
   double base_ppm_ = 0;
-  std::vector<Term> terms_;
-  std::vector<std::string> notes_;
+  SmallVec<Term, 12> terms_;
+  std::vector<Note> notes_;  // rare: made only when a note is given
   double extra_var_ = 0;
 };
 
-// An estimate ready to be copied into a Shift.
+// An estimate ready to be copied into a Shift. Its method text lies in the
+// source's per-molecule text buffer (H1Increments::methods_), at
+// [method_at, method_at + method_size): one buffer for the molecule rather
+// than a string per proton.
 struct Estimate {
   double ppm = 0;
   double uncertainty_ppm = 0;
-  std::string method;
+  std::size_t method_at = 0, method_size = 0;
   bool exchangeable = false;
   bool observed = true;
 };
-
-Estimate from_sum(const Sum &s, int count) { return Estimate{s.ppm(), s.uncertainty(count), s.method()}; }
-Estimate from_sum(const Sum &s) { return Estimate{s.ppm(), s.uncertainty(), s.method()}; }
 
 // ---------------------------------------------------------------------------
 // Graph helpers
@@ -666,6 +708,29 @@ const Row *first_row(const std::vector<Row> &rows, const SmartsTarget &t, std::s
 // ---------------------------------------------------------------------------
 // Rings without ring perception
 
+// The atoms of a ring of at most 8 (aromatic_cycle()), kept in place.
+struct RingAtoms {
+  std::array<std::uint32_t, 8> atoms{};
+  std::size_t size = 0;
+  const std::uint32_t *begin() const { return atoms.data(); }
+  const std::uint32_t *end() const { return atoms.data() + size; }
+};
+
+// A ring's atoms in order, viewed: a RingAtoms or a ring of
+// SmartsTarget::rings().
+class RingView {
+ public:
+  // Implicit, so that either kind of ring passes as it is.
+  RingView(const RingAtoms &r) : begin_(r.begin()), end_(r.end()) {}
+  RingView(const std::vector<std::uint32_t> &r) : begin_(r.data()), end_(r.data() + r.size()) {}
+  const std::uint32_t *begin() const { return begin_; }
+  const std::uint32_t *end() const { return end_; }
+  std::uint32_t operator[](std::size_t i) const { return begin_[i]; }
+
+ private:
+  const std::uint32_t *begin_, *end_;
+};
+
 // `cycle`, a ring that is its atoms' whole ring system (in either direction
 // from any atom), in the order SmartsTarget::rings() lists it. Perception
 // (graph/smarts.cpp) first finds the ring from its lowest atom r0, breadth
@@ -674,14 +739,14 @@ const Row *first_row(const std::vector<Row> &rows, const SmartsTarget &t, std::s
 // ring neighbour reaches every depth first (and the far atom of an even
 // ring). The one ring bond off the tree closes the ring, which runs from r0
 // along the tree to that bond's first atom and back along the other side.
-std::vector<std::uint32_t> rings_order(const Molecule &m, const std::vector<std::uint32_t> &cycle) {
-  const std::size_t size = cycle.size(),
+RingAtoms rings_order(const Molecule &m, const RingAtoms &cycle) {
+  const std::size_t size = cycle.size,
                     i0 = static_cast<std::size_t>(std::min_element(cycle.begin(), cycle.end()) - cycle.begin());
   auto at = [&](std::size_t step, bool forward) {
-    return cycle[forward ? (i0 + step) % size : (i0 + size - step % size) % size];
+    return cycle.atoms[forward ? (i0 + step) % size : (i0 + size - step % size) % size];
   };
   bool first_forward = true;
-  for (auto it = m.neighbours_begin(cycle[i0]); it != m.neighbours_end(cycle[i0]); ++it) {
+  for (auto it = m.neighbours_begin(cycle.atoms[i0]); it != m.neighbours_end(cycle.atoms[i0]); ++it) {
     if (*it == at(1, true)) break;
     if (*it == at(1, false)) {
       first_forward = false;
@@ -695,16 +760,18 @@ std::vector<std::uint32_t> rings_order(const Molecule &m, const std::vector<std:
   const auto far_end = at(size % 2 == 0 ? half - 1 : half, !first_forward);
   const auto &closing = m.bond(static_cast<std::size_t>(m.bond_between(near_end, far_end)));
   const bool forward = closing.begin == near_end ? first_forward : !first_forward;
-  std::vector<std::uint32_t> out(size);
-  for (std::size_t i = 0; i < size; ++i) out[i] = at(i, forward);
+  RingAtoms out;
+  out.size = size;
+  for (std::size_t i = 0; i < size; ++i) out.atoms[i] = at(i, forward);
   return out;
 }
 
 // The cycle of aromatic bonds through heavy atom k, each atom on it with
 // exactly two, from k; empty when there is none or it has more than 8 atoms
 // (larger rings are left to ring perception).
-std::vector<std::uint32_t> aromatic_cycle(const Molecule &m, std::size_t k) {
+RingAtoms aromatic_cycle(const Molecule &m, std::size_t k) {
   constexpr std::size_t kMaxSize = 8;
+  static_assert(kMaxSize == std::tuple_size_v<decltype(RingAtoms::atoms)>);
   const std::size_t n = m.heavy_atom_count();
   if (k >= n) return {};
   auto ring_neighbours = [&](std::size_t a, std::size_t (&out)[2]) {
@@ -717,17 +784,16 @@ std::vector<std::uint32_t> aromatic_cycle(const Molecule &m, std::size_t k) {
       }
     return count;
   };
-  std::vector<std::uint32_t> cycle;
-  cycle.reserve(kMaxSize);  // one allocation, not one per doubling
-  cycle.push_back(static_cast<std::uint32_t>(k));
+  RingAtoms cycle;
+  cycle.atoms[cycle.size++] = static_cast<std::uint32_t>(k);
   std::size_t prev = k, cur = k;
   for (;;) {
     std::size_t next[2];
     if (ring_neighbours(cur, next) != 2) return {};
     const std::size_t step = cur == k ? next[0] : (next[0] != prev ? next[0] : next[1]);
     if (step == k) return cycle;
-    if (cycle.size() == kMaxSize) return {};
-    cycle.push_back(static_cast<std::uint32_t>(step));
+    if (cycle.size == kMaxSize) return {};
+    cycle.atoms[cycle.size++] = static_cast<std::uint32_t>(step);
     prev = cur, cur = step;
   }
 }
@@ -742,19 +808,22 @@ std::vector<RingSystem> find_ring_systems(const Molecule &m, std::vector<std::in
   const Atom *atoms = m.atoms().data();
   const Bond *bonds = m.bonds().data();
   constexpr std::uint32_t kNoBond = ~std::uint32_t{0};
-  std::vector<std::uint32_t> order(n, 0), low(n, 0);  // 0: not yet visited
-  std::vector<std::uint32_t> pending;                 // visited, in no system yet
+  // Visit order and low point (0: not yet visited), and the stack of atoms
+  // visited but in no system yet, in one block.
+  std::vector<std::uint32_t> scratch(3 * std::size_t{n}, 0);
+  std::uint32_t *const order = scratch.data(), *const low = order + n, *const pending = low + n;
+  std::size_t pending_size = 0;
   std::vector<RingSystem> systems;
   of.assign(n, -1);
   auto place = [&](std::uint32_t first) {
-    std::size_t from = pending.size();
+    std::size_t from = pending_size;
     while (pending[--from] != first) {
     }
-    if (pending.size() - from > 1) {
+    if (pending_size - from > 1) {
       const auto id = static_cast<std::int32_t>(systems.size());
-      for (std::size_t i = from; i < pending.size(); ++i) of[pending[i]] = id;
+      for (std::size_t i = from; i < pending_size; ++i) of[pending[i]] = id;
       RingSystem sys;
-      for (std::size_t i = from; i < pending.size(); ++i) {
+      for (std::size_t i = from; i < pending_size; ++i) {
         const std::uint32_t a = pending[i];
         const bool carbon = atoms[a].atomic_number == 6;
         const auto *bid = m.bond_ids_begin(a);
@@ -771,7 +840,7 @@ std::vector<RingSystem> find_ring_systems(const Molecule &m, std::vector<std::in
       }
       systems.push_back(sys);
     }
-    pending.resize(from);
+    pending_size = from;
   };
   // The neighbours still to look at are kept as pointers: the accessors
   // check their index on every call.
@@ -781,11 +850,10 @@ std::vector<RingSystem> find_ring_systems(const Molecule &m, std::vector<std::in
   };
   std::vector<Frame> stack;
   stack.reserve(n);
-  pending.reserve(n);
   std::uint32_t visited = 0;
   auto enter = [&](std::uint32_t a, std::uint32_t via) {
     order[a] = low[a] = ++visited;
-    pending.push_back(a);
+    pending[pending_size++] = a;
     const std::uint32_t *nb = m.neighbours_begin(a);
     stack.push_back(Frame{a, via, nb, nb + m.degree(a), m.bond_ids_begin(a)});
   };
@@ -823,11 +891,13 @@ bool lone_system(const RingSystem *sys, std::size_t cycle_size) {
 
 std::vector<std::uint32_t> lone_ring(const Molecule &m, std::size_t k) {
   const auto cycle = aromatic_cycle(m, k);
-  if (cycle.size() < 3) return {};
+  if (cycle.size < 3) return {};
   std::vector<std::int32_t> of;
   const auto systems = find_ring_systems(m, of);
   const RingSystem *sys = of[k] >= 0 ? &systems[static_cast<std::size_t>(of[k])] : nullptr;
-  return lone_system(sys, cycle.size()) ? rings_order(m, cycle) : std::vector<std::uint32_t>{};
+  if (!lone_system(sys, cycle.size)) return {};
+  const auto ring = rings_order(m, cycle);
+  return std::vector<std::uint32_t>(ring.begin(), ring.end());
 }
 
 namespace {
@@ -862,7 +932,7 @@ class H1Increments final : public ShiftSource {
     out.uncertainty_ppm = r->uncertainty_ppm;
     out.source = ShiftSourceKind::Increments;
     out.sphere = 0;
-    out.method = r->method;
+    out.method.assign(methods_, r->method_at, r->method_size);
     out.references.clear();
     out.exchangeable = r->exchangeable;
     out.observed = r->observed;
@@ -881,20 +951,36 @@ class H1Increments final : public ShiftSource {
     if (carrier < 0 || m.degree(atom) != 1) return kNone;
     const auto c = static_cast<std::size_t>(carrier);
     const SmartsTarget &t = target(q);
-    if (memo_of_.empty()) memo_of_.assign(m.atom_count(), kNotDone);
+    if (memo_.empty()) memo_.resize(m.atom_count());
     // A proton's own answer, else its carrier's.
     const bool heavy_carrier = c < m.heavy_atom_count();
-    if (memo_of_[atom] != kNotDone) return memo_[static_cast<std::size_t>(memo_of_[atom])];
-    if (heavy_carrier && memo_of_[c] != kNotDone) return memo_[static_cast<std::size_t>(memo_of_[c])];
+    if (memo_[atom].done) return memo_[atom].value;
+    if (heavy_carrier && memo_[c].done) return memo_[c].value;
     bool per_proton = false;
     auto value = evaluate_uncached(q, t, atom, c, per_proton);
-    memo_of_[per_proton || !heavy_carrier ? atom : c] = static_cast<std::int32_t>(memo_.size());
-    memo_.push_back(std::move(value));
-    return memo_.back();
+    Memo &slot = memo_[per_proton || !heavy_carrier ? atom : c];
+    slot.done = true;
+    slot.value = value;
+    return slot.value;
   }
 
  private:
-  static constexpr std::int32_t kNotDone = -1;
+  // evaluate()'s answer for one atom (a proton, or a carrier for all its
+  // protons).
+  struct Memo {
+    bool done = false;
+    std::optional<Estimate> value;
+  };
+
+  // The estimate of Sum `s` with its method text in methods_.
+  Estimate from_sum(const Sum &s, int count) const {
+    Estimate e{s.ppm(), s.uncertainty(count)};
+    e.method_at = methods_.size();
+    s.method(methods_);
+    e.method_size = methods_.size() - e.method_at;
+    return e;
+  }
+  Estimate from_sum(const Sum &s) const { return from_sum(s, s.term_count()); }
 
   // evaluate() for proton `atom` on carrier `c`; sets `per_proton` when the
   // answer depends on the proton, not only on its carrier.
@@ -943,8 +1029,8 @@ class H1Increments final : public ShiftSource {
       system_of_.clear();
       systems_.clear();
       system_rows_.clear();
-      memo_of_.clear();
       memo_.clear();
+      methods_.clear();
     }
     return t;
   }
@@ -985,12 +1071,20 @@ class H1Increments final : public ShiftSource {
     return nullptr;
   }
 
-  static Estimate special_value(const SpecialRow &r) {
+  Estimate special_value(const SpecialRow &r) const {
     Estimate e;
     e.ppm = r.ppm;
     e.uncertainty_ppm = 0.5 * (r.max_ppm - r.min_ppm);
-    e.method = r.method;
+    e.method_at = methods_.size();
+    methods_ += r.method;
+    e.method_size = r.method.size();
     return e;
+  }
+
+  // Appends `text` to the method text of `e`, the last one written.
+  void extend_method(Estimate &e, std::string_view text) const {
+    methods_ += text;
+    e.method_size += text.size();
   }
 
   std::optional<Estimate> special_ch(const SpecialGroup &g) const {
@@ -1012,16 +1106,19 @@ class H1Increments final : public ShiftSource {
       e.uncertainty_ppm = half;
       e.exchangeable = true;
       e.observed = false;
-      e.method = fmt::format("group '{}': exchanges with the deuterium of {} and gives no signal of its own "
-                             "(it joins the solvent's water signal at {})",
-                             g->name, solvent_name_, fmt_ppm(e.ppm));
+      e.method_at = methods_.size();
+      fmt::format_to(std::back_inserter(methods_),
+                     "group '{}': exchanges with the deuterium of {} and gives no signal of its own "
+                     "(it joins the solvent's water signal at {})",
+                     g->name, solvent_name_, fmt_ppm(e.ppm));
+      e.method_size = methods_.size() - e.method_at;
       return e;
     }
     const auto *row = special_row(*g);
     if (!row) return std::nullopt;
     auto e = special_value(*row);
     e.exchangeable = g->exchanges;
-    if (g->exchanges) e.method += "; moves with concentration, water and temperature";
+    if (g->exchanges) extend_method(e, "; moves with concentration, water and temperature");
     return e;
   }
 
@@ -1031,7 +1128,7 @@ class H1Increments final : public ShiftSource {
     // Most aromatic protons sit on a ring that is its whole ring system: the
     // only smallest ring holding k, found without ring perception.
     if (LoneRing *lone = lone_ring(t.molecule(), k)) {
-      if (lone->atoms.size() != 6) return std::nullopt;
+      if (lone->atoms.size != 6) return std::nullopt;
       if (!lone->benzene) lone->benzene = make_benzene_ring(t, lone->atoms, true);
       return lone->benzene->benzenoid ? benzene_sum(lone->atoms, *lone->benzene, k) : std::nullopt;
     }
@@ -1061,13 +1158,13 @@ class H1Increments final : public ShiftSource {
       const BenzeneRow *row;
     };
     bool benzenoid = false;
-    std::vector<Group> groups;
+    SmallVec<Group, 8> groups;
   };
 
   // The sum for proton carbon k on benzene ring `ring`, or nothing when a
   // group has no row or sits on k's own carbon, which is not a substituent
   // the table describes.
-  std::optional<Estimate> benzene_sum(const std::vector<std::uint32_t> &ring, const BenzeneRing &br,
+  std::optional<Estimate> benzene_sum(RingView ring, const BenzeneRing &br,
                                       std::size_t k) const {
     const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
     const char *const relation[] = {"", "ortho", "meta", "para"};
@@ -1091,7 +1188,7 @@ class H1Increments final : public ShiftSource {
 
   // `lone`: every bond leaving the ring is a bridge, so no group closes
   // another ring (and no ring perception is needed to tell).
-  BenzeneRing make_benzene_ring(const SmartsTarget &t, const std::vector<std::uint32_t> &ring, bool lone) const {
+  BenzeneRing make_benzene_ring(const SmartsTarget &t, RingView ring, bool lone) const {
     BenzeneRing out;
     const Molecule &m = t.molecule();
     bool benzenoid = true;
@@ -1103,8 +1200,9 @@ class H1Increments final : public ShiftSource {
     }
     if (!benzenoid) return out;
     out.benzenoid = true;
-    std::vector<bool> skeleton(m.atom_count(), false);
-    for (auto a : ring) skeleton[a] = true;
+    Flagged flagged(marks_, m.atom_count());
+    for (auto a : ring) flagged.set(a);
+    const std::vector<bool> &skeleton = flagged.bits();
     for (int ir = 0; ir < 6; ++ir) {
       const auto r = ring[static_cast<std::size_t>(ir)];
       for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
@@ -1119,7 +1217,7 @@ class H1Increments final : public ShiftSource {
 
   // lone_ring() of an atom and its benzene facts, once asked.
   struct LoneRing {
-    std::vector<std::uint32_t> atoms;
+    RingAtoms atoms;
     std::optional<BenzeneRing> benzene;
   };
   static constexpr std::int32_t kLoneUnknown = -1, kLoneNone = -2;
@@ -1132,8 +1230,9 @@ class H1Increments final : public ShiftSource {
       // The answer holds for every atom of the cycle.
       const auto cycle = aromatic_cycle(m, k);
       lone_of_[k] = kLoneNone;
-      if (lone_system(cycle.size() >= 3 ? ring_system(m, k) : nullptr, cycle.size())) {
+      if (lone_system(cycle.size >= 3 ? ring_system(m, k) : nullptr, cycle.size)) {
         for (auto a : cycle) lone_of_[a] = static_cast<std::int32_t>(lone_rings_.size());
+        if (lone_rings_.empty()) lone_rings_.reserve(4);  // most molecules have fewer
         lone_rings_.push_back(LoneRing{rings_order(m, cycle), std::nullopt});
       } else {
         for (auto a : cycle) lone_of_[a] = kLoneNone;
@@ -1164,8 +1263,9 @@ class H1Increments final : public ShiftSource {
       const std::vector<std::uint32_t> &map = *found;
       // The first matching row names the parent; FORMAT.md keeps the rows
       // of different parents apart, so no other row can apply.
-      std::vector<bool> in_ring(m.atom_count(), false);
-      for (auto a : map) in_ring[a] = true;
+      Flagged flagged(marks_, m.atom_count());
+      for (auto a : map) flagged.set(a);
+      const std::vector<bool> &in_ring = flagged.bits();
       int nitrogens = 0, substituents = 0;
       bool n_substituted = false;
       for (auto a : map) {
@@ -1196,8 +1296,9 @@ class H1Increments final : public ShiftSource {
       // (tables/FORMAT.md, h1_heteroaromatic); the rest are not accounted for.
       const int unaccounted = substituents - carry_benzene_terms(t, k, map, in_ring, s);
       if (unaccounted > 0)
-        s.note(std::to_string(unaccounted) + (unaccounted == 1 ? " ring substituent" : " ring substituents") +
-               " not accounted for: the table gives no increments for this ring");
+        s.note(std::to_string(unaccounted),
+               unaccounted == 1 ? " ring substituent not accounted for: the table gives no increments for this ring"
+                                : " ring substituents not accounted for: the table gives no increments for this ring");
       return from_sum(s, unaccounted);
     }
     return std::nullopt;
@@ -1263,23 +1364,37 @@ class H1Increments final : public ShiftSource {
                           const std::vector<bool> &in_ring, Sum &s) const {
     const Molecule &m = t.molecule();
     if (!tab_.benzene.present) return 0;
-    std::vector<int> dist(m.atom_count(), -1);
-    dist[k] = 0;
-    std::vector<std::size_t> queue{k};
-    for (std::size_t i = 0; i < queue.size(); ++i)
-      for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
-        if (in_ring[z] && dist[z] < 0) dist[z] = dist[queue[i]] + 1, queue.push_back(z);
+    // Distances by position in `map`, which holds every atom flagged in
+    // `in_ring`: the few atoms of one ring, not an array per molecule atom.
+    auto position = [&](std::size_t a) {
+      return static_cast<std::size_t>(std::find(map.begin(), map.end(), a) - map.begin());
+    };
+    SmallVec<int, 16> dist;
+    for (std::size_t j = 0; j < map.size(); ++j) dist.push_back(-1);
+    dist[position(k)] = 0;
+    SmallVec<std::uint32_t, 16> queue;
+    queue.push_back(static_cast<std::uint32_t>(position(k)));
+    for (std::size_t i = 0; i < queue.size(); ++i) {
+      const std::uint32_t from = queue[i];
+      const int next = dist[from] + 1;
+      for_heavy_neighbours(m, map[from], [&](std::size_t z, BondOrder) {
+        if (!in_ring[z]) return;
+        const auto p = position(z);
+        if (dist[p] < 0) dist[p] = next, queue.push_back(static_cast<std::uint32_t>(p));
       });
+    }
     const char *const relation[] = {"", "ortho (carried over)", "meta (carried over)", "para (carried over)"};
     int carried = 0;
-    for (auto a : map) {
+    for (std::size_t j = 0; j < map.size(); ++j) {
+      const std::size_t a = map[j];
       const auto &at = m.atom(a);
-      if (at.atomic_number != 6 || !at.aromatic || dist[a] < 1 || dist[a] > 3) continue;
+      const int d = dist[j];
+      if (at.atomic_number != 6 || !at.aromatic || d < 1 || d > 3) continue;
       for_heavy_neighbours(m, a, [&](std::size_t x, BondOrder) {
         if (in_ring[x] || in_one_ring(t, {a, x})) return;
         const auto *b = first_row(tab_.benzene.rows, t, x, in_ring);
         if (!b) return;
-        const auto rel = static_cast<std::size_t>(dist[a]);
+        const auto rel = static_cast<std::size_t>(d);
         s.add(relation[rel], b->id, b->by_relation[rel]);
         s.widen(kCarriedOverPpm);
         ++carried;
@@ -1375,8 +1490,10 @@ class H1Increments final : public ShiftSource {
       if (*it != ca) on_b.push_back(*it);
     if (other_a == ca || on_b.size() != 2) return std::nullopt;
 
-    std::vector<bool> skeleton(m.atom_count(), false);
-    skeleton[ca] = skeleton[cb] = true;
+    Flagged flagged(marks_, m.atom_count());
+    flagged.set(ca);
+    flagged.set(cb);
+    const std::vector<bool> &skeleton = flagged.bits();
     const AlkeneTable &tab = tab_.alkene;
     auto row_for = [&](std::size_t s) {
       return first_row(tab.rows, t, s, skeleton,
@@ -1426,7 +1543,7 @@ class H1Increments final : public ShiftSource {
     if (!term(other_a, "gem")) return std::nullopt;
     for (auto x : on_b)
       if (!term(x, x == cis_b ? "cis" : "trans")) return std::nullopt;
-    if (!geometry_note.empty()) s.note(geometry_note);
+    if (!geometry_note.empty()) s.note(std::move(geometry_note));
     if (assumed) s.widen(kAssumedGeometryPpm);
     if (in_one_ring(t, {ca, cb}, 5)) {
       // A ring partner conjugated with the C=C and trans to h moves h further
@@ -1436,7 +1553,7 @@ class H1Increments final : public ShiftSource {
         if (x == cis_b || m.is_hydrogen(x) || !in_one_ring(t, {ca, cb, x}, 5)) continue;
         if (const auto *row = first_row(tab.ring5, t, x, skeleton)) s.add("trans, five-membered ring", row->id, row->trans);
       }
-      s.note("C=C in a five-membered ring, outside the rule's tested scope");
+      s.note({}, "C=C in a five-membered ring, outside the rule's tested scope");
       s.widen(kFiveRingAlkenePpm);
     }
     return from_sum(s, count);
@@ -1486,8 +1603,9 @@ class H1Increments final : public ShiftSource {
       const std::size_t n = ring.size();
       const auto pos = static_cast<std::size_t>(std::find(ring.begin(), ring.end(), ca) - ring.begin());
       if ((n != 5 && n != 6) || pos == n) continue;
-      std::vector<bool> member(m.atom_count(), false);
-      for (auto a : ring) member[a] = true;
+      Flagged members(marks2_, m.atom_count());
+      for (auto a : ring) members.set(a);
+      const std::vector<bool> &member = members.bits();
       // Ring atoms that can carry a ring double bond: aromatic carbons and
       // two-connected nitrogens without an exocyclic double bond.
       std::vector<bool> open(n, false);
@@ -1527,8 +1645,10 @@ class H1Increments final : public ShiftSource {
       for (auto x : heavy_neighbours(m, cb))
         if (x != ca) (member[x] ? y : z) = x;
       if (y == cb) continue;
-      std::vector<bool> skeleton(m.atom_count(), false);
-      skeleton[ca] = skeleton[cb] = true;
+      Flagged flagged(marks_, m.atom_count());
+      flagged.set(ca);
+      flagged.set(cb);
+      const std::vector<bool> &skeleton = flagged.bits();
       Sum s({"alkene increments (Pascual-Meier-Simon)"}, kAlkeneSpread);
       s.base(tab_.alkene.base_label, tab_.alkene.base.ppm);
       int count = 0;
@@ -1557,7 +1677,7 @@ class H1Increments final : public ShiftSource {
       // cover (FORMAT.md, h1_alkene): 4-pyranone H-3 comes out near 5.3
       // against about 6.4.
       if (donor && acceptor) return std::nullopt;
-      s.note("ring C=C of a pyridone-type ring, read as an open enone");
+      s.note({}, "ring C=C of a pyridone-type ring, read as an open enone");
       s.widen(kRingEnonePpm);
       return from_sum(s, count);
     }
@@ -1654,13 +1774,13 @@ class H1Increments final : public ShiftSource {
     }
     void set(std::size_t a) {
       bits_[a] = true;
-      set_.push_back(a);
+      set_.push_back(static_cast<std::uint32_t>(a));
     }
     const std::vector<bool> &bits() const { return bits_; }
 
    private:
     std::vector<bool> &bits_;
-    Four<std::size_t> set_;
+    SmallVec<std::uint32_t, 16> set_;
   };
 
   std::optional<Estimate> sp3(const SmartsTarget &t, std::size_t c) const {
@@ -1677,7 +1797,8 @@ class H1Increments final : public ShiftSource {
     if (!est || ring != 4) return est;
     est->ppm += tab.ring4.ppm;
     est->uncertainty_ppm = std::hypot(est->uncertainty_ppm, kRing4Ppm);
-    est->method += fmt::format(" + four-membered ring {} {} = {}", tab.ring4.id, fmt_ppm(tab.ring4.ppm), fmt_ppm(est->ppm));
+    extend_method(*est, fmt::format(" + four-membered ring {} {} = {}", tab.ring4.id, fmt_ppm(tab.ring4.ppm),
+                                    fmt_ppm(est->ppm)));
     return est;
   }
 
@@ -1710,7 +1831,7 @@ class H1Increments final : public ShiftSource {
       return from_sum(s);
     }
     if (n_h < 1 || n_h > 3) return std::nullopt;
-    Flagged flagged(chain_skeleton_, m.atom_count());
+    Flagged flagged(marks_, m.atom_count());
     flagged.set(c);
     const std::vector<bool> &skeleton = flagged.bits();
     // Sort the neighbours: `direct` groups (not an sp3 carbon), `shoolery`
@@ -1719,7 +1840,16 @@ class H1Increments final : public ShiftSource {
     // group atoms are counted), and clean alkyl carbons.
     Four<std::size_t> direct, own, beta;
     Four<int> beta_groups;
-    for (auto n : nbrs) {
+    // Each neighbour's sigma row, found once: Shoolery's rule below asks
+    // again for the rows looked up here.
+    std::array<const ValueRow *, 4> sigma{};
+    std::array<bool, 4> sigma_found{};
+    auto sigma_row = [&](std::size_t i) {
+      if (!sigma_found[i]) sigma[i] = first_row(tab.sigma, t, nbrs[i], skeleton), sigma_found[i] = true;
+      return sigma[i];
+    };
+    for (std::size_t i = 0; i < nbrs.size(); ++i) {
+      const std::size_t n = nbrs[i];
       if (!is_sp3_carbon(m, n)) {
         direct.push_back(n);
         continue;
@@ -1729,7 +1859,7 @@ class H1Increments final : public ShiftSource {
         if (y != c && !is_sp3_carbon(m, y)) ++groups;
       });
       if (groups == 0) continue;
-      const auto *sg = first_row(tab.sigma, t, n, skeleton);
+      const auto *sg = sigma_row(i);
       if (sg && sg->id != "sigma-alkyl") {
         own.push_back(n);
       } else {
@@ -1762,8 +1892,8 @@ class H1Increments final : public ShiftSource {
       if (!tab.shoolery_base.set) return std::nullopt;
       Sum s({"Shoolery's rule"}, spread);
       s.base(tab.shoolery_base_label, tab.shoolery_base.ppm);
-      for (auto n : nbrs) {
-        const auto *row = first_row(tab.sigma, t, n, skeleton);
+      for (std::size_t i = 0; i < nbrs.size(); ++i) {
+        const auto *row = sigma_row(i);
         if (!row) return std::nullopt;
         s.add("", row->id, row->ppm);
       }
@@ -1873,7 +2003,7 @@ class H1Increments final : public ShiftSource {
       for (auto y : groups) {
         // The other groups on b join the skeleton, so the row's group atom
         // can only be y.
-        Flagged skeleton(beta_skeleton_, m.atom_count());
+        Flagged skeleton(marks2_, m.atom_count());
         skeleton.set(c);
         for (auto z : groups)
           if (z != y) skeleton.set(z);
@@ -1899,15 +2029,16 @@ class H1Increments final : public ShiftSource {
   mutable std::vector<LoneRing> lone_rings_;   // see lone_ring()
   mutable std::vector<std::optional<std::vector<std::vector<std::uint32_t>>>> hetero_matches_;  // see hetero_matches()
   mutable std::vector<std::int32_t> system_of_;  // see ring_system()
-  // Flagged scratch of sp3_chain() and of add_beta_steps(), which it calls.
-  mutable std::vector<bool> chain_skeleton_, beta_skeleton_;
+  // Flagged scratch: marks_ for the skeleton or ring of one rule, marks2_
+  // for a second set while that is in use (add_beta_steps() within
+  // sp3_chain(), the ring of ring_enone()).
+  mutable std::vector<bool> marks_, marks2_;
   mutable std::vector<RingSystem> systems_;
   mutable std::vector<std::optional<std::vector<std::uint32_t>>> system_rows_;  // see hetero_rows()
-  // evaluate()'s answers; per atom (a proton, or a carrier for all its
-  // protons) the index of its answer or kNotDone. A deque, so that the
-  // answers handed out stay in place.
-  mutable std::vector<std::int32_t> memo_of_;
-  mutable std::deque<std::optional<Estimate>> memo_;
+  // evaluate()'s answers by atom, and the method texts of the estimates
+  // made for this molecule (Estimate::method_at).
+  mutable std::vector<Memo> memo_;
+  mutable std::string methods_;
 };
 
 }  // namespace
