@@ -48,6 +48,7 @@
 #include <optional>
 #include <string>
 #include <string_view>
+#include <type_traits>
 #include <unordered_map>
 #include <utility>
 #include <vector>
@@ -582,17 +583,57 @@ void read_solvent(const Tables &tables, C13Tables &out) {
 }
 
 // ---------------------------------------------------------------------------
+// A list whose first N elements live in the object itself. A Sum is built
+// for nearly every carbon and holds a handful of terms: in a std::vector
+// each Sum cost an allocation or two.
+template <class T, std::size_t N>
+class InlineList {
+  static_assert(std::is_trivially_copyable_v<T>, "InlineList holds plain values only");
+
+ public:
+  std::size_t size() const { return size_; }
+  bool empty() const { return size_ == 0; }
+  T *begin() { return spilled_.empty() ? local_.data() : spilled_.data(); }
+  T *end() { return begin() + size_; }
+  const T *begin() const { return spilled_.empty() ? local_.data() : spilled_.data(); }
+  const T *end() const { return begin() + size_; }
+  const T &operator[](std::size_t i) const { return begin()[i]; }
+  void push_back(const T &v) {
+    if (spilled_.empty()) {
+      if (size_ < N) {
+        local_[size_++] = v;
+        return;
+      }
+      spilled_.assign(local_.begin(), local_.end());
+    }
+    spilled_.push_back(v);
+    ++size_;
+  }
+
+ private:
+  std::array<T, N> local_{};
+  std::vector<T> spilled_;  // all elements once there are more than N
+  std::size_t size_ = 0;
+};
+
 // A sum of increments, kept term by term for the method text. Every carbon
 // builds one, so its texts are views, not copies: the scheme, base label,
 // roles, ids and reasons given to it are literals or live in the parsed
 // tables and outlive it; a scheme text made for the carbon is kept in it
-// (scheme_text()).
+// (ring_scheme()).
 
 class Sum {
  public:
-  Sum(std::string_view scheme, Spread spread) : scheme_(scheme), spread_(spread) { terms_.reserve(12); }
-  void scheme_text(std::string text) {
-    own_scheme_ = std::move(text);
+  Sum(std::string_view scheme, Spread spread) : scheme_(scheme), spread_(spread) {}
+  // The scheme text "sp3 ring increments (<n>-membered ring)", written in
+  // place: a string per ring carbon cost an allocation.
+  void ring_scheme(int ring_size) {
+    constexpr std::string_view head = "sp3 ring increments (", tail = "-membered ring)";
+    char *p = own_scheme_.data();
+    std::memcpy(p, head.data(), head.size());
+    p = std::to_chars(p + head.size(), p + head.size() + 12, ring_size).ptr;
+    std::memcpy(p, tail.data(), tail.size());
+    own_scheme_size_ = static_cast<std::size_t>(p + tail.size() - own_scheme_.data());
     scheme_ = {};
   }
   void base(std::string_view label, double ppm) {
@@ -639,12 +680,24 @@ class Sum {
   }
   bool in_scope() const { return outside_.empty(); }
   std::string method() const {
-    const std::string_view scheme = own_scheme_.empty() ? scheme_ : std::string_view(own_scheme_);
-    // The sum is written into a buffer of sufficient size, cut to length
-    // after: appending piece by piece cost more than the arithmetic.
+    const std::string_view scheme =
+        own_scheme_size_ ? std::string_view(own_scheme_.data(), own_scheme_size_) : scheme_;
+    constexpr std::string_view unvalued_head = " (", unvalued_tail = " without a published value taken as 0)",
+                               unvalued_one = " delta position", unvalued_many = " delta positions",
+                               outside_head = " (outside the rule's tested scope: ", outside_sep = "; ",
+                               outside_tail = ")";
+    // The text is written into a buffer of sufficient size, cut to length
+    // after: appending piece by piece cost more than the arithmetic, and
+    // every append that outgrew the string a new allocation.
     constexpr std::size_t kNumber = 32;  // a count with " x ", or a ppm value
     std::size_t bound = scheme.size() + 2 + base_label_.size() + 3 + kNumber;
     for (const auto &t : terms_) bound += 3 + 2 * kNumber + t.role.size() + 1 + t.id.size() + 1;
+    if (unvalued_)
+      bound += unvalued_head.size() + kNumber + unvalued_many.size() + unvalued_tail.size();
+    if (!outside_.empty()) {
+      bound += outside_head.size() + outside_tail.size();
+      for (const auto why : outside_) bound += outside_sep.size() + why.size();
+    }
     std::string s(bound, '\0');
     char *p = s.data();
     auto put = [&](std::string_view text) {
@@ -668,35 +721,40 @@ class Sum {
     }
     put(" = ");
     p = put_ppm(p, ppm());
-    s.resize(static_cast<std::size_t>(p - s.data()));
-    if (unvalued_) s += fmt::format(" ({} delta position{} without a published value taken as 0)", unvalued_,
-                                    unvalued_ == 1 ? "" : "s");
-    if (!outside_.empty()) {
-      s += " (outside the rule's tested scope: ";
-      for (std::size_t i = 0; i < outside_.size(); ++i) {
-        if (i) s += "; ";
-        s += outside_[i];
-      }
-      s += ")";
+    if (unvalued_) {
+      put(unvalued_head);
+      p = std::to_chars(p, p + kNumber, unvalued_).ptr;
+      put(unvalued_ == 1 ? unvalued_one : unvalued_many);
+      put(unvalued_tail);
     }
+    if (!outside_.empty()) {
+      put(outside_head);
+      for (std::size_t i = 0; i < outside_.size(); ++i) {
+        if (i) put(outside_sep);
+        put(outside_[i]);
+      }
+      put(outside_tail);
+    }
+    s.resize(static_cast<std::size_t>(p - s.data()));
     return s;
   }
 
  private:
   struct Term {
     std::string_view role, id;
-    double ppm;
-    int count;
+    double ppm = 0;
+    int count = 0;
   };
   std::string_view scheme_;
-  std::string own_scheme_;
+  std::array<char, 48> own_scheme_{};  // ring_scheme(), own_scheme_size_ characters
+  std::size_t own_scheme_size_ = 0;
   Spread spread_;
   std::string_view base_label_;
   double base_ppm_ = 0;
-  std::vector<Term> terms_;
+  InlineList<Term, 16> terms_;
   int unvalued_ = 0;
   int carried_ = 0;
-  std::vector<std::string_view> outside_;
+  InlineList<std::string_view, 4> outside_;
 };
 
 // Why a scheme passes a carbon on, spelt out only when a reason is asked for
@@ -1628,7 +1686,7 @@ class C13Increments final : public ShiftSource {
     const auto *base = sized(rt.bases, [](const RingRow &) { return true; });
     if (!base) return fail(why, fmt::format("no base value for a {}-membered ring", n));
     Sum s({}, kRingSpread);
-    s.scheme_text("sp3 ring increments (" + std::to_string(n) + "-membered ring)");
+    s.ring_scheme(n);
     s.base(base->base_label, *base->by_distance[0]);
     // Kept between carbons (ring_scratch_): ring_sp3() never runs inside itself.
     auto &skeleton = ring_scratch_.skeleton, &taken = ring_scratch_.taken;
