@@ -45,6 +45,7 @@
 #include <cstring>
 #include <map>
 #include <memory>
+#include <new>
 #include <optional>
 #include <string>
 #include <string_view>
@@ -591,27 +592,54 @@ class InlineList {
   static_assert(std::is_trivially_copyable_v<T>, "InlineList holds plain values only");
 
  public:
+  // Only the elements in use are copied, and the rest is never initialised:
+  // zeroing and copying all N cost more than the allocation saved.
+  InlineList() {}
+  InlineList(const InlineList &o) : spilled_(o.spilled_), size_(o.size_) {
+    if (spilled_.empty()) std::uninitialized_copy_n(o.local_, size_, local_);
+  }
+  InlineList &operator=(const InlineList &o) {
+    if (this != &o) {
+      spilled_ = o.spilled_;
+      size_ = o.size_;
+      if (spilled_.empty()) std::uninitialized_copy_n(o.local_, size_, local_);
+    }
+    return *this;
+  }
+  InlineList(InlineList &&o) noexcept : spilled_(std::move(o.spilled_)), size_(o.size_) {
+    if (spilled_.empty()) std::uninitialized_copy_n(o.local_, size_, local_);
+  }
+  InlineList &operator=(InlineList &&o) noexcept {
+    if (this != &o) {
+      spilled_ = std::move(o.spilled_);
+      size_ = o.size_;
+      if (spilled_.empty()) std::uninitialized_copy_n(o.local_, size_, local_);
+    }
+    return *this;
+  }
   std::size_t size() const { return size_; }
   bool empty() const { return size_ == 0; }
-  T *begin() { return spilled_.empty() ? local_.data() : spilled_.data(); }
+  T *begin() { return spilled_.empty() ? local_ : spilled_.data(); }
   T *end() { return begin() + size_; }
-  const T *begin() const { return spilled_.empty() ? local_.data() : spilled_.data(); }
+  const T *begin() const { return spilled_.empty() ? local_ : spilled_.data(); }
   const T *end() const { return begin() + size_; }
   const T &operator[](std::size_t i) const { return begin()[i]; }
   void push_back(const T &v) {
     if (spilled_.empty()) {
       if (size_ < N) {
-        local_[size_++] = v;
+        ::new (static_cast<void *>(local_ + size_++)) T(v);
         return;
       }
-      spilled_.assign(local_.begin(), local_.end());
+      spilled_.assign(local_, local_ + N);
     }
     spilled_.push_back(v);
     ++size_;
   }
 
  private:
-  std::array<T, N> local_{};
+  union {
+    T local_[N];  // the first size_ in use, unless spilled
+  };
   std::vector<T> spilled_;  // all elements once there are more than N
   std::size_t size_ = 0;
 };
@@ -742,8 +770,8 @@ class Sum {
  private:
   struct Term {
     std::string_view role, id;
-    double ppm = 0;
-    int count = 0;
+    double ppm;
+    int count;
   };
   std::string_view scheme_;
   std::array<char, 48> own_scheme_{};  // ring_scheme(), own_scheme_size_ characters
