@@ -977,6 +977,8 @@ class C13Increments final : public ShiftSource {
       query_ = &q;
       hetero_matches_.clear();
       hetero_cover_.clear();
+      hetero_set_of_.clear();
+      hetero_sets_.clear();
       benzene_rings_.clear();
       answered_.assign(t.molecule().heavy_atom_count(), -1);
       sp3_chains_.clear();
@@ -1003,10 +1005,34 @@ class C13Increments final : public ShiftSource {
     hetero_matches_.resize(tab_.hetero.size());
     const std::size_t atoms = t.molecule().atom_count();
     hetero_cover_.assign(tab_.hetero.size() * atoms, 0);
+    hetero_set_of_.resize(tab_.hetero.size());
+    hetero_sets_.resize(tab_.hetero.size());
     for (std::size_t i = 0; i < tab_.hetero.size(); ++i) {
       hetero_matches_[i] = all_matches(tab_.hetero[i].ring, t);
       for (const auto &map : hetero_matches_[i])
         for (auto a : map) hetero_cover_[i * atoms + a] = 1;
+    }
+  }
+  // The atom sets of the mappings of parent ring `ring`, distinct and in
+  // ascending order (hetero_sets_), and per mapping the number of its set
+  // (hetero_set_of_): found once per molecule, when a carbon first asks, so
+  // that hetero() groups the mappings of every carbon by number.
+  void number_hetero_sets(std::size_t ring) const {
+    const auto &maps = hetero_matches_[ring];
+    auto &set_of = hetero_set_of_[ring];
+    if (set_of.size() == maps.size()) return;
+    auto &sets = hetero_sets_[ring];
+    for (const auto &map : maps) {
+      sets.push_back(map);
+      std::sort(sets.back().begin(), sets.back().end());
+    }
+    std::sort(sets.begin(), sets.end());
+    sets.erase(std::unique(sets.begin(), sets.end()), sets.end());
+    auto &set = hetero_set_scratch_;
+    for (const auto &map : maps) {
+      set.assign(map.begin(), map.end());
+      std::sort(set.begin(), set.end());
+      set_of.push_back(static_cast<std::uint32_t>(std::lower_bound(sets.begin(), sets.end(), set) - sets.begin()));
     }
   }
   // Does some mapping of parent ring `ring` contain atom k?
@@ -1214,16 +1240,16 @@ class C13Increments final : public ShiftSource {
       // All mappings of the parent ring that contain k, grouped by atom set,
       // the sets in ascending order (a carbon lies in one or two). The
       // mappings stay in the molecule's list.
-      struct Group {
-        std::vector<std::uint32_t> set;
-        std::vector<const std::vector<std::uint32_t> *> maps;
-      };
-      std::vector<Group> by_set;
       // The mappings with pattern atom p on k, in the order a search
       // anchored there visits them (SmartsPattern::search_order), taken
-      // from the molecule's mappings found once.
+      // from the molecule's mappings found once; each with the number of
+      // its atom set (find_hetero_matches()).
       const auto &all = hetero_matches(t, ri);
+      number_hetero_sets(ri);
+      const auto &set_of = hetero_set_of_[ri];
       auto &anchored = hetero_anchored_;  // kept between carbons
+      auto &visited = hetero_visited_;    // kept between carbons: (set, mapping) in visiting order
+      visited.clear();
       for (std::size_t p = 0; p < n; ++p) {
         anchored.clear();
         for (const auto &map : all)
@@ -1234,19 +1260,22 @@ class C13Increments final : public ShiftSource {
             if ((*x)[q] != (*y)[q]) return (*x)[q] < (*y)[q];
           return false;
         });
-        for (const auto *mp : anchored) {
-          auto set = *mp;
-          std::sort(set.begin(), set.end());
-          auto group = std::find_if(by_set.begin(), by_set.end(), [&](const Group &g) { return g.set == set; });
-          if (group == by_set.end()) group = by_set.insert(by_set.end(), Group{std::move(set), {}});
-          auto &maps = group->maps;
-          if (std::none_of(maps.begin(), maps.end(), [&](const auto *x) { return *x == *mp; })) maps.push_back(mp);
-        }
+        for (const auto *mp : anchored) visited.emplace_back(set_of[static_cast<std::size_t>(mp - all.data())], mp);
       }
-      std::sort(by_set.begin(), by_set.end(), [](const Group &a, const Group &b) { return a.set < b.set; });
-      for (const auto &group : by_set) {
-        const auto &set = group.set;
-        const auto &maps = group.maps;
+      // The sets in ascending order, each with its mappings in visiting
+      // order, a mapping once.
+      auto &set_numbers = hetero_set_numbers_;  // kept between carbons
+      set_numbers.clear();
+      for (const auto &v : visited) set_numbers.push_back(v.first);
+      std::sort(set_numbers.begin(), set_numbers.end());
+      set_numbers.erase(std::unique(set_numbers.begin(), set_numbers.end()), set_numbers.end());
+      for (const auto set_number : set_numbers) {
+        const auto &set = hetero_sets_[ri][set_number];
+        auto &maps = hetero_group_maps_;  // kept between carbons
+        maps.clear();
+        for (const auto &v : visited)
+          if (v.first == set_number && std::none_of(maps.begin(), maps.end(), [&](const auto *x) { return *x == *v.second; }))
+            maps.push_back(v.second);
         auto &skeleton = hetero_skeleton_;  // kept between carbons
         skeleton.assign(m.atom_count(), false);
         for (auto a : set) skeleton[a] = true;
@@ -1992,6 +2021,14 @@ class C13Increments final : public ShiftSource {
   mutable std::vector<int> hetero_ring_dist_;
   mutable std::vector<std::size_t> hetero_queue_;
   mutable std::vector<const std::vector<std::uint32_t> *> hetero_anchored_;
+  mutable std::vector<std::pair<std::uint32_t, const std::vector<std::uint32_t> *>> hetero_visited_;
+  mutable std::vector<std::uint32_t> hetero_set_numbers_;
+  mutable std::vector<const std::vector<std::uint32_t> *> hetero_group_maps_;
+  // Per hetero ring: the distinct atom sets of its mappings in ascending
+  // order, and per mapping the number of its set (find_hetero_matches()).
+  mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_sets_;
+  mutable std::vector<std::vector<std::uint32_t>> hetero_set_of_;
+  mutable std::vector<std::uint32_t> hetero_set_scratch_;
   // Scratch of sp3_additive(), which never runs inside itself.
   struct Sp3Scratch {
     std::vector<bool> skeleton, taken;
