@@ -45,9 +45,11 @@
 #include <cstring>
 #include <map>
 #include <memory>
+#include <new>
 #include <optional>
 #include <string>
 #include <string_view>
+#include <type_traits>
 #include <unordered_map>
 #include <utility>
 #include <vector>
@@ -582,17 +584,84 @@ void read_solvent(const Tables &tables, C13Tables &out) {
 }
 
 // ---------------------------------------------------------------------------
+// A list whose first N elements live in the object itself. A Sum is built
+// for nearly every carbon and holds a handful of terms: in a std::vector
+// each Sum cost an allocation or two.
+template <class T, std::size_t N>
+class InlineList {
+  static_assert(std::is_trivially_copyable_v<T>, "InlineList holds plain values only");
+
+ public:
+  // Only the elements in use are copied, and the rest is never initialised:
+  // zeroing and copying all N cost more than the allocation saved.
+  InlineList() {}
+  InlineList(const InlineList &o) : spilled_(o.spilled_), size_(o.size_) {
+    if (spilled_.empty()) std::uninitialized_copy_n(o.local_, size_, local_);
+  }
+  InlineList &operator=(const InlineList &o) {
+    if (this != &o) {
+      spilled_ = o.spilled_;
+      size_ = o.size_;
+      if (spilled_.empty()) std::uninitialized_copy_n(o.local_, size_, local_);
+    }
+    return *this;
+  }
+  InlineList(InlineList &&o) noexcept : spilled_(std::move(o.spilled_)), size_(o.size_) {
+    if (spilled_.empty()) std::uninitialized_copy_n(o.local_, size_, local_);
+  }
+  InlineList &operator=(InlineList &&o) noexcept {
+    if (this != &o) {
+      spilled_ = std::move(o.spilled_);
+      size_ = o.size_;
+      if (spilled_.empty()) std::uninitialized_copy_n(o.local_, size_, local_);
+    }
+    return *this;
+  }
+  std::size_t size() const { return size_; }
+  bool empty() const { return size_ == 0; }
+  T *begin() { return spilled_.empty() ? local_ : spilled_.data(); }
+  T *end() { return begin() + size_; }
+  const T *begin() const { return spilled_.empty() ? local_ : spilled_.data(); }
+  const T *end() const { return begin() + size_; }
+  const T &operator[](std::size_t i) const { return begin()[i]; }
+  void push_back(const T &v) {
+    if (spilled_.empty()) {
+      if (size_ < N) {
+        ::new (static_cast<void *>(local_ + size_++)) T(v);
+        return;
+      }
+      spilled_.assign(local_, local_ + N);
+    }
+    spilled_.push_back(v);
+    ++size_;
+  }
+
+ private:
+  union {
+    T local_[N];  // the first size_ in use, unless spilled
+  };
+  std::vector<T> spilled_;  // all elements once there are more than N
+  std::size_t size_ = 0;
+};
+
 // A sum of increments, kept term by term for the method text. Every carbon
 // builds one, so its texts are views, not copies: the scheme, base label,
 // roles, ids and reasons given to it are literals or live in the parsed
 // tables and outlive it; a scheme text made for the carbon is kept in it
-// (scheme_text()).
+// (ring_scheme()).
 
 class Sum {
  public:
-  Sum(std::string_view scheme, Spread spread) : scheme_(scheme), spread_(spread) { terms_.reserve(12); }
-  void scheme_text(std::string text) {
-    own_scheme_ = std::move(text);
+  Sum(std::string_view scheme, Spread spread) : scheme_(scheme), spread_(spread) {}
+  // The scheme text "sp3 ring increments (<n>-membered ring)", written in
+  // place: a string per ring carbon cost an allocation.
+  void ring_scheme(int ring_size) {
+    constexpr std::string_view head = "sp3 ring increments (", tail = "-membered ring)";
+    char *p = own_scheme_.data();
+    std::memcpy(p, head.data(), head.size());
+    p = std::to_chars(p + head.size(), p + head.size() + 12, ring_size).ptr;
+    std::memcpy(p, tail.data(), tail.size());
+    own_scheme_size_ = static_cast<std::size_t>(p + tail.size() - own_scheme_.data());
     scheme_ = {};
   }
   void base(std::string_view label, double ppm) {
@@ -639,12 +708,24 @@ class Sum {
   }
   bool in_scope() const { return outside_.empty(); }
   std::string method() const {
-    const std::string_view scheme = own_scheme_.empty() ? scheme_ : std::string_view(own_scheme_);
-    // The sum is written into a buffer of sufficient size, cut to length
-    // after: appending piece by piece cost more than the arithmetic.
+    const std::string_view scheme =
+        own_scheme_size_ ? std::string_view(own_scheme_.data(), own_scheme_size_) : scheme_;
+    constexpr std::string_view unvalued_head = " (", unvalued_tail = " without a published value taken as 0)",
+                               unvalued_one = " delta position", unvalued_many = " delta positions",
+                               outside_head = " (outside the rule's tested scope: ", outside_sep = "; ",
+                               outside_tail = ")";
+    // The text is written into a buffer of sufficient size, cut to length
+    // after: appending piece by piece cost more than the arithmetic, and
+    // every append that outgrew the string a new allocation.
     constexpr std::size_t kNumber = 32;  // a count with " x ", or a ppm value
     std::size_t bound = scheme.size() + 2 + base_label_.size() + 3 + kNumber;
     for (const auto &t : terms_) bound += 3 + 2 * kNumber + t.role.size() + 1 + t.id.size() + 1;
+    if (unvalued_)
+      bound += unvalued_head.size() + kNumber + unvalued_many.size() + unvalued_tail.size();
+    if (!outside_.empty()) {
+      bound += outside_head.size() + outside_tail.size();
+      for (const auto why : outside_) bound += outside_sep.size() + why.size();
+    }
     std::string s(bound, '\0');
     char *p = s.data();
     auto put = [&](std::string_view text) {
@@ -668,17 +749,21 @@ class Sum {
     }
     put(" = ");
     p = put_ppm(p, ppm());
-    s.resize(static_cast<std::size_t>(p - s.data()));
-    if (unvalued_) s += fmt::format(" ({} delta position{} without a published value taken as 0)", unvalued_,
-                                    unvalued_ == 1 ? "" : "s");
-    if (!outside_.empty()) {
-      s += " (outside the rule's tested scope: ";
-      for (std::size_t i = 0; i < outside_.size(); ++i) {
-        if (i) s += "; ";
-        s += outside_[i];
-      }
-      s += ")";
+    if (unvalued_) {
+      put(unvalued_head);
+      p = std::to_chars(p, p + kNumber, unvalued_).ptr;
+      put(unvalued_ == 1 ? unvalued_one : unvalued_many);
+      put(unvalued_tail);
     }
+    if (!outside_.empty()) {
+      put(outside_head);
+      for (std::size_t i = 0; i < outside_.size(); ++i) {
+        if (i) put(outside_sep);
+        put(outside_[i]);
+      }
+      put(outside_tail);
+    }
+    s.resize(static_cast<std::size_t>(p - s.data()));
     return s;
   }
 
@@ -689,14 +774,15 @@ class Sum {
     int count;
   };
   std::string_view scheme_;
-  std::string own_scheme_;
+  std::array<char, 48> own_scheme_{};  // ring_scheme(), own_scheme_size_ characters
+  std::size_t own_scheme_size_ = 0;
   Spread spread_;
   std::string_view base_label_;
   double base_ppm_ = 0;
-  std::vector<Term> terms_;
+  InlineList<Term, 16> terms_;
   int unvalued_ = 0;
   int carried_ = 0;
-  std::vector<std::string_view> outside_;
+  InlineList<std::string_view, 4> outside_;
 };
 
 // Why a scheme passes a carbon on, spelt out only when a reason is asked for
@@ -891,6 +977,8 @@ class C13Increments final : public ShiftSource {
       query_ = &q;
       hetero_matches_.clear();
       hetero_cover_.clear();
+      hetero_set_of_.clear();
+      hetero_sets_.clear();
       benzene_rings_.clear();
       answered_.assign(t.molecule().heavy_atom_count(), -1);
       sp3_chains_.clear();
@@ -917,10 +1005,34 @@ class C13Increments final : public ShiftSource {
     hetero_matches_.resize(tab_.hetero.size());
     const std::size_t atoms = t.molecule().atom_count();
     hetero_cover_.assign(tab_.hetero.size() * atoms, 0);
+    hetero_set_of_.resize(tab_.hetero.size());
+    hetero_sets_.resize(tab_.hetero.size());
     for (std::size_t i = 0; i < tab_.hetero.size(); ++i) {
       hetero_matches_[i] = all_matches(tab_.hetero[i].ring, t);
       for (const auto &map : hetero_matches_[i])
         for (auto a : map) hetero_cover_[i * atoms + a] = 1;
+    }
+  }
+  // The atom sets of the mappings of parent ring `ring`, distinct and in
+  // ascending order (hetero_sets_), and per mapping the number of its set
+  // (hetero_set_of_): found once per molecule, when a carbon first asks, so
+  // that hetero() groups the mappings of every carbon by number.
+  void number_hetero_sets(std::size_t ring) const {
+    const auto &maps = hetero_matches_[ring];
+    auto &set_of = hetero_set_of_[ring];
+    if (set_of.size() == maps.size()) return;
+    auto &sets = hetero_sets_[ring];
+    for (const auto &map : maps) {
+      sets.push_back(map);
+      std::sort(sets.back().begin(), sets.back().end());
+    }
+    std::sort(sets.begin(), sets.end());
+    sets.erase(std::unique(sets.begin(), sets.end()), sets.end());
+    auto &set = hetero_set_scratch_;
+    for (const auto &map : maps) {
+      set.assign(map.begin(), map.end());
+      std::sort(set.begin(), set.end());
+      set_of.push_back(static_cast<std::uint32_t>(std::lower_bound(sets.begin(), sets.end(), set) - sets.begin()));
     }
   }
   // Does some mapping of parent ring `ring` contain atom k?
@@ -1128,16 +1240,16 @@ class C13Increments final : public ShiftSource {
       // All mappings of the parent ring that contain k, grouped by atom set,
       // the sets in ascending order (a carbon lies in one or two). The
       // mappings stay in the molecule's list.
-      struct Group {
-        std::vector<std::uint32_t> set;
-        std::vector<const std::vector<std::uint32_t> *> maps;
-      };
-      std::vector<Group> by_set;
       // The mappings with pattern atom p on k, in the order a search
       // anchored there visits them (SmartsPattern::search_order), taken
-      // from the molecule's mappings found once.
+      // from the molecule's mappings found once; each with the number of
+      // its atom set (find_hetero_matches()).
       const auto &all = hetero_matches(t, ri);
+      number_hetero_sets(ri);
+      const auto &set_of = hetero_set_of_[ri];
       auto &anchored = hetero_anchored_;  // kept between carbons
+      auto &visited = hetero_visited_;    // kept between carbons: (set, mapping) in visiting order
+      visited.clear();
       for (std::size_t p = 0; p < n; ++p) {
         anchored.clear();
         for (const auto &map : all)
@@ -1148,19 +1260,22 @@ class C13Increments final : public ShiftSource {
             if ((*x)[q] != (*y)[q]) return (*x)[q] < (*y)[q];
           return false;
         });
-        for (const auto *mp : anchored) {
-          auto set = *mp;
-          std::sort(set.begin(), set.end());
-          auto group = std::find_if(by_set.begin(), by_set.end(), [&](const Group &g) { return g.set == set; });
-          if (group == by_set.end()) group = by_set.insert(by_set.end(), Group{std::move(set), {}});
-          auto &maps = group->maps;
-          if (std::none_of(maps.begin(), maps.end(), [&](const auto *x) { return *x == *mp; })) maps.push_back(mp);
-        }
+        for (const auto *mp : anchored) visited.emplace_back(set_of[static_cast<std::size_t>(mp - all.data())], mp);
       }
-      std::sort(by_set.begin(), by_set.end(), [](const Group &a, const Group &b) { return a.set < b.set; });
-      for (const auto &group : by_set) {
-        const auto &set = group.set;
-        const auto &maps = group.maps;
+      // The sets in ascending order, each with its mappings in visiting
+      // order, a mapping once.
+      auto &set_numbers = hetero_set_numbers_;  // kept between carbons
+      set_numbers.clear();
+      for (const auto &v : visited) set_numbers.push_back(v.first);
+      std::sort(set_numbers.begin(), set_numbers.end());
+      set_numbers.erase(std::unique(set_numbers.begin(), set_numbers.end()), set_numbers.end());
+      for (const auto set_number : set_numbers) {
+        const auto &set = hetero_sets_[ri][set_number];
+        auto &maps = hetero_group_maps_;  // kept between carbons
+        maps.clear();
+        for (const auto &v : visited)
+          if (v.first == set_number && std::none_of(maps.begin(), maps.end(), [&](const auto *x) { return *x == *v.second; }))
+            maps.push_back(v.second);
         auto &skeleton = hetero_skeleton_;  // kept between carbons
         skeleton.assign(m.atom_count(), false);
         for (auto a : set) skeleton[a] = true;
@@ -1628,7 +1743,7 @@ class C13Increments final : public ShiftSource {
     const auto *base = sized(rt.bases, [](const RingRow &) { return true; });
     if (!base) return fail(why, fmt::format("no base value for a {}-membered ring", n));
     Sum s({}, kRingSpread);
-    s.scheme_text("sp3 ring increments (" + std::to_string(n) + "-membered ring)");
+    s.ring_scheme(n);
     s.base(base->base_label, *base->by_distance[0]);
     // Kept between carbons (ring_scratch_): ring_sp3() never runs inside itself.
     auto &skeleton = ring_scratch_.skeleton, &taken = ring_scratch_.taken;
@@ -1906,6 +2021,14 @@ class C13Increments final : public ShiftSource {
   mutable std::vector<int> hetero_ring_dist_;
   mutable std::vector<std::size_t> hetero_queue_;
   mutable std::vector<const std::vector<std::uint32_t> *> hetero_anchored_;
+  mutable std::vector<std::pair<std::uint32_t, const std::vector<std::uint32_t> *>> hetero_visited_;
+  mutable std::vector<std::uint32_t> hetero_set_numbers_;
+  mutable std::vector<const std::vector<std::uint32_t> *> hetero_group_maps_;
+  // Per hetero ring: the distinct atom sets of its mappings in ascending
+  // order, and per mapping the number of its set (find_hetero_matches()).
+  mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_sets_;
+  mutable std::vector<std::vector<std::uint32_t>> hetero_set_of_;
+  mutable std::vector<std::uint32_t> hetero_set_scratch_;
   // Scratch of sp3_additive(), which never runs inside itself.
   struct Sp3Scratch {
     std::vector<bool> skeleton, taken;
