@@ -1423,8 +1423,12 @@ std::size_t match_at_unscreened(const SmartsPattern &p, const SmartsTarget &t, s
   // them before setting up a search.
   const auto &impl = p.impl();
   const AtomFilter &root = impl.filters[0];
+  // The molecule-wide element count test is cheaper than the neighbour
+  // scan and fails for most table rows that pass the root atom (rows for
+  // elements the molecule lacks), so it comes first.
+  const bool several = impl.atom_expr.size() > 1;
   if (t.facts(atom).atomic_number == 1 || (atom < excluded.size() && excluded[atom]) || !passes(root, t, atom) ||
-      !root_neighbours_possible(impl, t, atom, excluded))
+      (several && !feasible(impl, t)) || !root_neighbours_possible(impl, t, atom, excluded))
     return 0;
   auto root_holds = [&] { return root.exact || eval(impl, impl.atom_expr[0], t, atom, -1); };
   // The root's expression depends on the root atom alone, not on how the
@@ -1432,8 +1436,7 @@ std::size_t match_at_unscreened(const SmartsPattern &p, const SmartsTarget &t, s
   // part in it is a search of its own, while the rest of a row mostly
   // fails at the first neighbour: such a root is tested last.
   if (!root.costly && !root_holds()) return 0;
-  if (impl.atom_expr.size() > 1 &&
-      (!feasible(impl, t) || !Search(impl, t, 0, static_cast<std::int64_t>(atom), true, nullptr, excluded, nullptr).run()))
+  if (several && !Search(impl, t, 0, static_cast<std::int64_t>(atom), true, nullptr, excluded, nullptr).run())
     return 0;
   if (root.costly && !root_holds()) return 0;
   return p.atom_count();
