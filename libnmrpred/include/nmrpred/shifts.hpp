@@ -92,6 +92,25 @@ NMRPRED_API std::vector<Shift> predict_h1(const Molecule &molecule, const AtomCl
                                           const ShiftOptions &options = {},
                                           std::vector<std::string> *warnings = nullptr);
 
+/// The shifts of both nuclei of one molecule. Plain value.
+struct C13H1Shifts {
+  std::vector<Shift> c13;  ///< as predict_c13() gives them
+  std::vector<Shift> h1;   ///< as predict_h1() gives them
+  friend bool operator==(const C13H1Shifts &a, const C13H1Shifts &b) { return a.c13 == b.c13 && a.h1 == b.h1; }
+};
+
+/// predict_c13() and predict_h1() in one call, for hosts that want both
+/// nuclei: the same values, methods and references, and the same warnings
+/// in the same order (13C first), as the two calls one after the other.
+/// The two share the work that depends on the molecule alone (ring
+/// perception and pattern matching for the increment rules, the HOSE
+/// environments of the lookups), which makes this cheaper than the two
+/// calls. Throws what the two calls throw: ArgumentError if `classes`
+/// belongs to another molecule or for an unknown solvent.
+NMRPRED_API C13H1Shifts predict_c13_h1(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                                       const ShiftOptions &options = {},
+                                       std::vector<std::string> *warnings = nullptr);
+
 }  // namespace nmrpred
 
 #endif

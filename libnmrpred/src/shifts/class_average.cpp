@@ -141,9 +141,13 @@ class H1ClassAverage final : public ShiftSource {
   }
 };
 
+// Stateless and immutable: one object of each serves every call.
+const C13ClassAverage kC13ClassAverage{};
+const H1ClassAverage kH1ClassAverage{};
+
 }  // namespace
 
-std::unique_ptr<ShiftSource> make_c13_class_average() { return std::make_unique<C13ClassAverage>(); }
-std::unique_ptr<ShiftSource> make_h1_class_average() { return std::make_unique<H1ClassAverage>(); }
+const ShiftSource &c13_class_average() { return kC13ClassAverage; }
+const ShiftSource &h1_class_average() { return kH1ClassAverage; }
 
 }  // namespace nmrpred::detail

@@ -8,8 +8,11 @@
 #include <algorithm>
 #include <limits>
 #include <cmath>
+#include <iterator>
 #include <memory>
+#include <optional>
 #include <string>
+#include <string_view>
 
 #include <fmt/format.h>
 
@@ -23,6 +26,8 @@ namespace nmrpred {
 namespace detail {
 
 namespace {
+
+using namespace std::string_view_literals;
 
 // Lookup settings per sphere level k (index k). The support is the number of
 // distinct reference compounds needed to accept a level; the prior is the
@@ -114,13 +119,21 @@ constexpr int kC13WeakSphere = 4;
 // the same filter lost 4 carbons net, so sphere 1 keeps all residuals.
 constexpr int kC13SameSchemeSphere = 2;
 
-// v as fmt's "{:+.1f}" writes it (the sign is v's, so -0.04 gives -0.0).
-std::string signed_1(double v) {
+// Appends v as fmt's "{:+.1f}" writes it (the sign is v's, so -0.04 gives
+// -0.0).
+void append_signed_1(std::string &s, double v) {
   std::uint64_t tenths = 0;
-  if (!scaled_magnitude(v, 10, tenths)) return fmt::format("{:+.1f}", v);
-  std::string s;
+  if (!scaled_magnitude(v, 10, tenths)) {
+    fmt::format_to(std::back_inserter(s), "{:+.1f}", v);
+    return;
+  }
   append_scaled(s, std::signbit(v) ? '-' : '+', tenths, 1);
-  return s;
+}
+
+// Appends n in decimal as std::to_string writes it, without the temporary.
+void append_int(std::string &s, int n) {
+  const fmt::format_int text(n);
+  s.append(text.data(), text.size());
 }
 
 class ReferenceLookup final : public ShiftSource {
@@ -203,20 +216,20 @@ class ReferenceLookup final : public ShiftSource {
           // room for the longest tail below so the appends do not regrow it.
           m = std::move(inc_method);
           m.reserve(m.size() + 192);
-          m += "; corrected by ";
-          m += signed_1(correction);
+          m += "; corrected by "sv;
+          append_signed_1(m, correction);
           const bool shrunk = correction != residual.median;
-          m += shrunk ? " ppm: the median residual of " : " ppm, the median residual of ";
-          m += std::to_string(residual.n);
-          m += user_ ? " user" : " built-in";
-          m += residual.n == 1 ? " reference compound" : " reference compounds";
-          m += " at HOSE sphere ";
-          m += std::to_string(k);
+          m += shrunk ? " ppm: the median residual of "sv : " ppm, the median residual of "sv;
+          append_int(m, residual.n);
+          m += user_ ? " user"sv : " built-in"sv;
+          m += residual.n == 1 ? " reference compound"sv : " reference compounds"sv;
+          m += " at HOSE sphere "sv;
+          append_int(m, k);
           if (shrunk) {
-            m += " (";
-            m += signed_1(residual.median);
-            m += " ppm), shrunk and capped as at every sphere up to ";
-            m += std::to_string(kShallowSphere);
+            m += " ("sv;
+            append_signed_1(m, residual.median);
+            m += " ppm), shrunk and capped as at every sphere up to "sv;
+            append_int(m, kShallowSphere);
           }
           fill_common(out, q, b, excluded, k);
           split_pair(out, q, atom, k, excluded);
@@ -233,12 +246,14 @@ class ReferenceLookup final : public ShiftSource {
       out.uncertainty_ppm = std::sqrt(levels[k].prior_ppm * levels[k].prior_ppm + shift.sd * shift.sd);
       // Plain appends rather than the formatter, as above.
       std::string &m = out.method;
-      m = user_ ? "user" : "built-in";
-      m += " reference lookup, HOSE sphere ";
-      m += std::to_string(k);
-      m += ", ";
-      m += std::to_string(shift.n);
-      m += shift.n == 1 ? " compound" : " compounds";
+      // Room for the whole text at once (it grew twice from the short start).
+      m.reserve(64);
+      m = user_ ? "user"sv : "built-in"sv;
+      m += " reference lookup, HOSE sphere "sv;
+      append_int(m, k);
+      m += ", "sv;
+      append_int(m, shift.n);
+      m += shift.n == 1 ? " compound"sv : " compounds"sv;
       fill_common(out, q, b, excluded, k);
       split_pair(out, q, atom, k, excluded);
       return true;
@@ -269,26 +284,34 @@ class ReferenceLookup final : public ShiftSource {
       const Bucket *found =
           index.levels[user_ ? kUser : kBuiltin][kIndexH1][j].find(q.keys(atom).key[static_cast<std::size_t>(j)]);
       if (!found) continue;
-      std::vector<double> hv;
+      std::vector<double> &hv = q.scratch_values;
+      hv.clear();
       for (const auto &cv : found->compounds)
         if (std::isfinite(cv.pair_half_ppm) &&
             std::find(excluded.begin(), excluded.end(), cv.compound) == excluded.end())
           hv.push_back(cv.pair_half_ppm);
-      pair = summarise(std::move(hv));
+      pair = summarise_in_place(hv);
       from = j;
     }
-    if (pair.n == 0 || pair.median <= 0) {
-      out.method += pair.n == 0 ? "; diastereotopic CH2: no matched reference lists such a pair, both protons share "
-                                  "the value"
-                                : fmt::format("; diastereotopic CH2: the references matched at HOSE sphere {} give "
-                                              "one value for both protons (median of {} compound{}), both share it",
-                                              from, pair.n, pair.n == 1 ? "" : "s");
+    // Formatted straight onto the method, which grows once, rather than
+    // through a temporary string.
+    auto to_method = std::back_inserter(out.method);
+    out.method.reserve(out.method.size() + 256);
+    if (pair.n == 0) {
+      out.method += "; diastereotopic CH2: no matched reference lists such a pair, both protons share the value";
+      return;
+    }
+    if (pair.median <= 0) {
+      fmt::format_to(to_method,
+                     "; diastereotopic CH2: the references matched at HOSE sphere {} give one value for both "
+                     "protons (median of {} compound{}), both share it",
+                     from, pair.n, pair.n == 1 ? "" : "s");
       return;
     }
     const bool lower = q.classes.chemical[atom] < q.classes.chemical[static_cast<std::size_t>(partner)];
     out.ppm += lower ? -pair.median : pair.median;
     out.uncertainty_ppm = std::hypot(out.uncertainty_ppm, pair.median);
-    out.method += fmt::format("; diastereotopic CH2: {}{:.2f} ppm, half the median difference of the pair over {} "
+    fmt::format_to(to_method, "; diastereotopic CH2: {}{:.2f} ppm, half the median difference of the pair over {} "
                               "reference compound{} matched at HOSE sphere {}; the {} value by class order (which "
                               "proton is which is not known)",
                               lower ? "-" : "+", pair.median, pair.n, pair.n == 1 ? "" : "s", from,
@@ -375,7 +398,8 @@ const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking, const Refe
   if (keyed_.empty()) {
     keyed_.assign(molecule_.atom_count(), false);
     for (std::size_t a = 0; a < molecule_.atom_count(); ++a)
-      keyed_[a] = lookup_keyed(molecule_, a) && (molecule_.atom(a).atomic_number == 6) == (asking == Nucleus::C13);
+      keyed_[a] = lookup_keyed(molecule_, a) &&
+                  (both_nuclei_ || (molecule_.atom(a).atomic_number == 6) == (asking == Nucleus::C13));
     keys_ = hose_keys(molecule_, classes_, keyed_, &index);
   }
   if (!keyed_.at(atom)) {
@@ -398,7 +422,8 @@ std::vector<Shift> run_sources(const ShiftQuery &q, const SourceList &sources,
   constexpr auto kNotYet = std::numeric_limits<std::size_t>::max();
   std::size_t classes = 0;
   for (auto atom : atoms) classes = std::max<std::size_t>(classes, q.classes.chemical[atom] + std::size_t{1});
-  std::vector<std::size_t> by_class(classes, kNotYet);
+  std::vector<std::size_t> &by_class = q.scratch_positions;
+  by_class.assign(classes, kNotYet);
   for (auto atom : atoms) {
     const std::size_t cls = q.classes.chemical[atom];
     if (by_class[cls] != kNotYet) {
@@ -438,15 +463,20 @@ std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &c
   if (options.use_increments)
     increments = detail::make_c13_increments(tables.c13_increments(), tables, options.solvent);
   const ReferenceLookup user(true, increments.get()), builtin(false, increments.get());
-  const auto fallback = detail::make_c13_class_average();
+  const ShiftSource &fallback = detail::c13_class_average();
   SourceList sources;
   if (options.use_reference) {
     sources.push_back(&user);
     sources.push_back(&builtin);
   }
   if (increments) sources.push_back(increments.get());
-  sources.push_back(fallback.get());
+  sources.push_back(&fallback);
+  // Counted first: grown one carbon at a time the list reallocated a few
+  // times per molecule.
+  std::size_t carbons = 0;
+  for (std::size_t a = 0; a < molecule.heavy_atom_count(); ++a) carbons += molecule.atom(a).atomic_number == 6;
   std::vector<std::size_t> atoms;
+  atoms.reserve(carbons);
   for (std::size_t a = 0; a < molecule.heavy_atom_count(); ++a)
     if (molecule.atom(a).atomic_number == 6) atoms.push_back(a);
   if (warnings)
@@ -467,14 +497,21 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
                                  const MoleculeFacts *shared) {
   if (classes.chemical.size() != molecule.atom_count())
     throw ArgumentError("predict_h1: classes belong to another molecule");
-  const Solvent solvent = find_solvent(tables, options.solvent);
+  std::optional<Solvent> owned_solvent;
+  const Solvent &solvent = find_solvent_ref(tables, options.solvent, owned_solvent);
   detail::ShiftQuery q(molecule, classes, tables, options, Nucleus::H1, shared);
   std::unique_ptr<detail::ShiftSource> increments;
   if (options.use_increments) increments = detail::make_h1_increments(tables.h1_increments(), solvent.name);
   const ReferenceLookup user(true, increments.get()), builtin(false, increments.get());
-  const auto fallback = detail::make_h1_class_average();
+  const ShiftSource &fallback = detail::h1_class_average();
   SourceList sources;
+  // Counted first, as the carbons of predict_c13_on.
+  std::size_t labile_count = 0;
+  for (std::size_t a = molecule.heavy_atom_count(); a < molecule.atom_count(); ++a)
+    labile_count += proton_kind(molecule, a) == ProtonKind::Labile;
   std::vector<std::size_t> carbon_bound, labile;
+  carbon_bound.reserve(molecule.atom_count() - molecule.heavy_atom_count() - labile_count);
+  labile.reserve(labile_count);
   for (std::size_t a = molecule.heavy_atom_count(); a < molecule.atom_count(); ++a) {
     const auto kind = proton_kind(molecule, a);
     if (kind != ProtonKind::Silent) (kind == ProtonKind::Labile ? labile : carbon_bound).push_back(a);
@@ -484,7 +521,7 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
     sources.push_back(&builtin);
   }
   if (increments) sources.push_back(increments.get());
-  sources.push_back(fallback.get());
+  sources.push_back(&fallback);
   auto out = detail::run_sources(q, sources, carbon_bound, warnings);
   for (auto &s : out)
     if (s.source != ShiftSourceKind::Reference && s.source != ShiftSourceKind::UserReference &&
@@ -495,8 +532,9 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   // the special-proton table (or a class average) with a wide uncertainty.
   SourceList labile_sources;
   if (increments) labile_sources.push_back(increments.get());
-  labile_sources.push_back(fallback.get());
+  labile_sources.push_back(&fallback);
   auto labile_shifts = detail::run_sources(q, labile_sources, labile, nullptr);
+  if (labile_shifts.empty()) return out;
   for (auto &s : labile_shifts) {
     const bool from_table = s.source == ShiftSourceKind::Increments;
     s.exchangeable = true;
@@ -507,10 +545,15 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
                       : fmt::format("; in {} the signal may be broad or absent, and its position depends on "
                                     "concentration, water and temperature",
                                     solvent.name);
-    out.push_back(std::move(s));
   }
-  std::sort(out.begin(), out.end(), [](const Shift &a, const Shift &b) { return a.atom < b.atom; });
-  return out;
+  // Both lists ascend by atom and no atom is in both: merged, each Shift
+  // moves once (sorting the concatenation moved them many times).
+  std::vector<Shift> merged;
+  merged.reserve(out.size() + labile_shifts.size());
+  std::merge(std::make_move_iterator(out.begin()), std::make_move_iterator(out.end()),
+             std::make_move_iterator(labile_shifts.begin()), std::make_move_iterator(labile_shifts.end()),
+             std::back_inserter(merged), [](const Shift &a, const Shift &b) { return a.atom < b.atom; });
+  return merged;
 }
 
 }  // namespace detail
@@ -523,6 +566,18 @@ std::vector<Shift> predict_c13(const Molecule &molecule, const AtomClasses &clas
 std::vector<Shift> predict_h1(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
                               const ShiftOptions &options, std::vector<std::string> *warnings) {
   return detail::predict_h1_on(molecule, classes, tables, options, warnings, nullptr);
+}
+
+C13H1Shifts predict_c13_h1(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
+                           const ShiftOptions &options, std::vector<std::string> *warnings) {
+  if (classes.chemical.size() != molecule.atom_count())
+    throw ArgumentError("predict_c13_h1: classes belong to another molecule");
+  detail::MoleculeFacts facts(molecule, classes);
+  facts.expect_both_nuclei();
+  C13H1Shifts out;
+  out.c13 = detail::predict_c13_on(molecule, classes, tables, options, warnings, &facts);
+  out.h1 = detail::predict_h1_on(molecule, classes, tables, options, warnings, &facts);
+  return out;
 }
 
 }  // namespace nmrpred

@@ -55,7 +55,9 @@ std::uint64_t hose_key(const std::vector<std::string> &parts, int spheres) {
   return h;
 }
 
-Summary summarise(std::vector<double> v) {
+Summary summarise(std::vector<double> v) { return summarise_in_place(v); }
+
+Summary summarise_in_place(std::vector<double> &v) {
   Summary s;
   s.n = static_cast<int>(v.size());
   if (v.empty()) return s;

@@ -123,6 +123,8 @@ std::vector<std::string> hose_codes_and_keys(const Molecule &m, const AtomClasse
 
 // Median and sample standard deviation about it.
 Summary summarise(std::vector<double> values);
+// The same, sorting `values` in place (for callers that reuse the buffer).
+Summary summarise_in_place(std::vector<double> &values);
 
 // A set of 64-bit hash values, filled once and then only asked: open
 // addressing with linear probing, at most half full, so most questions read

@@ -3,10 +3,12 @@
 
 #include <algorithm>
 #include <cctype>
+#include <optional>
 
 #include <fmt/format.h>
 
 #include "shifts/increments_h1.hpp"
+#include "shifts/sources.hpp"
 #include "tables/parse.hpp"
 
 namespace nmrpred {
@@ -113,10 +115,19 @@ std::vector<Solvent> solvents(const Tables &tables) {
 }
 
 Solvent find_solvent(const Tables &tables, std::string_view name) {
+  std::optional<Solvent> owned;
+  return detail::find_solvent_ref(tables, name, owned);
+}
+
+namespace detail {
+
+const Solvent &find_solvent_ref(const Tables &tables, std::string_view name, std::optional<Solvent> &owned) {
   // Every prediction looks its solvent up: use the list parsed with the
   // tables rather than reading solvents.tsv again.
-  if (const auto *parsed = parsed_list(tables)) return detail::find_listed_solvent(*parsed, name);
-  return detail::find_listed_solvent(solvents(tables), name);
+  if (const auto *parsed = parsed_list(tables)) return find_listed_solvent(*parsed, name);
+  return owned.emplace(find_listed_solvent(solvents(tables), name));
 }
+
+}  // namespace detail
 
 }  // namespace nmrpred

@@ -7,6 +7,7 @@
 #include <cstdint>
 #include <array>
 #include <memory>
+#include <optional>
 #include <string>
 #include <string_view>
 #include <unordered_map>
@@ -15,6 +16,7 @@
 #include <nmrpred/classes.hpp>
 #include <nmrpred/molecule.hpp>
 #include <nmrpred/shifts.hpp>
+#include <nmrpred/solvents.hpp>
 #include <nmrpred/tables.hpp>
 
 #include "graph/smarts.hpp"
@@ -38,6 +40,11 @@ class MoleculeFacts {
   // Takes the keys made by the caller (hose_codes_and_keys) for `index` of
   // the atoms flagged in `keyed` (all atoms when it is empty).
   void set_all_keys(std::vector<HoseKeys> keys, std::vector<bool> keyed, const ReferenceIndex &index);
+  // Both nuclei will ask: the first keys() call keys every atom a lookup may
+  // ask about (lookup_keyed()) in one pass. Keying the carbons first and the
+  // protons on the second nucleus's first call re-keyed every atom, more
+  // than either nucleus alone costs.
+  void expect_both_nuclei() { both_nuclei_ = true; }
 
  private:
   const Molecule &molecule_;
@@ -47,6 +54,7 @@ class MoleculeFacts {
   mutable std::vector<HoseKeys> keys_;
   // The index keys_ stop for (see hose_keys()).
   mutable const ReferenceIndex *keyed_for_ = nullptr;
+  bool both_nuclei_ = false;
 };
 
 // Everything a source may look at for one molecule.
@@ -72,15 +80,21 @@ class ShiftQuery {
   const std::vector<std::uint32_t> &excluded_compounds() const;
   // What the increment rules match their patterns against.
   const SmartsTarget &smarts_target() const { return facts().smarts_target(); }
+  // Scratch the engine reuses across the atoms and runs of one query, so
+  // that each atom does not allocate its own (contents unspecified between
+  // uses).
+  mutable std::vector<std::size_t> scratch_positions;
+  mutable std::vector<double> scratch_values;
 
  private:
   const MoleculeFacts &facts() const {
     if (shared_) return *shared_;
-    if (!own_) own_ = std::make_unique<MoleculeFacts>(molecule, classes);
+    if (!own_) own_.emplace(molecule, classes);
     return *own_;
   }
   const MoleculeFacts *shared_ = nullptr;
-  mutable std::unique_ptr<MoleculeFacts> own_;
+  // In place rather than on the heap: most queries make their own.
+  mutable std::optional<MoleculeFacts> own_;
   mutable bool constitution_done_ = false;
   mutable std::uint64_t constitution_ = 0;
   mutable bool excluded_done_ = false;
@@ -95,8 +109,9 @@ class ShiftSource {
   virtual bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const = 0;
 };
 
-std::unique_ptr<ShiftSource> make_c13_class_average();
-std::unique_ptr<ShiftSource> make_h1_class_average();
+// The last-resort sources (class averages); stateless, any thread.
+const ShiftSource &c13_class_average();
+const ShiftSource &h1_class_average();
 // 13C increment rules (tables/increments/c13_*.tsv, applied as
 // tables/FORMAT.md describes). parse_c13_increment_tables reads and compiles
 // the tables (about 0.5 ms, more than the rest of a small molecule's
@@ -122,6 +137,11 @@ std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &c
 std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
                                  const ShiftOptions &options, std::vector<std::string> *warnings,
                                  const MoleculeFacts *shared);
+
+// find_solvent(tables, name) (nmrpred/solvents.hpp) without a copy: the
+// solvent in the list parsed with the tables, or, for tables without one, in
+// `owned`, which is filled. Errors as find_solvent().
+const Solvent &find_solvent_ref(const Tables &tables, std::string_view name, std::optional<Solvent> &owned);
 
 // Whether the reference lookups of predict_c13_on / predict_h1_on may ask
 // for the HOSE keys of `atom`: carbons, and protons that are neither on O, N
