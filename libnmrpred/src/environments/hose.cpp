@@ -39,10 +39,13 @@
 #include <fmt/format.h>
 
 #include "shifts/reference_index.hpp"
+#include "support/small_vec.hpp"
 
 namespace nmrpred {
 
 namespace {
+
+using detail::SmallVec;
 
 // A written entry is one 32-bit token whose numeric order is the priority
 // order (smaller = written first): bond rank << 24 | kind << 12 | charge rank.
@@ -228,96 +231,6 @@ int compare_groups(const std::uint32_t *a, std::size_t na, const std::uint32_t *
   if (na == nb) return 0;
   return na > nb ? -1 : 1;
 }
-
-// Growable array of trivially copyable values with room for N of them inside
-// the object. One hose_codes() call on a typical molecule then runs without
-// allocating scratch: the engine is one heap block, and its buffers only
-// reach for the heap on unusually large regions. Not copyable or movable
-// (it may point into itself).
-template <class T, std::size_t N>
-class SmallVec {
-  static_assert(std::is_trivially_copyable_v<T>, "SmallVec holds plain values only");
-
- public:
-  SmallVec() = default;
-  SmallVec(const SmallVec &) = delete;
-  SmallVec &operator=(const SmallVec &) = delete;
-  ~SmallVec() {
-    if (data_ != inline_) ::operator delete(data_);
-  }
-
-  T *data() noexcept { return data_; }
-  const T *data() const noexcept { return data_; }
-  T *begin() noexcept { return data_; }
-  T *end() noexcept { return data_ + size_; }
-  const T *begin() const noexcept { return data_; }
-  const T *end() const noexcept { return data_ + size_; }
-  std::size_t size() const noexcept { return size_; }
-  bool empty() const noexcept { return size_ == 0; }
-  T &operator[](std::size_t i) noexcept { return data_[i]; }
-  const T &operator[](std::size_t i) const noexcept { return data_[i]; }
-  T &back() noexcept { return data_[size_ - 1]; }
-  const T &back() const noexcept { return data_[size_ - 1]; }
-
-  void clear() noexcept { size_ = 0; }
-  // After reserve(n) and writing the elements through data(): n <= capacity.
-  void set_size(std::size_t n) noexcept { size_ = n; }
-  void reserve(std::size_t n) {
-    if (n > cap_) grow(n);
-  }
-  void resize(std::size_t n) { resize(n, T{}); }
-  void resize(std::size_t n, const T &value) {
-    if (n > size_) {
-      const T v = value;
-      reserve(n);
-      std::fill(data_ + size_, data_ + n, v);
-    }
-    size_ = n;
-  }
-  void assign(std::size_t n, const T &value) {
-    const T v = value;
-    reserve(n);
-    std::fill_n(data_, n, v);
-    size_ = n;
-  }
-  void push_back(const T &value) {
-    if (size_ == cap_) {
-      const T v = value;  // `value` may live in the old buffer
-      grow(2 * cap_);
-      data_[size_++] = v;
-      return;
-    }
-    data_[size_++] = value;
-  }
-  void append(const T *first, const T *last) {
-    const auto n = static_cast<std::size_t>(last - first);
-    if (size_ + n > cap_) {
-      // The range may lie in the old buffer: copy it through the new one.
-      T *old = data_;
-      const std::size_t at = static_cast<std::size_t>(first - old);
-      const bool inside = first >= old && first < old + size_;
-      grow(std::max(2 * cap_, size_ + n));
-      if (inside) first = data_ + at;
-    }
-    std::copy_n(first, n, data_ + size_);
-    size_ += n;
-  }
-
- private:
-  void grow(std::size_t n) {
-    n = std::max({n, 2 * cap_, 2 * N});
-    T *fresh = static_cast<T *>(::operator new(n * sizeof(T)));
-    std::copy_n(data_, size_, fresh);
-    if (data_ != inline_) ::operator delete(data_);
-    data_ = fresh;
-    cap_ = n;
-  }
-
-  T inline_[N];
-  T *data_ = inline_;
-  std::size_t size_ = 0;
-  std::size_t cap_ = N;
-};
 
 struct Neighbour {
   std::uint32_t atom;

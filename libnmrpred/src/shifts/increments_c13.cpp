@@ -60,6 +60,7 @@
 #include "shifts/increment_support.hpp"
 #include "shifts/increments_h1.hpp"
 #include "shifts/sources.hpp"
+#include "support/small_vec.hpp"
 #include "tables/parse.hpp"
 
 namespace nmrpred::detail {
@@ -584,66 +585,6 @@ void read_solvent(const Tables &tables, C13Tables &out) {
 }
 
 // ---------------------------------------------------------------------------
-// A list whose first N elements live in the object itself. A Sum is built
-// for nearly every carbon and holds a handful of terms: in a std::vector
-// each Sum cost an allocation or two.
-template <class T, std::size_t N>
-class InlineList {
-  static_assert(std::is_trivially_copyable_v<T>, "InlineList holds plain values only");
-
- public:
-  // Only the elements in use are copied, and the rest is never initialised:
-  // zeroing and copying all N cost more than the allocation saved.
-  InlineList() {}
-  InlineList(const InlineList &o) : spilled_(o.spilled_), size_(o.size_) {
-    if (spilled_.empty()) std::uninitialized_copy_n(o.local_, size_, local_);
-  }
-  InlineList &operator=(const InlineList &o) {
-    if (this != &o) {
-      spilled_ = o.spilled_;
-      size_ = o.size_;
-      if (spilled_.empty()) std::uninitialized_copy_n(o.local_, size_, local_);
-    }
-    return *this;
-  }
-  InlineList(InlineList &&o) noexcept : spilled_(std::move(o.spilled_)), size_(o.size_) {
-    if (spilled_.empty()) std::uninitialized_copy_n(o.local_, size_, local_);
-  }
-  InlineList &operator=(InlineList &&o) noexcept {
-    if (this != &o) {
-      spilled_ = std::move(o.spilled_);
-      size_ = o.size_;
-      if (spilled_.empty()) std::uninitialized_copy_n(o.local_, size_, local_);
-    }
-    return *this;
-  }
-  std::size_t size() const { return size_; }
-  bool empty() const { return size_ == 0; }
-  T *begin() { return spilled_.empty() ? local_ : spilled_.data(); }
-  T *end() { return begin() + size_; }
-  const T *begin() const { return spilled_.empty() ? local_ : spilled_.data(); }
-  const T *end() const { return begin() + size_; }
-  const T &operator[](std::size_t i) const { return begin()[i]; }
-  void push_back(const T &v) {
-    if (spilled_.empty()) {
-      if (size_ < N) {
-        ::new (static_cast<void *>(local_ + size_++)) T(v);
-        return;
-      }
-      spilled_.assign(local_, local_ + N);
-    }
-    spilled_.push_back(v);
-    ++size_;
-  }
-
- private:
-  union {
-    T local_[N];  // the first size_ in use, unless spilled
-  };
-  std::vector<T> spilled_;  // all elements once there are more than N
-  std::size_t size_ = 0;
-};
-
 // A sum of increments, kept term by term for the method text. Every carbon
 // builds one, so its texts are views, not copies: the scheme, base label,
 // roles, ids and reasons given to it are literals or live in the parsed
@@ -779,10 +720,10 @@ class Sum {
   Spread spread_;
   std::string_view base_label_;
   double base_ppm_ = 0;
-  InlineList<Term, 16> terms_;
+  SmallVec<Term, 16> terms_;
   int unvalued_ = 0;
   int carried_ = 0;
-  InlineList<std::string_view, 4> outside_;
+  SmallVec<std::string_view, 4> outside_;
 };
 
 // Why a scheme passes a carbon on, spelt out only when a reason is asked for

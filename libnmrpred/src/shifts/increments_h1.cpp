@@ -36,6 +36,7 @@
 #include "graph/smarts.hpp"
 #include "shifts/fixed_text.hpp"
 #include "shifts/increment_support.hpp"
+#include "support/small_vec.hpp"
 #include "tables/parse.hpp"
 
 namespace nmrpred::detail {
@@ -532,41 +533,6 @@ void read_solvents(const Tables &tables, H1IncrementTables &out) {
   out.solvents = nmrpred::solvents(tables);
   out.has_solvents = true;
 }
-
-// ---------------------------------------------------------------------------
-// Up to N values kept in place; more move the lot to the heap. The lists
-// below (a sum's terms, a ring's groups, the atoms a search flags) rarely
-// exceed N, and a vector each cost an allocation per proton. The place is
-// left uninitialised: most lists hold a few values.
-template <class T, std::size_t N>
-class SmallVec {
-  static_assert(std::is_trivially_copyable_v<T> && std::is_trivially_destructible_v<T>);
-
- public:
-  void push_back(T v) {
-    if (heap_.empty() && size_ < N) {
-      inline_.items[size_++] = v;
-      return;
-    }
-    if (heap_.empty()) heap_.assign(inline_.items, inline_.items + size_);
-    heap_.push_back(v);
-    ++size_;
-  }
-  std::size_t size() const { return size_; }
-  bool empty() const { return size_ == 0; }
-  const T *begin() const { return heap_.empty() ? inline_.items : heap_.data(); }
-  const T *end() const { return begin() + size_; }
-  const T &operator[](std::size_t i) const { return begin()[i]; }
-  T &operator[](std::size_t i) { return heap_.empty() ? inline_.items[i] : heap_[i]; }
-
- private:
-  union Place {
-    Place() {}  // leaves the items uninitialised
-    T items[N];
-  } inline_;
-  std::vector<T> heap_;
-  std::size_t size_ = 0;
-};
 
 // ---------------------------------------------------------------------------
 // A sum of increments, kept term by term for the method text. The scheme
