@@ -30,6 +30,7 @@
 #include <iterator>
 #include <sstream>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include <fmt/format.h>
@@ -54,6 +55,14 @@ struct Timing {
 
 // Runs `work` `repeats` times and summarises the wall times. The result of
 // each run is folded into `sink` so the optimiser cannot drop the work.
+// Median, min and max of a non-empty list of values.
+Timing summarise(std::vector<double> t) {
+  std::sort(t.begin(), t.end());
+  const std::size_t n = t.size();
+  const double median = n % 2 ? t[n / 2] : 0.5 * (t[n / 2 - 1] + t[n / 2]);
+  return {median, t.front(), t.back()};
+}
+
 Timing time_it(int repeats, const std::function<std::size_t()> &work, std::size_t &sink) {
   std::vector<double> t;
   for (int r = 0; r < repeats; ++r) {
@@ -61,10 +70,7 @@ Timing time_it(int repeats, const std::function<std::size_t()> &work, std::size_
     sink += work();
     t.push_back(std::chrono::duration<double>(Clock::now() - start).count());
   }
-  std::sort(t.begin(), t.end());
-  const std::size_t n = t.size();
-  const double median = n % 2 ? t[n / 2] : 0.5 * (t[n / 2 - 1] + t[n / 2]);
-  return {median, t.front(), t.back()};
+  return summarise(std::move(t));
 }
 
 void report(const char *stage, std::size_t molecules, const Timing &t) {
@@ -255,6 +261,49 @@ int main(int argc, char **argv) {
     for (int k = 0; k < 3; ++k)
       if (!by_size[k].empty())
         report(labels[k], by_size[k].size(), time_it(repeats, [&] { return classes_and_codes(by_size[k]); }, sink));
+
+    // The speed bars of the shift predictions are ratios to reading. On a
+    // shared virtual machine the speed drifts by tens of per cent within
+    // minutes, so stages timed one after the other can disagree by more than
+    // the ratio's margin. Here each repeat times reading, classes + 13C and
+    // classes + 13C + 1H back to back (in an order that rotates with the
+    // repeat), and the ratios are taken within the repeat.
+    {
+      const std::function<std::size_t()> stages[3] = {
+          [&] { return nmrpred::read_records(text, nmrpred::Format::Smiles).size(); },
+          [&] {
+            std::size_t n = 0;
+            for (const auto &m : molecules) n += nmrpred::predict_c13(m, nmrpred::compute_classes(m), *tables).size();
+            return n;
+          },
+          [&] {
+            std::size_t n = 0;
+            for (const auto &m : molecules) {
+              const auto shifts = nmrpred::predict_c13_h1(m, nmrpred::compute_classes(m), *tables);
+              n += shifts.c13.size() + shifts.h1.size();
+            }
+            return n;
+          }};
+      std::vector<double> c13_ratio, both_ratio;
+      for (int r = 0; r < repeats; ++r) {
+        double t[3] = {};
+        for (int i = 0; i < 3; ++i) {
+          const int stage = (i + r) % 3;
+          const auto start = Clock::now();
+          sink += stages[stage]();
+          t[stage] = std::chrono::duration<double>(Clock::now() - start).count();
+        }
+        c13_ratio.push_back(t[1] / t[0]);
+        both_ratio.push_back(t[2] / t[0]);
+      }
+      auto summary = [](std::vector<double> v) {
+        const Timing t = summarise(std::move(v));
+        return fmt::format("{:>6.2f}x {:>6.2f}x {:>6.2f}x", t.median_s, t.min_s, t.max_s);
+      };
+      fmt::print("\nratio to reading, both timed in the same repeat ({} repeats; median, min, max):\n", repeats);
+      fmt::print("  {:<40} {}\n", "classes + 13C shifts / read", summary(c13_ratio));
+      fmt::print("  {:<40} {}\n", "classes + 13C + 1H shifts / read", summary(both_ratio));
+    }
 
     fmt::print("\n(checksum {})\n", sink % 1000003);
   } catch (const std::exception &e) {
