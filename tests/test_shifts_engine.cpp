@@ -175,6 +175,34 @@ TEST_SUITE("shifts_engine") {
     CHECK(corrected);
   }
 
+  TEST_CASE("1H shifts come one per proton in atom order, those on O, N and S marked exchangeable") {
+    // The contract of predict_h1 (include/nmrpred/shifts.hpp). The
+    // exchangeable and the carbon-bound protons are estimated in separate
+    // runs, so molecules whose two kinds alternate along the proton list
+    // test that they come back in atom order; deuterium gives no 1H signal
+    // and has no entry. That protons on O, N and S exchange is common
+    // practice.
+    for (const char *smiles : {"OC(N)CS", "NCC(O)C(=O)O", "[2H]OCC(N)c1ccc(O)cc1S", "OCCO", "CC"}) {
+      INFO(smiles);
+      const auto m = nmrpred::read_molecule(smiles, nmrpred::Format::Smiles);
+      const auto classes = nmrpred::compute_classes(m);
+      const auto shifts = nmrpred::predict_h1(m, classes, tables());
+      std::vector<std::size_t> want;
+      for (std::size_t a = m.heavy_atom_count(); a < m.atom_count(); ++a)
+        if (m.atom(a).isotope <= 1) want.push_back(a);
+      REQUIRE(shifts.size() == want.size());
+      for (std::size_t i = 0; i < shifts.size(); ++i) {
+        const auto &s = shifts[i];
+        CHECK(s.atom == want[i]);
+        const auto z = m.atom(static_cast<std::size_t>(m.attached_to(s.atom))).atomic_number;
+        CHECK(s.exchangeable == (z == 7 || z == 8 || z == 16));
+        CHECK(!s.method.empty());
+        for (const auto &t : shifts)
+          if (classes.chemical[t.atom] == classes.chemical[s.atom]) CHECK(t.ppm == s.ppm);
+      }
+    }
+  }
+
   TEST_CASE("predict_c13_h1 gives exactly what predict_c13 and predict_h1 give, field by field") {
     // The contract of predict_c13_h1 (include/nmrpred/shifts.hpp): the two
     // single calls are the reference. Molecules: the NCI sample rows of

@@ -148,15 +148,17 @@ class ReferenceLookup final : public ShiftSource {
     const auto &excluded = q.excluded_compounds();
     const auto &keys = q.keys(atom);
     // The query's own increment value, computed only once a match needs it.
+    // Its text goes into the scratch, whose room the atoms reuse: a
+    // Shift of its own cost an allocation per looked-up atom.
     bool inc_done = false;
     double inc_q = std::numeric_limits<double>::quiet_NaN();
-    std::string inc_method;
+    std::string_view inc_method;
     auto query_increments = [&] {
       if (inc_done) return;
-      Shift s;
+      Shift &s = q.scratch().shift;
       if (increments_->estimate(q, atom, s)) {
         inc_q = s.ppm;
-        inc_method = std::move(s.method);
+        inc_method = s.method;
       }
       inc_done = true;
     };
@@ -212,10 +214,10 @@ class ReferenceLookup final : public ShiftSource {
           out.uncertainty_ppm = std::sqrt(prior * prior + residual.sd * residual.sd);
           // Plain appends rather than the formatter: one of these per looked-up atom.
           std::string &m = out.method;
-          // The rule's text is not needed after this: taken, not copied, with
-          // room for the longest tail below so the appends do not regrow it.
-          m = std::move(inc_method);
-          m.reserve(m.size() + 192);
+          // Room for the rule's text and the longest tail below at once, so
+          // that the appends do not regrow it.
+          m.reserve(inc_method.size() + 192);
+          m = inc_method;
           m += "; corrected by "sv;
           append_signed_1(m, correction);
           const bool shrunk = correction != residual.median;
@@ -284,7 +286,7 @@ class ReferenceLookup final : public ShiftSource {
       const Bucket *found =
           index.levels[user_ ? kUser : kBuiltin][kIndexH1][j].find(q.keys(atom).key[static_cast<std::size_t>(j)]);
       if (!found) continue;
-      std::vector<double> &hv = q.scratch_values;
+      std::vector<double> &hv = q.scratch().values;
       hv.clear();
       for (const auto &cv : found->compounds)
         if (std::isfinite(cv.pair_half_ppm) &&
@@ -413,16 +415,14 @@ bool lookup_keyed(const Molecule &m, std::size_t atom) {
   return m.atom(atom).atomic_number == 6 || (m.is_hydrogen(atom) && proton_kind(m, atom) == ProtonKind::CarbonBound);
 }
 
-std::vector<Shift> run_sources(const ShiftQuery &q, const SourceList &sources,
-                               const std::vector<std::size_t> &atoms, std::vector<std::string> *warnings) {
-  std::vector<Shift> out;
-  out.reserve(atoms.size());
+void run_sources(const ShiftQuery &q, const SourceList &sources, AtomRange atoms, std::vector<std::string> *warnings,
+                 std::vector<Shift> &out) {
   // Chemical class -> position in out of its first atom; sized once rather
   // than grown class by class.
   constexpr auto kNotYet = std::numeric_limits<std::size_t>::max();
   std::size_t classes = 0;
   for (auto atom : atoms) classes = std::max<std::size_t>(classes, q.classes.chemical[atom] + std::size_t{1});
-  std::vector<std::size_t> &by_class = q.scratch_positions;
+  std::vector<std::size_t> &by_class = q.scratch().positions;
   by_class.assign(classes, kNotYet);
   for (auto atom : atoms) {
     const std::size_t cls = q.classes.chemical[atom];
@@ -450,7 +450,6 @@ std::vector<Shift> run_sources(const ShiftQuery &q, const SourceList &sources,
     by_class[cls] = out.size();
     out.push_back(std::move(s));
   }
-  return out;
 }
 
 std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
@@ -471,12 +470,11 @@ std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &c
   }
   if (increments) sources.push_back(increments.get());
   sources.push_back(&fallback);
-  // Counted first: grown one carbon at a time the list reallocated a few
-  // times per molecule.
-  std::size_t carbons = 0;
-  for (std::size_t a = 0; a < molecule.heavy_atom_count(); ++a) carbons += molecule.atom(a).atomic_number == 6;
+  // Room for every heavy atom: grown one carbon at a time the list
+  // reallocated a few times per molecule, and counting the carbons first
+  // walked the atoms twice.
   std::vector<std::size_t> atoms;
-  atoms.reserve(carbons);
+  atoms.reserve(molecule.heavy_atom_count());
   for (std::size_t a = 0; a < molecule.heavy_atom_count(); ++a)
     if (molecule.atom(a).atomic_number == 6) atoms.push_back(a);
   if (warnings)
@@ -489,7 +487,10 @@ std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &c
                                         a));
         break;
       }
-  return detail::run_sources(q, sources, atoms, warnings);
+  std::vector<Shift> out;
+  out.reserve(atoms.size());
+  detail::run_sources(q, sources, AtomRange{atoms.data(), atoms.data() + atoms.size()}, warnings, out);
+  return out;
 }
 
 std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
@@ -505,24 +506,28 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   const ReferenceLookup user(true, increments.get()), builtin(false, increments.get());
   const ShiftSource &fallback = detail::h1_class_average();
   SourceList sources;
-  // Counted first, as the carbons of predict_c13_on.
-  std::size_t labile_count = 0;
-  for (std::size_t a = molecule.heavy_atom_count(); a < molecule.atom_count(); ++a)
-    labile_count += proton_kind(molecule, a) == ProtonKind::Labile;
-  std::vector<std::size_t> carbon_bound, labile;
-  carbon_bound.reserve(molecule.atom_count() - molecule.heavy_atom_count() - labile_count);
-  labile.reserve(labile_count);
+  // One pass over the hydrogens into one list sized by their count: the
+  // carbon-bound protons from the front, the exchangeable ones from the back
+  // (then turned round), each run ascending by atom.
+  std::vector<std::size_t> protons(molecule.atom_count() - molecule.heavy_atom_count());
+  std::size_t *const first = protons.data();
+  std::size_t *carbon_bound_end = first, *labile_begin = first + protons.size();
   for (std::size_t a = molecule.heavy_atom_count(); a < molecule.atom_count(); ++a) {
     const auto kind = proton_kind(molecule, a);
-    if (kind != ProtonKind::Silent) (kind == ProtonKind::Labile ? labile : carbon_bound).push_back(a);
+    if (kind == ProtonKind::CarbonBound) *carbon_bound_end++ = a;
+    else if (kind == ProtonKind::Labile) *--labile_begin = a;
   }
+  std::reverse(labile_begin, first + protons.size());
   if (options.use_reference) {
     sources.push_back(&user);
     sources.push_back(&builtin);
   }
   if (increments) sources.push_back(increments.get());
   sources.push_back(&fallback);
-  auto out = detail::run_sources(q, sources, carbon_bound, warnings);
+  const std::size_t *const last = first + protons.size();
+  std::vector<Shift> out;
+  out.reserve(static_cast<std::size_t>((carbon_bound_end - first) + (last - labile_begin)));
+  detail::run_sources(q, sources, AtomRange{first, carbon_bound_end}, warnings, out);
   for (auto &s : out)
     if (s.source != ShiftSourceKind::Reference && s.source != ShiftSourceKind::UserReference &&
         detail::diastereotopic_partner(molecule, classes, s.atom) >= 0)
@@ -533,27 +538,30 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   SourceList labile_sources;
   if (increments) labile_sources.push_back(increments.get());
   labile_sources.push_back(&fallback);
-  auto labile_shifts = detail::run_sources(q, labile_sources, labile, nullptr);
-  if (labile_shifts.empty()) return out;
-  for (auto &s : labile_shifts) {
-    const bool from_table = s.source == ShiftSourceKind::Increments;
-    s.exchangeable = true;
-    s.observed = !solvent.exchanges_labile_protons;
-    if (!from_table)
-      s.method += solvent.exchanges_labile_protons
-                      ? fmt::format("; exchanges with {} and gives no signal", solvent.name)
-                      : fmt::format("; in {} the signal may be broad or absent, and its position depends on "
-                                    "concentration, water and temperature",
-                                    solvent.name);
+  if (labile_begin == last) return out;
+  // Appended behind the carbon-bound protons, whose positions the run does
+  // not touch, then merged in place: both parts ascend by atom and no atom
+  // is in both (one list rather than two and their merged copy).
+  const auto carbon_bound_count = static_cast<std::ptrdiff_t>(out.size());
+  detail::run_sources(q, labile_sources, AtomRange{labile_begin, last}, nullptr, out);
+  for (auto s = out.begin() + carbon_bound_count; s != out.end(); ++s) {
+    const bool from_table = s->source == ShiftSourceKind::Increments;
+    s->exchangeable = true;
+    s->observed = !solvent.exchanges_labile_protons;
+    if (!from_table) {
+      auto to_method = std::back_inserter(s->method);
+      if (solvent.exchanges_labile_protons)
+        fmt::format_to(to_method, "; exchanges with {} and gives no signal", solvent.name);
+      else
+        fmt::format_to(to_method,
+                       "; in {} the signal may be broad or absent, and its position depends on "
+                       "concentration, water and temperature",
+                       solvent.name);
+    }
   }
-  // Both lists ascend by atom and no atom is in both: merged, each Shift
-  // moves once (sorting the concatenation moved them many times).
-  std::vector<Shift> merged;
-  merged.reserve(out.size() + labile_shifts.size());
-  std::merge(std::make_move_iterator(out.begin()), std::make_move_iterator(out.end()),
-             std::make_move_iterator(labile_shifts.begin()), std::make_move_iterator(labile_shifts.end()),
-             std::back_inserter(merged), [](const Shift &a, const Shift &b) { return a.atom < b.atom; });
-  return merged;
+  std::inplace_merge(out.begin(), out.begin() + carbon_bound_count, out.end(),
+                     [](const Shift &a, const Shift &b) { return a.atom < b.atom; });
+  return out;
 }
 
 }  // namespace detail
@@ -572,8 +580,7 @@ C13H1Shifts predict_c13_h1(const Molecule &molecule, const AtomClasses &classes,
                            const ShiftOptions &options, std::vector<std::string> *warnings) {
   if (classes.chemical.size() != molecule.atom_count())
     throw ArgumentError("predict_c13_h1: classes belong to another molecule");
-  detail::MoleculeFacts facts(molecule, classes);
-  facts.expect_both_nuclei();
+  const detail::MoleculeFacts facts(molecule, classes, true);
   C13H1Shifts out;
   out.c13 = detail::predict_c13_on(molecule, classes, tables, options, warnings, &facts);
   out.h1 = detail::predict_h1_on(molecule, classes, tables, options, warnings, &facts);

@@ -31,7 +31,12 @@ namespace nmrpred::detail {
 // thread at a time. The molecule and classes must outlive it.
 class MoleculeFacts {
  public:
-  MoleculeFacts(const Molecule &m, const AtomClasses &c) : molecule_(m), classes_(c) {}
+  // `both_nuclei`: both nuclei will ask, so the first keys() call keys every
+  // atom a lookup may ask about (lookup_keyed()) in one pass. Keying the
+  // carbons first and the protons on the second nucleus's first call
+  // re-keyed every atom, more than either nucleus alone costs.
+  MoleculeFacts(const Molecule &m, const AtomClasses &c, bool both_nuclei = false)
+      : molecule_(m), classes_(c), both_nuclei_(both_nuclei) {}
   const SmartsTarget &smarts_target() const;
   // The atom's HoseKeys for lookups in `index`. The first call keys the
   // atoms of the asking nucleus in one pass (unless set_all_keys() came first
@@ -40,11 +45,15 @@ class MoleculeFacts {
   // Takes the keys made by the caller (hose_codes_and_keys) for `index` of
   // the atoms flagged in `keyed` (all atoms when it is empty).
   void set_all_keys(std::vector<HoseKeys> keys, std::vector<bool> keyed, const ReferenceIndex &index);
-  // Both nuclei will ask: the first keys() call keys every atom a lookup may
-  // ask about (lookup_keyed()) in one pass. Keying the carbons first and the
-  // protons on the second nucleus's first call re-keyed every atom, more
-  // than either nucleus alone costs.
-  void expect_both_nuclei() { both_nuclei_ = true; }
+  // Scratch the engine reuses across the atoms and the runs of both nuclei,
+  // so that neither each atom nor each nucleus allocates its own (contents
+  // unspecified between uses).
+  struct Scratch {
+    std::vector<std::size_t> positions;
+    std::vector<double> values;
+    Shift shift;
+  };
+  Scratch &scratch() const { return scratch_; }
 
  private:
   const Molecule &molecule_;
@@ -54,7 +63,8 @@ class MoleculeFacts {
   mutable std::vector<HoseKeys> keys_;
   // The index keys_ stop for (see hose_keys()).
   mutable const ReferenceIndex *keyed_for_ = nullptr;
-  bool both_nuclei_ = false;
+  const bool both_nuclei_;
+  mutable Scratch scratch_;
 };
 
 // Everything a source may look at for one molecule.
@@ -80,11 +90,8 @@ class ShiftQuery {
   const std::vector<std::uint32_t> &excluded_compounds() const;
   // What the increment rules match their patterns against.
   const SmartsTarget &smarts_target() const { return facts().smarts_target(); }
-  // Scratch the engine reuses across the atoms and runs of one query, so
-  // that each atom does not allocate its own (contents unspecified between
-  // uses).
-  mutable std::vector<std::size_t> scratch_positions;
-  mutable std::vector<double> scratch_values;
+  // The scratch of the molecule's facts (MoleculeFacts::scratch).
+  MoleculeFacts::Scratch &scratch() const { return facts().scratch(); }
 
  private:
   const MoleculeFacts &facts() const {
@@ -161,8 +168,24 @@ class SourceList {
   std::size_t n_ = 0;
 };
 
-std::vector<Shift> run_sources(const ShiftQuery &q, const SourceList &sources,
-                               const std::vector<std::size_t> &atoms, std::vector<std::string> *warnings);
+// Atoms of one run of the engine, ascending: a part of a list the caller
+// owns.
+class AtomRange {
+ public:
+  AtomRange(const std::size_t *first, const std::size_t *last) : first_(first), last_(last) {}
+  const std::size_t *begin() const { return first_; }
+  const std::size_t *end() const { return last_; }
+
+ private:
+  const std::size_t *first_;
+  const std::size_t *last_;
+};
+
+// Asks `sources` in order for each atom of `atoms` and appends the shifts to
+// `out`; equivalent atoms (same chemical class) get a copy of the first
+// one's shift.
+void run_sources(const ShiftQuery &q, const SourceList &sources, AtomRange atoms, std::vector<std::string> *warnings,
+                 std::vector<Shift> &out);
 
 }  // namespace nmrpred::detail
 
