@@ -923,6 +923,8 @@ class C13Increments final : public ShiftSource {
       benzene_rings_.clear();
       answered_.assign(t.molecule().heavy_atom_count(), -1);
       sp3_chains_.clear();
+      sp3_rows_.clear();
+      sp3_carbons_.clear();
       // Only answers marked in answered_ are read, and estimate_anew() sets
       // every field estimate() reads: the old ones need no reset.
       if (answers_.size() < t.molecule().heavy_atom_count()) answers_.resize(t.molecule().heavy_atom_count());
@@ -963,17 +965,29 @@ class C13Increments final : public ShiftSource {
     auto &set_of = hetero_set_of_[ring];
     if (set_of.size() == maps.size()) return;
     auto &sets = hetero_sets_[ring];
+    // Each mapping's atoms sorted once, side by side (all mappings have the
+    // pattern's size), then the mappings ordered by that set: equal sets
+    // come together, ascending, and take one number.
+    const auto n = static_cast<std::ptrdiff_t>(maps.front().size());
+    auto &sorted = hetero_set_scratch_;
+    sorted.clear();
+    sorted.reserve(maps.size() * static_cast<std::size_t>(n));
     for (const auto &map : maps) {
-      sets.push_back(map);
-      std::sort(sets.back().begin(), sets.back().end());
+      sorted.insert(sorted.end(), map.begin(), map.end());
+      std::sort(sorted.end() - n, sorted.end());
     }
-    std::sort(sets.begin(), sets.end());
-    sets.erase(std::unique(sets.begin(), sets.end()), sets.end());
-    auto &set = hetero_set_scratch_;
-    for (const auto &map : maps) {
-      set.assign(map.begin(), map.end());
-      std::sort(set.begin(), set.end());
-      set_of.push_back(static_cast<std::uint32_t>(std::lower_bound(sets.begin(), sets.end(), set) - sets.begin()));
+    auto &by_set = hetero_set_order_;
+    by_set.resize(maps.size());
+    for (std::uint32_t i = 0; i < by_set.size(); ++i) by_set[i] = i;
+    auto set_at = [&](std::uint32_t i) { return sorted.begin() + static_cast<std::ptrdiff_t>(i) * n; };
+    std::sort(by_set.begin(), by_set.end(), [&](std::uint32_t x, std::uint32_t y) {
+      return std::lexicographical_compare(set_at(x), set_at(x) + n, set_at(y), set_at(y) + n);
+    });
+    set_of.resize(maps.size());
+    for (std::size_t j = 0; j < by_set.size(); ++j) {
+      const auto set = set_at(by_set[j]);
+      if (j == 0 || !std::equal(set, set + n, set_at(by_set[j - 1]))) sets.emplace_back(set, set + n);
+      set_of[by_set[j]] = static_cast<std::uint32_t>(sets.size() - 1);
     }
   }
   // Does some mapping of parent ring `ring` contain atom k?
@@ -1527,6 +1541,44 @@ class C13Increments final : public ShiftSource {
     return sp3_chains_;
   }
 
+  // The row of c13_sp3_substituent for substituent x of the additive or the
+  // parent scheme (find_row with `skeleton`). Both schemes call it with a
+  // skeleton of sp3 carbons only, and every sp3 carbon near x asks for x
+  // again with its own skeleton. A match that avoids more atoms also avoids
+  // fewer, so when the row found with nothing excluded also matches with
+  // every sp3 carbon excluded (a one-atom row on x, which is no sp3 carbon,
+  // always does), it is the row for any such skeleton (rows before it match
+  // for none); when none matches with nothing excluded, none matches at
+  // all. Both are found once per molecule and substituent; only a row that
+  // depends on the skeleton is searched per carbon.
+  const Sp3Row *sp3_row(const SmartsTarget &t, std::size_t x, const std::vector<bool> &skeleton, bool additive) const {
+    auto keep = [additive](const Sp3Row &r) { return r.additive == additive; };
+    if (sp3_rows_.empty()) sp3_rows_.assign(2 * t.molecule().heavy_atom_count(), kRowUnknown);
+    auto &row = sp3_rows_[2 * x + (additive ? 1 : 0)];
+    if (row == kRowUnknown) {
+      const auto *free = find_row(tab_.sp3, tab_.sp3_order, t, x, no_atoms_, keep);
+      if (!free) {
+        row = kRowNone;
+      } else if (free->smarts.atom_count() == 1 || match_at(free->smarts, t, x, sp3_carbons(t))) {
+        row = static_cast<std::int32_t>(free - tab_.sp3.data());
+      } else {
+        row = kRowDepends;
+      }
+    }
+    if (row >= 0) return &tab_.sp3[static_cast<std::size_t>(row)];
+    if (row == kRowNone) return nullptr;
+    return find_row(tab_.sp3, tab_.sp3_order, t, x, skeleton, keep);
+  }
+  // Every sp3 carbon of the molecule flagged, for sp3_row().
+  const std::vector<bool> &sp3_carbons(const SmartsTarget &t) const {
+    if (sp3_carbons_.empty()) {
+      const std::size_t n = t.molecule().heavy_atom_count();
+      sp3_carbons_.assign(n, false);
+      for (std::size_t a = 0; a < n; ++a) sp3_carbons_[a] = sp3(a);
+    }
+    return sp3_carbons_;
+  }
+
   // --- sp3: additive scheme -----------------------------------------------
   Result sp3_additive(const SmartsTarget &t, std::size_t k, std::string *why) const {
     const Molecule &m = t.molecule();
@@ -1583,8 +1635,7 @@ class C13Increments final : public ShiftSource {
             return;
           }
           if (dx > 4) return;  // beyond delta nothing counts
-          const auto *row =
-              find_row(tab_.sp3, tab_.sp3_order, t, x, skeleton, [](const Sp3Row &r) { return r.additive; });
+          const auto *row = sp3_row(t, x, skeleton, true);
           if (!row) {
             problem = reason(why, [&] { return fmt::format("no additive row for the substituent at {}", atom_label(m, x)); });
             return;
@@ -1915,7 +1966,7 @@ class C13Increments final : public ShiftSource {
       const bool internal = carbon_neighbours(c) >= 2;
       for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) {
         if (parent[x] || !problem.empty()) return;
-        const auto *row = find_row(tab_.sp3, tab_.sp3_order, t, x, parent, [](const Sp3Row &r) { return !r.additive; });
+        const auto *row = sp3_row(t, x, parent, false);
         if (!row) {
           if (pos <= 3) problem = reason(why, [&] { return fmt::format("no parent row for the substituent at {}", atom_label(m, x)); });
           else s.unvalued();
@@ -1957,6 +2008,12 @@ class C13Increments final : public ShiftSource {
   mutable std::vector<std::unique_ptr<BenzeneRing>> benzene_rings_;  // per smallest ring, see benzene_ring()
   mutable std::vector<std::int32_t> sp3_chains_;  // see sp3_chains()
   mutable std::vector<std::uint8_t> sp3_;         // see sp3()
+  // Per heavy atom, its row of c13_sp3_substituent in the parent scheme,
+  // then in the additive scheme (sp3_row()): a row index, or one of these.
+  static constexpr std::int32_t kRowUnknown = -1, kRowNone = -2, kRowDepends = -3;
+  mutable std::vector<std::int32_t> sp3_rows_;
+  mutable std::vector<bool> sp3_carbons_;  // see sp3_carbons()
+  const std::vector<bool> no_atoms_;       // excludes nothing
   // Scratch of hetero(), which never runs inside itself.
   mutable std::vector<bool> hetero_skeleton_;
   mutable std::vector<int> hetero_ring_dist_;
@@ -1969,7 +2026,7 @@ class C13Increments final : public ShiftSource {
   // order, and per mapping the number of its set (find_hetero_matches()).
   mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_sets_;
   mutable std::vector<std::vector<std::uint32_t>> hetero_set_of_;
-  mutable std::vector<std::uint32_t> hetero_set_scratch_;
+  mutable std::vector<std::uint32_t> hetero_set_scratch_, hetero_set_order_;  // scratch of number_hetero_sets()
   // Scratch of sp3_additive(), which never runs inside itself.
   struct Sp3Scratch {
     std::vector<bool> skeleton, taken;
