@@ -59,6 +59,8 @@ constexpr std::uint32_t kNone = 0xFFFFFFFFu;
 // found and the code could depend on atom order; the NCI sample needs at most
 // 105 (Zr and Th tetrakis(acetylacetonates)), C60 far fewer.
 constexpr std::size_t kMaxBeam = 512;
+// Engine::run() spheres: none at all (0 means the engine's full count).
+constexpr int kNoSpheres = -1;
 
 // Digest terms (Engine::digests()): one domain bit each for the centre, a
 // written atom and a bond, so their terms never share an input.
@@ -332,7 +334,16 @@ class Engine {
   // the outer spheres, the costliest, unmade. `spheres` (1..the count given
   // to reset(); 0 means that count) bounds the run to the first spheres,
   // which codes being prefix-stable are those of the full run.
+  //
+  // kNoSpheres sets up a run that makes nothing, for keys() and
+  // hydrogen_keys() with an index that no sphere of the centre can match:
+  // they stop before the first sphere, as they do past a run's last one.
   void run(std::uint32_t centre, int spheres = 0) {
+    if (spheres == kNoSpheres) {
+      n_ = 0;
+      made_ = 0;
+      return;
+    }
     n_ = spheres > 0 ? std::min(spheres, max_n_) : max_n_;
     if (walk_.stamp == cur_ && walk_.centre == centre && walk_.levels >= n_) {
       // The digest walk just met these levels in the order build_region()
@@ -1419,7 +1430,8 @@ namespace {
 // with every class wanted.
 //
 // `depth(a)` gives the spheres the run on atom a must make for what the
-// callbacks read of a and its hydrogens (0: the engine's full count).
+// callbacks read of a and its hydrogens (0: the engine's full count;
+// kNoSpheres: none, for callbacks that only key with an index).
 struct FullDepth {
   int operator()(std::size_t) const noexcept { return 0; }
 };
@@ -1654,9 +1666,14 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
                                classes.invariant_rank);
   Engine &engine = *engine_ptr;
   auto is_needed = [&](std::size_t a) { return needed[classes.topological[a]] != 0; };
-  // Without an index every sphere may match: the engine's full count.
+  // Without an index every sphere may match: the engine's full count. With
+  // one, a centre whose first sphere no reference atom has, nor a sphere of
+  // its hydrogens beyond their first, is keyed without making any sphere:
+  // chain_keys() stops there as it stops after a run's last sphere.
   auto depth = [&](std::size_t a) {
-    return index ? std::max(1, key_spheres(engine, molecule, a, is_needed, index)) : 0;
+    if (!index) return 0;
+    const int d = key_spheres(engine, molecule, a, is_needed, index);
+    return d > 0 ? d : kNoSpheres;
   };
   code_every_atom(
       molecule, classes, engine, [&](std::size_t a) { engine.keys(static_cast<std::uint32_t>(a), keys[a], index); },
