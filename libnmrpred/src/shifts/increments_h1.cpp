@@ -22,6 +22,7 @@
 #include <cmath>
 #include <cstdint>
 #include <cstring>
+#include <functional>
 #include <initializer_list>
 #include <iterator>
 #include <optional>
@@ -313,10 +314,52 @@ RowShape read_shape(std::string_view text) {
   return out;
 }
 
+// `text` with the term R1 taken out of every chain atom (one outside a
+// branch), or empty when a chain atom would be left with no other demand.
+// Where RowShape::may_hold lets an all-R1 row try a ring system at all, that
+// system is one ring of the chain's length, so a match maps the chain onto
+// it and every chain atom lies on exactly one smallest ring: the terms hold
+// without the ring perception that testing them would start.
+std::string without_r1(std::string_view text) {
+  std::string out;
+  out.reserve(text.size());
+  int depth = 0;
+  for (std::size_t i = 0; i < text.size(); ++i) {
+    const char ch = text[i];
+    depth += ch == '(' ? 1 : ch == ')' ? -1 : 0;
+    const auto close = ch == '[' ? text.find(']', i) : std::string_view::npos;
+    if (depth > 0 || close == std::string_view::npos) {
+      out += ch;
+      continue;
+    }
+    const auto body = text.substr(i + 1, close - i - 1);
+    std::string kept;
+    for (std::size_t at = 0; at <= body.size();) {
+      const auto end = std::min(body.find(';', at), body.size());
+      const auto term = body.substr(at, end - at);
+      if (term != "R1") {
+        if (!kept.empty()) kept += ';';
+        kept += term;
+      }
+      at = end + 1;
+    }
+    if (kept.empty()) return {};
+    out += '[';
+    out += kept;
+    out += ']';
+    i = close;
+  }
+  return out;
+}
+
 struct HeteroRow {
   std::string id, ring, position;
   SmartsPattern smarts;
   RowShape shape;  // read_shape(smarts)
+  // What hetero() searches for: `smarts`, or for a row whose chain atoms all
+  // demand R1 the same without those terms (without_r1()). Both have the
+  // same atoms and bonds, so a search visits their mappings in one order.
+  SmartsPattern searched;
   double ppm = 0;
   std::string scheme, label;  // the method text's scheme name and labelled(id, ppm)
 };
@@ -467,6 +510,8 @@ void read_hetero(const Tables &tables, std::vector<HeteroRow> &out) {
     h.position = row.fields[c_pos];
     h.smarts = r.smarts(row, c_smarts);
     h.shape = read_shape(h.smarts.text());
+    const std::string plain = h.shape.known && h.shape.all_r1 ? without_r1(h.smarts.text()) : std::string();
+    h.searched = plain.empty() ? h.smarts : SmartsPattern(plain);
     h.ppm = r.need_ppm(row, c_shift);
     h.scheme = fmt::format("heteroaromatic base value ({}, position {})", h.ring, h.position);
     h.label = labelled(h.id, h.ppm);
@@ -991,7 +1036,6 @@ class H1Increments final : public ShiftSource {
       benzene_rings_.clear();
       lone_of_.clear();
       lone_rings_.clear();
-      hetero_matches_.clear();
       system_of_.clear();
       systems_.clear();
       system_rows_.clear();
@@ -1216,17 +1260,30 @@ class H1Increments final : public ShiftSource {
     return k < system_of_.size() && system_of_[k] >= 0 ? &systems_[static_cast<std::size_t>(system_of_[k])] : nullptr;
   }
 
+  // Whether bonded heavy atoms a and x share a smallest ring, without ring
+  // perception: they do when their bond lies on a cycle (the smallest
+  // rings span the cycles, so one of them holds the bond), that is when the
+  // bond is no bridge and so joins two atoms of one ring system; a ring
+  // through both atoms without their bond would make it lie on a cycle too.
+  bool same_ring_system(const Molecule &m, std::size_t a, std::size_t x) const {
+    const RingSystem *sys = ring_system(m, a);
+    return sys && sys == ring_system(m, x);
+  }
+
   // --- heteroaromatic base values -------------------------------------------
   std::optional<Estimate> hetero(const SmartsTarget &t, std::size_t k) const {
     const Molecule &m = t.molecule();
     for (const std::uint32_t r : hetero_rows(m, k)) {
       const HeteroRow &row = tab_.hetero[r];
-      // The anchored screen of match_at rejects most of the rest before the
-      // row's mappings are looked at (or searched for).
-      if (!row.smarts.root_may_match(t.packed(k))) continue;
-      const auto *found = first_mapping_at(row.smarts, hetero_matches(t, r), k);
-      if (!found) continue;
-      const std::vector<std::uint32_t> &map = *found;
+      // The screens of match_at on k and its neighbours reject most of the
+      // rest before a search. A search per row and proton, anchored at k,
+      // costs less than the whole-molecule search per row that was shared by
+      // the protons (one rejected by the ring systems now never runs), and
+      // neither it nor carry_benzene_terms() starts ring perception.
+      if (!row.smarts.root_may_match(t.packed(k)) || !row.searched.neighbours_may_match(t.neighbour_kinds(k)) ||
+          !first_mapping_at(row.searched, t, k))
+        continue;
+      const std::vector<std::uint32_t> &map = hetero_map_;
       // The first matching row names the parent; FORMAT.md keeps the rows
       // of different parents apart, so no other row can apply.
       Flagged flagged(marks_, m.atom_count());
@@ -1285,39 +1342,19 @@ class H1Increments final : public ShiftSource {
     return *rows;
   }
 
-  // Every mapping of h1_heteroaromatic row `r` in the molecule, found on
-  // the first proton that gets to the row. One whole-molecule search per row
-  // costs less than anchored tries of the row at every such proton: it
-  // rejects a row whose ring no ring system of the molecule can hold before
-  // any search, and most rows fail so. Rows after every proton's first hit
-  // are never searched.
-  const std::vector<std::vector<std::uint32_t>> &hetero_matches(const SmartsTarget &t, std::size_t r) const {
-    if (hetero_matches_.empty()) hetero_matches_.resize(tab_.hetero.size());
-    auto &slot = hetero_matches_[r];
-    if (!slot) slot = all_matches(tab_.hetero[r].smarts, t);
-    return *slot;
-  }
-
-  // Of the mappings of `p` in `maps`, the first one with pattern atom 0 on
-  // atom k in the order for_each_match with only atom 0 fixed visits them
-  // (ascending along search_order(0)), or null: the rows name the parent
-  // ring by the first such mapping.
-  static const std::vector<std::uint32_t> *first_mapping_at(const SmartsPattern &p,
-                                                           const std::vector<std::vector<std::uint32_t>> &maps,
-                                                           std::size_t k) {
-    const std::vector<std::uint32_t> *best = nullptr;
-    if (maps.empty()) return best;  // most rows, most molecules
-    const auto &order = p.search_order(0);
-    for (const auto &map : maps) {
-      if (map[0] != k) continue;
-      if (best) {
-        std::size_t i = 0;
-        while (i < order.size() && map[order[i]] == (*best)[order[i]]) ++i;
-        if (i == order.size() || map[order[i]] > (*best)[order[i]]) continue;
-      }
-      best = &map;
-    }
-    return best;
+  // Puts into hetero_map_ the first mapping of `p` with pattern atom 0 on
+  // atom k in the order for_each_match visits them (ascending along
+  // search_order(0)): the rows name the parent ring by it. False when there
+  // is none. A search anchored at k needs no ring perception for the rows
+  // (searched patterns) and tries only k's own ring; hetero_rows() has left
+  // out the rows whose ring k's ring system cannot hold.
+  bool first_mapping_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t k) const {
+    anchor_.assign(1, static_cast<std::int64_t>(k));
+    const std::function<bool(const std::vector<std::uint32_t> &)> keep = [this](const std::vector<std::uint32_t> &map) {
+      hetero_map_.assign(map.begin(), map.end());
+      return true;
+    };
+    return for_each_match(p, t, anchor_, {}, keep);
   }
 
   // Adds to `s` the benzene increments of the groups on the aromatic ring
@@ -1357,7 +1394,7 @@ class H1Increments final : public ShiftSource {
       const int d = dist[j];
       if (at.atomic_number != 6 || !at.aromatic || d < 1 || d > 3) continue;
       for_heavy_neighbours(m, a, [&](std::size_t x, BondOrder) {
-        if (in_ring[x] || in_one_ring(t, {a, x})) return;
+        if (in_ring[x] || same_ring_system(m, a, x)) return;
         const auto *b = first_row(tab_.benzene.rows, t, x, in_ring);
         if (!b) return;
         const auto rel = static_cast<std::size_t>(d);
@@ -1993,7 +2030,9 @@ class H1Increments final : public ShiftSource {
   mutable std::vector<std::optional<BenzeneRing>> benzene_rings_;  // see benzene_ring()
   mutable std::vector<std::int32_t> lone_of_;  // per heavy atom: index into lone_rings_, or kLoneUnknown/None
   mutable std::vector<LoneRing> lone_rings_;   // see lone_ring()
-  mutable std::vector<std::optional<std::vector<std::vector<std::uint32_t>>>> hetero_matches_;  // see hetero_matches()
+  // first_mapping_at()'s anchor and answer, kept for their capacity.
+  mutable std::vector<std::int64_t> anchor_;
+  mutable std::vector<std::uint32_t> hetero_map_;
   mutable std::vector<std::int32_t> system_of_;  // see ring_system()
   // Flagged scratch: marks_ for the skeleton or ring of one rule, marks2_
   // for a second set while that is in use (add_beta_steps() within
