@@ -909,6 +909,7 @@ class AutomorphismSearch {
   bool with_sign(std::vector<std::uint32_t> &sigma, std::uint32_t fixed, int sign) {
     const CompleteMap map{sigma};
     const auto f = static_cast<std::int32_t>(fixed);
+    bool any_swap = false;
     for (const auto &t : g_.tetra) {
       if (tetra_ok(t, map, sign)) continue;
       bool swapped = false;
@@ -919,8 +920,14 @@ class AutomorphismSearch {
             swapped = true;
           }
       if (!swapped) return false;
+      any_swap = true;
     }
-    return keeps_configurations(sigma, sign);
+    // Without a swap sigma is as the loop checked it, every tetrahedral
+    // configuration passed, and only the double bonds are left to check.
+    if (any_swap) return keeps_configurations(sigma, sign);
+    for (const auto &d : g_.dbl)
+      if (!double_ok(d, map)) return false;
+    return true;
   }
 
   // Two leaves on one centre that any symmetry may exchange.
