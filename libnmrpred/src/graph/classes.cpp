@@ -823,6 +823,9 @@ class AutomorphismSearch {
     const CompleteMap map{sigma};
     for (const auto &t : g_.tetra)
       if (!tetra_ok(t, map, sign)) return false;
+    return keeps_double_bonds(map);
+  }
+  bool keeps_double_bonds(const CompleteMap &map) const {
     for (const auto &d : g_.dbl)
       if (!double_ok(d, map)) return false;
     return true;
@@ -924,10 +927,7 @@ class AutomorphismSearch {
     }
     // Without a swap sigma is as the loop checked it, every tetrahedral
     // configuration passed, and only the double bonds are left to check.
-    if (any_swap) return keeps_configurations(sigma, sign);
-    for (const auto &d : g_.dbl)
-      if (!double_ok(d, map)) return false;
-    return true;
+    return any_swap ? keeps_configurations(sigma, sign) : keeps_double_bonds(map);
   }
 
   // Two leaves on one centre that any symmetry may exchange.
