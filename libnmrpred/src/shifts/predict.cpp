@@ -119,6 +119,11 @@ constexpr int kC13WeakSphere = 4;
 // the same filter lost 4 carbons net, so sphere 1 keeps all residuals.
 constexpr int kC13SameSchemeSphere = 2;
 
+// Room for a lookup's method text made from a rule's and a tail (a
+// correction's, and a CH2 pair's): over the first 1,000 NCI records 400
+// characters hold 98.6 % of such texts, so that nearly all allocate once.
+constexpr std::size_t kLookupMethodRoom = 400;
+
 // Appends v as fmt's "{:+.1f}" writes it (the sign is v's, so -0.04 gives
 // -0.0).
 void append_signed_1(std::string &s, double v) {
@@ -147,19 +152,23 @@ class ReferenceLookup final : public ShiftSource {
     const auto *levels = q.nucleus == Nucleus::C13 ? kC13Levels : kH1Levels;
     const auto &excluded = q.excluded_compounds();
     const auto &keys = q.keys(atom);
-    // The query's own increment value, computed only once a match needs it.
-    // Its text goes into the scratch, whose room the atoms reuse: a
-    // Shift of its own cost an allocation per looked-up atom.
+    // The query's own increment value, computed only once a match needs it,
+    // straight into `out`, which this call owns until it returns: a corrected
+    // value's text is the rule's text with a tail, so the tail is appended in
+    // place (a Shift of its own cost an allocation per looked-up atom, a
+    // shared scratch tied the text's life to other users of the scratch).
+    // Until the rule's value is taken or the atom passed on, `out` holds the
+    // rule's fields; every path below sets all the fields a source fills,
+    // and exchangeable and observed, which the rule may set but a lookup
+    // does not, are put back.
     bool inc_done = false;
     double inc_q = std::numeric_limits<double>::quiet_NaN();
-    std::string_view inc_method;
     auto query_increments = [&] {
       if (inc_done) return;
-      Shift &s = q.scratch().shift;
-      if (increments_->estimate(q, atom, s)) {
-        inc_q = s.ppm;
-        inc_method = s.method;
-      }
+      const bool exchangeable = out.exchangeable, observed = out.observed;
+      if (increments_->estimate(q, atom, out)) inc_q = out.ppm;
+      out.exchangeable = exchangeable;
+      out.observed = observed;
       inc_done = true;
     };
     for (int k = keys.depth; k >= 1; --k) {
@@ -187,9 +196,12 @@ class ReferenceLookup final : public ShiftSource {
       }
       if (shift.n < (user_ ? 1 : levels[k].min_support)) continue;
       if (k <= kResidualMaxSphere && increments_ && residual.n > 0) {
+        // For a correction, whose text is the rule's with a tail: room for
+        // both at once. Elsewhere the rule's text gets just its own room.
+        out.method.reserve(kLookupMethodRoom);
         query_increments();
         if (std::isfinite(inc_q) && q.nucleus == Nucleus::C13 && k >= kC13SameSchemeSphere && k <= kShallowSphere) {
-          const auto key = scheme_key(inc_method);
+          const auto key = scheme_key(out.method);  // still the rule's text
           if (!touched) {
             residual = b.residual_of(key);
           } else {
@@ -212,12 +224,9 @@ class ReferenceLookup final : public ShiftSource {
           out.ppm = inc_q + correction;
           const double prior = (q.nucleus == Nucleus::C13 ? kC13ResidualPrior : kH1ResidualPrior)[k];
           out.uncertainty_ppm = std::sqrt(prior * prior + residual.sd * residual.sd);
-          // Plain appends rather than the formatter: one of these per looked-up atom.
+          // Plain appends rather than the formatter: one of these per looked-up
+          // atom. The rule's text is already there (query_increments).
           std::string &m = out.method;
-          // Room for the rule's text and the longest tail below at once, so
-          // that the appends do not regrow it.
-          m.reserve(inc_method.size() + 192);
-          m = inc_method;
           m += "; corrected by "sv;
           append_signed_1(m, correction);
           const bool shrunk = correction != residual.median;
@@ -295,29 +304,31 @@ class ReferenceLookup final : public ShiftSource {
       pair = summarise_in_place(hv);
       from = j;
     }
-    // Formatted straight onto the method, which grows once, rather than
-    // through a temporary string.
-    auto to_method = std::back_inserter(out.method);
-    out.method.reserve(out.method.size() + 256);
+    // Formatted into a buffer on the stack, then appended with room made for
+    // exactly its size: the method grows at most once.
+    fmt::memory_buffer tail;
+    auto to_tail = std::back_inserter(tail);
+    const bool lower = q.classes.chemical[atom] < q.classes.chemical[static_cast<std::size_t>(partner)];
     if (pair.n == 0) {
-      out.method += "; diastereotopic CH2: no matched reference lists such a pair, both protons share the value";
-      return;
-    }
-    if (pair.median <= 0) {
-      fmt::format_to(to_method,
+      constexpr std::string_view none =
+          "; diastereotopic CH2: no matched reference lists such a pair, both protons share the value";
+      tail.append(none.data(), none.data() + none.size());
+    } else if (pair.median <= 0) {
+      fmt::format_to(to_tail,
                      "; diastereotopic CH2: the references matched at HOSE sphere {} give one value for both "
                      "protons (median of {} compound{}), both share it",
                      from, pair.n, pair.n == 1 ? "" : "s");
-      return;
-    }
-    const bool lower = q.classes.chemical[atom] < q.classes.chemical[static_cast<std::size_t>(partner)];
-    out.ppm += lower ? -pair.median : pair.median;
-    out.uncertainty_ppm = std::hypot(out.uncertainty_ppm, pair.median);
-    fmt::format_to(to_method, "; diastereotopic CH2: {}{:.2f} ppm, half the median difference of the pair over {} "
+    } else {
+      out.ppm += lower ? -pair.median : pair.median;
+      out.uncertainty_ppm = std::hypot(out.uncertainty_ppm, pair.median);
+      fmt::format_to(to_tail, "; diastereotopic CH2: {}{:.2f} ppm, half the median difference of the pair over {} "
                               "reference compound{} matched at HOSE sphere {}; the {} value by class order (which "
                               "proton is which is not known)",
                               lower ? "-" : "+", pair.median, pair.n, pair.n == 1 ? "" : "s", from,
                               lower ? "lower" : "higher");
+    }
+    out.method.reserve(out.method.size() + tail.size());
+    out.method.append(tail.data(), tail.size());
   }
 
  private:
@@ -427,10 +438,10 @@ void run_sources(const ShiftQuery &q, const SourceList &sources, AtomRange atoms
   for (auto atom : atoms) {
     const std::size_t cls = q.classes.chemical[atom];
     if (by_class[cls] != kNotYet) {
-      // Equivalent atoms always share the value.
-      Shift copy = out[by_class[cls]];
-      copy.atom = atom;
-      out.push_back(std::move(copy));
+      // Equivalent atoms always share the value. Copied in place: the
+      // caller reserved room for every atom, so the source stays put.
+      out.push_back(out[by_class[cls]]);
+      out.back().atom = atom;
       continue;
     }
     Shift s;
@@ -470,11 +481,13 @@ std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &c
   }
   if (increments) sources.push_back(increments.get());
   sources.push_back(&fallback);
-  // Room for every heavy atom: grown one carbon at a time the list
-  // reallocated a few times per molecule, and counting the carbons first
-  // walked the atoms twice.
-  std::vector<std::size_t> atoms;
-  atoms.reserve(molecule.heavy_atom_count());
+  // Room for every atom (the scratch's, so a following 1H call of
+  // predict_c13_h1 reuses it for the protons): grown one carbon at a time the
+  // list reallocated a few times per molecule, and counting the carbons
+  // first walked the atoms twice.
+  std::vector<std::size_t> &atoms = q.scratch().atoms;
+  atoms.clear();
+  atoms.reserve(molecule.atom_count());
   for (std::size_t a = 0; a < molecule.heavy_atom_count(); ++a)
     if (molecule.atom(a).atomic_number == 6) atoms.push_back(a);
   if (warnings)
@@ -506,28 +519,33 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   const ReferenceLookup user(true, increments.get()), builtin(false, increments.get());
   const ShiftSource &fallback = detail::h1_class_average();
   SourceList sources;
-  // One pass over the hydrogens into one list sized by their count: the
-  // carbon-bound protons from the front, the exchangeable ones from the back
-  // (then turned round), each run ascending by atom.
-  std::vector<std::size_t> protons(molecule.atom_count() - molecule.heavy_atom_count());
-  std::size_t *const first = protons.data();
-  std::size_t *carbon_bound_end = first, *labile_begin = first + protons.size();
+  // One pass over the hydrogens into two lists of the scratch, each
+  // ascending by atom: the carbon-bound protons and the exchangeable ones.
+  const std::size_t hydrogens = molecule.atom_count() - molecule.heavy_atom_count();
+  std::vector<std::size_t> &carbon_bound = q.scratch().atoms, &labile = q.scratch().labile;
+  carbon_bound.clear();
+  labile.clear();
+  carbon_bound.reserve(hydrogens);
   for (std::size_t a = molecule.heavy_atom_count(); a < molecule.atom_count(); ++a) {
     const auto kind = proton_kind(molecule, a);
-    if (kind == ProtonKind::CarbonBound) *carbon_bound_end++ = a;
-    else if (kind == ProtonKind::Labile) *--labile_begin = a;
+    if (kind == ProtonKind::CarbonBound) {
+      carbon_bound.push_back(a);
+    } else if (kind == ProtonKind::Labile) {
+      // Most molecules have none: room only once one turns up.
+      labile.reserve(hydrogens);
+      labile.push_back(a);
+    }
   }
-  std::reverse(labile_begin, first + protons.size());
   if (options.use_reference) {
     sources.push_back(&user);
     sources.push_back(&builtin);
   }
   if (increments) sources.push_back(increments.get());
   sources.push_back(&fallback);
-  const std::size_t *const last = first + protons.size();
   std::vector<Shift> out;
-  out.reserve(static_cast<std::size_t>((carbon_bound_end - first) + (last - labile_begin)));
-  detail::run_sources(q, sources, AtomRange{first, carbon_bound_end}, warnings, out);
+  out.reserve(carbon_bound.size() + labile.size());
+  detail::run_sources(q, sources, AtomRange{carbon_bound.data(), carbon_bound.data() + carbon_bound.size()}, warnings,
+                      out);
   for (auto &s : out)
     if (s.source != ShiftSourceKind::Reference && s.source != ShiftSourceKind::UserReference &&
         detail::diastereotopic_partner(molecule, classes, s.atom) >= 0)
@@ -538,12 +556,12 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   SourceList labile_sources;
   if (increments) labile_sources.push_back(increments.get());
   labile_sources.push_back(&fallback);
-  if (labile_begin == last) return out;
+  if (labile.empty()) return out;
   // Appended behind the carbon-bound protons, whose positions the run does
   // not touch, then merged in place: both parts ascend by atom and no atom
   // is in both (one list rather than two and their merged copy).
   const auto carbon_bound_count = static_cast<std::ptrdiff_t>(out.size());
-  detail::run_sources(q, labile_sources, AtomRange{labile_begin, last}, nullptr, out);
+  detail::run_sources(q, labile_sources, AtomRange{labile.data(), labile.data() + labile.size()}, nullptr, out);
   for (auto s = out.begin() + carbon_bound_count; s != out.end(); ++s) {
     const bool from_table = s->source == ShiftSourceKind::Increments;
     s->exchangeable = true;
@@ -580,7 +598,7 @@ C13H1Shifts predict_c13_h1(const Molecule &molecule, const AtomClasses &classes,
                            const ShiftOptions &options, std::vector<std::string> *warnings) {
   if (classes.chemical.size() != molecule.atom_count())
     throw ArgumentError("predict_c13_h1: classes belong to another molecule");
-  const detail::MoleculeFacts facts(molecule, classes, true);
+  const detail::MoleculeFacts facts(molecule, classes, detail::MoleculeFacts::Askers::BothNuclei);
   C13H1Shifts out;
   out.c13 = detail::predict_c13_on(molecule, classes, tables, options, warnings, &facts);
   out.h1 = detail::predict_h1_on(molecule, classes, tables, options, warnings, &facts);

@@ -31,12 +31,13 @@ namespace nmrpred::detail {
 // thread at a time. The molecule and classes must outlive it.
 class MoleculeFacts {
  public:
-  // `both_nuclei`: both nuclei will ask, so the first keys() call keys every
-  // atom a lookup may ask about (lookup_keyed()) in one pass. Keying the
-  // carbons first and the protons on the second nucleus's first call
-  // re-keyed every atom, more than either nucleus alone costs.
-  MoleculeFacts(const Molecule &m, const AtomClasses &c, bool both_nuclei = false)
-      : molecule_(m), classes_(c), both_nuclei_(both_nuclei) {}
+  // Which nuclei will ask. BothNuclei: the first keys() call keys every atom
+  // a lookup may ask about (lookup_keyed()) in one pass. Keying the carbons
+  // first and the protons on the second nucleus's first call re-keyed every
+  // atom, more than either nucleus alone costs.
+  enum class Askers { OneNucleus, BothNuclei };
+  MoleculeFacts(const Molecule &m, const AtomClasses &c, Askers askers = Askers::OneNucleus)
+      : molecule_(m), classes_(c), both_nuclei_(askers == Askers::BothNuclei) {}
   const SmartsTarget &smarts_target() const;
   // The atom's HoseKeys for lookups in `index`. The first call keys the
   // atoms of the asking nucleus in one pass (unless set_all_keys() came first
@@ -49,9 +50,11 @@ class MoleculeFacts {
   // so that neither each atom nor each nucleus allocates its own (contents
   // unspecified between uses).
   struct Scratch {
-    std::vector<std::size_t> positions;
-    std::vector<double> values;
-    Shift shift;
+    std::vector<std::size_t> positions;  // run_sources: per class, where its first atom's shift is
+    std::vector<double> values;          // a lookup's values to summarise
+    // predict_c13_on / predict_h1_on: the atoms of the run (the protons
+    // on carbon), and the exchangeable protons.
+    std::vector<std::size_t> atoms, labile;
   };
   Scratch &scratch() const { return scratch_; }
 
