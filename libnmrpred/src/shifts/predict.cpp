@@ -337,11 +337,17 @@ class ReferenceLookup final : public ShiftSource {
     out.source = user_ ? ShiftSourceKind::UserReference : ShiftSourceKind::Reference;
     out.sphere = k;
     out.references.clear();
-    out.references.reserve(std::min<std::size_t>(10, b.compounds.size()));
+    const auto &index = q.tables.reference_index();
+    if (excluded.empty()) {
+      out.references.reserve(b.listed_count);
+      for (std::size_t i = 0; i < b.listed_count; ++i) out.references.emplace_back(index.id(b.listed[i]));
+      return;
+    }
+    out.references.reserve(std::min(kMaxListedReferences, b.compounds.size()));
     for (const auto &cv : b.compounds) {
-      if (out.references.size() == 10) break;
+      if (out.references.size() == kMaxListedReferences) break;
       if (std::find(excluded.begin(), excluded.end(), cv.compound) != excluded.end()) continue;
-      out.references.push_back(q.tables.reference()[cv.compound].id);
+      out.references.emplace_back(index.id(cv.compound));
     }
   }
 

@@ -35,15 +35,17 @@ void HashSet::assign(const std::vector<std::uint64_t> &values) {
 }
 
 void BucketTable::assign(std::vector<std::pair<std::uint64_t, Bucket>> entries) {
-  std::vector<std::uint64_t> keys;
-  keys.reserve(entries.size());
-  for (const auto &e : entries) keys.push_back(e.first);
-  keys_.assign(keys);
-  bucket_at_.assign(keys_.capacity() + 1, 0);
+  unsigned bits = 1;
+  while ((std::size_t{1} << bits) < 2 * entries.size()) ++bits;
+  slots_.assign(std::size_t{1} << bits, Slot{});
+  mask_ = slots_.size() - 1;
+  shift_ = 64 - bits;
   buckets_.clear();
   buckets_.reserve(entries.size());
   for (auto &e : entries) {
-    bucket_at_[keys_.position(e.first)] = static_cast<std::uint32_t>(buckets_.size());
+    std::size_t i = slot(e.first);
+    while (slots_[i].bucket != kNone && slots_[i].key != e.first) i = (i + 1) & mask_;
+    slots_[i] = Slot{e.first, static_cast<std::uint32_t>(buckets_.size())};
     buckets_.push_back(std::move(e.second));
   }
 }
@@ -113,6 +115,12 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
   std::array<std::vector<std::uint64_t>, kMaxHoseSpheres + 1> known, known_digests;
   const ShiftOptions plain;
   index->constitution.resize(compounds.size());
+  index->id_start.reserve(compounds.size() + 1);
+  for (const auto &c : compounds) {
+    index->id_start.push_back(static_cast<std::uint32_t>(index->id_text.size()));
+    index->id_text += c.id;
+  }
+  index->id_start.push_back(static_cast<std::uint32_t>(index->id_text.size()));
   for (std::uint32_t ci = 0; ci < compounds.size(); ++ci) {
     const auto &c = compounds[ci];
     Molecule m;
@@ -226,6 +234,8 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
             if (rn) residuals.push_back(v.residual_ppm);
             i = j;
           }
+          b.listed_count = static_cast<std::uint32_t>(std::min(b.listed.size(), b.compounds.size()));
+          for (std::size_t i = 0; i < b.listed_count; ++i) b.listed[i] = b.compounds[i].compound;
           b.shift = summarise(std::move(shifts));
           b.residual = summarise(std::move(residuals));
           if (nu == kIndexC13) {

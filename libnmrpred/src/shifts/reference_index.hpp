@@ -52,8 +52,17 @@ struct Summary {
   double median = 0, sd = 0;
 };
 
+// How many reference compounds a lookup lists at most (Shift::references).
+inline constexpr std::size_t kMaxListedReferences = 10;
+
 struct Bucket {
   std::vector<CompoundValue> compounds;  // sorted by compound
+  // The compounds of the first kMaxListedReferences of `compounds`, which a
+  // lookup that excludes none lists: kept beside the summaries the lookup
+  // has just read, so that listing them does not read the compound values
+  // (40 bytes each, elsewhere on the heap).
+  std::array<std::uint32_t, kMaxListedReferences> listed{};
+  std::uint32_t listed_count = 0;
   Summary shift, residual;               // over all compounds (residual: those that have one)
   // The residual summarised per scheme (sorted by scheme), so a lookup that
   // takes only the query's scheme reads it instead of summarising hundreds
@@ -126,54 +135,62 @@ Summary summarise(std::vector<double> values);
 // The same, sorting `values` in place (for callers that reuse the buffer).
 Summary summarise_in_place(std::vector<double> &values);
 
+// The slot of `value` in a table of 2^(64 - shift) slots. Multiplicative
+// hashing (common practice): the top bits of value * an odd constant.
+inline std::size_t hash_slot(std::uint64_t value, unsigned shift) noexcept {
+  return static_cast<std::size_t>((value * 0x9E3779B97F4A7C15ull) >> shift);
+}
+
 // A set of 64-bit hash values, filled once and then only asked: open
 // addressing with linear probing, at most half full, so most questions read
 // one slot (a sorted array took a dozen steps of binary search).
 class HashSet {
  public:
   void assign(const std::vector<std::uint64_t> &values);
-  bool contains(std::uint64_t value) const noexcept { return position(value) != kAbsent; }
-  // Where `value` is: a number below capacity() + 1 that no other value of
-  // the set has, or kAbsent.
-  static constexpr std::size_t kAbsent = ~std::size_t{0};
-  std::size_t position(std::uint64_t value) const noexcept {
-    if (value == kEmpty) return has_empty_ ? slots_.size() : kAbsent;
+  bool contains(std::uint64_t value) const noexcept {
+    if (value == kEmpty) return has_empty_;
     for (std::size_t i = slot(value);; i = (i + 1) & mask_) {
-      if (slots_[i] == value) return i;
-      if (slots_[i] == kEmpty) return kAbsent;
+      if (slots_[i] == value) return true;
+      if (slots_[i] == kEmpty) return false;
     }
   }
-  std::size_t capacity() const noexcept { return slots_.size(); }
 
  private:
   static constexpr std::uint64_t kEmpty = 0;
-  // Multiplicative hashing (common practice): the top bits of value * an odd
-  // constant.
-  std::size_t slot(std::uint64_t value) const noexcept {
-    return static_cast<std::size_t>((value * 0x9E3779B97F4A7C15ull) >> shift_);
-  }
+  std::size_t slot(std::uint64_t value) const noexcept { return hash_slot(value, shift_); }
   std::vector<std::uint64_t> slots_ = std::vector<std::uint64_t>(2, kEmpty);
   std::size_t mask_ = 1;
   unsigned shift_ = 63;
   bool has_empty_ = false;  // whether kEmpty itself is in the set
 };
 
-// Buckets by key, filled once and then only asked: a HashSet of the keys
-// and, per position, the bucket's place. A find reads one slot and one
-// bucket where std::unordered_map chased a node per probe (about 3 % of a
-// 13C prediction).
+// Buckets by key, filled once and then only asked: open addressing with
+// linear probing as in HashSet, each slot holding the key and its bucket's
+// place, so that a find reads one slot and one bucket (std::unordered_map
+// chased a node per probe; a separate array of places cost a cache miss
+// more per find).
 class BucketTable {
  public:
   void assign(std::vector<std::pair<std::uint64_t, Bucket>> entries);
   // Null when no bucket has `key`.
   const Bucket *find(std::uint64_t key) const noexcept {
-    const auto at = keys_.position(key);
-    return at == HashSet::kAbsent ? nullptr : &buckets_[bucket_at_[at]];
+    for (std::size_t i = slot(key);; i = (i + 1) & mask_) {
+      const Slot &s = slots_[i];
+      if (s.bucket == kNone) return nullptr;
+      if (s.key == key) return &buckets_[s.bucket];
+    }
   }
 
  private:
-  HashSet keys_;
-  std::vector<std::uint32_t> bucket_at_;  // per position of keys_
+  static constexpr std::uint32_t kNone = ~std::uint32_t{0};
+  struct Slot {
+    std::uint64_t key = 0;
+    std::uint32_t bucket = kNone;
+  };
+  std::size_t slot(std::uint64_t key) const noexcept { return hash_slot(key, shift_); }
+  std::vector<Slot> slots_ = std::vector<Slot>(2);
+  std::size_t mask_ = 1;
+  unsigned shift_ = 63;
   std::vector<Bucket> buckets_;
 };
 
@@ -181,6 +198,14 @@ struct ReferenceIndex {
   // levels[origin][nucleus][k] maps hose_key(parts, k), k = 1..kMaxHoseSpheres.
   std::array<std::array<std::array<BucketTable, kMaxHoseSpheres + 1>, 2>, 2> levels;
   std::vector<std::uint64_t> constitution;  // per compound
+  // Tables::reference()[c].id of compound c, all in one pool: a lookup lists
+  // up to 10 ids, and reading them from the compound records cost a cache
+  // miss per record (some 200 bytes each) and another for a long id's text.
+  std::string id_text;
+  std::vector<std::uint32_t> id_start;  // per compound, and the pool's size at the end
+  std::string_view id(std::uint32_t c) const {
+    return std::string_view(id_text).substr(id_start[c], id_start[c + 1] - id_start[c]);
+  }
   bool has_user = false;
   // known[k]: every key of levels[*][*][k] (both origins, both nuclei).
   // Each reference atom is entered at all spheres 1..kMaxHoseSpheres, so a
