@@ -206,7 +206,7 @@ int nmr_result_atom_shift_reference(const nmr_result *res, size_t record, size_t
   if (!p || !id_out) return NMR_ERR_ARGUMENT;
   const auto *s = shift_of(*p, atom);
   if (!s || i >= s->references.size()) return NMR_ERR_ARGUMENT;
-  *id_out = s->references[i].c_str();
+  *id_out = s->references[i].data();  // NUL-terminated (ReferenceIds)
   return NMR_OK;
 }
 

@@ -352,7 +352,7 @@ void register_predict(py::module_ &m) {
              if (r.prediction)
                for (std::size_t i = 0; i < r.prediction->molecule.atom_count(); ++i) {
                  const Shift *s = shift_of(*r.prediction, i);
-                 out.push_back(s ? s->references : std::vector<std::string>{});
+                 out.push_back(s ? s->references.to_vector() : std::vector<std::string>{});
                }
              return out;
            })

@@ -11,9 +11,14 @@
 ///
 /// Thread rule: pure functions of their arguments; call from any thread.
 
+#include <array>
 #include <cstddef>
 #include <cstdint>
+#include <initializer_list>
+#include <iterator>
+#include <memory>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include <nmrpred/classes.hpp>
@@ -34,6 +39,81 @@ enum class ShiftSourceKind : int {
   ClassAverage = 4,   ///< last resort: typical value of the atom's class
 };
 
+namespace detail {
+struct ReferenceIdsAccess;
+}
+
+/// Ids of the reference compounds behind one shift, at most kMax of them.
+/// An immutable value whose copies share the text: a prediction lists the
+/// same ids for every atom of a class and for every atom matched in the same
+/// environment, and a list of strings per atom cost several allocations per
+/// atom, about a third of a prediction's (benchmarks/README.md). Elements are
+/// views that stay valid while any copy of the list lives; each is followed
+/// by a NUL character, so data() may be handed to C.
+class NMRPRED_API ReferenceIds {
+ public:
+  static constexpr std::size_t kMax = 10;
+  ReferenceIds() = default;
+  /// A list of its own ids (std::length_error beyond kMax).
+  ReferenceIds(std::initializer_list<std::string_view> ids);
+  explicit ReferenceIds(const std::vector<std::string> &ids);
+
+  std::size_t size() const noexcept { return size_; }
+  bool empty() const noexcept { return size_ == 0; }
+  /// The i-th id (i < size()), NUL-terminated.
+  std::string_view operator[](std::size_t i) const noexcept {
+    const char *text = text_->data() + start_[i];
+    return std::string_view(text, std::char_traits<char>::length(text));
+  }
+  class const_iterator {
+   public:
+    using iterator_category = std::random_access_iterator_tag;
+    using value_type = std::string_view;
+    using difference_type = std::ptrdiff_t;
+    using pointer = void;
+    using reference = std::string_view;
+    const_iterator() = default;
+    std::string_view operator*() const noexcept { return (*list_)[i_]; }
+    const_iterator &operator++() noexcept { return ++i_, *this; }
+    const_iterator operator++(int) noexcept { const_iterator t = *this; ++i_; return t; }
+    const_iterator &operator--() noexcept { return --i_, *this; }
+    const_iterator &operator+=(difference_type d) noexcept { return i_ += static_cast<std::size_t>(d), *this; }
+    friend const_iterator operator+(const_iterator a, difference_type d) noexcept { return a += d; }
+    friend difference_type operator-(const const_iterator &a, const const_iterator &b) noexcept {
+      return static_cast<difference_type>(a.i_) - static_cast<difference_type>(b.i_);
+    }
+    std::string_view operator[](difference_type d) const noexcept { return (*list_)[i_ + static_cast<std::size_t>(d)]; }
+    friend bool operator==(const const_iterator &a, const const_iterator &b) noexcept { return a.i_ == b.i_; }
+    friend bool operator!=(const const_iterator &a, const const_iterator &b) noexcept { return a.i_ != b.i_; }
+    friend bool operator<(const const_iterator &a, const const_iterator &b) noexcept { return a.i_ < b.i_; }
+
+   private:
+    friend class ReferenceIds;
+    const_iterator(const ReferenceIds *list, std::size_t i) : list_(list), i_(i) {}
+    const ReferenceIds *list_ = nullptr;
+    std::size_t i_ = 0;
+  };
+  const_iterator begin() const noexcept { return {this, 0}; }
+  const_iterator end() const noexcept { return {this, size_}; }
+  std::vector<std::string> to_vector() const;
+  void clear() noexcept { *this = ReferenceIds(); }
+
+  friend NMRPRED_API bool operator==(const ReferenceIds &a, const ReferenceIds &b) noexcept;
+  friend bool operator!=(const ReferenceIds &a, const ReferenceIds &b) noexcept { return !(a == b); }
+  friend NMRPRED_API bool operator==(const ReferenceIds &a, const std::vector<std::string> &b) noexcept;
+  friend bool operator!=(const ReferenceIds &a, const std::vector<std::string> &b) noexcept { return !(a == b); }
+  friend bool operator==(const std::vector<std::string> &a, const ReferenceIds &b) noexcept { return b == a; }
+  friend bool operator!=(const std::vector<std::string> &a, const ReferenceIds &b) noexcept { return !(b == a); }
+
+ private:
+  friend struct detail::ReferenceIdsAccess;
+  void assign(const std::string_view *ids, std::size_t n);
+  // NUL-separated ids; starts of the listed ones.
+  std::shared_ptr<const std::string> text_;
+  std::array<std::uint32_t, kMax> start_{};
+  std::uint32_t size_ = 0;
+};
+
 /// One predicted shift. Plain value.
 struct Shift {
   std::size_t atom = 0;
@@ -43,7 +123,7 @@ struct Shift {
   ShiftSourceKind source = ShiftSourceKind::Reference;
   int sphere = 0;              ///< HOSE spheres matched (lookups), else 0
   std::string method;          ///< in words: source, sphere level and support, or rules summed
-  std::vector<std::string> references;  ///< ids of the reference compounds that contributed
+  ReferenceIds references;     ///< ids of the reference compounds that contributed
   /// 1H only: a proton on O, N or S, whose shift depends on solvent,
   /// concentration and temperature and whose signal may be broad.
   bool exchangeable = false;

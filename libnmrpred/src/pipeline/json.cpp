@@ -46,7 +46,7 @@ void add_shift(Json &atom, const Shift &s) {
   atom["shift"] = s.ppm;
   atom["shift_uncertainty"] = s.uncertainty_ppm;
   atom["shift_method"] = s.method;
-  atom["shift_references"] = s.references;
+  atom["shift_references"] = s.references.to_vector();
   if (s.nucleus == Nucleus::H1) {
     atom["exchangeable"] = s.exchangeable;
     atom["observed"] = s.observed;

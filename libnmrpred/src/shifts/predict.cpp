@@ -336,19 +336,19 @@ class ReferenceLookup final : public ShiftSource {
                    int k) const {
     out.source = user_ ? ShiftSourceKind::UserReference : ShiftSourceKind::Reference;
     out.sphere = k;
-    out.references.clear();
     const auto &index = q.tables.reference_index();
     if (excluded.empty()) {
-      out.references.reserve(b.listed_count);
-      for (std::size_t i = 0; i < b.listed_count; ++i) out.references.emplace_back(index.id(b.listed[i]));
+      ReferenceIdsAccess::assign(out.references, index, b.listed.data(), b.listed_count);
       return;
     }
-    out.references.reserve(std::min(kMaxListedReferences, b.compounds.size()));
+    std::array<std::uint32_t, kMaxListedReferences> listed;
+    std::size_t n = 0;
     for (const auto &cv : b.compounds) {
-      if (out.references.size() == kMaxListedReferences) break;
+      if (n == kMaxListedReferences) break;
       if (std::find(excluded.begin(), excluded.end(), cv.compound) != excluded.end()) continue;
-      out.references.emplace_back(index.id(cv.compound));
+      listed[n++] = cv.compound;
     }
+    ReferenceIdsAccess::assign(out.references, index, listed.data(), n);
   }
 
   bool user_;

@@ -115,12 +115,16 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
   std::array<std::vector<std::uint64_t>, kMaxHoseSpheres + 1> known, known_digests;
   const ShiftOptions plain;
   index->constitution.resize(compounds.size());
-  index->id_start.reserve(compounds.size() + 1);
-  for (const auto &c : compounds) {
-    index->id_start.push_back(static_cast<std::uint32_t>(index->id_text.size()));
-    index->id_text += c.id;
+  {
+    auto ids = std::make_shared<std::string>();
+    index->id_start.reserve(compounds.size() + 1);
+    for (const auto &c : compounds) {
+      index->id_start.push_back(static_cast<std::uint32_t>(ids->size()));
+      ids->append(c.id).push_back('\0');
+    }
+    index->id_start.push_back(static_cast<std::uint32_t>(ids->size()));
+    index->id_text = std::move(ids);
   }
-  index->id_start.push_back(static_cast<std::uint32_t>(index->id_text.size()));
   for (std::uint32_t ci = 0; ci < compounds.size(); ++ci) {
     const auto &c = compounds[ci];
     Molecule m;

@@ -17,6 +17,7 @@
 
 #include <nmrpred/classes.hpp>
 #include <nmrpred/hose.hpp>
+#include <nmrpred/shifts.hpp>
 #include <nmrpred/molecule.hpp>
 #include <nmrpred/tables.hpp>
 
@@ -53,7 +54,7 @@ struct Summary {
 };
 
 // How many reference compounds a lookup lists at most (Shift::references).
-inline constexpr std::size_t kMaxListedReferences = 10;
+inline constexpr std::size_t kMaxListedReferences = ReferenceIds::kMax;
 
 struct Bucket {
   std::vector<CompoundValue> compounds;  // sorted by compound
@@ -198,13 +199,15 @@ struct ReferenceIndex {
   // levels[origin][nucleus][k] maps hose_key(parts, k), k = 1..kMaxHoseSpheres.
   std::array<std::array<std::array<BucketTable, kMaxHoseSpheres + 1>, 2>, 2> levels;
   std::vector<std::uint64_t> constitution;  // per compound
-  // Tables::reference()[c].id of compound c, all in one pool: a lookup lists
-  // up to 10 ids, and reading them from the compound records cost a cache
-  // miss per record (some 200 bytes each) and another for a long id's text.
-  std::string id_text;
+  // Tables::reference()[c].id of compound c, all in one pool, each followed
+  // by a NUL: a lookup lists up to 10 ids, and reading them from the
+  // compound records cost a cache miss per record (some 200 bytes each) and
+  // another for a long id's text. The shifts' ReferenceIds share the pool
+  // rather than copy the ids.
+  std::shared_ptr<const std::string> id_text;
   std::vector<std::uint32_t> id_start;  // per compound, and the pool's size at the end
   std::string_view id(std::uint32_t c) const {
-    return std::string_view(id_text).substr(id_start[c], id_start[c + 1] - id_start[c]);
+    return std::string_view(*id_text).substr(id_start[c], id_start[c + 1] - id_start[c] - 1);
   }
   bool has_user = false;
   // known[k]: every key of levels[*][*][k] (both origins, both nuclei).
@@ -220,6 +223,17 @@ struct ReferenceIndex {
   // sphere k is `digest`: if not, no lookup at sphere k or deeper can match.
   bool digest_may_match(int k, std::uint64_t digest) const {
     return known_digests[static_cast<std::size_t>(k)].contains(digest);
+  }
+};
+
+// Makes a shift's ReferenceIds (nmrpred/shifts.hpp) of compounds of the
+// index's pool without copying their ids.
+struct ReferenceIdsAccess {
+  // `compounds`: at most ReferenceIds::kMax.
+  static void assign(ReferenceIds &ids, const ReferenceIndex &index, const std::uint32_t *compounds, std::size_t n) {
+    ids.text_ = index.id_text;
+    for (std::size_t i = 0; i < n; ++i) ids.start_[i] = index.id_start[compounds[i]];
+    ids.size_ = static_cast<std::uint32_t>(n);
   }
 };
 
