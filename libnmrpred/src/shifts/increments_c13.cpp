@@ -1527,7 +1527,9 @@ class C13Increments final : public ShiftSource {
     const Molecule &m = t.molecule();
     sp3_chains_.assign(m.heavy_atom_count(), -1);
     std::int32_t chains = 0;
-    std::vector<std::size_t> queue;
+    // sp3_additive()'s scratch: it asks for the chains before its walks.
+    auto &queue = sp3_scratch_.queue;
+    if (queue.capacity() < m.heavy_atom_count()) queue.reserve(m.heavy_atom_count());
     for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) {
       if (sp3_chains_[a] >= 0 || !sp3(a)) continue;
       sp3_chains_[a] = chains;
@@ -1595,9 +1597,14 @@ class C13Increments final : public ShiftSource {
     auto &skeleton = sp3_scratch_.skeleton;  // walked sp3 carbons
     auto &taken = sp3_scratch_.taken;        // walked, or part of a substituent
     auto &bucket = sp3_scratch_.bucket;
+    auto &bucket_size = sp3_scratch_.bucket_size;
     skeleton.assign(m.atom_count(), false);
     taken.assign(n, false);
-    for (auto &b : bucket) b.clear();
+    if (bucket.size() < 5 * n) bucket.resize(5 * n);
+    bucket_size.fill(0);
+    auto push = [&](std::size_t d, std::size_t x) { bucket[d * n + bucket_size[d]++] = static_cast<std::uint32_t>(x); };
+    // Every walk below visits each heavy atom once at most.
+    if (sp3_scratch_.queue.capacity() < n) sp3_scratch_.queue.reserve(n);
     // sp3 carbons connected to k through sp3 carbons are chain positions; a
     // group branch never swallows them (it would in a ring).
     const auto &chain_of = sp3_chains(t);
@@ -1605,7 +1612,7 @@ class C13Increments final : public ShiftSource {
     Sum s("sp3 additive increments (Grant-Paul)", kAdditiveSpread);
     s.base(tab_.gp_base_label, tab_.gp_base.ppm);
     skeleton[k] = taken[k] = true;
-    bucket[0].push_back(k);
+    push(0, k);
     const bool k_in_ring = t.ring_count(k) > 0;
     bool ring = false;
     int groups_on_k = 0, hetero_on_k = 0;
@@ -1616,7 +1623,7 @@ class C13Increments final : public ShiftSource {
       if (t.ring_count(x) > 0) ring = true;
       const auto &pp = tab_.gp_position[static_cast<std::size_t>(d)];
       if (pp.set) s.add(kPositionName[d], pp.id, pp.ppm);
-      if (walk_d < 5) bucket[static_cast<std::size_t>(walk_d)].push_back(x);
+      if (walk_d < 5) push(static_cast<std::size_t>(walk_d), x);
     };
     for (int d = 0; d < 5 && problem.empty(); ++d) {
       // The groups on k are known once its neighbours are walked, and with
@@ -1625,8 +1632,9 @@ class C13Increments final : public ShiftSource {
       if (d == 1 && !why && (k_in_ring || hetero_on_k >= 2 || (groups_on_k >= 2 && hetero_on_k >= 1) ||
                              (groups_on_k > 0 && polyhalo_neighbour(m, k))))
         return std::nullopt;
-      for (std::size_t bi = 0; bi < bucket[static_cast<std::size_t>(d)].size() && problem.empty(); ++bi) {
-        const auto c = bucket[static_cast<std::size_t>(d)][bi];
+      const auto du = static_cast<std::size_t>(d);
+      for (std::size_t bi = 0; bi < bucket_size[du] && problem.empty(); ++bi) {
+        const std::size_t c = bucket[du * n + bi];
         for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) {
           if (taken[x] || !problem.empty()) return;
           const int dx = d + 1;
@@ -2030,9 +2038,13 @@ class C13Increments final : public ShiftSource {
   // Scratch of sp3_additive(), which never runs inside itself.
   struct Sp3Scratch {
     std::vector<bool> skeleton, taken;
-    std::array<std::vector<std::size_t>, 6> bucket;
+    // The atoms to walk from at distances 0..4, slice d of n slots each:
+    // an atom is walked once at most, so a slice never overflows, and five
+    // vectors growing step by step cost several allocations per molecule.
+    std::vector<std::uint32_t> bucket;
+    std::array<std::size_t, 5> bucket_size{};
     std::vector<int> dist;
-    std::vector<std::size_t> queue;
+    std::vector<std::size_t> queue;  // breadth-first walks, n slots reserved
   };
   mutable Sp3Scratch sp3_scratch_;
   // Scratch of sp3_parent() and of ring_sp3(), neither of which runs inside
