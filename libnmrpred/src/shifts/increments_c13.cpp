@@ -1074,6 +1074,7 @@ class C13Increments final : public ShiftSource {
   // The six carbons of a ring ask the same, so it is found once per
   // molecule.
   struct BenzeneRing {
+    bool made = false;  // benzene_ring() has filled it in
     bool benzenoid = false;
     std::vector<bool> skeleton;  // the ring's atoms
     struct Substituent {
@@ -1082,13 +1083,16 @@ class C13Increments final : public ShiftSource {
       const BenzeneRow *row;  // null: no row
       bool bridging;          // shares a smallest ring with its ring atom
     };
-    std::vector<Substituent> substituents;
+    // Mostly one per ring atom: six slots inside, the heap beyond.
+    SmallVec<Substituent, 6> substituents;
   };
   const BenzeneRing &benzene_ring(const SmartsTarget &t, std::size_t ring_index) const {
     if (benzene_rings_.empty()) benzene_rings_.resize(t.rings().size());
-    auto &b = benzene_rings_[ring_index];
-    if (b) return *b;
-    b = std::make_unique<BenzeneRing>();
+    // Kept in place, one record per ring: nothing below asks for another
+    // ring's record while this one is made, and the list is sized once.
+    BenzeneRing *const b = &benzene_rings_[ring_index];
+    if (b->made) return *b;
+    b->made = true;
     const Molecule &m = t.molecule();
     const auto &ring = t.rings()[ring_index];
     bool benzenoid = ring.size() == 6;
@@ -2013,7 +2017,7 @@ class C13Increments final : public ShiftSource {
   mutable const SmartsTarget *target_ = nullptr;
   mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_matches_;  // per hetero ring
   mutable std::vector<std::uint8_t> hetero_cover_;  // per hetero ring and atom, see hetero_covers()
-  mutable std::vector<std::unique_ptr<BenzeneRing>> benzene_rings_;  // per smallest ring, see benzene_ring()
+  mutable std::vector<BenzeneRing> benzene_rings_;  // per smallest ring, see benzene_ring()
   mutable std::vector<std::int32_t> sp3_chains_;  // see sp3_chains()
   mutable std::vector<std::uint8_t> sp3_;         // see sp3()
   // Per heavy atom, its row of c13_sp3_substituent in the parent scheme,
