@@ -1379,9 +1379,11 @@ void SmartsTarget::perceive_rings() const {
   std::sort(kept.begin(), kept.end(), [](const Cycle &a, const Cycle &b) {
     return a.size != b.size ? a.size < b.size : a.root != b.root ? a.root < b.root : a.edge < b.edge;
   });
-  rings_.reserve(kept.size());
-  for (const auto &k : kept) rings_.emplace_back(atom_pool.begin() + k.atoms_off, atom_pool.begin() + k.atoms_off + k.size);
-  for (const auto &ring : rings_) {
+  // The kept rings stay where they were found, in the atom pool.
+  rings_.spans_.reserve(kept.size());
+  for (const auto &k : kept) rings_.spans_.push_back(RingList::Span{k.atoms_off, k.size});
+  rings_.pool_ = std::move(atom_pool);
+  for (const auto ring : rings_) {
     const int size = static_cast<int>(ring.size());
     for (std::size_t i = 0; i < ring.size(); ++i) {
       AtomRecord &r = atoms_[ring[i]];

@@ -765,7 +765,7 @@ bool next_to_ring_heteroatom(const Molecule &m, std::size_t a, const std::vector
 
 // Do atoms a and b lie in one ring (of the smallest rings)?
 bool share_ring(const SmartsTarget &t, std::size_t a, std::size_t b) {
-  for (const auto &r : t.rings())
+  for (const auto r : t.rings())
     if (std::find(r.begin(), r.end(), a) != r.end() && std::find(r.begin(), r.end(), b) != r.end()) return true;
   return false;
 }
@@ -1030,9 +1030,11 @@ class C13Increments final : public ShiftSource {
     const Molecule &m = t.molecule();
     if (!tab_.benzene_present) return fail(why, "no benzene table");
     std::string last;  // why the last ring failed, when a reason is asked for
-    for (const auto &ring : t.rings()) {
+    const RingList &rings = t.rings();
+    for (std::size_t ring_index = 0; ring_index < rings.size(); ++ring_index) {
+      const RingView ring = rings[ring_index];
       if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
-      const auto &b = benzene_ring(t, static_cast<std::size_t>(&ring - t.rings().data()));
+      const auto &b = benzene_ring(t, ring_index);
       if (!b.benzenoid) continue;
       const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
       Sum s("benzene increments", kBenzeneSpread);
@@ -1094,7 +1096,7 @@ class C13Increments final : public ShiftSource {
     if (b->made) return *b;
     b->made = true;
     const Molecule &m = t.molecule();
-    const auto &ring = t.rings()[ring_index];
+    const RingView ring = t.rings()[ring_index];
     bool benzenoid = ring.size() == 6;
     for (std::size_t i = 0; i < ring.size() && benzenoid; ++i) {
       const auto &at = m.atom(ring[i]);
@@ -1137,9 +1139,9 @@ class C13Increments final : public ShiftSource {
   bool fused_six(const SmartsTarget &t, std::size_t ring_index, std::size_t x) const {
     const Molecule &m = t.molecule();
     if (!sp3(x)) return false;
-    const auto &benzene = t.rings()[ring_index];
-    for (const auto &o : t.rings()) {
-      if (&o == &benzene || o.size() != 6 || std::find(o.begin(), o.end(), x) == o.end()) continue;
+    const RingView benzene = t.rings()[ring_index];
+    for (const auto o : t.rings()) {
+      if (o.same(benzene) || o.size() != 6 || std::find(o.begin(), o.end(), x) == o.end()) continue;
       bool fused = false, saturated = true;
       for (auto a : o) {
         fused = fused || std::find(benzene.begin(), benzene.end(), a) != benzene.end();
@@ -1163,7 +1165,7 @@ class C13Increments final : public ShiftSource {
   // 15.1 -> 6.4, lidocaine C1 13.9 -> 5.4, 2,6-dimethylphenol C1
   // 5.1 -> 4.9, BHT C1 5.7 -> 5.7 with the sign turned).
   enum class Crowding { None, BothOrtho, HeavyHalogen };
-  static Crowding crowded_donor(const SmartsTarget &t, std::size_t k, const std::vector<std::uint32_t> &ring,
+  static Crowding crowded_donor(const SmartsTarget &t, std::size_t k, RingView ring,
                             const std::vector<bool> &skeleton) {
     const Molecule &m = t.molecule();
     bool donor = false;
@@ -1481,7 +1483,7 @@ class C13Increments final : public ShiftSource {
   static int cis_pair(const SmartsTarget &t, std::size_t k, std::size_t p, std::size_t x, std::size_t y) {
     const Molecule &m = t.molecule();
     // In a small ring the ring bonds leave a double bond on the same side.
-    for (const auto &r : t.rings()) {
+    for (const auto r : t.rings()) {
       if (r.size() > 7) continue;
       auto in = [&](std::size_t a) { return std::find(r.begin(), r.end(), a) != r.end(); };
       if (in(k) && in(p) && in(x) && in(y)) return 1;
@@ -1727,14 +1729,14 @@ class C13Increments final : public ShiftSource {
     const Molecule &m = t.molecule();
     const auto &rt = tab_.ring;
     if (!rt.present) return fail(why, "no ring table");
-    const std::vector<std::uint32_t> *ring = nullptr;
-    for (const auto &r : t.rings())  // smallest first
+    RingView ring;  // empty until found: no ring is empty
+    for (const auto r : t.rings())  // smallest first
       if (std::find(r.begin(), r.end(), k) != r.end()) {
-        ring = &r;
+        ring = r;
         break;
       }
-    if (!ring) return fail(why, "sp3 carbon in a ring without a smallest ring");
-    const int n = static_cast<int>(ring->size());
+    if (ring.empty()) return fail(why, "sp3 carbon in a ring without a smallest ring");
+    const int n = static_cast<int>(ring.size());
     auto sized = [&](const std::vector<RingRow> &rows, auto accept) -> const RingRow * {
       const RingRow *generic = nullptr;
       for (const auto &row : rows) {
@@ -1753,13 +1755,13 @@ class C13Increments final : public ShiftSource {
     auto &skeleton = ring_scratch_.skeleton, &taken = ring_scratch_.taken;
     skeleton.assign(m.atom_count(), false);
     taken.assign(m.atom_count(), false);
-    for (auto a : *ring) skeleton[a] = taken[a] = true;
-    const auto ik = static_cast<int>(std::find(ring->begin(), ring->end(), k) - ring->begin());
+    for (auto a : ring) skeleton[a] = taken[a] = true;
+    const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
     auto ring_distance = [&](int i) { return std::min(std::abs(i - ik), n - std::abs(i - ik)); };
     const char *const position[] = {"alpha", "beta", "gamma", "delta"};
     // Ring members that are not sp3 carbons.
     for (int i = 0; i < n; ++i) {
-      const auto a = (*ring)[static_cast<std::size_t>(i)];
+      const auto a = ring[static_cast<std::size_t>(i)];
       if (a == k || sp3(a)) continue;
       const auto *row = sized(rt.members, [&](const RingRow &r) { return match_at(r.smarts, t, a) > 0; });
       if (!row) return fail(why, fmt::format("ring member {} has no row", atom_label(m, a)));
@@ -1804,12 +1806,12 @@ class C13Increments final : public ShiftSource {
     // Groups on the ring atoms.
     std::string problem;
     for (int i = 0; i < n && problem.empty(); ++i) {
-      const auto r = (*ring)[static_cast<std::size_t>(i)];
+      const auto r = ring[static_cast<std::size_t>(i)];
       const int d = ring_distance(i);
       for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
         if (taken[x] || !problem.empty()) return;
-        const auto *bridge = bridge_row(t, *ring, r, x);
-        if (bridge && d == 2 && tied_to_own_bridge(t, *ring, k, x)) {
+        const auto *bridge = bridge_row(t, ring, r, x);
+        if (bridge && d == 2 && tied_to_own_bridge(t, ring, k, x)) {
           s.unvalued();
           return;
         }
@@ -1830,7 +1832,7 @@ class C13Increments final : public ShiftSource {
         // Increments measured on ring carbons; on a ring heteroatom, or
         // where the group closes another ring (fused, bridged, spiro), they
         // are carried over.
-        if (m.atom(r).atomic_number != 6 || (t.ring_count(x) > 0 && t.ring_count(r) > 1 && share_ring_other(t, r, x, *ring)))
+        if (m.atom(r).atomic_number != 6 || (t.ring_count(x) > 0 && t.ring_count(r) > 1 && share_ring_other(t, r, x, ring)))
           s.carried(kCarriedPosition[d], row->id, *v);
         else
           s.add(position[d], row->id, *v);
@@ -1855,13 +1857,13 @@ class C13Increments final : public ShiftSource {
   // terms for every bridged ring (norbornanes: 5-membered rings) or for
   // fused rings (trans-decalin) made more carbons worse than better, so only
   // rings of the row's size bridged by one of that size take them.
-  const RingRow *bridge_row(const SmartsTarget &t, const std::vector<std::uint32_t> &ring, std::size_t r,
+  const RingRow *bridge_row(const SmartsTarget &t, RingView ring, std::size_t r,
                             std::size_t x) const {
     if (!sp3(x) || t.ring_count(x) == 0) return nullptr;
     for (const auto &row : tab_.ring.bridges) {
       if (static_cast<std::size_t>(row.ring_size) != ring.size()) continue;
-      for (const auto &o : t.rings()) {
-        if (&o == &ring || o.size() != ring.size() || std::find(o.begin(), o.end(), r) == o.end() ||
+      for (const auto o : t.rings()) {
+        if (o.same(ring) || o.size() != ring.size() || std::find(o.begin(), o.end(), r) == o.end() ||
             std::find(o.begin(), o.end(), x) == o.end())
           continue;
         int shared = 0;
@@ -1881,7 +1883,7 @@ class C13Increments final : public ShiftSource {
   // position. Leave-one-out (benchmarks/loo_shifts.cpp): the four CH of
   // adamantane 14.5 -> 1.7 ppm off, no other carbon changes. Chosen after
   // looking at adamantane, the only reference compound with this shape.
-  bool tied_to_own_bridge(const SmartsTarget &t, const std::vector<std::uint32_t> &ring, std::size_t k,
+  bool tied_to_own_bridge(const SmartsTarget &t, RingView ring, std::size_t k,
                           std::size_t x) const {
     const Molecule &m = t.molecule();
     bool tied = false;
@@ -1895,10 +1897,9 @@ class C13Increments final : public ShiftSource {
   }
 
   // Do r and x share a smallest ring other than `ring`?
-  static bool share_ring_other(const SmartsTarget &t, std::size_t r, std::size_t x,
-                               const std::vector<std::uint32_t> &ring) {
-    for (const auto &o : t.rings()) {
-      if (&o == &ring) continue;
+  static bool share_ring_other(const SmartsTarget &t, std::size_t r, std::size_t x, RingView ring) {
+    for (const auto o : t.rings()) {
+      if (o.same(ring)) continue;
       if (std::find(o.begin(), o.end(), r) != o.end() && std::find(o.begin(), o.end(), x) != o.end()) return true;
     }
     return false;
