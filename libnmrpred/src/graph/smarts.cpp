@@ -1211,9 +1211,14 @@ void SmartsTarget::perceive_rings() const {
   // bits in flat pools: a part yields many candidates, mostly copies of one
   // ring found from each of its atoms. Kept rings stay in the atom pool.
   struct Cycle {
-    std::uint32_t atoms_off, size, bits_off, root, edge;
+    std::uint32_t atoms_off, size, bits_off;
   };
-  std::vector<Cycle> candidates, kept;
+  std::vector<Cycle> candidates;
+  // The rings kept, as spans of the atom pool, are the target's list itself.
+  // A span's first atom is its root, and from one root the candidates come
+  // in ascending edge order at ascending offsets: the span holds all that
+  // the final sort needs.
+  std::vector<RingList::Span> &kept = rings_.spans_;
   // Sized for the common case (one candidate per core bond) so that the
   // pools seldom grow step by step; the candidates and their bonds only
   // once a part of more than one ring needs them.
@@ -1287,7 +1292,7 @@ void SmartsTarget::perceive_rings() const {
         // A part that is one ring (a simple cycle) has one edge off the
         // tree, so this is its only candidate, kept without its bonds.
         if (rank == 1) {
-          kept.push_back(Cycle{off, size, 0, r, e});
+          kept.push_back(RingList::Span{off, size});
           continue;
         }
         // Its bonds: e and the tree bonds of both paths.
@@ -1300,7 +1305,7 @@ void SmartsTarget::perceive_rings() const {
         set_bit(e);
         for (w = x; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) set_bit(static_cast<std::size_t>(parent_edge[w]));
         for (w = y; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) set_bit(static_cast<std::size_t>(parent_edge[w]));
-        candidates.push_back(Cycle{off, size, bits_off, r, e});
+        candidates.push_back(Cycle{off, size, bits_off});
       }
       for (std::size_t k = 0; k < reached; ++k) dist[bfs[k]] = -1;
     }
@@ -1365,7 +1370,7 @@ void SmartsTarget::perceive_rings() const {
         if (copy[k - i]) continue;
         reduce(bits_of(candidates[k]));
         if (first_bit() == words * 64) continue;
-        kept.push_back(candidates[k]);
+        kept.push_back(RingList::Span{candidates[k].atoms_off, candidates[k].size});
         group.push_back(static_cast<std::uint32_t>(k));
       }
       for (auto k : group) add(bits_of(candidates[k]));
@@ -1376,12 +1381,11 @@ void SmartsTarget::perceive_rings() const {
   // as found there, from roots in ascending order and, per root, edges in
   // ascending order. The parts' edge sets are disjoint, so a part's rings
   // and the sums that rule a ring out are the same either way.
-  std::sort(kept.begin(), kept.end(), [](const Cycle &a, const Cycle &b) {
-    return a.size != b.size ? a.size < b.size : a.root != b.root ? a.root < b.root : a.edge < b.edge;
+  std::sort(kept.begin(), kept.end(), [&](const RingList::Span &a, const RingList::Span &b) {
+    const auto root_a = atom_pool[a.offset], root_b = atom_pool[b.offset];
+    return a.size != b.size ? a.size < b.size : root_a != root_b ? root_a < root_b : a.offset < b.offset;
   });
   // The kept rings stay where they were found, in the atom pool.
-  rings_.spans_.reserve(kept.size());
-  for (const auto &k : kept) rings_.spans_.push_back(RingList::Span{k.atoms_off, k.size});
   rings_.pool_ = std::move(atom_pool);
   for (const auto ring : rings_) {
     const int size = static_cast<int>(ring.size());
