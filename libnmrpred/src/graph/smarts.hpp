@@ -158,7 +158,7 @@ class SmartsTarget {
   }
   int bond_ring_count(std::size_t bond) const {
     if (!rings_done_) perceive_rings();
-    return bond_rings_[bond];
+    return bond < bond_rings_.size() ? bond_rings_[bond] : 0;  // none kept without rings
   }
   // Size of the smallest ring that contains the atom, 0 if none.
   int smallest_ring(std::size_t atom) const {
