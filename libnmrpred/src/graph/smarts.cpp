@@ -1084,23 +1084,18 @@ void SmartsTarget::perceive_rings() const {
   rings_done_ = true;
   const Molecule &m = m_;
   const std::size_t n = m.heavy_atom_count();
-  bond_rings_.assign(m.bond_count(), 0);
   const std::size_t bond_count = m.bond_count();
-  // The scratch of known size, per heavy atom and per bond, in one block:
-  // a molecule's rings are perceived once, and a dozen allocations cost
-  // about as much as the search in a molecule of one or two rings.
-  std::vector<std::int32_t> scratch(18 * n + 3 + 5 * bond_count);
-  std::int32_t *next_free = scratch.data();
-  auto carve = [&](std::size_t size) {
-    std::int32_t *const block = next_free;
-    next_free += size;
-    return block;
-  };
-  std::int32_t *const deg = carve(n), *const found = carve(n), *const low = carve(n), *const part = carve(n),
-                      *const dist = carve(n), *const parent_edge = carve(n), *const parent_atom = carve(n),
-                      *const core = carve(n), *const edge_of_bond = carve(bond_count);
-  auto *const queue = reinterpret_cast<std::uint32_t *>(carve(n));
-  auto *const edges = reinterpret_cast<std::uint32_t *>(carve(bond_count));  // core bonds
+  // Ring atoms first, in a block of their own (on the stack for molecules
+  // of usual size): a quarter of the molecules has no ring, and for them
+  // this is all, with no bond_rings_ (bond_ring_count() reads 0).
+  constexpr std::size_t kStackAtoms = 128;
+  std::array<std::int32_t, 3 * kStackAtoms> strip_on_stack;
+  std::vector<std::int32_t> strip_on_heap;
+  std::int32_t *strip = strip_on_stack.data();
+  if (n > kStackAtoms) strip_on_heap.resize(3 * n), strip = strip_on_heap.data();
+  std::int32_t *const deg = strip, *const core = strip + n;
+  auto *const queue = reinterpret_cast<std::uint32_t *>(strip + 2 * n);
+  std::fill(deg, deg + n, 0);
   std::size_t queued = 0, edge_count = 0;
   // Ring atoms: strip atoms of heavy degree <= 1 until none is left.
   for (std::uint32_t b = 0; b < m.bond_count(); ++b) {
@@ -1115,6 +1110,24 @@ void SmartsTarget::perceive_rings() const {
     for (auto it = m.neighbours_begin(a), end = m.neighbours_end(a); it != end; ++it)
       if (*it < n && core[*it] && --deg[*it] <= 1) core[*it] = 0, queue[queued++] = *it;
   }
+  // An atom left has two neighbours left: no atom left, no ring bond.
+  if (std::find(core, core + n, 1) == core + n) return;
+  bond_rings_.assign(bond_count, 0);
+  // The rest of the scratch of known size, per heavy atom and per bond, in
+  // one block: a molecule's rings are perceived once, and a dozen
+  // allocations cost about as much as the search in a molecule of one or
+  // two rings.
+  std::vector<std::int32_t> scratch(15 * n + 3 + 5 * bond_count);
+  std::int32_t *next_free = scratch.data();
+  auto carve = [&](std::size_t size) {
+    std::int32_t *const block = next_free;
+    next_free += size;
+    return block;
+  };
+  std::int32_t *const found = carve(n), *const low = carve(n), *const part = carve(n), *const dist = carve(n),
+                      *const parent_edge = carve(n), *const parent_atom = carve(n),
+                      *const edge_of_bond = carve(bond_count);
+  auto *const edges = reinterpret_cast<std::uint32_t *>(carve(bond_count));  // core bonds
   for (std::uint32_t b = 0; b < bond_count; ++b) {
     const auto &bd = m.bond(b);
     edge_of_bond[b] = -1;
@@ -1211,9 +1224,14 @@ void SmartsTarget::perceive_rings() const {
   // bits in flat pools: a part yields many candidates, mostly copies of one
   // ring found from each of its atoms. Kept rings stay in the atom pool.
   struct Cycle {
-    std::uint32_t atoms_off, size, bits_off, root, edge;
+    std::uint32_t atoms_off, size, bits_off;
   };
-  std::vector<Cycle> candidates, kept;
+  std::vector<Cycle> candidates;
+  // The rings kept, as spans of the atom pool, are the target's list itself.
+  // A span's first atom is its root, and from one root the candidates come
+  // in ascending edge order at ascending offsets: the span holds all that
+  // the final sort needs.
+  std::vector<RingList::Span> &kept = rings_.spans_;
   // Sized for the common case (one candidate per core bond) so that the
   // pools seldom grow step by step; the candidates and their bonds only
   // once a part of more than one ring needs them.
@@ -1287,7 +1305,7 @@ void SmartsTarget::perceive_rings() const {
         // A part that is one ring (a simple cycle) has one edge off the
         // tree, so this is its only candidate, kept without its bonds.
         if (rank == 1) {
-          kept.push_back(Cycle{off, size, 0, r, e});
+          kept.push_back(RingList::Span{off, size});
           continue;
         }
         // Its bonds: e and the tree bonds of both paths.
@@ -1300,7 +1318,7 @@ void SmartsTarget::perceive_rings() const {
         set_bit(e);
         for (w = x; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) set_bit(static_cast<std::size_t>(parent_edge[w]));
         for (w = y; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) set_bit(static_cast<std::size_t>(parent_edge[w]));
-        candidates.push_back(Cycle{off, size, bits_off, r, e});
+        candidates.push_back(Cycle{off, size, bits_off});
       }
       for (std::size_t k = 0; k < reached; ++k) dist[bfs[k]] = -1;
     }
@@ -1365,7 +1383,7 @@ void SmartsTarget::perceive_rings() const {
         if (copy[k - i]) continue;
         reduce(bits_of(candidates[k]));
         if (first_bit() == words * 64) continue;
-        kept.push_back(candidates[k]);
+        kept.push_back(RingList::Span{candidates[k].atoms_off, candidates[k].size});
         group.push_back(static_cast<std::uint32_t>(k));
       }
       for (auto k : group) add(bits_of(candidates[k]));
@@ -1376,12 +1394,13 @@ void SmartsTarget::perceive_rings() const {
   // as found there, from roots in ascending order and, per root, edges in
   // ascending order. The parts' edge sets are disjoint, so a part's rings
   // and the sums that rule a ring out are the same either way.
-  std::sort(kept.begin(), kept.end(), [](const Cycle &a, const Cycle &b) {
-    return a.size != b.size ? a.size < b.size : a.root != b.root ? a.root < b.root : a.edge < b.edge;
+  std::sort(kept.begin(), kept.end(), [&](const RingList::Span &a, const RingList::Span &b) {
+    const auto root_a = atom_pool[a.offset], root_b = atom_pool[b.offset];
+    return a.size != b.size ? a.size < b.size : root_a != root_b ? root_a < root_b : a.offset < b.offset;
   });
-  rings_.reserve(kept.size());
-  for (const auto &k : kept) rings_.emplace_back(atom_pool.begin() + k.atoms_off, atom_pool.begin() + k.atoms_off + k.size);
-  for (const auto &ring : rings_) {
+  // The kept rings stay where they were found, in the atom pool.
+  rings_.pool_ = std::move(atom_pool);
+  for (const auto ring : rings_) {
     const int size = static_cast<int>(ring.size());
     for (std::size_t i = 0; i < ring.size(); ++i) {
       AtomRecord &r = atoms_[ring[i]];

@@ -84,6 +84,58 @@ class SmartsPattern {
   std::size_t neighbour_demands_ = 0;
 };
 
+// One smallest ring of SmartsTarget::rings(): its atoms in ring order, seen
+// in the target's atom pool (valid while the target lives). A view, not a
+// list per ring: a list per ring was an allocation per ring per molecule.
+class RingView {
+ public:
+  RingView() = default;
+  RingView(const std::uint32_t *first, const std::uint32_t *last) noexcept : first_(first), last_(last) {}
+  const std::uint32_t *begin() const noexcept { return first_; }
+  const std::uint32_t *end() const noexcept { return last_; }
+  std::size_t size() const noexcept { return static_cast<std::size_t>(last_ - first_); }
+  bool empty() const noexcept { return first_ == last_; }
+  std::uint32_t operator[](std::size_t i) const noexcept { return first_[i]; }
+  // The same ring of the same list (not merely the same atoms).
+  bool same(const RingView &other) const noexcept { return first_ == other.first_ && last_ == other.last_; }
+
+ private:
+  const std::uint32_t *first_ = nullptr, *last_ = nullptr;
+};
+
+// SmartsTarget::rings(): the rings' atoms in one pool, each ring a span of it.
+class RingList {
+ public:
+  struct Span {
+    std::uint32_t offset = 0, size = 0;
+  };
+  class iterator {
+   public:
+    iterator(const std::uint32_t *pool, const Span *span) noexcept : pool_(pool), span_(span) {}
+    RingView operator*() const noexcept { return RingView(pool_ + span_->offset, pool_ + span_->offset + span_->size); }
+    iterator &operator++() noexcept {
+      ++span_;
+      return *this;
+    }
+    bool operator==(const iterator &other) const noexcept { return span_ == other.span_; }
+    bool operator!=(const iterator &other) const noexcept { return span_ != other.span_; }
+
+   private:
+    const std::uint32_t *pool_;
+    const Span *span_;
+  };
+  std::size_t size() const noexcept { return spans_.size(); }
+  bool empty() const noexcept { return spans_.empty(); }
+  RingView operator[](std::size_t i) const noexcept { return *iterator(pool_.data(), spans_.data() + i); }
+  iterator begin() const noexcept { return iterator(pool_.data(), spans_.data()); }
+  iterator end() const noexcept { return iterator(pool_.data(), spans_.data() + spans_.size()); }
+
+ private:
+  friend class SmartsTarget;
+  std::vector<std::uint32_t> pool_;
+  std::vector<Span> spans_;
+};
+
 // Per-molecule facts that patterns ask about, read from the molecule once
 // because every pattern of every rule table asks them again. Ring perception
 // runs on first use only. Not thread-safe: one target per thread (it also
@@ -106,7 +158,7 @@ class SmartsTarget {
   }
   int bond_ring_count(std::size_t bond) const {
     if (!rings_done_) perceive_rings();
-    return bond_rings_[bond];
+    return bond < bond_rings_.size() ? bond_rings_[bond] : 0;  // none kept without rings
   }
   // Size of the smallest ring that contains the atom, 0 if none.
   int smallest_ring(std::size_t atom) const {
@@ -114,7 +166,7 @@ class SmartsTarget {
     return atoms_[atom].smallest_ring;
   }
   // The smallest rings as atom lists in ring order, smallest first.
-  const std::vector<std::vector<std::uint32_t>> &rings() const {
+  const RingList &rings() const {
     if (!rings_done_) perceive_rings();
     return rings_;
   }
@@ -192,7 +244,7 @@ class SmartsTarget {
   mutable std::vector<AtomRecord> atoms_;  // ring fields filled on first ring query
   std::array<std::uint32_t, 256> element_count_{};
   mutable bool rings_done_ = false;
-  mutable std::vector<std::vector<std::uint32_t>> rings_;
+  mutable RingList rings_;
   mutable std::vector<std::uint8_t> bond_rings_;
   mutable std::uint32_t ring_parts_ = 0;  // ring systems
   static constexpr std::size_t kSystemCountSize = 256;  // per ring system: counts as element_count_

@@ -765,7 +765,7 @@ bool next_to_ring_heteroatom(const Molecule &m, std::size_t a, const std::vector
 
 // Do atoms a and b lie in one ring (of the smallest rings)?
 bool share_ring(const SmartsTarget &t, std::size_t a, std::size_t b) {
-  for (const auto &r : t.rings())
+  for (const auto r : t.rings())
     if (std::find(r.begin(), r.end(), a) != r.end() && std::find(r.begin(), r.end(), b) != r.end()) return true;
   return false;
 }
@@ -1030,9 +1030,11 @@ class C13Increments final : public ShiftSource {
     const Molecule &m = t.molecule();
     if (!tab_.benzene_present) return fail(why, "no benzene table");
     std::string last;  // why the last ring failed, when a reason is asked for
-    for (const auto &ring : t.rings()) {
+    const RingList &rings = t.rings();
+    for (std::size_t ring_index = 0; ring_index < rings.size(); ++ring_index) {
+      const RingView ring = rings[ring_index];
       if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
-      const auto &b = benzene_ring(t, static_cast<std::size_t>(&ring - t.rings().data()));
+      const auto &b = benzene_ring(t, ring_index);
       if (!b.benzenoid) continue;
       const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
       Sum s("benzene increments", kBenzeneSpread);
@@ -1074,6 +1076,7 @@ class C13Increments final : public ShiftSource {
   // The six carbons of a ring ask the same, so it is found once per
   // molecule.
   struct BenzeneRing {
+    bool made = false;  // benzene_ring() has filled it in
     bool benzenoid = false;
     std::vector<bool> skeleton;  // the ring's atoms
     struct Substituent {
@@ -1082,15 +1085,18 @@ class C13Increments final : public ShiftSource {
       const BenzeneRow *row;  // null: no row
       bool bridging;          // shares a smallest ring with its ring atom
     };
-    std::vector<Substituent> substituents;
+    // Mostly one per ring atom: six slots inside, the heap beyond.
+    SmallVec<Substituent, 6> substituents;
   };
   const BenzeneRing &benzene_ring(const SmartsTarget &t, std::size_t ring_index) const {
     if (benzene_rings_.empty()) benzene_rings_.resize(t.rings().size());
-    auto &b = benzene_rings_[ring_index];
-    if (b) return *b;
-    b = std::make_unique<BenzeneRing>();
+    // Kept in place, one record per ring: nothing below asks for another
+    // ring's record while this one is made, and the list is sized once.
+    BenzeneRing *const b = &benzene_rings_[ring_index];
+    if (b->made) return *b;
+    b->made = true;
     const Molecule &m = t.molecule();
-    const auto &ring = t.rings()[ring_index];
+    const RingView ring = t.rings()[ring_index];
     bool benzenoid = ring.size() == 6;
     for (std::size_t i = 0; i < ring.size() && benzenoid; ++i) {
       const auto &at = m.atom(ring[i]);
@@ -1133,9 +1139,9 @@ class C13Increments final : public ShiftSource {
   bool fused_six(const SmartsTarget &t, std::size_t ring_index, std::size_t x) const {
     const Molecule &m = t.molecule();
     if (!sp3(x)) return false;
-    const auto &benzene = t.rings()[ring_index];
-    for (const auto &o : t.rings()) {
-      if (&o == &benzene || o.size() != 6 || std::find(o.begin(), o.end(), x) == o.end()) continue;
+    const RingView benzene = t.rings()[ring_index];
+    for (const auto o : t.rings()) {
+      if (o.same(benzene) || o.size() != 6 || std::find(o.begin(), o.end(), x) == o.end()) continue;
       bool fused = false, saturated = true;
       for (auto a : o) {
         fused = fused || std::find(benzene.begin(), benzene.end(), a) != benzene.end();
@@ -1159,7 +1165,7 @@ class C13Increments final : public ShiftSource {
   // 15.1 -> 6.4, lidocaine C1 13.9 -> 5.4, 2,6-dimethylphenol C1
   // 5.1 -> 4.9, BHT C1 5.7 -> 5.7 with the sign turned).
   enum class Crowding { None, BothOrtho, HeavyHalogen };
-  static Crowding crowded_donor(const SmartsTarget &t, std::size_t k, const std::vector<std::uint32_t> &ring,
+  static Crowding crowded_donor(const SmartsTarget &t, std::size_t k, RingView ring,
                             const std::vector<bool> &skeleton) {
     const Molecule &m = t.molecule();
     bool donor = false;
@@ -1477,7 +1483,7 @@ class C13Increments final : public ShiftSource {
   static int cis_pair(const SmartsTarget &t, std::size_t k, std::size_t p, std::size_t x, std::size_t y) {
     const Molecule &m = t.molecule();
     // In a small ring the ring bonds leave a double bond on the same side.
-    for (const auto &r : t.rings()) {
+    for (const auto r : t.rings()) {
       if (r.size() > 7) continue;
       auto in = [&](std::size_t a) { return std::find(r.begin(), r.end(), a) != r.end(); };
       if (in(k) && in(p) && in(x) && in(y)) return 1;
@@ -1527,7 +1533,9 @@ class C13Increments final : public ShiftSource {
     const Molecule &m = t.molecule();
     sp3_chains_.assign(m.heavy_atom_count(), -1);
     std::int32_t chains = 0;
-    std::vector<std::size_t> queue;
+    // sp3_additive()'s scratch: it asks for the chains before its walks.
+    auto &queue = sp3_scratch_.queue;
+    if (queue.capacity() < m.heavy_atom_count()) queue.reserve(m.heavy_atom_count());
     for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) {
       if (sp3_chains_[a] >= 0 || !sp3(a)) continue;
       sp3_chains_[a] = chains;
@@ -1595,9 +1603,14 @@ class C13Increments final : public ShiftSource {
     auto &skeleton = sp3_scratch_.skeleton;  // walked sp3 carbons
     auto &taken = sp3_scratch_.taken;        // walked, or part of a substituent
     auto &bucket = sp3_scratch_.bucket;
+    auto &bucket_size = sp3_scratch_.bucket_size;
     skeleton.assign(m.atom_count(), false);
     taken.assign(n, false);
-    for (auto &b : bucket) b.clear();
+    if (bucket.size() < 5 * n) bucket.resize(5 * n);
+    bucket_size.fill(0);
+    auto push = [&](std::size_t d, std::size_t x) { bucket[d * n + bucket_size[d]++] = static_cast<std::uint32_t>(x); };
+    // Every walk below visits each heavy atom once at most.
+    if (sp3_scratch_.queue.capacity() < n) sp3_scratch_.queue.reserve(n);
     // sp3 carbons connected to k through sp3 carbons are chain positions; a
     // group branch never swallows them (it would in a ring).
     const auto &chain_of = sp3_chains(t);
@@ -1605,7 +1618,7 @@ class C13Increments final : public ShiftSource {
     Sum s("sp3 additive increments (Grant-Paul)", kAdditiveSpread);
     s.base(tab_.gp_base_label, tab_.gp_base.ppm);
     skeleton[k] = taken[k] = true;
-    bucket[0].push_back(k);
+    push(0, k);
     const bool k_in_ring = t.ring_count(k) > 0;
     bool ring = false;
     int groups_on_k = 0, hetero_on_k = 0;
@@ -1616,7 +1629,7 @@ class C13Increments final : public ShiftSource {
       if (t.ring_count(x) > 0) ring = true;
       const auto &pp = tab_.gp_position[static_cast<std::size_t>(d)];
       if (pp.set) s.add(kPositionName[d], pp.id, pp.ppm);
-      if (walk_d < 5) bucket[static_cast<std::size_t>(walk_d)].push_back(x);
+      if (walk_d < 5) push(static_cast<std::size_t>(walk_d), x);
     };
     for (int d = 0; d < 5 && problem.empty(); ++d) {
       // The groups on k are known once its neighbours are walked, and with
@@ -1625,8 +1638,9 @@ class C13Increments final : public ShiftSource {
       if (d == 1 && !why && (k_in_ring || hetero_on_k >= 2 || (groups_on_k >= 2 && hetero_on_k >= 1) ||
                              (groups_on_k > 0 && polyhalo_neighbour(m, k))))
         return std::nullopt;
-      for (std::size_t bi = 0; bi < bucket[static_cast<std::size_t>(d)].size() && problem.empty(); ++bi) {
-        const auto c = bucket[static_cast<std::size_t>(d)][bi];
+      const auto du = static_cast<std::size_t>(d);
+      for (std::size_t bi = 0; bi < bucket_size[du] && problem.empty(); ++bi) {
+        const std::size_t c = bucket[du * n + bi];
         for_heavy_neighbours(m, c, [&](std::size_t x, BondOrder) {
           if (taken[x] || !problem.empty()) return;
           const int dx = d + 1;
@@ -1715,14 +1729,14 @@ class C13Increments final : public ShiftSource {
     const Molecule &m = t.molecule();
     const auto &rt = tab_.ring;
     if (!rt.present) return fail(why, "no ring table");
-    const std::vector<std::uint32_t> *ring = nullptr;
-    for (const auto &r : t.rings())  // smallest first
+    RingView ring;  // empty until found: no ring is empty
+    for (const auto r : t.rings())  // smallest first
       if (std::find(r.begin(), r.end(), k) != r.end()) {
-        ring = &r;
+        ring = r;
         break;
       }
-    if (!ring) return fail(why, "sp3 carbon in a ring without a smallest ring");
-    const int n = static_cast<int>(ring->size());
+    if (ring.empty()) return fail(why, "sp3 carbon in a ring without a smallest ring");
+    const int n = static_cast<int>(ring.size());
     auto sized = [&](const std::vector<RingRow> &rows, auto accept) -> const RingRow * {
       const RingRow *generic = nullptr;
       for (const auto &row : rows) {
@@ -1741,13 +1755,13 @@ class C13Increments final : public ShiftSource {
     auto &skeleton = ring_scratch_.skeleton, &taken = ring_scratch_.taken;
     skeleton.assign(m.atom_count(), false);
     taken.assign(m.atom_count(), false);
-    for (auto a : *ring) skeleton[a] = taken[a] = true;
-    const auto ik = static_cast<int>(std::find(ring->begin(), ring->end(), k) - ring->begin());
+    for (auto a : ring) skeleton[a] = taken[a] = true;
+    const auto ik = static_cast<int>(std::find(ring.begin(), ring.end(), k) - ring.begin());
     auto ring_distance = [&](int i) { return std::min(std::abs(i - ik), n - std::abs(i - ik)); };
     const char *const position[] = {"alpha", "beta", "gamma", "delta"};
     // Ring members that are not sp3 carbons.
     for (int i = 0; i < n; ++i) {
-      const auto a = (*ring)[static_cast<std::size_t>(i)];
+      const auto a = ring[static_cast<std::size_t>(i)];
       if (a == k || sp3(a)) continue;
       const auto *row = sized(rt.members, [&](const RingRow &r) { return match_at(r.smarts, t, a) > 0; });
       if (!row) return fail(why, fmt::format("ring member {} has no row", atom_label(m, a)));
@@ -1792,12 +1806,12 @@ class C13Increments final : public ShiftSource {
     // Groups on the ring atoms.
     std::string problem;
     for (int i = 0; i < n && problem.empty(); ++i) {
-      const auto r = (*ring)[static_cast<std::size_t>(i)];
+      const auto r = ring[static_cast<std::size_t>(i)];
       const int d = ring_distance(i);
       for_heavy_neighbours(m, r, [&](std::size_t x, BondOrder) {
         if (taken[x] || !problem.empty()) return;
-        const auto *bridge = bridge_row(t, *ring, r, x);
-        if (bridge && d == 2 && tied_to_own_bridge(t, *ring, k, x)) {
+        const auto *bridge = bridge_row(t, ring, r, x);
+        if (bridge && d == 2 && tied_to_own_bridge(t, ring, k, x)) {
           s.unvalued();
           return;
         }
@@ -1818,7 +1832,7 @@ class C13Increments final : public ShiftSource {
         // Increments measured on ring carbons; on a ring heteroatom, or
         // where the group closes another ring (fused, bridged, spiro), they
         // are carried over.
-        if (m.atom(r).atomic_number != 6 || (t.ring_count(x) > 0 && t.ring_count(r) > 1 && share_ring_other(t, r, x, *ring)))
+        if (m.atom(r).atomic_number != 6 || (t.ring_count(x) > 0 && t.ring_count(r) > 1 && share_ring_other(t, r, x, ring)))
           s.carried(kCarriedPosition[d], row->id, *v);
         else
           s.add(position[d], row->id, *v);
@@ -1843,13 +1857,13 @@ class C13Increments final : public ShiftSource {
   // terms for every bridged ring (norbornanes: 5-membered rings) or for
   // fused rings (trans-decalin) made more carbons worse than better, so only
   // rings of the row's size bridged by one of that size take them.
-  const RingRow *bridge_row(const SmartsTarget &t, const std::vector<std::uint32_t> &ring, std::size_t r,
+  const RingRow *bridge_row(const SmartsTarget &t, RingView ring, std::size_t r,
                             std::size_t x) const {
     if (!sp3(x) || t.ring_count(x) == 0) return nullptr;
     for (const auto &row : tab_.ring.bridges) {
       if (static_cast<std::size_t>(row.ring_size) != ring.size()) continue;
-      for (const auto &o : t.rings()) {
-        if (&o == &ring || o.size() != ring.size() || std::find(o.begin(), o.end(), r) == o.end() ||
+      for (const auto o : t.rings()) {
+        if (o.same(ring) || o.size() != ring.size() || std::find(o.begin(), o.end(), r) == o.end() ||
             std::find(o.begin(), o.end(), x) == o.end())
           continue;
         int shared = 0;
@@ -1869,7 +1883,7 @@ class C13Increments final : public ShiftSource {
   // position. Leave-one-out (benchmarks/loo_shifts.cpp): the four CH of
   // adamantane 14.5 -> 1.7 ppm off, no other carbon changes. Chosen after
   // looking at adamantane, the only reference compound with this shape.
-  bool tied_to_own_bridge(const SmartsTarget &t, const std::vector<std::uint32_t> &ring, std::size_t k,
+  bool tied_to_own_bridge(const SmartsTarget &t, RingView ring, std::size_t k,
                           std::size_t x) const {
     const Molecule &m = t.molecule();
     bool tied = false;
@@ -1883,10 +1897,9 @@ class C13Increments final : public ShiftSource {
   }
 
   // Do r and x share a smallest ring other than `ring`?
-  static bool share_ring_other(const SmartsTarget &t, std::size_t r, std::size_t x,
-                               const std::vector<std::uint32_t> &ring) {
-    for (const auto &o : t.rings()) {
-      if (&o == &ring) continue;
+  static bool share_ring_other(const SmartsTarget &t, std::size_t r, std::size_t x, RingView ring) {
+    for (const auto o : t.rings()) {
+      if (o.same(ring)) continue;
       if (std::find(o.begin(), o.end(), r) != o.end() && std::find(o.begin(), o.end(), x) != o.end()) return true;
     }
     return false;
@@ -2005,7 +2018,7 @@ class C13Increments final : public ShiftSource {
   mutable const SmartsTarget *target_ = nullptr;
   mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_matches_;  // per hetero ring
   mutable std::vector<std::uint8_t> hetero_cover_;  // per hetero ring and atom, see hetero_covers()
-  mutable std::vector<std::unique_ptr<BenzeneRing>> benzene_rings_;  // per smallest ring, see benzene_ring()
+  mutable std::vector<BenzeneRing> benzene_rings_;  // per smallest ring, see benzene_ring()
   mutable std::vector<std::int32_t> sp3_chains_;  // see sp3_chains()
   mutable std::vector<std::uint8_t> sp3_;         // see sp3()
   // Per heavy atom, its row of c13_sp3_substituent in the parent scheme,
@@ -2030,9 +2043,13 @@ class C13Increments final : public ShiftSource {
   // Scratch of sp3_additive(), which never runs inside itself.
   struct Sp3Scratch {
     std::vector<bool> skeleton, taken;
-    std::array<std::vector<std::size_t>, 6> bucket;
+    // The atoms to walk from at distances 0..4, slice d of n slots each:
+    // an atom is walked once at most, so a slice never overflows, and five
+    // vectors growing step by step cost several allocations per molecule.
+    std::vector<std::uint32_t> bucket;
+    std::array<std::size_t, 5> bucket_size{};
     std::vector<int> dist;
-    std::vector<std::size_t> queue;
+    std::vector<std::size_t> queue;  // breadth-first walks, n slots reserved
   };
   mutable Sp3Scratch sp3_scratch_;
   // Scratch of sp3_parent() and of ring_sp3(), neither of which runs inside

@@ -690,7 +690,7 @@ bool unsaturated(const Molecule &m, std::size_t a) {
 }
 
 bool in_one_ring(const SmartsTarget &t, std::initializer_list<std::size_t> atoms, std::size_t max_size = 0) {
-  for (const auto &r : t.rings()) {
+  for (const auto r : t.rings()) {
     if (max_size && r.size() > max_size) continue;
     bool all = true;
     for (auto a : atoms) all = all && std::find(r.begin(), r.end(), a) != r.end();
@@ -725,21 +725,8 @@ struct RingAtoms {
   std::size_t size = 0;
   const std::uint32_t *begin() const { return atoms.data(); }
   const std::uint32_t *end() const { return atoms.data() + size; }
-};
-
-// A ring's atoms in order, viewed: a RingAtoms or a ring of
-// SmartsTarget::rings().
-class RingView {
- public:
-  // Implicit, so that either kind of ring passes as it is.
-  RingView(const RingAtoms &r) : begin_(r.begin()), end_(r.end()) {}
-  RingView(const std::vector<std::uint32_t> &r) : begin_(r.data()), end_(r.data() + r.size()) {}
-  const std::uint32_t *begin() const { return begin_; }
-  const std::uint32_t *end() const { return end_; }
-  std::uint32_t operator[](std::size_t i) const { return begin_[i]; }
-
- private:
-  const std::uint32_t *begin_, *end_;
+  // Implicit, so that it passes where a ring of SmartsTarget::rings() does.
+  operator RingView() const { return RingView(begin(), end()); }
 };
 
 // `cycle`, a ring that is its atoms' whole ring system (in either direction
@@ -1147,9 +1134,11 @@ class H1Increments final : public ShiftSource {
     // makes it its whole ring system; any other system needs no perception.
     const RingSystem *sys = ring_system(t.molecule(), k);
     if (!sys || sys->atoms != 6) return std::nullopt;
-    for (const auto &ring : t.rings()) {
+    const RingList &rings = t.rings();
+    for (std::size_t ring_index = 0; ring_index < rings.size(); ++ring_index) {
+      const RingView ring = rings[ring_index];
       if (ring.size() != 6 || std::find(ring.begin(), ring.end(), k) == ring.end()) continue;
-      const BenzeneRing &br = benzene_ring(t, static_cast<std::size_t>(&ring - t.rings().data()));
+      const BenzeneRing &br = benzene_ring(t, ring_index);
       if (!br.benzenoid) continue;
       if (auto e = benzene_sum(ring, br, k)) return e;
     }
@@ -1602,7 +1591,7 @@ class H1Increments final : public ShiftSource {
     // carbon there, no ring perception is needed to tell.
     const RingSystem *sys = ring_system(m, ca);
     if (!sys || !sys->carbonyl) return std::nullopt;
-    for (const auto &ring : t.rings()) {
+    for (const auto ring : t.rings()) {
       const std::size_t n = ring.size();
       const auto pos = static_cast<std::size_t>(std::find(ring.begin(), ring.end(), ca) - ring.begin());
       if ((n != 5 && n != 6) || pos == n) continue;
@@ -1728,7 +1717,7 @@ class H1Increments final : public ShiftSource {
     }
     // A carbon of a fused benzene ring is an aryl group; one of the same
     // ring is the other end of a conjugated C=C.
-    for (const auto &r : t.rings())
+    for (const auto r : t.rings())
       if (r.size() == 6 && std::find(r.begin(), r.end(), x) != r.end() &&
           std::all_of(r.begin(), r.end(), [&](std::uint32_t a) { return m.atom(a).atomic_number == 6; }) &&
           std::find(r.begin(), r.end(), ca) == r.end())
