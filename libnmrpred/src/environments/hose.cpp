@@ -1272,6 +1272,8 @@ class Engine {
   struct EveryAtom {
     std::vector<std::uint32_t> by_class, pending, h_start, h_list, fill;
     std::vector<std::uint8_t> done;
+    // Which topological classes a call wants (flagged_classes()).
+    std::vector<char> flagged;
   };
   EveryAtom every;
 
@@ -1553,11 +1555,13 @@ namespace detail {
 namespace {
 
 // Per topological class, 1 if any atom flagged in `atoms` (shorter means
-// false) belongs to it: the HOSE engine runs once per class.
-std::vector<char> flagged_classes(const AtomClasses &classes, const std::vector<bool> &atoms) {
+// false) belongs to it: the HOSE engine runs once per class. Written over
+// `flagged`, the engine's scratch, which keeps its capacity between calls.
+const std::vector<char> &flagged_classes(const AtomClasses &classes, const std::vector<bool> &atoms,
+                                         std::vector<char> &flagged) {
   std::uint32_t max_class = 0;
   for (auto c : classes.topological) max_class = std::max(max_class, c);
-  std::vector<char> flagged(static_cast<std::size_t>(max_class) + 1, 0);
+  flagged.assign(static_cast<std::size_t>(max_class) + 1, 0);
   // A bit iterator steps where indexing divides for every atom.
   auto bit = atoms.begin();
   const std::size_t n = std::min(atoms.size(), classes.topological.size());
@@ -1648,7 +1652,6 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
   check_request(molecule, classes, kMaxHoseSpheres);
   std::vector<HoseKeys> keys(molecule.atom_count(), HoseKeys{});
   if (keys.empty()) return keys;
-  const std::vector<char> needed = flagged_classes(classes, wanted);
   // A terminal hydrogen's sphere k is its heavy atom's sphere k - 1: when
   // only such hydrogens are wanted (1H shifts on their own), the heavy atoms'
   // last sphere, the costliest, is never read and, codes being prefix-stable,
@@ -1665,6 +1668,7 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
   const EngineLease engine_ptr(molecule, only_terminal_h ? kMaxHoseSpheres - 1 : kMaxHoseSpheres,
                                classes.invariant_rank);
   Engine &engine = *engine_ptr;
+  const std::vector<char> &needed = flagged_classes(classes, wanted, engine.every.flagged);
   auto is_needed = [&](std::size_t a) { return needed[classes.topological[a]] != 0; };
   // Without an index every sphere may match: the engine's full count. With
   // one, a centre whose first sphere no reference atom has, nor a sphere of
@@ -1692,16 +1696,16 @@ std::vector<std::string> hose_codes_and_keys(const Molecule &molecule, const Ato
   std::vector<std::string> codes(count);
   keys.assign(count, HoseKeys{});
   if (codes.empty()) return codes;
-  // An atom takes its result from its class's first atom: a class is keyed
-  // whole or not at all.
-  const std::vector<char> class_keyed = flagged_classes(classes, keyed);
-  auto is_keyed = [&](std::size_t a) { return class_keyed[classes.topological[a]] != 0; };
   // The keys need up to six spheres (a terminal hydrogen's, five of its
   // heavy atom's), fewer where the index cannot match deeper; the codes,
   // being prefix-stable, are read from the same runs, which for atoms
   // without keys stop at the codes' own spheres.
   const EngineLease engine_ptr(molecule, kMaxHoseSpheres, classes.invariant_rank);
   Engine &engine = *engine_ptr;
+  // An atom takes its result from its class's first atom: a class is keyed
+  // whole or not at all.
+  const std::vector<char> &class_keyed = flagged_classes(classes, keyed, engine.every.flagged);
+  auto is_keyed = [&](std::size_t a) { return class_keyed[classes.topological[a]] != 0; };
   auto depth = [&](std::size_t a) { return std::max(spheres, key_spheres(engine, molecule, a, is_keyed, index)); };
   code_every_atom(
       molecule, classes, engine,
