@@ -143,7 +143,7 @@ int run_h1(const nmrpred::Tables &tables, const nmrpred::ShiftOptions &opt, std:
           char signed_e[32];
           std::snprintf(signed_e, sizeof signed_e, "%+.2f", e);
           worst.emplace_back(std::fabs(e), rc.id + " H on atom " + std::to_string(heavy) + " [" + signed_e + "] (" +
-                                               s->method + ")");
+                                               s->method.str() + ")");
         }
       }
     }
@@ -205,7 +205,7 @@ int main(int argc, char **argv) {
             .add(e, s->uncertainty_ppm);
         char signed_e[32];
         std::snprintf(signed_e, sizeof signed_e, "%+.1f", e);
-        worst.emplace_back(std::fabs(e), rc.id + " atom " + std::to_string(a) + " [" + signed_e + "] (" + s->method + ")");
+        worst.emplace_back(std::fabs(e), rc.id + " atom " + std::to_string(a) + " [" + signed_e + "] (" + s->method.str() + ")");
       }
     }
   }

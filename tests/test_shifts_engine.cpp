@@ -46,7 +46,7 @@ std::vector<ProtonShift> h1_on(const std::string &smiles, std::size_t heavy, con
   std::vector<ProtonShift> out;
   for (const auto &s : nmrpred::predict_h1(m, classes, tables(), opt))
     if (m.attached_to(s.atom) == static_cast<std::int64_t>(heavy))
-      out.push_back({s.ppm, s.uncertainty_ppm, classes.chemical[s.atom], s.method});
+      out.push_back({s.ppm, s.uncertainty_ppm, classes.chemical[s.atom], s.method.str()});
   return out;
 }
 

@@ -94,7 +94,7 @@ py::list signal_list(const std::vector<Signal> &signals, bool with_couplings) {
       d["exchangeable"] = g.exchangeable;
       d["observed"] = g.observed;
     }
-    d["shift_method"] = g.method;
+    d["shift_method"] = g.method.str();
     if (with_couplings) {
       // The keys the JSON adds when couplings were predicted.
       d["multiplicity"] = g.multiplicity;
@@ -342,7 +342,7 @@ void register_predict(py::module_ &m) {
              if (r.prediction)
                for (std::size_t i = 0; i < r.prediction->molecule.atom_count(); ++i) {
                  const Shift *s = shift_of(*r.prediction, i);
-                 out.push_back(s ? std::optional<std::string>(s->method) : std::nullopt);
+                 out.push_back(s ? std::optional<std::string>(s->method.str()) : std::nullopt);
                }
              return out;
            })

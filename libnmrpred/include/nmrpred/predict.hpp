@@ -98,7 +98,7 @@ struct Signal {
   /// atoms, equal for all of them: 0 quaternary C, 1 CH, 2 CH2, 3 CH3 (4 for
   /// methane), the number DEPT-style editing tells apart. 0 for other nuclei.
   int attached_h = 0;
-  std::string method;  ///< how the shift was obtained (Shift::method of the atoms)
+  SharedText method;   ///< how the shift was obtained (Shift::method of the atoms)
   /// Nuclei the signal stands for: the number of atoms. For 1H this is the
   /// integral in protons (common practice: a 1H integral is proportional to
   /// the number of protons resonating there).

@@ -15,6 +15,7 @@
 #include <cstddef>
 #include <cstdint>
 #include <initializer_list>
+#include <iosfwd>
 #include <iterator>
 #include <memory>
 #include <string>
@@ -41,7 +42,58 @@ enum class ShiftSourceKind : int {
 
 namespace detail {
 struct ReferenceIdsAccess;
-}
+class TextPool;
+}  // namespace detail
+
+/// An immutable text whose copies share one buffer. A prediction writes the
+/// method texts of all its atoms into one buffer: equivalent atoms share
+/// their class's text, and a string per atom cost an allocation and a copy
+/// for every atom (benchmarks/README.md). A text made by a prediction keeps
+/// that buffer (a few kilobytes) alive while any copy of it lives. The
+/// characters are followed by a NUL, so c_str() may be handed to C.
+class NMRPRED_API SharedText {
+ public:
+  static constexpr std::size_t npos = std::string_view::npos;
+  SharedText() noexcept = default;
+  /// A text with a buffer of its own.
+  SharedText(std::string_view text);
+  SharedText(const std::string &text) : SharedText(std::string_view(text)) {}
+  SharedText(const char *text) : SharedText(std::string_view(text)) {}
+
+  std::string_view view() const noexcept { return {c_str(), size_}; }
+  operator std::string_view() const noexcept { return view(); }
+  std::string str() const { return std::string(view()); }
+  explicit operator std::string() const { return str(); }
+  /// NUL-terminated; valid while any copy of this text lives.
+  const char *c_str() const noexcept { return text_ ? text_->data() + start_ : ""; }
+  std::size_t size() const noexcept { return size_; }
+  bool empty() const noexcept { return size_ == 0; }
+  std::size_t find(std::string_view what, std::size_t from = 0) const noexcept { return view().find(what, from); }
+  std::size_t find(char what, std::size_t from = 0) const noexcept { return view().find(what, from); }
+
+  // Every comparison is of the characters. Overloads for each kind of
+  // string, so that neither side's conversion makes a call ambiguous.
+  friend bool operator==(const SharedText &a, const SharedText &b) noexcept { return a.view() == b.view(); }
+  friend bool operator==(const SharedText &a, std::string_view b) noexcept { return a.view() == b; }
+  friend bool operator==(const SharedText &a, const std::string &b) noexcept { return a.view() == b; }
+  friend bool operator==(const SharedText &a, const char *b) noexcept { return a.view() == b; }
+  friend bool operator==(std::string_view a, const SharedText &b) noexcept { return b == a; }
+  friend bool operator==(const std::string &a, const SharedText &b) noexcept { return b == a; }
+  friend bool operator==(const char *a, const SharedText &b) noexcept { return b == a; }
+  friend bool operator!=(const SharedText &a, const SharedText &b) noexcept { return !(a == b); }
+  friend bool operator!=(const SharedText &a, std::string_view b) noexcept { return !(a == b); }
+  friend bool operator!=(const SharedText &a, const std::string &b) noexcept { return !(a == b); }
+  friend bool operator!=(const SharedText &a, const char *b) noexcept { return !(a == b); }
+  friend bool operator!=(std::string_view a, const SharedText &b) noexcept { return !(b == a); }
+  friend bool operator!=(const std::string &a, const SharedText &b) noexcept { return !(b == a); }
+  friend bool operator!=(const char *a, const SharedText &b) noexcept { return !(b == a); }
+  friend NMRPRED_API std::ostream &operator<<(std::ostream &os, const SharedText &t);
+
+ private:
+  friend class detail::TextPool;
+  std::shared_ptr<const std::string> text_;
+  std::uint32_t start_ = 0, size_ = 0;
+};
 
 /// Ids of the reference compounds behind one shift, at most kMax of them.
 /// An immutable value whose copies share the text: a prediction lists the
@@ -122,7 +174,7 @@ struct Shift {
   double uncertainty_ppm = 0;  ///< one standard deviation, ppm
   ShiftSourceKind source = ShiftSourceKind::Reference;
   int sphere = 0;              ///< HOSE spheres matched (lookups), else 0
-  std::string method;          ///< in words: source, sphere level and support, or rules summed
+  SharedText method;           ///< in words: source, sphere level and support, or rules summed
   ReferenceIds references;     ///< ids of the reference compounds that contributed
   /// 1H only: a proton on O, N or S, whose shift depends on solvent,
   /// concentration and temperature and whose signal may be broad.

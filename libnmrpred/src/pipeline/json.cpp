@@ -45,7 +45,7 @@ const char *nucleus_label(Nucleus n) { return n == Nucleus::C13 ? "13C" : "1H"; 
 void add_shift(Json &atom, const Shift &s) {
   atom["shift"] = s.ppm;
   atom["shift_uncertainty"] = s.uncertainty_ppm;
-  atom["shift_method"] = s.method;
+  atom["shift_method"] = s.method.str();
   atom["shift_references"] = s.references.to_vector();
   if (s.nucleus == Nucleus::H1) {
     atom["exchangeable"] = s.exchangeable;
@@ -105,7 +105,7 @@ Json signal_value(const Signal &g, bool coupled) {
     j["exchangeable"] = g.exchangeable;
     j["observed"] = g.observed;
   }
-  j["shift_method"] = g.method;
+  j["shift_method"] = g.method.str();
   if (coupled) {
     j["multiplicity"] = g.multiplicity;
     j["j_hz"] = g.j_hz;

@@ -16,7 +16,7 @@ bool hetero(unsigned z) { return z != 6 && z != 1; }
 
 class C13ClassAverage final : public ShiftSource {
  public:
-  bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
+  bool estimate(const ShiftQuery &q, std::size_t atom, ShiftDraft &out) const override {
     const auto &m = q.molecule;
     int n_double_o = 0, n_double_n = 0, n_double_s = 0, n_double_c = 0, n_triple = 0, n_triple_n = 0;
     int n_hetero_single = 0, n_aromatic = 0, n_h = 0, n_o = 0, n_n = 0, n_halogen = 0, n_s = 0;
@@ -97,7 +97,7 @@ class C13ClassAverage final : public ShiftSource {
 // class (source: COMMON-PRACTICE), with an uncertainty covering the region.
 class H1ClassAverage final : public ShiftSource {
  public:
-  bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
+  bool estimate(const ShiftQuery &q, std::size_t atom, ShiftDraft &out) const override {
     const auto &m = q.molecule;
     const auto heavy = m.attached_to(atom);
     double ppm = 2.0, sd = 2.0;

@@ -648,7 +648,8 @@ class Sum {
     return std::sqrt(var);
   }
   bool in_scope() const { return outside_.empty(); }
-  std::string method() const {
+  // Writes the method text into `s` (replacing it; its room is reused).
+  void method(std::string &s) const {
     const std::string_view scheme =
         own_scheme_size_ ? std::string_view(own_scheme_.data(), own_scheme_size_) : scheme_;
     constexpr std::string_view unvalued_head = " (", unvalued_tail = " without a published value taken as 0)",
@@ -667,7 +668,7 @@ class Sum {
       bound += outside_head.size() + outside_tail.size();
       for (const auto why : outside_) bound += outside_sep.size() + why.size();
     }
-    std::string s(bound, '\0');
+    s.resize(bound);
     char *p = s.data();
     auto put = [&](std::string_view text) {
       std::memcpy(p, text.data(), text.size());
@@ -705,7 +706,6 @@ class Sum {
       put(outside_tail);
     }
     s.resize(static_cast<std::size_t>(p - s.data()));
-    return s;
   }
 
  private:
@@ -814,26 +814,40 @@ class C13Increments final : public ShiftSource {
     if (tab_.benzene_methyl_row >= 0) methyl_row_ = &tab_.benzene[static_cast<std::size_t>(tab_.benzene_methyl_row)];
   }
 
-  bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
+  bool estimate(const ShiftQuery &q, std::size_t atom, ShiftDraft &out) const override {
     if (q.nucleus != Nucleus::C13) return false;
     // The lookups ask for the rule value of a carbon and, when they give
     // way, the engine asks again: the answer is kept per atom of the query.
     target(q);
     if (atom >= answered_.size()) return estimate_anew(q, atom, out);
-    if (answered_[atom] < 0) answered_[atom] = estimate_anew(q, atom, answers_[atom]) ? 1 : 0;
+    if (answered_[atom] < 0) {
+      // Answered straight into `out`, then kept, its text behind the others
+      // of the molecule (a string per kept answer cost an allocation each).
+      answered_[atom] = 0;
+      if (!estimate_anew(q, atom, out)) return false;
+      answered_[atom] = 1;
+      Answer &a = answers_[atom];
+      a.ppm = out.ppm;
+      a.uncertainty_ppm = out.uncertainty_ppm;
+      a.source = out.source;
+      a.method_at = methods_.size();
+      a.method_size = out.method.size();
+      methods_ += out.method;
+      return true;
+    }
     if (answered_[atom] == 0) return false;
-    const Shift &s = answers_[atom];
-    out.ppm = s.ppm;
-    out.uncertainty_ppm = s.uncertainty_ppm;
-    out.source = s.source;
+    const Answer &a = answers_[atom];
+    out.ppm = a.ppm;
+    out.uncertainty_ppm = a.uncertainty_ppm;
+    out.source = a.source;
     out.sphere = 0;
-    out.method = s.method;
+    out.method.assign(methods_, a.method_at, a.method_size);
     out.references.clear();
     return true;
   }
 
   // estimate() without the kept answers.
-  bool estimate_anew(const ShiftQuery &q, std::size_t atom, Shift &out) const {
+  bool estimate_anew(const ShiftQuery &q, std::size_t atom, ShiftDraft &out) const {
     // No reason asked for: it serves debugging, and the carbons a scheme
     // passes on are many.
     auto r = evaluate(q, atom, nullptr);
@@ -844,7 +858,7 @@ class C13Increments final : public ShiftSource {
     out.uncertainty_ppm = r->uncertainty();
     out.source = ShiftSourceKind::Increments;
     out.sphere = 0;
-    out.method = r->method();
+    r->method(out.method);
     out.references.clear();
     return true;
   }
@@ -925,9 +939,13 @@ class C13Increments final : public ShiftSource {
       sp3_chains_.clear();
       sp3_rows_.clear();
       sp3_carbons_.clear();
-      // Only answers marked in answered_ are read, and estimate_anew() sets
-      // every field estimate() reads: the old ones need no reset.
+      // Only answers marked in answered_ are read, and estimate() sets every
+      // field it reads: the old ones need no reset.
       if (answers_.size() < t.molecule().heavy_atom_count()) answers_.resize(t.molecule().heavy_atom_count());
+      methods_.clear();
+      // Rule texts average about 200 characters (NCI records): room for
+      // most molecules' at once.
+      methods_.reserve(kKeptMethodRoom * t.molecule().heavy_atom_count());
       const Molecule &m = t.molecule();
       sp3_.assign(m.atom_count(), 0);
       for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) sp3_[a] = is_sp3_carbon(m, a) ? 1 : 0;
@@ -2065,7 +2083,15 @@ class C13Increments final : public ShiftSource {
   };
   mutable RingScratch ring_scratch_;
   mutable std::vector<std::int8_t> answered_;  // per atom: -1 not asked yet, 0 no answer, 1 in answers_
-  mutable std::vector<Shift> answers_;
+  static constexpr std::size_t kKeptMethodRoom = 200;
+  // A kept answer (estimate()); its method text is methods_[method_at, +method_size).
+  struct Answer {
+    double ppm = 0, uncertainty_ppm = 0;
+    ShiftSourceKind source = ShiftSourceKind::Increments;
+    std::size_t method_at = 0, method_size = 0;
+  };
+  mutable std::vector<Answer> answers_;
+  mutable std::string methods_;
 };
 
 }  // namespace

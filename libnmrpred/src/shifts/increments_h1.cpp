@@ -922,7 +922,7 @@ class H1Increments final : public ShiftSource {
     known_ = true;
   }
 
-  bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
+  bool estimate(const ShiftQuery &q, std::size_t atom, ShiftDraft &out) const override {
     if (q.nucleus != Nucleus::H1) return false;
     const auto &r = evaluate(q, atom);
     if (!r) return false;

@@ -119,9 +119,10 @@ constexpr int kC13WeakSphere = 4;
 // the same filter lost 4 carbons net, so sphere 1 keeps all residuals.
 constexpr int kC13SameSchemeSphere = 2;
 
-// Room for a lookup's method text made from a rule's and a tail (a
-// correction's, and a CH2 pair's): over the first 1,000 NCI records 400
-// characters hold 98.6 % of such texts, so that nearly all allocate once.
+// Room of the engine's draft method text, which every atom of a molecule
+// reuses: the longest texts are a rule's with a correction's and a CH2
+// pair's tails, and over the first 1,000 NCI records 400 characters hold
+// 98.6 % of those.
 constexpr std::size_t kLookupMethodRoom = 400;
 
 // Appends v as fmt's "{:+.1f}" writes it (the sign is v's, so -0.04 gives
@@ -145,7 +146,7 @@ class ReferenceLookup final : public ShiftSource {
  public:
   ReferenceLookup(bool user, const ShiftSource *increments) : user_(user), increments_(increments) {}
 
-  bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const override {
+  bool estimate(const ShiftQuery &q, std::size_t atom, ShiftDraft &out) const override {
     const auto &index = q.tables.reference_index();
     if (user_ && !index.has_user) return false;
     const int nucleus = q.nucleus == Nucleus::C13 ? kIndexC13 : kIndexH1;
@@ -196,9 +197,6 @@ class ReferenceLookup final : public ShiftSource {
       }
       if (shift.n < (user_ ? 1 : levels[k].min_support)) continue;
       if (k <= kResidualMaxSphere && increments_ && residual.n > 0) {
-        // For a correction, whose text is the rule's with a tail: room for
-        // both at once. Elsewhere the rule's text gets just its own room.
-        out.method.reserve(kLookupMethodRoom);
         query_increments();
         if (std::isfinite(inc_q) && q.nucleus == Nucleus::C13 && k >= kC13SameSchemeSphere && k <= kShallowSphere) {
           const auto key = scheme_key(out.method);  // still the rule's text
@@ -257,8 +255,6 @@ class ReferenceLookup final : public ShiftSource {
       out.uncertainty_ppm = std::sqrt(levels[k].prior_ppm * levels[k].prior_ppm + shift.sd * shift.sd);
       // Plain appends rather than the formatter, as above.
       std::string &m = out.method;
-      // Room for the whole text at once (it grew twice from the short start).
-      m.reserve(64);
       m = user_ ? "user"sv : "built-in"sv;
       m += " reference lookup, HOSE sphere "sv;
       append_int(m, k);
@@ -283,7 +279,7 @@ class ReferenceLookup final : public ShiftSource {
   // convention the coupling tables use for =CH2 (tables/FORMAT.md), and the
   // uncertainty grows by the half-difference in quadrature, the error of the
   // opposite assignment.
-  void split_pair(Shift &out, const ShiftQuery &q, std::size_t atom, int k,
+  void split_pair(ShiftDraft &out, const ShiftQuery &q, std::size_t atom, int k,
                   const std::vector<std::uint32_t> &excluded) const {
     if (q.nucleus != Nucleus::H1) return;
     const auto partner = diastereotopic_partner(q.molecule, q.classes, atom);
@@ -332,7 +328,7 @@ class ReferenceLookup final : public ShiftSource {
   }
 
  private:
-  void fill_common(Shift &out, const ShiftQuery &q, const Bucket &b, const std::vector<std::uint32_t> &excluded,
+  void fill_common(ShiftDraft &out, const ShiftQuery &q, const Bucket &b, const std::vector<std::uint32_t> &excluded,
                    int k) const {
     out.source = user_ ? ShiftSourceKind::UserReference : ShiftSourceKind::Reference;
     out.sphere = k;
@@ -432,15 +428,38 @@ bool lookup_keyed(const Molecule &m, std::size_t atom) {
   return m.atom(atom).atomic_number == 6 || (m.is_hydrogen(atom) && proton_kind(m, atom) == ProtonKind::CarbonBound);
 }
 
+namespace {
+
+// Room for the method texts of a run, per class: over the 4,999 NCI records
+// texts average 200 characters for carbons and 177 for protons (nine in ten
+// under 350), so the pool of a molecule rarely grows.
+constexpr std::size_t kPoolRoomPerClass = 256;
+
+// Asks `sources` in order for each atom of `atoms` and appends the shifts to
+// `out`; equivalent atoms (same chemical class) get a copy of the first
+// one's shift, whose method text they share. finish(draft, atom) may amend
+// each class's estimate before it is kept.
+template <class Finish>
 void run_sources(const ShiftQuery &q, const SourceList &sources, AtomRange atoms, std::vector<std::string> *warnings,
-                 std::vector<Shift> &out) {
+                 std::vector<Shift> &out, TextPool &texts, Finish &&finish) {
   // Chemical class -> position in out of its first atom; sized once rather
   // than grown class by class.
-  constexpr auto kNotYet = std::numeric_limits<std::size_t>::max();
+  constexpr auto kNotYet = std::numeric_limits<std::size_t>::max(), kUnseen = kNotYet - 1;
   std::size_t classes = 0;
   for (auto atom : atoms) classes = std::max<std::size_t>(classes, q.classes.chemical[atom] + std::size_t{1});
   std::vector<std::size_t> &by_class = q.scratch().positions;
-  by_class.assign(classes, kNotYet);
+  by_class.assign(classes, kUnseen);
+  // The classes of the run, for the pool's room.
+  std::size_t distinct = 0;
+  for (auto atom : atoms) {
+    auto &c = by_class[q.classes.chemical[atom]];
+    if (c == kUnseen) c = kNotYet, ++distinct;
+  }
+  texts.expect(distinct * kPoolRoomPerClass);
+  // One draft for every atom of the molecule, both nuclei: its method text
+  // keeps its room, so an estimate allocates no text of its own.
+  ShiftDraft &d = q.scratch().draft;
+  d.method.reserve(kLookupMethodRoom);
   for (auto atom : atoms) {
     const std::size_t cls = q.classes.chemical[atom];
     if (by_class[cls] != kNotYet) {
@@ -450,24 +469,37 @@ void run_sources(const ShiftQuery &q, const SourceList &sources, AtomRange atoms
       out.back().atom = atom;
       continue;
     }
-    Shift s;
-    s.atom = atom;
-    s.nucleus = q.nucleus;
+    d.reset();
     bool done = false;
     for (const auto *src : sources)
-      if (src->estimate(q, atom, s)) {
+      if (src->estimate(q, atom, d)) {
         done = true;
         break;
       }
     if (!done) throw InternalError(fmt::format("atom {}: no shift source answered", atom));
-    if (s.source == ShiftSourceKind::ClassAverage && warnings)
+    if (d.source == ShiftSourceKind::ClassAverage && warnings)
       warnings->push_back(fmt::format("atom {}: no reference environment or increment rule fits; "
                                       "class average with a large uncertainty",
                                       atom));
+    finish(d, atom);
     by_class[cls] = out.size();
-    out.push_back(std::move(s));
+    Shift &s = out.emplace_back();
+    s.atom = atom;
+    s.nucleus = q.nucleus;
+    s.ppm = d.ppm;
+    s.uncertainty_ppm = d.uncertainty_ppm;
+    s.source = d.source;
+    s.sphere = d.sphere;
+    s.method = texts.add(d.method);
+    s.references = std::move(d.references);
+    s.exchangeable = d.exchangeable;
+    s.observed = d.observed;
   }
 }
+
+void keep_as_is(ShiftDraft &, std::size_t) {}
+
+}  // namespace
 
 std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
                                   const ShiftOptions &options, std::vector<std::string> *warnings,
@@ -508,7 +540,9 @@ std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &c
       }
   std::vector<Shift> out;
   out.reserve(atoms.size());
-  detail::run_sources(q, sources, AtomRange{atoms.data(), atoms.data() + atoms.size()}, warnings, out);
+  TextPool texts;
+  detail::run_sources(q, sources, AtomRange{atoms.data(), atoms.data() + atoms.size()}, warnings, out, texts,
+                      keep_as_is);
   return out;
 }
 
@@ -550,12 +584,13 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   sources.push_back(&fallback);
   std::vector<Shift> out;
   out.reserve(carbon_bound.size() + labile.size());
+  TextPool texts;
   detail::run_sources(q, sources, AtomRange{carbon_bound.data(), carbon_bound.data() + carbon_bound.size()}, warnings,
-                      out);
-  for (auto &s : out)
-    if (s.source != ShiftSourceKind::Reference && s.source != ShiftSourceKind::UserReference &&
-        detail::diastereotopic_partner(molecule, classes, s.atom) >= 0)
-      s.method += "; diastereotopic CH2: no reference lookup, both protons share the value";
+                      out, texts, [&](ShiftDraft &d, std::size_t atom) {
+                        if (d.source != ShiftSourceKind::Reference && d.source != ShiftSourceKind::UserReference &&
+                            detail::diastereotopic_partner(molecule, classes, atom) >= 0)
+                          d.method += "; diastereotopic CH2: no reference lookup, both protons share the value";
+                      });
   // Exchangeable protons: reference values from other solvents and
   // concentrations do not carry over; the solvent-specific typical values of
   // the special-proton table (or a class average) with a wide uncertainty.
@@ -567,22 +602,21 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   // not touch, then merged in place: both parts ascend by atom and no atom
   // is in both (one list rather than two and their merged copy).
   const auto carbon_bound_count = static_cast<std::ptrdiff_t>(out.size());
-  detail::run_sources(q, labile_sources, AtomRange{labile.data(), labile.data() + labile.size()}, nullptr, out);
-  for (auto s = out.begin() + carbon_bound_count; s != out.end(); ++s) {
-    const bool from_table = s->source == ShiftSourceKind::Increments;
-    s->exchangeable = true;
-    s->observed = !solvent.exchanges_labile_protons;
-    if (!from_table) {
-      auto to_method = std::back_inserter(s->method);
-      if (solvent.exchanges_labile_protons)
-        fmt::format_to(to_method, "; exchanges with {} and gives no signal", solvent.name);
-      else
-        fmt::format_to(to_method,
-                       "; in {} the signal may be broad or absent, and its position depends on "
-                       "concentration, water and temperature",
-                       solvent.name);
-    }
-  }
+  detail::run_sources(q, labile_sources, AtomRange{labile.data(), labile.data() + labile.size()}, nullptr, out, texts,
+                      [&](ShiftDraft &d, std::size_t) {
+                        const bool from_table = d.source == ShiftSourceKind::Increments;
+                        d.exchangeable = true;
+                        d.observed = !solvent.exchanges_labile_protons;
+                        if (from_table) return;
+                        auto to_method = std::back_inserter(d.method);
+                        if (solvent.exchanges_labile_protons)
+                          fmt::format_to(to_method, "; exchanges with {} and gives no signal", solvent.name);
+                        else
+                          fmt::format_to(to_method,
+                                         "; in {} the signal may be broad or absent, and its position depends on "
+                                         "concentration, water and temperature",
+                                         solvent.name);
+                      });
   std::inplace_merge(out.begin(), out.begin() + carbon_bound_count, out.end(),
                      [](const Shift &a, const Shift &b) { return a.atom < b.atom; });
   return out;

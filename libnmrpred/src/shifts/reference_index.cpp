@@ -151,12 +151,12 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     const auto all_digests = hose_digests(m, keyed);
     // The 13C rule value of `centre` and the scheme it comes from (0: none).
     auto c13_rule = [&](std::size_t centre) -> std::pair<double, std::uint64_t> {
-      Shift s;
+      ShiftDraft s;
       if (increments->estimate(q, centre, s)) return {s.ppm, scheme_key(s.method)};
       return {nan, 0};
     };
     auto h1_rule = [&](std::size_t centre) {
-      Shift s;
+      ShiftDraft s;
       return h1_increments->estimate(qh, centre, s) && !s.exchangeable ? s.ppm : nan;
     };
     auto add = [&](int nucleus, std::size_t centre, double value, double increment, double half,

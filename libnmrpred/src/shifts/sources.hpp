@@ -24,6 +24,46 @@
 
 namespace nmrpred::detail {
 
+// What a source writes for one atom: the fields of a Shift, with the method
+// text in a string the engine reuses from atom to atom (run_sources copies
+// it into the prediction's TextPool once per class).
+struct ShiftDraft {
+  double ppm = 0;
+  double uncertainty_ppm = 0;
+  ShiftSourceKind source = ShiftSourceKind::Reference;
+  int sphere = 0;
+  std::string method;
+  ReferenceIds references;
+  bool exchangeable = false;
+  bool observed = true;
+  // As a new draft, keeping the method's room.
+  void reset() {
+    ppm = 0;
+    uncertainty_ppm = 0;
+    source = ShiftSourceKind::Reference;
+    sphere = 0;
+    method.clear();
+    references.clear();
+    exchangeable = false;
+    observed = true;
+  }
+};
+
+// The buffer the method texts of one prediction share (SharedText): made on
+// the first add(), then grown; each text keeps it alive. One thread at a
+// time; the texts handed out never change.
+class TextPool {
+ public:
+  SharedText add(std::string_view text);
+  // Room for `bytes` more characters (the texts and their NULs), made at
+  // once so that the buffer need not grow text by text.
+  void expect(std::size_t bytes);
+
+ private:
+  std::shared_ptr<std::string> text_;
+  std::size_t room_ = 0;
+};
+
 // Facts of one molecule that its 13C and 1H predictions share (predict()
 // makes one per molecule and passes it to both): the SmartsTarget the
 // increment rules match against (ring perception and recursive-pattern
@@ -55,6 +95,7 @@ class MoleculeFacts {
     // predict_c13_on / predict_h1_on: the atoms of the run (the protons
     // on carbon), and the exchangeable protons.
     std::vector<std::size_t> atoms, labile;
+    ShiftDraft draft;  // run_sources: the atom being estimated
   };
   Scratch &scratch() const { return scratch_; }
 
@@ -115,8 +156,9 @@ class ShiftSource {
  public:
   virtual ~ShiftSource() = default;
   // Fills value, uncertainty, source, sphere, method and references of `out`
-  // and returns true, or returns false to pass the atom on.
-  virtual bool estimate(const ShiftQuery &q, std::size_t atom, Shift &out) const = 0;
+  // and returns true, or returns false to pass the atom on. `out` comes as
+  // ShiftDraft::reset() leaves it.
+  virtual bool estimate(const ShiftQuery &q, std::size_t atom, ShiftDraft &out) const = 0;
 };
 
 // The last-resort sources (class averages); stateless, any thread.
@@ -183,12 +225,6 @@ class AtomRange {
   const std::size_t *first_;
   const std::size_t *last_;
 };
-
-// Asks `sources` in order for each atom of `atoms` and appends the shifts to
-// `out`; equivalent atoms (same chemical class) get a copy of the first
-// one's shift.
-void run_sources(const ShiftQuery &q, const SourceList &sources, AtomRange atoms, std::vector<std::string> *warnings,
-                 std::vector<Shift> &out);
 
 }  // namespace nmrpred::detail
 
