@@ -12,6 +12,7 @@
 /// Thread rule: pure functions of their arguments; call from any thread.
 
 #include <array>
+#include <atomic>
 #include <cstddef>
 #include <cstdint>
 #include <initializer_list>
@@ -20,6 +21,7 @@
 #include <memory>
 #include <string>
 #include <string_view>
+#include <utility>
 #include <vector>
 
 #include <nmrpred/classes.hpp>
@@ -49,8 +51,9 @@ class TextPool;
 /// method texts of all its atoms into one buffer: equivalent atoms share
 /// their class's text, and a string per atom cost an allocation and a copy
 /// for every atom (benchmarks/README.md). A text made by a prediction keeps
-/// that buffer (a few kilobytes) alive while any copy of it lives. The
-/// characters are followed by a NUL, so c_str() may be handed to C.
+/// that buffer (a few kilobytes) alive while any copy of it lives; copies may
+/// be used and dropped from any thread. The characters are followed by a NUL,
+/// so c_str() may be handed to C.
 class NMRPRED_API SharedText {
  public:
   static constexpr std::size_t npos = std::string_view::npos;
@@ -59,13 +62,36 @@ class NMRPRED_API SharedText {
   SharedText(std::string_view text);
   SharedText(const std::string &text) : SharedText(std::string_view(text)) {}
   SharedText(const char *text) : SharedText(std::string_view(text)) {}
+  SharedText(const SharedText &other) noexcept : block_(other.block_), start_(other.start_), size_(other.size_) {
+    retain();
+  }
+  SharedText(SharedText &&other) noexcept : block_(other.block_), start_(other.start_), size_(other.size_) {
+    other.block_ = nullptr;
+    other.start_ = other.size_ = 0;
+  }
+  SharedText &operator=(const SharedText &other) noexcept {
+    SharedText copy(other);
+    swap(copy);
+    return *this;
+  }
+  SharedText &operator=(SharedText &&other) noexcept {
+    SharedText taken(std::move(other));
+    swap(taken);
+    return *this;
+  }
+  ~SharedText() { release(); }
+  void swap(SharedText &other) noexcept {
+    std::swap(block_, other.block_);
+    std::swap(start_, other.start_);
+    std::swap(size_, other.size_);
+  }
 
   std::string_view view() const noexcept { return {c_str(), size_}; }
   operator std::string_view() const noexcept { return view(); }
   std::string str() const { return std::string(view()); }
   explicit operator std::string() const { return str(); }
   /// NUL-terminated; valid while any copy of this text lives.
-  const char *c_str() const noexcept { return text_ ? text_->data() + start_ : ""; }
+  const char *c_str() const noexcept { return block_ ? block_->chars() + start_ : ""; }
   std::size_t size() const noexcept { return size_; }
   bool empty() const noexcept { return size_ == 0; }
   std::size_t find(std::string_view what, std::size_t from = 0) const noexcept { return view().find(what, from); }
@@ -91,7 +117,23 @@ class NMRPRED_API SharedText {
 
  private:
   friend class detail::TextPool;
-  std::shared_ptr<const std::string> text_;
+  // One allocation: the count of texts (and pools) that use it, its room,
+  // then the characters. A pool fills it text by text; the texts never change.
+  struct Block {
+    std::atomic<std::uint32_t> users{1};
+    std::uint32_t room = 0;
+    char *chars() noexcept { return reinterpret_cast<char *>(this + 1); }
+  };
+  static Block *make_block(std::size_t room);
+  static void free_block(Block *b) noexcept;
+  void retain() const noexcept {
+    if (block_) block_->users.fetch_add(1, std::memory_order_relaxed);
+  }
+  void release() noexcept {
+    if (block_ && block_->users.fetch_sub(1, std::memory_order_acq_rel) == 1) free_block(block_);
+    block_ = nullptr;
+  }
+  Block *block_ = nullptr;
   std::uint32_t start_ = 0, size_ = 0;
 };
 

@@ -441,7 +441,8 @@ constexpr std::size_t kPoolRoomPerClass = 256;
 // each class's estimate before it is kept.
 template <class Finish>
 void run_sources(const ShiftQuery &q, const SourceList &sources, AtomRange atoms, std::vector<std::string> *warnings,
-                 std::vector<Shift> &out, TextPool &texts, Finish &&finish) {
+                 std::vector<Shift> &out, Finish &&finish) {
+  TextPool &texts = q.scratch().texts;
   // Chemical class -> position in out of its first atom; sized once rather
   // than grown class by class.
   constexpr auto kNotYet = std::numeric_limits<std::size_t>::max(), kUnseen = kNotYet - 1;
@@ -540,8 +541,7 @@ std::vector<Shift> predict_c13_on(const Molecule &molecule, const AtomClasses &c
       }
   std::vector<Shift> out;
   out.reserve(atoms.size());
-  TextPool texts;
-  detail::run_sources(q, sources, AtomRange{atoms.data(), atoms.data() + atoms.size()}, warnings, out, texts,
+  detail::run_sources(q, sources, AtomRange{atoms.data(), atoms.data() + atoms.size()}, warnings, out,
                       keep_as_is);
   return out;
 }
@@ -584,9 +584,8 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   sources.push_back(&fallback);
   std::vector<Shift> out;
   out.reserve(carbon_bound.size() + labile.size());
-  TextPool texts;
   detail::run_sources(q, sources, AtomRange{carbon_bound.data(), carbon_bound.data() + carbon_bound.size()}, warnings,
-                      out, texts, [&](ShiftDraft &d, std::size_t atom) {
+                      out, [&](ShiftDraft &d, std::size_t atom) {
                         if (d.source != ShiftSourceKind::Reference && d.source != ShiftSourceKind::UserReference &&
                             detail::diastereotopic_partner(molecule, classes, atom) >= 0)
                           d.method += "; diastereotopic CH2: no reference lookup, both protons share the value";
@@ -602,7 +601,7 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   // not touch, then merged in place: both parts ascend by atom and no atom
   // is in both (one list rather than two and their merged copy).
   const auto carbon_bound_count = static_cast<std::ptrdiff_t>(out.size());
-  detail::run_sources(q, labile_sources, AtomRange{labile.data(), labile.data() + labile.size()}, nullptr, out, texts,
+  detail::run_sources(q, labile_sources, AtomRange{labile.data(), labile.data() + labile.size()}, nullptr, out,
                       [&](ShiftDraft &d, std::size_t) {
                         const bool from_table = d.source == ShiftSourceKind::Increments;
                         d.exchangeable = true;

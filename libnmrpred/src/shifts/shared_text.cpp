@@ -1,6 +1,10 @@
-// SharedText: an immutable text whose copies share one buffer.
+// SharedText: an immutable text whose copies share one buffer, and the
+// pool a prediction writes its texts into.
 
+#include <algorithm>
+#include <cstring>
 #include <limits>
+#include <new>
 #include <ostream>
 #include <stdexcept>
 
@@ -13,34 +17,59 @@ namespace nmrpred {
 SharedText::SharedText(std::string_view text) {
   if (text.empty()) return;
   detail::TextPool pool;
+  pool.expect(text.size() + 1);
   *this = pool.add(text);
+}
+
+SharedText::Block *SharedText::make_block(std::size_t room) {
+  // Offsets and sizes are 32-bit: a prediction's texts stay far below.
+  if (room > std::numeric_limits<std::uint32_t>::max()) throw std::length_error("SharedText: a text block over 4 GiB");
+  void *raw = ::operator new(sizeof(Block) + room);
+  auto *b = new (raw) Block;
+  b->room = static_cast<std::uint32_t>(room);
+  return b;
+}
+
+void SharedText::free_block(Block *b) noexcept {
+  b->~Block();
+  ::operator delete(static_cast<void *>(b));
 }
 
 std::ostream &operator<<(std::ostream &os, const SharedText &t) { return os << t.view(); }
 
 namespace detail {
 
+// Room of a block made without an expect() (a text longer than the room
+// gets a block of its own size).
+constexpr std::size_t kDefaultPoolRoom = 1024;
+
 SharedText TextPool::add(std::string_view text) {
-  if (!text_) {
-    text_ = std::make_shared<std::string>();
-    text_->reserve(room_);
+  const std::size_t need = text.size() + 1;  // the NUL that c_str() hands to C
+  SharedText::Block *&block = held_.block_;
+  if (!block || block->room - used_ < need) {
+    // The pool's hold on the full block passes to the texts in it.
+    SharedText fresh;
+    fresh.block_ = SharedText::make_block(std::max(need, room_ ? room_ : kDefaultPoolRoom));
+    held_ = std::move(fresh);
+    used_ = 0;
+    room_ = 0;
   }
-  if (text_->size() + text.size() + 1 > std::numeric_limits<std::uint32_t>::max())
-    throw std::length_error("SharedText: a prediction's texts exceed 4 GiB");
+  char *at = block->chars() + used_;
+  std::memcpy(at, text.data(), text.size());
+  at[text.size()] = '\0';
   SharedText t;
-  t.text_ = text_;
-  t.start_ = static_cast<std::uint32_t>(text_->size());
+  t.block_ = block;
+  t.start_ = static_cast<std::uint32_t>(used_);
   t.size_ = static_cast<std::uint32_t>(text.size());
-  // The NUL after each text is what c_str() hands to C.
-  text_->append(text).push_back('\0');
+  t.retain();
+  used_ += need;
   return t;
 }
 
 void TextPool::expect(std::size_t bytes) {
-  if (!text_)
-    room_ += bytes;
-  else
-    text_->reserve(text_->size() + bytes);
+  // What the current block still holds counts towards the room.
+  const std::size_t left = held_.block_ ? held_.block_->room - used_ : 0;
+  if (bytes > left) room_ = std::max(room_, bytes);
 }
 
 }  // namespace detail

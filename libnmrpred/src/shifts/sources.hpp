@@ -49,19 +49,21 @@ struct ShiftDraft {
   }
 };
 
-// The buffer the method texts of one prediction share (SharedText): made on
-// the first add(), then grown; each text keeps it alive. One thread at a
+// Where the method texts of one prediction go (SharedText): blocks, each
+// one allocation, filled text by text; a text that does not fit the block
+// starts a new one (the old stays with the texts in it). One thread at a
 // time; the texts handed out never change.
 class TextPool {
  public:
   SharedText add(std::string_view text);
-  // Room for `bytes` more characters (the texts and their NULs), made at
-  // once so that the buffer need not grow text by text.
+  // Room for `bytes` more characters (the texts and their NULs): the next
+  // block is made that large, so that a run's texts share one allocation.
   void expect(std::size_t bytes);
 
  private:
-  std::shared_ptr<std::string> text_;
-  std::size_t room_ = 0;
+  SharedText held_;       // its block is the one being filled (the pool is one of its users)
+  std::size_t used_ = 0;  // characters of that block taken
+  std::size_t room_ = 0;                // the room of the next block
 };
 
 // Facts of one molecule that its 13C and 1H predictions share (predict()
@@ -96,6 +98,7 @@ class MoleculeFacts {
     // on carbon), and the exchangeable protons.
     std::vector<std::size_t> atoms, labile;
     ShiftDraft draft;  // run_sources: the atom being estimated
+    TextPool texts;    // run_sources: the method texts of both nuclei
   };
   Scratch &scratch() const { return scratch_; }
 
