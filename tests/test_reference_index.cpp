@@ -47,6 +47,19 @@ TEST_SUITE("reference_index") {
     CHECK(empty.find(42) == nullptr);
   }
 
+  TEST_CASE("a bucket table can be asked to prefetch any key, empty or filled") {
+    nmrpred::detail::BucketTable empty;
+    empty.prefetch(0);
+    empty.prefetch(0xFFFFFFFFFFFFFFFFull);
+    std::vector<std::pair<std::uint64_t, nmrpred::detail::Bucket>> entries;
+    entries.emplace_back(7, bucket_of(3));
+    nmrpred::detail::BucketTable filled;
+    filled.assign(std::move(entries));
+    filled.prefetch(7);
+    filled.prefetch(8);
+    CHECK(filled.find(7) != nullptr);
+  }
+
   TEST_CASE("the index's id of each compound is the record's id") {
     const auto tables = nmrpred::Tables::builtin();
     const auto &index = tables->reference_index();
