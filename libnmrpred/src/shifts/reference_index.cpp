@@ -104,12 +104,11 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
   index->constitution.resize(compounds.size());
   {
     auto ids = std::make_shared<std::string>();
-    index->id_start.reserve(compounds.size() + 1);
+    index->id_start.reserve(compounds.size());
     for (const auto &c : compounds) {
       index->id_start.push_back(static_cast<std::uint32_t>(ids->size()));
       ids->append(c.id).push_back('\0');
     }
-    index->id_start.push_back(static_cast<std::uint32_t>(ids->size()));
     index->id_text = std::move(ids);
   }
   for (std::uint32_t ci = 0; ci < compounds.size(); ++ci) {

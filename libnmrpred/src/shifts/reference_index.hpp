@@ -58,10 +58,11 @@ inline constexpr std::size_t kMaxListedReferences = ReferenceIds::kMax;
 
 struct Bucket {
   std::vector<CompoundValue> compounds;  // sorted by compound
-  // The compounds of the first kMaxListedReferences of `compounds`, which a
-  // lookup that excludes none lists: kept beside the summaries the lookup
-  // has just read, so that listing them does not read the compound values
-  // (40 bytes each, elsewhere on the heap).
+  // Derivable: the `compound` of the first min(kMaxListedReferences,
+  // compounds.size()) entries of `compounds`. Stored for locality: a lookup
+  // that excludes none lists them from here, beside the summaries it has
+  // just read, and so reads no compound values (40 bytes each, elsewhere on
+  // the heap).
   std::array<std::uint32_t, kMaxListedReferences> listed{};
   std::uint32_t listed_count = 0;
   Summary shift, residual;               // over all compounds (residual: those that have one)
@@ -218,6 +219,8 @@ class BucketTable {
   // Starts loading the slot a find(key) reads first, for a caller that has
   // other work to do before the find.
   void prefetch(std::uint64_t key) const noexcept { slots_.prefetch(key); }
+  // Every bucket, in no particular order.
+  const std::vector<Bucket> &buckets() const noexcept { return buckets_; }
 
  private:
   static constexpr std::uint32_t kNone = ~std::uint32_t{0};
@@ -241,12 +244,10 @@ struct ReferenceIndex {
   // by a NUL: a lookup lists up to 10 ids, and reading them from the
   // compound records cost a cache miss per record (some 200 bytes each) and
   // another for a long id's text. The shifts' ReferenceIds share the pool
-  // rather than copy the ids.
+  // rather than copy the ids, and are its one reader (ReferenceIdsAccess
+  // gives them a compound's start; the NUL ends the id).
   std::shared_ptr<const std::string> id_text;
-  std::vector<std::uint32_t> id_start;  // per compound, and the pool's size at the end
-  std::string_view id(std::uint32_t c) const {
-    return std::string_view(*id_text).substr(id_start[c], id_start[c + 1] - id_start[c] - 1);
-  }
+  std::vector<std::uint32_t> id_start;  // per compound
   bool has_user = false;
   // known[k]: every key of levels[*][*][k] (both origins, both nuclei).
   // Each reference atom is entered at all spheres 1..kMaxHoseSpheres, so a
