@@ -4,6 +4,7 @@
 
 #include <doctest/doctest.h>
 
+#include <nmrpred/shifts.hpp>
 #include <nmrpred/tables.hpp>
 
 #include <algorithm>
@@ -47,10 +48,49 @@ TEST_SUITE("reference_index") {
     CHECK(empty.find(42) == nullptr);
   }
 
-  TEST_CASE("the index's id of each compound is the record's id") {
+  TEST_CASE("a bucket table can be asked to prefetch any key, empty or filled") {
+    nmrpred::detail::BucketTable empty;
+    empty.prefetch(0);
+    empty.prefetch(0xFFFFFFFFFFFFFFFFull);
+    std::vector<std::pair<std::uint64_t, nmrpred::detail::Bucket>> entries;
+    entries.emplace_back(7, bucket_of(3));
+    nmrpred::detail::BucketTable filled;
+    filled.assign(std::move(entries));
+    filled.prefetch(7);
+    filled.prefetch(8);
+    CHECK(filled.find(7) != nullptr);
+  }
+
+  TEST_CASE("the ids a shift lists for the index's compounds are the records' ids") {
     const auto tables = nmrpred::Tables::builtin();
     const auto &index = tables->reference_index();
-    REQUIRE(!tables->reference().empty());
-    for (std::uint32_t c = 0; c < tables->reference().size(); ++c) CHECK(index.id(c) == tables->reference()[c].id);
+    const auto &records = tables->reference();
+    REQUIRE(!records.empty());
+    // In lists of up to ReferenceIds::kMax compounds, as lookups make them.
+    std::vector<std::uint32_t> compounds(records.size());
+    for (std::uint32_t c = 0; c < compounds.size(); ++c) compounds[c] = c;
+    for (std::size_t first = 0; first < compounds.size(); first += nmrpred::ReferenceIds::kMax) {
+      const std::size_t n = std::min(nmrpred::ReferenceIds::kMax, compounds.size() - first);
+      nmrpred::ReferenceIds ids;
+      nmrpred::detail::ReferenceIdsAccess::assign(ids, index, compounds.data() + first, n);
+      REQUIRE(ids.size() == n);
+      for (std::size_t i = 0; i < n; ++i) CHECK(ids[i] == records[first + i].id);
+    }
+  }
+
+  TEST_CASE("each bucket of the built-in index lists the first compounds it holds") {
+    const auto tables = nmrpred::Tables::builtin();
+    const auto &index = tables->reference_index();
+    std::size_t buckets = 0;
+    for (const auto &by_nucleus : index.levels)
+      for (const auto &by_level : by_nucleus)
+        for (const auto &table : by_level)
+          for (const auto &b : table.buckets()) {
+            ++buckets;
+            const std::size_t n = std::min(nmrpred::detail::kMaxListedReferences, b.compounds.size());
+            REQUIRE(b.listed_count == n);
+            for (std::size_t i = 0; i < n; ++i) CHECK(b.listed[i] == b.compounds[i].compound);
+          }
+    CHECK(buckets > 0);
   }
 }

@@ -501,7 +501,7 @@ bool eval_prim(const SmartsImpl &p, const ExprNode &e, const SmartsTarget &t, st
     case Prim::BondDouble: return bond_order(t, bond) == BondOrder::Double;
     case Prim::BondTriple: return bond_order(t, bond) == BondOrder::Triple;
     case Prim::BondAromatic: return bond_order(t, bond) == BondOrder::Aromatic;
-    case Prim::BondRing: return t.bond_ring_count(static_cast<std::size_t>(bond)) > 0;
+    case Prim::BondRing: return t.has_ring_bonds() && t.bond_ring_count(static_cast<std::size_t>(bond)) > 0;
   }
   return false;
 }
@@ -1087,7 +1087,7 @@ void SmartsTarget::perceive_rings() const {
   const std::size_t bond_count = m.bond_count();
   // Ring atoms first, in a block of their own (on the stack for molecules
   // of usual size): a quarter of the molecules has no ring, and for them
-  // this is all, with no bond_rings_ (bond_ring_count() reads 0).
+  // this is all, with no bond_rings_ (has_ring_bonds() is false).
   constexpr std::size_t kStackAtoms = 128;
   std::array<std::int32_t, 3 * kStackAtoms> strip_on_stack;
   std::vector<std::int32_t> strip_on_heap;

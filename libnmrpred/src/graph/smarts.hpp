@@ -156,10 +156,14 @@ class SmartsTarget {
     if (!rings_done_) perceive_rings();
     return atoms_[atom].ring_count;
   }
-  int bond_ring_count(std::size_t bond) const {
+  // Whether some bond lies on a ring. A quarter of the molecules has none,
+  // and they get no per-bond counts: ask this before bond_ring_count().
+  bool has_ring_bonds() const {
     if (!rings_done_) perceive_rings();
-    return bond < bond_rings_.size() ? bond_rings_[bond] : 0;  // none kept without rings
+    return !bond_rings_.empty();
   }
+  // Precondition: has_ring_bonds().
+  int bond_ring_count(std::size_t bond) const { return bond_rings_[bond]; }
   // Size of the smallest ring that contains the atom, 0 if none.
   int smallest_ring(std::size_t atom) const {
     if (!rings_done_) perceive_rings();

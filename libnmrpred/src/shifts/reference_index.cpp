@@ -17,35 +17,22 @@
 namespace nmrpred::detail {
 
 void HashSet::assign(const std::vector<std::uint64_t> &values) {
-  unsigned bits = 1;
-  while ((std::size_t{1} << bits) < 2 * values.size()) ++bits;
-  slots_.assign(std::size_t{1} << bits, kEmpty);
-  mask_ = slots_.size() - 1;
-  shift_ = 64 - bits;
+  slots_.reset(values.size());
   has_empty_ = false;
   for (const auto v : values) {
-    if (v == kEmpty) {
+    if (v == kEmpty)
       has_empty_ = true;
-      continue;
-    }
-    std::size_t i = slot(v);
-    while (slots_[i] != kEmpty && slots_[i] != v) i = (i + 1) & mask_;
-    slots_[i] = v;
+    else
+      slots_[slots_.probe(v)] = v;
   }
 }
 
 void BucketTable::assign(std::vector<std::pair<std::uint64_t, Bucket>> entries) {
-  unsigned bits = 1;
-  while ((std::size_t{1} << bits) < 2 * entries.size()) ++bits;
-  slots_.assign(std::size_t{1} << bits, Slot{});
-  mask_ = slots_.size() - 1;
-  shift_ = 64 - bits;
+  slots_.reset(entries.size());
   buckets_.clear();
   buckets_.reserve(entries.size());
   for (auto &e : entries) {
-    std::size_t i = slot(e.first);
-    while (slots_[i].bucket != kNone && slots_[i].key != e.first) i = (i + 1) & mask_;
-    slots_[i] = Slot{e.first, static_cast<std::uint32_t>(buckets_.size())};
+    slots_[slots_.probe(e.first)] = Slot{e.first, static_cast<std::uint32_t>(buckets_.size())};
     buckets_.push_back(std::move(e.second));
   }
 }
@@ -117,12 +104,11 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
   index->constitution.resize(compounds.size());
   {
     auto ids = std::make_shared<std::string>();
-    index->id_start.reserve(compounds.size() + 1);
+    index->id_start.reserve(compounds.size());
     for (const auto &c : compounds) {
       index->id_start.push_back(static_cast<std::uint32_t>(ids->size()));
       ids->append(c.id).push_back('\0');
     }
-    index->id_start.push_back(static_cast<std::uint32_t>(ids->size()));
     index->id_text = std::move(ids);
   }
   for (std::uint32_t ci = 0; ci < compounds.size(); ++ci) {

@@ -58,10 +58,11 @@ inline constexpr std::size_t kMaxListedReferences = ReferenceIds::kMax;
 
 struct Bucket {
   std::vector<CompoundValue> compounds;  // sorted by compound
-  // The compounds of the first kMaxListedReferences of `compounds`, which a
-  // lookup that excludes none lists: kept beside the summaries the lookup
-  // has just read, so that listing them does not read the compound values
-  // (40 bytes each, elsewhere on the heap).
+  // Derivable: the `compound` of the first min(kMaxListedReferences,
+  // compounds.size()) entries of `compounds`. Stored for locality: a lookup
+  // that excludes none lists them from here, beside the summaries it has
+  // just read, and so reads no compound values (40 bytes each, elsewhere on
+  // the heap).
   std::array<std::uint32_t, kMaxListedReferences> listed{};
   std::uint32_t listed_count = 0;
   Summary shift, residual;               // over all compounds (residual: those that have one)
@@ -142,45 +143,84 @@ inline std::size_t hash_slot(std::uint64_t value, unsigned shift) noexcept {
   return static_cast<std::size_t>((value * 0x9E3779B97F4A7C15ull) >> shift);
 }
 
-// A set of 64-bit hash values, filled once and then only asked: open
-// addressing with linear probing, at most half full, so most questions read
-// one slot (a sorted array took a dozen steps of binary search).
+// Open addressing with linear probing (common practice), the part HashSet
+// and BucketTable share: filled once and then only asked, at most half full,
+// so most probes read one slot. `Slot` is the slot type; `SlotKey` says
+// whether a slot is empty (static bool empty(const Slot &)) and which key a
+// full one holds (static std::uint64_t key(const Slot &)).
+template <class Slot, class SlotKey>
+class ProbedSlots {
+ public:
+  // Empty slots for up to `n` keys.
+  void reset(std::size_t n) {
+    unsigned bits = 1;
+    while ((std::size_t{1} << bits) < 2 * n) ++bits;
+    slots_.assign(std::size_t{1} << bits, Slot{});
+    mask_ = slots_.size() - 1;
+    shift_ = 64 - bits;
+  }
+  // The slot that holds `key`, or else the empty slot where it goes. The
+  // key is compared first (most questions find it in the first slot); an
+  // empty slot whose key happens to equal it ends the probe just as well,
+  // since no slot past an empty one holds it.
+  std::size_t probe(std::uint64_t key) const noexcept {
+    std::size_t i = hash_slot(key, shift_);
+    while (SlotKey::key(slots_[i]) != key && !SlotKey::empty(slots_[i])) i = (i + 1) & mask_;
+    return i;
+  }
+  // Starts loading the slot where probe(key) starts.
+  void prefetch(std::uint64_t key) const noexcept {
+#if defined(__GNUC__)
+    __builtin_prefetch(&slots_[hash_slot(key, shift_)]);
+#else
+    (void)key;
+#endif
+  }
+  const Slot &operator[](std::size_t i) const noexcept { return slots_[i]; }
+  Slot &operator[](std::size_t i) noexcept { return slots_[i]; }
+
+ private:
+  std::vector<Slot> slots_ = std::vector<Slot>(2);
+  std::size_t mask_ = 1;
+  unsigned shift_ = 63;
+};
+
+// A set of 64-bit hash values (a sorted array took a dozen steps of binary
+// search per question).
 class HashSet {
  public:
   void assign(const std::vector<std::uint64_t> &values);
   bool contains(std::uint64_t value) const noexcept {
     if (value == kEmpty) return has_empty_;
-    for (std::size_t i = slot(value);; i = (i + 1) & mask_) {
-      if (slots_[i] == value) return true;
-      if (slots_[i] == kEmpty) return false;
-    }
+    return slots_[slots_.probe(value)] == value;
   }
 
  private:
   static constexpr std::uint64_t kEmpty = 0;
-  std::size_t slot(std::uint64_t value) const noexcept { return hash_slot(value, shift_); }
-  std::vector<std::uint64_t> slots_ = std::vector<std::uint64_t>(2, kEmpty);
-  std::size_t mask_ = 1;
-  unsigned shift_ = 63;
+  struct SlotKey {
+    static bool empty(std::uint64_t s) noexcept { return s == kEmpty; }
+    static std::uint64_t key(std::uint64_t s) noexcept { return s; }
+  };
+  ProbedSlots<std::uint64_t, SlotKey> slots_;
   bool has_empty_ = false;  // whether kEmpty itself is in the set
 };
 
-// Buckets by key, filled once and then only asked: open addressing with
-// linear probing as in HashSet, each slot holding the key and its bucket's
-// place, so that a find reads one slot and one bucket (std::unordered_map
-// chased a node per probe; a separate array of places cost a cache miss
-// more per find).
+// Buckets by key, each slot holding the key and its bucket's place, so that a
+// find reads one slot and one bucket (std::unordered_map chased a node per
+// probe; a separate array of places cost a cache miss more per find).
 class BucketTable {
  public:
   void assign(std::vector<std::pair<std::uint64_t, Bucket>> entries);
   // Null when no bucket has `key`.
   const Bucket *find(std::uint64_t key) const noexcept {
-    for (std::size_t i = slot(key);; i = (i + 1) & mask_) {
-      const Slot &s = slots_[i];
-      if (s.bucket == kNone) return nullptr;
-      if (s.key == key) return &buckets_[s.bucket];
-    }
+    const Slot &s = slots_[slots_.probe(key)];
+    return s.bucket == kNone ? nullptr : &buckets_[s.bucket];
   }
+  // Starts loading the slot a find(key) reads first, for a caller that has
+  // other work to do before the find.
+  void prefetch(std::uint64_t key) const noexcept { slots_.prefetch(key); }
+  // Every bucket, in no particular order.
+  const std::vector<Bucket> &buckets() const noexcept { return buckets_; }
 
  private:
   static constexpr std::uint32_t kNone = ~std::uint32_t{0};
@@ -188,10 +228,11 @@ class BucketTable {
     std::uint64_t key = 0;
     std::uint32_t bucket = kNone;
   };
-  std::size_t slot(std::uint64_t key) const noexcept { return hash_slot(key, shift_); }
-  std::vector<Slot> slots_ = std::vector<Slot>(2);
-  std::size_t mask_ = 1;
-  unsigned shift_ = 63;
+  struct SlotKey {
+    static bool empty(const Slot &s) noexcept { return s.bucket == kNone; }
+    static std::uint64_t key(const Slot &s) noexcept { return s.key; }
+  };
+  ProbedSlots<Slot, SlotKey> slots_;
   std::vector<Bucket> buckets_;
 };
 
@@ -203,12 +244,10 @@ struct ReferenceIndex {
   // by a NUL: a lookup lists up to 10 ids, and reading them from the
   // compound records cost a cache miss per record (some 200 bytes each) and
   // another for a long id's text. The shifts' ReferenceIds share the pool
-  // rather than copy the ids.
+  // rather than copy the ids, and are its one reader (ReferenceIdsAccess
+  // gives them a compound's start; the NUL ends the id).
   std::shared_ptr<const std::string> id_text;
-  std::vector<std::uint32_t> id_start;  // per compound, and the pool's size at the end
-  std::string_view id(std::uint32_t c) const {
-    return std::string_view(*id_text).substr(id_start[c], id_start[c + 1] - id_start[c] - 1);
-  }
+  std::vector<std::uint32_t> id_start;  // per compound
   bool has_user = false;
   // known[k]: every key of levels[*][*][k] (both origins, both nuclei).
   // Each reference atom is entered at all spheres 1..kMaxHoseSpheres, so a
