@@ -1,7 +1,9 @@
 // Times structure reading, equivalence classes and HOSE codes over a SMILES
 // file (the NCI sample from Debian's rdkit-data; see benchmarks/README.md).
 //
-// Usage: bench_read_classes SMILES_FILE [REPEATS]
+// Usage: bench_read_classes [--ratios] SMILES_FILE [REPEATS]
+// (--ratios: only the ratios of the shift predictions to reading, the last
+// block of the report.)
 //
 // Each stage runs REPEATS times over the whole file; the report gives the
 // median wall time, the spread (min..max) and molecules per second at the
@@ -30,6 +32,7 @@
 #include <iterator>
 #include <sstream>
 #include <string>
+#include <string_view>
 #include <utility>
 #include <vector>
 
@@ -81,8 +84,12 @@ void report(const char *stage, std::size_t molecules, const Timing &t) {
 }  // namespace
 
 int main(int argc, char **argv) {
+  // --ratios: only the ratios to reading of the shift bars (last block),
+  // a minute rather than several, for runs repeated to see the spread.
+  const bool all_stages = !(argc > 1 && std::string_view(argv[1]) == "--ratios");
+  if (!all_stages) --argc, ++argv;
   if (argc < 2) {
-    std::fprintf(stderr, "usage: %s SMILES_FILE [REPEATS]\n", argv[0]);
+    std::fprintf(stderr, "usage: %s [--ratios] SMILES_FILE [REPEATS]\n", argv[0]);
     return 2;
   }
   const int repeats = argc > 2 ? std::max(1, std::atoi(argv[2])) : 5;
@@ -109,7 +116,7 @@ int main(int argc, char **argv) {
     const std::function<std::size_t()> read_all = [&] {
       return nmrpred::read_records(text, nmrpred::Format::Smiles).size();
     };
-    report("read (Open Babel -> Molecule)", records.size(), time_it(repeats, read_all, sink));
+    if (all_stages) report("read (Open Babel -> Molecule)", records.size(), time_it(repeats, read_all, sink));
 
     auto classes_only = [&](const std::vector<nmrpred::Molecule> &mols) {
       std::size_t n = 0;
@@ -125,18 +132,20 @@ int main(int argc, char **argv) {
       return n;
     };
 
-    report("classes (read beforehand)", molecules.size(), time_it(repeats, [&] { return classes_only(molecules); }, sink));
-    report("classes + HOSE codes (read beforehand)", molecules.size(),
-           time_it(repeats, [&] { return classes_and_codes(molecules); }, sink));
-    report("read + classes + HOSE codes", records.size(), time_it(repeats, [&] {
-             std::size_t n = 0;
-             for (const auto &r : nmrpred::read_records(text, nmrpred::Format::Smiles))
-               if (r.molecule) {
-                 const auto classes = nmrpred::compute_classes(*r.molecule);
-                 for (const auto &code : nmrpred::hose_codes(*r.molecule, classes)) n += code.size();
-               }
-             return n;
-           }, sink));
+    if (all_stages) {
+      report("classes (read beforehand)", molecules.size(), time_it(repeats, [&] { return classes_only(molecules); }, sink));
+      report("classes + HOSE codes (read beforehand)", molecules.size(),
+             time_it(repeats, [&] { return classes_and_codes(molecules); }, sink));
+      report("read + classes + HOSE codes", records.size(), time_it(repeats, [&] {
+               std::size_t n = 0;
+               for (const auto &r : nmrpred::read_records(text, nmrpred::Format::Smiles))
+                 if (r.molecule) {
+                   const auto classes = nmrpred::compute_classes(*r.molecule);
+                   for (const auto &code : nmrpred::hose_codes(*r.molecule, classes)) n += code.size();
+                 }
+               return n;
+             }, sink));
+    }
 
     // 13C prediction: the built-in tables are loaded once, outside the timing,
     // as a host application would.
@@ -146,7 +155,7 @@ int main(int argc, char **argv) {
       for (const auto &m : molecules) n += nmrpred::predict_c13(m, nmrpred::compute_classes(m), *tables).size();
       return n;
     };
-    report("classes + 13C shifts (read beforehand)", molecules.size(), time_it(repeats, classes_c13, sink));
+    if (all_stages) report("classes + 13C shifts (read beforehand)", molecules.size(), time_it(repeats, classes_c13, sink));
     // Both nuclei through the public call a host wanting both makes,
     // predict_c13_h1 (one call sharing the molecule's work between the
     // nuclei; until it existed this row timed predict_c13 then predict_h1),
@@ -159,111 +168,113 @@ int main(int argc, char **argv) {
       }
       return n;
     };
-    report("classes + 13C + 1H shifts (read beforehand)", molecules.size(), time_it(repeats, classes_c13_h1, sink));
-    report("read + classes + 13C shifts", records.size(), time_it(repeats, [&] {
-             std::size_t n = 0;
-             for (const auto &r : nmrpred::read_records(text, nmrpred::Format::Smiles))
-               if (r.molecule) n += nmrpred::predict_c13(*r.molecule, nmrpred::compute_classes(*r.molecule), *tables).size();
-             return n;
-           }, sink));
-    // Couplings and the 1H simulation are timed apart (below), so this stage
-    // keeps measuring what it measured before they existed.
-    nmrpred::PredictOptions shifts_only;
-    shifts_only.predict_couplings = false;
-    report("predict_all (read, classes, HOSE, 13C, 1H)", records.size(), time_it(repeats, [&] {
-             return nmrpred::predict_all(text, nmrpred::Format::Smiles, *tables, shifts_only).size();
-           }, sink));
-    // Default options: + couplings, the 1H line list and multiplets at 400 MHz.
-    report("predict_all + 1H line list", records.size(), time_it(repeats, [&] {
-             std::size_t n = 0;
-             for (const auto &r : nmrpred::predict_all(text, nmrpred::Format::Smiles, *tables))
-               if (r.prediction && r.prediction->h1_simulation) n += r.prediction->h1_simulation->lines.size();
-             return n;
-           }, sink));
-    // The line lists are made once; this times only sampling them (with the
-    // residual solvent and water signals) on 65536 points.
-    std::vector<nmrpred::Simulation> sims;
-    nmrpred::Solvent cdcl3 = nmrpred::find_solvent(*tables, "CDCl3");
-    for (const auto &r : nmrpred::predict_all(text, nmrpred::Format::Smiles, *tables))
-      if (r.prediction && r.prediction->h1_simulation) sims.push_back(*r.prediction->h1_simulation);
-    const auto solvent_signals = nmrpred::solvent_peaks(cdcl3, nmrpred::Nucleus::H1, 400);
-    nmrpred::SamplingOptions sampling = nmrpred::sampling_defaults(nmrpred::Nucleus::H1, 400);
-    sampling.points = 65536;
-    report("  64k-point sampling of those lists", sims.size(), time_it(repeats, [&] {
-             std::size_t n = 0;
-             for (const auto &sim : sims) {
-               std::vector<nmrpred::Multiplet> all = sim.multiplets;
-               for (const auto &p : solvent_signals) all.push_back(p.signal);
-               n += nmrpred::sample_signals(all, sampling).intensity.size();
-             }
-             return n;
-           }, sink));
+    if (all_stages) {
+      report("classes + 13C + 1H shifts (read beforehand)", molecules.size(), time_it(repeats, classes_c13_h1, sink));
+      report("read + classes + 13C shifts", records.size(), time_it(repeats, [&] {
+               std::size_t n = 0;
+               for (const auto &r : nmrpred::read_records(text, nmrpred::Format::Smiles))
+                 if (r.molecule) n += nmrpred::predict_c13(*r.molecule, nmrpred::compute_classes(*r.molecule), *tables).size();
+               return n;
+             }, sink));
+      // Couplings and the 1H simulation are timed apart (below), so this stage
+      // keeps measuring what it measured before they existed.
+      nmrpred::PredictOptions shifts_only;
+      shifts_only.predict_couplings = false;
+      report("predict_all (read, classes, HOSE, 13C, 1H)", records.size(), time_it(repeats, [&] {
+               return nmrpred::predict_all(text, nmrpred::Format::Smiles, *tables, shifts_only).size();
+             }, sink));
+      // Default options: + couplings, the 1H line list and multiplets at 400 MHz.
+      report("predict_all + 1H line list", records.size(), time_it(repeats, [&] {
+               std::size_t n = 0;
+               for (const auto &r : nmrpred::predict_all(text, nmrpred::Format::Smiles, *tables))
+                 if (r.prediction && r.prediction->h1_simulation) n += r.prediction->h1_simulation->lines.size();
+               return n;
+             }, sink));
+      // The line lists are made once; this times only sampling them (with the
+      // residual solvent and water signals) on 65536 points.
+      std::vector<nmrpred::Simulation> sims;
+      nmrpred::Solvent cdcl3 = nmrpred::find_solvent(*tables, "CDCl3");
+      for (const auto &r : nmrpred::predict_all(text, nmrpred::Format::Smiles, *tables))
+        if (r.prediction && r.prediction->h1_simulation) sims.push_back(*r.prediction->h1_simulation);
+      const auto solvent_signals = nmrpred::solvent_peaks(cdcl3, nmrpred::Nucleus::H1, 400);
+      nmrpred::SamplingOptions sampling = nmrpred::sampling_defaults(nmrpred::Nucleus::H1, 400);
+      sampling.points = 65536;
+      report("  64k-point sampling of those lists", sims.size(), time_it(repeats, [&] {
+               std::size_t n = 0;
+               for (const auto &sim : sims) {
+                 std::vector<nmrpred::Multiplet> all = sim.multiplets;
+                 for (const auto &p : solvent_signals) all.push_back(p.signal);
+                 n += nmrpred::sample_signals(all, sampling).intensity.size();
+               }
+               return n;
+             }, sink));
 
-    // Per molecule: reading one SMILES line, then the full 1H line list
-    // (prediction + couplings + simulation), then 64k-point sampling; the
-    // ratios to reading are taken per molecule and their median reported.
-    {
-      std::vector<double> read_t, lines_t, sample_t, lines_ratio, sample_ratio;
-      std::istringstream in(text);
-      std::string line;
-      while (std::getline(in, line)) {
-        if (line.empty()) continue;
-        auto t0 = Clock::now();
-        auto recs = nmrpred::read_records(line, nmrpred::Format::Smiles);
-        auto t1 = Clock::now();
-        if (recs.empty() || !recs[0].molecule) continue;
-        nmrpred::RecordPrediction r;
-        try {
-          r = nmrpred::predict_record(std::move(recs[0]), *tables);
-        } catch (const nmrpred::Error &) {
-          continue;
+      // Per molecule: reading one SMILES line, then the full 1H line list
+      // (prediction + couplings + simulation), then 64k-point sampling; the
+      // ratios to reading are taken per molecule and their median reported.
+      {
+        std::vector<double> read_t, lines_t, sample_t, lines_ratio, sample_ratio;
+        std::istringstream in(text);
+        std::string line;
+        while (std::getline(in, line)) {
+          if (line.empty()) continue;
+          auto t0 = Clock::now();
+          auto recs = nmrpred::read_records(line, nmrpred::Format::Smiles);
+          auto t1 = Clock::now();
+          if (recs.empty() || !recs[0].molecule) continue;
+          nmrpred::RecordPrediction r;
+          try {
+            r = nmrpred::predict_record(std::move(recs[0]), *tables);
+          } catch (const nmrpred::Error &) {
+            continue;
+          }
+          auto t2 = Clock::now();
+          if (!r.prediction || !r.prediction->h1_simulation) continue;
+          std::vector<nmrpred::Multiplet> all = r.prediction->h1_simulation->multiplets;
+          for (const auto &p : solvent_signals) all.push_back(p.signal);
+          sink += nmrpred::sample_signals(all, sampling).intensity.size();
+          auto t3 = Clock::now();
+          const double rt = std::chrono::duration<double>(t1 - t0).count();
+          const double lt = std::chrono::duration<double>(t2 - t1).count();
+          const double st = std::chrono::duration<double>(t3 - t2).count();
+          read_t.push_back(rt);
+          lines_t.push_back(lt);
+          sample_t.push_back(st);
+          lines_ratio.push_back(lt / rt);
+          sample_ratio.push_back(st / rt);
         }
-        auto t2 = Clock::now();
-        if (!r.prediction || !r.prediction->h1_simulation) continue;
-        std::vector<nmrpred::Multiplet> all = r.prediction->h1_simulation->multiplets;
-        for (const auto &p : solvent_signals) all.push_back(p.signal);
-        sink += nmrpred::sample_signals(all, sampling).intensity.size();
-        auto t3 = Clock::now();
-        const double rt = std::chrono::duration<double>(t1 - t0).count();
-        const double lt = std::chrono::duration<double>(t2 - t1).count();
-        const double st = std::chrono::duration<double>(t3 - t2).count();
-        read_t.push_back(rt);
-        lines_t.push_back(lt);
-        sample_t.push_back(st);
-        lines_ratio.push_back(lt / rt);
-        sample_ratio.push_back(st / rt);
+        auto median = [](std::vector<double> v) {
+          if (v.empty()) return 0.0;
+          std::sort(v.begin(), v.end());
+          return v[v.size() / 2];
+        };
+        auto p95 = [](std::vector<double> v) {
+          if (v.empty()) return 0.0;
+          std::sort(v.begin(), v.end());
+          return v[v.size() * 95 / 100];
+        };
+        fmt::print("\nper molecule ({} with a 1H spectrum; median / 95th percentile, one pass):\n", read_t.size());
+        fmt::print("  read one SMILES                {:>9.1f} / {:>9.1f} us\n", 1e6 * median(read_t), 1e6 * p95(read_t));
+        fmt::print("  1H line list (predict, J, sim) {:>9.1f} / {:>9.1f} us   x{:.1f} / x{:.1f} of reading\n",
+                   1e6 * median(lines_t), 1e6 * p95(lines_t), median(lines_ratio), p95(lines_ratio));
+        fmt::print("  + 64k-point sampling           {:>9.1f} / {:>9.1f} us   x{:.1f} / x{:.1f} of reading\n",
+                   1e6 * median(sample_t), 1e6 * p95(sample_t), median(sample_ratio), p95(sample_ratio));
       }
-      auto median = [](std::vector<double> v) {
-        if (v.empty()) return 0.0;
-        std::sort(v.begin(), v.end());
-        return v[v.size() / 2];
-      };
-      auto p95 = [](std::vector<double> v) {
-        if (v.empty()) return 0.0;
-        std::sort(v.begin(), v.end());
-        return v[v.size() * 95 / 100];
-      };
-      fmt::print("\nper molecule ({} with a 1H spectrum; median / 95th percentile, one pass):\n", read_t.size());
-      fmt::print("  read one SMILES                {:>9.1f} / {:>9.1f} us\n", 1e6 * median(read_t), 1e6 * p95(read_t));
-      fmt::print("  1H line list (predict, J, sim) {:>9.1f} / {:>9.1f} us   x{:.1f} / x{:.1f} of reading\n",
-                 1e6 * median(lines_t), 1e6 * p95(lines_t), median(lines_ratio), p95(lines_ratio));
-      fmt::print("  + 64k-point sampling           {:>9.1f} / {:>9.1f} us   x{:.1f} / x{:.1f} of reading\n",
-                 1e6 * median(sample_t), 1e6 * p95(sample_t), median(sample_ratio), p95(sample_ratio));
-    }
 
-    // Cost grows with size; report classes + codes per size class of heavy atoms.
-    const std::size_t bounds[] = {15, 30, static_cast<std::size_t>(-1)};
-    std::vector<nmrpred::Molecule> by_size[3];
-    for (const auto &m : molecules) {
-      std::size_t k = 0;
-      while (m.heavy_atom_count() > bounds[k]) ++k;
-      by_size[k].push_back(m);
+      // Cost grows with size; report classes + codes per size class of heavy atoms.
+      const std::size_t bounds[] = {15, 30, static_cast<std::size_t>(-1)};
+      std::vector<nmrpred::Molecule> by_size[3];
+      for (const auto &m : molecules) {
+        std::size_t k = 0;
+        while (m.heavy_atom_count() > bounds[k]) ++k;
+        by_size[k].push_back(m);
+      }
+      const char *labels[] = {"  classes + codes, <= 15 heavy atoms", "  classes + codes, 16..30 heavy atoms",
+                              "  classes + codes, > 30 heavy atoms"};
+      for (int k = 0; k < 3; ++k)
+        if (!by_size[k].empty())
+          report(labels[k], by_size[k].size(), time_it(repeats, [&] { return classes_and_codes(by_size[k]); }, sink));
     }
-    const char *labels[] = {"  classes + codes, <= 15 heavy atoms", "  classes + codes, 16..30 heavy atoms",
-                            "  classes + codes, > 30 heavy atoms"};
-    for (int k = 0; k < 3; ++k)
-      if (!by_size[k].empty())
-        report(labels[k], by_size[k].size(), time_it(repeats, [&] { return classes_and_codes(by_size[k]); }, sink));
 
     // The speed bars of the shift predictions are ratios to reading. On a
     // shared virtual machine the speed drifts by tens of per cent within

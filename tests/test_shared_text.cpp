@@ -45,6 +45,7 @@ TEST_SUITE("shared_text") {
     CHECK(std::strcmp(SharedText().c_str(), "") == 0);
     CHECK(SharedText("").empty());
     CHECK(SharedText() == "");
+    CHECK(SharedText(static_cast<const char *>(nullptr)).empty());
   }
 
   TEST_CASE("copies share the characters and outlive the original") {

@@ -61,7 +61,7 @@ class NMRPRED_API SharedText {
   /// A text with a buffer of its own.
   SharedText(std::string_view text);
   SharedText(const std::string &text) : SharedText(std::string_view(text)) {}
-  SharedText(const char *text) : SharedText(std::string_view(text)) {}
+  SharedText(const char *text) : SharedText(text ? std::string_view(text) : std::string_view()) {}
   SharedText(const SharedText &other) noexcept : block_(other.block_), start_(other.start_), size_(other.size_) {
     retain();
   }

@@ -172,8 +172,13 @@ class ReferenceLookup final : public ShiftSource {
       out.observed = observed;
       inc_done = true;
     };
+    const auto &tables = index.levels[user_ ? kUser : kBuiltin][nucleus];
+    // The spheres are tried from the deepest down, most deep ones missing:
+    // the slots of all are asked for at once, so their cache misses overlap
+    // rather than follow one another.
+    for (int k = keys.depth; k >= 1; --k) tables[k].prefetch(keys.key[static_cast<std::size_t>(k)]);
     for (int k = keys.depth; k >= 1; --k) {
-      const Bucket *found = index.levels[user_ ? kUser : kBuiltin][nucleus][k].find(keys.key[static_cast<std::size_t>(k)]);
+      const Bucket *found = tables[k].find(keys.key[static_cast<std::size_t>(k)]);
       if (!found) continue;
       const Bucket &b = *found;
       Summary shift = b.shift, residual = b.residual;
