@@ -443,7 +443,9 @@ constexpr std::size_t kPoolRoomPerClass = 256;
 // Asks `sources` in order for each atom of `atoms` and appends the shifts to
 // `out`; equivalent atoms (same chemical class) get a copy of the first
 // one's shift, whose method text they share. finish(draft, atom) may amend
-// each class's estimate before it is kept.
+// each class's estimate before it is kept; it is called for the class's
+// first atom only, so what it looks at must be the same for every atom of
+// the class (as anything invariant under the molecule's symmetry is).
 template <class Finish>
 void run_sources(const ShiftQuery &q, const SourceList &sources, AtomRange atoms, std::vector<std::string> *warnings,
                  std::vector<Shift> &out, Finish &&finish) {
