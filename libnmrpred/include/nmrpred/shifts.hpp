@@ -201,7 +201,9 @@ class NMRPRED_API ReferenceIds {
 
  private:
   friend struct detail::ReferenceIdsAccess;
-  void assign(const std::string_view *ids, std::size_t n);
+  // A text of the list's own from n ids, id(i) the i-th (defined in reference_ids.cpp, its one user).
+  template <class Id>
+  void assign(std::size_t n, Id id);
   // NUL-separated ids; starts of the listed ones.
   std::shared_ptr<const std::string> text_;
   std::array<std::uint32_t, kMax> start_{};

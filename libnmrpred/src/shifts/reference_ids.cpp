@@ -7,27 +7,28 @@
 
 namespace nmrpred {
 
-ReferenceIds::ReferenceIds(std::initializer_list<std::string_view> ids) { assign(ids.begin(), ids.size()); }
-
-ReferenceIds::ReferenceIds(const std::vector<std::string> &ids) {
-  if (ids.size() > kMax) throw std::length_error("ReferenceIds: more than 10 ids");
-  std::array<std::string_view, kMax> views;
-  std::copy(ids.begin(), ids.end(), views.begin());
-  assign(views.data(), ids.size());
-}
-
-void ReferenceIds::assign(const std::string_view *ids, std::size_t n) {
+template <class Id>
+void ReferenceIds::assign(std::size_t n, Id id) {
   if (n > kMax) throw std::length_error("ReferenceIds: more than 10 ids");
   auto text = std::make_shared<std::string>();
   for (std::size_t i = 0; i < n; ++i) {
+    const std::string_view one = id(i);
     // The NUL after each id is what ends it (operator[]).
-    if (ids[i].find('\0') != std::string_view::npos)
+    if (one.find('\0') != std::string_view::npos)
       throw std::invalid_argument("ReferenceIds: an id holds a NUL character");
     start_[i] = static_cast<std::uint32_t>(text->size());
-    text->append(ids[i]).push_back('\0');
+    text->append(one).push_back('\0');
   }
   size_ = static_cast<std::uint32_t>(n);
   text_ = std::move(text);
+}
+
+ReferenceIds::ReferenceIds(std::initializer_list<std::string_view> ids) {
+  assign(ids.size(), [&](std::size_t i) { return ids.begin()[i]; });
+}
+
+ReferenceIds::ReferenceIds(const std::vector<std::string> &ids) {
+  assign(ids.size(), [&](std::size_t i) { return std::string_view(ids[i]); });
 }
 
 std::vector<std::string> ReferenceIds::to_vector() const {
