@@ -6,6 +6,7 @@
 #include <nmrpred/solvents.hpp>
 
 #include <algorithm>
+#include <array>
 #include <limits>
 #include <cmath>
 #include <iterator>
@@ -434,6 +435,32 @@ bool lookup_keyed(const Molecule &m, std::size_t atom) {
 }
 
 namespace {
+
+// The few sources of one prediction, in order, kept on the stack as the
+// sources themselves are (a vector cost an allocation per call).
+class SourceList {
+ public:
+  void push_back(const ShiftSource *s) { list_.at(n_++) = s; }
+  const ShiftSource *const *begin() const { return list_.data(); }
+  const ShiftSource *const *end() const { return list_.data() + n_; }
+
+ private:
+  std::array<const ShiftSource *, 4> list_{};
+  std::size_t n_ = 0;
+};
+
+// Atoms of one run of the engine, ascending: a part of a list the caller
+// owns.
+class AtomRange {
+ public:
+  AtomRange(const std::size_t *first, const std::size_t *last) : first_(first), last_(last) {}
+  const std::size_t *begin() const { return first_; }
+  const std::size_t *end() const { return last_; }
+
+ private:
+  const std::size_t *first_;
+  const std::size_t *last_;
+};
 
 // Room for the method texts of a run, per class: over the 4,999 NCI records
 // texts average 200 characters for carbons and 177 for protons (nine in ten

@@ -38,14 +38,10 @@ struct ShiftDraft {
   bool observed = true;
   // As a new draft, keeping the method's room.
   void reset() {
-    ppm = 0;
-    uncertainty_ppm = 0;
-    source = ShiftSourceKind::Reference;
-    sphere = 0;
-    method.clear();
-    references.clear();
-    exchangeable = false;
-    observed = true;
+    std::string room = std::move(method);
+    room.clear();
+    *this = ShiftDraft();
+    method = std::move(room);
   }
 };
 
@@ -63,7 +59,7 @@ class TextPool {
  private:
   SharedText held_;       // its block is the one being filled (the pool is one of its users)
   std::size_t used_ = 0;  // characters of that block taken
-  std::size_t room_ = 0;                // the room of the next block
+  std::size_t room_ = 0;  // the room of the next block
 };
 
 // Facts of one molecule that its 13C and 1H predictions share (predict()
@@ -202,32 +198,6 @@ const Solvent &find_solvent_ref(const Tables &tables, std::string_view name, std
 // for the HOSE keys of `atom`: carbons, and protons that are neither on O, N
 // or S nor deuterium or tritium.
 bool lookup_keyed(const Molecule &m, std::size_t atom);
-
-// The few sources of one prediction, in order, kept on the stack as the
-// sources themselves are (a vector cost an allocation per call).
-class SourceList {
- public:
-  void push_back(const ShiftSource *s) { list_.at(n_++) = s; }
-  const ShiftSource *const *begin() const { return list_.data(); }
-  const ShiftSource *const *end() const { return list_.data() + n_; }
-
- private:
-  std::array<const ShiftSource *, 4> list_{};
-  std::size_t n_ = 0;
-};
-
-// Atoms of one run of the engine, ascending: a part of a list the caller
-// owns.
-class AtomRange {
- public:
-  AtomRange(const std::size_t *first, const std::size_t *last) : first_(first), last_(last) {}
-  const std::size_t *begin() const { return first_; }
-  const std::size_t *end() const { return last_; }
-
- private:
-  const std::size_t *first_;
-  const std::size_t *last_;
-};
 
 }  // namespace nmrpred::detail
 
