@@ -175,9 +175,18 @@ int main(int argc, char **argv) {
     // 13C prediction: the built-in tables are loaded once, outside the timing,
     // as a host application would.
     const auto tables = nmrpred::Tables::builtin();
+    // One molecule's work in the 13C and the both-nuclei stages, whichever way
+    // the molecules arrive (read beforehand, read all first, streamed).
+    auto c13_of = [&](const nmrpred::Molecule &m) {
+      return nmrpred::predict_c13(m, nmrpred::compute_classes(m), *tables).size();
+    };
+    auto c13_h1_of = [&](const nmrpred::Molecule &m) {
+      const auto shifts = nmrpred::predict_c13_h1(m, nmrpred::compute_classes(m), *tables);
+      return shifts.c13.size() + shifts.h1.size();
+    };
     const std::function<std::size_t()> classes_c13 = [&] {
       std::size_t n = 0;
-      for (const auto &m : molecules) n += nmrpred::predict_c13(m, nmrpred::compute_classes(m), *tables).size();
+      for (const auto &m : molecules) n += c13_of(m);
       return n;
     };
     if (all_stages) report("classes + 13C shifts (read beforehand)", molecules.size(), time_it(repeats, classes_c13, sink));
@@ -187,10 +196,7 @@ int main(int argc, char **argv) {
     // without the HOSE code texts and signal lists predict_all also writes.
     const std::function<std::size_t()> classes_c13_h1 = [&] {
       std::size_t n = 0;
-      for (const auto &m : molecules) {
-        const auto shifts = nmrpred::predict_c13_h1(m, nmrpred::compute_classes(m), *tables);
-        n += shifts.c13.size() + shifts.h1.size();
-      }
+      for (const auto &m : molecules) n += c13_h1_of(m);
       return n;
     };
     if (all_stages) {
@@ -198,7 +204,7 @@ int main(int argc, char **argv) {
       report("read + classes + 13C shifts", records.size(), time_it(repeats, [&] {
                std::size_t n = 0;
                for (const auto &r : nmrpred::read_records(text, nmrpred::Format::Smiles))
-                 if (r.molecule) n += nmrpred::predict_c13(*r.molecule, nmrpred::compute_classes(*r.molecule), *tables).size();
+                 if (r.molecule) n += c13_of(*r.molecule);
                return n;
              }, sink));
       // Couplings and the 1H simulation are timed apart (below), so this stage
@@ -331,14 +337,7 @@ int main(int argc, char **argv) {
         while (reader.next(record)) {
           if (!record.molecule) continue;
           const nmrpred::Molecule &m = *record.molecule;
-          if (what == 0) {
-            n += m.atom_count();
-          } else if (what == 1) {
-            n += nmrpred::predict_c13(m, nmrpred::compute_classes(m), *tables).size();
-          } else {
-            const auto shifts = nmrpred::predict_c13_h1(m, nmrpred::compute_classes(m), *tables);
-            n += shifts.c13.size() + shifts.h1.size();
-          }
+          n += what == 0 ? m.atom_count() : what == 1 ? c13_of(m) : c13_h1_of(m);
         }
         return n;
       };

@@ -124,7 +124,7 @@ constexpr int kC13SameSchemeSphere = 2;
 // reuses: the longest texts are a rule's with a correction's and a CH2
 // pair's tails, and over the first 1,000 NCI records 400 characters hold
 // 98.6 % of those.
-constexpr std::size_t kLookupMethodRoom = 400;
+constexpr std::size_t kDraftMethodRoom = 400;
 
 // Appends v as fmt's "{:+.1f}" writes it (the sign is v's, so -0.04 gives
 // -0.0).
@@ -494,7 +494,7 @@ void run_sources(const ShiftQuery &q, const SourceList &sources, AtomRange atoms
   // One draft for every atom of the molecule, both nuclei: its method text
   // keeps its room, so an estimate allocates no text of its own.
   ShiftDraft &d = q.scratch().draft;
-  d.method.reserve(kLookupMethodRoom);
+  d.method.reserve(kDraftMethodRoom);
   for (auto atom : atoms) {
     const std::size_t cls = q.classes.chemical[atom];
     if (by_class[cls] != kNotYet) {
