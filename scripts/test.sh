@@ -1,9 +1,11 @@
 #!/usr/bin/env bash
 # Builds libnmrpred and runs every test: the C++ doctest suites and the C
 # header test (ctest) in build/, the same C++ tests again under
-# AddressSanitizer + UndefinedBehaviorSanitizer in build-asan/, and the Python
-# tests (pytest, Debian's /usr/bin/python3). Installs missing Debian packages
-# first. Works from any directory; exits non-zero if any stage fails.
+# AddressSanitizer + UndefinedBehaviorSanitizer in build-asan/, the tests that
+# run the library from several threads at once under ThreadSanitizer in
+# build-tsan/, and the Python tests (pytest, Debian's /usr/bin/python3).
+# Installs missing Debian packages first. Works from any directory; exits
+# non-zero if any stage fails.
 set -euo pipefail
 REPO_ROOT=$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)
 cd "$REPO_ROOT"
@@ -57,12 +59,18 @@ ctest_main() {
   ctest --test-dir "$REPO_ROOT/build" --output-on-failure --no-tests=error -j2
 }
 
-build_asan() {
-  configure_tree "$REPO_ROOT/build-asan" \
+# configure_sanitized DIR OPTION: a tree of the C++ tests (no Python) with
+# the sanitizer option OPTION on.
+configure_sanitized() {
+  configure_tree "$1" \
     -DCMAKE_BUILD_TYPE=RelWithDebInfo \
-    -DNMRPRED_SANITIZE=ON \
+    "-D$2=ON" \
     -DNMRPRED_BUILD_PYTHON=OFF \
-    -DNMRPRED_WERROR=ON || return
+    -DNMRPRED_WERROR=ON
+}
+
+build_asan() {
+  configure_sanitized "$REPO_ROOT/build-asan" NMRPRED_SANITIZE || return
   build_tree "$REPO_ROOT/build-asan"
 }
 
@@ -87,6 +95,21 @@ ctest_asan() {
     ctest --test-dir "$REPO_ROOT/build-asan" --output-on-failure --no-tests=error -j2
 }
 
+# The C++ tests, ThreadSanitizer-instrumented; only those that use the library
+# from several threads at once run (the rest gain nothing from it and take
+# its slowdown).
+build_tsan() {
+  configure_sanitized "$REPO_ROOT/build-tsan" NMRPRED_SANITIZE_THREAD || return
+  log "building $REPO_ROOT/build-tsan (C++ tests only)"
+  ninja -C "$REPO_ROOT/build-tsan" -j2 nmrpred_tests
+}
+
+threads_tsan() {
+  # halt_on_error: the first race not suppressed fails the stage.
+  TSAN_OPTIONS="halt_on_error=1:second_deadlock_stack=1:suppressions=$REPO_ROOT/scripts/tsan.supp" \
+    "$REPO_ROOT/build-tsan/bin/nmrpred_tests" --test-case='*several threads*'
+}
+
 pytest_main() {
   local dirs=() d
   for d in bindings/python/tests tests/python; do
@@ -109,6 +132,10 @@ fi
 run_stage "build (build-asan/)" build_asan
 if [[ " ${failed[*]-} " != *" build (build-asan/) "* ]]; then
   run_stage "ctest under ASan+UBSan (build-asan/)" ctest_asan
+fi
+run_stage "build (build-tsan/)" build_tsan
+if [[ " ${failed[*]-} " != *" build (build-tsan/) "* ]]; then
+  run_stage "threads under TSan (build-tsan/)" threads_tsan
 fi
 if [[ " ${failed[*]-} " != *" build (build/) "* ]]; then
   run_stage "pytest" pytest_main

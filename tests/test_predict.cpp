@@ -43,6 +43,7 @@
 #include <memory>
 #include <set>
 #include <string>
+#include <thread>
 #include <vector>
 
 #include <nlohmann/json.hpp>
@@ -988,6 +989,60 @@ TEST_SUITE("predict") {
       } catch (const nmrpred::ArgumentError &e) {
         CHECK(std::string(e.what()).find(row.name) != std::string::npos);
       }
+    }
+  }
+
+  TEST_CASE("predictions made by several threads at once equal those made by one") {
+    // The core promises use from many threads (one Tables shared by all):
+    // per-thread workspaces, leased scratch and the shared tables must not
+    // leak one molecule's state into another's. Every fifth built-in
+    // reference compound (a sample across the kinds of carbon and proton the
+    // tables hold) and a few stereo cases, predicted with everything on
+    // (couplings and multiplets included) in two settings, each thread in its
+    // own order. The single-threaded results are the expected ones.
+    const Tables &tables = builtin_tables();
+    std::vector<std::string> inputs;
+    for (std::size_t i = 0; i < tables.reference().size(); i += 5) inputs.push_back(tables.reference()[i].smiles);
+    for (const char *s : {"C[C@H](O)CC", "C/C=C/C(=O)OC", "F/C=C\\Cl", "C[C@H]1CC[C@@H](C)CC1", "OC(=O)C[C@@H](N)C(=O)O"})
+      inputs.emplace_back(s);
+    REQUIRE(inputs.size() > 100);
+    PredictOptions plain, other;
+    other.blind = true;
+    other.solvent = "DMSO-d6";
+    other.field_mhz = 90;
+    const PredictOptions *settings[2] = {&plain, &other};
+    auto json_of = [&](const std::string &smiles, const PredictOptions &o) {
+      return nmrpred::to_json(nmrpred::predict_record(nmrpred::read_records(smiles, nmrpred::Format::Smiles).at(0), tables, o));
+    };
+    std::vector<std::string> expected[2];
+    for (int k = 0; k < 2; ++k)
+      for (const auto &s : inputs) expected[k].push_back(json_of(s, *settings[k]));
+    constexpr int kThreads = 4;
+    std::vector<int> mismatches(kThreads, 0);
+    std::vector<std::string> first_mismatch(kThreads);
+    std::vector<std::thread> threads;
+    for (int t = 0; t < kThreads; ++t)
+      threads.emplace_back([&, t] {
+        for (int round = 0; round < 2; ++round)
+          for (std::size_t j = 0; j < inputs.size(); ++j) {
+            // Threads start at different molecules and alternate settings,
+            // so that different work runs side by side.
+            const std::size_t i = (j + static_cast<std::size_t>(t) * inputs.size() / kThreads) % inputs.size();
+            const int k = (t + round + static_cast<int>(j)) % 2;
+            std::string got;
+            try {
+              got = json_of(inputs[i], *settings[k]);
+            } catch (const std::exception &e) {
+              got = e.what();
+            }
+            if (got != expected[k][i] && mismatches[static_cast<std::size_t>(t)]++ == 0)
+              first_mismatch[static_cast<std::size_t>(t)] = inputs[i];
+          }
+      });
+    for (auto &th : threads) th.join();
+    for (int t = 0; t < kThreads; ++t) {
+      INFO("thread ", t, ", first differing input: ", first_mismatch[static_cast<std::size_t>(t)]);
+      CHECK(mismatches[static_cast<std::size_t>(t)] == 0);
     }
   }
 }
