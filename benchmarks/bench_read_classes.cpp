@@ -326,8 +326,10 @@ int main(int argc, char **argv) {
 
     // A host that reads a molecule and predicts it at once: what prediction
     // adds to reading there. Not the bars' measure (above, over molecules
-    // read beforehand), which comes out lower, most likely because reading in
-    // between evicts the tables and scratch of the prediction from the caches.
+    // read beforehand), which comes out lower; the cache simulation of
+    // benchmarks/README.md (eighth round) points to reading in between
+    // disturbing the branch predictors and instruction caches, not to the
+    // tables falling out of the data caches.
     if (all_stages) {
       auto streamed = [&](int what) {
         std::istringstream in(text);

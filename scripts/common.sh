@@ -66,10 +66,12 @@ configure_tree() {
   cmake -S "$REPO_ROOT" -B "$dir" -G Ninja "$@"
 }
 
+# build_tree DIR [TARGET...]: builds TARGETs of DIR, all when none is named.
 build_tree() {
   local dir=$1
-  log "building $dir"
-  ninja -C "$dir" -j2
+  shift
+  log "building $dir${*:+ ($*)}"
+  ninja -C "$dir" -j2 "$@"
 }
 
 # Functions here run inside `if` (where bash ignores set -e), so every step

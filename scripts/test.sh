@@ -100,8 +100,7 @@ ctest_asan() {
 # its slowdown).
 build_tsan() {
   configure_sanitized "$REPO_ROOT/build-tsan" NMRPRED_SANITIZE_THREAD || return
-  log "building $REPO_ROOT/build-tsan (C++ tests only)"
-  ninja -C "$REPO_ROOT/build-tsan" -j2 nmrpred_tests
+  build_tree "$REPO_ROOT/build-tsan" nmrpred_tests
 }
 
 threads_tsan() {
