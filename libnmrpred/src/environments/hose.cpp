@@ -40,6 +40,7 @@
 
 #include "shifts/reference_index.hpp"
 #include "support/small_vec.hpp"
+#include "support/thread_lease.hpp"
 
 namespace nmrpred {
 
@@ -1337,51 +1338,15 @@ class Engine {
 // library does not make today, gets an engine of its own.
 class EngineLease {
  public:
-  EngineLease(const Molecule &m, int spheres, const std::vector<std::uint32_t> &ranks) : atoms_(m.atom_count()) {
-    Slot &slot = thread_slot();
-    if (!slot.busy) {
-      if (!slot.engine) slot.engine = std::make_unique<Engine>();
-      slot.busy = true;
-      borrowed_ = &slot;
-      engine_ = slot.engine.get();
-    } else {
-      own_ = std::make_unique<Engine>();
-      engine_ = own_.get();
-    }
-    try {
-      engine_->reset(m, spheres, ranks);
-    } catch (...) {
-      // A destructor does not run for a constructor that throws.
-      if (borrowed_) borrowed_->busy = false;
-      throw;
-    }
+  EngineLease(const Molecule &m, int spheres, const std::vector<std::uint32_t> &ranks) {
+    if (m.atom_count() > detail::kLeaseKeepAtoms) lease_.drop_on_return();
+    lease_->reset(m, spheres, ranks);
   }
-  EngineLease(const EngineLease &) = delete;
-  EngineLease &operator=(const EngineLease &) = delete;
-  ~EngineLease() {
-    if (!borrowed_) return;
-    // Keep the buffers a typical molecule needs, but give back what a large
-    // one took.
-    constexpr std::size_t kKeepAtoms = 4096;
-    if (atoms_ > kKeepAtoms) borrowed_->engine.reset();
-    borrowed_->busy = false;
-  }
-  Engine &operator*() const noexcept { return *engine_; }
-  Engine *operator->() const noexcept { return engine_; }
+  Engine &operator*() const noexcept { return *lease_; }
+  Engine *operator->() const noexcept { return &*lease_; }
 
  private:
-  struct Slot {
-    std::unique_ptr<Engine> engine;
-    bool busy = false;
-  };
-  static Slot &thread_slot() {
-    thread_local Slot slot;
-    return slot;
-  }
-  std::size_t atoms_;
-  Slot *borrowed_ = nullptr;
-  Engine *engine_ = nullptr;
-  std::unique_ptr<Engine> own_;
+  detail::ThreadLease<Engine> lease_;
 };
 
 void check_request(const Molecule &m, const AtomClasses &classes, int spheres) {

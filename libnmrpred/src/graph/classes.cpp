@@ -27,6 +27,7 @@
 
 #include "graph/partition.hpp"
 #include "graph/union_find.hpp"
+#include "support/thread_lease.hpp"
 
 namespace nmrpred {
 
@@ -1167,47 +1168,23 @@ struct Workspace {
 class WorkspaceLease {
  public:
   WorkspaceLease() {
-    Slot &slot = thread_slot();
-    if (!slot.busy) {
-      slot.busy = true;
-      borrowed_ = &slot;
-      ws_ = &slot.ws;
-    } else {
-      own_ = std::make_unique<Workspace>();
-      ws_ = own_.get();
-    }
-    ws_->entries.used = 0;
-    ws_->found.clear();
-    ws_->starts.clear();
+    lease_->entries.used = 0;
+    lease_->found.clear();
+    lease_->starts.clear();
   }
-  WorkspaceLease(const WorkspaceLease &) = delete;
-  WorkspaceLease &operator=(const WorkspaceLease &) = delete;
   ~WorkspaceLease() {
-    if (!borrowed_) return;
-    // Keep the buffers a typical molecule needs, but give back what a large
-    // one took (the pooled partitions grow with atoms x searches).
-    constexpr std::size_t kKeepAtoms = 4096, kKeepPooledSlots = std::size_t{1} << 18;
-    const std::size_t atoms = ws_->whole.n;
-    const std::size_t pooled =
-        ws_->entries.entries.size() + 2 * ws_->levels.by_depth.size() + ws_->found.sigma.size();
-    if (atoms > kKeepAtoms || atoms * pooled > kKeepPooledSlots)
-      borrowed_->ws = Workspace();
-    borrowed_->busy = false;
+    // The pooled partitions grow with atoms x searches: a large product is
+    // given back too.
+    constexpr std::size_t kKeepPooledSlots = std::size_t{1} << 18;
+    const Workspace &ws = *lease_;
+    const std::size_t atoms = ws.whole.n;
+    const std::size_t pooled = ws.entries.entries.size() + 2 * ws.levels.by_depth.size() + ws.found.sigma.size();
+    if (atoms > detail::kLeaseKeepAtoms || atoms * pooled > kKeepPooledSlots) lease_.drop_on_return();
   }
-  Workspace &operator*() const noexcept { return *ws_; }
+  Workspace &operator*() const noexcept { return *lease_; }
 
  private:
-  struct Slot {
-    Workspace ws;
-    bool busy = false;
-  };
-  static Slot &thread_slot() {
-    thread_local Slot slot;
-    return slot;
-  }
-  Slot *borrowed_ = nullptr;
-  Workspace *ws_ = nullptr;
-  std::unique_ptr<Workspace> own_;
+  detail::ThreadLease<Workspace> lease_;
 };
 
 }  // namespace

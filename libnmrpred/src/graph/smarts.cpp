@@ -937,7 +937,23 @@ const std::vector<std::uint32_t> &SmartsPattern::search_order(std::size_t root) 
   return impl_->orders.at(root).order;
 }
 
-SmartsTarget::SmartsTarget(const Molecule &m) : m_(m), atoms_(m.atom_count()) {
+SmartsTarget::SmartsTarget(const Molecule &m) { reset(m); }
+
+void SmartsTarget::reset(const Molecule &m) {
+  m_ = &m;
+  atoms_.assign(m.atom_count(), AtomRecord{});
+  element_count_.fill(0);
+  rings_done_ = false;
+  rings_.pool_.clear();
+  rings_.spans_.clear();
+  bond_rings_.clear();
+  ring_parts_ = 0;
+  systems_done_ = false;
+  system_counts_.clear();
+  memo_pool_.clear();
+  std::fill(memo_slots_.begin(), memo_slots_.end(), std::pair<const SmartsImpl *, std::size_t>{nullptr, 0});
+  memo_used_ = 0;
+  map_top_ = 0;
   for (const auto &b : m.bonds()) {
     const auto zb = m.atom(b.begin).atomic_number, ze = m.atom(b.end).atomic_number;
     // Molecule::hydrogen_count(), for all atoms in one pass.
@@ -1023,8 +1039,8 @@ std::size_t SmartsTarget::recursive_slot(const SmartsImpl *part) const {
   const std::size_t offset = memo_pool_.size();
   // Room for the rows of a typical molecule at once: grown a row at a time,
   // the pool was moved several times per molecule.
-  if (offset == 0) memo_pool_.reserve(kMemoRowsReserved * m_.atom_count());
-  memo_pool_.resize(offset + m_.atom_count(), -1);
+  if (offset == 0) memo_pool_.reserve(kMemoRowsReserved * m_->atom_count());
+  memo_pool_.resize(offset + m_->atom_count(), -1);
   memo_slots_[i] = {part, offset};
   ++memo_used_;
   return offset;
@@ -1062,7 +1078,7 @@ void SmartsTarget::perceive_ring_systems() const {
   systems_done_ = true;
   perceive_rings();
   system_counts_.assign(ring_parts_ * kSystemCountSize, 0);
-  for (std::uint32_t a = 0; a < m_.heavy_atom_count(); ++a) {
+  for (std::uint32_t a = 0; a < m_->heavy_atom_count(); ++a) {
     const AtomRecord &r = atoms_[a];
     if (r.ring_count == 0) continue;
     const auto z = r.facts.atomic_number;
@@ -1082,7 +1098,7 @@ void SmartsTarget::perceive_ring_systems() const {
 void SmartsTarget::perceive_rings() const {
   if (rings_done_) return;
   rings_done_ = true;
-  const Molecule &m = m_;
+  const Molecule &m = *m_;
   const std::size_t n = m.heavy_atom_count();
   const std::size_t bond_count = m.bond_count();
   // Ring atoms first, in a block of their own (on the stack for molecules
@@ -1114,10 +1130,11 @@ void SmartsTarget::perceive_rings() const {
   if (std::find(core, core + n, 1) == core + n) return;
   bond_rings_.assign(bond_count, 0);
   // The rest of the scratch of known size, per heavy atom and per bond, in
-  // one block: a molecule's rings are perceived once, and a dozen
-  // allocations cost about as much as the search in a molecule of one or
-  // two rings.
-  std::vector<std::int32_t> scratch(15 * n + 3 + 5 * bond_count);
+  // one block, which the target keeps from one molecule to the next: a
+  // dozen allocations cost about as much as the search in a molecule of one
+  // or two rings.
+  std::vector<std::int32_t> &scratch = ring_scratch_;
+  scratch.assign(15 * n + 3 + 5 * bond_count, 0);
   std::int32_t *next_free = scratch.data();
   auto carve = [&](std::size_t size) {
     std::int32_t *const block = next_free;
@@ -1236,7 +1253,8 @@ void SmartsTarget::perceive_rings() const {
   // pools seldom grow step by step; the candidates and their bonds only
   // once a part of more than one ring needs them.
   kept.reserve(edge_count);
-  std::vector<std::uint32_t> atom_pool;
+  // The target's own pool (reset() emptied it), to keep its capacity.
+  std::vector<std::uint32_t> &atom_pool = rings_.pool_;
   atom_pool.reserve(2 * n);
   std::vector<std::uint64_t> bit_pool;
   auto *const mark = reinterpret_cast<std::uint32_t *>(carve(n));
@@ -1399,7 +1417,6 @@ void SmartsTarget::perceive_rings() const {
     return a.size != b.size ? a.size < b.size : root_a != root_b ? root_a < root_b : a.offset < b.offset;
   });
   // The kept rings stay where they were found, in the atom pool.
-  rings_.pool_ = std::move(atom_pool);
   for (const auto ring : rings_) {
     const int size = static_cast<int>(ring.size());
     for (std::size_t i = 0; i < ring.size(); ++i) {

@@ -143,10 +143,16 @@ class RingList {
 class SmartsTarget {
  public:
   explicit SmartsTarget(const Molecule &m);
+  // No molecule yet: reset() gives it one.
+  SmartsTarget() = default;
   ~SmartsTarget();
   SmartsTarget(const SmartsTarget &) = delete;
   SmartsTarget &operator=(const SmartsTarget &) = delete;
-  const Molecule &molecule() const noexcept { return m_; }
+  // Forgets everything known of the molecule it had and reads `m`, keeping
+  // the capacity of its buffers (a target per molecule cost a dozen
+  // allocations, about as much as the rings of a small one).
+  void reset(const Molecule &m);
+  const Molecule &molecule() const noexcept { return *m_; }
   std::size_t heavy_degree(std::size_t atom) const { return atoms_[atom].heavy_degree; }
   // Whether ring perception has run (the ring queries below run it once).
   bool rings_known() const noexcept { return rings_done_; }
@@ -232,7 +238,7 @@ class SmartsTarget {
  private:
   void perceive_rings() const;
   void perceive_ring_systems() const;
-  const Molecule &m_;
+  const Molecule *m_ = nullptr;
   // Everything known of one atom side by side: a search tests several of
   // these facts on each candidate, and one record per atom is one
   // allocation per molecule where an array per fact was one per fact.
@@ -266,6 +272,8 @@ class SmartsTarget {
   // push_map()'s stack: room for a dozen nested searches of table patterns.
   mutable std::array<std::uint32_t, 256> map_stack_;
   mutable std::size_t map_top_ = 0;
+  // perceive_rings()'s scratch of known size, per heavy atom and per bond.
+  mutable std::vector<std::int32_t> ring_scratch_;
 };
 
 // Anchored match: does `p` match with its atom 0 on molecule atom `atom`,

@@ -61,6 +61,7 @@
 #include "shifts/increments_h1.hpp"
 #include "shifts/sources.hpp"
 #include "support/small_vec.hpp"
+#include "support/thread_lease.hpp"
 #include "tables/parse.hpp"
 
 namespace nmrpred::detail {
@@ -819,29 +820,29 @@ class C13Increments final : public ShiftSource {
     // The lookups ask for the rule value of a carbon and, when they give
     // way, the engine asks again: the answer is kept per atom of the query.
     target(q);
-    if (atom >= answered_.size()) return estimate_anew(q, atom, out);
-    if (answered_[atom] < 0) {
+    if (atom >= state_->answered.size()) return estimate_anew(q, atom, out);
+    if (state_->answered[atom] < 0) {
       // Answered straight into `out`, then kept, its text behind the others
       // of the molecule (a string per kept answer cost an allocation each).
-      answered_[atom] = 0;
+      state_->answered[atom] = 0;
       if (!estimate_anew(q, atom, out)) return false;
-      answered_[atom] = 1;
-      Answer &a = answers_[atom];
+      state_->answered[atom] = 1;
+      Answer &a = state_->answers[atom];
       a.ppm = out.ppm;
       a.uncertainty_ppm = out.uncertainty_ppm;
       a.source = out.source;
-      a.method_at = methods_.size();
+      a.method_at = state_->methods.size();
       a.method_size = out.method.size();
-      methods_ += out.method;
+      state_->methods += out.method;
       return true;
     }
-    if (answered_[atom] == 0) return false;
-    const Answer &a = answers_[atom];
+    if (state_->answered[atom] == 0) return false;
+    const Answer &a = state_->answers[atom];
     out.ppm = a.ppm;
     out.uncertainty_ppm = a.uncertainty_ppm;
     out.source = a.source;
     out.sphere = 0;
-    out.method.assign(methods_, a.method_at, a.method_size);
+    out.method.assign(state_->methods, a.method_at, a.method_size);
     out.references.clear();
     return true;
   }
@@ -930,71 +931,72 @@ class C13Increments final : public ShiftSource {
     if (query_ != &q || target_ != &t) {
       target_ = &t;
       query_ = &q;
-      hetero_matches_.clear();
-      hetero_cover_.clear();
-      hetero_set_of_.clear();
-      hetero_sets_.clear();
-      benzene_rings_.clear();
-      answered_.assign(t.molecule().heavy_atom_count(), -1);
-      sp3_chains_.clear();
-      sp3_rows_.clear();
-      sp3_carbons_.clear();
-      // Only answers marked in answered_ are read, and estimate() sets every
-      // field it reads: the old ones need no reset.
-      if (answers_.size() < t.molecule().heavy_atom_count()) answers_.resize(t.molecule().heavy_atom_count());
-      methods_.clear();
+      state_->hetero_matches.clear();
+      state_->hetero_cover.clear();
+      state_->hetero_set_of.clear();
+      state_->hetero_sets.clear();
+      state_->benzene_rings.clear();
+      state_->answered.assign(t.molecule().heavy_atom_count(), -1);
+      state_->sp3_chains.clear();
+      state_->sp3_rows.clear();
+      state_->sp3_carbons.clear();
+      // Only answers marked in answered are read, and estimate() sets
+      // every field it reads: the old ones need no reset.
+      if (state_->answers.size() < t.molecule().heavy_atom_count())
+        state_->answers.resize(t.molecule().heavy_atom_count());
+      state_->methods.clear();
       // Rule texts average about 200 characters (NCI records): room for
       // most molecules' at once.
-      methods_.reserve(kKeptMethodRoom * t.molecule().heavy_atom_count());
+      state_->methods.reserve(kKeptMethodRoom * t.molecule().heavy_atom_count());
       const Molecule &m = t.molecule();
-      sp3_.assign(m.atom_count(), 0);
-      for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) sp3_[a] = is_sp3_carbon(m, a) ? 1 : 0;
+      state_->sp3.assign(m.atom_count(), 0);
+      for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) state_->sp3[a] = is_sp3_carbon(m, a) ? 1 : 0;
     }
     return t;
   }
 
   // is_sp3_carbon() of an atom of the current molecule, asked of the same
   // atoms again and again by every scheme: found once per molecule.
-  bool sp3(std::size_t a) const { return sp3_[a] != 0; }
+  bool sp3(std::size_t a) const { return state_->sp3[a] != 0; }
 
   // Per parent ring of c13_heteroaromatic: every mapping of its pattern onto
   // the molecule, and the atoms they cover, from one search per molecule
   // rather than one per carbon and pattern atom. Most molecules contain few
   // of the parents.
   void find_hetero_matches(const SmartsTarget &t) const {
-    if (!hetero_matches_.empty() || tab_.hetero.empty()) return;
-    hetero_matches_.resize(tab_.hetero.size());
+    if (!state_->hetero_matches.empty() || tab_.hetero.empty()) return;
+    state_->hetero_matches.resize(tab_.hetero.size());
     const std::size_t atoms = t.molecule().atom_count();
-    hetero_cover_.assign(tab_.hetero.size() * atoms, 0);
-    hetero_set_of_.resize(tab_.hetero.size());
-    hetero_sets_.resize(tab_.hetero.size());
+    state_->hetero_cover.assign(tab_.hetero.size() * atoms, 0);
+    state_->hetero_set_of.resize(tab_.hetero.size());
+    state_->hetero_sets.resize(tab_.hetero.size());
     for (std::size_t i = 0; i < tab_.hetero.size(); ++i) {
-      hetero_matches_[i] = all_matches(tab_.hetero[i].ring, t);
-      for (const auto &map : hetero_matches_[i])
-        for (auto a : map) hetero_cover_[i * atoms + a] = 1;
+      state_->hetero_matches[i] = all_matches(tab_.hetero[i].ring, t);
+      for (const auto &map : state_->hetero_matches[i])
+        for (auto a : map) state_->hetero_cover[i * atoms + a] = 1;
     }
   }
   // The atom sets of the mappings of parent ring `ring`, distinct and in
-  // ascending order (hetero_sets_), and per mapping the number of its set
-  // (hetero_set_of_): found once per molecule, when a carbon first asks, so
-  // that hetero() groups the mappings of every carbon by number.
+  // ascending order (State::hetero_sets), and per mapping the number of its
+  // set (State::hetero_set_of): found once per molecule, when a carbon first
+  // asks, so that hetero() groups the mappings of every carbon by number.
   void number_hetero_sets(std::size_t ring) const {
-    const auto &maps = hetero_matches_[ring];
-    auto &set_of = hetero_set_of_[ring];
+    const auto &maps = state_->hetero_matches[ring];
+    auto &set_of = state_->hetero_set_of[ring];
     if (set_of.size() == maps.size()) return;
-    auto &sets = hetero_sets_[ring];
+    auto &sets = state_->hetero_sets[ring];
     // Each mapping's atoms sorted once, side by side (all mappings have the
     // pattern's size), then the mappings ordered by that set: equal sets
     // come together, ascending, and take one number.
     const auto n = static_cast<std::ptrdiff_t>(maps.front().size());
-    auto &sorted = hetero_set_scratch_;
+    auto &sorted = state_->hetero_set_scratch;
     sorted.clear();
     sorted.reserve(maps.size() * static_cast<std::size_t>(n));
     for (const auto &map : maps) {
       sorted.insert(sorted.end(), map.begin(), map.end());
       std::sort(sorted.end() - n, sorted.end());
     }
-    auto &by_set = hetero_set_order_;
+    auto &by_set = state_->hetero_set_order;
     by_set.resize(maps.size());
     for (std::uint32_t i = 0; i < by_set.size(); ++i) by_set[i] = i;
     auto set_at = [&](std::uint32_t i) { return sorted.begin() + static_cast<std::ptrdiff_t>(i) * n; };
@@ -1011,11 +1013,11 @@ class C13Increments final : public ShiftSource {
   // Does some mapping of parent ring `ring` contain atom k?
   bool hetero_covers(const SmartsTarget &t, std::size_t ring, std::size_t k) const {
     find_hetero_matches(t);
-    return hetero_cover_[ring * t.molecule().atom_count() + k] != 0;
+    return state_->hetero_cover[ring * t.molecule().atom_count() + k] != 0;
   }
   const std::vector<std::vector<std::uint32_t>> &hetero_matches(const SmartsTarget &t, std::size_t ring) const {
     find_hetero_matches(t);
-    return hetero_matches_[ring];
+    return state_->hetero_matches[ring];
   }
 
   // --- carbonyl and other sp/sp2 classes ---------------------------------
@@ -1107,10 +1109,10 @@ class C13Increments final : public ShiftSource {
     SmallVec<Substituent, 6> substituents;
   };
   const BenzeneRing &benzene_ring(const SmartsTarget &t, std::size_t ring_index) const {
-    if (benzene_rings_.empty()) benzene_rings_.resize(t.rings().size());
+    if (state_->benzene_rings.empty()) state_->benzene_rings.resize(t.rings().size());
     // Kept in place, one record per ring: nothing below asks for another
     // ring's record while this one is made, and the list is sized once.
-    BenzeneRing *const b = &benzene_rings_[ring_index];
+    BenzeneRing *const b = &state_->benzene_rings[ring_index];
     if (b->made) return *b;
     b->made = true;
     const Molecule &m = t.molecule();
@@ -1225,9 +1227,9 @@ class C13Increments final : public ShiftSource {
       // its atom set (find_hetero_matches()).
       const auto &all = hetero_matches(t, ri);
       number_hetero_sets(ri);
-      const auto &set_of = hetero_set_of_[ri];
-      auto &anchored = hetero_anchored_;  // kept between carbons
-      auto &visited = hetero_visited_;    // kept between carbons: (set, mapping) in visiting order
+      const auto &set_of = state_->hetero_set_of[ri];
+      auto &anchored = state_->hetero_anchored;  // kept between carbons
+      auto &visited = state_->hetero_visited;    // kept between carbons: (set, mapping) in visiting order
       visited.clear();
       for (std::size_t p = 0; p < n; ++p) {
         anchored.clear();
@@ -1243,19 +1245,19 @@ class C13Increments final : public ShiftSource {
       }
       // The sets in ascending order, each with its mappings in visiting
       // order, a mapping once.
-      auto &set_numbers = hetero_set_numbers_;  // kept between carbons
+      auto &set_numbers = state_->hetero_set_numbers;  // kept between carbons
       set_numbers.clear();
       for (const auto &v : visited) set_numbers.push_back(v.first);
       std::sort(set_numbers.begin(), set_numbers.end());
       set_numbers.erase(std::unique(set_numbers.begin(), set_numbers.end()), set_numbers.end());
       for (const auto set_number : set_numbers) {
-        const auto &set = hetero_sets_[ri][set_number];
-        auto &maps = hetero_group_maps_;  // kept between carbons
+        const auto &set = state_->hetero_sets[ri][set_number];
+        auto &maps = state_->hetero_group_maps;  // kept between carbons
         maps.clear();
         for (const auto &v : visited)
           if (v.first == set_number && std::none_of(maps.begin(), maps.end(), [&](const auto *x) { return *x == *v.second; }))
             maps.push_back(v.second);
-        auto &skeleton = hetero_skeleton_;  // kept between carbons
+        auto &skeleton = state_->hetero_skeleton;  // kept between carbons
         skeleton.assign(m.atom_count(), false);
         for (auto a : set) skeleton[a] = true;
         auto index_of = [&](const std::vector<std::uint32_t> &map, std::size_t a) {
@@ -1272,12 +1274,12 @@ class C13Increments final : public ShiftSource {
         // the ring relation (ipso, ortho, meta, para) of carried-over
         // benzene increments.
         // -2 marks atoms outside the parent, -1 parent atoms not reached yet.
-        auto &ring_dist = hetero_ring_dist_;  // kept between carbons
+        auto &ring_dist = state_->hetero_ring_dist;  // kept between carbons
         ring_dist.assign(m.atom_count(), -2);
         {
           for (auto a : set) ring_dist[a] = -1;
           ring_dist[k] = 0;
-          auto &queue = hetero_queue_;  // kept between carbons
+          auto &queue = state_->hetero_queue;  // kept between carbons
           queue.assign(1, k);
           for (std::size_t i = 0; i < queue.size(); ++i)
             for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
@@ -1547,24 +1549,24 @@ class C13Increments final : public ShiftSource {
   // carbons joined through sp3 carbons), -1 for other atoms; found once per
   // molecule rather than walked from every sp3 carbon.
   const std::vector<std::int32_t> &sp3_chains(const SmartsTarget &t) const {
-    if (!sp3_chains_.empty()) return sp3_chains_;
+    if (!state_->sp3_chains.empty()) return state_->sp3_chains;
     const Molecule &m = t.molecule();
-    sp3_chains_.assign(m.heavy_atom_count(), -1);
+    state_->sp3_chains.assign(m.heavy_atom_count(), -1);
     std::int32_t chains = 0;
     // sp3_additive()'s scratch: it asks for the chains before its walks.
-    auto &queue = sp3_scratch_.queue;
+    auto &queue = state_->sp3_scratch.queue;
     if (queue.capacity() < m.heavy_atom_count()) queue.reserve(m.heavy_atom_count());
     for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) {
-      if (sp3_chains_[a] >= 0 || !sp3(a)) continue;
-      sp3_chains_[a] = chains;
+      if (state_->sp3_chains[a] >= 0 || !sp3(a)) continue;
+      state_->sp3_chains[a] = chains;
       queue.assign(1, a);
       for (std::size_t i = 0; i < queue.size(); ++i)
         for_heavy_neighbours(m, queue[i], [&](std::size_t z, BondOrder) {
-          if (sp3_chains_[z] < 0 && sp3(z)) sp3_chains_[z] = chains, queue.push_back(z);
+          if (state_->sp3_chains[z] < 0 && sp3(z)) state_->sp3_chains[z] = chains, queue.push_back(z);
         });
       ++chains;
     }
-    return sp3_chains_;
+    return state_->sp3_chains;
   }
 
   // The row of c13_sp3_substituent for substituent x of the additive or the
@@ -1579,8 +1581,8 @@ class C13Increments final : public ShiftSource {
   // depends on the skeleton is searched per carbon.
   const Sp3Row *sp3_row(const SmartsTarget &t, std::size_t x, const std::vector<bool> &skeleton, bool additive) const {
     auto keep = [additive](const Sp3Row &r) { return r.additive == additive; };
-    if (sp3_rows_.empty()) sp3_rows_.assign(2 * t.molecule().heavy_atom_count(), kRowUnknown);
-    auto &row = sp3_rows_[2 * x + (additive ? 1 : 0)];
+    if (state_->sp3_rows.empty()) state_->sp3_rows.assign(2 * t.molecule().heavy_atom_count(), kRowUnknown);
+    auto &row = state_->sp3_rows[2 * x + (additive ? 1 : 0)];
     if (row == kRowUnknown) {
       const auto *free = find_row(tab_.sp3, tab_.sp3_order, t, x, no_atoms_, keep);
       if (!free) {
@@ -1597,12 +1599,12 @@ class C13Increments final : public ShiftSource {
   }
   // Every sp3 carbon of the molecule flagged, for sp3_row().
   const std::vector<bool> &sp3_carbons(const SmartsTarget &t) const {
-    if (sp3_carbons_.empty()) {
+    if (state_->sp3_carbons.empty()) {
       const std::size_t n = t.molecule().heavy_atom_count();
-      sp3_carbons_.assign(n, false);
-      for (std::size_t a = 0; a < n; ++a) sp3_carbons_[a] = sp3(a);
+      state_->sp3_carbons.assign(n, false);
+      for (std::size_t a = 0; a < n; ++a) state_->sp3_carbons[a] = sp3(a);
     }
-    return sp3_carbons_;
+    return state_->sp3_carbons;
   }
 
   // --- sp3: additive scheme -----------------------------------------------
@@ -1611,24 +1613,25 @@ class C13Increments final : public ShiftSource {
     if (!tab_.gp_base.set) return fail(why, "no Grant-Paul parameters");
     const std::size_t n = m.heavy_atom_count();
     // Bond distances from k, needed for chain groups only.
-    auto &dist = sp3_scratch_.dist;
+    auto &dist = state_->sp3_scratch.dist;
     bool dist_known = false;
     auto distance = [&](std::size_t z) {
-      if (!dist_known) heavy_distances(m, k, static_cast<int>(n), dist, sp3_scratch_.queue), dist_known = true;
+      if (!dist_known)
+        heavy_distances(m, k, static_cast<int>(n), dist, state_->sp3_scratch.queue), dist_known = true;
       return dist[z];
     };
-    // Kept between carbons (sp3_scratch_): one allocation per molecule, not three per carbon.
-    auto &skeleton = sp3_scratch_.skeleton;  // walked sp3 carbons
-    auto &taken = sp3_scratch_.taken;        // walked, or part of a substituent
-    auto &bucket = sp3_scratch_.bucket;
-    auto &bucket_size = sp3_scratch_.bucket_size;
+    // Kept between carbons and molecules (State::sp3_scratch): no allocation per carbon.
+    auto &skeleton = state_->sp3_scratch.skeleton;  // walked sp3 carbons
+    auto &taken = state_->sp3_scratch.taken;        // walked, or part of a substituent
+    auto &bucket = state_->sp3_scratch.bucket;
+    auto &bucket_size = state_->sp3_scratch.bucket_size;
     skeleton.assign(m.atom_count(), false);
     taken.assign(n, false);
     if (bucket.size() < 5 * n) bucket.resize(5 * n);
     bucket_size.fill(0);
     auto push = [&](std::size_t d, std::size_t x) { bucket[d * n + bucket_size[d]++] = static_cast<std::uint32_t>(x); };
     // Every walk below visits each heavy atom once at most.
-    if (sp3_scratch_.queue.capacity() < n) sp3_scratch_.queue.reserve(n);
+    if (state_->sp3_scratch.queue.capacity() < n) state_->sp3_scratch.queue.reserve(n);
     // sp3 carbons connected to k through sp3 carbons are chain positions; a
     // group branch never swallows them (it would in a ring).
     const auto &chain_of = sp3_chains(t);
@@ -1681,7 +1684,7 @@ class C13Increments final : public ShiftSource {
           if (dx == 1) ++groups_on_k, hetero_on_k += m.atom(x).atomic_number != 6;
           if (!row->chain) {
             // Everything beyond the substituent atom belongs to it.
-            auto &queue = sp3_scratch_.queue;
+            auto &queue = state_->sp3_scratch.queue;
             queue.assign(1, x);
             taken[x] = true;
             for (std::size_t i = 0; i < queue.size(); ++i)
@@ -1769,8 +1772,8 @@ class C13Increments final : public ShiftSource {
     Sum s({}, kRingSpread);
     s.ring_scheme(n);
     s.base(base->base_label, *base->by_distance[0]);
-    // Kept between carbons (ring_scratch_): ring_sp3() never runs inside itself.
-    auto &skeleton = ring_scratch_.skeleton, &taken = ring_scratch_.taken;
+    // Kept between carbons (State::ring_scratch): ring_sp3() never runs inside itself.
+    auto &skeleton = state_->ring_scratch.skeleton, &taken = state_->ring_scratch.taken;
     skeleton.assign(m.atom_count(), false);
     taken.assign(m.atom_count(), false);
     for (auto a : ring) skeleton[a] = taken[a] = true;
@@ -1955,10 +1958,10 @@ class C13Increments final : public ShiftSource {
     const Molecule &m = t.molecule();
     if (!tab_.gp_base.set) return fail(why, "no Grant-Paul parameters");
     // The parent alkane: the connected sp3 carbons containing k.
-    // Kept between carbons (parent_scratch_), as sp3_additive() keeps its own.
-    auto &d = parent_scratch_.dist;
-    auto &parent = parent_scratch_.parent;
-    auto &order = parent_scratch_.order;
+    // Kept between carbons (State::parent_scratch), as sp3_additive() keeps its own.
+    auto &d = state_->parent_scratch.dist;
+    auto &parent = state_->parent_scratch.parent;
+    auto &order = state_->parent_scratch.order;
     d.assign(m.heavy_atom_count(), -1);
     parent.assign(m.atom_count(), false);
     order.assign(1, k);
@@ -2034,30 +2037,9 @@ class C13Increments final : public ShiftSource {
   const BenzeneRow *methyl_row_ = nullptr;
   mutable const ShiftQuery *query_ = nullptr;
   mutable const SmartsTarget *target_ = nullptr;
-  mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_matches_;  // per hetero ring
-  mutable std::vector<std::uint8_t> hetero_cover_;  // per hetero ring and atom, see hetero_covers()
-  mutable std::vector<BenzeneRing> benzene_rings_;  // per smallest ring, see benzene_ring()
-  mutable std::vector<std::int32_t> sp3_chains_;  // see sp3_chains()
-  mutable std::vector<std::uint8_t> sp3_;         // see sp3()
-  // Per heavy atom, its row of c13_sp3_substituent in the parent scheme,
-  // then in the additive scheme (sp3_row()): a row index, or one of these.
+  // Values of State::sp3_rows besides a row index.
   static constexpr std::int32_t kRowUnknown = -1, kRowNone = -2, kRowDepends = -3;
-  mutable std::vector<std::int32_t> sp3_rows_;
-  mutable std::vector<bool> sp3_carbons_;  // see sp3_carbons()
   const std::vector<bool> no_atoms_;       // excludes nothing
-  // Scratch of hetero(), which never runs inside itself.
-  mutable std::vector<bool> hetero_skeleton_;
-  mutable std::vector<int> hetero_ring_dist_;
-  mutable std::vector<std::size_t> hetero_queue_;
-  mutable std::vector<const std::vector<std::uint32_t> *> hetero_anchored_;
-  mutable std::vector<std::pair<std::uint32_t, const std::vector<std::uint32_t> *>> hetero_visited_;
-  mutable std::vector<std::uint32_t> hetero_set_numbers_;
-  mutable std::vector<const std::vector<std::uint32_t> *> hetero_group_maps_;
-  // Per hetero ring: the distinct atom sets of its mappings in ascending
-  // order, and per mapping the number of its set (find_hetero_matches()).
-  mutable std::vector<std::vector<std::vector<std::uint32_t>>> hetero_sets_;
-  mutable std::vector<std::vector<std::uint32_t>> hetero_set_of_;
-  mutable std::vector<std::uint32_t> hetero_set_scratch_, hetero_set_order_;  // scratch of number_hetero_sets()
   // Scratch of sp3_additive(), which never runs inside itself.
   struct Sp3Scratch {
     std::vector<bool> skeleton, taken;
@@ -2069,7 +2051,6 @@ class C13Increments final : public ShiftSource {
     std::vector<int> dist;
     std::vector<std::size_t> queue;  // breadth-first walks, n slots reserved
   };
-  mutable Sp3Scratch sp3_scratch_;
   // Scratch of sp3_parent() and of ring_sp3(), neither of which runs inside
   // itself or the other.
   struct ParentScratch {
@@ -2077,21 +2058,51 @@ class C13Increments final : public ShiftSource {
     std::vector<bool> parent;
     std::vector<std::size_t> order;
   };
-  mutable ParentScratch parent_scratch_;
   struct RingScratch {
     std::vector<bool> skeleton, taken;
   };
-  mutable RingScratch ring_scratch_;
-  mutable std::vector<std::int8_t> answered_;  // per atom: -1 not asked yet, 0 no answer, 1 in answers_
   static constexpr std::size_t kKeptMethodRoom = 200;
-  // A kept answer (estimate()); its method text is methods_[method_at, +method_size).
+  // A kept answer (estimate()); its method text is State::methods[method_at, +method_size).
   struct Answer {
     double ppm = 0, uncertainty_ppm = 0;
     ShiftSourceKind source = ShiftSourceKind::Increments;
     std::size_t method_at = 0, method_size = 0;
   };
-  mutable std::vector<Answer> answers_;
-  mutable std::string methods_;
+  // What the source finds out about the current molecule, and the scratch
+  // of its schemes: the thread's own, lent to one call after another
+  // (ThreadLease), so that the buffers keep their capacity; a source per
+  // call allocated them anew for every molecule.
+  struct State {
+    std::vector<std::vector<std::vector<std::uint32_t>>> hetero_matches;  // per hetero ring
+    std::vector<std::uint8_t> hetero_cover;  // per hetero ring and atom, see hetero_covers()
+    std::vector<BenzeneRing> benzene_rings;  // per smallest ring, see benzene_ring()
+    std::vector<std::int32_t> sp3_chains;  // see sp3_chains()
+    std::vector<std::uint8_t> sp3;         // see sp3()
+    // Per heavy atom, its row of c13_sp3_substituent in the parent scheme,
+    // then in the additive scheme (sp3_row()): a row index, or kRow*.
+    std::vector<std::int32_t> sp3_rows;
+    std::vector<bool> sp3_carbons;  // see sp3_carbons()
+    // Scratch of hetero(), which never runs inside itself.
+    std::vector<bool> hetero_skeleton;
+    std::vector<int> hetero_ring_dist;
+    std::vector<std::size_t> hetero_queue;
+    std::vector<const std::vector<std::uint32_t> *> hetero_anchored;
+    std::vector<std::pair<std::uint32_t, const std::vector<std::uint32_t> *>> hetero_visited;
+    std::vector<std::uint32_t> hetero_set_numbers;
+    std::vector<const std::vector<std::uint32_t> *> hetero_group_maps;
+    // Per hetero ring: the distinct atom sets of its mappings in ascending
+    // order, and per mapping the number of its set (find_hetero_matches()).
+    std::vector<std::vector<std::vector<std::uint32_t>>> hetero_sets;
+    std::vector<std::vector<std::uint32_t>> hetero_set_of;
+    std::vector<std::uint32_t> hetero_set_scratch, hetero_set_order;  // scratch of number_hetero_sets()
+    Sp3Scratch sp3_scratch;
+    ParentScratch parent_scratch;
+    RingScratch ring_scratch;
+    std::vector<std::int8_t> answered;  // per atom: -1 not asked yet, 0 no answer, 1 in answers
+    std::vector<Answer> answers;
+    std::string methods;
+  };
+  ThreadLease<State> state_;
 };
 
 }  // namespace

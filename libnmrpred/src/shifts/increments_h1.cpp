@@ -38,6 +38,7 @@
 #include "shifts/fixed_text.hpp"
 #include "shifts/increment_support.hpp"
 #include "support/small_vec.hpp"
+#include "support/thread_lease.hpp"
 #include "tables/parse.hpp"
 
 namespace nmrpred::detail {
@@ -930,7 +931,7 @@ class H1Increments final : public ShiftSource {
     out.uncertainty_ppm = r->uncertainty_ppm;
     out.source = ShiftSourceKind::Increments;
     out.sphere = 0;
-    out.method.assign(methods_, r->method_at, r->method_size);
+    out.method.assign(state_->methods, r->method_at, r->method_size);
     out.references.clear();
     out.exchangeable = r->exchangeable;
     out.observed = r->observed;
@@ -949,14 +950,14 @@ class H1Increments final : public ShiftSource {
     if (carrier < 0 || m.degree(atom) != 1) return kNone;
     const auto c = static_cast<std::size_t>(carrier);
     const SmartsTarget &t = target(q);
-    if (memo_.empty()) memo_.resize(m.atom_count());
+    if (state_->memo.empty()) state_->memo.resize(m.atom_count());
     // A proton's own answer, else its carrier's.
     const bool heavy_carrier = c < m.heavy_atom_count();
-    if (memo_[atom].done) return memo_[atom].value;
-    if (heavy_carrier && memo_[c].done) return memo_[c].value;
+    if (state_->memo[atom].done) return state_->memo[atom].value;
+    if (heavy_carrier && state_->memo[c].done) return state_->memo[c].value;
     bool per_proton = false;
     auto value = evaluate_uncached(q, t, atom, c, per_proton);
-    Memo &slot = memo_[per_proton || !heavy_carrier ? atom : c];
+    Memo &slot = state_->memo[per_proton || !heavy_carrier ? atom : c];
     slot.done = true;
     slot.value = value;
     return slot.value;
@@ -970,12 +971,12 @@ class H1Increments final : public ShiftSource {
     std::optional<Estimate> value;
   };
 
-  // The estimate of Sum `s` with its method text in methods_.
+  // The estimate of Sum `s` with its method text in State::methods.
   Estimate from_sum(const Sum &s, int count) const {
     Estimate e{s.ppm(), s.uncertainty(count)};
-    e.method_at = methods_.size();
-    s.method(methods_);
-    e.method_size = methods_.size() - e.method_at;
+    e.method_at = state_->methods.size();
+    s.method(state_->methods);
+    e.method_size = state_->methods.size() - e.method_at;
     return e;
   }
   Estimate from_sum(const Sum &s) const { return from_sum(s, s.term_count()); }
@@ -1020,14 +1021,14 @@ class H1Increments final : public ShiftSource {
     if (query_ != &q || target_ != &t) {
       target_ = &t;
       query_ = &q;
-      benzene_rings_.clear();
-      lone_of_.clear();
-      lone_rings_.clear();
-      system_of_.clear();
-      systems_.clear();
-      system_rows_.clear();
-      memo_.clear();
-      methods_.clear();
+      state_->benzene_rings.clear();
+      state_->lone_of.clear();
+      state_->lone_rings.clear();
+      state_->system_of.clear();
+      state_->systems.clear();
+      state_->system_rows.clear();
+      state_->memo.clear();
+      state_->methods.clear();
     }
     return t;
   }
@@ -1072,15 +1073,15 @@ class H1Increments final : public ShiftSource {
     Estimate e;
     e.ppm = r.ppm;
     e.uncertainty_ppm = 0.5 * (r.max_ppm - r.min_ppm);
-    e.method_at = methods_.size();
-    methods_ += r.method;
+    e.method_at = state_->methods.size();
+    state_->methods += r.method;
     e.method_size = r.method.size();
     return e;
   }
 
   // Appends `text` to the method text of `e`, the last one written.
   void extend_method(Estimate &e, std::string_view text) const {
-    methods_ += text;
+    state_->methods += text;
     e.method_size += text.size();
   }
 
@@ -1103,12 +1104,12 @@ class H1Increments final : public ShiftSource {
       e.uncertainty_ppm = half;
       e.exchangeable = true;
       e.observed = false;
-      e.method_at = methods_.size();
-      fmt::format_to(std::back_inserter(methods_),
+      e.method_at = state_->methods.size();
+      fmt::format_to(std::back_inserter(state_->methods),
                      "group '{}': exchanges with the deuterium of {} and gives no signal of its own "
                      "(it joins the solvent's water signal at {})",
                      g->name, solvent_name_, fmt_ppm(e.ppm));
-      e.method_size = methods_.size() - e.method_at;
+      e.method_size = state_->methods.size() - e.method_at;
       return e;
     }
     const auto *row = special_row(*g);
@@ -1179,8 +1180,8 @@ class H1Increments final : public ShiftSource {
 
   // benzene ring `ring_index` of t.rings().
   const BenzeneRing &benzene_ring(const SmartsTarget &t, std::size_t ring_index) const {
-    if (benzene_rings_.empty()) benzene_rings_.resize(t.rings().size());
-    auto &slot = benzene_rings_[ring_index];
+    if (state_->benzene_rings.empty()) state_->benzene_rings.resize(t.rings().size());
+    auto &slot = state_->benzene_rings[ring_index];
     if (!slot) slot = make_benzene_ring(t, t.rings()[ring_index], false);
     return *slot;
   }
@@ -1199,7 +1200,7 @@ class H1Increments final : public ShiftSource {
     }
     if (!benzenoid) return out;
     out.benzenoid = true;
-    Flagged flagged(marks_, m.atom_count());
+    Flagged flagged(state_->marks, m.atom_count());
     for (auto a : ring) flagged.set(a);
     const std::vector<bool> &skeleton = flagged.bits();
     for (int ir = 0; ir < 6; ++ir) {
@@ -1223,21 +1224,21 @@ class H1Increments final : public ShiftSource {
 
   // lone_ring(m, k), remembered for every atom of the ring.
   LoneRing *lone_ring(const Molecule &m, std::size_t k) const {
-    if (lone_of_.empty()) lone_of_.assign(m.heavy_atom_count(), kLoneUnknown);
-    if (k >= lone_of_.size()) return nullptr;
-    if (lone_of_[k] == kLoneUnknown) {
+    if (state_->lone_of.empty()) state_->lone_of.assign(m.heavy_atom_count(), kLoneUnknown);
+    if (k >= state_->lone_of.size()) return nullptr;
+    if (state_->lone_of[k] == kLoneUnknown) {
       // The answer holds for every atom of the cycle.
       const auto cycle = aromatic_cycle(m, k);
-      lone_of_[k] = kLoneNone;
+      state_->lone_of[k] = kLoneNone;
       if (lone_system(cycle.size >= 3 ? ring_system(m, k) : nullptr, cycle.size)) {
-        for (auto a : cycle) lone_of_[a] = static_cast<std::int32_t>(lone_rings_.size());
-        if (lone_rings_.empty()) lone_rings_.reserve(4);  // most molecules have fewer
-        lone_rings_.push_back(LoneRing{rings_order(m, cycle), std::nullopt});
+        for (auto a : cycle) state_->lone_of[a] = static_cast<std::int32_t>(state_->lone_rings.size());
+        if (state_->lone_rings.empty()) state_->lone_rings.reserve(4);  // most molecules have fewer
+        state_->lone_rings.push_back(LoneRing{rings_order(m, cycle), std::nullopt});
       } else {
-        for (auto a : cycle) lone_of_[a] = kLoneNone;
+        for (auto a : cycle) state_->lone_of[a] = kLoneNone;
       }
     }
-    return lone_of_[k] >= 0 ? &lone_rings_[static_cast<std::size_t>(lone_of_[k])] : nullptr;
+    return state_->lone_of[k] >= 0 ? &state_->lone_rings[static_cast<std::size_t>(state_->lone_of[k])] : nullptr;
   }
 
   // The ring system of heavy atom k, or null when k lies on no ring; found
@@ -1245,8 +1246,9 @@ class H1Increments final : public ShiftSource {
   // anything that needs ring perception, which costs more than the rest of
   // their work for a fused ring system, and rarely has to run then.
   const RingSystem *ring_system(const Molecule &m, std::size_t k) const {
-    if (system_of_.empty()) systems_ = find_ring_systems(m, system_of_);
-    return k < system_of_.size() && system_of_[k] >= 0 ? &systems_[static_cast<std::size_t>(system_of_[k])] : nullptr;
+    if (state_->system_of.empty()) state_->systems = find_ring_systems(m, state_->system_of);
+    const auto &of = state_->system_of;
+    return k < of.size() && of[k] >= 0 ? &state_->systems[static_cast<std::size_t>(of[k])] : nullptr;
   }
 
   // Whether bonded heavy atoms a and x share a smallest ring, without ring
@@ -1272,10 +1274,10 @@ class H1Increments final : public ShiftSource {
       if (!row.smarts.root_may_match(t.packed(k)) || !row.searched.neighbours_may_match(t.neighbour_kinds(k)) ||
           !first_mapping_at(row.searched, t, k))
         continue;
-      const std::vector<std::uint32_t> &map = hetero_map_;
+      const std::vector<std::uint32_t> &map = state_->hetero_map;
       // The first matching row names the parent; FORMAT.md keeps the rows
       // of different parents apart, so no other row can apply.
-      Flagged flagged(marks_, m.atom_count());
+      Flagged flagged(state_->marks, m.atom_count());
       for (auto a : map) flagged.set(a);
       const std::vector<bool> &in_ring = flagged.bits();
       int nitrogens = 0, substituents = 0;
@@ -1321,8 +1323,9 @@ class H1Increments final : public ShiftSource {
   // rows need no search, and so no ring perception, for any of its protons.
   const std::vector<std::uint32_t> &hetero_rows(const Molecule &m, std::size_t k) const {
     const RingSystem *sys = ring_system(m, k);
-    if (system_rows_.empty()) system_rows_.resize(systems_.size() + 1);
-    auto &rows = system_rows_[sys ? static_cast<std::size_t>(sys - systems_.data()) : systems_.size()];
+    if (state_->system_rows.empty()) state_->system_rows.resize(state_->systems.size() + 1);
+    const auto &systems = state_->systems;
+    auto &rows = state_->system_rows[sys ? static_cast<std::size_t>(sys - systems.data()) : systems.size()];
     if (!rows) {
       rows.emplace();
       for (std::size_t r = 0; r < tab_.hetero.size(); ++r)
@@ -1331,19 +1334,19 @@ class H1Increments final : public ShiftSource {
     return *rows;
   }
 
-  // Puts into hetero_map_ the first mapping of `p` with pattern atom 0 on
+  // Puts into State::hetero_map the first mapping of `p` with pattern atom 0 on
   // atom k in the order for_each_match visits them (ascending along
   // search_order(0)): the rows name the parent ring by it. False when there
   // is none. A search anchored at k needs no ring perception for the rows
   // (searched patterns) and tries only k's own ring; hetero_rows() has left
   // out the rows whose ring k's ring system cannot hold.
   bool first_mapping_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t k) const {
-    anchor_.assign(1, static_cast<std::int64_t>(k));
+    state_->anchor.assign(1, static_cast<std::int64_t>(k));
     const std::function<bool(const std::vector<std::uint32_t> &)> keep = [this](const std::vector<std::uint32_t> &map) {
-      hetero_map_.assign(map.begin(), map.end());
+      state_->hetero_map.assign(map.begin(), map.end());
       return true;
     };
-    return for_each_match(p, t, anchor_, {}, keep);
+    return for_each_match(p, t, state_->anchor, {}, keep);
   }
 
   // Adds to `s` the benzene increments of the groups on the aromatic ring
@@ -1482,7 +1485,7 @@ class H1Increments final : public ShiftSource {
       if (*it != ca) on_b.push_back(*it);
     if (other_a == ca || on_b.size() != 2) return std::nullopt;
 
-    Flagged flagged(marks_, m.atom_count());
+    Flagged flagged(state_->marks, m.atom_count());
     flagged.set(ca);
     flagged.set(cb);
     const std::vector<bool> &skeleton = flagged.bits();
@@ -1595,7 +1598,7 @@ class H1Increments final : public ShiftSource {
       const std::size_t n = ring.size();
       const auto pos = static_cast<std::size_t>(std::find(ring.begin(), ring.end(), ca) - ring.begin());
       if ((n != 5 && n != 6) || pos == n) continue;
-      Flagged members(marks2_, m.atom_count());
+      Flagged members(state_->marks2, m.atom_count());
       for (auto a : ring) members.set(a);
       const std::vector<bool> &member = members.bits();
       // Ring atoms that can carry a ring double bond: aromatic carbons and
@@ -1637,7 +1640,7 @@ class H1Increments final : public ShiftSource {
       for (auto x : heavy_neighbours(m, cb))
         if (x != ca) (member[x] ? y : z) = x;
       if (y == cb) continue;
-      Flagged flagged(marks_, m.atom_count());
+      Flagged flagged(state_->marks, m.atom_count());
       flagged.set(ca);
       flagged.set(cb);
       const std::vector<bool> &skeleton = flagged.bits();
@@ -1823,7 +1826,7 @@ class H1Increments final : public ShiftSource {
       return from_sum(s);
     }
     if (n_h < 1 || n_h > 3) return std::nullopt;
-    Flagged flagged(marks_, m.atom_count());
+    Flagged flagged(state_->marks, m.atom_count());
     flagged.set(c);
     const std::vector<bool> &skeleton = flagged.bits();
     // Sort the neighbours: `direct` groups (not an sp3 carbon), `shoolery`
@@ -1995,7 +1998,7 @@ class H1Increments final : public ShiftSource {
       for (auto y : groups) {
         // The other groups on b join the skeleton, so the row's group atom
         // can only be y.
-        Flagged skeleton(marks2_, m.atom_count());
+        Flagged skeleton(state_->marks2, m.atom_count());
         skeleton.set(c);
         for (auto z : groups)
           if (z != y) skeleton.set(z);
@@ -2016,23 +2019,30 @@ class H1Increments final : public ShiftSource {
   double water_ppm_ = 0;
   mutable const ShiftQuery *query_ = nullptr;
   mutable const SmartsTarget *target_ = nullptr;
-  mutable std::vector<std::optional<BenzeneRing>> benzene_rings_;  // see benzene_ring()
-  mutable std::vector<std::int32_t> lone_of_;  // per heavy atom: index into lone_rings_, or kLoneUnknown/None
-  mutable std::vector<LoneRing> lone_rings_;   // see lone_ring()
-  // first_mapping_at()'s anchor and answer, kept for their capacity.
-  mutable std::vector<std::int64_t> anchor_;
-  mutable std::vector<std::uint32_t> hetero_map_;
-  mutable std::vector<std::int32_t> system_of_;  // see ring_system()
-  // Flagged scratch: marks_ for the skeleton or ring of one rule, marks2_
-  // for a second set while that is in use (add_beta_steps() within
-  // sp3_chain(), the ring of ring_enone()).
-  mutable std::vector<bool> marks_, marks2_;
-  mutable std::vector<RingSystem> systems_;
-  mutable std::vector<std::optional<std::vector<std::uint32_t>>> system_rows_;  // see hetero_rows()
-  // evaluate()'s answers by atom, and the method texts of the estimates
-  // made for this molecule (Estimate::method_at).
-  mutable std::vector<Memo> memo_;
-  mutable std::string methods_;
+  // What the source finds out about the current molecule, and scratch: the
+  // thread's own, lent to one call after another (ThreadLease), so that
+  // the buffers keep their capacity; a source per call allocated them
+  // anew for every molecule.
+  struct State {
+    std::vector<std::optional<BenzeneRing>> benzene_rings;  // see benzene_ring()
+    std::vector<std::int32_t> lone_of;  // per heavy atom: index into lone_rings, or kLoneUnknown/None
+    std::vector<LoneRing> lone_rings;   // see lone_ring()
+    // first_mapping_at()'s anchor and answer, kept for their capacity.
+    std::vector<std::int64_t> anchor;
+    std::vector<std::uint32_t> hetero_map;
+    std::vector<std::int32_t> system_of;  // see ring_system()
+    // Flagged scratch: marks for the skeleton or ring of one rule, marks2
+    // for a second set while that is in use (add_beta_steps() within
+    // sp3_chain(), the ring of ring_enone()).
+    std::vector<bool> marks, marks2;
+    std::vector<RingSystem> systems;
+    std::vector<std::optional<std::vector<std::uint32_t>>> system_rows;  // see hetero_rows()
+    // evaluate()'s answers by atom, and the method texts of the estimates
+    // made for this molecule (Estimate::method_at).
+    std::vector<Memo> memo;
+    std::string methods;
+  };
+  ThreadLease<State> state_;
 };
 
 }  // namespace

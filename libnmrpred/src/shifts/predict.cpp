@@ -392,8 +392,12 @@ const std::vector<std::uint32_t> &ShiftQuery::excluded_compounds() const {
 }
 
 const SmartsTarget &MoleculeFacts::smarts_target() const {
-  if (!target_) target_ = std::make_unique<SmartsTarget>(molecule_);
-  return *target_;
+  if (!target_) {
+    target_.emplace();
+    if (molecule_.atom_count() > kLeaseKeepAtoms) target_->drop_on_return();
+    (*target_)->reset(molecule_);
+  }
+  return **target_;
 }
 
 void MoleculeFacts::set_all_keys(std::vector<HoseKeys> keys, std::vector<bool> keyed, const ReferenceIndex &index) {
@@ -476,7 +480,7 @@ constexpr std::size_t kPoolRoomPerClass = 256;
 template <class Finish>
 void run_sources(const ShiftQuery &q, const SourceList &sources, AtomRange atoms, std::vector<std::string> *warnings,
                  std::vector<Shift> &out, Finish &&finish) {
-  TextPool &texts = q.scratch().texts;
+  TextPool &texts = q.texts();
   // Chemical class -> position in out of its first atom; sized once rather
   // than grown class by class.
   constexpr auto kNotYet = std::numeric_limits<std::size_t>::max(), kUnseen = kNotYet - 1;

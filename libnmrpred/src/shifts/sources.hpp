@@ -21,6 +21,7 @@
 
 #include "graph/smarts.hpp"
 #include "reference_index.hpp"
+#include "support/thread_lease.hpp"
 
 namespace nmrpred::detail {
 
@@ -86,7 +87,8 @@ class MoleculeFacts {
   void set_all_keys(std::vector<HoseKeys> keys, std::vector<bool> keyed, const ReferenceIndex &index);
   // Scratch the engine reuses across the atoms and the runs of both nuclei,
   // so that neither each atom nor each nucleus allocates its own (contents
-  // unspecified between uses).
+  // unspecified between uses). The thread's own, lent to one molecule after
+  // another (ThreadLease): per molecule it cost five allocations.
   struct Scratch {
     std::vector<std::size_t> positions;  // run_sources: per class, where its first atom's shift is
     std::vector<double> values;          // a lookup's values to summarise
@@ -94,20 +96,24 @@ class MoleculeFacts {
     // on carbon), and the exchangeable protons.
     std::vector<std::size_t> atoms, labile;
     ShiftDraft draft;  // run_sources: the atom being estimated
-    TextPool texts;    // run_sources: the method texts of both nuclei
   };
-  Scratch &scratch() const { return scratch_; }
+  Scratch &scratch() const { return *scratch_; }
+  // The method texts of both nuclei (run_sources). The molecule's own: the
+  // predictions keep its blocks.
+  TextPool &texts() const { return texts_; }
 
  private:
   const Molecule &molecule_;
   const AtomClasses &classes_;
-  mutable std::unique_ptr<SmartsTarget> target_;
+  // The thread's target, lent for the molecule on first use (ThreadLease).
+  mutable std::optional<ThreadLease<SmartsTarget>> target_;
   mutable std::vector<bool> keyed_;
   mutable std::vector<HoseKeys> keys_;
   // The index keys_ stop for (see hose_keys()).
   mutable const ReferenceIndex *keyed_for_ = nullptr;
   const bool both_nuclei_;
-  mutable Scratch scratch_;
+  ThreadLease<Scratch> scratch_;
+  mutable TextPool texts_;
 };
 
 // Everything a source may look at for one molecule.
@@ -135,6 +141,8 @@ class ShiftQuery {
   const SmartsTarget &smarts_target() const { return facts().smarts_target(); }
   // The scratch of the molecule's facts (MoleculeFacts::scratch).
   MoleculeFacts::Scratch &scratch() const { return facts().scratch(); }
+  // Where the method texts go (MoleculeFacts::texts).
+  TextPool &texts() const { return facts().texts(); }
 
  private:
   const MoleculeFacts &facts() const {
