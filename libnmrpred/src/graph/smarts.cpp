@@ -1133,7 +1133,7 @@ void SmartsTarget::perceive_rings() const {
   // one block, which the target keeps from one molecule to the next: a
   // dozen allocations cost about as much as the search in a molecule of one
   // or two rings.
-  std::vector<std::int32_t> &scratch = ring_scratch_;
+  std::vector<std::int32_t> &scratch = ring_scratch_.sized;
   scratch.assign(15 * n + 3 + 5 * bond_count, 0);
   std::int32_t *next_free = scratch.data();
   auto carve = [&](std::size_t size) {
@@ -1240,10 +1240,8 @@ void SmartsTarget::perceive_rings() const {
   // Candidates of one part in the order they are found, their atoms and bond
   // bits in flat pools: a part yields many candidates, mostly copies of one
   // ring found from each of its atoms. Kept rings stay in the atom pool.
-  struct Cycle {
-    std::uint32_t atoms_off, size, bits_off;
-  };
-  std::vector<Cycle> candidates;
+  using Cycle = RingScratch::Cycle;
+  std::vector<Cycle> &candidates = ring_scratch_.candidates;
   // The rings kept, as spans of the atom pool, are the target's list itself.
   // A span's first atom is its root, and from one root the candidates come
   // in ascending edge order at ascending offsets: the span holds all that
@@ -1256,18 +1254,18 @@ void SmartsTarget::perceive_rings() const {
   // The target's own pool (reset() emptied it), to keep its capacity.
   std::vector<std::uint32_t> &atom_pool = rings_.pool_;
   atom_pool.reserve(2 * n);
-  std::vector<std::uint64_t> bit_pool;
+  std::vector<std::uint64_t> &bit_pool = ring_scratch_.bit_pool;
   auto *const mark = reinterpret_cast<std::uint32_t *>(carve(n));
   std::fill(mark, mark + n, 0u);
   std::uint32_t stamp = 0;
   auto *const bfs = reinterpret_cast<std::uint32_t *>(carve(n));
   std::size_t reached = 0;
   std::fill(dist, dist + n, -1);
-  std::vector<std::uint64_t> basis;  // reduced rows, words each, one pivot bit each
-  std::vector<std::size_t> pivots;
-  std::vector<std::uint64_t> v;
-  std::vector<std::uint32_t> by_bits, group;
-  std::vector<char> copy;
+  std::vector<std::uint64_t> &basis = ring_scratch_.basis;  // reduced rows, words each, one pivot bit each
+  std::vector<std::size_t> &pivots = ring_scratch_.pivots;
+  std::vector<std::uint64_t> &v = ring_scratch_.v;
+  std::vector<std::uint32_t> &by_bits = ring_scratch_.by_bits, &group = ring_scratch_.group;
+  std::vector<char> &copy = ring_scratch_.copy;
   for (std::size_t c = 0; c < parts; ++c) {
     const std::size_t part_edge_count = edge_start[c + 1] - edge_start[c];
     const std::size_t rank = part_edge_count + 1 - (atom_start[c + 1] - atom_start[c]);

@@ -272,8 +272,21 @@ class SmartsTarget {
   // push_map()'s stack: room for a dozen nested searches of table patterns.
   mutable std::array<std::uint32_t, 256> map_stack_;
   mutable std::size_t map_top_ = 0;
-  // perceive_rings()'s scratch of known size, per heavy atom and per bond.
-  mutable std::vector<std::int32_t> ring_scratch_;
+  // perceive_rings()'s scratch, kept from one molecule to the next: blocks
+  // per heavy atom and per bond, and the candidate cycles of a ring system
+  // of more than one ring with their bond sets and the elimination's rows.
+  struct RingScratch {
+    std::vector<std::int32_t> sized;
+    struct Cycle {
+      std::uint32_t atoms_off, size, bits_off;
+    };
+    std::vector<Cycle> candidates;
+    std::vector<std::uint64_t> bit_pool, basis, v;
+    std::vector<std::size_t> pivots;
+    std::vector<std::uint32_t> by_bits, group;
+    std::vector<char> copy;
+  };
+  mutable RingScratch ring_scratch_;
 };
 
 // Anchored match: does `p` match with its atom 0 on molecule atom `atom`,

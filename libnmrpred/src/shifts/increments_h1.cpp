@@ -797,22 +797,38 @@ RingAtoms aromatic_cycle(const Molecule &m, std::size_t k) {
   }
 }
 
-// The ring systems of m's heavy atoms; `of` gets per heavy atom the index of
-// its system or -1 when it lies on no ring. A bond lies on a ring unless it
-// is a bridge, and one depth-first search finds them (a tree bond is one when
-// nothing below it reaches back above it): the atoms visited below a bridge
-// and not yet placed then make one ring system, or a lone atom.
-std::vector<RingSystem> find_ring_systems(const Molecule &m, std::vector<std::int32_t> &of) {
+// The buffers of find_ring_systems(), which a caller may keep from one
+// molecule to the next.
+struct RingWalk {
+  // The neighbours still to look at are kept as pointers: the accessors
+  // check their index on every call.
+  struct Frame {
+    std::uint32_t atom, via_bond;
+    const std::uint32_t *next, *end, *bond;
+  };
+  std::vector<std::uint32_t> scratch;
+  std::vector<Frame> stack;
+};
+
+// The ring systems of m's heavy atoms, into `systems` (emptied first); `of`
+// gets per heavy atom the index of its system or -1 when it lies on no ring.
+// A bond lies on a ring unless it is a bridge, and one depth-first search
+// finds them (a tree bond is one when nothing below it reaches back above
+// it): the atoms visited below a bridge and not yet placed then make one
+// ring system, or a lone atom.
+void find_ring_systems(const Molecule &m, std::vector<std::int32_t> &of, std::vector<RingSystem> &systems,
+                       RingWalk &walk) {
   const auto n = static_cast<std::uint32_t>(m.heavy_atom_count());
   const Atom *atoms = m.atoms().data();
   const Bond *bonds = m.bonds().data();
   constexpr std::uint32_t kNoBond = ~std::uint32_t{0};
   // Visit order and low point (0: not yet visited), and the stack of atoms
   // visited but in no system yet, in one block.
-  std::vector<std::uint32_t> scratch(3 * std::size_t{n}, 0);
+  std::vector<std::uint32_t> &scratch = walk.scratch;
+  scratch.assign(3 * std::size_t{n}, 0);
   std::uint32_t *const order = scratch.data(), *const low = order + n, *const pending = low + n;
   std::size_t pending_size = 0;
-  std::vector<RingSystem> systems;
+  systems.clear();
   of.assign(n, -1);
   auto place = [&](std::uint32_t first) {
     std::size_t from = pending_size;
@@ -841,13 +857,9 @@ std::vector<RingSystem> find_ring_systems(const Molecule &m, std::vector<std::in
     }
     pending_size = from;
   };
-  // The neighbours still to look at are kept as pointers: the accessors
-  // check their index on every call.
-  struct Frame {
-    std::uint32_t atom, via_bond;
-    const std::uint32_t *next, *end, *bond;
-  };
-  std::vector<Frame> stack;
+  using Frame = RingWalk::Frame;
+  std::vector<Frame> &stack = walk.stack;
+  stack.clear();
   stack.reserve(n);
   std::uint32_t visited = 0;
   auto enter = [&](std::uint32_t a, std::uint32_t via) {
@@ -877,7 +889,6 @@ std::vector<RingSystem> find_ring_systems(const Molecule &m, std::vector<std::in
     }
     place(root);
   }
-  return systems;
 }
 
 // Whether aromatic_cycle() of an atom, `cycle_size` atoms long, is the whole
@@ -892,7 +903,9 @@ std::vector<std::uint32_t> lone_ring(const Molecule &m, std::size_t k) {
   const auto cycle = aromatic_cycle(m, k);
   if (cycle.size < 3) return {};
   std::vector<std::int32_t> of;
-  const auto systems = find_ring_systems(m, of);
+  std::vector<RingSystem> systems;
+  RingWalk walk;
+  find_ring_systems(m, of, systems, walk);
   const RingSystem *sys = of[k] >= 0 ? &systems[static_cast<std::size_t>(of[k])] : nullptr;
   if (!lone_system(sys, cycle.size)) return {};
   const auto ring = rings_order(m, cycle);
@@ -1246,7 +1259,7 @@ class H1Increments final : public ShiftSource {
   // anything that needs ring perception, which costs more than the rest of
   // their work for a fused ring system, and rarely has to run then.
   const RingSystem *ring_system(const Molecule &m, std::size_t k) const {
-    if (state_->system_of.empty()) state_->systems = find_ring_systems(m, state_->system_of);
+    if (state_->system_of.empty()) find_ring_systems(m, state_->system_of, state_->systems, state_->ring_walk);
     const auto &of = state_->system_of;
     return k < of.size() && of[k] >= 0 ? &state_->systems[static_cast<std::size_t>(of[k])] : nullptr;
   }
@@ -2036,6 +2049,7 @@ class H1Increments final : public ShiftSource {
     // sp3_chain(), the ring of ring_enone()).
     std::vector<bool> marks, marks2;
     std::vector<RingSystem> systems;
+    RingWalk ring_walk;  // find_ring_systems()'s buffers
     std::vector<std::optional<std::vector<std::uint32_t>>> system_rows;  // see hetero_rows()
     // evaluate()'s answers by atom, and the method texts of the estimates
     // made for this molecule (Estimate::method_at).
