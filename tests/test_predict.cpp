@@ -992,6 +992,25 @@ TEST_SUITE("predict") {
     }
   }
 
+  TEST_CASE("a molecule of more than 4,096 atoms leaves no state behind for the next one") {
+    // The scratch each thread keeps between calls is given back after a
+    // molecule that large (ThreadLease::serves). A 1,500-carbon chain (4,502
+    // atoms) between two predictions of one small molecule must not change
+    // the second.
+    const Tables &tables = builtin_tables();
+    auto json_of = [&](const std::string &smiles) {
+      PredictOptions o;
+      o.predict_couplings = false;
+      return nmrpred::to_json(nmrpred::predict_record(nmrpred::read_records(smiles, nmrpred::Format::Smiles).at(0), tables, o));
+    };
+    const std::string small = "CC(=O)Oc1ccccc1C(=O)O";
+    const std::string before = json_of(small);
+    const auto chain = nlohmann::json::parse(json_of(std::string(1500, 'C')));
+    REQUIRE(chain.at("atoms").size() == 4502);
+    CHECK(chain.at("signals").at("13C").size() == 750);  // one signal per mirror pair of carbons
+    CHECK(json_of(small) == before);
+  }
+
   TEST_CASE("predictions made by several threads at once equal those made by one") {
     // The core promises use from many threads (one Tables shared by all):
     // per-thread workspaces, leased scratch and the shared tables must not

@@ -1339,7 +1339,7 @@ class Engine {
 class EngineLease {
  public:
   EngineLease(const Molecule &m, int spheres, const std::vector<std::uint32_t> &ranks) {
-    if (m.atom_count() > detail::kLeaseKeepAtoms) lease_.drop_on_return();
+    lease_.serves(m.atom_count());
     lease_->reset(m, spheres, ranks);
   }
   Engine &operator*() const noexcept { return *lease_; }

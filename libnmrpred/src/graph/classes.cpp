@@ -1179,7 +1179,8 @@ class WorkspaceLease {
     const Workspace &ws = *lease_;
     const std::size_t atoms = ws.whole.n;
     const std::size_t pooled = ws.entries.entries.size() + 2 * ws.levels.by_depth.size() + ws.found.sigma.size();
-    if (atoms > detail::kLeaseKeepAtoms || atoms * pooled > kKeepPooledSlots) lease_.drop_on_return();
+    lease_.serves(atoms);
+    if (atoms * pooled > kKeepPooledSlots) lease_.drop_on_return();
   }
   Workspace &operator*() const noexcept { return *lease_; }
 

@@ -931,6 +931,7 @@ class C13Increments final : public ShiftSource {
     if (query_ != &q || target_ != &t) {
       target_ = &t;
       query_ = &q;
+      state_.serves(t.molecule().atom_count());
       state_->hetero_matches.clear();
       state_->hetero_cover.clear();
       state_->hetero_set_of.clear();
@@ -2102,7 +2103,7 @@ class C13Increments final : public ShiftSource {
     std::vector<Answer> answers;
     std::string methods;
   };
-  ThreadLease<State> state_;
+  mutable ThreadLease<State> state_;
 };
 
 }  // namespace

@@ -1034,6 +1034,7 @@ class H1Increments final : public ShiftSource {
     if (query_ != &q || target_ != &t) {
       target_ = &t;
       query_ = &q;
+      state_.serves(t.molecule().atom_count());
       state_->benzene_rings.clear();
       state_->lone_of.clear();
       state_->lone_rings.clear();
@@ -2056,7 +2057,7 @@ class H1Increments final : public ShiftSource {
     std::vector<Memo> memo;
     std::string methods;
   };
-  ThreadLease<State> state_;
+  mutable ThreadLease<State> state_;
 };
 
 }  // namespace

@@ -394,7 +394,7 @@ const std::vector<std::uint32_t> &ShiftQuery::excluded_compounds() const {
 const SmartsTarget &MoleculeFacts::smarts_target() const {
   if (!target_) {
     target_.emplace();
-    if (molecule_.atom_count() > kLeaseKeepAtoms) target_->drop_on_return();
+    target_->serves(molecule_.atom_count());
     (*target_)->reset(molecule_);
   }
   return **target_;

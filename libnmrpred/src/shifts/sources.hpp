@@ -76,7 +76,9 @@ class MoleculeFacts {
   // atom, more than either nucleus alone costs.
   enum class Askers { OneNucleus, BothNuclei };
   MoleculeFacts(const Molecule &m, const AtomClasses &c, Askers askers = Askers::OneNucleus)
-      : molecule_(m), classes_(c), both_nuclei_(askers == Askers::BothNuclei) {}
+      : molecule_(m), classes_(c), both_nuclei_(askers == Askers::BothNuclei) {
+    scratch_.serves(m.atom_count());
+  }
   const SmartsTarget &smarts_target() const;
   // The atom's HoseKeys for lookups in `index`. The first call keys the
   // atoms of the asking nucleus in one pass (unless set_all_keys() came first

@@ -44,6 +44,11 @@ class ThreadLease {
   // The thread's T is not kept when the lease ends (its buffers grew for a
   // large molecule): the next lease makes a new one.
   void drop_on_return() noexcept { drop_ = true; }
+  // The lease serves a molecule of `atoms` atoms: above kLeaseKeepAtoms,
+  // drop_on_return().
+  void serves(std::size_t atoms) noexcept {
+    if (atoms > kLeaseKeepAtoms) drop_ = true;
+  }
 
  private:
   struct Slot {
