@@ -69,6 +69,13 @@ Prediction predict_smiles(const std::string &smiles, const Tables &tables, const
   return nmrpred::predict(nmrpred::read_molecule(smiles, nmrpred::Format::Smiles), tables, options);
 }
 
+// The JSON record of the first structure in `smiles`, as predict_record() and
+// the command line give it.
+std::string record_json(const std::string &smiles, const Tables &tables, const PredictOptions &options) {
+  return nmrpred::to_json(
+      nmrpred::predict_record(nmrpred::read_records(smiles, nmrpred::Format::Smiles).at(0), tables, options));
+}
+
 bool names(const Shift &s, const std::string &id) {
   return std::find(s.references.begin(), s.references.end(), id) != s.references.end();
 }
@@ -998,17 +1005,14 @@ TEST_SUITE("predict") {
     // atoms) between two predictions of one small molecule must not change
     // the second.
     const Tables &tables = builtin_tables();
-    auto json_of = [&](const std::string &smiles) {
-      PredictOptions o;
-      o.predict_couplings = false;
-      return nmrpred::to_json(nmrpred::predict_record(nmrpred::read_records(smiles, nmrpred::Format::Smiles).at(0), tables, o));
-    };
+    PredictOptions o;
+    o.predict_couplings = false;
     const std::string small = "CC(=O)Oc1ccccc1C(=O)O";
-    const std::string before = json_of(small);
-    const auto chain = nlohmann::json::parse(json_of(std::string(1500, 'C')));
+    const std::string before = record_json(small, tables, o);
+    const auto chain = nlohmann::json::parse(record_json(std::string(1500, 'C'), tables, o));
     REQUIRE(chain.at("atoms").size() == 4502);
     CHECK(chain.at("signals").at("13C").size() == 750);  // one signal per mirror pair of carbons
-    CHECK(json_of(small) == before);
+    CHECK(record_json(small, tables, o) == before);
   }
 
   TEST_CASE("predictions made by several threads at once equal those made by one") {
@@ -1030,12 +1034,9 @@ TEST_SUITE("predict") {
     other.solvent = "DMSO-d6";
     other.field_mhz = 90;
     const PredictOptions *settings[2] = {&plain, &other};
-    auto json_of = [&](const std::string &smiles, const PredictOptions &o) {
-      return nmrpred::to_json(nmrpred::predict_record(nmrpred::read_records(smiles, nmrpred::Format::Smiles).at(0), tables, o));
-    };
     std::vector<std::string> expected[2];
     for (int k = 0; k < 2; ++k)
-      for (const auto &s : inputs) expected[k].push_back(json_of(s, *settings[k]));
+      for (const auto &s : inputs) expected[k].push_back(record_json(s, tables, *settings[k]));
     constexpr int kThreads = 4;
     std::vector<int> mismatches(kThreads, 0);
     std::vector<std::string> first_mismatch(kThreads);
@@ -1050,7 +1051,7 @@ TEST_SUITE("predict") {
             const int k = (t + round + static_cast<int>(j)) % 2;
             std::string got;
             try {
-              got = json_of(inputs[i], *settings[k]);
+              got = record_json(inputs[i], tables, *settings[k]);
             } catch (const std::exception &e) {
               got = e.what();
             }

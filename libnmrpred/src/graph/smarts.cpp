@@ -1272,7 +1272,7 @@ void SmartsTarget::perceive_rings() const {
     const std::size_t words = (part_edge_count + 63) / 64;
     candidates.clear();
     bit_pool.clear();
-    if (rank > 1 && candidates.capacity() == 0) candidates.reserve(edge_count), bit_pool.reserve(edge_count);
+    if (rank > 1) candidates.reserve(edge_count), bit_pool.reserve(edge_count);
     // A part that is one ring is found whole from each of its atoms: the
     // first, from its lowest atom, is the copy kept.
     const auto roots_end = rank == 1 ? atom_start[c] + 1 : atom_start[c + 1];

@@ -1246,7 +1246,6 @@ class H1Increments final : public ShiftSource {
       state_->lone_of[k] = kLoneNone;
       if (lone_system(cycle.size >= 3 ? ring_system(m, k) : nullptr, cycle.size)) {
         for (auto a : cycle) state_->lone_of[a] = static_cast<std::int32_t>(state_->lone_rings.size());
-        if (state_->lone_rings.empty()) state_->lone_rings.reserve(4);  // most molecules have fewer
         state_->lone_rings.push_back(LoneRing{rings_order(m, cycle), std::nullopt});
       } else {
         for (auto a : cycle) state_->lone_of[a] = kLoneNone;
