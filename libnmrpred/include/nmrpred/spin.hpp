@@ -242,14 +242,17 @@ struct Simulation {
 /// (validate()), bad options or an observed isotope outside the enumeration;
 /// InternalError if an eigensolver fails. A system without spins of `observe`
 /// gives an empty spectrum and a warning. Thread rule: pure; call from any
-/// number of threads at once. Exact clusters run on the system's LAPACK and
-/// BLAS (Debian's liblapack.so.3 and libblas.so.3: OpenBLAS when
-/// libopenblas0-pthread is installed). The library starts no thread and sets
+/// number of threads at once. Blocks of an exact cluster with more than 100
+/// states run on the system's LAPACK and BLAS (Debian's liblapack.so.3 and
+/// libblas.so.3: OpenBLAS when libopenblas0-pthread is installed), smaller
+/// ones on Eigen in the calling thread. The library starts no thread and sets
 /// no thread count; a threaded OpenBLAS sizes its own pool from its
 /// environment, so a caller that runs simulations in several threads of its
 /// own should set OPENBLAS_NUM_THREADS=1 before the library is loaded, to
 /// avoid running more threads than cores. Results are the same from run to
-/// run; another BLAS or thread count may change their last digits.
+/// run; another BLAS or thread count may change their last digits (lines of
+/// degenerate levels are summed, so the solver's choice of basis inside a
+/// level does not matter).
 NMRPRED_API Simulation simulate(const SpinSystem &system, SpinNucleus observe,
                                 const SimulationOptions &options = {});
 

@@ -78,11 +78,48 @@ inline double lower_coefficient(int f2, int m2) {
   return 0.5 * std::sqrt(static_cast<double>(f2 * (f2 + 2) - m2 * (m2 - 2)));
 }
 
+/// Energies (Hz) closer than this make one degenerate level: far above the
+/// solvers' rounding (about 1e-12 of a block's spread, 1e-8 Hz at most) and
+/// far below the 1e-4 Hz at which lines are merged anyway.
+constexpr double kDegenerateHz = 1e-7;
+
 struct Eigensystem {
   std::size_t label = std::numeric_limits<std::size_t>::max();
   Eigen::VectorXd energy;
   Eigen::MatrixXd vectors;  // columns: eigenvectors in the block's product basis
   Eigen::MatrixXd polarisation;  // observed group x eigenstate: <F_gz> (a state's values contiguous)
+  // Degenerate levels: runs of eigenstates of equal energy (level l holds
+  // states level_start[l] .. level_start[l + 1] - 1), each with its mean
+  // energy and the mean polarisation of its states (observed group x level).
+  std::vector<Eigen::Index> level_start;
+  Eigen::VectorXd level_energy;
+  Eigen::MatrixXd level_polarisation;
+
+  // Inside a degenerate level the eigenvectors may be any orthonormal basis
+  // of its space, and which one a solver returns differs between LAPACK
+  // builds, BLAS thread counts and Eigen. Transitions are therefore summed
+  // over pairs of levels, and a line is assigned by the levels' mean
+  // polarisations: sums over a level's states (the squared amplitudes, the
+  // traces of F_gz) do not depend on that choice. Before, the same molecule
+  // gave other line lists on one and on two OpenBLAS threads (232 of 2,000
+  // NCI records, 2 multiplet labels). A level of one state gives what its
+  // state gives.
+  void find_levels() {
+    const Eigen::Index n = energy.size();
+    level_start.clear();
+    for (Eigen::Index s = 0; s < n; ++s)
+      if (s == 0 || energy(s) - energy(s - 1) >= kDegenerateHz) level_start.push_back(s);
+    level_start.push_back(n);
+    const auto levels = static_cast<Eigen::Index>(level_start.size() - 1);
+    level_energy.resize(levels);
+    level_polarisation.resize(polarisation.rows(), levels);
+    for (Eigen::Index l = 0; l < levels; ++l) {
+      const Eigen::Index first = level_start[static_cast<std::size_t>(l)];
+      const Eigen::Index size = level_start[static_cast<std::size_t>(l) + 1] - first;
+      level_energy(l) = energy.segment(first, size).mean();
+      level_polarisation.col(l) = polarisation.middleCols(first, size).rowwise().mean();
+    }
+  }
 };
 
 /// One combination of total spins: every group a single composite spin 2F = f2[g].
@@ -184,6 +221,7 @@ void solve_combination(const ExactProblem &problem, const std::vector<int> &f2, 
         mz(row, static_cast<Eigen::Index>(o)) = 0.5 * (2 * k[observed[o]] - f2[observed[o]]);
     }
     current.polarisation.noalias() = mz.transpose() * current.vectors.cwiseAbs2();
+    current.find_levels();
 
     const std::size_t k0 = label % (kmax[0] + 1);
     if (k0 > 0 && previous.label == label - 1) {
@@ -216,15 +254,27 @@ void solve_combination(const ExactProblem &problem, const std::vector<int> &f2, 
       }
       std::vector<std::uint32_t> tied;
       std::vector<double> change(observed.size());
-      for (Eigen::Index i = 0; i < n; ++i) {
-        for (Eigen::Index f = 0; f < nf; ++f) {
-          const double a = amplitude(f, i);
-          const double intensity = a * a * weight;
+      const auto levels_i = static_cast<Eigen::Index>(current.level_start.size() - 1);
+      const auto levels_f = static_cast<Eigen::Index>(previous.level_start.size() - 1);
+      for (Eigen::Index li = 0; li < levels_i; ++li) {
+        const Eigen::Index i0 = current.level_start[static_cast<std::size_t>(li)];
+        const Eigen::Index ni = current.level_start[static_cast<std::size_t>(li) + 1] - i0;
+        for (Eigen::Index lf = 0; lf < levels_f; ++lf) {
+          const Eigen::Index f0 = previous.level_start[static_cast<std::size_t>(lf)];
+          const Eigen::Index nf_level = previous.level_start[static_cast<std::size_t>(lf) + 1] - f0;
+          double squared = 0;
+          if (ni == 1 && nf_level == 1) {
+            const double a = amplitude(f0, i0);
+            squared = a * a;
+          } else {
+            squared = amplitude.block(f0, i0, nf_level, ni).squaredNorm();
+          }
+          const double intensity = squared * weight;
           if (intensity < min_intensity) continue;
           double best_change = -std::numeric_limits<double>::infinity();
           for (std::size_t o = 0; o < observed.size(); ++o) {
-            change[o] = current.polarisation(static_cast<Eigen::Index>(o), i) -
-                        previous.polarisation(static_cast<Eigen::Index>(o), f);
+            change[o] = current.level_polarisation(static_cast<Eigen::Index>(o), li) -
+                        previous.level_polarisation(static_cast<Eigen::Index>(o), lf);
             best_change = std::max(best_change, change[o]);
           }
           // Groups whose polarisation changes equally (two spins of one shift
@@ -235,7 +285,8 @@ void solve_combination(const ExactProblem &problem, const std::vector<int> &f2, 
           for (std::size_t o = 0; o < observed.size(); ++o)
             if (change[o] >= best_change - kTiedChange) tied.push_back(static_cast<std::uint32_t>(observed[o]));
           const double share = intensity / static_cast<double>(tied.size());
-          for (std::uint32_t g : tied) out.push_back({current.energy(i) - previous.energy(f), share, g});
+          for (std::uint32_t g : tied)
+            out.push_back({current.level_energy(li) - previous.level_energy(lf), share, g});
         }
       }
     }
