@@ -305,7 +305,11 @@ struct MoleculeSpinSystem {
 ///    J(C,P) and J(C,D) (natural abundance: no J(C,C)).
 /// Partners get shift 0 (their shifts are not predicted) and no couplings among
 /// themselves, so they act as first-order partners. Equivalence classes are
-/// the molecule's chemical classes. `couplings` are typically
+/// the molecule's chemical classes. Spins come in the order of the atoms'
+/// invariant ranks (AtomClasses::invariant_rank; atom index among equal
+/// ranks), partners after the observed atoms, so that the simulation, which
+/// settles ties in spin order, does not depend on how the structure was
+/// written. `couplings` are typically
 /// predict_couplings(prediction.molecule, prediction.classes, tables); pairs
 /// of atoms that are not both in the spin system are ignored. Throws
 /// ArgumentError if the prediction holds no shifts of `observe`, or a coupling
