@@ -60,9 +60,10 @@ MoleculeSpinSystem spin_system(const Prediction &prediction, const std::vector<C
   // other lines: 77 of the first 2,000 NCI records against RDKit's random
   // SMILES of them (benchmarks/README.md, exact spin simulation).
   const auto &rank = prediction.classes.invariant_rank;
+  // Atom indices were checked against the molecule before any comparison.
+  const bool ranked = rank.size() == mol.atom_count();
   auto canonical = [&](std::size_t x, std::size_t y) {
-    if (rank.size() == mol.atom_count() && x < rank.size() && y < rank.size() && rank[x] != rank[y])
-      return rank[x] < rank[y];
+    if (ranked && rank[x] != rank[y]) return rank[x] < rank[y];
     return x < y;
   };
   for (const Shift &s : shifts)
@@ -96,7 +97,7 @@ MoleculeSpinSystem spin_system(const Prediction &prediction, const std::vector<C
   // predicted (0 stands in) and couplings among them are left out, so they
   // act as first-order partners only.
   std::set<std::size_t> unsupported;
-  std::vector<std::size_t> partners;  // in canonical order below
+  std::vector<std::pair<std::size_t, SpinNucleus>> partners;  // (atom, isotope), in canonical order below
   for (const Coupling &c : couplings) {
     if (c.a >= mol.atom_count() || c.b >= mol.atom_count())
       throw ArgumentError(fmt::format("spin_system: coupling between atoms {} and {}, the molecule has {} atoms", c.a,
@@ -109,14 +110,12 @@ MoleculeSpinSystem spin_system(const Prediction &prediction, const std::vector<C
         if (mol.atom(other).atomic_number != 1 && mol.atom(other).atomic_number != 6) unsupported.insert(other);
         continue;
       }
-      partners.push_back(other);
+      partners.emplace_back(other, iso);
     }
   }
-  std::sort(partners.begin(), partners.end(), canonical);
+  std::sort(partners.begin(), partners.end(), [&](const auto &x, const auto &y) { return canonical(x.first, y.first); });
   partners.erase(std::unique(partners.begin(), partners.end()), partners.end());
-  for (const std::size_t other : partners) {
-    SpinNucleus iso = SpinNucleus::H1;
-    partner_isotope(mol.atom(other), iso);  // true: only such atoms were kept
+  for (const auto &[other, iso] : partners) {
     Spin spin;
     spin.nucleus = iso;
     spin.equivalence_class = prediction.classes.chemical[other];
