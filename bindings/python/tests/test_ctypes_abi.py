@@ -751,10 +751,11 @@ def spectrum_lines(lib, spec):
 
 
 def test_exact_simulations_in_parallel_threads_give_the_sequential_lines(lib):
-    """Exact clusters run on the system's LAPACK and BLAS (possibly a threaded
-    OpenBLAS): several threads at once, one context each, must get exactly
-    the lines of one thread alone. Ten strongly coupled spins (invented
-    values, Fz blocks of up to 252 states) and an A3B2X chain."""
+    """Exact blocks of more than 100 states run on the system's LAPACK and
+    BLAS (possibly a threaded OpenBLAS), smaller ones on Eigen in the calling
+    thread: several threads at once, one context each, must get exactly the
+    lines of one thread alone. Ten strongly coupled spins (invented values,
+    Fz blocks of up to 252 states, so both paths run) and an A3B2X chain."""
     ten = {"mhz": 400, "weak_coupling_ratio": 1e300,
            "spins": [1.50 + 0.004 * k for k in range(10)],
            "couplings": [[i, j, round(-12.0 + 2.3 * ((3 * i + 5 * j) % 11), 2)]
