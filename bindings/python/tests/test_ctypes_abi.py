@@ -841,7 +841,8 @@ def test_spectrum_options_and_errors(lib, ctx):
         lib.nmr_spectrum_free(spec)
     for bad, word in (("{oops", "JSON"), ('{"spins": [1], "color": 2}', "color"),
                       ('{"spins": [1, 2], "couplings": [[0, 7, 1.0]]}', "coupling"),
-                      ('{"spins": [{"shift": "x"}]}', "shift")):
+                      ('{"spins": [{"shift": "x"}]}', "shift"),
+                      ('{"spins": [1], "line_width_hz": 1e999}', "range of a double")):
         rc, spec = simulate_json(lib, ctx, bad)
         assert rc == NMR_ERR_ARGUMENT and not spec.value
         assert word in last_error(lib, ctx)

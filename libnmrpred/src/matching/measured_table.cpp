@@ -439,6 +439,18 @@ std::size_t json_locate(std::string_view t, const Path &path) {
   return i;
 }
 
+// Where in t the number quoted in a JSON number-overflow message ("... number
+// overflow parsing '1e999'") first occurs; the end of t if it cannot be found.
+std::size_t overflowing_number_at(std::string_view t, std::string_view message) {
+  constexpr std::string_view lead = "parsing '";
+  const std::size_t from = message.find(lead);
+  if (from == std::string_view::npos) return t.size();
+  const std::size_t start = from + lead.size(), end = message.find('\'', start);
+  if (end == std::string_view::npos || end == start) return t.size();
+  const std::size_t at = t.find(message.substr(start, end - start));
+  return at == std::string_view::npos ? t.size() : at;
+}
+
 class JsonReader {
  public:
   JsonReader(std::string_view text, std::optional<Nucleus> default_nucleus) : t_(text), default_(default_nucleus) {}
@@ -456,6 +468,10 @@ class JsonReader {
       const std::size_t quoted = detail.find("; last read");
       if (quoted != std::string::npos) detail.erase(quoted);
       fail_at_byte(t_, e.byte > 0 ? e.byte - 1 : 0, fmt::format("expected valid JSON ({})", detail));
+    } catch (const nlohmann::json::out_of_range &e) {
+      // A number no double holds ("1e999"); the parser names the number but
+      // not where it is, so its first occurrence stands for the place.
+      fail_at_byte(t_, overflowing_number_at(t_, e.what()), "expected a number within the range of a double");
     }
     std::vector<MeasuredSpectrum> out;
     Path path;

@@ -72,6 +72,9 @@ SpinSystemInput parse(std::string_view text, const SimulationOptions &defaults, 
     doc = json::parse(text.begin(), text.end());
   } catch (const json::parse_error &e) {
     bad(std::string("not valid JSON: ") + e.what());
+  } catch (const json::out_of_range &e) {
+    // A number no double holds ("1e999").
+    bad(std::string("a number beyond the range of a double: ") + e.what());
   }
   if (!doc.is_object()) bad("must be a JSON object with \"spins\" and \"couplings\"");
   static const char *const known[] = {"mhz",
