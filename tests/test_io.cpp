@@ -508,6 +508,36 @@ TEST_SUITE("io") {
     }
   }
 
+  TEST_CASE("a V3000 block reads the same with its lines continued, and CFG=2 leaves a double bond open") {
+    // CTFILE (from memory): a V3000 line ending in '-' goes on in the next
+    // "M  V30" line; CFG=2 on a double bond means cis or trans, not known
+    // (V2000: bond stereo 3), whatever the coordinates show.
+    const std::string v3 = read_data_file("alanine_2d_v3000.mol");
+    std::string continued = v3;
+    continued.replace(continued.find("M  V30 2 1 2 3 CFG=3"), 20, "M  V30 2 1 2 3 -\nM  V30 CFG=3");
+    const auto a = nmrpred::read_molecule(v3), b = nmrpred::read_molecule(continued);
+    REQUIRE(a.atom_count() == b.atom_count());
+    REQUIRE(a.tetrahedral_stereo().size() == 1);
+    CHECK(a.tetrahedral_stereo() == b.tetrahedral_stereo());
+
+    // trans-1,2-difluoroethene laid out in 2D (F on opposite sides).
+    auto difluoroethene = [](const char *cfg) {
+      return std::string("difluoroethene\n  test\n\n  0  0  0     0  0            999 V3000\n"
+                         "M  V30 BEGIN CTAB\nM  V30 COUNTS 4 3 0 0 0\nM  V30 BEGIN ATOM\n"
+                         "M  V30 1 F -1.299 0.750 0.000 0\nM  V30 2 C -0.750 0.000 0.000 0\n"
+                         "M  V30 3 C 0.750 0.000 0.000 0\nM  V30 4 F 1.299 -0.750 0.000 0\n"
+                         "M  V30 END ATOM\nM  V30 BEGIN BOND\nM  V30 1 1 1 2\nM  V30 2 2 2 3") +
+             cfg + "\nM  V30 3 1 3 4\nM  V30 END BOND\nM  V30 END CTAB\nM  END\n";
+    };
+    const auto drawn = nmrpred::read_molecule(difluoroethene(""));
+    REQUIRE(drawn.double_bond_stereo().size() == 1);
+    CHECK(cis_relation(drawn, 0, 3) == false);
+    const auto either = nmrpred::read_records(difluoroethene(" CFG=2"));
+    REQUIRE(either.size() == 1);
+    REQUIRE(either[0].molecule);
+    CHECK(either[0].molecule->double_bond_stereo().empty());
+  }
+
   TEST_CASE("double bonds in rings of fewer than eight atoms carry no stereo") {
     INFO("common practice: ring geometry forces cis below 8 ring atoms (InChI and RDKit give no descriptor)");
     // Open Babel perceives the ring C=C bonds of the 2D drawing; the reader drops them.
@@ -595,6 +625,12 @@ TEST_SUITE("io") {
     std::string xx = mol;
     xx.replace(xx.find(" N   0"), 6, " Xx  0");
     const std::string v3 = read_data_file("alanine_2d_v3000.mol");
+    auto v3_with = [&](const std::string &from, const std::string &to) {
+      std::string t = v3;
+      const auto at = t.find(from);
+      REQUIRE(at != std::string::npos);
+      return t.replace(at, from.size(), to);
+    };
     const Row rows[] = {
         {"garbage!!", Format::Smiles, Status::Input, "SMILES", "OSMILES: 'g' is not a SMILES symbol"},
         {"C1CC", Format::Smiles, Status::Input, "ring", "OSMILES: unclosed ring bond"},
@@ -606,6 +642,23 @@ TEST_SUITE("io") {
         {mol.substr(0, mol.find("  1  2  1")), Format::Mol, Status::Input, "M  END", "CTFILE: block cut in the bond block"},
         {mol.substr(0, mol.find("    0.7500")), Format::Mol, Status::Input, "M  END", "CTFILE: block cut in the atom block"},
         {v3.substr(0, v3.find("M  V30 END ATOM")), Format::Mol, Status::Input, "M  END", "CTFILE: V3000 block cut short"},
+        // Open Babel 3.1.1 reads past the fields of short V3000 atom and bond
+        // lines; a mutation fuzzer's block with a short atom line crashed it
+        // before io/ checked the block's shape.
+        {v3_with("M  V30 3 C 1.500000 1.299038 0.000000 0", "M  V30 3 C 1.5000 END ATOM"), Format::Mol, Status::Input,
+         "line 10: an atom line needs", "CTFILE: V3000 atom line is index, type, x, y, z, atom map"},
+        {v3_with("M  V30 3 1 2 4\n", "M  V30 3 1 2\n"), Format::Mol, Status::Input, "a bond line needs",
+         "CTFILE: V3000 bond line is index, type, atom, atom"},
+        {v3_with("M  V30 3 1 2 4\n", "M  V30 3 1 2 9\n"), Format::Mol, Status::Input, "atom '9'",
+         "CTFILE: a bond joins atoms of the atom block"},
+        {v3_with("COUNTS 6 5", "COUNTS 7 5"), Format::Mol, Status::Input, "the COUNTS line says 7",
+         "CTFILE: COUNTS gives the atom and bond counts"},
+        {v3_with("M  V30 END ATOM\n", "M  V30\nM  V30 END ATOM\n"), Format::Mol, Status::Input, "nothing after it",
+         "CTFILE: every V3000 line has content after 'M  V30'"},
+        {v3_with("M  V30 END BOND\n", ""), Format::Mol, Status::Input, "'END CTAB' inside the BOND block",
+         "CTFILE: BEGIN and END lines pair up"},
+        {v3_with("M  V30 END CTAB\n", "M  V30 END CTAB -\n"), Format::Mol, Status::Input, "continued line",
+         "CTFILE: a '-' at the end continues the line in the next 'M  V30' line"},
         {"name\nprogram\n", Format::Mol, Status::Input, "truncated", "CTFILE: no counts line"},
         {"InChI=garbage", Format::Inchi, Status::Input, "InChI", "INCHI: not an identifier"},
         {"CCO", Format::Inchi, Status::Input, "InChI=1", "INCHI: identifiers start with InChI="},

@@ -4,6 +4,7 @@
 
 #include <nmrpred/io.hpp>
 
+#include <algorithm>
 #include <deque>
 #include <streambuf>
 #include <string>
@@ -17,6 +18,7 @@
 #include "io/inchi_syntax.hpp"
 #include "io/raw_molecule.hpp"
 #include "io/text.hpp"
+#include "io/v3000_syntax.hpp"
 
 namespace nmrpred {
 
@@ -257,14 +259,37 @@ bool MoleculeReader::Impl::next_mdl_record(ReadRecord &out) {
     out.error = prefix + "truncated MOL block: no 'M  END' line";
     return true;
   }
+  const std::size_t block_line = first_line + static_cast<std::size_t>(shift);
   std::string text;
-  text.reserve(bytes);
-  for (const auto &l : lines) {
-    text += l;
-    text += '\n';
+  io::detail::V3000Block v3000;
+  if (io::detail::ends_with(trim_right(lines[3]), "V3000")) {
+    // Checked here because Open Babel's V3000 reader does not survive every
+    // malformed block (io/v3000_syntax.hpp).
+    std::string problem;
+    v3000 = io::detail::v3000_block(lines, block_line, problem);
+    if (!problem.empty()) {
+      out.status = Status::Input;
+      out.error = prefix + problem;
+      return true;
+    }
+    text = std::move(v3000.text);
+  } else {
+    text.reserve(bytes);
+    for (const auto &l : lines) {
+      text += l;
+      text += '\n';
+    }
   }
   auto raw = io::detail::read_with_open_babel(text, Format::Mol);
-  const std::size_t block_line = first_line + static_cast<std::size_t>(shift);
+  // A double bond the file marks "cis or trans" has no geometry, whatever
+  // its coordinates show.
+  auto &cis_trans = raw.molecule.cis_trans;
+  for (const auto &[a, b] : v3000.either_double_bonds)
+    cis_trans.erase(std::remove_if(cis_trans.begin(), cis_trans.end(),
+                                   [a = a, b = b](const io::detail::RawCisTrans &c) {
+                                     return (c.begin == a && c.end == b) || (c.begin == b && c.end == a);
+                                   }),
+                    cis_trans.end());
   finish_record(
       std::move(raw), [&lines, block_line](std::size_t i) { return mdl_atom_description(lines, i, block_line); },
       prefix, out);
