@@ -122,6 +122,7 @@ def test_other_isotopes_sample_but_write_no_files():
 
 @pytest.mark.parametrize("bad, word", [
     ("{not json", "JSON"),
+    ('{"spins": [1.0], "mhz": 1e999}', "range of a double"),  # was an internal error
     ({"spins": [1.0], "colour": 1}, "colour"),
     ({"spins": [1.0, 2.0], "couplings": [[0, -1, 7.0]]}, "negative"),
     ({"spins": [1.0, 2.0], "couplings": [[0, 9, 7.0]]}, "coupling"),
