@@ -445,6 +445,19 @@ TEST_SUITE("io") {
     CHECK(nmrpred::read_molecule("NC(C)C(=O)O").tetrahedral_stereo().empty());
     CHECK(nmrpred::read_molecule("CC=CC").double_bond_stereo().empty());
     CHECK(nmrpred::read_molecule("C[C@H](N)C(=O)O").double_bond_stereo().empty());
+    // CTFILE (from memory): a wavy bond (V2000 bond stereo 4, V3000 CFG=2 on a
+    // single bond) marks a centre whose configuration is not known. Written by
+    // RDKit from N[C@@H](C)C(=O)O with its wedge made wavy.
+    const std::string wedge = read_data_file("alanine_2d_wedge.mol");
+    REQUIRE(nmrpred::read_molecule(wedge).tetrahedral_stereo().size() == 1);
+    std::string wavy = wedge;
+    const auto bond = wavy.find("  2  3  1  6");
+    REQUIRE(bond != std::string::npos);
+    wavy.replace(bond, 12, "  2  3  1  4");
+    CHECK(nmrpred::read_molecule(wavy).tetrahedral_stereo().empty());
+    std::string v3 = read_data_file("alanine_2d_v3000.mol");
+    v3.replace(v3.find("CFG=3"), 5, "CFG=2");
+    CHECK(nmrpred::read_molecule(v3).tetrahedral_stereo().empty());
   }
 
   TEST_CASE("cis and trans double bonds are read from SMILES, MOL files and InChI") {

@@ -147,6 +147,20 @@ int radical_electrons(ob::OBAtom &atom, Format format) {
   return typical > valence ? static_cast<int>(typical - valence) : 0;
 }
 
+// Does a wavy ("either") stereo bond start at atom `idx` (1-based)? A MOL
+// file draws a centre whose configuration is not known with one (V2000 bond
+// stereo 4, V3000 CFG=2; MDL CTfile specification, from memory), but Open
+// Babel 3.1.1 gives the centre a configuration from a V2000 file's
+// coordinates all the same.
+bool wavy_bond_at(ob::OBMol &mol, unsigned idx) {
+  ob::OBAtom *atom = mol.GetAtom(static_cast<int>(idx));
+  if (!atom) return false;
+  FOR_BONDS_OF_ATOM(b, atom) {
+    if (b->IsWedgeOrHash() && b->GetBeginAtomIdx() == idx) return true;
+  }
+  return false;
+}
+
 RawMolecule extract(ob::OBMol &mol, Format format) {
   RawMolecule raw;
   raw.dimension = mol.GetDimension();
@@ -184,6 +198,7 @@ RawMolecule extract(ob::OBMol &mol, Format format) {
     if (!cfg.specified || cfg.refs.size() != 3) continue;
     const auto centre = map_ref(mol, cfg.center);
     if (centre < 0) continue;
+    if (format == Format::Mol && wavy_bond_at(mol, static_cast<unsigned>(centre) + 1)) continue;
     RawTetrahedral t;
     t.centre = static_cast<std::uint32_t>(centre);
     t.ligands = {map_ref(mol, cfg.from), map_ref(mol, cfg.refs[0]), map_ref(mol, cfg.refs[1]),
