@@ -608,6 +608,37 @@ TEST_SUITE("predict") {
     CHECK(p.h1_exchanged_signals.empty());
   }
 
+  TEST_CASE("in another solvent than CDCl3 a carbon-bound proton's method says its value is for CDCl3") {
+    // Issue 4: no published solvent correction of these protons is in the
+    // tables, so the method says the value is that of CDCl3 solutions (the
+    // rule tables and most reference compounds, tables/FORMAT.md); a special
+    // group's row for any solvent names that itself; exchangeable protons
+    // carry their own solvent note.
+    auto method_of = [](const nmrpred::Prediction &p, std::size_t heavy) {
+      for (std::size_t h = p.molecule.heavy_atom_count(); h < p.molecule.atom_count(); ++h)
+        if (p.molecule.attached_to(h) == static_cast<std::int64_t>(heavy)) return std::string(p.shift(h, Nucleus::H1)->method);
+      return std::string();
+    };
+    const std::string note = "value for CDCl3 solutions, no published correction to ";
+    PredictOptions dmso, c6d6;
+    dmso.solvent = "DMSO-d6";
+    c6d6.solvent = "C6D6";
+    // Acetophenone: atom 0 is the CH3.
+    CHECK(method_of(predict_smiles("CC(=O)c1ccccc1", builtin_tables()), 0).find(note) == std::string::npos);
+    CHECK(method_of(predict_smiles("CC(=O)c1ccccc1", builtin_tables(), dmso), 0).find(note + "DMSO-d6") !=
+          std::string::npos);
+    CHECK(method_of(predict_smiles("CC(=O)c1ccccc1", builtin_tables(), c6d6), 0).find(note + "C6D6") !=
+          std::string::npos);
+    // Propanal's CHO (atom 2): the special-group row holds in any solvent.
+    const std::string cho = method_of(predict_smiles("CCC=O", builtin_tables(), dmso), 2);
+    CHECK(cho.find("in any solvent") != std::string::npos);
+    CHECK(cho.find(note) == std::string::npos);
+    // Ethanol's OH in DMSO-d6: its own solvent note, not this one.
+    const std::string oh = method_of(predict_smiles("CCO", builtin_tables(), dmso), 2);
+    CHECK(oh.find("DMSO-d6") != std::string::npos);
+    CHECK(oh.find(note) == std::string::npos);
+  }
+
   TEST_CASE("deuterated positions give no 1H signal") {
     // CD3CH2OH: atoms 0 CD3, 1 CH2, 2 O, hydrogens 3-5 are 2H.
     const auto p = predict_smiles("[2H]C([2H])([2H])CO", builtin_tables());
