@@ -37,7 +37,7 @@ constexpr std::size_t kMaxRecordBytes = std::size_t{64} << 20;
 std::string mdl_atom_description(const std::vector<std::string> &lines, std::size_t i, std::size_t first_line) {
   if (lines.size() < 4) return {};
   const auto &counts = lines[3];
-  if (trim_right(counts).size() >= 5 && io::detail::ends_with(trim_right(counts), "V3000")) {
+  if (io::detail::is_v3000_counts_line(counts)) {
     bool in_atoms = false;
     std::size_t k = 0;
     for (std::size_t l = 4; l < lines.size(); ++l) {
@@ -50,14 +50,7 @@ std::string mdl_atom_description(const std::vector<std::string> &lines, std::siz
       if (t == "M  V30 END ATOM") break;
       if (k++ != i) continue;
       // "M  V30 index symbol x y z ..."
-      std::vector<std::string_view> tok;
-      std::size_t p = 0;
-      while (p < t.size()) {
-        while (p < t.size() && io::detail::is_space(t[p])) ++p;
-        const auto q = p;
-        while (p < t.size() && !io::detail::is_space(t[p])) ++p;
-        if (p > q) tok.push_back(t.substr(q, p - q));
-      }
+      const auto tok = io::detail::split_fields(t);
       if (tok.size() > 3) return fmt::format("'{}' on line {}", tok[3], first_line + l);
       return fmt::format("line {}", first_line + l);
     }
@@ -262,7 +255,7 @@ bool MoleculeReader::Impl::next_mdl_record(ReadRecord &out) {
   const std::size_t block_line = first_line + static_cast<std::size_t>(shift);
   std::string text;
   io::detail::V3000Block v3000;
-  if (io::detail::ends_with(trim_right(lines[3]), "V3000")) {
+  if (io::detail::is_v3000_counts_line(lines[3])) {
     // Checked here because Open Babel's V3000 reader does not survive every
     // malformed block (io/v3000_syntax.hpp).
     std::string problem;

@@ -7,6 +7,7 @@
 #include <cstddef>
 #include <string>
 #include <string_view>
+#include <vector>
 
 namespace nmrpred::io::detail {
 
@@ -33,6 +34,22 @@ inline bool starts_with(std::string_view s, std::string_view prefix) {
 inline bool ends_with(std::string_view s, std::string_view suffix) {
   return s.size() >= suffix.size() && s.substr(s.size() - suffix.size()) == suffix;
 }
+
+// The whitespace-separated fields of a line, as views into it.
+inline std::vector<std::string_view> split_fields(std::string_view s) {
+  std::vector<std::string_view> out;
+  std::size_t p = 0;
+  while (p < s.size()) {
+    while (p < s.size() && is_space(s[p])) ++p;
+    const std::size_t q = p;
+    while (p < s.size() && !is_space(s[p])) ++p;
+    if (p > q) out.push_back(s.substr(q, p - q));
+  }
+  return out;
+}
+
+// A counts line stamped V3000: the connection table follows in "M  V30" lines.
+inline bool is_v3000_counts_line(std::string_view line) { return ends_with(trim_right(line), "V3000"); }
 
 // MDL CTfile counts line: "aaabbblllfffcccsssxxxrrrpppiiimmmvvvvvv", i.e. the
 // atom and bond counts as right-justified 3-character integers, normally

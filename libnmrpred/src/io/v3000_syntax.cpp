@@ -18,18 +18,6 @@ namespace nmrpred::io::detail {
 
 namespace {
 
-std::vector<std::string_view> tokens(std::string_view s) {
-  std::vector<std::string_view> out;
-  std::size_t p = 0;
-  while (p < s.size()) {
-    while (p < s.size() && is_space(s[p])) ++p;
-    const std::size_t q = p;
-    while (p < s.size() && !is_space(s[p])) ++p;
-    if (p > q) out.push_back(s.substr(q, p - q));
-  }
-  return out;
-}
-
 // A positive decimal integer of at most 9 digits, or -1.
 long positive(std::string_view t) {
   if (t.empty() || t.size() > 9) return -1;
@@ -85,7 +73,7 @@ V3000Block v3000_block(const std::vector<std::string> &lines, std::size_t first_
       if (!starts_with(next, "M  V30")) return fail(l, "a continued line goes on in a line that is not an 'M  V30' line");
       logical.append(next.substr(std::min<std::size_t>(7, next.size())));  // after "M  V30 "
     }
-    const auto t = tokens(logical);
+    const auto t = split_fields(logical);
     if (t.size() < 3) return fail(at, "an 'M  V30' line with nothing after it");
     const std::string_view key = t[2];
     const std::string_view block = open.empty() ? std::string_view() : std::string_view(open.back());

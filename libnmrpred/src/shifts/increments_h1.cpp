@@ -667,6 +667,7 @@ struct Estimate {
   std::size_t method_at = 0, method_size = 0;
   bool exchangeable = false;
   bool observed = true;
+  bool solvent_named = false;  // ShiftDraft::solvent_named
 };
 
 // ---------------------------------------------------------------------------
@@ -948,6 +949,7 @@ class H1Increments final : public ShiftSource {
     out.references.clear();
     out.exchangeable = r->exchangeable;
     out.observed = r->observed;
+    out.solvent_named = r->solvent_named;
     return true;
   }
 
@@ -1090,6 +1092,7 @@ class H1Increments final : public ShiftSource {
     e.method_at = state_->methods.size();
     state_->methods += r.method;
     e.method_size = r.method.size();
+    e.solvent_named = true;  // special_row(): this solvent's row or one for any solvent
     return e;
   }
 

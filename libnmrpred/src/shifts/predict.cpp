@@ -259,6 +259,7 @@ class ReferenceLookup final : public ShiftSource {
       }
       out.ppm = shift.median;
       out.uncertainty_ppm = std::sqrt(levels[k].prior_ppm * levels[k].prior_ppm + shift.sd * shift.sd);
+      out.solvent_named = false;  // the reference compounds' value, not the rule's
       // Plain appends rather than the formatter, as above.
       std::string &m = out.method;
       m = user_ ? "user"sv : "built-in"sv;
@@ -623,23 +624,19 @@ std::vector<Shift> predict_h1_on(const Molecule &molecule, const AtomClasses &cl
   std::vector<Shift> out;
   out.reserve(carbon_bound.size() + labile.size());
   // Carbon-bound protons have no published solvent corrections in the
-  // tables, except special-group rows of their own solvent or of any solvent,
-  // whose method names it ("... in DMSO-d6: ..."). In another solvent than
-  // CDCl3 every other value's method says whose value it is: the built-in
-  // reference compounds are mostly CDCl3 solutions (584 of 675) and the rule
-  // tables hold for CDCl3 (tables/FORMAT.md). A user's own compounds are
-  // taken as the user gave them.
+  // tables, except special-group rows of their own solvent or of any solvent
+  // (ShiftDraft::solvent_named), whose method names it. In another solvent
+  // than CDCl3 every other value's method says whose value it is: the
+  // built-in reference compounds are mostly CDCl3 solutions (584 of 675) and
+  // the rule tables hold for CDCl3 (tables/FORMAT.md). A user's own
+  // compounds are taken as the user gave them.
   const bool as_in_cdcl3 = solvent.id != "cdcl3";
-  const std::string in_this_solvent = " in " + solvent.name + ":";
-  auto names_a_solvent = [&](const std::string &method) {
-    return method.find(" in any solvent:") != std::string::npos || method.find(in_this_solvent) != std::string::npos;
-  };
   detail::run_sources(q, sources, AtomRange{carbon_bound.data(), carbon_bound.data() + carbon_bound.size()}, warnings,
                       out, [&](ShiftDraft &d, std::size_t atom) {
                         if (d.source != ShiftSourceKind::Reference && d.source != ShiftSourceKind::UserReference &&
                             detail::diastereotopic_partner(molecule, classes, atom) >= 0)
                           d.method += "; diastereotopic CH2: no reference lookup, both protons share the value";
-                        if (as_in_cdcl3 && d.source != ShiftSourceKind::UserReference && !names_a_solvent(d.method)) {
+                        if (as_in_cdcl3 && d.source != ShiftSourceKind::UserReference && !d.solvent_named) {
                           d.method += "; value for CDCl3 solutions, no published correction to "sv;
                           d.method += solvent.name;
                           d.method += " applied"sv;

@@ -37,6 +37,10 @@ struct ShiftDraft {
   ReferenceIds references;
   bool exchangeable = false;
   bool observed = true;
+  // The value is a table row's for the query's solvent or for any solvent
+  // (1H special groups), not one of CDCl3 solutions (predict_h1_on says so
+  // in the method otherwise).
+  bool solvent_named = false;
   // As a new draft, keeping the method's room.
   void reset() {
     std::string room = std::move(method);
