@@ -50,6 +50,64 @@ std::vector<ProtonShift> h1_on(const std::string &smiles, std::size_t heavy, con
   return out;
 }
 
+// Molecules for the tests that hold a combined call to the single calls:
+// the NCI sample rows of tests/data (RDKit's rdkit-data) and a few that
+// reach the rarer paths: exchangeable and deuterated protons,
+// diastereotopic CH2 pairs, a radical, boron and a metal (class averages
+// and warnings), a charged group, user reference records.
+std::vector<std::string> engine_smiles() {
+  std::vector<std::string> smiles = {
+      "CCO", "CC[C@@H](C)O", "Cc1ccc(cc1)C1CO1", "CC(C)Cc1ccc(cc1)C(C)C(=O)O", "[2H]C([2H])([2H])C(=O)O",
+      "[CH2]CC", "CCB(CC)CC", "C[Hg]C", "C[N+](C)(C)CC(=O)[O-]", "OC[C@H]1OC(O)[C@H](O)[C@@H](O)[C@@H]1O",
+      "c1ccc2[nH]ccc2c1", "Cc1ccccc1", "CSc1ccccc1", "O=C1CCCCC1", "C=CC(=O)OC", "N#CCC(N)=O"};
+  std::ifstream nci(std::string(NMRPRED_TEST_DATA_DIR) + "/nci_hydrogen_counts.tsv");
+  REQUIRE(nci.good());
+  for (std::string line; std::getline(nci, line);)
+    if (!line.empty() && line[0] != '#' && line.rfind("smiles\t", 0) != 0) smiles.push_back(line.substr(0, line.find('\t')));
+  REQUIRE(smiles.size() == 16 + 25);
+  return smiles;
+}
+
+// The settings those tests run in; `user` holds the user records' tables.
+struct Setting {
+  const char *name;
+  const nmrpred::Tables *tables;
+  nmrpred::ShiftOptions options;
+};
+std::vector<Setting> engine_settings(std::shared_ptr<const nmrpred::Tables> &user) {
+  user = tables().with_user_reference(
+      "id\tsmiles\tsolvent\tc13\th1\tsource\n"
+      "demo-user-toluene\tCc1ccccc1\tCDCl3\t0=10.0;1=20.0;2,6=30.0;3,5=40.0;4=50.0\t-\tdemo data (invented)\n",
+      "demo.tsv");
+  std::vector<Setting> settings(6, Setting{"default", &tables(), {}});
+  settings[1].name = "blind", settings[1].options.blind = true;
+  settings[2].name = "D2O", settings[2].options.solvent = "D2O";
+  settings[3].name = "increments only", settings[3].options.use_reference = false;
+  settings[4].name = "no increments", settings[4].options.use_increments = false;
+  settings[5].name = "user records", settings[5].tables = user.get();
+  return settings;
+}
+
+// Field by field: a combined call is the same computation as the single
+// calls, so every value is compared exactly.
+void same_shifts(const std::vector<nmrpred::Shift> &got, const std::vector<nmrpred::Shift> &want) {
+  REQUIRE(got.size() == want.size());
+  for (std::size_t i = 0; i < got.size(); ++i) {
+    const auto &g = got[i], &w = want[i];
+    INFO("atom " << w.atom << ": " << w.method);
+    CHECK(g.atom == w.atom);
+    CHECK(g.nucleus == w.nucleus);
+    CHECK(g.ppm == w.ppm);
+    CHECK(g.uncertainty_ppm == w.uncertainty_ppm);
+    CHECK(g.source == w.source);
+    CHECK(g.sphere == w.sphere);
+    CHECK(g.method == w.method);
+    CHECK(g.references == w.references);
+    CHECK(g.exchangeable == w.exchangeable);
+    CHECK(g.observed == w.observed);
+  }
+}
+
 }  // namespace
 
 TEST_SUITE("shifts_engine") {
@@ -205,52 +263,10 @@ TEST_SUITE("shifts_engine") {
 
   TEST_CASE("predict_c13_h1 gives exactly what predict_c13 and predict_h1 give, field by field") {
     // The contract of predict_c13_h1 (include/nmrpred/shifts.hpp): the two
-    // single calls are the reference. Molecules: the NCI sample rows of
-    // tests/data (RDKit's rdkit-data) and a few that reach the rarer paths:
-    // exchangeable and deuterated protons, diastereotopic CH2 pairs, a
-    // radical, boron and a metal (class averages and warnings), a charged
-    // group, user reference records.
-    std::vector<std::string> smiles = {
-        "CCO", "CC[C@@H](C)O", "Cc1ccc(cc1)C1CO1", "CC(C)Cc1ccc(cc1)C(C)C(=O)O", "[2H]C([2H])([2H])C(=O)O",
-        "[CH2]CC", "CCB(CC)CC", "C[Hg]C", "C[N+](C)(C)CC(=O)[O-]", "OC[C@H]1OC(O)[C@H](O)[C@@H](O)[C@@H]1O",
-        "c1ccc2[nH]ccc2c1", "Cc1ccccc1", "CSc1ccccc1", "O=C1CCCCC1", "C=CC(=O)OC", "N#CCC(N)=O"};
-    std::ifstream nci(std::string(NMRPRED_TEST_DATA_DIR) + "/nci_hydrogen_counts.tsv");
-    REQUIRE(nci.good());
-    for (std::string line; std::getline(nci, line);)
-      if (!line.empty() && line[0] != '#' && line.rfind("smiles\t", 0) != 0) smiles.push_back(line.substr(0, line.find('\t')));
-    REQUIRE(smiles.size() == 16 + 25);
-    const auto user = tables().with_user_reference(
-        "id\tsmiles\tsolvent\tc13\th1\tsource\n"
-        "demo-user-toluene\tCc1ccccc1\tCDCl3\t0=10.0;1=20.0;2,6=30.0;3,5=40.0;4=50.0\t-\tdemo data (invented)\n",
-        "demo.tsv");
-    struct Setting {
-      const char *name;
-      const nmrpred::Tables *tables;
-      nmrpred::ShiftOptions options;
-    };
-    std::vector<Setting> settings(6, Setting{"default", &tables(), {}});
-    settings[1].name = "blind", settings[1].options.blind = true;
-    settings[2].name = "D2O", settings[2].options.solvent = "D2O";
-    settings[3].name = "increments only", settings[3].options.use_reference = false;
-    settings[4].name = "no increments", settings[4].options.use_increments = false;
-    settings[5].name = "user records", settings[5].tables = user.get();
-    auto same = [](const std::vector<nmrpred::Shift> &got, const std::vector<nmrpred::Shift> &want) {
-      REQUIRE(got.size() == want.size());
-      for (std::size_t i = 0; i < got.size(); ++i) {
-        const auto &g = got[i], &w = want[i];
-        INFO("atom " << w.atom << ": " << w.method);
-        CHECK(g.atom == w.atom);
-        CHECK(g.nucleus == w.nucleus);
-        CHECK(g.ppm == w.ppm);  // exact: the same computation
-        CHECK(g.uncertainty_ppm == w.uncertainty_ppm);
-        CHECK(g.source == w.source);
-        CHECK(g.sphere == w.sphere);
-        CHECK(g.method == w.method);
-        CHECK(g.references == w.references);
-        CHECK(g.exchangeable == w.exchangeable);
-        CHECK(g.observed == w.observed);
-      }
-    };
+    // single calls are the reference.
+    const auto smiles = engine_smiles();
+    std::shared_ptr<const nmrpred::Tables> user;
+    const auto settings = engine_settings(user);
     std::size_t compared = 0;
     for (const auto &setting : settings)
       for (const auto &smi : smiles) {
@@ -261,8 +277,8 @@ TEST_SUITE("shifts_engine") {
         const auto both = nmrpred::predict_c13_h1(m, classes, *setting.tables, setting.options, &both_warnings);
         const auto c13 = nmrpred::predict_c13(m, classes, *setting.tables, setting.options, &single_warnings);
         const auto h1 = nmrpred::predict_h1(m, classes, *setting.tables, setting.options, &single_warnings);
-        same(both.c13, c13);
-        same(both.h1, h1);
+        same_shifts(both.c13, c13);
+        same_shifts(both.h1, h1);
         CHECK(both_warnings == single_warnings);
         compared += c13.size() + h1.size();
       }
@@ -275,6 +291,44 @@ TEST_SUITE("shifts_engine") {
     unknown.solvent = "no such solvent";
     CHECK_THROWS_AS(nmrpred::predict_c13_h1(m, nmrpred::compute_classes(m), tables(), unknown), nmrpred::ArgumentError);
     CHECK_THROWS_AS(nmrpred::predict_h1(m, nmrpred::compute_classes(m), tables(), unknown), nmrpred::ArgumentError);
+  }
+
+  TEST_CASE("predict_c13_set gives exactly what compute_classes and predict_c13 give, molecule by molecule") {
+    // The contract of predict_c13_set (include/nmrpred/shifts.hpp): the
+    // single calls are the reference. The list is repeated so that the set
+    // spans several of the blocks its stages run over (256 molecules), and
+    // a block ends in the middle of a repeat.
+    const auto smiles = engine_smiles();
+    std::vector<nmrpred::Molecule> molecules;
+    for (int repeat = 0; repeat < 7; ++repeat)
+      for (const auto &smi : smiles) molecules.push_back(nmrpred::read_molecule(smi, nmrpred::Format::Smiles));
+    REQUIRE(molecules.size() > 256);
+    std::shared_ptr<const nmrpred::Tables> user;
+    std::size_t compared = 0;
+    for (const auto &setting : engine_settings(user)) {
+      const auto set = nmrpred::predict_c13_set(molecules, *setting.tables, setting.options);
+      REQUIRE(set.size() == molecules.size());
+      for (std::size_t i = 0; i < molecules.size(); ++i) {
+        INFO(setting.name << " | molecule " << i << " | " << smiles[i % smiles.size()]);
+        const auto classes = nmrpred::compute_classes(molecules[i]);
+        std::vector<std::string> warnings;
+        const auto c13 = nmrpred::predict_c13(molecules[i], classes, *setting.tables, setting.options, &warnings);
+        CHECK(set[i].error == nmrpred::Status::Ok);
+        CHECK(set[i].error_message.empty());
+        CHECK(set[i].classes.chemical == classes.chemical);
+        CHECK(set[i].classes.topological == classes.topological);
+        same_shifts(set[i].shifts, c13);
+        CHECK(set[i].warnings == warnings);
+        compared += c13.size();
+      }
+    }
+    CHECK(compared > 10000);
+    CHECK(nmrpred::predict_c13_set({}, tables()).empty());
+    // An unknown solvent fails the call before any molecule, as predict_c13
+    // fails it for each.
+    nmrpred::ShiftOptions unknown;
+    unknown.solvent = "no such solvent";
+    CHECK_THROWS_AS(nmrpred::predict_c13_set(molecules, tables(), unknown), nmrpred::ArgumentError);
   }
 
   TEST_CASE("blind predictions of p-xylene stay close to the published values") {

@@ -25,6 +25,7 @@
 #include <vector>
 
 #include <nmrpred/classes.hpp>
+#include <nmrpred/error.hpp>
 #include <nmrpred/export.hpp>
 #include <nmrpred/molecule.hpp>
 #include <nmrpred/tables.hpp>
@@ -286,6 +287,30 @@ struct C13H1Shifts {
 NMRPRED_API C13H1Shifts predict_c13_h1(const Molecule &molecule, const AtomClasses &classes, const Tables &tables,
                                        const ShiftOptions &options = {},
                                        std::vector<std::string> *warnings = nullptr);
+
+/// One molecule's result in predict_c13_set(). Plain value.
+struct C13SetEntry {
+  AtomClasses classes;                ///< compute_classes(molecule)
+  std::vector<Shift> shifts;          ///< predict_c13(molecule, classes, tables, options)
+  std::vector<std::string> warnings;  ///< what predict_c13() appends to its warnings
+  /// Status::Ok, or why this molecule has no shifts (error_message says
+  /// more); the other molecules of the set are predicted all the same.
+  Status error = Status::Ok;
+  std::string error_message;
+};
+
+/// compute_classes() and predict_c13() for every molecule of a set, in the
+/// set's order: the same classes, values, methods, references and warnings
+/// as those calls made one molecule at a time, at less cost per molecule.
+/// The work runs stage by stage (equivalence classes, HOSE environments,
+/// increment rules, reference lookups) over blocks of molecules rather than
+/// molecule by molecule, so that each stage's code and tables stay in the
+/// processor's caches while it goes through a block. A molecule that fails
+/// gets its status and message; the set goes on. Throws ArgumentError,
+/// before any molecule, for an unknown solvent where the 13C tables hold
+/// solvent terms.
+NMRPRED_API std::vector<C13SetEntry> predict_c13_set(const std::vector<Molecule> &molecules, const Tables &tables,
+                                                     const ShiftOptions &options = {});
 
 }  // namespace nmrpred
 
