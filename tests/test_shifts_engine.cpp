@@ -317,6 +317,9 @@ TEST_SUITE("shifts_engine") {
         CHECK(set[i].error_message.empty());
         CHECK(set[i].classes.chemical == classes.chemical);
         CHECK(set[i].classes.topological == classes.topological);
+        CHECK(set[i].classes.invariant_rank == classes.invariant_rank);
+        CHECK(set[i].classes.chemical_count == classes.chemical_count);
+        CHECK(set[i].classes.notes == classes.notes);
         same_shifts(set[i].shifts, c13);
         CHECK(set[i].warnings == warnings);
         compared += c13.size();
