@@ -1,0 +1,282 @@
+// Mutation test of the texts a user hands the library: structure records
+// (any format the reader detects), measured peak lists, user reference
+// tables and spin-system JSON. Each iteration takes a seed text, changes it
+// a few times at random (a byte, an inserted token, a deleted or copied
+// stretch, inserted digits) and runs the call that reads it, then the work
+// that uses what was read. The contract under test is the library's error
+// rule: bad input gets an nmrpred::Error of a documented kind, never a crash,
+// a hang, an internal error or a non-finite value.
+//
+// Usage: nmrpred_mutate_inputs KIND ITERATIONS SEED FILE...
+//   KIND        records | measured | reference | spin
+//   ITERATIONS  mutated inputs to try
+//   SEED        the random generator's seed (runs are repeatable)
+//   FILE...     seed texts: for records, structure files (SMILES, MOL, SDF,
+//               InChI); for measured, JSON files whose "cases" and "errors"
+//               entries hold an "input" text (tests/data/measured_corpus.json)
+//               or plain peak-list files; for reference, user reference
+//               tables (tried three rows at a time); for spin, structure files whose molecules' predicted
+//               1H spin systems are written as JSON to start from.
+// Each iteration has 20 s; a longer one is reported as a hang. Exit status 0
+// when nothing was found, 1 for findings (each printed with the input, as a
+// C string), 2 for usage errors. Built with the tests; ctest runs a short,
+// fixed-seed pass of each kind, and longer runs are for maintainers
+// (DEVELOPERS.md).
+
+#include <nmrpred/error.hpp>
+#include <nmrpred/io.hpp>
+#include <nmrpred/measured.hpp>
+#include <nmrpred/predict.hpp>
+#include <nmrpred/spin.hpp>
+#include <nmrpred/tables.hpp>
+
+#include <csignal>
+#include <cmath>
+#include <cstdio>
+#include <cstdlib>
+#include <exception>
+#include <fstream>
+#include <iterator>
+#include <random>
+#include <string>
+#include <string_view>
+#include <vector>
+
+#include <unistd.h>
+
+#include <fmt/format.h>
+#include <nlohmann/json.hpp>
+
+namespace {
+
+// The input being tried, for the alarm handler to print.
+std::string g_current;
+
+// A C-string literal of `s`, so that a finding can be pasted into a test.
+std::string c_literal(std::string_view s) {
+  std::string out = "\"";
+  for (unsigned char c : s) {
+    if (c == '"' || c == '\\') out += '\\', out += static_cast<char>(c);
+    else if (c == '\n') out += "\\n";
+    else if (c == '\t') out += "\\t";
+    else if (c < 0x20 || c >= 0x7f) out += fmt::format("\\x{:02x}\"\"", c);
+    else out += static_cast<char>(c);
+  }
+  return out + "\"";
+}
+
+void on_alarm(int) {
+  // Not async-signal-safe in general; the process ends here anyway.
+  const std::string text = "HANG (over 20 s) on input " + c_literal(g_current) + "\n";
+  (void)!write(STDOUT_FILENO, text.data(), text.size());
+  std::_Exit(1);
+}
+
+std::string slurp(const std::string &path) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) throw std::runtime_error("cannot open " + path);
+  return std::string(std::istreambuf_iterator<char>(in), std::istreambuf_iterator<char>());
+}
+
+// Texts that make parsers take other paths than random bytes reach.
+constexpr const char *kTokens[] = {
+    "1e308", "1e999", "-1", "NaN", "inf", "[", "]", "{", "}", "\"", ",", ":", "0", "1e-320",
+    "99999999999999999999", "\"spins\"", "\"couplings\"", "\"mhz\"", "\"class\"", "\"nucleus\"", "\"2H\"",
+    "\"19F\"", "true", "null", "\t", "\n", ";", "=", "|", "-", "(", ")", "\xce\xb4", "Hz", "J =", "m", "dd",
+    "H", "C", "1H NMR", "13C NMR", "\xff", "\xc3", "C1", "[C@H]", "c1ccccc1", "CDCl3", "DMSO-d6", "1000",
+    "4096", "0.0001", ",,", "\\u0000", "\\", "M  END", "$$$$", "M  V30 ", "BEGIN ATOM", "END BOND",
+    "InChI=1S/", "/c1-2", "V2000", "V3000", "999"};
+
+std::string mutate(std::string s, std::mt19937_64 &rng) {
+  const int n = 1 + static_cast<int>(rng() % 6);
+  for (int k = 0; k < n; ++k) {
+    const std::size_t pos = rng() % (s.size() + 1);
+    switch (rng() % 6) {
+      case 0:
+        if (!s.empty()) s[std::min(pos, s.size() - 1)] = static_cast<char>(rng() % 256);
+        break;
+      case 1: s.insert(pos, kTokens[rng() % std::size(kTokens)]); break;
+      case 2: s.erase(std::min(pos, s.size()), 1 + rng() % 8); break;
+      case 3:
+        if (!s.empty()) s.insert(pos, s.substr(rng() % s.size(), 1 + rng() % 40));
+        break;
+      case 4: s.insert(pos, std::string(1 + rng() % 3, "0123456789"[rng() % 10])); break;
+      default: s.erase(std::min(pos, s.size()), 1 + rng() % 64); break;
+    }
+  }
+  return s;
+}
+
+// Seed texts of a measured-peak-list corpus file: the "input" of each case
+// and error entry; any other file is one seed as it is.
+void add_measured_seeds(const std::string &text, std::vector<std::string> &seeds) {
+  const auto j = nlohmann::json::parse(text, nullptr, false);
+  if (j.is_discarded() || !j.is_object()) {
+    seeds.push_back(text);
+    return;
+  }
+  for (const char *list : {"cases", "errors"})
+    if (j.contains(list))
+      for (const auto &entry : j[list])
+        if (entry.contains("input") && entry["input"].is_string()) seeds.push_back(entry["input"].get<std::string>());
+}
+
+// Seed texts of a user reference table: its header (the comment lines and
+// the column names) with three rows at a time, their ids renamed. A whole
+// table's seed would almost always come out with some bad row, which
+// refuses the table.
+void add_reference_seeds(const std::string &text, std::vector<std::string> &seeds) {
+  std::string header;
+  std::vector<std::string> rows;
+  std::size_t at = 0;
+  bool columns_seen = false;
+  while (at < text.size()) {
+    const std::size_t end = std::min(text.find('\n', at), text.size());
+    const std::string line = text.substr(at, end - at + 1);
+    if (!columns_seen && (line.empty() || line[0] == '#' || line.rfind("id\t", 0) == 0)) {
+      header += line;
+      columns_seen = line.rfind("id\t", 0) == 0;
+    } else {
+      // Renamed: a user record may not reuse a built-in record's id.
+      rows.push_back("mutated-" + line);
+    }
+    at = end + 1;
+  }
+  for (std::size_t i = 0; i < rows.size(); i += 3) {
+    std::string seed = header;
+    for (std::size_t j = i; j < std::min(rows.size(), i + 3); ++j) seed += rows[j];
+    seeds.push_back(seed);
+  }
+}
+
+// Spin-system JSON of every molecule of a structure file: the predicted 1H
+// spin system in the documented format (nmrpred/spin.hpp).
+void add_spin_seeds(const std::string &text, const nmrpred::Tables &tables, std::vector<std::string> &seeds) {
+  for (const auto &record : nmrpred::predict_all(text, nmrpred::Format::Auto, tables)) {
+    if (!record.ok()) continue;
+    const auto spins = nmrpred::spin_system(*record.prediction, record.prediction->couplings, nmrpred::Nucleus::H1);
+    nlohmann::json j;
+    j["mhz"] = 400;
+    j["spins"] = nlohmann::json::array();
+    for (const auto &s : spins.system.spins)
+      j["spins"].push_back({{"shift", s.shift_ppm},
+                            {"nucleus", nmrpred::spin_nucleus_name(s.nucleus)},
+                            {"class", s.equivalence_class},
+                            {"exchangeable", s.exchangeable}});
+    j["couplings"] = nlohmann::json::array();
+    for (const auto &c : spins.system.couplings) j["couplings"].push_back({c.i, c.j, c.j_hz});
+    seeds.push_back(j.dump());
+  }
+}
+
+// One finding per input at most: prints it and counts it.
+struct Findings {
+  long count = 0;
+  void add(const std::string &what, const std::string &input) {
+    ++count;
+    fmt::print("FINDING: {} on input {}\n", what, c_literal(input));
+  }
+};
+
+bool finite_simulation(const nmrpred::Simulation &sim) {
+  for (const auto &line : sim.lines)
+    if (!std::isfinite(line.ppm) || !std::isfinite(line.intensity)) return false;
+  return true;
+}
+
+// Runs one mutated input of `kind`; returns "" or what went wrong.
+std::string run_one(const std::string &kind, const std::string &s, const nmrpred::Tables &tables, long &ok,
+                    long &refused) {
+  if (kind == "records") {
+    for (const auto &r : nmrpred::predict_all(s, nmrpred::Format::Auto, tables)) {
+      if (r.status == nmrpred::Status::Internal) return "internal error in a record: " + r.error;
+      if (!r.ok()) {
+        ++refused;
+        continue;
+      }
+      ++ok;
+      for (const auto *list : {&r.prediction->c13, &r.prediction->h1})
+        for (const auto &shift : *list)
+          if (!std::isfinite(shift.ppm) || !std::isfinite(shift.uncertainty_ppm))
+            return fmt::format("non-finite shift at atom {}", shift.atom);
+      if (r.prediction->h1_simulation && !finite_simulation(*r.prediction->h1_simulation))
+        return "non-finite line in the 1H simulation";
+    }
+  } else if (kind == "measured") {
+    for (const auto &m : nmrpred::parse_measured(s)) {
+      if (nmrpred::format_measured(m).empty()) return "a parsed peak list formats as nothing";
+      ++ok;
+    }
+  } else if (kind == "reference") {
+    const auto t = tables.with_user_reference(s, "mutated.tsv");
+    nmrpred::PredictOptions o;
+    o.predict_couplings = false;
+    for (const auto &r : nmrpred::predict_all("CC(C)=O\nClCCCl\nc1ccccc1O\nCC(=O)OCC\n", nmrpred::Format::Smiles, *t, o)) {
+      if (!r.ok()) return "a valid query failed with user records: " + r.error;
+      for (const auto &shift : r.prediction->c13)
+        if (!std::isfinite(shift.ppm)) return "non-finite 13C shift with user records";
+    }
+    ++ok;
+  } else {
+    const auto in = nmrpred::parse_spin_system_json(s);
+    if (!finite_simulation(nmrpred::simulate(in.system, in.observe, in.options)))
+      return "non-finite line in a simulation";
+    ++ok;
+  }
+  return "";
+}
+
+}  // namespace
+
+int main(int argc, char **argv) {
+  if (argc < 5) {
+    std::fprintf(stderr, "usage: %s records|measured|reference|spin ITERATIONS SEED FILE...\n", argv[0]);
+    return 2;
+  }
+  const std::string kind = argv[1];
+  if (kind != "records" && kind != "measured" && kind != "reference" && kind != "spin") {
+    std::fprintf(stderr, "unknown kind '%s'\n", kind.c_str());
+    return 2;
+  }
+  const long iterations = std::atol(argv[2]);
+  std::mt19937_64 rng(std::strtoull(argv[3], nullptr, 10));
+  const auto tables = nmrpred::Tables::builtin();
+  std::vector<std::string> seeds;
+  try {
+    for (int i = 4; i < argc; ++i) {
+      const std::string text = slurp(argv[i]);
+      if (kind == "measured") add_measured_seeds(text, seeds);
+      else if (kind == "spin") add_spin_seeds(text, *tables, seeds);
+      else if (kind == "reference") add_reference_seeds(text, seeds);
+      else seeds.push_back(text);
+    }
+  } catch (const std::exception &e) {
+    std::fprintf(stderr, "%s\n", e.what());
+    return 2;
+  }
+  if (seeds.empty()) {
+    std::fprintf(stderr, "no seed texts\n");
+    return 2;
+  }
+  std::signal(SIGALRM, on_alarm);
+  Findings findings;
+  long ok = 0, refused = 0;
+  for (long it = 0; it < iterations; ++it) {
+    g_current = mutate(seeds[rng() % seeds.size()], rng);
+    alarm(20);
+    try {
+      const std::string what = run_one(kind, g_current, *tables, ok, refused);
+      if (!what.empty()) findings.add(what, g_current);
+    } catch (const nmrpred::InternalError &e) {
+      findings.add(fmt::format("internal error: {}", e.what()), g_current);
+    } catch (const nmrpred::Error &) {
+      ++refused;  // the documented outcome of bad input
+    } catch (const std::exception &e) {
+      findings.add(fmt::format("exception outside nmrpred::Error: {}", e.what()), g_current);
+    }
+    alarm(0);
+  }
+  fmt::print("{}: {} inputs from {} seeds, {} read, {} refused with an error, {} findings\n", kind, iterations,
+             seeds.size(), ok, refused, findings.count);
+  return findings.count == 0 ? 0 : 1;
+}
