@@ -136,7 +136,7 @@ void add_reference_seeds(const std::string &text, std::vector<std::string> &seed
     if (!columns_seen && (line.empty() || line[0] == '#' || line.rfind("id\t", 0) == 0)) {
       header += line;
       columns_seen = line.rfind("id\t", 0) == 0;
-    } else {
+    } else if (line.find_first_not_of(" \t\r\n") != std::string::npos) {
       // Renamed: a user record may not reuse a built-in record's id.
       rows.push_back("mutated-" + line);
     }
