@@ -827,23 +827,11 @@ class C13Increments final : public ShiftSource {
       state_->answered[atom] = 0;
       if (!estimate_anew(q, atom, out)) return false;
       state_->answered[atom] = 1;
-      Answer &a = state_->answers[atom];
-      a.ppm = out.ppm;
-      a.uncertainty_ppm = out.uncertainty_ppm;
-      a.source = out.source;
-      a.method_at = state_->methods.size();
-      a.method_size = out.method.size();
-      state_->methods += out.method;
+      state_->answers[atom] = KeptAnswer::keep(out, state_->methods);
       return true;
     }
     if (state_->answered[atom] == 0) return false;
-    const Answer &a = state_->answers[atom];
-    out.ppm = a.ppm;
-    out.uncertainty_ppm = a.uncertainty_ppm;
-    out.source = a.source;
-    out.sphere = 0;
-    out.method.assign(state_->methods, a.method_at, a.method_size);
-    out.references.clear();
+    state_->answers[atom].give(state_->methods, out);
     return true;
   }
 
@@ -2063,12 +2051,6 @@ class C13Increments final : public ShiftSource {
     std::vector<bool> skeleton, taken;
   };
   static constexpr std::size_t kKeptMethodRoom = 200;
-  // A kept answer (estimate()); its method text is State::methods[method_at, +method_size).
-  struct Answer {
-    double ppm = 0, uncertainty_ppm = 0;
-    ShiftSourceKind source = ShiftSourceKind::Increments;
-    std::size_t method_at = 0, method_size = 0;
-  };
   // What the source finds out about the current molecule, and the scratch
   // of its schemes: the thread's own, lent to one call after another
   // (ThreadLease), so that the buffers keep their capacity; a source per
@@ -2100,8 +2082,8 @@ class C13Increments final : public ShiftSource {
     ParentScratch parent_scratch;
     RingScratch ring_scratch;
     std::vector<std::int8_t> answered;  // per atom: -1 not asked yet, 0 no answer, 1 in answers
-    std::vector<Answer> answers;
-    std::string methods;
+    std::vector<KeptAnswer> answers;
+    std::string methods;  // the answers' method texts
   };
   mutable ThreadLease<State> state_;
 };

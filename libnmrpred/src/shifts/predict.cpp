@@ -424,10 +424,7 @@ const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking, const Refe
   // not the text. An atom's keys do not depend on which others are wanted.
   // Of the protons only those the 1H lookup is asked about are keyed.
   if (keyed_.empty()) {
-    keyed_.assign(molecule_.atom_count(), false);
-    for (std::size_t a = 0; a < molecule_.atom_count(); ++a)
-      keyed_[a] = lookup_keyed(molecule_, a) &&
-                  (both_nuclei_ || (molecule_.atom(a).atomic_number == 6) == (asking == Nucleus::C13));
+    flag_keyed(molecule_, asking, both_nuclei_, keyed_);
     keys_ = hose_keys(molecule_, classes_, keyed_, &index);
   }
   if (!keyed_.at(atom)) {
@@ -439,6 +436,12 @@ const HoseKeys &MoleculeFacts::keys(std::size_t atom, Nucleus asking, const Refe
 
 bool lookup_keyed(const Molecule &m, std::size_t atom) {
   return m.atom(atom).atomic_number == 6 || (m.is_hydrogen(atom) && proton_kind(m, atom) == ProtonKind::CarbonBound);
+}
+
+void flag_keyed(const Molecule &m, Nucleus asking, bool both_nuclei, std::vector<bool> &keyed) {
+  keyed.assign(m.atom_count(), false);
+  for (std::size_t a = 0; a < m.atom_count(); ++a)
+    keyed[a] = lookup_keyed(m, a) && (both_nuclei || (m.atom(a).atomic_number == 6) == (asking == Nucleus::C13));
 }
 
 namespace {
@@ -550,33 +553,23 @@ namespace {
 // give them: the same fields set, none touched where there is no value.
 class KeptRuleValues final : public ShiftSource {
  public:
-  struct Value {
-    double ppm = 0, uncertainty_ppm = 0;
-    ShiftSourceKind source = ShiftSourceKind::Increments;
-    std::size_t method_at = 0, method_size = 0;
-  };
   // Per heavy atom, the position of its value in `values`, or kNoValue;
   // the method texts are slices of `methods`.
   static constexpr std::uint32_t kNoValue = std::numeric_limits<std::uint32_t>::max();
-  KeptRuleValues(const std::uint32_t *value_of, std::size_t atoms, const Value *values, std::string_view methods)
+  KeptRuleValues(const std::uint32_t *value_of, std::size_t atoms, const KeptAnswer *values,
+                 std::string_view methods)
       : value_of_(value_of), atoms_(atoms), values_(values), methods_(methods) {}
 
   bool estimate(const ShiftQuery &, std::size_t atom, ShiftDraft &out) const override {
     if (atom >= atoms_ || value_of_[atom] == kNoValue) return false;
-    const Value &v = values_[value_of_[atom]];
-    out.ppm = v.ppm;
-    out.uncertainty_ppm = v.uncertainty_ppm;
-    out.source = v.source;
-    out.sphere = 0;
-    out.method.assign(methods_.substr(v.method_at, v.method_size));
-    out.references.clear();
+    values_[value_of_[atom]].give(methods_, out);
     return true;
   }
 
  private:
   const std::uint32_t *value_of_;
   std::size_t atoms_;
-  const Value *values_;
+  const KeptAnswer *values_;
   std::string_view methods_;
 };
 
@@ -685,14 +678,15 @@ std::vector<C13SetEntry> predict_c13_set(const std::vector<Molecule> &molecules,
   // for keys and their keys, and where its rule values start.
   std::vector<std::vector<bool>> keyed(kSetBlock);
   std::vector<std::vector<HoseKeys>> keys(kSetBlock);
-  std::vector<std::size_t> value_start(kSetBlock + 1);
+  std::vector<std::size_t> value_start(kSetBlock);
   // Per heavy atom of the block's molecules, one after the other, the
   // position of its rule value (KeptRuleValues::kNoValue: none), the values
   // and their method texts.
   std::vector<std::uint32_t> value_of;
-  std::vector<KeptRuleValues::Value> values;
+  std::vector<KeptAnswer> values;
   std::string methods;
   ShiftDraft draft;
+  std::vector<char> seen;  // rules stage: per class of the molecule, whether asked
   for (std::size_t first = 0; first < molecules.size(); first += kSetBlock) {
     const std::size_t last = std::min(molecules.size(), first + kSetBlock);
     for (std::size_t i = first; i < last; ++i)
@@ -703,9 +697,8 @@ std::vector<C13SetEntry> predict_c13_set(const std::vector<Molecule> &molecules,
         keys[i - first].clear();
         guarded(out[i], [&] {
           const Molecule &m = molecules[i];
-          // The atoms predict_c13_on keys (MoleculeFacts::keys): carbons.
-          flags.assign(m.atom_count(), false);
-          for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) flags[a] = m.atom(a).atomic_number == 6;
+          // The atoms predict_c13_on's first lookup keys.
+          flag_keyed(m, Nucleus::C13, false, flags);
           keys[i - first] = hose_keys(m, out[i].classes, flags, index);
         });
       }
@@ -723,7 +716,7 @@ std::vector<C13SetEntry> predict_c13_set(const std::vector<Molecule> &molecules,
         // class, in atom order, which is the order the lookups ask in.
         ShiftQuery q(m, out[i].classes, tables, options, Nucleus::C13);
         const auto rules = make_c13_increments(parsed, tables, options.solvent);
-        std::vector<char> seen(m.atom_count(), 0);
+        seen.assign(m.atom_count(), 0);
         for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) {
           if (m.atom(a).atomic_number != 6) continue;
           char &s = seen[out[i].classes.chemical[a]];
@@ -732,12 +725,10 @@ std::vector<C13SetEntry> predict_c13_set(const std::vector<Molecule> &molecules,
           draft.reset();
           if (!rules->estimate(q, a, draft)) continue;
           value_of[at + a] = static_cast<std::uint32_t>(values.size());
-          values.push_back({draft.ppm, draft.uncertainty_ppm, draft.source, methods.size(), draft.method.size()});
-          methods += draft.method;
+          values.push_back(KeptAnswer::keep(draft, methods));
         }
       });
     }
-    value_start[last - first] = value_of.size();
     for (std::size_t i = first; i < last; ++i)
       guarded(out[i], [&] {
         const Molecule &m = molecules[i];

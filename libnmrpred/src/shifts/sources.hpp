@@ -50,6 +50,31 @@ struct ShiftDraft {
   }
 };
 
+// A source's answer kept to be given again (the 13C rules keep theirs per
+// atom of the molecule, predict_c13_set a block's): the fields a rules
+// answer sets, its method text a slice of a string the keeper owns (a
+// string per kept answer cost an allocation each).
+struct KeptAnswer {
+  double ppm = 0, uncertainty_ppm = 0;
+  ShiftSourceKind source = ShiftSourceKind::Increments;
+  std::size_t method_at = 0, method_size = 0;
+  // `d` kept, its method appended to `texts`.
+  static KeptAnswer keep(const ShiftDraft &d, std::string &texts) {
+    KeptAnswer a{d.ppm, d.uncertainty_ppm, d.source, texts.size(), d.method.size()};
+    texts += d.method;
+    return a;
+  }
+  // Sets the fields of `out` as the kept answer set them.
+  void give(std::string_view texts, ShiftDraft &out) const {
+    out.ppm = ppm;
+    out.uncertainty_ppm = uncertainty_ppm;
+    out.source = source;
+    out.sphere = 0;
+    out.method.assign(texts.substr(method_at, method_size));
+    out.references.clear();
+  }
+};
+
 // Where the method texts of one prediction go (SharedText): blocks, each
 // one allocation, filled text by text; a text that does not fit the block
 // starts a new one (the old stays with the texts in it). One thread at a
@@ -212,6 +237,11 @@ const Solvent &find_solvent_ref(const Tables &tables, std::string_view name, std
 // for the HOSE keys of `atom`: carbons, and protons that are neither on O, N
 // or S nor deuterium or tritium.
 bool lookup_keyed(const Molecule &m, std::size_t atom);
+
+// Flags in `keyed` (resized to the atom count) the atoms the first keys()
+// call of MoleculeFacts keys in one pass: lookup_keyed() atoms of the asking
+// nucleus, or of both.
+void flag_keyed(const Molecule &m, Nucleus asking, bool both_nuclei, std::vector<bool> &keyed);
 
 }  // namespace nmrpred::detail
 
