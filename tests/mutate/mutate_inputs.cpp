@@ -7,8 +7,13 @@
 // rule: bad input gets an nmrpred::Error of a documented kind, never a crash,
 // a hang, an internal error or a non-finite value.
 //
+// A fifth kind changes molecule graphs rather than texts: what a C++ caller
+// may build as MoleculeData without any reader (elements, charges, bond
+// orders and hydrogens no chemistry allows), run through predict() and
+// predict_c13_set(), whose 13C shifts must equal predict()'s.
+//
 // Usage: nmrpred_mutate_inputs KIND ITERATIONS SEED FILE...
-//   KIND        records | measured | reference | spin
+//   KIND        records | measured | reference | spin | graphs
 //   ITERATIONS  mutated inputs to try
 //   SEED        the random generator's seed (runs are repeatable)
 //   FILE...     seed texts: for records, structure files (SMILES, MOL, SDF,
@@ -16,7 +21,8 @@
 //               entries hold an "input" text (tests/data/measured_corpus.json)
 //               or plain peak-list files; for reference, user reference
 //               tables (tried three rows at a time); for spin, structure files whose molecules' predicted
-//               1H spin systems are written as JSON to start from.
+//               1H spin systems are written as JSON to start from; for
+//               graphs, structure files whose molecules are the seeds.
 // Each iteration has 20 s of processor time (not wall time: on a loaded
 // machine a quick input can wait longer than that); a longer one is
 // reported as a hang. Exit status 0
@@ -40,6 +46,8 @@
 #include <fstream>
 #include <iterator>
 #include <limits>
+#include <optional>
+#include <array>
 #include <random>
 #include <string>
 #include <string_view>
@@ -53,8 +61,10 @@
 
 namespace {
 
-// The input being tried, for the time-limit handler to print.
+// The input being tried, for the time-limit handler to print, and for kind
+// graphs the graph (g_current then holds its description).
 std::string g_current;
+nmrpred::MoleculeData g_graph;
 
 // A C-string literal of `s`, so that a finding can be pasted into a test.
 std::string c_literal(std::string_view s) {
@@ -266,6 +276,90 @@ void add_spin_seeds(const std::string &text, const nmrpred::Tables &tables, std:
   }
 }
 
+// The graph of a molecule as data, to change and build again.
+nmrpred::MoleculeData data_of(const nmrpred::Molecule &m) {
+  nmrpred::MoleculeData d;
+  d.atoms = m.atoms();
+  d.bonds = m.bonds();
+  d.tetrahedral = m.tetrahedral_stereo();
+  d.double_bonds = m.double_bond_stereo();
+  return d;
+}
+
+// Molecule graphs a C++ caller may build without a reader: every molecule
+// read from a structure file.
+void add_graph_seeds(const std::string &text, std::vector<nmrpred::MoleculeData> &seeds) {
+  for (const auto &r : nmrpred::read_records(text, nmrpred::Format::Auto))
+    if (r.molecule) seeds.push_back(data_of(*r.molecule));
+}
+
+// `d` changed a few times at random the way no reader would: elements,
+// charges, radicals, isotopes, aromatic flags and bond orders no chemistry
+// allows, bonds added and removed, hydrogens on any atom. Hydrogens stay
+// behind the heavy atoms (the Molecule rule); a change that breaks a stated
+// configuration drops the configurations half of the time, so that the rest
+// still build.
+nmrpred::MoleculeData mutate_graph(nmrpred::MoleculeData d, std::mt19937_64 &rng) {
+  using nmrpred::BondOrder;
+  constexpr std::uint8_t kElements[] = {3, 5, 6, 6, 6, 7, 8, 9, 11, 14, 15, 16, 17, 26, 34, 35, 53, 80, 118};
+  constexpr BondOrder kOrders[] = {BondOrder::Single, BondOrder::Double, BondOrder::Triple, BondOrder::Aromatic};
+  std::size_t heavy = 0;
+  while (heavy < d.atoms.size() && d.atoms[heavy].atomic_number != 1) ++heavy;
+  if (heavy == 0) return d;
+  const int n = 1 + static_cast<int>(rng() % 4);
+  for (int k = 0; k < n; ++k) {
+    auto &atom = d.atoms[rng() % heavy];
+    switch (rng() % 9) {
+      case 0: atom.atomic_number = kElements[rng() % std::size(kElements)]; break;
+      case 1: atom.formal_charge = static_cast<std::int8_t>(rng() % 3 == 0 ? (rng() % 2 ? 127 : -128) : static_cast<int>(rng() % 9) - 4); break;
+      case 2: atom.radical_electrons = static_cast<std::uint8_t>(rng() % 3 == 0 ? 255 : rng() % 4); break;
+      case 3: atom.aromatic = !atom.aromatic; break;
+      case 4: atom.isotope = static_cast<std::uint16_t>(std::array<int, 6>{2, 3, 13, 15, 1000, 65535}[rng() % 6]); break;
+      case 5:
+        if (!d.bonds.empty()) d.bonds[rng() % d.bonds.size()].order = kOrders[rng() % std::size(kOrders)];
+        break;
+      case 6: {
+        // A bond between two atoms not bonded yet (rings closed anywhere,
+        // hydrogens with two partners).
+        const auto a = static_cast<std::uint32_t>(rng() % d.atoms.size()), b = static_cast<std::uint32_t>(rng() % d.atoms.size());
+        bool bonded = a == b;
+        for (const auto &bd : d.bonds) bonded |= (bd.begin == std::min(a, b) && bd.end == std::max(a, b));
+        if (!bonded) d.bonds.push_back({std::min(a, b), std::max(a, b), kOrders[rng() % std::size(kOrders)]});
+        break;
+      }
+      case 7:
+        if (!d.bonds.empty()) d.bonds.erase(d.bonds.begin() + static_cast<std::ptrdiff_t>(rng() % d.bonds.size()));
+        if (rng() % 2) d.tetrahedral.clear(), d.double_bonds.clear();
+        break;
+      default: {
+        // Hydrogens on a heavy atom, up to six at once.
+        const auto on = static_cast<std::uint32_t>(&atom - d.atoms.data());
+        for (std::size_t c = 1 + rng() % 6; c > 0; --c) {
+          d.atoms.push_back(nmrpred::Atom{1});
+          d.bonds.push_back({on, static_cast<std::uint32_t>(d.atoms.size() - 1), BondOrder::Single});
+        }
+        if (rng() % 2) d.tetrahedral.clear();
+        break;
+      }
+    }
+  }
+  return d;
+}
+
+// A graph as text for a finding: per atom "Z[+charge][.radicals][^isotope][a]",
+// per bond "begin-end:order", and the stereo counts.
+std::string describe(const nmrpred::MoleculeData &d) {
+  std::string out = "atoms";
+  for (const auto &a : d.atoms)
+    out += fmt::format(" {}{}{}{}{}", a.atomic_number, a.formal_charge ? fmt::format("{:+}", a.formal_charge) : "",
+                       a.radical_electrons ? fmt::format(".{}", a.radical_electrons) : "",
+                       a.isotope ? fmt::format("^{}", a.isotope) : "", a.aromatic ? "a" : "");
+  out += "; bonds";
+  for (const auto &b : d.bonds) out += fmt::format(" {}-{}:{}", b.begin, b.end, static_cast<int>(b.order));
+  return out + fmt::format("; {} tetrahedral, {} double-bond configurations", d.tetrahedral.size(),
+                           d.double_bonds.size());
+}
+
 // One finding per input at most: prints it and counts it.
 struct Findings {
   long count = 0;
@@ -299,6 +393,31 @@ std::string run_one(const std::string &kind, const std::string &s, const nmrpred
       if (r.prediction->h1_simulation && !finite_simulation(*r.prediction->h1_simulation))
         return "non-finite line in the 1H simulation";
     }
+  } else if (kind == "graphs") {
+    // `s` is unused: the graph is g_graph (see main).
+    std::optional<nmrpred::Molecule> m;
+    try {
+      m.emplace(g_graph);
+    } catch (const nmrpred::InputError &) {
+      ++refused;  // a graph the Molecule rules refuse
+      return "";
+    }
+    const auto p = nmrpred::predict(*m, tables);
+    for (const auto *list : {&p.c13, &p.h1})
+      for (const auto &shift : *list)
+        if (!std::isfinite(shift.ppm) || !std::isfinite(shift.uncertainty_ppm))
+          return fmt::format("non-finite shift at atom {}", shift.atom);
+    if (p.h1_simulation && !finite_simulation(*p.h1_simulation)) return "non-finite line in the 1H simulation";
+    // The set call gives what the single calls give, here too.
+    const auto set = nmrpred::predict_c13_set({*m, *m}, tables);
+    for (const auto &entry : set) {
+      if (entry.error != nmrpred::Status::Ok) return "predict_c13_set failed where predict did not: " + entry.error_message;
+      if (entry.shifts.size() != p.c13.size()) return "predict_c13_set and predict differ in the number of 13C shifts";
+      for (std::size_t i = 0; i < p.c13.size(); ++i)
+        if (entry.shifts[i].ppm != p.c13[i].ppm || entry.shifts[i].atom != p.c13[i].atom)
+          return fmt::format("predict_c13_set and predict differ at atom {}", p.c13[i].atom);
+    }
+    ++ok;
   } else if (kind == "measured") {
     for (const auto &m : nmrpred::parse_measured(s)) {
       if (nmrpred::format_measured(m).empty()) return "a parsed peak list formats as nothing";
@@ -327,11 +446,11 @@ std::string run_one(const std::string &kind, const std::string &s, const nmrpred
 
 int main(int argc, char **argv) {
   if (argc < 5) {
-    std::fprintf(stderr, "usage: %s records|measured|reference|spin ITERATIONS SEED FILE...\n", argv[0]);
+    std::fprintf(stderr, "usage: %s records|measured|reference|spin|graphs ITERATIONS SEED FILE...\n", argv[0]);
     return 2;
   }
   const std::string kind = argv[1];
-  if (kind != "records" && kind != "measured" && kind != "reference" && kind != "spin") {
+  if (kind != "records" && kind != "measured" && kind != "reference" && kind != "spin" && kind != "graphs") {
     std::fprintf(stderr, "unknown kind '%s'\n", kind.c_str());
     return 2;
   }
@@ -339,19 +458,21 @@ int main(int argc, char **argv) {
   std::mt19937_64 rng(std::strtoull(argv[3], nullptr, 10));
   const auto tables = nmrpred::Tables::builtin();
   std::vector<std::string> seeds;
+  std::vector<nmrpred::MoleculeData> graph_seeds;
   try {
     for (int i = 4; i < argc; ++i) {
       const std::string text = slurp(argv[i]);
       if (kind == "measured") add_measured_seeds(text, seeds);
       else if (kind == "spin") add_spin_seeds(text, *tables, seeds);
       else if (kind == "reference") add_reference_seeds(text, seeds);
+      else if (kind == "graphs") add_graph_seeds(text, graph_seeds);
       else seeds.push_back(text);
     }
   } catch (const std::exception &e) {
     std::fprintf(stderr, "%s\n", e.what());
     return 2;
   }
-  if (seeds.empty()) {
+  if (seeds.empty() && graph_seeds.empty()) {
     std::fprintf(stderr, "no seed texts\n");
     return 2;
   }
@@ -359,10 +480,15 @@ int main(int argc, char **argv) {
   Findings findings;
   long ok = 0, refused = 0;
   for (long it = 0; it < iterations; ++it) {
-    const std::string &seed = seeds[rng() % seeds.size()];
-    // Spin systems are JSON: half the inputs are changed as JSON (byte
-    // changes alone left 34 of 2,000 readable).
-    g_current = kind == "spin" && rng() % 2 == 0 ? mutate_json(seed, rng) : mutate(seed, rng);
+    if (kind == "graphs") {
+      g_graph = mutate_graph(graph_seeds[rng() % graph_seeds.size()], rng);
+      g_current = describe(g_graph);
+    } else {
+      const std::string &seed = seeds[rng() % seeds.size()];
+      // Spin systems are JSON: half the inputs are changed as JSON (byte
+      // changes alone left 34 of 2,000 readable).
+      g_current = kind == "spin" && rng() % 2 == 0 ? mutate_json(seed, rng) : mutate(seed, rng);
+    }
     limit_cpu(20);
     try {
       const std::string what = run_one(kind, g_current, *tables, ok, refused);
@@ -377,6 +503,6 @@ int main(int argc, char **argv) {
     limit_cpu(0);
   }
   fmt::print("{}: {} inputs from {} seeds, {} read, {} refused with an error, {} findings\n", kind, iterations,
-             seeds.size(), ok, refused, findings.count);
+             kind == "graphs" ? graph_seeds.size() : seeds.size(), ok, refused, findings.count);
   return findings.count == 0 ? 0 : 1;
 }
