@@ -38,6 +38,7 @@
 #include <nmrpred/spin.hpp>
 #include <nmrpred/tables.hpp>
 
+#include <array>
 #include <csignal>
 #include <cmath>
 #include <cstdio>
@@ -47,7 +48,6 @@
 #include <iterator>
 #include <limits>
 #include <optional>
-#include <array>
 #include <random>
 #include <string>
 #include <string_view>
@@ -199,11 +199,13 @@ std::string mutate_json(const std::string &text, std::mt19937_64 &rng) {
         break;
       case 4:
         if (j.is_object()) {
-          const std::int64_t spins = j.contains("spins") && j["spins"].is_array() ? static_cast<std::int64_t>(j["spins"].size()) : 4;
+          const std::int64_t spins =
+              j.contains("spins") && j["spins"].is_array() ? static_cast<std::int64_t>(j["spins"].size()) : 4;
           auto index = [&] { return static_cast<std::int64_t>(rng() % static_cast<std::uint64_t>(spins + 2)) - 1; };
           auto &couplings = j["couplings"];
           if (!couplings.is_array()) couplings = nlohmann::json::array();
-          couplings.push_back({index(), index(), rng() % 3 == 0 ? odd_value(rng) : nlohmann::json(static_cast<double>(rng() % 400) / 10.0 - 20.0)});
+          const double hz = static_cast<double>(rng() % 400) / 10.0 - 20.0;
+          couplings.push_back({index(), index(), rng() % 3 == 0 ? odd_value(rng) : nlohmann::json(hz)});
         }
         break;
       default:
@@ -311,17 +313,23 @@ nmrpred::MoleculeData mutate_graph(nmrpred::MoleculeData d, std::mt19937_64 &rng
     auto &atom = d.atoms[rng() % heavy];
     switch (rng() % 9) {
       case 0: atom.atomic_number = kElements[rng() % std::size(kElements)]; break;
-      case 1: atom.formal_charge = static_cast<std::int8_t>(rng() % 3 == 0 ? (rng() % 2 ? 127 : -128) : static_cast<int>(rng() % 9) - 4); break;
+      case 1:
+        atom.formal_charge =
+            static_cast<std::int8_t>(rng() % 3 == 0 ? (rng() % 2 ? 127 : -128) : static_cast<int>(rng() % 9) - 4);
+        break;
       case 2: atom.radical_electrons = static_cast<std::uint8_t>(rng() % 3 == 0 ? 255 : rng() % 4); break;
       case 3: atom.aromatic = !atom.aromatic; break;
-      case 4: atom.isotope = static_cast<std::uint16_t>(std::array<int, 6>{2, 3, 13, 15, 1000, 65535}[rng() % 6]); break;
+      case 4:
+        atom.isotope = static_cast<std::uint16_t>(std::array<int, 6>{2, 3, 13, 15, 1000, 65535}[rng() % 6]);
+        break;
       case 5:
         if (!d.bonds.empty()) d.bonds[rng() % d.bonds.size()].order = kOrders[rng() % std::size(kOrders)];
         break;
       case 6: {
         // A bond between two atoms not bonded yet (rings closed anywhere,
         // hydrogens with two partners).
-        const auto a = static_cast<std::uint32_t>(rng() % d.atoms.size()), b = static_cast<std::uint32_t>(rng() % d.atoms.size());
+        const auto a = static_cast<std::uint32_t>(rng() % d.atoms.size());
+        const auto b = static_cast<std::uint32_t>(rng() % d.atoms.size());
         bool bonded = a == b;
         for (const auto &bd : d.bonds) bonded |= (bd.begin == std::min(a, b) && bd.end == std::max(a, b));
         if (!bonded) d.bonds.push_back({std::min(a, b), std::max(a, b), kOrders[rng() % std::size(kOrders)]});
@@ -411,10 +419,11 @@ std::string run_one(const std::string &kind, const std::string &s, const nmrpred
     // The set call gives what the single calls give, here too.
     const auto set = nmrpred::predict_c13_set({*m, *m}, tables);
     for (const auto &entry : set) {
-      if (entry.error != nmrpred::Status::Ok) return "predict_c13_set failed where predict did not: " + entry.error_message;
+      if (entry.error != nmrpred::Status::Ok)
+        return "predict_c13_set failed where predict did not: " + entry.error_message;
       if (entry.shifts.size() != p.c13.size()) return "predict_c13_set and predict differ in the number of 13C shifts";
       for (std::size_t i = 0; i < p.c13.size(); ++i)
-        if (entry.shifts[i].ppm != p.c13[i].ppm || entry.shifts[i].atom != p.c13[i].atom)
+        if (!(entry.shifts[i] == p.c13[i]))
           return fmt::format("predict_c13_set and predict differ at atom {}", p.c13[i].atom);
     }
     ++ok;
