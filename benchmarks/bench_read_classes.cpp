@@ -222,6 +222,16 @@ int main(int argc, char **argv) {
                  if (r.prediction && r.prediction->h1_simulation) n += r.prediction->h1_simulation->lines.size();
                return n;
              }, sink));
+      // Their JSON text (what `nmrpred predict` prints), from records predicted
+      // once: the output, not the prediction.
+      {
+        const auto full = nmrpred::predict_all(text, nmrpred::Format::Smiles, *tables);
+        report("  JSON text of those records (to_json)", full.size(), time_it(repeats, [&] {
+                 std::size_t n = 0;
+                 for (const auto &r : full) n += nmrpred::to_json(r).size();
+                 return n;
+               }, sink));
+      }
       // The line lists are made once; this times only sampling them (with the
       // residual solvent and water signals) on 65536 points.
       std::vector<nmrpred::Simulation> sims;

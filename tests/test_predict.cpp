@@ -40,6 +40,7 @@
 #include <filesystem>
 #include <fstream>
 #include <map>
+#include <functional>
 #include <memory>
 #include <set>
 #include <string>
@@ -423,6 +424,69 @@ TEST_SUITE("predict") {
       CHECK(c13[k].at("shift_uncertainty").get<double>() == g.uncertainty_ppm);
       CHECK(c13[k].at("shift_method") == g.method);
       if (k > 0) CHECK(c13[k - 1].at("shift").get<double>() >= c13[k].at("shift").get<double>());
+    }
+  }
+
+  TEST_CASE("the JSON text is the compact form the nlohmann serializer writes for it") {
+    // The writer writes text straight (no document); nlohmann (Debian's
+    // nlohmann-json3-dev, a general-purpose library) parses it and writes its
+    // own compact form, which must come out byte for byte the same: valid
+    // JSON, the same separators, escapes and shortest round-trip doubles,
+    // invalid UTF-8 of a title replaced.
+    const std::string titles[] = {"plain", "quote \" and back\\slash", "tab\there", "caf\xe9 Latin-1",
+                                  "\xff\xfe broken UTF-8", "caf\xc3\xa9 UTF-8"};
+    const char *smiles[] = {"CC(=O)OCC", "c1ccccc1O", "C[C@H](N)C(=O)O", "ClC=CCl", "CC", "C1CC"};
+    std::string text;
+    for (std::size_t i = 0; i < std::size(smiles); ++i) text += std::string(smiles[i]) + " " + titles[i] + "\n";
+    const auto records = nmrpred::predict_all(text, nmrpred::Format::Smiles, builtin_tables());
+    REQUIRE(records.size() == std::size(smiles));
+    CHECK_FALSE(records[5].ok());  // the unclosed ring: an error record
+    using Json = nlohmann::ordered_json;
+    auto canonical = [](const std::string &t) {
+      return Json::parse(t).dump(-1, ' ', false, Json::error_handler_t::replace);
+    };
+    // Values held as doubles stay JSON floats ("171.0", not "171"), which the
+    // canonical form alone would not show: a parsed "171" dumps as "171".
+    const std::set<std::string> float_keys = {"shift",    "shift_uncertainty", "ppm",        "ppm_low",
+                                              "ppm_high", "hz",                "intensity",  "integral",
+                                              "j_hz",     "uncertainty_hz",    "water_1h",   "residual_1h",
+                                              "residual_13c", "field_mhz",     "line_width_hz"};
+    std::size_t floats = 0;
+    std::function<void(const Json &, bool)> check_floats = [&](const Json &v, bool under_float_key) {
+      if (v.is_number()) {
+        if (under_float_key) {
+          CHECK(v.is_number_float());
+          ++floats;
+        }
+        return;
+      }
+      if (v.is_array())
+        for (const auto &x : v) check_floats(x, under_float_key);
+      if (v.is_object())
+        for (const auto &[k, x] : v.items()) check_floats(x, float_keys.count(k) != 0);
+    };
+    std::string joined = "[";
+    for (const auto &r : records) {
+      INFO("record ", r.record);
+      const std::string one = nmrpred::to_json(r);
+      CHECK(canonical(one) == one);
+      check_floats(Json::parse(one), false);
+      nmrpred::JsonOptions indented;
+      indented.indent = 2;
+      CHECK(nmrpred::to_json(r, indented) == Json::parse(one).dump(2));
+      joined += (r.record ? "," : "") + one;
+    }
+    CHECK(nmrpred::to_json(records) == joined + "]");
+    CHECK(floats > 500);
+    CHECK(Json::parse(nmrpred::to_json(records[1])).at("title") == "quote \" and back\\slash");
+    CHECK(Json::parse(nmrpred::to_json(records[4])).at("title") == "\xef\xbf\xbd\xef\xbf\xbd broken UTF-8");
+    for (const auto &solvent : nmrpred::solvents(builtin_tables())) {
+      const std::string one = nmrpred::to_json(solvent);
+      CHECK(canonical(one) == one);
+    }
+    for (const auto &compound : builtin_tables().reference()) {
+      const std::string one = nmrpred::to_json(compound);
+      CHECK(canonical(one) == one);
     }
   }
 

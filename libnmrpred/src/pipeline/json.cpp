@@ -1,11 +1,27 @@
 // JSON output shared by the command-line program, the C ABI and Python.
 //
-// Each top-level key of a record is built by its own section function, so a
-// later stage adds one function and one line in record_value() without
-// touching the others. ordered_json keeps keys in the
-// order they are written, which keeps the output readable and diff-friendly.
+// Each top-level key of a record is written by its own section function, so
+// a later stage adds one function and one line in write_record() without
+// touching the others. Keys come out in the order they are written, which
+// keeps the output readable and diff-friendly.
+//
+// The text is written straight into one string rather than built as a JSON
+// document first: over the NCI records the document's nodes (an allocation
+// per key and value) and its serialisation cost about twice the prediction
+// itself. Numbers and non-ASCII strings are still formatted by nlohmann's
+// own routines, so the bytes are those its serialiser writes (compact,
+// shortest round-trip doubles, null for non-finite ones, invalid UTF-8
+// replaced); indented output is that text parsed and dumped again.
 
 #include <nmrpred/predict.hpp>
+
+#include <array>
+#include <charconv>
+#include <cmath>
+#include <string>
+#include <string_view>
+#include <type_traits>
+#include <vector>
 
 #include <nlohmann/json.hpp>
 
@@ -15,7 +31,126 @@ namespace {
 
 using Json = nlohmann::ordered_json;
 
-Json nullable(std::int64_t v) { return v < 0 ? Json(nullptr) : Json(v); }
+// Compact JSON text written value by value. A value written after another
+// in the same array or object gets its comma; keys are followed by their
+// value. The caller keeps the nesting right.
+class Writer {
+ public:
+  std::string take() { return std::move(out_); }
+
+  Writer &begin_object() { return open('{'); }
+  Writer &end_object() { return close('}'); }
+  Writer &begin_array() { return open('['); }
+  Writer &end_array() { return close(']'); }
+  Writer &key(std::string_view k) {
+    separate();
+    put_string(k);
+    out_ += ':';
+    after_value_ = false;
+    return *this;
+  }
+
+  Writer &value(std::nullptr_t) { return raw("null"); }
+  Writer &value(bool b) { return raw(b ? "true" : "false"); }
+  Writer &value(double x) {
+    separate();
+    if (!std::isfinite(x)) {
+      out_ += "null";
+    } else {
+      // nlohmann's serialiser writes doubles with this routine.
+      std::array<char, 64> buf;
+      const char *end = nlohmann::detail::to_chars(buf.data(), buf.data() + buf.size(), x);
+      out_.append(buf.data(), static_cast<std::size_t>(end - buf.data()));
+    }
+    after_value_ = true;
+    return *this;
+  }
+  template <class T, std::enable_if_t<std::is_integral_v<T> && !std::is_same_v<T, bool>, int> = 0>
+  Writer &value(T v) {
+    separate();
+    std::array<char, 24> buf;
+    const auto r = std::to_chars(buf.data(), buf.data() + buf.size(), v);
+    out_.append(buf.data(), static_cast<std::size_t>(r.ptr - buf.data()));
+    after_value_ = true;
+    return *this;
+  }
+  Writer &value(std::string_view s) {
+    separate();
+    put_string(s);
+    after_value_ = true;
+    return *this;
+  }
+  Writer &value(const std::string &s) { return value(std::string_view(s)); }
+  Writer &value(const char *s) { return value(std::string_view(s)); }
+  template <class T>
+  Writer &value(const std::vector<T> &list) {
+    begin_array();
+    for (const auto &x : list) value(x);
+    return end_array();
+  }
+  Writer &value(const ReferenceIds &ids) {
+    begin_array();
+    for (const std::string_view id : ids) value(id);
+    return end_array();
+  }
+  // A key and its value.
+  template <class T>
+  Writer &field(std::string_view k, const T &v) {
+    key(k);
+    return value(v);
+  }
+
+ private:
+  Writer &open(char c) {
+    separate();
+    out_ += c;
+    after_value_ = false;
+    return *this;
+  }
+  Writer &close(char c) {
+    out_ += c;
+    after_value_ = true;
+    return *this;
+  }
+  Writer &raw(std::string_view text) {
+    separate();
+    out_ += text;
+    after_value_ = true;
+    return *this;
+  }
+  void separate() {
+    if (after_value_) out_ += ',';
+  }
+  // Printable ASCII is copied with '"' and '\\' escaped; control characters
+  // and anything beyond ASCII take nlohmann's escaping, so the bytes match
+  // its serialiser's. Titles come straight from files and may hold Latin-1
+  // bytes: invalid UTF-8 is replaced, which beats failing the whole record
+  // over a name.
+  void put_string(std::string_view s) {
+    for (const char c : s)
+      if (static_cast<unsigned char>(c) < 0x20 || static_cast<unsigned char>(c) >= 0x7f) {
+        out_ += Json(s).dump(-1, ' ', false, Json::error_handler_t::replace);
+        return;
+      }
+    out_ += '"';
+    for (const char c : s) {
+      if (c == '"' || c == '\\') out_ += '\\';
+      out_ += c;
+    }
+    out_ += '"';
+  }
+
+  std::string out_;
+  bool after_value_ = false;
+};
+
+// -1 as null.
+void nullable(Writer &w, std::int64_t v) {
+  if (v < 0)
+    w.value(nullptr);
+  else
+    w.value(v);
+}
 
 /// Heavy atom a hydrogen is bonded to, or -1. A hydrogen bonded only to another
 /// hydrogen (H2) has no heavy atom.
@@ -42,249 +177,273 @@ bool nucleus_of(const Atom &a, Nucleus &out) {
 /// Label of a nucleus in "signals" (isotope notation, as spectra are labelled).
 const char *nucleus_label(Nucleus n) { return n == Nucleus::C13 ? "13C" : "1H"; }
 
-void add_shift(Json &atom, const Shift &s) {
-  atom["shift"] = s.ppm;
-  atom["shift_uncertainty"] = s.uncertainty_ppm;
-  atom["shift_method"] = s.method.str();
-  atom["shift_references"] = s.references.to_vector();
+void write_shift(Writer &w, const Shift &s) {
+  w.field("shift", s.ppm);
+  w.field("shift_uncertainty", s.uncertainty_ppm);
+  w.field("shift_method", s.method.view());
+  w.field("shift_references", s.references);
   if (s.nucleus == Nucleus::H1) {
-    atom["exchangeable"] = s.exchangeable;
-    atom["observed"] = s.observed;
+    w.field("exchangeable", s.exchangeable);
+    w.field("observed", s.observed);
   }
 }
 
-Json atoms_section(const Prediction &p) {
+void write_atoms(Writer &w, const Prediction &p) {
   const Molecule &m = p.molecule;
-  Json atoms = Json::array();
+  w.begin_array();
   for (std::size_t i = 0; i < m.atom_count(); ++i) {
     const Atom &a = m.atom(i);
     Nucleus nucleus{};
     const Shift *shift = nucleus_of(a, nucleus) ? p.shift(i, nucleus) : nullptr;
-    Json atom;
-    atom["index"] = i;
-    atom["element"] = Molecule::element_symbol(a.atomic_number);
-    atom["isotope"] = a.isotope == 0 ? Json(nullptr) : Json(a.isotope);
-    atom["charge"] = static_cast<int>(a.formal_charge);
-    atom["attached_to"] = nullable(attached_heavy_atom(m, i));
-    atom["class"] = p.classes.chemical.at(i);
-    atom["topological_class"] = p.classes.topological.at(i);
-    atom["hose"] = p.hose.at(i);
-    if (shift) add_shift(atom, *shift);
-    atoms.push_back(std::move(atom));
+    w.begin_object();
+    w.field("index", i);
+    w.field("element", Molecule::element_symbol(a.atomic_number));
+    w.key("isotope");
+    if (a.isotope == 0)
+      w.value(nullptr);
+    else
+      w.value(a.isotope);
+    w.field("charge", static_cast<int>(a.formal_charge));
+    w.key("attached_to");
+    nullable(w, attached_heavy_atom(m, i));
+    w.field("class", p.classes.chemical.at(i));
+    w.field("topological_class", p.classes.topological.at(i));
+    w.field("hose", p.hose.at(i));
+    if (shift) write_shift(w, *shift);
+    w.end_object();
   }
-  return atoms;
+  w.end_array();
 }
 
-Json line_value(const SpectralLine &l) {
-  Json j;
-  j["ppm"] = l.ppm;
-  j["hz"] = l.hz;
-  j["intensity"] = l.intensity;
-  return j;
+void write_line(Writer &w, const SpectralLine &l) {
+  w.begin_object().field("ppm", l.ppm).field("hz", l.hz).field("intensity", l.intensity).end_object();
 }
 
-Json lines_value(const std::vector<SpectralLine> &lines) {
-  Json out = Json::array();
-  for (const auto &l : lines) out.push_back(line_value(l));
-  return out;
+void write_lines(Writer &w, const std::vector<SpectralLine> &lines) {
+  w.begin_array();
+  for (const auto &l : lines) write_line(w, l);
+  w.end_array();
 }
 
 /// Multiplet keys exist only when couplings were predicted, so that their
 /// absence means "not computed" and an empty 13C multiplicity means "not split".
-Json signal_value(const Signal &g, bool coupled) {
-  Json j;
-  j["shift"] = g.ppm;
-  j["atoms"] = g.atoms;
-  if (g.nucleus == Nucleus::C13) {
-    j["attached_h"] = g.attached_h;
-  } else {
-    j["count"] = g.count;
-  }
-  j["shift_uncertainty"] = g.uncertainty_ppm;
+void write_signal(Writer &w, const Signal &g, bool coupled) {
+  w.begin_object();
+  w.field("shift", g.ppm);
+  w.field("atoms", g.atoms);
+  if (g.nucleus == Nucleus::C13)
+    w.field("attached_h", g.attached_h);
+  else
+    w.field("count", g.count);
+  w.field("shift_uncertainty", g.uncertainty_ppm);
   if (g.nucleus == Nucleus::H1) {
-    j["exchangeable"] = g.exchangeable;
-    j["observed"] = g.observed;
+    w.field("exchangeable", g.exchangeable);
+    w.field("observed", g.observed);
   }
-  j["shift_method"] = g.method.str();
+  w.field("shift_method", g.method.view());
   if (coupled) {
-    j["multiplicity"] = g.multiplicity;
-    j["j_hz"] = g.j_hz;
-    if (g.nucleus == Nucleus::H1) j["lines"] = lines_value(g.lines);
+    w.field("multiplicity", g.multiplicity);
+    w.field("j_hz", g.j_hz);
+    if (g.nucleus == Nucleus::H1) {
+      w.key("lines");
+      write_lines(w, g.lines);
+    }
   }
-  return j;
+  w.end_object();
 }
 
 bool couplings_predicted(const Prediction &p) { return p.options.predict_shifts && p.options.predict_couplings; }
 
-Json multiplet_value(const Multiplet &m) {
-  Json j;
-  j["ppm"] = m.ppm;
-  j["ppm_low"] = m.ppm_low;
-  j["ppm_high"] = m.ppm_high;
-  j["label"] = m.label;
-  j["j_hz"] = m.j_hz;
-  j["integral"] = m.integral;
-  j["atoms"] = m.atoms;
-  j["lines"] = lines_value(m.lines);
-  return j;
+void write_multiplet(Writer &w, const Multiplet &m) {
+  w.begin_object();
+  w.field("ppm", m.ppm);
+  w.field("ppm_low", m.ppm_low);
+  w.field("ppm_high", m.ppm_high);
+  w.field("label", m.label);
+  w.field("j_hz", m.j_hz);
+  w.field("integral", m.integral);
+  w.field("atoms", m.atoms);
+  w.key("lines");
+  write_lines(w, m.lines);
+  w.end_object();
 }
 
-Json simulation_value(const Simulation &sim) {
-  Json j;
-  j["observe"] = spin_nucleus_name(sim.observed);
-  j["mhz"] = sim.field_mhz;
-  j["observe_mhz"] = sim.observed_mhz;
-  j["lines"] = lines_value(sim.lines);
-  Json multiplets = Json::array();
-  for (const auto &m : sim.multiplets) multiplets.push_back(multiplet_value(m));
-  j["multiplets"] = std::move(multiplets);
-  j["warnings"] = sim.warnings;
-  return j;
+void write_simulation(Writer &w, const Simulation &sim) {
+  w.begin_object();
+  w.field("observe", spin_nucleus_name(sim.observed));
+  w.field("mhz", sim.field_mhz);
+  w.field("observe_mhz", sim.observed_mhz);
+  w.key("lines");
+  write_lines(w, sim.lines);
+  w.key("multiplets").begin_array();
+  for (const auto &m : sim.multiplets) write_multiplet(w, m);
+  w.end_array();
+  w.field("warnings", sim.warnings);
+  w.end_object();
 }
 
-Json signal_list(const std::vector<Signal> &signals, bool coupled) {
-  Json list = Json::array();
-  for (const auto &g : signals) list.push_back(signal_value(g, coupled));
-  return list;
+void write_signal_list(Writer &w, const std::vector<Signal> &signals, bool coupled) {
+  w.begin_array();
+  for (const auto &g : signals) write_signal(w, g, coupled);
+  w.end_array();
 }
 
-Json signals_section(const Prediction &p) {
+void write_signals(Writer &w, const Prediction &p) {
   // A nucleus appears only when it was predicted, so an empty list means "no
   // atoms of that nucleus", never "not computed".
-  Json signals = Json::object();
-  if (!p.options.predict_shifts) return signals;
-  const bool coupled = couplings_predicted(p);
-  signals[nucleus_label(Nucleus::C13)] = signal_list(p.c13_signals, coupled);
-  if (p.options.predict_h1) {
-    signals[nucleus_label(Nucleus::H1)] = signal_list(p.h1_signals, coupled);
-    signals["1H_exchanged"] = signal_list(p.h1_exchanged_signals, coupled);
+  w.begin_object();
+  if (p.options.predict_shifts) {
+    const bool coupled = couplings_predicted(p);
+    w.key(nucleus_label(Nucleus::C13));
+    write_signal_list(w, p.c13_signals, coupled);
+    if (p.options.predict_h1) {
+      w.key(nucleus_label(Nucleus::H1));
+      write_signal_list(w, p.h1_signals, coupled);
+      w.key("1H_exchanged");
+      write_signal_list(w, p.h1_exchanged_signals, coupled);
+    }
   }
-  return signals;
+  w.end_object();
 }
 
-std::vector<double> shifts_of(const std::vector<SolventSignal> &list) {
-  std::vector<double> out;
-  out.reserve(list.size());
-  for (const auto &s : list) out.push_back(s.shift_ppm);
-  return out;
+void write_shifts_of(Writer &w, const std::vector<SolventSignal> &list) {
+  w.begin_array();
+  for (const auto &s : list) w.value(s.shift_ppm);
+  w.end_array();
 }
 
-/// The keys a record and the solvent table share.
-Json solvent_summary(const Solvent &s) {
-  Json j;
-  j["id"] = s.id;
-  j["name"] = s.name;
-  j["residual_1h"] = shifts_of(s.h1_residual);
-  j["residual_13c"] = shifts_of(s.c13);
-  j["water_1h"] = s.water_h1_ppm;
-  return j;
+/// The keys a record and the solvent table share, without the braces.
+void write_solvent_summary(Writer &w, const Solvent &s) {
+  w.field("id", s.id);
+  w.field("name", s.name);
+  w.key("residual_1h");
+  write_shifts_of(w, s.h1_residual);
+  w.key("residual_13c");
+  write_shifts_of(w, s.c13);
+  w.field("water_1h", s.water_h1_ppm);
 }
 
-Json solvent_detail(const std::vector<SolventSignal> &list) {
-  Json out = Json::array();
+void write_solvent_detail(Writer &w, const std::vector<SolventSignal> &list) {
+  w.begin_array();
   for (const auto &s : list) {
-    Json j;
-    j["shift"] = s.shift_ppm;
-    j["multiplicity"] = s.multiplicity;
-    j["coupling_hz"] = s.coupling_hz > 0 ? Json(s.coupling_hz) : Json(nullptr);
-    out.push_back(std::move(j));
+    w.begin_object();
+    w.field("shift", s.shift_ppm);
+    w.field("multiplicity", s.multiplicity);
+    w.key("coupling_hz");
+    if (s.coupling_hz > 0)
+      w.value(s.coupling_hz);
+    else
+      w.value(nullptr);
+    w.end_object();
   }
-  return out;
+  w.end_array();
 }
 
-Json solvent_value(const Solvent &s) {
-  Json j = solvent_summary(s);
-  j["aliases"] = s.aliases;
-  j["exchanges_labile_protons"] = s.exchanges_labile_protons;
-  j["source"] = s.source;
-  j["residual_1h_detail"] = solvent_detail(s.h1_residual);
-  j["residual_13c_detail"] = solvent_detail(s.c13);
-  return j;
+void write_solvent(Writer &w, const Solvent &s) {
+  w.begin_object();
+  write_solvent_summary(w, s);
+  w.field("aliases", s.aliases);
+  w.field("exchanges_labile_protons", s.exchanges_labile_protons);
+  w.field("source", s.source);
+  w.key("residual_1h_detail");
+  write_solvent_detail(w, s.h1_residual);
+  w.key("residual_13c_detail");
+  write_solvent_detail(w, s.c13);
+  w.end_object();
 }
 
-Json couplings_section(const Prediction &p) {
-  Json out = Json::array();
+void write_couplings(Writer &w, const Prediction &p) {
+  w.begin_array();
   for (const auto &c : p.couplings) {
-    Json j;
-    j["atoms"] = {c.a, c.b};
-    j["bonds"] = c.bonds;
-    j["j_hz"] = c.j_hz;
-    j["uncertainty_hz"] = c.uncertainty_hz;
-    j["rule"] = c.rule;
-    j["source"] = c.source;
-    out.push_back(std::move(j));
+    w.begin_object();
+    w.key("atoms").begin_array().value(c.a).value(c.b).end_array();
+    w.field("bonds", c.bonds);
+    w.field("j_hz", c.j_hz);
+    w.field("uncertainty_hz", c.uncertainty_hz);
+    w.field("rule", c.rule);
+    w.field("source", c.source);
+    w.end_object();
   }
-  return out;
+  w.end_array();
 }
 
-Json counts_section(const Prediction &p) {
-  Json counts;
-  counts["atoms"] = p.molecule.atom_count();
-  counts["heavy_atoms"] = p.molecule.heavy_atom_count();
-  counts["classes"] = p.classes.chemical_count;
-  counts["topological_classes"] = p.classes.topological_count;
-  return counts;
+void write_counts(Writer &w, const Prediction &p) {
+  w.begin_object();
+  w.field("atoms", p.molecule.atom_count());
+  w.field("heavy_atoms", p.molecule.heavy_atom_count());
+  w.field("classes", p.classes.chemical_count);
+  w.field("topological_classes", p.classes.topological_count);
+  w.end_object();
 }
 
-Json error_section(const RecordPrediction &r) {
-  Json e;
-  e["code"] = static_cast<int>(r.status);
-  e["name"] = status_constant_name(r.status);
-  e["message"] = r.error;
-  return e;
+void write_error(Writer &w, const RecordPrediction &r) {
+  w.begin_object();
+  w.field("code", static_cast<int>(r.status));
+  w.field("name", status_constant_name(r.status));
+  w.field("message", r.error);
+  w.end_object();
 }
 
-Json record_value(const RecordPrediction &r) {
-  Json j;
-  j["record"] = r.record;
+void write_record(Writer &w, const RecordPrediction &r) {
+  w.begin_object();
+  w.field("record", r.record);
   if (!r.ok() || !r.prediction) {
-    j["error"] = error_section(r);
-    return j;
+    w.key("error");
+    write_error(w, r);
+    w.end_object();
+    return;
   }
   const Prediction &p = *r.prediction;
-  j["title"] = r.title;
-  j["tables_version"] = p.tables_version;
-  j["atoms"] = atoms_section(p);
-  j["signals"] = signals_section(p);
-  j["solvent"] = solvent_summary(p.solvent);
-  j["warnings"] = p.warnings;
-  j["counts"] = counts_section(p);
+  w.field("title", r.title);
+  w.field("tables_version", p.tables_version);
+  w.key("atoms");
+  write_atoms(w, p);
+  w.key("signals");
+  write_signals(w, p);
+  w.key("solvent").begin_object();
+  write_solvent_summary(w, p.solvent);
+  w.end_object();
+  w.field("warnings", p.warnings);
+  w.key("counts");
+  write_counts(w, p);
   if (couplings_predicted(p)) {
-    j["field_mhz"] = p.options.field_mhz;
-    j["line_width_hz"] = p.options.line_width_hz;
-    j["couplings"] = couplings_section(p);
+    w.field("field_mhz", p.options.field_mhz);
+    w.field("line_width_hz", p.options.line_width_hz);
+    w.key("couplings");
+    write_couplings(w, p);
   }
-  return j;
+  w.end_object();
 }
 
-Json assignments_value(const std::vector<ReferenceAssignment> &list) {
-  Json out = Json::array();
-  for (const auto &a : list) {
-    Json j;
-    j["atoms"] = a.atoms;
-    j["ppm"] = a.values;
-    out.push_back(std::move(j));
-  }
-  return out;
+void write_assignments(Writer &w, const std::vector<ReferenceAssignment> &list) {
+  w.begin_array();
+  for (const auto &a : list) w.begin_object().field("atoms", a.atoms).field("ppm", a.values).end_object();
+  w.end_array();
 }
 
-Json reference_value(const ReferenceCompound &c) {
-  Json j;
-  j["id"] = c.id;
-  j["smiles"] = c.smiles;
-  j["solvent"] = c.solvent;
-  j["source"] = c.source;
-  j["file"] = c.file;
-  j["user"] = c.user;
-  j["c13"] = assignments_value(c.c13);
-  j["h1"] = assignments_value(c.h1);
-  return j;
+void write_reference(Writer &w, const ReferenceCompound &c) {
+  w.begin_object();
+  w.field("id", c.id);
+  w.field("smiles", c.smiles);
+  w.field("solvent", c.solvent);
+  w.field("source", c.source);
+  w.field("file", c.file);
+  w.field("user", c.user);
+  w.key("c13");
+  write_assignments(w, c.c13);
+  w.key("h1");
+  write_assignments(w, c.h1);
+  w.end_object();
 }
 
-std::string dump(const Json &j, const JsonOptions &options) {
-  // Titles come straight from files and may hold Latin-1 bytes; replacing them
-  // beats failing the whole record over a name.
-  return j.dump(options.indent < 0 ? -1 : options.indent, ' ', false, Json::error_handler_t::replace);
+// What `write` wrote, indented if asked for.
+template <class Write>
+std::string finish(const JsonOptions &options, Write &&write) {
+  Writer w;
+  write(w);
+  std::string text = w.take();
+  if (options.indent < 0) return text;
+  return Json::parse(text).dump(options.indent, ' ', false, Json::error_handler_t::replace);
 }
 
 }  // namespace
@@ -303,25 +462,27 @@ const char *status_constant_name(Status status) noexcept {
 }
 
 std::string to_json(const RecordPrediction &record, const JsonOptions &options) {
-  return dump(record_value(record), options);
+  return finish(options, [&](Writer &w) { write_record(w, record); });
 }
 
 std::string to_json(const Solvent &solvent, const JsonOptions &options) {
-  return dump(solvent_value(solvent), options);
+  return finish(options, [&](Writer &w) { write_solvent(w, solvent); });
 }
 
 std::string to_json(const ReferenceCompound &compound, const JsonOptions &options) {
-  return dump(reference_value(compound), options);
+  return finish(options, [&](Writer &w) { write_reference(w, compound); });
 }
 
 std::string to_json(const Simulation &simulation, const JsonOptions &options) {
-  return dump(simulation_value(simulation), options);
+  return finish(options, [&](Writer &w) { write_simulation(w, simulation); });
 }
 
 std::string to_json(const std::vector<RecordPrediction> &records, const JsonOptions &options) {
-  Json all = Json::array();
-  for (const auto &r : records) all.push_back(record_value(r));
-  return dump(all, options);
+  return finish(options, [&](Writer &w) {
+    w.begin_array();
+    for (const auto &r : records) write_record(w, r);
+    w.end_array();
+  });
 }
 
 }  // namespace nmrpred
