@@ -18,6 +18,7 @@
 #include <array>
 #include <charconv>
 #include <cmath>
+#include <optional>
 #include <string>
 #include <string_view>
 #include <type_traits>
@@ -82,15 +83,23 @@ class Writer {
   }
   Writer &value(const std::string &s) { return value(std::string_view(s)); }
   Writer &value(const char *s) { return value(std::string_view(s)); }
+  // A value or null.
+  template <class T>
+  Writer &value(const std::optional<T> &v) {
+    return v ? value(*v) : value(nullptr);
+  }
   template <class T>
   Writer &value(const std::vector<T> &list) {
-    begin_array();
-    for (const auto &x : list) value(x);
-    return end_array();
+    return array(list, [](Writer &w, const T &x) { w.value(x); });
   }
   Writer &value(const ReferenceIds &ids) {
+    return array(ids, [](Writer &w, std::string_view id) { w.value(id); });
+  }
+  // `list` as an array, each element written by write(*this, element).
+  template <class List, class Write>
+  Writer &array(const List &list, Write &&write) {
     begin_array();
-    for (const std::string_view id : ids) value(id);
+    for (const auto &x : list) write(*this, x);
     return end_array();
   }
   // A key and its value.
@@ -144,19 +153,11 @@ class Writer {
   bool after_value_ = false;
 };
 
-// -1 as null.
-void nullable(Writer &w, std::int64_t v) {
-  if (v < 0)
-    w.value(nullptr);
-  else
-    w.value(v);
-}
-
-/// Heavy atom a hydrogen is bonded to, or -1. A hydrogen bonded only to another
-/// hydrogen (H2) has no heavy atom.
-std::int64_t attached_heavy_atom(const Molecule &m, std::size_t i) {
+/// Heavy atom a hydrogen is bonded to, if any. A hydrogen bonded only to
+/// another hydrogen (H2) has no heavy atom.
+std::optional<std::int64_t> attached_heavy_atom(const Molecule &m, std::size_t i) {
   const std::int64_t a = m.attached_to(i);
-  if (a < 0 || m.is_hydrogen(static_cast<std::size_t>(a))) return -1;
+  if (a < 0 || m.is_hydrogen(static_cast<std::size_t>(a))) return std::nullopt;
   return a;
 }
 
@@ -198,14 +199,9 @@ void write_atoms(Writer &w, const Prediction &p) {
     w.begin_object();
     w.field("index", i);
     w.field("element", Molecule::element_symbol(a.atomic_number));
-    w.key("isotope");
-    if (a.isotope == 0)
-      w.value(nullptr);
-    else
-      w.value(a.isotope);
+    w.field("isotope", a.isotope == 0 ? std::nullopt : std::optional(a.isotope));
     w.field("charge", static_cast<int>(a.formal_charge));
-    w.key("attached_to");
-    nullable(w, attached_heavy_atom(m, i));
+    w.field("attached_to", attached_heavy_atom(m, i));
     w.field("class", p.classes.chemical.at(i));
     w.field("topological_class", p.classes.topological.at(i));
     w.field("hose", p.hose.at(i));
@@ -217,12 +213,6 @@ void write_atoms(Writer &w, const Prediction &p) {
 
 void write_line(Writer &w, const SpectralLine &l) {
   w.begin_object().field("ppm", l.ppm).field("hz", l.hz).field("intensity", l.intensity).end_object();
-}
-
-void write_lines(Writer &w, const std::vector<SpectralLine> &lines) {
-  w.begin_array();
-  for (const auto &l : lines) write_line(w, l);
-  w.end_array();
 }
 
 /// Multiplet keys exist only when couplings were predicted, so that their
@@ -244,10 +234,7 @@ void write_signal(Writer &w, const Signal &g, bool coupled) {
   if (coupled) {
     w.field("multiplicity", g.multiplicity);
     w.field("j_hz", g.j_hz);
-    if (g.nucleus == Nucleus::H1) {
-      w.key("lines");
-      write_lines(w, g.lines);
-    }
+    if (g.nucleus == Nucleus::H1) w.key("lines").array(g.lines, write_line);
   }
   w.end_object();
 }
@@ -263,8 +250,7 @@ void write_multiplet(Writer &w, const Multiplet &m) {
   w.field("j_hz", m.j_hz);
   w.field("integral", m.integral);
   w.field("atoms", m.atoms);
-  w.key("lines");
-  write_lines(w, m.lines);
+  w.key("lines").array(m.lines, write_line);
   w.end_object();
 }
 
@@ -273,19 +259,10 @@ void write_simulation(Writer &w, const Simulation &sim) {
   w.field("observe", spin_nucleus_name(sim.observed));
   w.field("mhz", sim.field_mhz);
   w.field("observe_mhz", sim.observed_mhz);
-  w.key("lines");
-  write_lines(w, sim.lines);
-  w.key("multiplets").begin_array();
-  for (const auto &m : sim.multiplets) write_multiplet(w, m);
-  w.end_array();
+  w.key("lines").array(sim.lines, write_line);
+  w.key("multiplets").array(sim.multiplets, write_multiplet);
   w.field("warnings", sim.warnings);
   w.end_object();
-}
-
-void write_signal_list(Writer &w, const std::vector<Signal> &signals, bool coupled) {
-  w.begin_array();
-  for (const auto &g : signals) write_signal(w, g, coupled);
-  w.end_array();
 }
 
 void write_signals(Writer &w, const Prediction &p) {
@@ -294,49 +271,33 @@ void write_signals(Writer &w, const Prediction &p) {
   w.begin_object();
   if (p.options.predict_shifts) {
     const bool coupled = couplings_predicted(p);
-    w.key(nucleus_label(Nucleus::C13));
-    write_signal_list(w, p.c13_signals, coupled);
+    const auto signal = [coupled](Writer &w, const Signal &g) { write_signal(w, g, coupled); };
+    w.key(nucleus_label(Nucleus::C13)).array(p.c13_signals, signal);
     if (p.options.predict_h1) {
-      w.key(nucleus_label(Nucleus::H1));
-      write_signal_list(w, p.h1_signals, coupled);
-      w.key("1H_exchanged");
-      write_signal_list(w, p.h1_exchanged_signals, coupled);
+      w.key(nucleus_label(Nucleus::H1)).array(p.h1_signals, signal);
+      w.key("1H_exchanged").array(p.h1_exchanged_signals, signal);
     }
   }
   w.end_object();
 }
 
-void write_shifts_of(Writer &w, const std::vector<SolventSignal> &list) {
-  w.begin_array();
-  for (const auto &s : list) w.value(s.shift_ppm);
-  w.end_array();
-}
+void write_shift_of(Writer &w, const SolventSignal &s) { w.value(s.shift_ppm); }
 
 /// The keys a record and the solvent table share, without the braces.
 void write_solvent_summary(Writer &w, const Solvent &s) {
   w.field("id", s.id);
   w.field("name", s.name);
-  w.key("residual_1h");
-  write_shifts_of(w, s.h1_residual);
-  w.key("residual_13c");
-  write_shifts_of(w, s.c13);
+  w.key("residual_1h").array(s.h1_residual, write_shift_of);
+  w.key("residual_13c").array(s.c13, write_shift_of);
   w.field("water_1h", s.water_h1_ppm);
 }
 
-void write_solvent_detail(Writer &w, const std::vector<SolventSignal> &list) {
-  w.begin_array();
-  for (const auto &s : list) {
-    w.begin_object();
-    w.field("shift", s.shift_ppm);
-    w.field("multiplicity", s.multiplicity);
-    w.key("coupling_hz");
-    if (s.coupling_hz > 0)
-      w.value(s.coupling_hz);
-    else
-      w.value(nullptr);
-    w.end_object();
-  }
-  w.end_array();
+void write_solvent_signal(Writer &w, const SolventSignal &s) {
+  w.begin_object();
+  w.field("shift", s.shift_ppm);
+  w.field("multiplicity", s.multiplicity);
+  w.field("coupling_hz", s.coupling_hz > 0 ? std::optional(s.coupling_hz) : std::nullopt);
+  w.end_object();
 }
 
 void write_solvent(Writer &w, const Solvent &s) {
@@ -345,26 +306,20 @@ void write_solvent(Writer &w, const Solvent &s) {
   w.field("aliases", s.aliases);
   w.field("exchanges_labile_protons", s.exchanges_labile_protons);
   w.field("source", s.source);
-  w.key("residual_1h_detail");
-  write_solvent_detail(w, s.h1_residual);
-  w.key("residual_13c_detail");
-  write_solvent_detail(w, s.c13);
+  w.key("residual_1h_detail").array(s.h1_residual, write_solvent_signal);
+  w.key("residual_13c_detail").array(s.c13, write_solvent_signal);
   w.end_object();
 }
 
-void write_couplings(Writer &w, const Prediction &p) {
-  w.begin_array();
-  for (const auto &c : p.couplings) {
-    w.begin_object();
-    w.key("atoms").begin_array().value(c.a).value(c.b).end_array();
-    w.field("bonds", c.bonds);
-    w.field("j_hz", c.j_hz);
-    w.field("uncertainty_hz", c.uncertainty_hz);
-    w.field("rule", c.rule);
-    w.field("source", c.source);
-    w.end_object();
-  }
-  w.end_array();
+void write_coupling(Writer &w, const Coupling &c) {
+  w.begin_object();
+  w.key("atoms").begin_array().value(c.a).value(c.b).end_array();
+  w.field("bonds", c.bonds);
+  w.field("j_hz", c.j_hz);
+  w.field("uncertainty_hz", c.uncertainty_hz);
+  w.field("rule", c.rule);
+  w.field("source", c.source);
+  w.end_object();
 }
 
 void write_counts(Writer &w, const Prediction &p) {
@@ -409,16 +364,13 @@ void write_record(Writer &w, const RecordPrediction &r) {
   if (couplings_predicted(p)) {
     w.field("field_mhz", p.options.field_mhz);
     w.field("line_width_hz", p.options.line_width_hz);
-    w.key("couplings");
-    write_couplings(w, p);
+    w.key("couplings").array(p.couplings, write_coupling);
   }
   w.end_object();
 }
 
-void write_assignments(Writer &w, const std::vector<ReferenceAssignment> &list) {
-  w.begin_array();
-  for (const auto &a : list) w.begin_object().field("atoms", a.atoms).field("ppm", a.values).end_object();
-  w.end_array();
+void write_assignment(Writer &w, const ReferenceAssignment &a) {
+  w.begin_object().field("atoms", a.atoms).field("ppm", a.values).end_object();
 }
 
 void write_reference(Writer &w, const ReferenceCompound &c) {
@@ -429,10 +381,8 @@ void write_reference(Writer &w, const ReferenceCompound &c) {
   w.field("source", c.source);
   w.field("file", c.file);
   w.field("user", c.user);
-  w.key("c13");
-  write_assignments(w, c.c13);
-  w.key("h1");
-  write_assignments(w, c.h1);
+  w.key("c13").array(c.c13, write_assignment);
+  w.key("h1").array(c.h1, write_assignment);
   w.end_object();
 }
 
@@ -478,11 +428,7 @@ std::string to_json(const Simulation &simulation, const JsonOptions &options) {
 }
 
 std::string to_json(const std::vector<RecordPrediction> &records, const JsonOptions &options) {
-  return finish(options, [&](Writer &w) {
-    w.begin_array();
-    for (const auto &r : records) write_record(w, r);
-    w.end_array();
-  });
+  return finish(options, [&](Writer &w) { w.array(records, write_record); });
 }
 
 }  // namespace nmrpred
