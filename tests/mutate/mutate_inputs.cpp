@@ -61,10 +61,9 @@
 
 namespace {
 
-// The input being tried, for the time-limit handler to print, and for kind
-// graphs the graph (g_current then holds its description).
+// The input being tried (for kind graphs, the graph's description), for the
+// time-limit handler to print.
 std::string g_current;
-nmrpred::MoleculeData g_graph;
 
 // A C-string literal of `s`, so that a finding can be pasted into a test.
 std::string c_literal(std::string_view s) {
@@ -383,9 +382,10 @@ bool finite_simulation(const nmrpred::Simulation &sim) {
   return true;
 }
 
-// Runs one mutated input of `kind`; returns "" or what went wrong.
-std::string run_one(const std::string &kind, const std::string &s, const nmrpred::Tables &tables, long &ok,
-                    long &refused) {
+// Runs one mutated input of `kind` (text `s`, or for kind graphs `graph`);
+// returns "" or what went wrong.
+std::string run_one(const std::string &kind, const std::string &s, const nmrpred::MoleculeData &graph,
+                    const nmrpred::Tables &tables, long &ok, long &refused) {
   if (kind == "records") {
     for (const auto &r : nmrpred::predict_all(s, nmrpred::Format::Auto, tables)) {
       if (r.status == nmrpred::Status::Internal) return "internal error in a record: " + r.error;
@@ -402,10 +402,9 @@ std::string run_one(const std::string &kind, const std::string &s, const nmrpred
         return "non-finite line in the 1H simulation";
     }
   } else if (kind == "graphs") {
-    // `s` is unused: the graph is g_graph (see main).
     std::optional<nmrpred::Molecule> m;
     try {
-      m.emplace(g_graph);
+      m.emplace(graph);
     } catch (const nmrpred::InputError &) {
       ++refused;  // a graph the Molecule rules refuse
       return "";
@@ -488,10 +487,11 @@ int main(int argc, char **argv) {
   std::signal(SIGPROF, on_alarm);
   Findings findings;
   long ok = 0, refused = 0;
+  nmrpred::MoleculeData graph;  // kind graphs: the graph being tried
   for (long it = 0; it < iterations; ++it) {
     if (kind == "graphs") {
-      g_graph = mutate_graph(graph_seeds[rng() % graph_seeds.size()], rng);
-      g_current = describe(g_graph);
+      graph = mutate_graph(graph_seeds[rng() % graph_seeds.size()], rng);
+      g_current = describe(graph);
     } else {
       const std::string &seed = seeds[rng() % seeds.size()];
       // Spin systems are JSON: half the inputs are changed as JSON (byte
@@ -500,7 +500,7 @@ int main(int argc, char **argv) {
     }
     limit_cpu(20);
     try {
-      const std::string what = run_one(kind, g_current, *tables, ok, refused);
+      const std::string what = run_one(kind, g_current, graph, *tables, ok, refused);
       if (!what.empty()) findings.add(what, g_current);
     } catch (const nmrpred::InternalError &e) {
       findings.add(fmt::format("internal error: {}", e.what()), g_current);
