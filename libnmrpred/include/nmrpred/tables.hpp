@@ -58,8 +58,9 @@ struct ReferenceCompound {
 /// An immutable set of tables.
 class NMRPRED_API Tables {
  public:
-  /// The set compiled into the library. Parses and indexes it anew on every call
-  /// (tens of milliseconds): create it once and share it.
+  /// The set compiled into the library. Parses it and builds its lookup structures
+  /// anew on every call (about 0.05 s; the reference compounds' index entries are
+  /// worked out when the library is built): create it once and share it.
   /// Throws TablesError if a built-in table is malformed (a build defect).
   static std::shared_ptr<const Tables> builtin();
 
@@ -107,6 +108,7 @@ class NMRPRED_API Tables {
  private:
   Tables();
   std::string version_;
+  std::uint64_t files_hash_ = 0;  // the hash version_ names (of files_)
   std::vector<ReferenceCompound> reference_;
   std::vector<std::string> source_keys_;
   std::vector<std::pair<std::string, std::string>> files_;

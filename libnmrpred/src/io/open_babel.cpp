@@ -15,6 +15,7 @@
 #include <fmt/format.h>
 
 #include <openbabel/atom.h>
+#include <openbabel/base.h>
 #include <openbabel/bond.h>
 #include <openbabel/mol.h>
 #include <openbabel/obconversion.h>
@@ -237,6 +238,8 @@ std::string shorten(std::string_view text) {
 }
 
 }  // namespace
+
+std::string reader_version() { return OpenBabel::OBReleaseVersion(); }
 
 RawRead read_with_open_babel(std::string_view text, Format format) {
   RawRead out;

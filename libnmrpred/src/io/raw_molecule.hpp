@@ -72,6 +72,10 @@ struct RawRead {
 // Never throws except std::bad_alloc.
 RawRead read_with_open_babel(std::string_view text, Format format);
 
+// The release of the Open Babel library doing the reading ("3.1.1"): its
+// perception (aromaticity, hydrogens) decides the graphs read.
+std::string reader_version();
+
 }  // namespace nmrpred::io::detail
 
 #endif

@@ -5,6 +5,7 @@
 #include <limits>
 #include <utility>
 
+#include "io/raw_molecule.hpp"
 #include "shifts/increments_h1.hpp"
 #include "shifts/sources.hpp"
 
@@ -87,31 +88,14 @@ std::uint64_t scheme_key(std::string_view method) {
   return hose_key_part(kHoseKeySeed, method.substr(0, colon));
 }
 
-std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables) {
+IndexEntries reference_entries(const Tables &tables, std::size_t first, std::size_t last) {
   const auto &compounds = tables.reference();
-  auto index = std::make_shared<ReferenceIndex>();
-  // Raw atoms per bucket first; averaged per compound at the end.
-  struct Raw {
-    std::uint32_t compound;
-    double shift, increment, half;
-    std::uint64_t scheme;
-  };
+  if (first > last || last > compounds.size()) throw InternalError("reference_entries: compounds out of range");
   constexpr double nan = std::numeric_limits<double>::quiet_NaN();
-  std::array<std::array<std::array<std::unordered_map<std::uint64_t, std::vector<Raw>>, kMaxHoseSpheres + 1>, 2>, 2> raw;
-  // Per sphere, what goes into index->known and index->known_digests.
-  std::array<std::vector<std::uint64_t>, kMaxHoseSpheres + 1> known, known_digests;
   const ShiftOptions plain;
-  index->constitution.resize(compounds.size());
-  {
-    auto ids = std::make_shared<std::string>();
-    index->id_start.reserve(compounds.size());
-    for (const auto &c : compounds) {
-      index->id_start.push_back(static_cast<std::uint32_t>(ids->size()));
-      ids->append(c.id).push_back('\0');
-    }
-    index->id_text = std::move(ids);
-  }
-  for (std::uint32_t ci = 0; ci < compounds.size(); ++ci) {
+  IndexEntries out;
+  out.constitution.reserve(last - first);
+  for (auto ci = static_cast<std::uint32_t>(first); ci < last; ++ci) {
     const auto &c = compounds[ci];
     Molecule m;
     try {
@@ -121,15 +105,13 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
                                    c.smiles, e.what()));
     }
     const auto classes = compute_classes(m);
-    index->constitution[ci] = constitution_key(m, classes);
+    out.constitution.push_back(constitution_key(m, classes));
     const ShiftQuery q(m, classes, tables, plain, Nucleus::C13);
     const auto increments = make_c13_increments(tables.c13_increments(), tables, c.solvent);
     ShiftOptions in_solvent;
     in_solvent.solvent = c.solvent;
     const ShiftQuery qh(m, classes, tables, in_solvent, Nucleus::H1);
     const auto h1_increments = make_h1_increments(tables.h1_increments(), c.solvent);
-    const int origin = c.user ? kUser : kBuiltin;
-    index->has_user |= c.user;
     // Only carbons and hydrogens carry assigned shifts.
     std::vector<bool> keyed(m.atom_count(), false);
     for (std::size_t a = 0; a < m.atom_count(); ++a) keyed[a] = m.atom(a).atomic_number == 6 || m.is_hydrogen(a);
@@ -145,13 +127,10 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
       ShiftDraft s;
       return h1_increments->estimate(qh, centre, s) && !s.exchangeable ? s.ppm : nan;
     };
-    auto add = [&](int nucleus, std::size_t centre, double value, double increment, double half,
+    auto add = [&](IndexNucleus nucleus, std::size_t centre, double value, double increment, double half,
                    std::uint64_t scheme = 0) {
-      const auto &keys = all_keys[centre].key;
-      for (int k = 1; k <= kMaxHoseSpheres; ++k) {
-        raw[origin][nucleus][k][keys[static_cast<std::size_t>(k)]].push_back({ci, value, increment, half, scheme});
-        known_digests[static_cast<std::size_t>(k)].push_back(all_digests[centre][static_cast<std::size_t>(k)]);
-      }
+      out.entries.push_back(IndexEntry{ci, static_cast<std::uint32_t>(nucleus), all_keys[centre].key,
+                                       all_digests[centre], value, increment, half, scheme});
     };
     auto check_atom = [&](std::uint32_t a) {
       if (a >= m.heavy_atom_count())
@@ -192,6 +171,52 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
         }
       }
   }
+  return out;
+}
+
+std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables, std::uint64_t files_hash) {
+  const auto &compounds = tables.reference();
+  auto index = std::make_shared<ReferenceIndex>();
+  // The built-in compounds' entries come precomputed when the tables are
+  // the files they were worked out from, read by the same Open Babel
+  // release (its perception decides the graphs, and so the keys).
+  const PrecomputedEntries &pre = kPrecomputedEntries;
+  if (pre.compounds > 0 && pre.files_hash == files_hash && pre.compounds <= compounds.size() &&
+      io::detail::reader_version() == pre.reader_version)
+    index->precomputed = pre.compounds;
+  const IndexEntries rest = reference_entries(tables, index->precomputed, compounds.size());
+  index->constitution.assign(pre.constitution, pre.constitution + index->precomputed);
+  index->constitution.insert(index->constitution.end(), rest.constitution.begin(), rest.constitution.end());
+  {
+    auto ids = std::make_shared<std::string>();
+    index->id_start.reserve(compounds.size());
+    for (const auto &c : compounds) {
+      index->id_start.push_back(static_cast<std::uint32_t>(ids->size()));
+      ids->append(c.id).push_back('\0');
+      index->has_user |= c.user;
+    }
+    index->id_text = std::move(ids);
+  }
+  // Raw atoms per bucket first; averaged per compound at the end.
+  struct Raw {
+    std::uint32_t compound;
+    double shift, increment, half;
+    std::uint64_t scheme;
+  };
+  constexpr double nan = std::numeric_limits<double>::quiet_NaN();
+  std::array<std::array<std::array<std::unordered_map<std::uint64_t, std::vector<Raw>>, kMaxHoseSpheres + 1>, 2>, 2> raw;
+  // Per sphere, what goes into index->known and index->known_digests.
+  std::array<std::vector<std::uint64_t>, kMaxHoseSpheres + 1> known, known_digests;
+  auto enter = [&](const IndexEntry &e) {
+    const int origin = compounds[e.compound].user ? kUser : kBuiltin;
+    for (std::size_t k = 1; k <= kMaxHoseSpheres; ++k) {
+      raw[origin][e.nucleus][k][e.key[k]].push_back(
+          {e.compound, e.shift_ppm, e.increment_ppm, e.pair_half_ppm, e.scheme});
+      known_digests[k].push_back(e.digest[k]);
+    }
+  };
+  if (index->precomputed > 0) std::for_each(pre.entries, pre.entries + pre.entry_count, enter);
+  std::for_each(rest.entries.begin(), rest.entries.end(), enter);
   for (int o = 0; o < 2; ++o)
     for (int nu = 0; nu < 2; ++nu)
       for (int k = 1; k <= kMaxHoseSpheres; ++k) {

@@ -249,6 +249,9 @@ struct ReferenceIndex {
   std::shared_ptr<const std::string> id_text;
   std::vector<std::uint32_t> id_start;  // per compound
   bool has_user = false;
+  // How many compounds' entries came from kPrecomputedEntries (0: all were
+  // worked out when the index was built).
+  std::size_t precomputed = 0;
   // known[k]: every key of levels[*][*][k] (both origins, both nuclei).
   // Each reference atom is entered at all spheres 1..kMaxHoseSpheres, so a
   // key missing here at sphere k rules out every deeper match.
@@ -276,8 +279,49 @@ struct ReferenceIdsAccess {
   }
 };
 
+// What one assigned shift of a reference compound puts into the index: the
+// work per compound (reading its SMILES, classes, HOSE keys and digests, the
+// rule values) done, the grouping into buckets not yet.
+struct IndexEntry {
+  std::uint32_t compound;  // index into Tables::reference()
+  std::uint32_t nucleus;   // IndexNucleus
+  std::array<std::uint64_t, kMaxHoseSpheres + 1> key;     // [k]: sphere k's key (k >= 1)
+  std::array<std::uint64_t, kMaxHoseSpheres + 1> digest;  // [k]: sphere k's digest (k >= 1)
+  double shift_ppm;
+  double increment_ppm;  // the query-side rule value, NaN if no rule applies
+  double pair_half_ppm;  // 1H diastereotopic pair: half the difference; NaN if none
+  std::uint64_t scheme;  // 13C: scheme_key() of the rule's method, 0 if none
+};
+
+// The entries of reference compounds [first, last) of `tables` and their
+// constitution keys (constitution_key(), one per compound, in order).
+// Throws TablesError or InputError naming the record of a bad compound.
+struct IndexEntries {
+  std::vector<std::uint64_t> constitution;
+  std::vector<IndexEntry> entries;
+};
+IndexEntries reference_entries(const Tables &tables, std::size_t first, std::size_t last);
+
+// The entries of the built-in compounds, worked out when the library was
+// built (libnmrpred/build_tools/make_index_data.cpp writes them) for table
+// files whose fnv1a hash (as Tables::version() prints it) is `files_hash`;
+// the program that writes them is linked with none (`compounds` 0).
+struct PrecomputedEntries {
+  std::uint64_t files_hash;
+  const char *reader_version;  // io::detail::reader_version() of the program that wrote them
+  std::size_t compounds;  // the first `compounds` reference records
+  const std::uint64_t *constitution;
+  const IndexEntry *entries;
+  std::size_t entry_count;
+};
+extern const PrecomputedEntries kPrecomputedEntries;
+
 // Needs tables.reference() and tables.c13_increments(); not tables.reference_index().
-std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables);
+// `files_hash`: the hash of the table files `tables` was made from; where it
+// is that of the precomputed entries, the built-in compounds' entries are
+// taken from them rather than worked out again (ReferenceIndex::precomputed
+// says how many were).
+std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables, std::uint64_t files_hash);
 
 }  // namespace nmrpred::detail
 

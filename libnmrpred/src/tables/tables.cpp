@@ -211,11 +211,12 @@ struct Tables::Private {
     const auto dup = std::adjacent_find(ids.begin(), ids.end());
     if (dup != ids.end()) throw TablesError(fmt::format("tables: reference id '{}' is used twice", *dup));
     t->version_ = fmt::format("{}-{:016x}", prefix, h);
+    t->files_hash_ = h;
     t->files_ = std::move(files);
     t->c13_increments_ = detail::parse_c13_increment_tables(*t);
     t->h1_increments_ = detail::parse_h1_increment_tables(*t);
     t->coupling_tables_ = detail::parse_coupling_tables(*t);
-    t->index_ = detail::build_reference_index(*t);
+    t->index_ = detail::build_reference_index(*t, h);
     return t;
   }
 };
@@ -280,10 +281,11 @@ std::shared_ptr<const Tables> Tables::with_user_reference(std::string_view tsv_t
     t->reference_.push_back(std::move(r));
   }
   t->version_ = fmt::format("{}+user-{:016x}", version_, detail::fnv1a(tsv_text, 0xCBF29CE484222325ull));
+  t->files_hash_ = files_hash_;
   t->c13_increments_ = c13_increments_;
   t->h1_increments_ = h1_increments_;
   t->coupling_tables_ = coupling_tables_;
-  t->index_ = detail::build_reference_index(*t);
+  t->index_ = detail::build_reference_index(*t, files_hash_);
   return t;
 }
 
