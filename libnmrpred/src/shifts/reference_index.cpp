@@ -197,36 +197,65 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     }
     index->id_text = std::move(ids);
   }
-  // Raw atoms per bucket first; averaged per compound at the end.
+  // Each table's atoms, grouped into buckets, then averaged per compound.
   struct Raw {
     std::uint32_t compound;
     double shift, increment, half;
     std::uint64_t scheme;
   };
   constexpr double nan = std::numeric_limits<double>::quiet_NaN();
-  std::array<std::array<std::array<std::unordered_map<std::uint64_t, std::vector<Raw>>, kMaxHoseSpheres + 1>, 2>, 2> raw;
+  // The entries in the order they are entered, precomputed ones first.
+  std::vector<const IndexEntry *> order;
+  order.reserve((index->precomputed > 0 ? pre.entry_count : 0) + rest.entries.size());
+  if (index->precomputed > 0)
+    for (std::size_t i = 0; i < pre.entry_count; ++i) order.push_back(pre.entries + i);
+  for (const auto &e : rest.entries) order.push_back(&e);
   // Per sphere, what goes into index->known and index->known_digests.
   std::array<std::vector<std::uint64_t>, kMaxHoseSpheres + 1> known, known_digests;
-  auto enter = [&](const IndexEntry &e) {
-    const int origin = compounds[e.compound].user ? kUser : kBuiltin;
-    for (std::size_t k = 1; k <= kMaxHoseSpheres; ++k) {
-      raw[origin][e.nucleus][k][e.key[k]].push_back(
-          {e.compound, e.shift_ppm, e.increment_ppm, e.pair_half_ppm, e.scheme});
-      known_digests[k].push_back(e.digest[k]);
-    }
+  for (std::size_t k = 1; k <= kMaxHoseSpheres; ++k) {
+    known_digests[k].reserve(order.size());
+    for (const auto *e : order) known_digests[k].push_back(e->digest[k]);
+  }
+  // A table's atoms are grouped by sorting (key, place in `order`): within a
+  // bucket they keep the order they were entered in, which the per-compound
+  // sort below depends on for equal compounds (a hash map of lists per key
+  // cost an allocation per bucket and most of the time of building the
+  // index from precomputed entries). The buffers serve every bucket.
+  struct Placed {
+    std::uint64_t key;
+    std::uint32_t place;
   };
-  if (index->precomputed > 0) std::for_each(pre.entries, pre.entries + pre.entry_count, enter);
-  std::for_each(rest.entries.begin(), rest.entries.end(), enter);
+  std::vector<Placed> placed;
+  std::vector<Raw> atoms;
+  std::vector<double> shifts, residuals, values;
+  std::vector<std::pair<std::uint64_t, double>> by_scheme;
   for (int o = 0; o < 2; ++o)
     for (int nu = 0; nu < 2; ++nu)
       for (int k = 1; k <= kMaxHoseSpheres; ++k) {
+        placed.clear();
+        for (std::uint32_t place = 0; place < order.size(); ++place) {
+          const IndexEntry &e = *order[place];
+          if ((compounds[e.compound].user ? kUser : kBuiltin) == o && e.nucleus == static_cast<std::uint32_t>(nu))
+            placed.push_back({e.key[static_cast<std::size_t>(k)], place});
+        }
+        std::sort(placed.begin(), placed.end(), [](const Placed &a, const Placed &b) {
+          return a.key != b.key ? a.key < b.key : a.place < b.place;
+        });
         std::vector<std::pair<std::uint64_t, Bucket>> entries;
-        entries.reserve(raw[o][nu][k].size());
-        for (auto &kv : raw[o][nu][k]) {
-          auto &atoms = kv.second;
+        entries.reserve(placed.size());
+        for (std::size_t g0 = 0; g0 < placed.size();) {
+          std::size_t g1 = g0;
+          atoms.clear();
+          for (; g1 < placed.size() && placed[g1].key == placed[g0].key; ++g1) {
+            const IndexEntry &e = *order[placed[g1].place];
+            atoms.push_back({e.compound, e.shift_ppm, e.increment_ppm, e.pair_half_ppm, e.scheme});
+          }
+          const std::uint64_t key = placed[g0].key;
+          g0 = g1;
           std::sort(atoms.begin(), atoms.end(), [](const Raw &a, const Raw &b) { return a.compound < b.compound; });
           Bucket b;
-          std::vector<double> shifts, residuals;
+          shifts.clear();
+          residuals.clear();
           for (std::size_t i = 0; i < atoms.size();) {
             std::size_t j = i;
             double sum = 0, rsum = 0, hsum = 0;
@@ -251,24 +280,24 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
           }
           b.listed_count = static_cast<std::uint32_t>(std::min(b.listed.size(), b.compounds.size()));
           for (std::size_t i = 0; i < b.listed_count; ++i) b.listed[i] = b.compounds[i].compound;
-          b.shift = summarise(std::move(shifts));
-          b.residual = summarise(std::move(residuals));
+          b.shift = summarise_in_place(shifts);
+          b.residual = summarise_in_place(residuals);
           if (nu == kIndexC13) {
-            std::vector<std::pair<std::uint64_t, double>> by_scheme;
+            by_scheme.clear();
             for (const auto &cv : b.compounds)
               if (std::isfinite(cv.residual_ppm)) by_scheme.emplace_back(cv.scheme, cv.residual_ppm);
             std::sort(by_scheme.begin(), by_scheme.end());
             for (std::size_t i = 0; i < by_scheme.size();) {
               std::size_t j = i;
-              std::vector<double> values;
+              values.clear();
               for (; j < by_scheme.size() && by_scheme[j].first == by_scheme[i].first; ++j)
                 values.push_back(by_scheme[j].second);
-              b.residual_by_scheme.emplace_back(by_scheme[i].first, summarise(std::move(values)));
+              b.residual_by_scheme.emplace_back(by_scheme[i].first, summarise_in_place(values));
               i = j;
             }
           }
-          entries.emplace_back(kv.first, std::move(b));
-          known[static_cast<std::size_t>(k)].push_back(kv.first);
+          entries.emplace_back(key, std::move(b));
+          known[static_cast<std::size_t>(k)].push_back(key);
         }
         index->levels[o][nu][k].assign(std::move(entries));
       }
