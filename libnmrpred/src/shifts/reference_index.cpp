@@ -174,6 +174,68 @@ IndexEntries reference_entries(const Tables &tables, std::size_t first, std::siz
   return out;
 }
 
+namespace {
+
+// Buffers make_bucket() reuses from one bucket to the next.
+struct BucketScratch {
+  std::vector<double> shifts, residuals, values;
+  std::vector<std::pair<std::uint64_t, double>> by_scheme;
+};
+
+// The bucket of the reference atoms `atoms` (their entries, in the order
+// they were entered): values averaged per compound, then summarised; 13C
+// buckets also per rule scheme. Sorts `atoms` by compound.
+Bucket make_bucket(std::vector<const IndexEntry *> &atoms, bool c13, BucketScratch &s) {
+  constexpr double nan = std::numeric_limits<double>::quiet_NaN();
+  std::sort(atoms.begin(), atoms.end(),
+            [](const IndexEntry *a, const IndexEntry *b) { return a->compound < b->compound; });
+  Bucket b;
+  s.shifts.clear();
+  s.residuals.clear();
+  for (std::size_t i = 0; i < atoms.size();) {
+    std::size_t j = i;
+    double sum = 0, rsum = 0, hsum = 0;
+    int rn = 0, hn = 0;
+    for (; j < atoms.size() && atoms[j]->compound == atoms[i]->compound; ++j) {
+      sum += atoms[j]->shift_ppm;
+      if (std::isfinite(atoms[j]->increment_ppm)) {
+        rsum += atoms[j]->shift_ppm - atoms[j]->increment_ppm;
+        ++rn;
+      }
+      if (std::isfinite(atoms[j]->pair_half_ppm)) {
+        hsum += atoms[j]->pair_half_ppm;
+        ++hn;
+      }
+    }
+    const CompoundValue v{atoms[i]->compound, sum / static_cast<double>(j - i), rn ? rsum / rn : nan,
+                          hn ? hsum / hn : nan, atoms[i]->scheme};
+    b.compounds.push_back(v);
+    s.shifts.push_back(v.shift_ppm);
+    if (rn) s.residuals.push_back(v.residual_ppm);
+    i = j;
+  }
+  b.listed_count = static_cast<std::uint32_t>(std::min(b.listed.size(), b.compounds.size()));
+  for (std::size_t i = 0; i < b.listed_count; ++i) b.listed[i] = b.compounds[i].compound;
+  b.shift = summarise_in_place(s.shifts);
+  b.residual = summarise_in_place(s.residuals);
+  if (!c13) return b;
+  s.by_scheme.clear();
+  for (const auto &cv : b.compounds)
+    if (std::isfinite(cv.residual_ppm)) s.by_scheme.emplace_back(cv.scheme, cv.residual_ppm);
+  std::sort(s.by_scheme.begin(), s.by_scheme.end());
+  for (std::size_t i = 0; i < s.by_scheme.size();) {
+    std::size_t j = i;
+    s.values.clear();
+    for (; j < s.by_scheme.size() && s.by_scheme[j].first == s.by_scheme[i].first; ++j)
+      s.values.push_back(s.by_scheme[j].second);
+    b.residual_by_scheme.emplace_back(s.by_scheme[i].first, summarise_in_place(s.values));
+    i = j;
+  }
+  return b;
+}
+
+}  // namespace
+
 std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables, std::uint64_t files_hash) {
   const auto &compounds = tables.reference();
   auto index = std::make_shared<ReferenceIndex>();
@@ -197,19 +259,17 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     }
     index->id_text = std::move(ids);
   }
-  // Each table's atoms, grouped into buckets, then averaged per compound.
-  struct Raw {
-    std::uint32_t compound;
-    double shift, increment, half;
-    std::uint64_t scheme;
-  };
-  constexpr double nan = std::numeric_limits<double>::quiet_NaN();
-  // The entries in the order they are entered, precomputed ones first.
+  // The entries in the order they are entered, precomputed ones first, and
+  // the table (origin, nucleus) each goes to.
   std::vector<const IndexEntry *> order;
+  std::vector<int> table_of;
   order.reserve((index->precomputed > 0 ? pre.entry_count : 0) + rest.entries.size());
   if (index->precomputed > 0)
     for (std::size_t i = 0; i < pre.entry_count; ++i) order.push_back(pre.entries + i);
   for (const auto &e : rest.entries) order.push_back(&e);
+  table_of.reserve(order.size());
+  for (const auto *e : order)
+    table_of.push_back((compounds[e->compound].user ? kUser : kBuiltin) * 2 + static_cast<int>(e->nucleus));
   // Per sphere, what goes into index->known and index->known_digests.
   std::array<std::vector<std::uint64_t>, kMaxHoseSpheres + 1> known, known_digests;
   for (std::size_t k = 1; k <= kMaxHoseSpheres; ++k) {
@@ -218,85 +278,32 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
   }
   // A table's atoms are grouped by sorting (key, place in `order`): within a
   // bucket they keep the order they were entered in, which the per-compound
-  // sort below depends on for equal compounds (a hash map of lists per key
-  // cost an allocation per bucket and most of the time of building the
-  // index from precomputed entries). The buffers serve every bucket.
+  // sort of make_bucket() depends on for equal compounds (a hash map of lists
+  // per key cost an allocation per bucket and most of the time of building
+  // the index from precomputed entries). The buffers serve every bucket.
   struct Placed {
     std::uint64_t key;
     std::uint32_t place;
   };
   std::vector<Placed> placed;
-  std::vector<Raw> atoms;
-  std::vector<double> shifts, residuals, values;
-  std::vector<std::pair<std::uint64_t, double>> by_scheme;
+  std::vector<const IndexEntry *> atoms;
+  BucketScratch scratch;
   for (int o = 0; o < 2; ++o)
     for (int nu = 0; nu < 2; ++nu)
       for (int k = 1; k <= kMaxHoseSpheres; ++k) {
         placed.clear();
-        for (std::uint32_t place = 0; place < order.size(); ++place) {
-          const IndexEntry &e = *order[place];
-          if ((compounds[e.compound].user ? kUser : kBuiltin) == o && e.nucleus == static_cast<std::uint32_t>(nu))
-            placed.push_back({e.key[static_cast<std::size_t>(k)], place});
-        }
+        for (std::uint32_t place = 0; place < order.size(); ++place)
+          if (table_of[place] == o * 2 + nu) placed.push_back({order[place]->key[static_cast<std::size_t>(k)], place});
         std::sort(placed.begin(), placed.end(), [](const Placed &a, const Placed &b) {
           return a.key != b.key ? a.key < b.key : a.place < b.place;
         });
         std::vector<std::pair<std::uint64_t, Bucket>> entries;
         entries.reserve(placed.size());
         for (std::size_t g0 = 0; g0 < placed.size();) {
-          std::size_t g1 = g0;
-          atoms.clear();
-          for (; g1 < placed.size() && placed[g1].key == placed[g0].key; ++g1) {
-            const IndexEntry &e = *order[placed[g1].place];
-            atoms.push_back({e.compound, e.shift_ppm, e.increment_ppm, e.pair_half_ppm, e.scheme});
-          }
           const std::uint64_t key = placed[g0].key;
-          g0 = g1;
-          std::sort(atoms.begin(), atoms.end(), [](const Raw &a, const Raw &b) { return a.compound < b.compound; });
-          Bucket b;
-          shifts.clear();
-          residuals.clear();
-          for (std::size_t i = 0; i < atoms.size();) {
-            std::size_t j = i;
-            double sum = 0, rsum = 0, hsum = 0;
-            int rn = 0, hn = 0;
-            for (; j < atoms.size() && atoms[j].compound == atoms[i].compound; ++j) {
-              sum += atoms[j].shift;
-              if (std::isfinite(atoms[j].increment)) {
-                rsum += atoms[j].shift - atoms[j].increment;
-                ++rn;
-              }
-              if (std::isfinite(atoms[j].half)) {
-                hsum += atoms[j].half;
-                ++hn;
-              }
-            }
-            const CompoundValue v{atoms[i].compound, sum / static_cast<double>(j - i),
-                                  rn ? rsum / rn : nan, hn ? hsum / hn : nan, atoms[i].scheme};
-            b.compounds.push_back(v);
-            shifts.push_back(v.shift_ppm);
-            if (rn) residuals.push_back(v.residual_ppm);
-            i = j;
-          }
-          b.listed_count = static_cast<std::uint32_t>(std::min(b.listed.size(), b.compounds.size()));
-          for (std::size_t i = 0; i < b.listed_count; ++i) b.listed[i] = b.compounds[i].compound;
-          b.shift = summarise_in_place(shifts);
-          b.residual = summarise_in_place(residuals);
-          if (nu == kIndexC13) {
-            by_scheme.clear();
-            for (const auto &cv : b.compounds)
-              if (std::isfinite(cv.residual_ppm)) by_scheme.emplace_back(cv.scheme, cv.residual_ppm);
-            std::sort(by_scheme.begin(), by_scheme.end());
-            for (std::size_t i = 0; i < by_scheme.size();) {
-              std::size_t j = i;
-              values.clear();
-              for (; j < by_scheme.size() && by_scheme[j].first == by_scheme[i].first; ++j)
-                values.push_back(by_scheme[j].second);
-              b.residual_by_scheme.emplace_back(by_scheme[i].first, summarise_in_place(values));
-              i = j;
-            }
-          }
-          entries.emplace_back(key, std::move(b));
+          atoms.clear();
+          for (; g0 < placed.size() && placed[g0].key == key; ++g0) atoms.push_back(order[placed[g0].place]);
+          entries.emplace_back(key, make_bucket(atoms, nu == kIndexC13, scratch));
           known[static_cast<std::size_t>(k)].push_back(key);
         }
         index->levels[o][nu][k].assign(std::move(entries));
