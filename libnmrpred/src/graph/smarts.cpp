@@ -1255,9 +1255,10 @@ void SmartsTarget::perceive_rings() const {
   std::vector<std::uint32_t> &atom_pool = rings_.pool_;
   atom_pool.reserve(2 * n);
   std::vector<std::uint64_t> &bit_pool = ring_scratch_.bit_pool;
-  auto *const mark = reinterpret_cast<std::uint32_t *>(carve(n));
-  std::fill(mark, mark + n, 0u);
-  std::uint32_t stamp = 0;
+  // Per atom reached from the root, the root's neighbour its tree path
+  // passes through: two tree paths share an atom besides the root exactly
+  // when they leave it through the same neighbour.
+  auto *const branch = reinterpret_cast<std::uint32_t *>(carve(n));
   auto *const bfs = reinterpret_cast<std::uint32_t *>(carve(n));
   std::size_t reached = 0;
   std::fill(dist, dist + n, -1);
@@ -1291,6 +1292,7 @@ void SmartsTarget::perceive_rings() const {
           dist[*it] = dist[a] + 1;
           parent_edge[*it] = edge_of_bond[*bid];
           parent_atom[*it] = static_cast<int>(a);
+          branch[*it] = a == r ? *it : branch[a];
           bfs[reached++] = *it;
         }
       }
@@ -1299,12 +1301,7 @@ void SmartsTarget::perceive_rings() const {
         const auto x = m.bond(edges[e]).begin, y = m.bond(edges[e]).end;
         if (parent_edge[x] == static_cast<int>(e) || parent_edge[y] == static_cast<int>(e)) continue;
         // The tree paths x..r and y..r must share no atom but r.
-        ++stamp;
-        for (std::uint32_t w = x; w != r; w = static_cast<std::uint32_t>(parent_atom[w])) mark[w] = stamp;
-        bool disjoint = true;
-        for (std::uint32_t w = y; w != r && disjoint; w = static_cast<std::uint32_t>(parent_atom[w]))
-          disjoint = mark[w] != stamp;
-        if (!disjoint) continue;
+        if (x != r && y != r && branch[x] == branch[y]) continue;
         // Atoms r ... x, then y ... (before r).
         const auto off = static_cast<std::uint32_t>(atom_pool.size());
         const auto dx = static_cast<std::uint32_t>(dist[x]);
