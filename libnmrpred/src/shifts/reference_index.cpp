@@ -260,16 +260,17 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     index->id_text = std::move(ids);
   }
   // The entries in the order they are entered, precomputed ones first, and
-  // the table (origin, nucleus) each goes to.
+  // per table (origin, nucleus) the places in that order of its entries.
   std::vector<const IndexEntry *> order;
-  std::vector<int> table_of;
   order.reserve((index->precomputed > 0 ? pre.entry_count : 0) + rest.entries.size());
   if (index->precomputed > 0)
     for (std::size_t i = 0; i < pre.entry_count; ++i) order.push_back(pre.entries + i);
   for (const auto &e : rest.entries) order.push_back(&e);
-  table_of.reserve(order.size());
-  for (const auto *e : order)
-    table_of.push_back((compounds[e->compound].user ? kUser : kBuiltin) * 2 + static_cast<int>(e->nucleus));
+  std::array<std::array<std::vector<std::uint32_t>, 2>, 2> places;
+  for (std::uint32_t place = 0; place < order.size(); ++place) {
+    const auto *e = order[place];
+    places[compounds[e->compound].user ? kUser : kBuiltin][e->nucleus].push_back(place);
+  }
   // Per sphere, what goes into index->known and index->known_digests.
   std::array<std::vector<std::uint64_t>, kMaxHoseSpheres + 1> known, known_digests;
   for (std::size_t k = 1; k <= kMaxHoseSpheres; ++k) {
@@ -292,8 +293,7 @@ std::shared_ptr<const ReferenceIndex> build_reference_index(const Tables &tables
     for (int nu = 0; nu < 2; ++nu)
       for (int k = 1; k <= kMaxHoseSpheres; ++k) {
         placed.clear();
-        for (std::uint32_t place = 0; place < order.size(); ++place)
-          if (table_of[place] == o * 2 + nu) placed.push_back({order[place]->key[static_cast<std::size_t>(k)], place});
+        for (const auto place : places[o][nu]) placed.push_back({order[place]->key[static_cast<std::size_t>(k)], place});
         std::sort(placed.begin(), placed.end(), [](const Placed &a, const Placed &b) {
           return a.key != b.key ? a.key < b.key : a.place < b.place;
         });
