@@ -330,8 +330,9 @@ int main(int argc, char **argv) {
     // call per molecule, then one call for the set) and classes + 13C + 1H
     // back to back (in an order that rotates with the
     // repeat), and the ratios are taken within the repeat.
-    // The set call, predict_c13_set, computes the classes and the 13C shifts
-    // of the whole list stage by stage over blocks of molecules.
+    // The set call, predict_c13_set, computes the classes (of the heavy
+    // atoms, which is all 13C reads) and the 13C shifts of the whole list
+    // stage by stage over blocks of molecules.
     {
       const std::function<std::size_t()> classes_c13_set = [&] {
         std::size_t n = 0;

@@ -36,6 +36,7 @@
 #include <vector>
 
 #include "check.hpp"
+#include "nci.hpp"
 
 namespace {
 
@@ -124,49 +125,6 @@ std::vector<double> values(const Result &r, End a, End b, int bonds) {
 
 // --- NCI sample --------------------------------------------------------------
 
-// Path of the NCI sample of Debian's rdkit-data, asked of RDKit through
-// Debian's interpreter (as benchmarks/run.sh does).
-std::string nci_path() {
-  static const std::string path = [] {
-    std::string out;
-    if (FILE *p = popen("/usr/bin/python3 -c \"import os; from rdkit import RDConfig; "
-                        "print(os.path.join(RDConfig.RDDataDir, 'NCI', 'first_5K.smi'))\" 2>/dev/null",
-                        "r")) {
-      char buf[4096];
-      while (std::fgets(buf, sizeof buf, p)) out += buf;
-      pclose(p);
-    }
-    while (!out.empty() && (out.back() == '\n' || out.back() == '\r')) out.pop_back();
-    return out;
-  }();
-  return path;
-}
-
-// The records of the NCI sample, one line each (read once).
-const std::vector<std::string> &nci_lines() {
-  static const std::vector<std::string> lines = [] {
-    std::vector<std::string> out;
-    std::ifstream in(nci_path(), std::ios::binary);
-    std::string line;
-    while (std::getline(in, line))
-      if (!line.empty()) out.push_back(line);
-    return out;
-  }();
-  return lines;
-}
-
-// Molecules of NCI records [first, last), read on demand so that each test
-// case pays only for its own slice.
-std::vector<Molecule> nci_molecules(std::size_t first, std::size_t last) {
-  const auto &lines = nci_lines();
-  std::string text;
-  for (std::size_t i = first; i < std::min(last, lines.size()); ++i) text += lines[i] + "\n";
-  std::vector<Molecule> out;
-  for (auto &rec : nmrpred::read_records(text, nmrpred::Format::Smiles))
-    if (rec.molecule) out.push_back(std::move(*rec.molecule));
-  return out;
-}
-
 // The same molecule with its heavy atoms in a random order (hydrogens follow
 // their heavy atom, as Molecule requires); new_index[i] is atom i's new index.
 Molecule permuted(const Molecule &m, std::mt19937 &rng, std::vector<std::size_t> &new_index) {
@@ -214,11 +172,11 @@ Molecule permuted(const Molecule &m, std::mt19937 &rng, std::vector<std::size_t>
 // classes and bond count get one value, and a random atom order gives the
 // same multiset of (topological class pair, bonds, J).
 void check_nci_slice(std::size_t first, std::size_t last) {
-  INFO("NCI sample: ", nci_path());
-  REQUIRE(nci_lines().size() > 4900);
-  const auto mols = nci_molecules(first, last);
+  INFO("NCI sample: ", nci::path());
+  REQUIRE(nci::lines().size() > 4900);
+  const auto mols = nci::molecules(first, last);
   // Open Babel reads all but a handful of the records.
-  CHECK(mols.size() + 5 >= std::min(last, nci_lines().size()) - first);
+  CHECK(mols.size() + 5 >= std::min(last, nci::lines().size()) - first);
   std::mt19937 rng(static_cast<std::uint32_t>(first + 12345));
   std::size_t checked = 0;
   for (std::size_t i = 0; i < mols.size(); ++i) {

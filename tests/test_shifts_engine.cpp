@@ -315,11 +315,9 @@ TEST_SUITE("shifts_engine") {
         const auto c13 = nmrpred::predict_c13(molecules[i], classes, *setting.tables, setting.options, &warnings);
         CHECK(set[i].error == nmrpred::Status::Ok);
         CHECK(set[i].error_message.empty());
-        CHECK(set[i].classes.chemical == classes.chemical);
-        CHECK(set[i].classes.topological == classes.topological);
-        CHECK(set[i].classes.invariant_rank == classes.invariant_rank);
-        CHECK(set[i].classes.chemical_count == classes.chemical_count);
-        CHECK(set[i].classes.notes == classes.notes);
+        const std::vector<std::uint32_t> heavy(classes.chemical.begin(),
+                                               classes.chemical.begin() + molecules[i].heavy_atom_count());
+        CHECK(set[i].classes == heavy);
         same_shifts(set[i].shifts, c13);
         CHECK(set[i].warnings == warnings);
         compared += c13.size();

@@ -290,8 +290,12 @@ NMRPRED_API C13H1Shifts predict_c13_h1(const Molecule &molecule, const AtomClass
 
 /// One molecule's result in predict_c13_set(). Plain value.
 struct C13SetEntry {
-  AtomClasses classes;                ///< compute_classes(molecule)
-  std::vector<Shift> shifts;          ///< predict_c13(molecule, classes, tables, options)
+  /// Per heavy atom (atoms [0, heavy_atom_count())): its chemical class,
+  /// as compute_classes(molecule).chemical numbers it. The hydrogens' classes
+  /// are not computed: 13C needs none of them, and leaving them out is much
+  /// of what makes the set call cheaper (compute_classes() gives them).
+  std::vector<std::uint32_t> classes;
+  std::vector<Shift> shifts;          ///< predict_c13(molecule, compute_classes(molecule), tables, options)
   std::vector<std::string> warnings;  ///< what predict_c13() appends to its warnings
   /// Status::Ok, or why this molecule has no shifts (error_message says
   /// more); the other molecules of the set are predicted all the same.
@@ -300,12 +304,14 @@ struct C13SetEntry {
 };
 
 /// compute_classes() and predict_c13() for every molecule of a set, in the
-/// set's order: the same classes, values, methods, references and warnings
-/// as those calls made one molecule at a time, at less cost per molecule.
-/// The work runs stage by stage (equivalence classes, HOSE environments,
-/// increment rules, reference lookups) over blocks of molecules rather than
-/// molecule by molecule, so that each stage's code and tables stay in the
-/// processor's caches while it goes through a block. A molecule that fails
+/// set's order: the same heavy-atom classes, values, methods, references and
+/// warnings as those calls made one molecule at a time, at less cost per
+/// molecule. The work runs stage by stage (equivalence classes, HOSE
+/// environments, increment rules, reference lookups) over blocks of
+/// molecules rather than molecule by molecule, so that each stage's code and
+/// tables stay in the processor's caches while it goes through a block; the
+/// classes are found, where the structure allows it, on the graph of the
+/// heavy atoms alone (docs/equivalence.md). A molecule that fails
 /// gets its status and message; the set goes on. Throws ArgumentError,
 /// before any molecule, for an unknown solvent where the 13C tables hold
 /// solvent terms.

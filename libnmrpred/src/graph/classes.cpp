@@ -25,6 +25,7 @@
 
 #include <fmt/format.h>
 
+#include "graph/heavy_classes.hpp"
 #include "graph/partition.hpp"
 #include "graph/union_find.hpp"
 #include "support/thread_lease.hpp"
@@ -76,6 +77,7 @@ bool lone_pair_centre(const Atom &a, std::size_t degree) {
 int smallest_ring(const Molecule &m, std::uint32_t u, std::uint32_t v, int limit, std::vector<char> &seen,
                   std::vector<std::uint32_t> &visited) {
   // The atoms of one breadth are visited[begin, end).
+  const std::size_t heavy = m.heavy_atom_count();
   visited.assign(1, u);
   seen[u] = 1;
   int found = 0;
@@ -84,7 +86,8 @@ int smallest_ring(const Molecule &m, std::uint32_t u, std::uint32_t v, int limit
     const std::size_t end = visited.size();
     for (std::size_t i = begin; i < end && !found; ++i) {
       const std::uint32_t a = visited[i];
-      for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it) {
+      // Hydrogens, after every heavy atom in a neighbour list, close no ring.
+      for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a) && *it < heavy; ++it) {
         const auto b = *it;
         if (a == u && b == v) continue;
         if (b == v) {
@@ -235,9 +238,12 @@ void append_notes(const std::vector<StereoNote> &notes, std::vector<std::string>
     }
 }
 
-// Fills `sm` (whose buffers keep their capacity).
+// Fills `sm` (whose buffers keep their capacity). `heavy_only`: for
+// heavy_atom_classes(), which has no use for the elements that two
+// hydrogens on one atom make free (tetrahedral atoms with two or more, double
+// bonds with an end carrying two) nor for notes: those are left out.
 void build_stereo(const Molecule &m, const std::vector<std::uint32_t> &canon, const std::vector<std::uint32_t> &topo,
-                  StereoModel &sm) {
+                  StereoModel &sm, bool heavy_only = false) {
   sm.tetra.clear();
   sm.dbl.clear();
   sm.notes.clear();
@@ -278,11 +284,21 @@ void build_stereo(const Molecule &m, const std::vector<std::uint32_t> &canon, co
     if (a < 0 || b < 0) return b < 0 && a >= 0;
     return canon[a] < canon[b];
   };
-  for (std::uint32_t c = 0; c < n; ++c) {
+  const std::uint32_t heavy = static_cast<std::uint32_t>(m.heavy_atom_count());
+  // Hydrogens on atom c: the end of its neighbour list.
+  auto hydrogens = [&](std::uint32_t c) {
+    const std::uint32_t *nb = m.neighbours_begin(c), *end = m.neighbours_end(c);
+    std::uint32_t k = 0;
+    while (end - k > nb && *(end - k - 1) >= heavy) ++k;
+    return k;
+  };
+  // Hydrogens (the atoms from `heavy` on) are never tetrahedral centres.
+  for (std::uint32_t c = 0; c < heavy; ++c) {
     const std::uint32_t *nb = m.neighbours_begin(c), *nb_end = m.neighbours_end(c);
     const auto deg = static_cast<std::size_t>(nb_end - nb);
     if (deg != 4 && !lone_pair_centre(atoms[c], deg)) continue;
     if (atoms[c].atomic_number == 1) continue;
+    if (heavy_only && hydrogens(c) >= 2) continue;
     TetraConfig t;
     t.centre = c;
     if (!given.empty() && given[c] >= 0) {
@@ -294,6 +310,10 @@ void build_stereo(const Molecule &m, const std::vector<std::uint32_t> &canon, co
       for (auto it = nb; it != nb_end; ++it) l[k++] = static_cast<std::int32_t>(*it);
       sort_few(l.begin(), l.end(), by_rank);
       t.lig = l;
+      if (heavy_only) {
+        sm.tetra.push_back(t);
+        continue;
+      }
       // Report only real stereocentres: four ligands of distinct topological class.
       std::array<std::int64_t, 4> cls;
       for (int q = 0; q < 4; ++q) cls[q] = l[q] < 0 ? -1 : static_cast<std::int64_t>(topo[l[q]]);
@@ -348,6 +368,7 @@ void build_stereo(const Molecule &m, const std::vector<std::uint32_t> &canon, co
     const auto u = b.begin, v = b.end;
     const std::size_t du = m.degree(u), dv = m.degree(v);
     if (du < 2 || dv < 2 || du > 3 || dv > 3) continue;
+    if (heavy_only && ((du == 3 && hydrogens(u) == 2) || (dv == 3 && hydrogens(v) == 2))) continue;
     auto others = [&](std::uint32_t a, std::uint32_t partner) {
       Others r;
       for (auto it = m.neighbours_begin(a); it != m.neighbours_end(a); ++it)
@@ -378,6 +399,10 @@ void build_stereo(const Molecule &m, const std::vector<std::uint32_t> &canon, co
       d.ru = ou.at[ou.count - 1];
       d.rv = ov.at[ov.count - 1];
       d.cis = false;  // canonical choice: highest-ranked substituents trans
+      if (heavy_only) {
+        sm.dbl.push_back(d);
+        continue;
+      }
       auto distinct = [&](const Others &o) { return o.count == 1 || topo[o.at[0]] != topo[o.at[1]]; };
       if (distinct(ou) && distinct(ov))
         sm.notes.push_back({StereoNote::kDoubleBond, u, v});
@@ -401,10 +426,17 @@ struct Run {
 };
 using AtomRange = Run<std::uint32_t>;
 
+// Where a heavy atom's hydrogen count goes in its colour when the hydrogens
+// are folded into it: above atom_colour()'s fields (element, bits 37-43).
+constexpr int kFoldedHydrogensShift = 48;
+
 // The coloured graph of `atoms` without stereo (tetra_of and dbl_of -1 per
 // atom), written over `g` (whose buffers keep their capacity); sets local_of
-// for those atoms.
-void build_structure(const Molecule &m, AtomRange atoms, std::vector<std::uint32_t> &local_of, Graph &g) {
+// for those atoms. `fold_hydrogens`: `atoms` are heavy atoms and the
+// hydrogens are left out of the graph, each atom's count of them going into
+// its colour (with the degree it has with them).
+void build_structure(const Molecule &m, AtomRange atoms, std::vector<std::uint32_t> &local_of, Graph &g,
+                     bool fold_hydrogens = false) {
   const auto n = static_cast<std::uint32_t>(atoms.size());
   g.n = n;
   g.global.assign(atoms.begin(), atoms.end());
@@ -415,7 +447,17 @@ void build_structure(const Molecule &m, AtomRange atoms, std::vector<std::uint32
   g.tetra.clear();
   g.dbl.clear();
   g.off[0] = 0;
-  for (std::uint32_t i = 0; i < n; ++i) g.off[i + 1] = g.off[i] + static_cast<std::uint32_t>(m.degree(atoms[i]));
+  // Hydrogens come after every heavy atom and neighbour lists are sorted:
+  // an atom's heavy neighbours are the front of its list.
+  const std::uint32_t heavy = static_cast<std::uint32_t>(m.heavy_atom_count());
+  auto kept_degree = [&](std::uint32_t a) {
+    const std::uint32_t *nb = m.neighbours_begin(a), *end = m.neighbours_end(a);
+    if (!fold_hydrogens) return static_cast<std::uint32_t>(end - nb);
+    std::uint32_t d = 0;
+    while (nb + d < end && nb[d] < heavy) ++d;
+    return d;
+  };
+  for (std::uint32_t i = 0; i < n; ++i) g.off[i + 1] = g.off[i] + kept_degree(atoms[i]);
   g.nbr.resize(g.off[n]);
   g.order.resize(g.off[n]);
   // Raw pointers: the char stores below may alias any vector's internals.
@@ -431,7 +473,12 @@ void build_structure(const Molecule &m, AtomRange atoms, std::vector<std::uint32
     const auto a = atoms[i];
     const std::uint32_t *nb = m.neighbours_begin(a), *bid = m.bond_ids_begin(a);
     const std::uint32_t deg = off[i + 1] - off[i];
-    colour[i] = atom_colour(mol_atoms[a], deg);
+    if (fold_hydrogens) {
+      const auto all = static_cast<std::uint32_t>(m.neighbours_end(a) - nb);
+      colour[i] = atom_colour(mol_atoms[a], all) | std::uint64_t{all - deg} << kFoldedHydrogensShift;
+    } else {
+      colour[i] = atom_colour(mol_atoms[a], deg);
+    }
     leaf[i] = deg == 1;
     std::uint32_t *out = nbr + off[i];
     std::uint8_t *out_order = order + off[i];
@@ -1161,6 +1208,9 @@ struct Workspace {
   Graph pair_graph;
   Partition pair_part;
   std::vector<IndividualisedEntry *> pair_made;
+  // heavy_atom_classes(): pairs of equal leaves whose exchange relates the
+  // configurations of their atom.
+  std::vector<std::pair<std::uint32_t, std::uint32_t>> free_pairs;
 };
 
 // Lends the calling thread's Workspace for one compute_classes() call; a
@@ -1187,6 +1237,32 @@ class WorkspaceLease {
  private:
   detail::ThreadLease<Workspace> lease_;
 };
+
+// The orbits of fragment f (graph g, base partition p, search starts
+// ws.starts[f]) merged into `into`, the molecule's sets: the topological
+// ones (candidates: the cells of p), or with `topo` (the molecule's
+// topological class ids) the stereo-aware ones, candidates being the
+// topological classes. A molecule of one fragment (`single`) works on the
+// molecule's sets directly, its local atoms being the molecule's.
+void fragment_orbits(Workspace &ws, const Graph &g, const Partition &p, std::size_t f, bool single,
+                     const std::vector<std::uint32_t> *topo, UnionFind &into, long &budget, bool &exhausted) {
+  const bool stereo = topo != nullptr;
+  UnionFind &uf = single ? into : ws.frag_uf.reset(g.n);
+  unite_twins(g, p, uf, stereo ? 3 : 2);
+  if (stereo) {
+    // Dense ids are numbered in the order of the classes' lowest atoms, as
+    // the sets' representatives are: the groups come in the same order.
+    std::vector<std::uint32_t> &within = ws.within;
+    within.resize(g.n);
+    for (std::uint32_t a = 0; a < g.n; ++a) within[a] = (*topo)[g.global[a]];
+    groups_of(g.n, within, ws.groups, ws.count, ws.fill);
+  } else {
+    groups_of_cells(p, ws.groups);
+  }
+  orbits(g, ws.starts[f], ws.groups, stereo, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found, f);
+  if (&uf != &into)
+    for (std::uint32_t a = 0; a < g.n; ++a) into.unite(g.global[a], g.global[uf.find(a)]);
+}
 
 }  // namespace
 
@@ -1252,14 +1328,7 @@ AtomClasses compute_classes(const Molecule &m) {
     const Graph &g = frag_graph(f);
     ws.starts.emplace_back(g, frag_part(f), ws.entries, ws.search_scratch, ws.made.data() + first);
     first += g.n;
-    // A single fragment's local atoms are the molecule's: it works on the
-    // molecule's sets directly.
-    UnionFind &uf = nfrag == 1 ? topo_uf : ws.frag_uf.reset(g.n);
-    unite_twins(g, frag_part(f), uf, 2);
-    groups_of_cells(frag_part(f), ws.groups);
-    orbits(g, ws.starts[f], ws.groups, false, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found, f);
-    if (&uf != &topo_uf)
-      for (std::uint32_t a = 0; a < g.n; ++a) topo_uf.unite(g.global[a], g.global[uf.find(a)]);
+    fragment_orbits(ws, g, frag_part(f), f, nfrag == 1, nullptr, topo_uf, budget, exhausted);
   }
 
   // Copies of one fragment: same signature; confirm with a search on the
@@ -1301,17 +1370,7 @@ AtomClasses compute_classes(const Molecule &m) {
   for (std::size_t f = 0; f < nfrag; ++f) {
     Graph &g = frag_graph(f);
     add_stereo(sm, g, local_of);
-    UnionFind &uf = nfrag == 1 ? chem_uf : ws.frag_uf.reset(g.n);
-    unite_twins(g, frag_part(f), uf, 3);
-    // Dense ids are numbered in the order of the classes' lowest atoms, as
-    // the sets' representatives are: the groups come in the same order.
-    std::vector<std::uint32_t> &within = ws.within;
-    within.resize(g.n);
-    for (std::uint32_t a = 0; a < g.n; ++a) within[a] = topo_pre[g.global[a]];
-    groups_of(g.n, within, ws.groups, ws.count, ws.fill);
-    orbits(g, ws.starts[f], ws.groups, true, uf, budget, exhausted, ws.levels, ws.sigma, ws.reps, ws.found, f);
-    if (&uf != &chem_uf)
-      for (std::uint32_t a = 0; a < g.n; ++a) chem_uf.unite(g.global[a], g.global[uf.find(a)]);
+    fragment_orbits(ws, g, frag_part(f), f, nfrag == 1, &topo_pre, chem_uf, budget, exhausted);
   }
 
   for (std::size_t i0 = 0; i0 < ws.sig_order.size() && nfrag > 1;) {
@@ -1367,6 +1426,235 @@ AtomClasses compute_classes(const Molecule &m) {
     out.notes.push_back("symmetry search budget exhausted: some equivalent atoms may be reported as distinct");
   return out;
 }
+
+namespace detail {
+
+// Why the heavy atoms' classes come out as compute_classes() gives them:
+// docs/equivalence.md, "Heavy atoms only". In short, a symmetry of the
+// configured heavy graph extends to the whole molecule (an atom's hydrogens
+// go to its image's in the order its configuration needs; a single hydrogen
+// is an implicit ligand, -1, mapped to itself as a lone pair is) and every
+// symmetry of the molecule restricts to one of the heavy graph; and the
+// canonical configurations, picked here from another order than in
+// compute_classes(), are only allowed to differ where that cannot change a
+// class.
+bool heavy_atom_classes(const Molecule &m, AtomClasses &out) {
+  const auto n = static_cast<std::uint32_t>(m.atom_count());
+  const auto nh = static_cast<std::uint32_t>(m.heavy_atom_count());
+  if (nh == 0) return false;
+  for (std::uint32_t h = nh; h < n; ++h) {
+    const Atom &a = m.atom(h);
+    if (a.atomic_number != 1 || a.isotope != 0 || a.formal_charge != 0 || a.radical_electrons != 0 ||
+        m.degree(h) != 1 || *m.neighbours_begin(h) >= nh || m.bond(*m.bond_ids_begin(h)).order != BondOrder::Single)
+      return false;
+  }
+  for (std::uint32_t a = 0; a < nh; ++a)
+    if (m.degree(a) > 255) return false;  // atom_colour() caps the degree
+  long budget = kNodesPerMolecule;
+  bool exhausted = false;
+  const WorkspaceLease lease;
+  Workspace &ws = *lease;
+  auto parent = [&](std::uint32_t h) { return *m.neighbours_begin(h); };
+
+  // Each fragment on its own, as compute_classes() solves them; every
+  // fragment holds a heavy atom (a hydrogen's neighbour is heavy). Copies of
+  // one fragment are left to compute_classes(), which merges them.
+  const std::size_t nfrag = m.fragment_count();
+  std::vector<std::uint32_t> &all = ws.all;
+  if (nfrag == 1) {
+    all.resize(nh);
+    std::iota(all.begin(), all.end(), 0u);
+    ws.frag_first.assign({0, nh});
+  } else {
+    // Heavy atoms bucketed by fragment, increasing within each.
+    ws.frag_first.assign(nfrag + 1, 0);
+    for (std::uint32_t a = 0; a < nh; ++a) ++ws.frag_first[m.fragments()[a] + 1];
+    for (std::size_t f = 0; f < nfrag; ++f) ws.frag_first[f + 1] += ws.frag_first[f];
+    all.resize(nh);
+    ws.fill.assign(ws.frag_first.begin(), ws.frag_first.end() - 1);
+    for (std::uint32_t a = 0; a < nh; ++a) all[ws.fill[m.fragments()[a]]++] = a;
+    if (ws.frag_graphs.size() < nfrag) {
+      ws.frag_graphs.resize(nfrag);
+      ws.frag_parts.resize(nfrag);
+    }
+  }
+  auto graph = [&](std::size_t f) -> Graph & { return nfrag == 1 ? ws.whole : ws.frag_graphs[f]; };
+  auto part = [&](std::size_t f) -> Partition & { return nfrag == 1 ? ws.pw : ws.frag_parts[f]; };
+  ws.local_of.assign(n, kUnset);
+  const std::uint32_t *local = ws.local_of.data();
+  for (std::size_t f = 0; f < nfrag; ++f) {
+    const AtomRange atoms{all.data() + ws.frag_first[f], all.data() + ws.frag_first[f + 1]};
+    build_structure(m, atoms, ws.local_of, graph(f), true);
+    detail::initial_partition(graph(f), part(f), ws.scratch);
+  }
+  if (nfrag > 1) {
+    ws.sig.clear();
+    ws.sig_first.assign(1, 0);
+    for (std::size_t f = 0; f < nfrag; ++f) {
+      append_fragment_signature(graph(f), part(f), ws.sig);
+      ws.sig_first.push_back(ws.sig.size());
+    }
+    auto signature = [&](std::size_t f) {
+      return Run<std::uint64_t>{ws.sig.data() + ws.sig_first[f], ws.sig.data() + ws.sig_first[f + 1]};
+    };
+    ws.sig_order.resize(nfrag);
+    std::iota(ws.sig_order.begin(), ws.sig_order.end(), 0u);
+    std::sort(ws.sig_order.begin(), ws.sig_order.end(),
+              [&](std::uint32_t x, std::uint32_t y) { return signature(x) < signature(y); });
+    for (std::size_t i = 1; i < nfrag; ++i)
+      if (signature(ws.sig_order[i - 1]) == signature(ws.sig_order[i])) return false;
+  }
+  auto frag_of = [&](std::uint32_t a) -> std::size_t { return nfrag == 1 ? 0 : m.fragments()[a]; };
+  auto cell_size = [&](std::uint32_t a) { return part(frag_of(a)).size_of(local[a]); };
+  // Refinement cells of each fragment's heavy graph; a hydrogen ranks after
+  // them all, by its parent's cell.
+  out.invariant_rank.resize(n);
+  for (std::uint32_t a = 0; a < nh; ++a) out.invariant_rank[a] = part(frag_of(a)).cell[local[a]];
+  for (std::uint32_t h = nh; h < n; ++h) out.invariant_rank[h] = nh + out.invariant_rank[parent(h)];
+
+  // The stereo model of the whole molecule, in an order of these graphs'
+  // (hydrogens after every heavy atom), carried over to the heavy graphs.
+  // Whether a configuration is unspecified and could be mapped onto another
+  // element is asked of the refinement cells, which hold whole orbits: an
+  // atom alone in its cell is alone in its orbit (a molecule this turns
+  // down on a cell that is not an orbit goes to compute_classes() all the
+  // same). The ranks stand in for the topological classes, which
+  // build_stereo() reads only for its notes.
+  std::vector<std::uint32_t> &order = ws.within;
+  order.resize(n);
+  for (std::uint32_t a = 0; a < nh; ++a) order[a] = ws.frag_first[frag_of(a)] + part(frag_of(a)).pos[local[a]];
+  for (std::uint32_t h = nh; h < n; ++h) order[h] = h;
+  StereoModel &sm = ws.stereo;
+  build_stereo(m, order, out.invariant_rank, sm, true);
+  auto given_centre = [&](std::uint32_t c) { return !sm.given.empty() && sm.given[c] >= 0; };
+  auto given_bond = [&](std::uint32_t u, std::uint32_t v) {
+    const std::uint32_t lo = std::min(u, v), hi = std::max(u, v);
+    for (const auto &d : sm.given_db)
+      if (d.lo == lo && d.hi == hi) return true;
+    return false;
+  };
+  // Two equal leaves of the heavy graph on one atom (the F of a CF2, the
+  // methyls of an isopropyl group): exchanging them alone is a symmetry, so
+  // the two configurations of that atom differ by that exchange, and so do
+  // the classes they give, which cannot matter when the two leaves share a
+  // class. Such an element may be unspecified and exchanged with others;
+  // its pair is checked once the classes are known (`free_pairs`).
+  auto equal_leaves = [&](std::int32_t a, std::int32_t b) {
+    if (a < 0 || b < 0 || a >= static_cast<std::int32_t>(nh) || b >= static_cast<std::int32_t>(nh)) return false;
+    const Graph &g = graph(frag_of(static_cast<std::uint32_t>(a)));
+    const std::uint32_t la = local[a], lb = local[b];
+    return g.leaf[la] && g.leaf[lb] && g.colour[la] == g.colour[lb] && g.order[g.off[la]] == g.order[g.off[lb]];
+  };
+  std::vector<std::pair<std::uint32_t, std::uint32_t>> &free_pairs = ws.free_pairs;
+  free_pairs.clear();
+  auto leaf_pair = [&](const std::int32_t *lig, int count) {
+    for (int i = 0; i < count; ++i)
+      for (int j = i + 1; j < count; ++j)
+        if (equal_leaves(lig[i], lig[j])) {
+          free_pairs.emplace_back(static_cast<std::uint32_t>(lig[i]), static_cast<std::uint32_t>(lig[j]));
+          return true;
+        }
+    return false;
+  };
+  // Heavy atoms in local numbering, a hydrogen or a lone pair as -1.
+  auto heavy_local = [&](std::int32_t a) {
+    return a < 0 || a >= static_cast<std::int32_t>(nh) ? -1 : static_cast<std::int32_t>(local[a]);
+  };
+  for (const auto &t : sm.tetra) {
+    Graph &g = graph(frag_of(t.centre));
+    TetraConfig lt;
+    lt.centre = local[t.centre];
+    int implicit = 0;
+    for (int k = 0; k < 4; ++k) {
+      lt.lig[k] = heavy_local(t.lig[k]);
+      implicit += lt.lig[k] < 0 ? 1 : 0;
+    }
+    // (build_stereo() left out the atoms with two or more hydrogens:
+    // exchanging two of them fixes any parity.)
+    if (implicit >= 2) return false;  // a hydrogen and a lone pair: no parity without them
+    if (!given_centre(t.centre) && cell_size(t.centre) > 1 && !leaf_pair(t.lig.data(), 4)) return false;
+    g.tetra_of[lt.centre] = static_cast<std::int32_t>(g.tetra.size());
+    g.tetra.push_back(lt);
+  }
+  for (const auto &d : sm.dbl) {
+    // (build_stereo() left out the bonds with an end carrying two hydrogens:
+    // exchanging them fixes either geometry.)
+    if (!given_bond(d.u, d.v)) {
+      // Each end's cell may hold only the bond's two atoms.
+      const Partition &p = part(frag_of(d.u));
+      const std::uint32_t room = p.cell[local[d.u]] == p.cell[local[d.v]] ? 2 : 1;
+      auto end_pair = [&](std::uint32_t end, std::uint32_t partner) {
+        std::int32_t o[2] = {-1, -1};
+        int k = 0;
+        for (auto it = m.neighbours_begin(end); it != m.neighbours_end(end) && k < 2; ++it)
+          if (*it != partner) o[k++] = static_cast<std::int32_t>(*it);
+        return leaf_pair(o, k);
+      };
+      if ((cell_size(d.u) > room || cell_size(d.v) > room) && !end_pair(d.u, d.v) && !end_pair(d.v, d.u))
+        return false;
+    }
+    Graph &g = graph(frag_of(d.u));
+    const DoubleConfig ld{local[d.u], local[d.v], heavy_local(d.ru), heavy_local(d.rv), d.cis};
+    const auto idx = static_cast<std::int32_t>(g.dbl.size());
+    g.dbl_of[ld.u] = idx;
+    g.dbl_of[ld.v] = idx;
+    g.dbl.push_back(ld);
+  }
+
+  // Topological orbits, then the classes of every atom: a hydrogen's
+  // follows its parent's (plain hydrogens on one atom are equal leaves),
+  // numbered after the heavy atoms' in the order of their lowest hydrogen,
+  // as dense_ids() numbers them. The configurations only come into play with
+  // the stereo searches.
+  ws.search_scratch.reset(nh);
+  UnionFind &topo_uf = ws.topo_uf.reset(nh), &chem_uf = ws.chem_uf.reset(nh);
+  ws.made.assign(nh, nullptr);
+  ws.starts.reserve(nfrag);
+  for (std::size_t f = 0; f < nfrag; ++f) {
+    ws.starts.emplace_back(graph(f), part(f), ws.entries, ws.search_scratch, ws.made.data() + ws.frag_first[f]);
+    fragment_orbits(ws, graph(f), part(f), f, nfrag == 1, nullptr, topo_uf, budget, exhausted);
+  }
+  if (exhausted) return false;
+  std::vector<std::uint32_t> &by_parent_class = ws.fill;
+  auto hydrogens_follow = [&](std::vector<std::uint32_t> &ids, std::uint32_t heavy_count, std::uint32_t &count) {
+    ids.resize(n);
+    by_parent_class.assign(heavy_count, kUnset);
+    count = heavy_count;
+    for (std::uint32_t h = nh; h < n; ++h) {
+      auto &c = by_parent_class[ids[parent(h)]];
+      if (c == kUnset) c = count++;
+      ids[h] = c;
+    }
+  };
+  std::uint32_t tcount = 0;
+  dense_ids(topo_uf, nh, out.topological, tcount, ws.count);
+  hydrogens_follow(out.topological, tcount, out.topological_count);
+
+  // Chemical classes of the heavy atoms, as compute_classes() finds them;
+  // a hydrogen gets its parent's. Without a configuration left in the heavy
+  // graphs every graph symmetry is allowed, and they are the topological
+  // classes.
+  bool configured = false;
+  for (std::size_t f = 0; f < nfrag; ++f) configured = configured || !graph(f).tetra.empty() || !graph(f).dbl.empty();
+  if (!configured) {
+    out.chemical.assign(out.topological.begin(), out.topological.end());
+    out.chemical_count = out.topological_count;
+    out.notes.clear();
+    return true;
+  }
+  for (std::size_t f = 0; f < nfrag; ++f)
+    fragment_orbits(ws, graph(f), part(f), f, nfrag == 1, &out.topological, chem_uf, budget, exhausted);
+  if (exhausted) return false;
+  for (const auto &[a, b] : free_pairs)
+    if (chem_uf.find(a) != chem_uf.find(b)) return false;
+  std::uint32_t ccount = 0;
+  dense_ids(chem_uf, nh, out.chemical, ccount, ws.count);
+  hydrogens_follow(out.chemical, ccount, out.chemical_count);
+  out.notes.clear();
+  return true;
+}
+
+}  // namespace detail
 
 std::uint64_t constitution_key(const Molecule &m, const AtomClasses &classes) {
   const auto n = m.atom_count();

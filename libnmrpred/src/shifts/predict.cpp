@@ -19,6 +19,7 @@
 
 #include <fmt/format.h>
 
+#include "graph/heavy_classes.hpp"
 #include "shifts/fixed_text.hpp"
 #include "shifts/increments_h1.hpp"
 #include "shifts/reference_index.hpp"
@@ -674,8 +675,10 @@ std::vector<C13SetEntry> predict_c13_set(const std::vector<Molecule> &molecules,
     (void)make_c13_increments(parsed, tables, options.solvent);
   }
   const ReferenceIndex *index = options.use_reference ? &tables.reference_index() : nullptr;
-  // Per molecule of a block, what the stages pass on: the carbons flagged
+  // Per molecule of a block, what the stages pass on: its classes (those
+  // of heavy_atom_classes() where that shortcut serves), the carbons flagged
   // for keys and their keys, and where its rule values start.
+  std::vector<AtomClasses> classes(kSetBlock);
   std::vector<std::vector<bool>> keyed(kSetBlock);
   std::vector<std::vector<HoseKeys>> keys(kSetBlock);
   std::vector<std::size_t> value_start(kSetBlock);
@@ -690,7 +693,13 @@ std::vector<C13SetEntry> predict_c13_set(const std::vector<Molecule> &molecules,
   for (std::size_t first = 0; first < molecules.size(); first += kSetBlock) {
     const std::size_t last = std::min(molecules.size(), first + kSetBlock);
     for (std::size_t i = first; i < last; ++i)
-      guarded(out[i], [&] { out[i].classes = compute_classes(molecules[i]); });
+      guarded(out[i], [&] {
+        AtomClasses &c = classes[i - first];
+        // Blind mode takes the constitution key from compute_classes()'s
+        // invariant ranks, which the heavy-atom shortcut does not give.
+        if (options.blind || !heavy_atom_classes(molecules[i], c)) c = compute_classes(molecules[i]);
+        out[i].classes.assign(c.chemical.begin(), c.chemical.begin() + molecules[i].heavy_atom_count());
+      });
     if (index)
       for (std::size_t i = first; i < last; ++i) {
         auto &flags = keyed[i - first];
@@ -699,7 +708,7 @@ std::vector<C13SetEntry> predict_c13_set(const std::vector<Molecule> &molecules,
           const Molecule &m = molecules[i];
           // The atoms predict_c13_on's first lookup keys.
           flag_keyed(m, Nucleus::C13, false, flags);
-          keys[i - first] = hose_keys(m, out[i].classes, flags, index);
+          keys[i - first] = hose_keys(m, classes[i - first], flags, index);
         });
       }
     value_of.clear();
@@ -714,12 +723,12 @@ std::vector<C13SetEntry> predict_c13_set(const std::vector<Molecule> &molecules,
         value_of.resize(at + m.heavy_atom_count(), KeptRuleValues::kNoValue);
         // The carbons run_sources asks about: the first of each chemical
         // class, in atom order, which is the order the lookups ask in.
-        ShiftQuery q(m, out[i].classes, tables, options, Nucleus::C13);
+        ShiftQuery q(m, classes[i - first], tables, options, Nucleus::C13);
         const auto rules = make_c13_increments(parsed, tables, options.solvent);
         seen.assign(m.atom_count(), 0);
         for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) {
           if (m.atom(a).atomic_number != 6) continue;
-          char &s = seen[out[i].classes.chemical[a]];
+          char &s = seen[classes[i - first].chemical[a]];
           if (s) continue;
           s = 1;
           draft.reset();
@@ -732,9 +741,9 @@ std::vector<C13SetEntry> predict_c13_set(const std::vector<Molecule> &molecules,
     for (std::size_t i = first; i < last; ++i)
       guarded(out[i], [&] {
         const Molecule &m = molecules[i];
-        MoleculeFacts facts(m, out[i].classes);
+        MoleculeFacts facts(m, classes[i - first]);
         if (index) facts.set_all_keys(std::move(keys[i - first]), std::move(keyed[i - first]), *index);
-        ShiftQuery q(m, out[i].classes, tables, options, Nucleus::C13, &facts);
+        ShiftQuery q(m, classes[i - first], tables, options, Nucleus::C13, &facts);
         const KeptRuleValues kept(value_of.data() + value_start[i - first], m.heavy_atom_count(), values.data(),
                                   methods);
         out[i].shifts = predict_c13_with(q, parsed ? &kept : nullptr, &out[i].warnings);
