@@ -226,6 +226,18 @@ TEST_SUITE("classes") {
       nmrpred::AtomClasses h;
       CHECK_FALSE(nmrpred::detail::heavy_atom_classes(m, h));
     }
+    // And a hydrogen on another bond than a single one (a graph no reader
+    // makes, but one the API accepts; the input fuzzer found it): the
+    // colours of the heavy graph do not carry the bond.
+    nmrpred::MoleculeData d;
+    d.atoms.resize(5);
+    d.atoms[0].atomic_number = 6;
+    d.atoms[1].atomic_number = 6;
+    for (int k = 2; k < 5; ++k) d.atoms[k].atomic_number = 1;
+    d.bonds = {{0, 1, nmrpred::BondOrder::Single}, {0, 2, nmrpred::BondOrder::Single},
+               {0, 3, nmrpred::BondOrder::Triple}, {1, 4, nmrpred::BondOrder::Single}};
+    nmrpred::AtomClasses h;
+    CHECK_FALSE(nmrpred::detail::heavy_atom_classes(nmrpred::Molecule(std::move(d)), h));
   }
 
   TEST_CASE("the heavy-atom shortcut agrees with compute_classes over the NCI sample") {
