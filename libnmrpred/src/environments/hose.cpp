@@ -1422,19 +1422,24 @@ void code_every_atom(const Molecule &molecule, const AtomClasses &classes, Engin
   auto &h_start = engine.every.h_start;
   auto &h_list = engine.every.h_list;
   h_start.assign(heavy + 2, 0);
+  // No hydrogen wanted (13C alone): none is coded, and none is copied, as a
+  // hydrogen would copy only another's empty result.
+  bool hydrogens = !needed;
+  for (std::size_t h = heavy; h < count && !hydrogens; ++h) hydrogens = wanted(h);
+  const std::size_t last = hydrogens ? count : heavy;
   auto terminal_parent = [&](std::size_t h) -> std::size_t {
     const std::int64_t parent = molecule.attached_to(h);
     if (molecule.degree(h) == 1 && parent >= 0 && static_cast<std::size_t>(parent) < heavy)
       return static_cast<std::size_t>(parent);
     return heavy;
   };
-  for (std::size_t h = heavy; h < count; ++h) ++h_start[terminal_parent(h) + 1];
+  for (std::size_t h = heavy; h < last; ++h) ++h_start[terminal_parent(h) + 1];
   for (std::size_t a = 0; a < heavy; ++a) h_start[a + 1] += h_start[a];
   h_list.resize(h_start[heavy]);
   {
     auto &fill = engine.every.fill;
     fill.assign(h_start.begin(), h_start.begin() + static_cast<std::ptrdiff_t>(heavy));
-    for (std::size_t h = heavy; h < count; ++h) {
+    for (std::size_t h = heavy; h < last; ++h) {
       const std::size_t parent = terminal_parent(h);
       if (parent < heavy) h_list[fill[parent]++] = static_cast<std::uint32_t>(h);
     }
@@ -1471,7 +1476,7 @@ void code_every_atom(const Molecule &molecule, const AtomClasses &classes, Engin
     }
   }
   // Hydrogens bonded to no heavy atom, or to more than one atom.
-  for (std::size_t h = heavy; h < count; ++h) {
+  for (std::size_t h = heavy; h < last; ++h) {
     if (done[h] || take_class(h)) continue;
     if (wanted(h)) {
       engine.run(static_cast<std::uint32_t>(h), spheres_for(h));
