@@ -297,7 +297,6 @@ void build_stereo(const Molecule &m, const std::vector<std::uint32_t> &canon, co
     const std::uint32_t *nb = m.neighbours_begin(c), *nb_end = m.neighbours_end(c);
     const auto deg = static_cast<std::size_t>(nb_end - nb);
     if (deg != 4 && !lone_pair_centre(atoms[c], deg)) continue;
-    if (atoms[c].atomic_number == 1) continue;
     if (heavy_only && hydrogens(c) >= 2) continue;
     TetraConfig t;
     t.centre = c;
@@ -1264,6 +1263,50 @@ void fragment_orbits(Workspace &ws, const Graph &g, const Partition &p, std::siz
     for (std::uint32_t a = 0; a < g.n; ++a) into.unite(g.global[a], g.global[uf.find(a)]);
 }
 
+// Atoms [0, count) of a molecule of several fragments bucketed by fragment
+// into ws.frag_atoms, increasing within each, as build_structure() wants
+// them (fragment f's are frag_atoms[frag_first[f], frag_first[f + 1])), with
+// a graph and a partition per fragment in ws.frag_graphs and ws.frag_parts.
+void bucket_fragments(const Molecule &m, std::uint32_t count, Workspace &ws) {
+  const std::size_t nfrag = m.fragment_count();
+  ws.frag_first.assign(nfrag + 1, 0);
+  for (std::uint32_t a = 0; a < count; ++a) ++ws.frag_first[m.fragments()[a] + 1];
+  for (std::size_t f = 0; f < nfrag; ++f) ws.frag_first[f + 1] += ws.frag_first[f];
+  ws.frag_atoms.resize(count);
+  ws.fill.assign(ws.frag_first.begin(), ws.frag_first.end() - 1);
+  for (std::uint32_t a = 0; a < count; ++a) ws.frag_atoms[ws.fill[m.fragments()[a]]++] = a;
+  if (ws.frag_graphs.size() < nfrag) {
+    ws.frag_graphs.resize(nfrag);
+    ws.frag_parts.resize(nfrag);
+  }
+}
+
+// Fragment f's signature among those of ws.sig (see sort_by_signature()).
+Run<std::uint64_t> fragment_signature(const Workspace &ws, std::size_t f) {
+  return Run<std::uint64_t>{ws.sig.data() + ws.sig_first[f], ws.sig.data() + ws.sig_first[f + 1]};
+}
+
+// The signatures of the fragments' graphs and refined partitions
+// (ws.frag_graphs, ws.frag_parts) into ws.sig, and the fragments in order
+// of signature, then index, into ws.sig_order: runs of equal signatures are
+// the sets of candidate copies.
+void sort_by_signature(Workspace &ws, std::size_t nfrag) {
+  ws.sig.clear();
+  ws.sig_first.assign(1, 0);
+  for (std::size_t f = 0; f < nfrag; ++f) {
+    append_fragment_signature(ws.frag_graphs[f], ws.frag_parts[f], ws.sig);
+    ws.sig_first.push_back(ws.sig.size());
+  }
+  ws.sig_order.resize(nfrag);
+  std::iota(ws.sig_order.begin(), ws.sig_order.end(), 0u);
+  std::sort(ws.sig_order.begin(), ws.sig_order.end(), [&](std::uint32_t x, std::uint32_t y) {
+    const auto sx = fragment_signature(ws, x), sy = fragment_signature(ws, y);
+    if (sx < sy) return true;
+    if (sy < sx) return false;
+    return x < y;
+  });
+}
+
 }  // namespace
 
 AtomClasses compute_classes(const Molecule &m) {
@@ -1298,19 +1341,7 @@ AtomClasses compute_classes(const Molecule &m) {
   auto frag_atoms = [&](std::size_t f) {
     return AtomRange{ws.frag_atoms.data() + ws.frag_first[f], ws.frag_atoms.data() + ws.frag_first[f + 1]};
   };
-  if (nfrag > 1) {
-    // Atoms bucketed by fragment, increasing within each, as build_structure() wants them.
-    ws.frag_first.assign(nfrag + 1, 0);
-    for (std::uint32_t a = 0; a < n; ++a) ++ws.frag_first[m.fragments()[a] + 1];
-    for (std::size_t f = 0; f < nfrag; ++f) ws.frag_first[f + 1] += ws.frag_first[f];
-    ws.frag_atoms.resize(n);
-    ws.fill.assign(ws.frag_first.begin(), ws.frag_first.end() - 1);
-    for (std::uint32_t a = 0; a < n; ++a) ws.frag_atoms[ws.fill[m.fragments()[a]]++] = a;
-    if (ws.frag_graphs.size() < nfrag) {
-      ws.frag_graphs.resize(nfrag);
-      ws.frag_parts.resize(nfrag);
-    }
-  }
+  if (nfrag > 1) bucket_fragments(m, n, ws);
   auto frag_graph = [&](std::size_t f) -> Graph & { return nfrag == 1 ? whole : ws.frag_graphs[f]; };
   auto frag_part = [&](std::size_t f) -> const Partition & { return nfrag == 1 ? pw : ws.frag_parts[f]; };
 
@@ -1334,25 +1365,8 @@ AtomClasses compute_classes(const Molecule &m) {
   // Copies of one fragment: same signature; confirm with a search on the
   // pair. Fragments in order of signature (then index): runs of equal ones
   // are the sets of candidate copies.
-  auto signature = [&](std::size_t f) {
-    return Run<std::uint64_t>{ws.sig.data() + ws.sig_first[f], ws.sig.data() + ws.sig_first[f + 1]};
-  };
-  if (nfrag > 1) {
-    ws.sig.clear();
-    ws.sig_first.assign(1, 0);
-    for (std::size_t f = 0; f < nfrag; ++f) {
-      append_fragment_signature(ws.frag_graphs[f], ws.frag_parts[f], ws.sig);
-      ws.sig_first.push_back(ws.sig.size());
-    }
-    ws.sig_order.resize(nfrag);
-    std::iota(ws.sig_order.begin(), ws.sig_order.end(), 0u);
-    std::sort(ws.sig_order.begin(), ws.sig_order.end(), [&](std::uint32_t x, std::uint32_t y) {
-      const auto sx = signature(x), sy = signature(y);
-      if (sx < sy) return true;
-      if (sy < sx) return false;
-      return x < y;
-    });
-  }
+  auto signature = [&](std::size_t f) { return fragment_signature(ws, f); };
+  if (nfrag > 1) sort_by_signature(ws, nfrag);
 
   std::uint32_t tcount = 0;
   std::vector<std::uint32_t> &topo_pre = out.topological;
@@ -1460,49 +1474,26 @@ bool heavy_atom_classes(const Molecule &m, AtomClasses &out) {
   // fragment holds a heavy atom (a hydrogen's neighbour is heavy). Copies of
   // one fragment are left to compute_classes(), which merges them.
   const std::size_t nfrag = m.fragment_count();
-  std::vector<std::uint32_t> &all = ws.all;
   if (nfrag == 1) {
-    all.resize(nh);
-    std::iota(all.begin(), all.end(), 0u);
+    ws.frag_atoms.resize(nh);
+    std::iota(ws.frag_atoms.begin(), ws.frag_atoms.end(), 0u);
     ws.frag_first.assign({0, nh});
   } else {
-    // Heavy atoms bucketed by fragment, increasing within each.
-    ws.frag_first.assign(nfrag + 1, 0);
-    for (std::uint32_t a = 0; a < nh; ++a) ++ws.frag_first[m.fragments()[a] + 1];
-    for (std::size_t f = 0; f < nfrag; ++f) ws.frag_first[f + 1] += ws.frag_first[f];
-    all.resize(nh);
-    ws.fill.assign(ws.frag_first.begin(), ws.frag_first.end() - 1);
-    for (std::uint32_t a = 0; a < nh; ++a) all[ws.fill[m.fragments()[a]]++] = a;
-    if (ws.frag_graphs.size() < nfrag) {
-      ws.frag_graphs.resize(nfrag);
-      ws.frag_parts.resize(nfrag);
-    }
+    bucket_fragments(m, nh, ws);
   }
   auto graph = [&](std::size_t f) -> Graph & { return nfrag == 1 ? ws.whole : ws.frag_graphs[f]; };
   auto part = [&](std::size_t f) -> Partition & { return nfrag == 1 ? ws.pw : ws.frag_parts[f]; };
   ws.local_of.assign(n, kUnset);
   const std::uint32_t *local = ws.local_of.data();
   for (std::size_t f = 0; f < nfrag; ++f) {
-    const AtomRange atoms{all.data() + ws.frag_first[f], all.data() + ws.frag_first[f + 1]};
+    const AtomRange atoms{ws.frag_atoms.data() + ws.frag_first[f], ws.frag_atoms.data() + ws.frag_first[f + 1]};
     build_structure(m, atoms, ws.local_of, graph(f), true);
     detail::initial_partition(graph(f), part(f), ws.scratch);
   }
   if (nfrag > 1) {
-    ws.sig.clear();
-    ws.sig_first.assign(1, 0);
-    for (std::size_t f = 0; f < nfrag; ++f) {
-      append_fragment_signature(graph(f), part(f), ws.sig);
-      ws.sig_first.push_back(ws.sig.size());
-    }
-    auto signature = [&](std::size_t f) {
-      return Run<std::uint64_t>{ws.sig.data() + ws.sig_first[f], ws.sig.data() + ws.sig_first[f + 1]};
-    };
-    ws.sig_order.resize(nfrag);
-    std::iota(ws.sig_order.begin(), ws.sig_order.end(), 0u);
-    std::sort(ws.sig_order.begin(), ws.sig_order.end(),
-              [&](std::uint32_t x, std::uint32_t y) { return signature(x) < signature(y); });
+    sort_by_signature(ws, nfrag);
     for (std::size_t i = 1; i < nfrag; ++i)
-      if (signature(ws.sig_order[i - 1]) == signature(ws.sig_order[i])) return false;
+      if (fragment_signature(ws, ws.sig_order[i - 1]) == fragment_signature(ws, ws.sig_order[i])) return false;
   }
   auto frag_of = [&](std::uint32_t a) -> std::size_t { return nfrag == 1 ? 0 : m.fragments()[a]; };
   auto cell_size = [&](std::uint32_t a) { return part(frag_of(a)).size_of(local[a]); };
@@ -1636,20 +1627,19 @@ bool heavy_atom_classes(const Molecule &m, AtomClasses &out) {
   // classes.
   bool configured = false;
   for (std::size_t f = 0; f < nfrag; ++f) configured = configured || !graph(f).tetra.empty() || !graph(f).dbl.empty();
-  if (!configured) {
-    out.chemical.assign(out.topological.begin(), out.topological.end());
+  if (configured) {
+    for (std::size_t f = 0; f < nfrag; ++f)
+      fragment_orbits(ws, graph(f), part(f), f, nfrag == 1, &out.topological, chem_uf, budget, exhausted);
+    if (exhausted) return false;
+    for (const auto &[a, b] : free_pairs)
+      if (chem_uf.find(a) != chem_uf.find(b)) return false;
+    std::uint32_t ccount = 0;
+    dense_ids(chem_uf, nh, out.chemical, ccount, ws.count);
+    hydrogens_follow(out.chemical, ccount, out.chemical_count);
+  } else {
+    out.chemical = out.topological;
     out.chemical_count = out.topological_count;
-    out.notes.clear();
-    return true;
   }
-  for (std::size_t f = 0; f < nfrag; ++f)
-    fragment_orbits(ws, graph(f), part(f), f, nfrag == 1, &out.topological, chem_uf, budget, exhausted);
-  if (exhausted) return false;
-  for (const auto &[a, b] : free_pairs)
-    if (chem_uf.find(a) != chem_uf.find(b)) return false;
-  std::uint32_t ccount = 0;
-  dense_ids(chem_uf, nh, out.chemical, ccount, ws.count);
-  hydrogens_follow(out.chemical, ccount, out.chemical_count);
   out.notes.clear();
   return true;
 }

@@ -441,14 +441,10 @@ bool lookup_keyed(const Molecule &m, std::size_t atom) {
 
 void flag_keyed(const Molecule &m, Nucleus asking, bool both_nuclei, std::vector<bool> &keyed) {
   keyed.assign(m.atom_count(), false);
-  if (!both_nuclei && asking == Nucleus::C13) {
-    // 13C alone: every carbon is keyed (lookup_keyed()), and carbons are
-    // heavy atoms.
-    for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) keyed[a] = m.atom(a).atomic_number == 6;
-    return;
-  }
-  for (std::size_t a = 0; a < m.atom_count(); ++a)
-    keyed[a] = lookup_keyed(m, a) && (both_nuclei || (m.atom(a).atomic_number == 6) == (asking == Nucleus::C13));
+  // For 13C alone the hydrogens, never carbons, need no look.
+  const std::size_t last = !both_nuclei && asking == Nucleus::C13 ? m.heavy_atom_count() : m.atom_count();
+  for (std::size_t a = 0; a < last; ++a)
+    keyed[a] = (both_nuclei || (m.atom(a).atomic_number == 6) == (asking == Nucleus::C13)) && lookup_keyed(m, a);
 }
 
 namespace {
