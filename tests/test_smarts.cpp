@@ -18,6 +18,7 @@
 #include <nmrpred/tables.hpp>
 
 #include <cstdint>
+#include <initializer_list>
 #include <set>
 #include <sstream>
 #include <string>
@@ -25,6 +26,7 @@
 
 // Private header of the library (graph/), reached relative to this file.
 #include "../libnmrpred/src/graph/smarts.hpp"
+#include "nci.hpp"
 
 namespace {
 
@@ -37,6 +39,13 @@ struct AnchorRow {
   std::vector<std::uint32_t> excluded;
   std::vector<std::uint32_t> anchors;  // atoms where pattern atom 0 can sit
 };
+
+// The built-in increment tables whose rows carry SMARTS.
+const char *const kIncrementTables[] = {
+    "increments/c13_alkane.tsv",   "increments/c13_sp3_substituent.tsv", "increments/c13_alkene.tsv",
+    "increments/c13_alkyne.tsv",   "increments/c13_benzene.tsv",         "increments/c13_heteroaromatic.tsv",
+    "increments/c13_carbonyl.tsv", "increments/h1_shoolery.tsv",         "increments/h1_alkene.tsv",
+    "increments/h1_benzene.tsv",   "increments/h1_heteroaromatic.tsv",   "increments/h1_special.tsv"};
 
 // [RDKIT]
 const std::vector<AnchorRow> kAnchorRows = {
@@ -111,6 +120,43 @@ std::vector<bool> flags(const nmrpred::Molecule &m, const std::vector<std::uint3
   return out;
 }
 
+// The texts in the given columns of a built-in increment table, "-" left out.
+std::vector<std::string> table_column(const nmrpred::Tables &tables, const char *file,
+                                      std::initializer_list<const char *> names) {
+  std::vector<std::string> out;
+  std::istringstream in{std::string(tables.file_text(file))};
+  std::string line;
+  std::vector<std::size_t> cols;
+  bool header = false;
+  while (std::getline(in, line)) {
+    if (line.empty() || line[0] == '#') continue;
+    std::vector<std::string> fields;
+    std::istringstream fs(line);
+    for (std::string f; std::getline(fs, f, '\t');) fields.push_back(f);
+    if (!header) {
+      for (std::size_t i = 0; i < fields.size(); ++i)
+        for (const char *name : names)
+          if (fields[i] == name) cols.push_back(i);
+      header = true;
+      continue;
+    }
+    for (auto c : cols)
+      if (c < fields.size() && fields[c] != "-") out.push_back(fields[c]);
+  }
+  return out;
+}
+
+// Every mapping for_each_match() visits with nothing fixed (search_order()'s
+// depth-first order), as a set.
+std::set<std::vector<std::uint32_t>> visited_mappings(const SmartsPattern &p, const SmartsTarget &t) {
+  std::set<std::vector<std::uint32_t>> out;
+  nmrpred::detail::for_each_match(p, t, {}, {}, [&](const std::vector<std::uint32_t> &map) {
+    out.insert(map);
+    return false;
+  });
+  return out;
+}
+
 }  // namespace
 
 TEST_SUITE("smarts") {
@@ -156,6 +202,78 @@ TEST_SUITE("smarts") {
       CHECK(any);
       CHECK(seen.size() == row.mappings);
     }
+  }
+
+  TEST_CASE("all_matches finds every mapping of fused ring patterns") {
+    struct Row {
+      const char *pattern, *smiles;
+      std::size_t mappings;
+    };
+    // [RDKIT] len(GetSubstructMatches(..., uniquify=False)); all_matches()
+    // searches in another order than for_each_match() (closing cycles early).
+    const Row rows[] = {{"c1cccc2ccccc12", "c1ccc2ccccc2c1", 4},
+                        {"c1cccc2ccccc12", "c1ccc2cc3ccccc3cc2c1", 8},
+                        {"c1cccc2ccccc12", "c1ccc2c(c1)ccc1ccccc12", 8},
+                        {"c1cccc2ccccc12", "O=C1c2ccccc2C(=O)c2ccccc12", 0},
+                        {"c1ccc2ncccc2c1", "c1ccc2ncccc2c1", 1},
+                        {"n1ccccc1", "c1ccc(-c2ccccn2)nc1", 4},
+                        {"c1ccc2[nH]ccc2c1", "c1ccc2c(c1)[nH]c1ccccc12", 2}};
+    for (const auto &row : rows) {
+      INFO(row.pattern, " on ", row.smiles, " [RDKIT]");
+      const SmartsPattern p(row.pattern);
+      const auto m = nmrpred::read_molecule(row.smiles, nmrpred::Format::Smiles);
+      const SmartsTarget t(m);
+      const auto all = nmrpred::detail::all_matches(p, t);
+      CHECK(all.size() == row.mappings);
+      CHECK(std::set<std::vector<std::uint32_t>>(all.begin(), all.end()).size() == all.size());
+    }
+  }
+
+  TEST_CASE("searches in either order agree over the NCI sample") {
+    // all_matches() and match_at() search in an order of their own; what
+    // they find must not depend on it: the same mappings as for_each_match()
+    // visits (each once) for the parent rings of the heteroaromatic table,
+    // and an anchored match exactly where a search with the anchor fixed
+    // visits one, for every pattern of the increment tables.
+    const auto mols = nci::molecules(0, 1500);
+    REQUIRE(mols.size() > 1000);
+    const auto tables = nmrpred::Tables::builtin();
+    std::vector<SmartsPattern> rings, anchored;
+    for (const auto &text : table_column(*tables, "increments/c13_heteroaromatic.tsv", {"ring_smarts"}))
+      rings.emplace_back(text);
+    for (const char *file : kIncrementTables)
+      for (const auto &text : table_column(*tables, file, {"smarts"})) anchored.emplace_back(text);
+    REQUIRE(rings.size() > 20);
+    std::size_t mapped = 0, anchors = 0;
+    for (std::size_t i = 0; i < mols.size(); ++i) {
+      const SmartsTarget t(mols[i]);
+      for (const auto &p : rings) {
+        const auto all = nmrpred::detail::all_matches(p, t);
+        const std::set<std::vector<std::uint32_t>> found(all.begin(), all.end());
+        // Checked one by one only where they differ: the loops make
+        // millions of comparisons.
+        if (found.size() != all.size() || found != visited_mappings(p, t)) {
+          INFO("NCI record ", i, ", ", p.text());
+          CHECK(found.size() == all.size());
+          CHECK(found == visited_mappings(p, t));
+        }
+        mapped += all.size();
+      }
+      if (i % 5 != 0) continue;  // the anchored searches on every fifth molecule
+      for (const auto &p : anchored)
+        for (std::size_t a = 0; a < mols[i].heavy_atom_count(); ++a) {
+          std::vector<std::int64_t> fixed(p.atom_count(), -1);
+          fixed[0] = static_cast<std::int64_t>(a);
+          const bool visited = nmrpred::detail::for_each_match(p, t, fixed, {}, [](const auto &) { return true; });
+          if ((nmrpred::detail::match_at(p, t, a) > 0) != visited) {
+            INFO("NCI record ", i, ", atom ", a, ", ", p.text());
+            CHECK((nmrpred::detail::match_at(p, t, a) > 0) == visited);
+          }
+          anchors += visited;
+        }
+    }
+    CHECK(mapped > 100);
+    CHECK(anchors > 1000);
   }
 
   TEST_CASE("a fixed atom restricts the mappings to those that use it") {
@@ -220,37 +338,13 @@ TEST_SUITE("smarts") {
     // tables/FORMAT.md: the smarts and ring_smarts columns hold RDKit SMARTS;
     // the matcher must take all of them (the tables are the reason it exists).
     const auto tables = nmrpred::Tables::builtin();
-    const char *files[] = {"increments/c13_alkane.tsv",       "increments/c13_sp3_substituent.tsv",
-                           "increments/c13_alkene.tsv",       "increments/c13_alkyne.tsv",
-                           "increments/c13_benzene.tsv",      "increments/c13_heteroaromatic.tsv",
-                           "increments/c13_carbonyl.tsv",     "increments/h1_shoolery.tsv",
-                           "increments/h1_alkene.tsv",        "increments/h1_benzene.tsv",
-                           "increments/h1_heteroaromatic.tsv", "increments/h1_special.tsv"};
     std::size_t compiled = 0;
-    for (const char *file : files) {
-      std::istringstream in{std::string(tables->file_text(file))};
-      std::string line;
-      std::vector<std::size_t> cols;
-      bool header = false;
-      while (std::getline(in, line)) {
-        if (line.empty() || line[0] == '#') continue;
-        std::vector<std::string> fields;
-        std::istringstream fs(line);
-        for (std::string f; std::getline(fs, f, '\t');) fields.push_back(f);
-        if (!header) {
-          for (std::size_t i = 0; i < fields.size(); ++i)
-            if (fields[i] == "smarts" || fields[i] == "ring_smarts") cols.push_back(i);
-          header = true;
-          continue;
-        }
-        for (auto c : cols) {
-          if (c >= fields.size() || fields[c] == "-") continue;
-          INFO(file, ": ", fields[c]);
-          CHECK_NOTHROW(SmartsPattern{fields[c]});
-          ++compiled;
-        }
+    for (const char *file : kIncrementTables)
+      for (const auto &text : table_column(*tables, file, {"smarts", "ring_smarts"})) {
+        INFO(file, ": ", text);
+        CHECK_NOTHROW(SmartsPattern{text});
+        ++compiled;
       }
-    }
     CHECK(compiled > 100);
   }
 

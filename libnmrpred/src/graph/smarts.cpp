@@ -8,6 +8,7 @@
 #include <algorithm>
 #include <cctype>
 #include <cstring>
+#include <limits>
 #include <map>
 #include <numeric>
 #include <set>
@@ -103,6 +104,10 @@ struct SmartsImpl {
   // run for every carbon of every molecule, and building the order per search
   // cost more than most searches themselves.
   std::vector<SearchOrder> orders;
+  // Per root atom, an order that closes the pattern's cycles early
+  // (make_closing_order), for the searches whose callers ask what is found,
+  // not in which order: all_matches() and the anchored test of match_at().
+  std::vector<SearchOrder> closing_orders;
   // Heavy atoms a molecule needs for any match: (atomic number * 4 +
   // aromatic code 0 aliphatic / 1 aromatic / 2 either, count), from the
   // element and aromaticity that each atom's expression demands outright.
@@ -752,6 +757,40 @@ bool make_search_order(const SmartsImpl &p, std::uint32_t root, std::vector<std:
   return order.size() == n;
 }
 
+// Another order from `root` for searches that need not visit mappings in
+// search_order()'s order: next comes the unplaced atom with the most bonds
+// to placed atoms, of those the one whose earliest placed neighbour came
+// first, then the lowest index. A depth-first order walks a cycle of the
+// pattern to its end before the bond that closes it is tested; in a
+// molecule of fused aromatic rings, the searches for a fused parent ring
+// (c1cccc2ccccc12) then tried every pair of four-atom paths from an atom.
+// This one tests most closing bonds a few atoms after the root.
+void make_closing_order(const SmartsImpl &p, std::uint32_t root, std::vector<std::uint32_t> &order,
+                        std::vector<std::uint32_t> &parent, std::vector<std::uint32_t> &rank) {
+  const std::size_t n = p.atom_expr.size();
+  constexpr auto kUnplaced = std::numeric_limits<std::uint32_t>::max();
+  order.assign(1, root);
+  parent.assign(n, 0);
+  rank.assign(n, kUnplaced);
+  rank[root] = 0;
+  while (order.size() < n) {
+    std::uint32_t best = kUnplaced, best_bonds = 0, best_first = kUnplaced;
+    for (std::uint32_t q = 0; q < n; ++q) {
+      if (rank[q] != kUnplaced) continue;
+      std::uint32_t bonds = 0, first = kUnplaced;
+      for (const auto &nb : p.adjacency[q])
+        if (rank[nb.first] != kUnplaced) ++bonds, first = std::min(first, rank[nb.first]);
+      if (bonds == 0) continue;
+      if (best == kUnplaced || bonds > best_bonds || (bonds == best_bonds && first < best_first))
+        best = q, best_bonds = bonds, best_first = first;
+    }
+    if (best == kUnplaced) return;  // disconnected: make_search_order() has said so
+    parent[best] = order[best_first];
+    rank[best] = static_cast<std::uint32_t>(order.size());
+    order.push_back(best);
+  }
+}
+
 using Visit = std::function<bool(const std::vector<std::uint32_t> &)>;
 
 class Search {
@@ -759,11 +798,13 @@ class Search {
   // `root` is searched first; `root_atom` >= 0 puts it on that molecule atom
   // (already known to satisfy its expression when `root_checked`), -1 tries
   // every heavy atom. `fixed` (may be null) pins further pattern atoms;
-  // `visit` (may be null: stop at the first match) sees each mapping.
+  // `visit` (may be null: stop at the first match) sees each mapping, in
+  // search_order()'s order unless `closing` (SmartsImpl::closing_orders).
   Search(const SmartsImpl &p, const SmartsTarget &t, std::uint32_t root, std::int64_t root_atom, bool root_checked,
-         const std::vector<std::int64_t> *fixed, const std::vector<bool> &excluded, const Visit *visit)
+         const std::vector<std::int64_t> *fixed, const std::vector<bool> &excluded, const Visit *visit,
+         bool closing = false)
       : p_(p), t_(t), root_(root), root_atom_(root_atom), root_checked_(root_checked), fixed_(fixed),
-        excluded_(excluded), visit_(visit) {}
+        excluded_(excluded), visit_(visit), closing_(closing) {}
   ~Search() {
     if (stacked_ > 0) t_.pop_map(stacked_);
     else if (map_) t_.return_buffer(std::move(buffer_));
@@ -774,7 +815,7 @@ class Search {
   bool run() {
     const std::size_t n = p_.atom_expr.size();
     if (n == 0) return false;
-    const SearchOrder &o = p_.orders[root_];
+    const SearchOrder &o = (closing_ ? p_.closing_orders : p_.orders)[root_];
     order_ = &o;
     // A visitor is handed the map as a vector; other searches map onto the
     // target's stack while it has room.
@@ -860,6 +901,7 @@ class Search {
   const std::vector<std::int64_t> *fixed_;
   const std::vector<bool> &excluded_;
   const Visit *visit_;
+  bool closing_;
   const SearchOrder *order_ = nullptr;
   std::uint32_t *map_ = nullptr;       // pattern atom -> molecule atom
   std::size_t stacked_ = 0;            // slots map_ holds on the target's stack
@@ -875,10 +917,9 @@ SmartsPattern::SmartsPattern(std::string_view text) {
   impl->text_hash = std::hash<std::string_view>{}(impl->text);
   Parser(impl->text, *impl).parse();
   impl->orders.resize(impl->atom_expr.size());
-  for (std::uint32_t root = 0; root < impl->orders.size(); ++root) {
-    auto &o = impl->orders[root];
-    if (!make_search_order(*impl, root, o.order, o.parent, o.rank))
-      throw InternalError(fmt::format("SMARTS '{}': disconnected pattern", impl->text));
+  impl->closing_orders.resize(impl->atom_expr.size());
+  // The bonds of each placed atom to its parent and to atoms placed before it.
+  auto link = [&](SearchOrder &o, std::uint32_t root) {
     const std::size_t n = impl->atom_expr.size();
     o.parent_bond.assign(n, 0);
     o.closure_start.assign(n + 1, 0);
@@ -891,6 +932,15 @@ SmartsPattern::SmartsPattern(std::string_view text) {
       }
     }
     o.closure_start[n] = static_cast<std::uint32_t>(o.closures.size());
+  };
+  for (std::uint32_t root = 0; root < impl->orders.size(); ++root) {
+    auto &o = impl->orders[root];
+    if (!make_search_order(*impl, root, o.order, o.parent, o.rank))
+      throw InternalError(fmt::format("SMARTS '{}': disconnected pattern", impl->text));
+    link(o, root);
+    auto &c = impl->closing_orders[root];
+    make_closing_order(*impl, root, c.order, c.parent, c.rank);
+    link(c, root);
   }
   compute_filters(*impl);
   compute_ring_system_needs(*impl);
@@ -1467,7 +1517,7 @@ std::size_t match_at_unscreened(const SmartsPattern &p, const SmartsTarget &t, s
   // part in it is a search of its own, while the rest of a row mostly
   // fails at the first neighbour: such a root is tested last.
   if (!root.costly && !root_holds()) return 0;
-  if (several && !Search(impl, t, 0, static_cast<std::int64_t>(atom), true, nullptr, excluded, nullptr).run())
+  if (several && !Search(impl, t, 0, static_cast<std::int64_t>(atom), true, nullptr, excluded, nullptr, true).run())
     return 0;
   if (root.costly && !root_holds()) return 0;
   return p.atom_count();
@@ -1527,7 +1577,7 @@ std::vector<std::vector<std::uint32_t>> all_matches(const SmartsPattern &p, cons
     return false;
   };
   const std::vector<bool> none;
-  Search(impl, t, root, -1, false, nullptr, none, &keep).run();
+  Search(impl, t, root, -1, false, nullptr, none, &keep, true).run();
   return out;
 }
 
