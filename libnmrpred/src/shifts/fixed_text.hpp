@@ -34,20 +34,28 @@ inline bool scaled_magnitude(double v, unsigned scale, std::uint64_t &out) {
   return true;
 }
 
-// Appends `sign` (may be 0: none) and scaled / 10^decimals with `decimals`
-// (1 or 2) digits after the point.
-inline void append_scaled(std::string &out, char sign, std::uint64_t scaled, int decimals) {
-  char buf[24];
-  char *const end = buf + sizeof buf;
-  char *p = end;
-  for (int d = 0; d < decimals; ++d, scaled /= 10) *--p = static_cast<char>('0' + scaled % 10);
-  *--p = '.';
+// Writes `sign` (may be 0: none) and scaled / 10^decimals with `decimals`
+// (1 or 2) digits after the point at p, at most 23 characters; returns the
+// end. The digits are counted first and written in place, back to front.
+inline char *put_scaled(char *p, char sign, std::uint64_t scaled, int decimals) {
+  if (sign) *p++ = sign;
+  int digits = 1;
+  for (std::uint64_t whole = decimals == 1 ? scaled / 10 : scaled / 100; whole >= 10; whole /= 10) ++digits;
+  char *const end = p + digits + 1 + decimals;
+  char *q = end;
+  for (int d = 0; d < decimals; ++d, scaled /= 10) *--q = static_cast<char>('0' + scaled % 10);
+  *--q = '.';
   for (;; scaled /= 10) {
-    *--p = static_cast<char>('0' + scaled % 10);
+    *--q = static_cast<char>('0' + scaled % 10);
     if (scaled < 10) break;
   }
-  if (sign) *--p = sign;
-  out.append(p, end);
+  return end;
+}
+
+// The same appended to `out`.
+inline void append_scaled(std::string &out, char sign, std::uint64_t scaled, int decimals) {
+  char buf[24];
+  out.append(buf, put_scaled(buf, sign, scaled, decimals));
 }
 
 }  // namespace nmrpred::detail

@@ -57,6 +57,7 @@
 #include <fmt/format.h>
 
 #include "graph/smarts.hpp"
+#include "shifts/fixed_text.hpp"
 #include "shifts/increment_support.hpp"
 #include "shifts/increments_h1.hpp"
 #include "shifts/sources.hpp"
@@ -279,45 +280,28 @@ struct C13IncrementTables {
 
 namespace {
 
-// v with two decimals, as fmt's "{:.2f}" writes it: std::to_chars rounds the
-// exact binary value the same way and costs a fraction of the formatter (a
-// method text holds a dozen of these). Written into buf[32]; returns the end.
-char *fixed_2(char *buf, double v) {
-  if (!std::isfinite(v)) return fmt::format_to(buf, "{:.2f}", v);
-  char *p = buf;
-  // Even to_chars costs hundreds of instructions. y = |v| * 100 is within
-  // |y| * 2^-53 (< 1e-6 below 2^31) of the exact product, so unless its
-  // fraction lies within 1e-6 of one half (a tie, or too close to tell)
-  // rounding y to the nearest integer rounds the exact value as to_chars
-  // does; the sign is written for every negative v, as to_chars writes
-  // "-0.00". Checked against to_chars on 54 million values (random, k/100,
-  // k/1000, ties k/200 and their neighbours, signed zeros) when written.
-  const double y = std::fabs(v) * 100.0;
-  const double whole = std::floor(y), fraction = y - whole;
-  if (y < 2147483648.0 && std::fabs(fraction - 0.5) > 1e-6) {
-    const auto cents = static_cast<std::uint64_t>(whole) + (fraction > 0.5 ? 1u : 0u);
-    if (std::signbit(v)) *p++ = '-';
-    p = std::to_chars(p, buf + sizeof buf, cents / 100).ptr;
-    *p++ = '.';
-    *p++ = static_cast<char>('0' + cents % 100 / 10);
-    *p++ = static_cast<char>('0' + cents % 10);
-    return p;
-  }
-  return std::to_chars(buf, buf + 32, v, std::chars_format::fixed, 2).ptr;
-}
-
 // A table value or sum as method texts print it: two decimals, one where the
-// second is 0 (table values carry one or two and are printed as written).
-// Written in place (at most 32 characters; returns the end): every method
-// text holds a dozen.
+// second is 0 (table values carry one or two and are printed as written),
+// rounded as fmt's "{:.2f}" rounds, and "0.0" for any value that rounds to
+// zero. Written in place (at most 32 characters; returns the end): every
+// method text holds a dozen. scaled_magnitude() rounds by exact integer
+// arithmetic, a fraction of the cost of std::to_chars (checked against the
+// earlier to_chars version on 29 million values, ties and their neighbours
+// among them, when written); to_chars takes the values it leaves.
 char *put_ppm(char *out, double v) {
-  char buf[32];
-  char *end = fixed_2(buf, v);
-  if (end[-1] == '0') --end;
-  if (end - buf == 4 && std::memcmp(buf, "-0.0", 4) == 0) {
-    std::memcpy(out, "0.0", 3);
-    return out + 3;
+  std::uint64_t cents = 0;
+  if (scaled_magnitude(v, 100, cents)) {
+    if (cents == 0) {
+      std::memcpy(out, "0.0", 3);
+      return out + 3;
+    }
+    const char sign = std::signbit(v) ? '-' : 0;
+    return cents % 10 != 0 ? put_scaled(out, sign, cents, 2) : put_scaled(out, sign, cents / 10, 1);
   }
+  char buf[32];
+  char *end = std::isfinite(v) ? std::to_chars(buf, buf + sizeof buf, v, std::chars_format::fixed, 2).ptr
+                               : fmt::format_to(buf, "{:.2f}", v);
+  if (end[-1] == '0') --end;
   std::memcpy(out, buf, static_cast<std::size_t>(end - buf));
   return out + (end - buf);
 }
@@ -808,8 +792,9 @@ class C13Increments final : public ShiftSource {
  public:
   // `solvent`: the sample's solvent as solvents.tsv names it (find_solvent),
   // empty for none; only the c13_solvent rows of that solvent apply.
-  C13Increments(std::shared_ptr<const C13IncrementTables> parsed, const std::string &solvent)
-      : parsed_(std::move(parsed)), tab_(parsed_->tables) {
+  // `keep_answers`: see make_c13_increments().
+  C13Increments(std::shared_ptr<const C13IncrementTables> parsed, const std::string &solvent, bool keep_answers)
+      : parsed_(std::move(parsed)), tab_(parsed_->tables), keep_answers_(keep_answers) {
     for (const auto &row : tab_.solvent)
       if (row.solvent == solvent) solvent_rows_.push_back(&row);
     if (tab_.benzene_methyl_row >= 0) methyl_row_ = &tab_.benzene[static_cast<std::size_t>(tab_.benzene_methyl_row)];
@@ -820,7 +805,7 @@ class C13Increments final : public ShiftSource {
     // The lookups ask for the rule value of a carbon and, when they give
     // way, the engine asks again: the answer is kept per atom of the query.
     target(q);
-    if (atom >= state_->answered.size()) return estimate_anew(q, atom, out);
+    if (!keep_answers_ || atom >= state_->answered.size()) return estimate_anew(q, atom, out);
     if (state_->answered[atom] < 0) {
       // Answered straight into `out`, then kept, its text behind the others
       // of the molecule (a string per kept answer cost an allocation each).
@@ -916,9 +901,13 @@ class C13Increments final : public ShiftSource {
   // call), used from one thread.
   const SmartsTarget &target(const ShiftQuery &q) const {
     const SmartsTarget &t = q.smarts_target();
-    if (query_ != &q || target_ != &t) {
+    // A query and its target made for the next molecule may take the
+    // addresses of the last ones: the molecule tells them apart (a source
+    // serving a predict_c13_set call meets each molecule once).
+    if (query_ != &q || target_ != &t || molecule_ != &t.molecule()) {
       target_ = &t;
       query_ = &q;
+      molecule_ = &t.molecule();
       state_.serves(t.molecule().atom_count());
       state_->hetero_matches.clear();
       state_->hetero_cover.clear();
@@ -1601,12 +1590,13 @@ class C13Increments final : public ShiftSource {
     const Molecule &m = t.molecule();
     if (!tab_.gp_base.set) return fail(why, "no Grant-Paul parameters");
     const std::size_t n = m.heavy_atom_count();
-    // Bond distances from k, needed for chain groups only.
+    // Bond distances from k, needed for chain groups only, and only up to 5:
+    // beyond epsilon nothing counts, and an atom further out (-1) is turned
+    // down below as one at 6 or more would be.
     auto &dist = state_->sp3_scratch.dist;
     bool dist_known = false;
     auto distance = [&](std::size_t z) {
-      if (!dist_known)
-        heavy_distances(m, k, static_cast<int>(n), dist, state_->sp3_scratch.queue), dist_known = true;
+      if (!dist_known) heavy_distances(m, k, 5, dist, state_->sp3_scratch.queue), dist_known = true;
       return dist[z];
     };
     // Kept between carbons and molecules (State::sp3_scratch): no allocation per carbon.
@@ -2024,8 +2014,10 @@ class C13Increments final : public ShiftSource {
   const C13Tables &tab_;
   std::vector<const SolventRow *> solvent_rows_;
   const BenzeneRow *methyl_row_ = nullptr;
+  const bool keep_answers_;
   mutable const ShiftQuery *query_ = nullptr;
   mutable const SmartsTarget *target_ = nullptr;
+  mutable const Molecule *molecule_ = nullptr;
   // Values of State::sp3_rows besides a row index.
   static constexpr std::int32_t kRowUnknown = -1, kRowNone = -2, kRowDepends = -3;
   const std::vector<bool> no_atoms_;       // excludes nothing
@@ -2128,7 +2120,8 @@ std::shared_ptr<const C13IncrementTables> parse_c13_increment_tables(const Table
 }
 
 std::unique_ptr<ShiftSource> make_c13_increments(std::shared_ptr<const C13IncrementTables> parsed,
-                                                 const Tables &tables, std::string_view solvent) {
+                                                 const Tables &tables, std::string_view solvent,
+                                                 bool keep_answers) {
   if (!parsed) throw InternalError("make_c13_increments: no parsed tables");
   // Resolved only when some row depends on the solvent, so a table set
   // without solvents.tsv or c13_solvent.tsv predicts as before.
@@ -2140,7 +2133,7 @@ std::unique_ptr<ShiftSource> make_c13_increments(std::shared_ptr<const C13Increm
     const auto *listed = h1 ? parsed_solvents(*h1) : nullptr;
     name = listed ? find_listed_solvent(*listed, solvent).name : find_solvent(tables, solvent).name;
   }
-  return std::make_unique<C13Increments>(std::move(parsed), name);
+  return std::make_unique<C13Increments>(std::move(parsed), name, keep_answers);
 }
 
 std::unique_ptr<ShiftSource> make_c13_increments(const Tables &tables, std::string_view solvent) {

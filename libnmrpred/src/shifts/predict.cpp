@@ -670,11 +670,14 @@ std::vector<C13SetEntry> predict_c13_set(const std::vector<Molecule> &molecules,
                                          const ShiftOptions &options) {
   std::vector<C13SetEntry> out(molecules.size());
   std::shared_ptr<const C13IncrementTables> parsed;
+  // The rules' source, made once, before any molecule: so the solvent is
+  // checked once (per molecule every one would fail alike). It serves the
+  // molecules one after the other, asked once per carbon class, and keeps
+  // no answer (they are kept here, in `values`).
+  std::unique_ptr<ShiftSource> rules;
   if (options.use_increments) {
     parsed = tables.c13_increments();
-    // Checks the solvent once, before any molecule (per molecule every one
-    // would fail alike).
-    (void)make_c13_increments(parsed, tables, options.solvent);
+    rules = make_c13_increments(parsed, tables, options.solvent, false);
   }
   const ReferenceIndex *index = options.use_reference ? &tables.reference_index() : nullptr;
   // Per molecule of a block, what the stages pass on: its classes (those
@@ -726,7 +729,6 @@ std::vector<C13SetEntry> predict_c13_set(const std::vector<Molecule> &molecules,
         // The carbons run_sources asks about: the first of each chemical
         // class, in atom order, which is the order the lookups ask in.
         ShiftQuery q(m, classes[i - first], tables, options, Nucleus::C13);
-        const auto rules = make_c13_increments(parsed, tables, options.solvent);
         seen.assign(m.atom_count(), 0);
         for (std::size_t a = 0; a < m.heavy_atom_count(); ++a) {
           if (m.atom(a).atomic_number != 6) continue;

@@ -208,14 +208,20 @@ const ShiftSource &h1_class_average();
 // prediction; a table absent from `tables` leaves its scheme empty) and
 // throws TablesError naming the file and line of a malformed row or an
 // unsupported SMARTS. The parsed tables are immutable and may be shared by
-// threads. A source object serves one predict_c13 call, from one thread.
+// threads. A source object serves one predict_c13 call, or the molecules of
+// one predict_c13_set call one after the other, from one thread.
 struct C13IncrementTables;
 std::shared_ptr<const C13IncrementTables> parse_c13_increment_tables(const Tables &tables);
 // `solvent` is the sample's solvent, a name or alias of solvents.tsv; it
 // selects the rows of c13_solvent.tsv and is looked up (ArgumentError if
-// unknown) only when that table has rows.
+// unknown) only when that table has rows. With `keep_answers` the source
+// keeps each carbon's answer for the rest of the molecule (the lookups ask
+// about a carbon, and when they give way the engine asks again); without,
+// it works each out anew, for a caller that asks once and keeps the answer
+// itself.
 std::unique_ptr<ShiftSource> make_c13_increments(std::shared_ptr<const C13IncrementTables> parsed,
-                                                 const Tables &tables, std::string_view solvent);
+                                                 const Tables &tables, std::string_view solvent,
+                                                 bool keep_answers = true);
 // Parses `tables` anew (convenience for callers that have no parsed copy).
 std::unique_ptr<ShiftSource> make_c13_increments(const Tables &tables, std::string_view solvent = "CDCl3");
 
