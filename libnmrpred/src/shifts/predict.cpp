@@ -7,8 +7,10 @@
 
 #include <algorithm>
 #include <array>
+#include <charconv>
 #include <limits>
 #include <cmath>
+#include <cstring>
 #include <iterator>
 #include <exception>
 #include <memory>
@@ -129,22 +131,58 @@ constexpr int kC13SameSchemeSphere = 2;
 // 98.6 % of those.
 constexpr std::size_t kDraftMethodRoom = 400;
 
-// Appends v as fmt's "{:+.1f}" writes it (the sign is v's, so -0.04 gives
-// -0.0).
-void append_signed_1(std::string &s, double v) {
-  std::uint64_t tenths = 0;
-  if (!scaled_magnitude(v, 10, tenths)) {
-    fmt::format_to(std::back_inserter(s), "{:+.1f}", v);
-    return;
-  }
-  append_scaled(s, std::signbit(v) ? '-' : '+', tenths, 1);
-}
+// Appends the pieces of a method text to a string through a buffer: a
+// looked-up atom's text gets a dozen pieces, each appended on its own a
+// capacity check and a library call. flush() ends the text (kept explicit:
+// appending may throw, which a destructor must not).
+class TextAppender {
+ public:
+  explicit TextAppender(std::string &s) : s_(s) {}
+  TextAppender(const TextAppender &) = delete;
+  TextAppender &operator=(const TextAppender &) = delete;
 
-// Appends n in decimal as std::to_string writes it, without the temporary.
-void append_int(std::string &s, int n) {
-  const fmt::format_int text(n);
-  s.append(text.data(), text.size());
-}
+  TextAppender &text(std::string_view t) {
+    if (t.size() > room()) {
+      flush();
+      if (t.size() > sizeof buf_) {
+        s_.append(t);
+        return *this;
+      }
+    }
+    std::memcpy(p_, t.data(), t.size());
+    p_ += t.size();
+    return *this;
+  }
+  // n in decimal, as std::to_string writes it.
+  TextAppender &integer(int n) {
+    if (room() < kNumberRoom) flush();
+    p_ = std::to_chars(p_, p_ + kNumberRoom, n).ptr;
+    return *this;
+  }
+  // v as fmt's "{:+.1f}" writes it (the sign is v's, so -0.04 gives -0.0).
+  TextAppender &signed_1(double v) {
+    std::uint64_t tenths = 0;
+    if (!scaled_magnitude(v, 10, tenths)) {
+      flush();
+      fmt::format_to(std::back_inserter(s_), "{:+.1f}", v);
+      return *this;
+    }
+    if (room() < kNumberRoom) flush();
+    p_ = put_scaled(p_, std::signbit(v) ? '-' : '+', tenths, 1);
+    return *this;
+  }
+  void flush() {
+    s_.append(buf_, p_);
+    p_ = buf_;
+  }
+
+ private:
+  static constexpr std::size_t kNumberRoom = 24;  // put_scaled's most, and an int's
+  std::size_t room() const { return static_cast<std::size_t>(buf_ + sizeof buf_ - p_); }
+  std::string &s_;
+  char buf_[256];
+  char *p_ = buf_;
+};
 
 class ReferenceLookup final : public ShiftSource {
  public:
@@ -231,24 +269,24 @@ class ReferenceLookup final : public ShiftSource {
           out.ppm = inc_q + correction;
           const double prior = (q.nucleus == Nucleus::C13 ? kC13ResidualPrior : kH1ResidualPrior)[k];
           out.uncertainty_ppm = std::sqrt(prior * prior + residual.sd * residual.sd);
-          // Plain appends rather than the formatter: one of these per looked-up
-          // atom. The rule's text is already there (query_increments).
-          std::string &m = out.method;
-          m += "; corrected by "sv;
-          append_signed_1(m, correction);
+          // Pieces through a buffer rather than the formatter: one of these
+          // per looked-up atom. The rule's text is already there
+          // (query_increments).
+          TextAppender m(out.method);
+          m.text("; corrected by "sv).signed_1(correction);
           const bool shrunk = correction != residual.median;
-          m += shrunk ? " ppm: the median residual of "sv : " ppm, the median residual of "sv;
-          append_int(m, residual.n);
-          m += user_ ? " user"sv : " built-in"sv;
-          m += residual.n == 1 ? " reference compound"sv : " reference compounds"sv;
-          m += " at HOSE sphere "sv;
-          append_int(m, k);
-          if (shrunk) {
-            m += " ("sv;
-            append_signed_1(m, residual.median);
-            m += " ppm), shrunk and capped as at every sphere up to "sv;
-            append_int(m, kShallowSphere);
-          }
+          m.text(shrunk ? " ppm: the median residual of "sv : " ppm, the median residual of "sv)
+              .integer(residual.n)
+              .text(user_ ? " user"sv : " built-in"sv)
+              .text(residual.n == 1 ? " reference compound"sv : " reference compounds"sv)
+              .text(" at HOSE sphere "sv)
+              .integer(k);
+          if (shrunk)
+            m.text(" ("sv)
+                .signed_1(residual.median)
+                .text(" ppm), shrunk and capped as at every sphere up to "sv)
+                .integer(kShallowSphere);
+          m.flush();
           fill_common(out, q, b, excluded, k);
           split_pair(out, q, atom, k, excluded);
           return true;
@@ -263,14 +301,16 @@ class ReferenceLookup final : public ShiftSource {
       out.ppm = shift.median;
       out.uncertainty_ppm = std::sqrt(levels[k].prior_ppm * levels[k].prior_ppm + shift.sd * shift.sd);
       out.solvent_named = false;  // the reference compounds' value, not the rule's
-      // Plain appends rather than the formatter, as above.
-      std::string &m = out.method;
-      m = user_ ? "user"sv : "built-in"sv;
-      m += " reference lookup, HOSE sphere "sv;
-      append_int(m, k);
-      m += ", "sv;
-      append_int(m, shift.n);
-      m += shift.n == 1 ? " compound"sv : " compounds"sv;
+      // Through a buffer rather than the formatter, as above.
+      out.method.clear();
+      TextAppender m(out.method);
+      m.text(user_ ? "user"sv : "built-in"sv)
+          .text(" reference lookup, HOSE sphere "sv)
+          .integer(k)
+          .text(", "sv)
+          .integer(shift.n)
+          .text(shift.n == 1 ? " compound"sv : " compounds"sv)
+          .flush();
       fill_common(out, q, b, excluded, k);
       split_pair(out, q, atom, k, excluded);
       return true;
