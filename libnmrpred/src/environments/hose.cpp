@@ -291,7 +291,9 @@ class Engine {
   // `ranks` (may be empty) only guides the symmetry test; results never depend on it.
   // Sets the engine up for `m`, forgetting the previous molecule but keeping
   // every buffer's capacity, so one engine serves many calls without allocating.
-  void reset(const Molecule &m, int spheres, const std::vector<std::uint32_t> &ranks) {
+  // `heavy_only`: no run will start at a hydrogen (none is wanted), so the
+  // hydrogens, which no walk from a heavy atom enters, are not set up.
+  void reset(const Molecule &m, int spheres, const std::vector<std::uint32_t> &ranks, bool heavy_only) {
     mol_ = &m;
     n_ = max_n_ = spheres;
     ranks_ = ranks.size() == m.atom_count() ? &ranks : nullptr;
@@ -311,7 +313,8 @@ class Engine {
     const std::uint32_t *const nb = count > 0 ? m.neighbours_begin(0) : nullptr;
     const std::uint32_t *const bid = count > 0 ? m.bond_ids_begin(0) : nullptr;
     std::uint32_t at = 0;  // where atom i's entries start in nb and bid
-    for (std::size_t i = 0; i < count; ++i) {
+    const std::size_t set_up = heavy_only ? heavy : count;
+    for (std::size_t i = 0; i < set_up; ++i) {
       const Atom &a = atoms[i];
       atom_tok_[i] = element_kind(a.atomic_number) << 12 | charge_rank(a.formal_charge);
       // digests() reads the terms of written atoms only, and hydrogens never are.
@@ -323,6 +326,7 @@ class Engine {
       }
       adj_off_[i + 1] = listed;
     }
+    std::fill(adj_off_.begin() + static_cast<std::ptrdiff_t>(set_up) + 1, adj_off_.end(), listed);
     adj_.set_size(listed);
     place_.assign(count, Place{0, 0, kOutside});
     cur_ = 0;
@@ -1338,9 +1342,9 @@ class Engine {
 // library does not make today, gets an engine of its own.
 class EngineLease {
  public:
-  EngineLease(const Molecule &m, int spheres, const std::vector<std::uint32_t> &ranks) {
+  EngineLease(const Molecule &m, int spheres, const std::vector<std::uint32_t> &ranks, bool heavy_only = false) {
     lease_.serves(m.atom_count());
-    lease_->reset(m, spheres, ranks);
+    lease_->reset(m, spheres, ranks, heavy_only);
   }
   Engine &operator*() const noexcept { return *lease_; }
   Engine *operator->() const noexcept { return &*lease_; }
@@ -1627,16 +1631,17 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
   // last sphere, the costliest, is never read and, codes being prefix-stable,
   // need not be made.
   const std::size_t heavy = molecule.heavy_atom_count();
-  bool only_terminal_h = true;
+  bool only_terminal_h = true, any_h = false;
   auto bit = wanted.begin();
   for (std::size_t a = 0; a < wanted.size() && a < keys.size(); ++a, ++bit) {
     if (!*bit) continue;
     const std::int64_t parent = molecule.attached_to(a);
     only_terminal_h = only_terminal_h && a >= heavy && molecule.degree(a) == 1 && parent >= 0 &&
                       static_cast<std::size_t>(parent) < heavy;
+    any_h = any_h || a >= heavy;
   }
   const EngineLease engine_ptr(molecule, only_terminal_h ? kMaxHoseSpheres - 1 : kMaxHoseSpheres,
-                               classes.invariant_rank);
+                               classes.invariant_rank, !any_h);
   Engine &engine = *engine_ptr;
   const std::vector<char> &needed = flagged_classes(classes, wanted, engine.every.flagged);
   auto is_needed = [&](std::size_t a) { return needed[classes.topological[a]] != 0; };
