@@ -234,7 +234,8 @@ TEST_SUITE("smarts") {
     // they find must not depend on it: the same mappings as for_each_match()
     // visits (each once) for the parent rings of the heteroaromatic table,
     // and an anchored match exactly where a search with the anchor fixed
-    // visits one, for every pattern of the increment tables.
+    // visits one, for every pattern of the increment tables, first_match_at()
+    // giving the first mapping that search visits.
     const auto mols = nci::molecules(0, 1500);
     REQUIRE(mols.size() > 1000);
     const auto tables = nmrpred::Tables::builtin();
@@ -264,10 +265,17 @@ TEST_SUITE("smarts") {
         for (std::size_t a = 0; a < mols[i].heavy_atom_count(); ++a) {
           std::vector<std::int64_t> fixed(p.atom_count(), -1);
           fixed[0] = static_cast<std::int64_t>(a);
-          const bool visited = nmrpred::detail::for_each_match(p, t, fixed, {}, [](const auto &) { return true; });
-          if ((nmrpred::detail::match_at(p, t, a) > 0) != visited) {
+          std::vector<std::uint32_t> first_visited, first;
+          const bool visited = nmrpred::detail::for_each_match(p, t, fixed, {}, [&](const auto &map) {
+            first_visited = map;
+            return true;
+          });
+          const bool found = nmrpred::detail::first_match_at(p, t, a, {}, first);
+          if ((nmrpred::detail::match_at(p, t, a) > 0) != visited || found != visited || first != first_visited) {
             INFO("NCI record ", i, ", atom ", a, ", ", p.text());
             CHECK((nmrpred::detail::match_at(p, t, a) > 0) == visited);
+            CHECK(found == visited);
+            CHECK(first == first_visited);
           }
           anchors += visited;
         }

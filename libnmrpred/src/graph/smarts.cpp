@@ -812,6 +812,10 @@ class Search {
   Search(const Search &) = delete;
   Search &operator=(const Search &) = delete;
 
+  // After run() returned true: the mapping found last (pattern atom ->
+  // molecule atom), valid while the search lives.
+  const std::uint32_t *mapping() const { return map_; }
+
   bool run() {
     const std::size_t n = p_.atom_expr.size();
     if (n == 0) return false;
@@ -1548,6 +1552,24 @@ bool for_each_match(const SmartsPattern &p, const SmartsTarget &t, const std::ve
   }
   if (!feasible(impl, t)) return false;
   return Search(impl, t, root, root_atom, root_checked, &fixed, excluded, &visit).run();
+}
+
+bool first_match_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom, const std::vector<bool> &excluded,
+                    std::vector<std::uint32_t> &out) {
+  out.clear();
+  if (p.empty()) return false;
+  const auto &impl = p.impl();
+  // for_each_match() with pattern atom 0 fixed on `atom`, stopped at its
+  // first mapping: the same tests, the same search (pinning the root alone
+  // constrains nothing further), with the mapping read off the search.
+  if (atom >= t.molecule().atom_count() || t.facts(atom).atomic_number == 1 ||
+      (atom < excluded.size() && excluded[atom]) || !passes(impl.filters[0], t, atom) ||
+      (!impl.filters[0].exact && !eval(impl, impl.atom_expr[0], t, atom, -1)) || !feasible(impl, t))
+    return false;
+  Search search(impl, t, 0, static_cast<std::int64_t>(atom), true, nullptr, excluded, nullptr);
+  if (!search.run()) return false;
+  out.assign(search.mapping(), search.mapping() + impl.atom_expr.size());
+  return true;
 }
 
 std::vector<std::vector<std::uint32_t>> all_matches(const SmartsPattern &p, const SmartsTarget &t) {

@@ -315,6 +315,12 @@ bool for_each_match(const SmartsPattern &p, const SmartsTarget &t, const std::ve
                     const std::vector<bool> &excluded,
                     const std::function<bool(const std::vector<std::uint32_t> &)> &visit);
 
+// The first mapping for_each_match() visits with pattern atom 0 fixed on
+// `atom` and no other, into `out`; false (and `out` empty) if there is none.
+// Without the visitor's costs, for callers that want one mapping.
+bool first_match_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t atom, const std::vector<bool> &excluded,
+                    std::vector<std::uint32_t> &out);
+
 // Every mapping of `p` (what for_each_match with no fixed atom visits), in no
 // particular order: the search starts from the pattern atom with the rarest
 // element. Callers that need for_each_match's order for an anchored search

@@ -770,19 +770,6 @@ const Row *find_row(const std::vector<Row> &rows, const RowOrder &order, const S
   return nullptr;
 }
 
-// Atoms of one match of `p` anchored at x avoiding the skeleton.
-std::vector<std::uint32_t> match_atoms(const SmartsPattern &p, const SmartsTarget &t, std::size_t x,
-                                       const std::vector<bool> &skeleton) {
-  std::vector<std::int64_t> fixed(p.atom_count(), -1);
-  fixed[0] = static_cast<std::int64_t>(x);
-  std::vector<std::uint32_t> out;
-  for_each_match(p, t, fixed, skeleton, [&](const std::vector<std::uint32_t> &map) {
-    out = map;
-    return true;
-  });
-  return out;
-}
-
 // ---------------------------------------------------------------------------
 // The source
 
@@ -1674,7 +1661,9 @@ class C13Increments final : public ShiftSource {
           }
           // Chain group: only the matched atoms belong to it; sp3 carbons
           // bonded to the match count as chain carbons at their own distance.
-          const auto atoms = match_atoms(row->smarts, t, x, skeleton);
+          // The atoms of one match anchored at x avoiding the skeleton.
+          auto &atoms = state_->sp3_scratch.match;
+          first_match_at(row->smarts, t, x, skeleton, atoms);
           for (auto a : atoms) taken[a] = true;
           for (auto a : atoms)
             for_heavy_neighbours(m, a, [&](std::size_t z, BondOrder) {
@@ -2031,6 +2020,7 @@ class C13Increments final : public ShiftSource {
     std::array<std::size_t, 5> bucket_size{};
     std::vector<int> dist;
     std::vector<std::size_t> queue;  // breadth-first walks, n slots reserved
+    std::vector<std::uint32_t> match;  // a chain group's match
   };
   // Scratch of sp3_parent() and of ring_sp3(), neither of which runs inside
   // itself or the other.
