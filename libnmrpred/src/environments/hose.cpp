@@ -1549,16 +1549,18 @@ const std::vector<char> &flagged_classes(const AtomClasses &classes, const std::
 // at which `index` (null: any reference) might match them; 0 if none is keyed.
 // With an index that is, per keyed code, one less than the first sphere whose
 // digest no reference atom has; one walk from `a` serves a and its
-// hydrogens, and run(a) keeps the levels it met.
+// hydrogens, and run(a) keeps the levels it met. `hydrogens` false: no
+// hydrogen is keyed, none is asked about.
 template <class Keyed>
-int key_spheres(Engine &engine, const Molecule &molecule, std::size_t a, Keyed keyed, const ReferenceIndex *index) {
+int key_spheres(Engine &engine, const Molecule &molecule, std::size_t a, Keyed keyed, const ReferenceIndex *index,
+                bool hydrogens = true) {
   const bool centre_keyed = keyed(a);
   const std::size_t heavy = molecule.heavy_atom_count();
   // Digests at sphere 1 of the keyed terminal hydrogens on a, each value
   // once: hydrogens whose digests agree there agree at every sphere, as the
   // rest of their walk is a's.
   SmallVec<std::uint64_t, 8> chains;
-  if (a < heavy) {
+  if (hydrogens && a < heavy) {
     for (auto it = molecule.neighbours_begin(a); it != molecule.neighbours_end(a); ++it) {
       const std::size_t h = *it;
       if (h < heavy || molecule.degree(h) != 1 || !keyed(h)) continue;
@@ -1651,7 +1653,7 @@ std::vector<HoseKeys> hose_keys(const Molecule &molecule, const AtomClasses &cla
   // chain_keys() stops there as it stops after a run's last sphere.
   auto depth = [&](std::size_t a) {
     if (!index) return 0;
-    const int d = key_spheres(engine, molecule, a, is_needed, index);
+    const int d = key_spheres(engine, molecule, a, is_needed, index, any_h);
     return d > 0 ? d : kNoSpheres;
   };
   code_every_atom(
