@@ -1527,6 +1527,15 @@ std::size_t match_at_unscreened(const SmartsPattern &p, const SmartsTarget &t, s
   return p.atom_count();
 }
 
+// Whether pattern atom q may sit on molecule atom a, pinned there: the test
+// a search would make first, without setting one up (a pinned root fails on
+// its own atom in most calls).
+bool pinned_atom_holds(const SmartsImpl &impl, const SmartsTarget &t, std::uint32_t q, std::size_t a,
+                       const std::vector<bool> &excluded) {
+  return a < t.molecule().atom_count() && t.facts(a).atomic_number != 1 && !(a < excluded.size() && excluded[a]) &&
+         passes(impl.filters[q], t, a) && (impl.filters[q].exact || eval(impl, impl.atom_expr[q], t, a, -1));
+}
+
 bool for_each_match(const SmartsPattern &p, const SmartsTarget &t, const std::vector<std::int64_t> &fixed,
                     const std::vector<bool> &excluded,
                     const std::function<bool(const std::vector<std::uint32_t> &)> &visit) {
@@ -1541,13 +1550,7 @@ bool for_each_match(const SmartsPattern &p, const SmartsTarget &t, const std::ve
   const std::int64_t root_atom = root < fixed.size() ? fixed[root] : -1;
   bool root_checked = false;
   if (root_atom >= 0) {
-    // The pinned root fails on its own atom in most calls: the test the
-    // search would make first, without setting one up.
-    const auto a = static_cast<std::size_t>(root_atom);
-    if (a >= t.molecule().atom_count() || t.facts(a).atomic_number == 1 || (a < excluded.size() && excluded[a]) ||
-        !passes(impl.filters[root], t, a) ||
-        (!impl.filters[root].exact && !eval(impl, impl.atom_expr[root], t, a, -1)))
-      return false;
+    if (!pinned_atom_holds(impl, t, root, static_cast<std::size_t>(root_atom), excluded)) return false;
     root_checked = true;
   }
   if (!feasible(impl, t)) return false;
@@ -1562,10 +1565,7 @@ bool first_match_at(const SmartsPattern &p, const SmartsTarget &t, std::size_t a
   // for_each_match() with pattern atom 0 fixed on `atom`, stopped at its
   // first mapping: the same tests, the same search (pinning the root alone
   // constrains nothing further), with the mapping read off the search.
-  if (atom >= t.molecule().atom_count() || t.facts(atom).atomic_number == 1 ||
-      (atom < excluded.size() && excluded[atom]) || !passes(impl.filters[0], t, atom) ||
-      (!impl.filters[0].exact && !eval(impl, impl.atom_expr[0], t, atom, -1)) || !feasible(impl, t))
-    return false;
+  if (!pinned_atom_holds(impl, t, 0, atom, excluded) || !feasible(impl, t)) return false;
   Search search(impl, t, 0, static_cast<std::int64_t>(atom), true, nullptr, excluded, nullptr);
   if (!search.run()) return false;
   out.assign(search.mapping(), search.mapping() + impl.atom_expr.size());
